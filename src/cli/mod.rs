@@ -1,0 +1,59 @@
+//! Argument definitions and dispatch.
+
+pub mod cosmo_args;
+pub mod format;
+pub mod linear;
+
+use clap::{Parser, Subcommand};
+
+/// Mock satellite systems of Milky-Way-mass haloes from merger trees, and infall-time
+/// statistics on them.
+#[derive(Debug, Parser)]
+#[command(name = "retinue", version, about, long_about = None)]
+#[command(
+    after_help = "Exit codes: 0 success, 1 a run failed, 2 bad usage, configuration or input."
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Print linear-theory tables (CSV) to check a cosmology before a long run.
+    #[command(subcommand)]
+    Linear(linear::LinearCommand),
+}
+
+/// A command failure with its exit code.
+#[derive(Debug)]
+pub enum CliError {
+    /// Bad usage, configuration or input (exit 2).
+    Usage(String),
+    /// A run failed (exit 1).
+    Failed(anyhow::Error),
+}
+
+impl std::fmt::Display for CliError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Self::Usage(s) => write!(f, "{s}"),
+            Self::Failed(e) => write!(f, "{e:#}"),
+        }
+    }
+}
+
+impl CliError {
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            Self::Usage(_) => 2,
+            Self::Failed(_) => 1,
+        }
+    }
+}
+
+pub fn run(cli: Cli) -> Result<(), CliError> {
+    match cli.command {
+        Command::Linear(c) => linear::run(c),
+    }
+}

@@ -1,0 +1,188 @@
+//! The `[cosmology]` table: a preset, explicit parameters, or a preset with overrides; plus
+//! the linear-theory choices (transfer function, filter, warm dark matter, delta_c).
+//!
+//! ```toml
+//! [cosmology]
+//! preset = "planck18"        # optional; explicit keys below override it
+//! sigma8 = 0.78              # e.g. a lower-amplitude variant
+//! transfer = "eh98"          # eh98 | eh98-nowiggle | bbks | table
+//! filter = "top-hat"         # top-hat | sharp-k
+//! m_wdm_kev = 3.0            # omit for cold dark matter
+//! ```
+
+use std::path::PathBuf;
+
+use serde::{Deserialize, Serialize};
+
+use crate::cosmology::{preset, CosmologyParams, PRESET_NAMES};
+use crate::error::{InvalidValue, MISSING};
+use crate::linear::{DeltaCModel, Filter, KUnit, LinearOptions, TransferKind};
+
+/// The `[cosmology]` table as written by the user; every key optional.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CosmologySection {
+    pub preset: Option<String>,
+    pub h: Option<f64>,
+    pub omega_m: Option<f64>,
+    pub omega_b: Option<f64>,
+    pub sigma8: Option<f64>,
+    pub n_s: Option<f64>,
+    pub omega_k: Option<f64>,
+    pub w: Option<f64>,
+    pub t_cmb_k: Option<f64>,
+    pub n_eff: Option<f64>,
+    pub radiation: Option<bool>,
+    pub transfer: Option<String>,
+    pub transfer_table: Option<PathBuf>,
+    pub transfer_table_k_unit: Option<String>,
+    pub filter: Option<String>,
+    pub sharp_k_c: Option<f64>,
+    pub m_wdm_kev: Option<f64>,
+    pub delta_c: Option<String>,
+}
+
+impl CosmologySection {
+    /// Resolve into validated parameters and options, or the full list of problems.
+    /// `prefix` names the table in messages (e.g. `cosmology.`); `base_dir` resolves a
+    /// relative `transfer_table` path.
+    pub fn resolve(
+        &self,
+        prefix: &str,
+        base_dir: Option<&std::path::Path>,
+    ) -> Result<(CosmologyParams, LinearOptions), Vec<InvalidValue>> {
+        let mut problems = Vec::new();
+        let base = match &self.preset {
+            Some(name) => match preset(name) {
+                Ok(p) => Some(p),
+                Err(_) => {
+                    problems.push(InvalidValue::new(
+                        format!("{prefix}preset"),
+                        name,
+                        format!(
+                            "unknown preset; expected one of {}",
+                            PRESET_NAMES.join(", ")
+                        ),
+                    ));
+                    None
+                }
+            },
+            None => None,
+        };
+        let preset_failed = self.preset.is_some() && base.is_none();
+        let mut need = |key: &str, v: Option<f64>, from: Option<f64>| -> f64 {
+            match v.or(from) {
+                Some(x) => x,
+                None if preset_failed => f64::NAN,
+                None => {
+                    problems.push(InvalidValue::new(
+                        format!("{prefix}{key}"),
+                        MISSING,
+                        "required when no preset is given",
+                    ));
+                    f64::NAN
+                }
+            }
+        };
+        let b = base.as_ref();
+        let h = need("h", self.h, b.map(|p| p.h));
+        let omega_m = need("omega_m", self.omega_m, b.map(|p| p.omega_m));
+        let omega_b = need("omega_b", self.omega_b, b.map(|p| p.omega_b));
+        let sigma8 = need("sigma8", self.sigma8, b.map(|p| p.sigma8));
+        let n_s = need("n_s", self.n_s, b.map(|p| p.n_s));
+        let overridden = self.h.is_some()
+            || self.omega_m.is_some()
+            || self.omega_b.is_some()
+            || self.sigma8.is_some()
+            || self.n_s.is_some()
+            || self.omega_k.is_some()
+            || self.w.is_some();
+        let name = match (&base, overridden) {
+            (Some(p), false) => p.name.clone(),
+            (Some(p), true) => format!("{}-modified", p.name),
+            (None, _) => "custom".to_string(),
+        };
+        let params = CosmologyParams {
+            name,
+            h,
+            omega_m,
+            omega_b,
+            sigma8,
+            n_s,
+            omega_k: self.omega_k.unwrap_or(0.0),
+            w: self.w.unwrap_or(-1.0),
+            t_cmb_k: self.t_cmb_k.unwrap_or(2.7255),
+            n_eff: self.n_eff.unwrap_or(3.046),
+            radiation: self.radiation.unwrap_or(true),
+        };
+        if problems.is_empty() {
+            problems.extend(params.problems(prefix));
+        }
+
+        let mut options = LinearOptions::default();
+        if let Some(t) = &self.transfer {
+            match TransferKind::parse(t) {
+                Some(k) => options.transfer = k,
+                None => problems.push(InvalidValue::new(
+                    format!("{prefix}transfer"),
+                    t,
+                    format!("expected one of {}", TransferKind::NAMES.join(", ")),
+                )),
+            }
+        }
+        options.transfer_table = self.transfer_table.as_ref().map(|p| match base_dir {
+            Some(d) if p.is_relative() => d.join(p),
+            _ => p.clone(),
+        });
+        if let Some(u) = &self.transfer_table_k_unit {
+            match KUnit::parse(u) {
+                Some(k) => options.transfer_table_k_unit = Some(k),
+                None => problems.push(InvalidValue::new(
+                    format!("{prefix}transfer_table_k_unit"),
+                    u,
+                    "expected `h/Mpc` or `1/Mpc`",
+                )),
+            }
+        }
+        if let (Some(t), false) = (
+            &self.transfer_table,
+            options.transfer == TransferKind::Table,
+        ) {
+            problems.push(InvalidValue::new(
+                format!("{prefix}transfer_table"),
+                t.display(),
+                "is only used with transfer = \"table\"; set that too, or remove the key",
+            ));
+        }
+        if let Some(f) = &self.filter {
+            match Filter::parse(f) {
+                Some(k) => options.filter = k,
+                None => problems.push(InvalidValue::new(
+                    format!("{prefix}filter"),
+                    f,
+                    format!("expected one of {}", Filter::NAMES.join(", ")),
+                )),
+            }
+        }
+        if let Some(c) = self.sharp_k_c {
+            options.sharp_k_c = c;
+        }
+        options.m_wdm_kev = self.m_wdm_kev;
+        if let Some(d) = &self.delta_c {
+            match DeltaCModel::parse(d) {
+                Some(k) => options.delta_c = k,
+                None => problems.push(InvalidValue::new(
+                    format!("{prefix}delta_c"),
+                    d,
+                    format!("expected one of {}", DeltaCModel::NAMES.join(", ")),
+                )),
+            }
+        }
+        problems.extend(options.problems(prefix));
+        if problems.is_empty() {
+            Ok((params, options))
+        } else {
+            Err(problems)
+        }
+    }
+}

@@ -1,0 +1,87 @@
+//! Typed errors. Each module has its own enum; `crate::Error` gathers them.
+
+use thiserror::Error;
+
+/// A parameter with a value outside its allowed range, or otherwise unusable.
+/// `key` is the configuration key (e.g. `cosmology.h`); the command line maps it to its flag.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InvalidValue {
+    pub key: String,
+    pub value: String,
+    pub allowed: String,
+}
+
+/// The value written for a key that was required but absent.
+pub const MISSING: &str = "(missing)";
+
+impl std::fmt::Display for InvalidValue {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        if self.value == MISSING {
+            write!(f, "{} is missing: {}", self.key, self.allowed)
+        } else {
+            write!(
+                f,
+                "{} = {} is not allowed: {}",
+                self.key, self.value, self.allowed
+            )
+        }
+    }
+}
+
+impl std::error::Error for InvalidValue {}
+
+impl InvalidValue {
+    pub fn new(key: impl Into<String>, value: impl ToString, allowed: impl Into<String>) -> Self {
+        Self {
+            key: key.into(),
+            value: value.to_string(),
+            allowed: allowed.into(),
+        }
+    }
+}
+
+#[derive(Debug, Error)]
+pub enum CosmologyError {
+    #[error("{0}")]
+    Invalid(#[from] InvalidValue),
+    #[error("unknown cosmology preset `{got}`; expected one of {allowed}")]
+    UnknownPreset { got: String, allowed: String },
+    #[error("{what} did not converge after {iterations} iterations (residual {residual:e})")]
+    NoConvergence {
+        what: &'static str,
+        iterations: usize,
+        residual: f64,
+    },
+    #[error("the universe described by these parameters has E(z)^2 <= 0 at z = {z} (it recollapses or bounces); choose omega_m, omega_k and w so that E(z)^2 stays positive")]
+    NonPhysical { z: f64 },
+}
+
+#[derive(Debug, Error)]
+pub enum LinearError {
+    #[error("{0}")]
+    Invalid(#[from] InvalidValue),
+    #[error("transfer table {path}: {reason}")]
+    TransferTable { path: String, reason: String },
+    #[error("sigma(M) is not monotonic near M = {mass_msun:e} Msun; the power spectrum must be positive")]
+    NotMonotonic { mass_msun: f64 },
+    #[error("{quantity} = {value:e} is outside the tabulated range [{min:e}, {max:e}]")]
+    OutOfTable {
+        quantity: &'static str,
+        value: f64,
+        min: f64,
+        max: f64,
+    },
+}
+
+/// Everything the library can fail with.
+#[derive(Debug, Error)]
+pub enum Error {
+    #[error(transparent)]
+    Cosmology(#[from] CosmologyError),
+    #[error(transparent)]
+    Linear(#[from] LinearError),
+    #[error(transparent)]
+    Invalid(#[from] InvalidValue),
+}
+
+pub type Result<T, E = Error> = std::result::Result<T, E>;

@@ -1,0 +1,37 @@
+//! # retinue
+//!
+//! Mock satellite systems of Milky-Way-mass host haloes, built from extended Press–Schechter
+//! merger trees without any N-body run, and infall-time statistics on them.
+//!
+//! ## Module map
+//! | module | what |
+//! |---|---|
+//! | [`cosmology`] | background: E(z), cosmic time, densities, growth; presets |
+//! | [`linear`] | transfer functions, P(k), sigma(M) and inverse, delta_c, Delta_vir |
+//! | [`massfunction`] | Press–Schechter, Sheth–Tormen, Lacey–Cole conditional, Mo–White region |
+//!
+//! ## Units (one system everywhere inside)
+//! | quantity | unit | name suffix |
+//! |---|---|---|
+//! | mass | M_sun (no h) | `_msun` |
+//! | halo and orbit lengths | physical kpc | `_kpc` |
+//! | linear-theory lengths and wavenumbers | comoving Mpc, 1/Mpc | `_mpc` |
+//! | velocity | km/s | `_kms` |
+//! | time | Gyr; cosmic time since the Big Bang is the clock | `_gyr` |
+//! | density | M_sun / kpc^3 (physical) or M_sun / Mpc^3 (comoving) | `_msun_kpc3`, `_msun_mpc3` |
+//!
+//! `h` appears only in cosmological parameters and in conversions whose names say so.
+//! Redshift is for input and output.
+
+pub mod config;
+pub mod constants;
+pub mod cosmology;
+pub mod error;
+pub mod interp;
+pub mod linear;
+pub mod massfunction;
+pub mod special;
+
+pub use cosmology::{Cosmology, CosmologyParams};
+pub use error::{Error, Result};
+pub use linear::{LinearOptions, LinearTheory};

@@ -1,0 +1,196 @@
+//! Linear theory: transfer functions, the normalised power spectrum, sigma(M) and its
+//! inverse, collapse thresholds. `LinearTheory::new` builds every table for one cosmology;
+//! the result is read-only and shared across threads.
+
+pub mod collapse;
+pub mod power;
+pub mod transfer;
+pub mod variance;
+
+use std::path::PathBuf;
+
+use serde::{Deserialize, Serialize};
+
+pub use collapse::{delta_c, delta_c_nfw97, delta_vir_crit, DeltaCModel};
+pub use power::PowerSpectrum;
+pub use transfer::{KUnit, Transfer, TransferKind, WarmDarkMatter};
+pub use variance::{Filter, SigmaTable};
+
+use crate::cosmology::Cosmology;
+use crate::error::{Error, InvalidValue, LinearError};
+
+/// Choices for the linear power spectrum and sigma(M).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LinearOptions {
+    pub transfer: TransferKind,
+    /// Path of the table when `transfer = table`.
+    pub transfer_table: Option<PathBuf>,
+    /// Unit of k in the table (overrides the file header).
+    pub transfer_table_k_unit: Option<KUnit>,
+    pub filter: Filter,
+    /// c in M = (4 pi/3) rho (c R)^3 for the sharp-k filter.
+    pub sharp_k_c: f64,
+    /// Thermal-relic warm dark matter particle mass (keV); None = cold dark matter.
+    pub m_wdm_kev: Option<f64>,
+    pub delta_c: DeltaCModel,
+}
+
+impl Default for LinearOptions {
+    fn default() -> Self {
+        Self {
+            transfer: TransferKind::Eh98,
+            transfer_table: None,
+            transfer_table_k_unit: None,
+            filter: Filter::TopHat,
+            sharp_k_c: 2.5,
+            m_wdm_kev: None,
+            delta_c: DeltaCModel::Constant,
+        }
+    }
+}
+
+impl LinearOptions {
+    /// All problems with these options (keys prefixed by `prefix`).
+    pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
+        let mut out = Vec::new();
+        if !(self.sharp_k_c >= 1.0 && self.sharp_k_c <= 5.0) {
+            out.push(InvalidValue::new(
+                format!("{prefix}sharp_k_c"),
+                self.sharp_k_c,
+                "must be in [1, 5]",
+            ));
+        }
+        if let Some(m) = self.m_wdm_kev {
+            if !(0.1..=100.0).contains(&m) {
+                out.push(InvalidValue::new(
+                    format!("{prefix}m_wdm_kev"),
+                    m,
+                    "must be in [0.1, 100] keV (omit the key for cold dark matter)",
+                ));
+            }
+        }
+        if self.transfer == TransferKind::Table && self.transfer_table.is_none() {
+            out.push(InvalidValue::new(
+                format!("{prefix}transfer_table"),
+                crate::error::MISSING,
+                "a file path is required when transfer = \"table\"",
+            ));
+        }
+        out
+    }
+}
+
+/// Everything linear theory knows about one cosmology.
+#[derive(Debug, Clone)]
+pub struct LinearTheory {
+    cosmo: Cosmology,
+    options: LinearOptions,
+    power: PowerSpectrum,
+    sigma: SigmaTable,
+}
+
+impl LinearTheory {
+    pub fn new(cosmo: Cosmology, options: LinearOptions) -> Result<Self, Error> {
+        if let Some(p) = options.problems("").into_iter().next() {
+            return Err(p.into());
+        }
+        let p = &cosmo.params;
+        let transfer = match options.transfer {
+            TransferKind::Eh98 => Transfer::Eh98(transfer::EisensteinHu98::new(
+                p.h, p.omega_m, p.omega_b, p.t_cmb_k,
+            )),
+            TransferKind::Eh98NoWiggle => Transfer::Eh98NoWiggle(
+                transfer::EisensteinHu98NoWiggle::new(p.h, p.omega_m, p.omega_b, p.t_cmb_k),
+            ),
+            TransferKind::Bbks => Transfer::Bbks(transfer::Bbks86::new(p.h, p.omega_m, p.omega_b)),
+            TransferKind::Table => {
+                let path = options.transfer_table.as_ref().expect("checked above");
+                Transfer::Table(transfer::TabulatedTransfer::from_file(
+                    path,
+                    options.transfer_table_k_unit,
+                    p.h,
+                    p.n_s,
+                )?)
+            }
+        };
+        let wdm = options
+            .m_wdm_kev
+            .map(|m| WarmDarkMatter::new(m, p.h, p.omega_m, p.omega_b));
+        let power = PowerSpectrum::new(transfer, wdm, p.n_s, p.sigma8, p.h);
+        let rho_m0_mpc3 = cosmo.rho_m_msun_kpc3(0.0) * 1e9;
+        let sigma = SigmaTable::new(&power, options.filter, options.sharp_k_c, rho_m0_mpc3)
+            .map_err(Error::from)?;
+        Ok(Self {
+            cosmo,
+            options,
+            power,
+            sigma,
+        })
+    }
+
+    pub fn cosmology(&self) -> &Cosmology {
+        &self.cosmo
+    }
+
+    pub fn options(&self) -> &LinearOptions {
+        &self.options
+    }
+
+    pub fn power(&self) -> &PowerSpectrum {
+        &self.power
+    }
+
+    pub fn sigma_table(&self) -> &SigmaTable {
+        &self.sigma
+    }
+
+    /// sigma(M, z) = sigma(M, 0) D(z).
+    pub fn sigma(&self, m_msun: f64, z: f64) -> f64 {
+        self.sigma.sigma(m_msun) * self.cosmo.growth(z)
+    }
+
+    /// dln sigma / dln M (independent of z).
+    pub fn dln_sigma_dln_m(&self, m_msun: f64) -> f64 {
+        self.sigma.dln_sigma_dln_m(m_msun)
+    }
+
+    /// Comoving mean matter density, M_sun / Mpc^3.
+    pub fn rho_m0_msun_mpc3(&self) -> f64 {
+        self.cosmo.rho_m_msun_kpc3(0.0) * 1e9
+    }
+
+    /// Collapse threshold at z under the configured model.
+    pub fn delta_c(&self, z: f64) -> f64 {
+        collapse::delta_c(self.options.delta_c, &self.cosmo, z)
+    }
+
+    /// The excursion-set clock w(z) = delta_c(z) / D(z) (grows toward the past).
+    pub fn w_of_z(&self, z: f64) -> f64 {
+        self.delta_c(z) / self.cosmo.growth(z)
+    }
+
+    /// Peak height nu = delta_c(z) / sigma(M, z).
+    pub fn nu(&self, m_msun: f64, z: f64) -> f64 {
+        self.delta_c(z) / self.sigma(m_msun, z)
+    }
+
+    /// Warm-dark-matter half-mode mass (M_sun), if WDM is on.
+    pub fn m_half_mode_msun(&self) -> Option<f64> {
+        self.power.wdm().map(|w| w.m_half_mode_msun())
+    }
+
+    /// Check that a mass lies inside the sigma table.
+    pub fn check_mass(&self, m_msun: f64) -> Result<(), LinearError> {
+        let (lo, hi) = self.sigma.mass_range_msun();
+        if m_msun >= lo && m_msun <= hi {
+            Ok(())
+        } else {
+            Err(LinearError::OutOfTable {
+                quantity: "mass (Msun)",
+                value: m_msun,
+                min: lo,
+                max: hi,
+            })
+        }
+    }
+}

@@ -1,0 +1,68 @@
+//! Helpers shared by the tests: fixture loading and tolerance checks.
+
+#![allow(dead_code)]
+
+use std::path::PathBuf;
+
+use serde_json::Value;
+
+/// Path of a file in tests/reference.
+pub fn reference_path(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("tests")
+        .join("reference")
+        .join(name)
+}
+
+/// Load a JSON fixture from tests/reference.
+pub fn fixture(name: &str) -> Value {
+    let p = reference_path(name);
+    let text = std::fs::read_to_string(&p).unwrap_or_else(|e| panic!("{}: {e}", p.display()));
+    serde_json::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
+}
+
+/// A JSON array of numbers (null -> NaN).
+pub fn floats(v: &Value) -> Vec<f64> {
+    v.as_array()
+        .unwrap_or_else(|| panic!("not an array: {v}"))
+        .iter()
+        .map(|x| x.as_f64().unwrap_or(f64::NAN))
+        .collect()
+}
+
+pub fn num(v: &Value) -> f64 {
+    v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
+}
+
+/// Assert |a/b - 1| <= tol, with a message naming what is compared.
+#[track_caller]
+pub fn assert_rel(what: &str, got: f64, want: f64, tol: f64) {
+    let rel = (got / want - 1.0).abs();
+    assert!(
+        rel <= tol,
+        "{what}: got {got:.8e}, reference {want:.8e}, relative difference {rel:.2e} > {tol:.1e}"
+    );
+}
+
+/// Assert |a - b| <= tol.
+#[track_caller]
+pub fn assert_abs(what: &str, got: f64, want: f64, tol: f64) {
+    let d = (got - want).abs();
+    assert!(
+        d <= tol,
+        "{what}: got {got:.8e}, reference {want:.8e}, difference {d:.2e} > {tol:.1e}"
+    );
+}
+
+/// Run the retinue binary; returns (exit code, stdout, stderr).
+pub fn run_cli(args: &[&str]) -> (i32, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(args)
+        .output()
+        .expect("run retinue");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}

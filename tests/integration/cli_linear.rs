@@ -1,0 +1,253 @@
+//! `retinue linear`: exact columns, values, and one-line errors with exit code 2.
+
+use crate::common::{assert_rel, run_cli};
+
+fn rows(stdout: &str) -> Vec<Vec<f64>> {
+    stdout
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').map(|v| v.parse::<f64>().unwrap()).collect())
+        .collect()
+}
+
+#[test]
+fn background_columns_and_values() {
+    let (code, out, err) = run_cli(&[
+        "linear",
+        "background",
+        "--preset",
+        "planck18",
+        "--redshifts",
+        "0,0.5,1,2",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(
+        out.lines().next().unwrap(),
+        "z,e_z,age_gyr,lookback_gyr,rho_crit_msun_kpc3,omega_m,growth,delta_c,delta_vir_crit"
+    );
+    let r = rows(&out);
+    assert_eq!(r.len(), 4);
+    // astropy 8.0.2 FlatLambdaCDM(H0=67.66, Om0=0.3111, Tcmb0=2.7255, Neff=3.046, m_nu=0):
+    // age(1) = 5.850576 Gyr (tests/reference/background.json); printed to 7 digits.
+    assert_rel("age(z=1)", r[2][2], 5.850576, 2e-6);
+    // Bryan & Norman 1998 Delta_vir at z = 0 for Omega_m = 0.3111: 102.6543 (colossus 1.4.0
+    // mass_so.deltaVir(0), physics reference sheet).
+    assert_rel("Delta_vir(0)", r[0][8], 102.6543, 1e-6);
+    assert_eq!(r[0][6], 1.0);
+}
+
+#[test]
+fn sigma_columns_and_values() {
+    let (code, out, err) = run_cli(&[
+        "linear",
+        "sigma",
+        "--preset",
+        "planck18",
+        "--masses",
+        "1e8,1e10,1e12",
+        "--transfer",
+        "eh98",
+        "--z",
+        "0",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(
+        out.lines().next().unwrap(),
+        "mass_msun,radius_kpc,sigma,dlnsigma_dlnm,dndlnm_ps_mpc3,dndlnm_st_mpc3"
+    );
+    let r = rows(&out);
+    assert_eq!(r.len(), 3);
+    // sigma(1e12 Msun) vs colossus 1.4.0 (tests/reference/linear.json, planck18, z=0): 2.227...
+    let lin = crate::common::fixture("linear.json");
+    let want = crate::common::floats(&lin["cosmologies"]["planck18"]["sigma"]["sigma_z0"]);
+    let masses = crate::common::floats(&lin["cosmologies"]["planck18"]["sigma"]["mass_msun"]);
+    let i = masses.iter().position(|&m| m == 1e12).unwrap();
+    assert_rel("sigma(1e12)", r[2][2], want[i], 5e-3);
+}
+
+#[test]
+fn flags_give_the_same_as_the_preset() {
+    let a = run_cli(&["linear", "sigma", "--preset", "wmap9", "--masses", "1e9"]);
+    let b = run_cli(&[
+        "linear",
+        "sigma",
+        "--h",
+        "0.6932",
+        "--omega-m",
+        "0.2865",
+        "--omega-b",
+        "0.0463",
+        "--sigma8",
+        "0.82",
+        "--ns",
+        "0.9608",
+        "--masses",
+        "1e9",
+    ]);
+    assert_eq!(a.0, 0);
+    assert_eq!(a.1, b.1);
+}
+
+#[test]
+fn config_file_cosmology_table() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("run.toml");
+    std::fs::write(
+        &p,
+        "[cosmology]\npreset = \"planck18\"\nsigma8 = 0.75\n\n[other]\nanything = 1\n",
+    )
+    .unwrap();
+    let (code, out, err) = run_cli(&[
+        "linear",
+        "sigma",
+        "--config",
+        p.to_str().unwrap(),
+        "--masses",
+        "1e12",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let (_, base, _) = run_cli(&[
+        "linear", "sigma", "--preset", "planck18", "--masses", "1e12",
+    ]);
+    let s_mod = rows(&out)[0][2];
+    let s_base = rows(&base)[0][2];
+    // sigma scales linearly with sigma8
+    assert_rel("sigma ratio", s_mod / s_base, 0.75 / 0.8102, 1e-6);
+
+    std::fs::write(&p, "[cosmology]\npreset = \"planck18\"\nsigma_8 = 0.75\n").unwrap();
+    let (code, _, err) = run_cli(&[
+        "linear",
+        "sigma",
+        "--config",
+        p.to_str().unwrap(),
+        "--masses",
+        "1e12",
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("sigma_8"), "{err}");
+}
+
+/// Each bad input: exit code 2, and an error line that names the flag and the allowed range.
+#[test]
+fn bad_values_are_named() {
+    let base = ["linear", "sigma", "--masses", "1e10"];
+    let cases: &[(&[&str], &str, &str)] = &[
+        (
+            &[
+                "--h",
+                "0.7",
+                "--omega-m",
+                "0",
+                "--omega-b",
+                "0.04",
+                "--sigma8",
+                "0.8",
+                "--ns",
+                "0.96",
+            ],
+            "--omega-m",
+            "(0, 1.5]",
+        ),
+        (
+            &[
+                "--h",
+                "0.7",
+                "--omega-m",
+                "0.3",
+                "--omega-b",
+                "0.04",
+                "--sigma8",
+                "-0.8",
+                "--ns",
+                "0.96",
+            ],
+            "--sigma8",
+            "(0, 3]",
+        ),
+        (
+            &[
+                "--h",
+                "1.7",
+                "--omega-m",
+                "0.3",
+                "--omega-b",
+                "0.04",
+                "--sigma8",
+                "0.8",
+                "--ns",
+                "0.96",
+            ],
+            "--h",
+            "(0.2, 1.5]",
+        ),
+        (
+            &[
+                "--h",
+                "0.2",
+                "--omega-m",
+                "0.3",
+                "--omega-b",
+                "0.04",
+                "--sigma8",
+                "0.8",
+                "--ns",
+                "0.96",
+            ],
+            "--h",
+            "(0.2, 1.5]",
+        ),
+        (&["--preset", "nonesuch"], "--preset", "planck18"),
+        (
+            &["--preset", "planck18", "--m-wdm-kev", "0.01"],
+            "--m-wdm-kev",
+            "[0.1, 100]",
+        ),
+        (&["--preset", "planck18", "--w", "0"], "--w", "[-3, -1/3)"),
+        (
+            &["--preset", "planck18", "--transfer", "magic"],
+            "--transfer",
+            "eh98",
+        ),
+        (&["--h", "0.7"], "--omega-m", "required"),
+        (&[], "no cosmology given", "--preset"),
+    ];
+    for (extra, flag, range) in cases {
+        let mut args: Vec<&str> = base.to_vec();
+        args.extend_from_slice(extra);
+        let (code, out, err) = run_cli(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(out.is_empty(), "{args:?} printed {out}");
+        assert!(err.contains(flag) && err.contains(range), "{args:?}: {err}");
+        assert!(!err.contains("panicked"), "{args:?}: {err}");
+    }
+}
+
+#[test]
+fn bad_lists_are_named() {
+    let (code, _, err) = run_cli(&[
+        "linear",
+        "background",
+        "--preset",
+        "planck18",
+        "--redshifts",
+        "0,abc",
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--redshifts") && err.contains("abc"), "{err}");
+    assert_eq!(err.lines().count(), 1, "{err}");
+    let (code, _, err) = run_cli(&[
+        "linear", "sigma", "--preset", "planck18", "--masses", "1e30",
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--masses"), "{err}");
+    let (code, _, err) = run_cli(&[
+        "linear",
+        "background",
+        "--preset",
+        "planck18",
+        "--redshifts",
+        "-1.5",
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--redshifts"), "{err}");
+}

@@ -1,0 +1,28 @@
+//! Validation against outside references. Each test names its source and the reason for its
+//! tolerance. Fixtures: tests/reference (see its README for the generating script).
+
+mod val_cosmology;
+mod val_linear;
+mod val_massfunction;
+
+use retinue::cosmology::CosmologyParams;
+use serde_json::Value;
+
+/// Rust parameters matching a fixture cosmology's colossus parameters.
+pub fn params_from_colossus(name: &str, cp: &Value, radiation: bool) -> CosmologyParams {
+    let f = |k: &str| cp[k].as_f64().unwrap_or_else(|| panic!("{name}: no {k}"));
+    let de_w = cp["w0"].as_f64().unwrap_or(-1.0);
+    CosmologyParams {
+        name: name.to_string(),
+        h: f("h"),
+        omega_m: f("Om0"),
+        omega_b: f("Ob0"),
+        sigma8: f("sigma8"),
+        n_s: f("ns"),
+        omega_k: cp["Ok0"].as_f64().unwrap_or(0.0),
+        w: de_w,
+        t_cmb_k: f("Tcmb0"),
+        n_eff: f("Neff"),
+        radiation,
+    }
+}
