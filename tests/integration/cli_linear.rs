@@ -251,3 +251,15 @@ fn bad_lists_are_named() {
     assert_eq!(code, 2);
     assert!(err.contains("--redshifts"), "{err}");
 }
+
+/// The example config shipped in configs/ is accepted as it is.
+#[test]
+fn shipped_example_config_is_valid() {
+    let p = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/cosmology-example.toml"
+    );
+    let (code, out, err) = run_cli(&["linear", "sigma", "--config", p, "--masses", "1e9"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(out.lines().count(), 2);
+}
