@@ -88,6 +88,26 @@ impl UniformHermite {
         h00 * y0 + h10 * m0 + h01 * y1 + h11 * m1
     }
 
+    /// Value and derivative together (one cell look-up).
+    #[inline]
+    pub fn eval_with_derivative(&self, x: f64) -> (f64, f64) {
+        let (i, t) = self.locate(x);
+        let (y0, y1) = (self.y[i], self.y[i + 1]);
+        let (m0, m1) = (self.dy[i] * self.dx, self.dy[i + 1] * self.dx);
+        let t2 = t * t;
+        let t3 = t2 * t;
+        let v = (2.0 * t3 - 3.0 * t2 + 1.0) * y0
+            + (t3 - 2.0 * t2 + t) * m0
+            + (-2.0 * t3 + 3.0 * t2) * y1
+            + (t3 - t2) * m1;
+        let d = ((6.0 * t2 - 6.0 * t) * y0
+            + (3.0 * t2 - 4.0 * t + 1.0) * m0
+            + (-6.0 * t2 + 6.0 * t) * y1
+            + (3.0 * t2 - 2.0 * t) * m1)
+            * self.inv_dx;
+        (v, d)
+    }
+
     /// Interpolated derivative dy/dx.
     #[inline]
     pub fn derivative(&self, x: f64) -> f64 {

@@ -30,7 +30,9 @@ pub mod error;
 pub mod interp;
 pub mod linear;
 pub mod massfunction;
+pub mod rng;
 pub mod special;
+pub mod trees;
 
 pub use cosmology::{Cosmology, CosmologyParams};
 pub use error::{Error, Result};

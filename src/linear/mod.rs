@@ -2,6 +2,7 @@
 //! inverse, collapse thresholds. `LinearTheory::new` builds every table for one cosmology;
 //! the result is read-only and shared across threads.
 
+pub mod clock;
 pub mod collapse;
 pub mod power;
 pub mod transfer;
@@ -11,6 +12,7 @@ use std::path::PathBuf;
 
 use serde::{Deserialize, Serialize};
 
+pub use clock::Clock;
 pub use collapse::{delta_c, delta_c_nfw97, delta_vir_crit, DeltaCModel};
 pub use power::PowerSpectrum;
 pub use transfer::{KUnit, Transfer, TransferKind, WarmDarkMatter};
@@ -87,6 +89,7 @@ pub struct LinearTheory {
     options: LinearOptions,
     power: PowerSpectrum,
     sigma: SigmaTable,
+    clock: Clock,
 }
 
 impl LinearTheory {
@@ -120,11 +123,13 @@ impl LinearTheory {
         let rho_m0_mpc3 = cosmo.rho_m_msun_kpc3(0.0) * 1e9;
         let sigma = SigmaTable::new(&power, options.filter, options.sharp_k_c, rho_m0_mpc3)
             .map_err(Error::from)?;
+        let clock = Clock::new(&cosmo, options.delta_c);
         Ok(Self {
             cosmo,
             options,
             power,
             sigma,
+            clock,
         })
     }
 
@@ -142,6 +147,11 @@ impl LinearTheory {
 
     pub fn sigma_table(&self) -> &SigmaTable {
         &self.sigma
+    }
+
+    /// The excursion-set clock w = delta_c/D and its inverse.
+    pub fn clock(&self) -> &Clock {
+        &self.clock
     }
 
     /// sigma(M, z) = sigma(M, 0) D(z).

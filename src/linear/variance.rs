@@ -243,8 +243,14 @@ impl SigmaTable {
     /// (sigma, dln sigma/dln M) at M.
     #[inline]
     pub fn sigma_and_slope(&self, m_msun: f64) -> (f64, f64) {
-        let x = m_msun.ln();
-        (self.forward.eval(x).exp(), self.forward.derivative(x))
+        let (l, d) = self.forward.eval_with_derivative(m_msun.ln());
+        (l.exp(), d)
+    }
+
+    /// (ln sigma, dln sigma/dln M) at ln M: the cheapest look-up, for inner loops.
+    #[inline]
+    pub fn ln_sigma_and_slope(&self, ln_m: f64) -> (f64, f64) {
+        self.forward.eval_with_derivative(ln_m)
     }
 
     /// M (M_sun) with sigma(M) = sigma at z = 0. Fast path: the inverse table's guess

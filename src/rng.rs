@@ -1,0 +1,97 @@
+//! Random streams. Each host gets its own ChaCha8 stream derived from (master seed, grid
+//! cell, host index) and a purpose, so the output of host i never depends on thread count,
+//! shard split or run order, and adding draws in one stage never shifts another's.
+//!
+//! Generator: `rand_chacha::ChaCha8Rng` (portable and value-stable across releases). The key
+//! holds the master seed and the purpose; the 64-bit stream number holds the host's global
+//! identity (cosmology index, host-mass index, host index), so 2^64 hosts fit per purpose.
+
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+
+/// Identifies the generator in output files.
+pub const GENERATOR: &str =
+    "ChaCha8 (rand_chacha 0.9), key = master seed + purpose, stream = host id";
+
+/// What a stream is used for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[repr(u64)]
+pub enum Stream {
+    Tree = 1,
+    Orbits = 2,
+    Galaxies = 3,
+    HostDraw = 4,
+    Statistics = 5,
+}
+
+/// Global identity of one host within a run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct HostId {
+    pub cosmology: u16,
+    pub mass_bin: u16,
+    pub index: u32,
+}
+
+impl HostId {
+    pub fn new(cosmology: u16, mass_bin: u16, index: u32) -> Self {
+        Self {
+            cosmology,
+            mass_bin,
+            index,
+        }
+    }
+
+    /// 64-bit stream number: cosmology (16 bits) | mass bin (16 bits) | index (32 bits).
+    pub fn stream(self) -> u64 {
+        ((self.cosmology as u64) << 48) | ((self.mass_bin as u64) << 32) | self.index as u64
+    }
+}
+
+/// The generator of one host for one purpose.
+pub fn host_rng(master_seed: u64, host: HostId, purpose: Stream) -> ChaCha8Rng {
+    let mut key = [0u8; 32];
+    key[..8].copy_from_slice(&master_seed.to_le_bytes());
+    key[8..16].copy_from_slice(&(purpose as u64).to_le_bytes());
+    key[16..24].copy_from_slice(b"retinue1");
+    let mut rng = ChaCha8Rng::from_seed(key);
+    rng.set_stream(host.stream());
+    rng
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::Rng;
+
+    #[test]
+    fn streams_differ_and_repeat() {
+        let a: Vec<u64> = (0..4)
+            .scan(host_rng(7, HostId::new(0, 0, 1), Stream::Tree), |r, _| {
+                Some(r.random::<u64>())
+            })
+            .collect();
+        let b: Vec<u64> = (0..4)
+            .scan(host_rng(7, HostId::new(0, 0, 1), Stream::Tree), |r, _| {
+                Some(r.random::<u64>())
+            })
+            .collect();
+        assert_eq!(a, b);
+        let mut c = host_rng(7, HostId::new(0, 0, 2), Stream::Tree);
+        let mut d = host_rng(7, HostId::new(0, 0, 1), Stream::Orbits);
+        assert_ne!(a[0], c.random::<u64>());
+        assert_ne!(a[0], d.random::<u64>());
+    }
+
+    /// Value stability: the first draw of a fixed stream never changes (regression).
+    #[test]
+    fn regress_first_draw_is_stable() {
+        let mut r = host_rng(12345, HostId::new(1, 2, 3), Stream::Tree);
+        let v: u64 = r.random();
+        let mut r2 = host_rng(12345, HostId::new(1, 2, 3), Stream::Tree);
+        assert_eq!(v, r2.random::<u64>());
+        // recorded once from this implementation; a change means every output changes
+        assert_eq!(v, REGRESS_FIRST_DRAW);
+    }
+
+    const REGRESS_FIRST_DRAW: u64 = 14_010_345_281_572_668_570;
+}
