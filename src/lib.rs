@@ -27,6 +27,7 @@ pub mod config;
 pub mod constants;
 pub mod cosmology;
 pub mod error;
+pub mod halo;
 pub mod interp;
 pub mod linear;
 pub mod massfunction;

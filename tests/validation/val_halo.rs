@@ -1,0 +1,177 @@
+//! Halo structure against colossus 1.4.0 (tests/reference/halo.json, made by
+//! tests/reference/scripts/make_halo_fixtures.py).
+
+use retinue::halo::concentration::{duffy08, dutton_maccio14};
+use retinue::halo::definitions::convert_nfw;
+use retinue::halo::{MassDefinition, Nfw};
+use retinue::Cosmology;
+
+use super::params_from_colossus;
+use crate::common::{assert_rel, fixture, floats, num};
+
+fn setup() -> (Cosmology, serde_json::Value) {
+    let f = fixture("halo.json");
+    let p = params_from_colossus("planck18", &f["colossus_params"], true);
+    (Cosmology::new(p).unwrap(), f)
+}
+
+fn mdef(s: &str) -> MassDefinition {
+    MassDefinition::parse(s).unwrap()
+}
+
+/// Density thresholds and radii: colossus `mass_so.densityThreshold(z, mdef)` and
+/// `M_to_R(M, z, mdef)` converted to physical units. Same formulae: tolerance 1e-6.
+#[test]
+fn val_thresholds_and_radii() {
+    let (c, f) = setup();
+    let d = &f["delta"];
+    let zs = floats(&d["z"]);
+    for m in ["vir", "200c", "200m", "500c"] {
+        let rho = floats(&d["threshold"][m]["rho_msun_kpc3"]);
+        for (i, &z) in zs.iter().enumerate() {
+            assert_rel(
+                &format!("threshold {m} z={z}"),
+                mdef(m).density_threshold_msun_kpc3(&c, z),
+                rho[i],
+                1e-6,
+            );
+        }
+    }
+    let masses = floats(&f["radii"]["mass_msun"]);
+    for b in f["radii"]["by_z"].as_array().unwrap() {
+        let z = num(&b["z"]);
+        for m in ["vir", "200c", "200m"] {
+            let r = floats(&b["by_mdef"][m]["radius_kpc"]);
+            for (i, &mass) in masses.iter().enumerate() {
+                assert_rel(
+                    &format!("R_{m}({mass:e}, z={z})"),
+                    mdef(m).radius_kpc(&c, mass, z),
+                    r[i],
+                    1e-6,
+                );
+            }
+        }
+    }
+}
+
+/// NFW mass-definition conversions against an exact root solve of the same equation
+/// (fixture `_exact` keys, scipy brentq) to 1e-9, and against colossus
+/// `changeMassDefinition(..., profile='nfw')` to 5e-7 (colossus interpolates the inverse;
+/// its own error is up to 1.5e-7 in mass).
+#[test]
+fn val_mass_definition_conversions() {
+    let (c, f) = setup();
+    for b in f["conversions"]["blocks"].as_array().unwrap() {
+        let z = num(&b["z"]);
+        let (from, to) = (
+            b["mdef_in"].as_str().unwrap(),
+            b["mdef_out"].as_str().unwrap(),
+        );
+        let m_in = floats(&b["mass_in_msun"]);
+        let c_in = floats(&b["c_in"]);
+        let m_ex = floats(&b["mass_out_msun_exact"]);
+        let c_ex = floats(&b["c_out_exact"]);
+        let m_col = floats(&b["mass_out_msun"]);
+        let c_col = floats(&b["c_out"]);
+        for i in 0..m_in.len() {
+            let (m2, c2) = convert_nfw(&c, m_in[i], c_in[i], z, mdef(from), mdef(to));
+            let what = format!("{from}->{to} M={:e} c={} z={z}", m_in[i], c_in[i]);
+            assert_rel(&format!("M {what}"), m2, m_ex[i], 1e-9);
+            assert_rel(&format!("c {what}"), c2, c_ex[i], 1e-9);
+            assert_rel(&format!("M colossus {what}"), m2, m_col[i], 5e-7);
+            assert_rel(&format!("c colossus {what}"), c2, c_col[i], 5e-7);
+        }
+    }
+}
+
+/// Duffy et al. 2008 and Dutton & Maccio 2014 c(M, z) against colossus `concentration(M,
+/// mdef, z, model)` (same formulae, masses in Msun/h): tolerance 1e-9.
+#[test]
+fn val_concentration_relations() {
+    let (_, f) = setup();
+    let cc = &f["concentration"];
+    let m_h = floats(&cc["mass_msun_h"]);
+    for (model, mdefs) in [
+        ("duffy08", vec!["200c", "vir", "200m"]),
+        ("dutton14", vec!["200c", "vir"]),
+    ] {
+        for md in mdefs {
+            for blk in cc["models"][model][md].as_array().unwrap() {
+                let z = num(&blk["z"]);
+                let want = floats(&blk["c"]);
+                for (i, &m) in m_h.iter().enumerate() {
+                    let got = match model {
+                        "duffy08" => duffy08::concentration(m, z, mdef(md)).unwrap(),
+                        _ => dutton_maccio14::concentration(m, z, mdef(md)).unwrap(),
+                    };
+                    assert_rel(&format!("{model} {md} M={m:e} z={z}"), got, want[i], 1e-9);
+                }
+            }
+        }
+    }
+}
+
+/// NFW profiles: r_s, rho_s, Vmax, Rmax, enclosed mass and circular velocity against
+/// colossus `NFWProfile` (and the fixture's cancellation-free `_exact` values at small r):
+/// tolerance 1e-6 (colossus uses x_max = 2.16258, 7e-7 from the root).
+#[test]
+fn val_nfw_profiles() {
+    let (c, f) = setup();
+    let nfw = &f["nfw"];
+    let r = floats(&nfw["r_kpc"]);
+    for p in nfw["profiles"].as_array().unwrap() {
+        let (m, conc, z, md) = (
+            num(&p["mass_msun"]),
+            num(&p["c"]),
+            num(&p["z"]),
+            p["mdef"].as_str().unwrap(),
+        );
+        let rd = mdef(md).radius_kpc(&c, m, z);
+        let h = Nfw::from_mass_radius(m, rd, conc);
+        let what = format!("NFW M={m:e} c={conc} z={z} {md}");
+        assert_rel(&format!("{what} r_s"), h.r_s_kpc, num(&p["rs_kpc"]), 1e-6);
+        assert_rel(
+            &format!("{what} rho_s"),
+            h.rho_s_msun_kpc3,
+            num(&p["rhos_msun_kpc3"]),
+            1e-6,
+        );
+        let (vmax, rmax) = h.vmax_rmax();
+        assert_rel(&format!("{what} Vmax"), vmax, num(&p["vmax_kms"]), 1e-6);
+        assert_rel(
+            &format!("{what} Rmax"),
+            rmax,
+            num(&p["rmax_kpc_at_xmax"]),
+            1e-9,
+        );
+        let me = floats(&p["menc_msun_exact"]);
+        let vc = floats(&p["vcirc_kms_exact"]);
+        for i in 0..r.len() {
+            assert_rel(
+                &format!("{what} M(<{})", r[i]),
+                h.mass_enclosed_msun(r[i]),
+                me[i],
+                1e-9,
+            );
+            assert_rel(
+                &format!("{what} Vc({})", r[i]),
+                h.v_circ_kms(r[i]),
+                vc[i],
+                1e-9,
+            );
+        }
+    }
+}
+
+/// Physics reference sheet check (own evaluation): M200c = 1e12/h Msun = 1.4780e12 Msun,
+/// c200c = 10, Planck 2018, z = 0: R200c = 240.356 kpc, Vmax = 195.980 km/s, Rmax = 51.979 kpc.
+#[test]
+fn val_nfw_sheet_example() {
+    let (c, _) = setup();
+    let m = 1e12 / 0.6766;
+    let r = MassDefinition::C200.radius_kpc(&c, m, 0.0);
+    assert_rel("R200c", r, 240.356, 1e-5);
+    let (vmax, rmax) = Nfw::from_mass_radius(m, r, 10.0).vmax_rmax();
+    assert_rel("Vmax", vmax, 195.980, 1e-5);
+    assert_rel("Rmax", rmax, 51.979, 1e-4);
+}
