@@ -29,6 +29,7 @@ pub mod cosmology;
 pub mod error;
 pub mod halo;
 pub mod interp;
+pub mod io;
 pub mod linear;
 pub mod massfunction;
 pub mod rng;

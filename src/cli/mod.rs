@@ -3,6 +3,7 @@
 pub mod cosmo_args;
 pub mod format;
 pub mod linear;
+pub mod tree;
 
 use clap::{Parser, Subcommand};
 
@@ -23,6 +24,8 @@ pub enum Command {
     /// Print linear-theory tables (CSV) to check a cosmology before a long run.
     #[command(subcommand)]
     Linear(linear::LinearCommand),
+    /// Grow one merger tree (Parkinson, Cole & Helly 2008) and write it to HDF5.
+    Tree(tree::TreeArgs),
 }
 
 /// A command failure with its exit code.
@@ -55,5 +58,6 @@ impl CliError {
 pub fn run(cli: Cli) -> Result<(), CliError> {
     match cli.command {
         Command::Linear(c) => linear::run(c),
+        Command::Tree(a) => tree::run(a),
     }
 }

@@ -1,6 +1,7 @@
 //! Merger trees: the Parkinson, Cole & Helly 2008 sampler, the flat tree store, and the
 //! quantities derived from a tree (main branch, formation time, accretions of every order).
 
+pub mod correa15;
 pub mod history;
 pub mod pch08;
 pub mod tree;

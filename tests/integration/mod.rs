@@ -1,1 +1,2 @@
 mod cli_linear;
+mod cli_tree;

@@ -1,0 +1,178 @@
+//! `retinue tree`: writes a readable HDF5 file with documented columns and units, prints a
+//! summary, and rejects bad input with exit code 2 and no file.
+
+use crate::common::run_cli;
+
+#[test]
+fn tree_file_schema_and_summary() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("tree.h5");
+    let (code, stdout, err) = run_cli(&[
+        "tree",
+        "--preset",
+        "planck18",
+        "--mass",
+        "1.2e12",
+        "--resolution",
+        "3e8",
+        "--seed",
+        "7",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    for key in [
+        "nodes:",
+        "accretions above the resolution",
+        "z_half:",
+        "time:",
+    ] {
+        assert!(stdout.contains(key), "{stdout}");
+    }
+    // no temporary file left behind
+    let names: Vec<String> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert_eq!(names, vec!["tree.h5".to_string()]);
+
+    let f = hdf5::File::open(&out).unwrap();
+    let nodes = f.group("nodes").unwrap();
+    let mass: Vec<f64> = nodes.dataset("mass_msun").unwrap().read_raw().unwrap();
+    let desc: Vec<i64> = nodes.dataset("descendant").unwrap().read_raw().unwrap();
+    let t: Vec<f64> = nodes.dataset("t_gyr").unwrap().read_raw().unwrap();
+    assert_eq!(mass.len(), desc.len());
+    assert_eq!(mass[0], 1.2e12);
+    assert_eq!(desc[0], -1);
+    for i in 1..mass.len() {
+        let d = desc[i] as usize;
+        assert!(t[d] > t[i]);
+    }
+    let units =
+        retinue::io::h5::get_str_attr(&nodes.dataset("mass_msun").unwrap(), "units").unwrap();
+    assert_eq!(units, "Msun");
+    let acc = f.group("accretions").unwrap();
+    for col in [
+        "branch",
+        "order",
+        "into_branch",
+        "t_infall_gyr",
+        "z_infall",
+        "m_infall_msun",
+        "m_host_at_infall_msun",
+        "m_peak_msun",
+        "t_peak_gyr",
+        "group",
+        "t_host_infall_gyr",
+        "z_host_infall",
+    ] {
+        let ds = acc
+            .dataset(col)
+            .unwrap_or_else(|_| panic!("missing accretions/{col}"));
+        retinue::io::h5::get_str_attr(&ds, "units").unwrap();
+    }
+    let mb = f.group("main_branch").unwrap();
+    let mah: Vec<f64> = mb.dataset("mass_msun").unwrap().read_raw().unwrap();
+    assert_eq!(mah[0], 1.2e12);
+    assert!(mah.windows(2).all(|w| w[1] <= w[0]));
+    assert_eq!(
+        retinue::io::h5::get_str_attr(&f, "mass_definition").unwrap(),
+        "vir (Bryan & Norman 1998)"
+    );
+}
+
+#[test]
+fn tree_same_seed_same_file_content() {
+    let dir = tempfile::tempdir().unwrap();
+    let read = |name: &str, seed: &str, idx: &str| -> Vec<f64> {
+        let out = dir.path().join(name);
+        let (code, _, err) = run_cli(&[
+            "tree",
+            "--preset",
+            "planck18",
+            "--mass",
+            "1e12",
+            "--resolution",
+            "1e9",
+            "--seed",
+            seed,
+            "--host-index",
+            idx,
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 0, "{err}");
+        let f = hdf5::File::open(&out).unwrap();
+        f.dataset("nodes/mass_msun").unwrap().read_raw().unwrap()
+    };
+    assert_eq!(read("a.h5", "3", "0"), read("b.h5", "3", "0"));
+    assert_ne!(read("a.h5", "3", "0"), read("c.h5", "3", "1"));
+}
+
+#[test]
+fn tree_mass_definition_is_converted() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("t.h5");
+    let (code, stdout, err) = run_cli(&[
+        "tree",
+        "--preset",
+        "planck18",
+        "--mass",
+        "1e12",
+        "--mass-definition",
+        "200c",
+        "--resolution",
+        "1e9",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(stdout.contains("(200c)"), "{stdout}");
+    let f = hdf5::File::open(&out).unwrap();
+    let m: f64 = f.attr("host_mass_msun").unwrap().read_scalar().unwrap();
+    // M200c = 1e12 with c200c ~ 8 converts to Mvir ~ 1.17e12 (colossus-validated conversion)
+    assert!(m > 1.1e12 && m < 1.25e12, "{m}");
+}
+
+#[test]
+fn tree_bad_input() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("t.h5");
+    let o = out.to_str().unwrap();
+    let cases: &[(&[&str], &str)] = &[
+        (&["--mass", "1e12", "--resolution", "6e11"], "--resolution"),
+        (&["--mass", "-1e12", "--resolution", "1e8"], "--mass"),
+        (
+            &["--mass", "1e12", "--resolution", "1e8", "--z-max", "0"],
+            "--z-max",
+        ),
+        (
+            &[
+                "--mass",
+                "1e12",
+                "--resolution",
+                "1e8",
+                "--mass-definition",
+                "300x",
+            ],
+            "--mass-definition",
+        ),
+        (
+            &["--mass", "1e12", "--resolution", "1e8", "--gamma1", "2"],
+            "--gamma1",
+        ),
+        (
+            &["--mass", "1e12", "--resolution", "1e8", "--outputs", "1"],
+            "--outputs",
+        ),
+        (&["--mass", "1e12", "--resolution", "1e-3"], "--resolution"),
+    ];
+    for (extra, flag) in cases {
+        let mut args = vec!["tree", "--preset", "planck18", "--out", o];
+        args.extend_from_slice(extra);
+        let (code, _, err) = run_cli(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(err.contains(flag), "{args:?}: {err}");
+        assert!(!out.exists(), "{args:?} left a file");
+    }
+}
