@@ -33,6 +33,11 @@ pub const NEUTRINO_PER_PHOTON: f64 = 0.227_107_317_660_239_4;
 /// Linear collapse threshold in an Einstein–de Sitter universe, (3/20)(12 pi)^(2/3).
 pub const DELTA_C_EDS: f64 = 1.686_470_199_841_145;
 
+/// G in kpc^3 / (Msun Gyr^2): G_KPC_KMS2_PER_MSUN * KMS_IN_KPC_PER_GYR^2. Orbits are
+/// integrated in kpc, kpc/Gyr and Gyr.
+pub const G_KPC3_PER_MSUN_GYR2: f64 =
+    G_KPC_KMS2_PER_MSUN * KMS_IN_KPC_PER_GYR * KMS_IN_KPC_PER_GYR;
+
 /// Kiloparsecs per megaparsec.
 pub const KPC_PER_MPC: f64 = 1.0e3;
 

@@ -1,0 +1,321 @@
+//! The host through time. The halo follows the main branch of the host's own merger tree:
+//! virial mass M(t) interpolated in ln M along the tree's output grid, R_vir(t) from
+//! Delta_vir(z) rho_crit(z) (Bryan & Norman 1998), concentration from the same history (Zhao
+//! et al. 2009, t_0.04 read off the main branch) or from a c(M, z) relation.
+//!
+//! Disc and bulge: present-day values default to the disc of the MWPotential2014 model of
+//! Bovy 2015 (ApJS 216, 29): Miyamoto–Nagai M_d = 6.8e10 Msun, a = 3 kpc, b = 0.28 kpc; its
+//! bulge (a cut-off power law of 5e9 Msun) is replaced by a Hernquist sphere of the same mass
+//! with a = 0.5 kpc (our choice). Growth (our prescription, following the physics reference
+//! sheet, sec. 6): masses scale with the host's stellar mass from the Behroozi et al. 2013
+//! relation applied to M(t), M_d(t) = M_d,0 M*(M(t), z)/M*(M(t0), z0); scale lengths scale with
+//! R_vir(t)/R_vir(t0) at fixed b/a.
+//!
+//! The velocity dispersion of the halo (for dynamical friction) solves the isotropic Jeans
+//! equation in the spherically averaged potential of all components, with the NFW halo as
+//! tracer: sigma^2(r) = (1/rho(r)) \int_r^inf rho(r') G M(<r')/r'^2 dr'. Everything is
+//! tabulated on 128 times (and 64 radii in r/R_vir for sigma); look-ups interpolate linearly.
+
+use serde::{Deserialize, Serialize};
+
+use super::potential::{HostSnapshot, Potential};
+use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
+use crate::error::InvalidValue;
+use crate::galaxies::behroozi13;
+use crate::halo::concentration::{c_of_m, zhao09, ConcentrationModel};
+use crate::halo::nfw::mu;
+use crate::halo::MassDefinition;
+use crate::linear::LinearTheory;
+use crate::trees::HostHistory;
+
+/// Present-day disc and bulge and how they grow.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DiscBulgeParams {
+    pub disc_mass_msun: f64,
+    pub disc_a_kpc: f64,
+    pub disc_b_kpc: f64,
+    pub bulge_mass_msun: f64,
+    pub bulge_a_kpc: f64,
+    /// Scale disc and bulge with the host's stellar mass (true) or keep them fixed.
+    pub grow: bool,
+}
+
+impl Default for DiscBulgeParams {
+    fn default() -> Self {
+        Self {
+            disc_mass_msun: 6.8e10,
+            disc_a_kpc: 3.0,
+            disc_b_kpc: 0.28,
+            bulge_mass_msun: 5e9,
+            bulge_a_kpc: 0.5,
+            grow: true,
+        }
+    }
+}
+
+impl DiscBulgeParams {
+    /// No disc, no bulge.
+    pub fn none() -> Self {
+        Self {
+            disc_mass_msun: 0.0,
+            bulge_mass_msun: 0.0,
+            ..Self::default()
+        }
+    }
+
+    pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
+        let mut out = Vec::new();
+        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
+            if !ok || !v.is_finite() {
+                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
+            }
+        };
+        chk("disc_mass_msun", self.disc_mass_msun, (0.0..=1e12).contains(&self.disc_mass_msun), "must be in [0, 1e12] Msun");
+        chk("disc_a_kpc", self.disc_a_kpc, self.disc_a_kpc > 0.0 && self.disc_a_kpc <= 50.0, "must be in (0, 50] kpc");
+        chk("disc_b_kpc", self.disc_b_kpc, self.disc_b_kpc > 0.0 && self.disc_b_kpc <= 10.0, "must be in (0, 10] kpc");
+        chk("bulge_mass_msun", self.bulge_mass_msun, (0.0..=1e12).contains(&self.bulge_mass_msun), "must be in [0, 1e12] Msun");
+        chk("bulge_a_kpc", self.bulge_a_kpc, self.bulge_a_kpc > 0.0 && self.bulge_a_kpc <= 20.0, "must be in (0, 20] kpc");
+        out
+    }
+}
+
+/// How the host is modelled.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct HostOptions {
+    pub concentration: ConcentrationModel,
+    pub baryons: DiscBulgeParams,
+}
+
+impl Default for HostOptions {
+    fn default() -> Self {
+        Self {
+            concentration: ConcentrationModel::Zhao09,
+            baryons: DiscBulgeParams::default(),
+        }
+    }
+}
+
+const N_T: usize = 128;
+const N_R: usize = 64;
+const LNX_MIN: f64 = -9.210_340_371_976_182; // ln 1e-4
+const LNX_MAX: f64 = 2.302_585_092_994_046; // ln 10
+
+/// The host's potential and velocity dispersion as functions of cosmic time.
+#[derive(Debug, Clone)]
+pub struct EvolvingHost {
+    t0: f64,
+    dt: f64,
+    snaps: Vec<HostSnapshot>,
+    /// ln sigma (kpc/Gyr) on N_T x N_R, radius grid uniform in ln(r / R_vir(t)).
+    ln_sigma: Vec<f64>,
+    /// Concentration at each node (for output).
+    conc: Vec<f64>,
+}
+
+impl EvolvingHost {
+    /// Build from a tree's main branch (times in Gyr). `t_start` is the earliest time needed.
+    pub fn from_history(
+        lt: &LinearTheory,
+        hist: &HostHistory,
+        options: &HostOptions,
+        t_start: f64,
+    ) -> Self {
+        // main-branch points with mass > 0, in increasing time
+        let mut pts: Vec<(f64, f64)> = hist
+            .output_t_gyr
+            .iter()
+            .zip(&hist.mah_msun)
+            .filter(|(_, &m)| m > 0.0)
+            .map(|(&t, &m)| (t, m.ln()))
+            .collect();
+        pts.sort_by(|a, b| a.0.partial_cmp(&b.0).unwrap());
+        Self::from_mah(lt, &pts, options, t_start)
+    }
+
+    /// Build from (t, ln M_vir) points sorted by t (at least one point).
+    pub fn from_mah(
+        lt: &LinearTheory,
+        mah: &[(f64, f64)],
+        options: &HostOptions,
+        t_start: f64,
+    ) -> Self {
+        let cosmo = lt.cosmology();
+        let t_end = mah.last().map(|p| p.0).unwrap_or(cosmo.age0_gyr());
+        let t_lo = t_start.min(t_end).max(1e-3);
+        let dt = ((t_end - t_lo) / (N_T - 1) as f64).max(1e-9);
+        let ln_m_at = |t: f64| -> f64 {
+            if mah.len() == 1 || t <= mah[0].0 {
+                return mah[0].1;
+            }
+            let i = mah.partition_point(|p| p.0 <= t);
+            if i >= mah.len() {
+                return mah[mah.len() - 1].1;
+            }
+            let (a, b) = (mah[i - 1], mah[i]);
+            a.1 + (b.1 - a.1) * (t - a.0) / (b.0 - a.0)
+        };
+        // time at which the main branch had mass m (inverse of the monotone MAH), or None
+        let t_at_ln_m = |lm: f64| -> Option<f64> {
+            if lm < mah[0].1 {
+                return None;
+            }
+            let i = mah.partition_point(|p| p.1 < lm);
+            if i == 0 {
+                return Some(mah[0].0);
+            }
+            if i >= mah.len() {
+                return Some(mah[mah.len() - 1].0);
+            }
+            let (a, b) = (mah[i - 1], mah[i]);
+            if b.1 == a.1 {
+                return Some(a.0);
+            }
+            Some(a.0 + (b.0 - a.0) * (lm - a.1) / (b.1 - a.1))
+        };
+        let b0 = options.baryons;
+        let m_end = ln_m_at(t_end).exp();
+        let z_end = cosmo.z_at_age(t_end);
+        let r_vir_end = MassDefinition::Vir.radius_kpc(cosmo, m_end, z_end);
+        let mstar_end = 10f64.powf(behroozi13::log10_mstar(m_end, z_end));
+        let mut snaps = Vec::with_capacity(N_T);
+        let mut conc = Vec::with_capacity(N_T);
+        for i in 0..N_T {
+            let t = t_lo + dt * i as f64;
+            let z = cosmo.z_at_age(t);
+            let m = ln_m_at(t).exp();
+            let r_vir = MassDefinition::Vir.radius_kpc(cosmo, m, z);
+            let c = match options.concentration {
+                ConcentrationModel::Zhao09 => match t_at_ln_m((0.04 * m).ln()) {
+                    Some(t04) if t04 > 0.0 => zhao09::concentration(t, t04),
+                    _ => c_of_m(ConcentrationModel::DuttonMaccio14, cosmo, m, z, MassDefinition::Vir),
+                },
+                other => c_of_m(other, cosmo, m, z, MassDefinition::Vir),
+            };
+            let r_s = r_vir / c;
+            let m_s = m / mu(c);
+            let (fm, fr) = if b0.grow {
+                let ms = 10f64.powf(behroozi13::log10_mstar(m, z));
+                (ms / mstar_end, r_vir / r_vir_end)
+            } else {
+                (1.0, 1.0)
+            };
+            snaps.push(HostSnapshot {
+                m_s,
+                r_s,
+                r_vir,
+                m_vir: m,
+                m_disc: b0.disc_mass_msun * fm,
+                a_disc: b0.disc_a_kpc * fr,
+                b_disc: b0.disc_b_kpc * fr,
+                m_bulge: b0.bulge_mass_msun * fm,
+                a_bulge: b0.bulge_a_kpc * fr,
+            });
+            conc.push(c);
+        }
+        let mut ln_sigma = Vec::with_capacity(N_T * N_R);
+        for s in &snaps {
+            ln_sigma.extend(jeans_ln_sigma(s));
+        }
+        Self {
+            t0: t_lo,
+            dt,
+            snaps,
+            ln_sigma,
+            conc,
+        }
+    }
+
+    /// A host that does not change (for tests and `retinue orbit --static`).
+    pub fn fixed(s: HostSnapshot) -> Self {
+        let sig = jeans_ln_sigma(&s);
+        let mut ln_sigma = sig.clone();
+        ln_sigma.extend(sig);
+        Self {
+            t0: 0.0,
+            dt: 1e6,
+            snaps: vec![s, s],
+            ln_sigma,
+            conc: vec![s.r_vir / s.r_s; 2],
+        }
+    }
+
+    /// Time range covered (Gyr).
+    pub fn time_range(&self) -> (f64, f64) {
+        (self.t0, self.t0 + self.dt * (self.snaps.len() - 1) as f64)
+    }
+
+    #[inline]
+    fn locate(&self, t: f64) -> (usize, f64) {
+        let u = ((t - self.t0) / self.dt).max(0.0);
+        let i = (u as usize).min(self.snaps.len() - 2);
+        (i, (u - i as f64).min(1.0))
+    }
+
+    /// The host at time t (clamped to the table).
+    #[inline]
+    pub fn snapshot(&self, t: f64) -> HostSnapshot {
+        let (i, f) = self.locate(t);
+        self.snaps[i].lerp(&self.snaps[i + 1], f)
+    }
+
+    /// Concentration at time t.
+    pub fn concentration(&self, t: f64) -> f64 {
+        let (i, f) = self.locate(t);
+        self.conc[i] + f * (self.conc[i + 1] - self.conc[i])
+    }
+
+    /// One-dimensional velocity dispersion of the halo at radius r (kpc), time t; kpc/Gyr.
+    #[inline]
+    pub fn sigma(&self, r: f64, t: f64) -> f64 {
+        let (i, f) = self.locate(t);
+        let r_vir = self.snaps[i].r_vir + f * (self.snaps[i + 1].r_vir - self.snaps[i].r_vir);
+        let u = ((r / r_vir).ln() - LNX_MIN) / (LNX_MAX - LNX_MIN) * (N_R - 1) as f64;
+        let u = u.clamp(0.0, (N_R - 1) as f64 - 1e-9);
+        let j = u as usize;
+        let g = u - j as f64;
+        let at = |ti: usize| {
+            let row = &self.ln_sigma[ti * N_R..(ti + 1) * N_R];
+            row[j] + g * (row[j + 1] - row[j])
+        };
+        (at(i) + f * (at(i + 1) - at(i))).exp()
+    }
+
+    /// The snapshot nodes (for output).
+    pub fn snapshots(&self) -> &[HostSnapshot] {
+        &self.snaps
+    }
+}
+
+/// ln sigma_r (kpc/Gyr) of the NFW tracer in the spherical potential of all components, on
+/// the grid ln(r/R_vir) in [ln 1e-4, ln 10]; integral by the trapezoid rule in ln r to 100 R_vir
+/// (the neglected tail is below 1e-6 of sigma^2 at 10 R_vir).
+fn jeans_ln_sigma(s: &HostSnapshot) -> Vec<f64> {
+    let n_int = 1024;
+    let (l0, l1) = (LNX_MIN + s.r_vir.ln(), (100.0f64).ln() + s.r_vir.ln());
+    let h = (l1 - l0) / (n_int - 1) as f64;
+    // integrand in ln r: rho G M / r^2 * r
+    let f = |lr: f64| {
+        let r = lr.exp();
+        s.halo_density(r) * G * s.mass_enclosed(r) / r
+    };
+    let mut cum = vec![0.0; n_int]; // \int_{r_i}^{r_max}
+    let mut prev = f(l1);
+    for i in (0..n_int - 1).rev() {
+        let cur = f(l0 + h * i as f64);
+        cum[i] = cum[i + 1] + 0.5 * h * (cur + prev);
+        prev = cur;
+    }
+    (0..N_R)
+        .map(|j| {
+            let lx = LNX_MIN + (LNX_MAX - LNX_MIN) * j as f64 / (N_R - 1) as f64;
+            let lr = lx + s.r_vir.ln();
+            let u = (lr - l0) / h;
+            let k = (u as usize).min(n_int - 2);
+            let g = u - k as f64;
+            let integral = cum[k] + g * (cum[k + 1] - cum[k]);
+            let r = lr.exp();
+            (0.5 * (integral / s.halo_density(r)).ln()).max(-50.0)
+        })
+        .collect()
+}

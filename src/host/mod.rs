@@ -1,0 +1,8 @@
+//! The host: an NFW halo that follows the main branch of the host's own merger tree, plus a
+//! Miyamoto–Nagai disc and a Hernquist bulge that grow with it.
+
+pub mod evolving;
+pub mod potential;
+
+pub use evolving::{DiscBulgeParams, EvolvingHost, HostOptions};
+pub use potential::{HostSnapshot, Potential};

@@ -1,0 +1,220 @@
+//! Static potentials: one snapshot of the host (NFW + Miyamoto–Nagai disc + Hernquist
+//! bulge), evaluated without allocation or quadrature. Internal units: kpc, kpc/Gyr, Gyr,
+//! Msun (G = G_KPC3_PER_MSUN_GYR2); potentials in kpc^2/Gyr^2.
+//!
+//! * NFW (Navarro, Frenk & White 1997): Phi = -G M_s ln(1 + r/r_s)/r, M_s = 4 pi rho_s r_s^3.
+//! * Miyamoto & Nagai 1975 (PASJ 27, 533): Phi = -G M_d / sqrt(R^2 + (a + sqrt(z^2 + b^2))^2).
+//! * Hernquist 1990 (ApJ 356, 359): Phi = -G M_b / (r + a), M(<r) = M_b r^2 / (r + a)^2.
+
+use std::f64::consts::PI;
+
+use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
+use crate::halo::nfw::mu;
+
+/// Anything orbits can be integrated in.
+pub trait Potential {
+    /// Potential at position x (kpc), kpc^2/Gyr^2.
+    fn phi(&self, x: [f64; 3]) -> f64;
+    /// Acceleration at x, kpc/Gyr^2.
+    fn accel(&self, x: [f64; 3]) -> [f64; 3];
+    /// Mass inside a sphere of radius r (Msun), spherical approximation for flattened parts.
+    fn mass_enclosed(&self, r: f64) -> f64;
+    /// Density of the dark-matter background that causes dynamical friction, Msun/kpc^3.
+    fn friction_density(&self, r: f64) -> f64;
+}
+
+/// Host components at one instant.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HostSnapshot {
+    /// NFW: M_s = 4 pi rho_s r_s^3 (Msun) and r_s (kpc).
+    pub m_s: f64,
+    pub r_s: f64,
+    /// Virial radius (kpc) and mass (Msun) of the halo at this instant.
+    pub r_vir: f64,
+    pub m_vir: f64,
+    /// Miyamoto–Nagai disc mass (Msun) and scale lengths a, b (kpc).
+    pub m_disc: f64,
+    pub a_disc: f64,
+    pub b_disc: f64,
+    /// Hernquist bulge mass (Msun) and scale length (kpc).
+    pub m_bulge: f64,
+    pub a_bulge: f64,
+}
+
+impl HostSnapshot {
+    /// Linear interpolation between two snapshots (weight f of `other`).
+    #[inline]
+    pub fn lerp(&self, other: &Self, f: f64) -> Self {
+        let l = |a: f64, b: f64| a + f * (b - a);
+        Self {
+            m_s: l(self.m_s, other.m_s),
+            r_s: l(self.r_s, other.r_s),
+            r_vir: l(self.r_vir, other.r_vir),
+            m_vir: l(self.m_vir, other.m_vir),
+            m_disc: l(self.m_disc, other.m_disc),
+            a_disc: l(self.a_disc, other.a_disc),
+            b_disc: l(self.b_disc, other.b_disc),
+            m_bulge: l(self.m_bulge, other.m_bulge),
+            a_bulge: l(self.a_bulge, other.a_bulge),
+        }
+    }
+
+    /// NFW density, Msun/kpc^3.
+    #[inline]
+    pub fn halo_density(&self, r: f64) -> f64 {
+        let x = r / self.r_s;
+        self.m_s / (4.0 * PI * self.r_s.powi(3)) / (x * (1.0 + x) * (1.0 + x))
+    }
+
+    /// NFW enclosed mass.
+    #[inline]
+    pub fn halo_mass(&self, r: f64) -> f64 {
+        self.m_s * mu(r / self.r_s)
+    }
+
+    /// Mass of the Miyamoto–Nagai disc inside a sphere of radius r, approximated by the
+    /// mass of the Hernquist-like spherical profile with the same total mass and scale
+    /// a + b (our approximation, used only where a spherical mass is needed: tidal radius,
+    /// Jeans dispersion, Coulomb logarithm; forces use the exact disc).
+    #[inline]
+    pub fn disc_mass_spherical(&self, r: f64) -> f64 {
+        let s = self.a_disc + self.b_disc;
+        self.m_disc * r * r / ((r + s) * (r + s))
+    }
+
+    #[inline]
+    pub fn bulge_mass(&self, r: f64) -> f64 {
+        self.m_bulge * r * r / ((r + self.a_bulge) * (r + self.a_bulge))
+    }
+
+    /// Circular velocity in the disc plane (exact for every component), km/s.
+    pub fn v_circ_kms(&self, r: f64) -> f64 {
+        let a = self.accel([r, 0.0, 0.0]);
+        (-a[0] * r).sqrt() / crate::constants::KMS_IN_KPC_PER_GYR
+    }
+
+    /// d^2 Phi / dr^2 along the direction of x (kpc^-... in Gyr^-2), by central differences of
+    /// the radial force with step 1e-3 r (the disc is not spherical).
+    pub fn d2phi_dr2(&self, x: [f64; 3]) -> f64 {
+        let r = (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).sqrt();
+        let u = [x[0] / r, x[1] / r, x[2] / r];
+        let h = 1e-3 * r;
+        let g = |s: f64| {
+            let p = [u[0] * s, u[1] * s, u[2] * s];
+            let a = self.accel(p);
+            a[0] * u[0] + a[1] * u[1] + a[2] * u[2]
+        };
+        // d2Phi/dr2 = -d(g_r)/dr
+        -(g(r + h) - g(r - h)) / (2.0 * h)
+    }
+}
+
+impl Potential for HostSnapshot {
+    #[inline]
+    fn phi(&self, x: [f64; 3]) -> f64 {
+        let r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
+        let r = r2.sqrt();
+        let xs = r / self.r_s;
+        let nfw = if xs < 1e-6 {
+            -G * self.m_s / self.r_s * (1.0 - 0.5 * xs)
+        } else {
+            -G * self.m_s * xs.ln_1p() / r
+        };
+        let big_r2 = x[0] * x[0] + x[1] * x[1];
+        let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
+        let disc = -G * self.m_disc / (big_r2 + (self.a_disc + zeta).powi(2)).sqrt();
+        let bulge = -G * self.m_bulge / (r + self.a_bulge);
+        nfw + disc + bulge
+    }
+
+    #[inline]
+    fn accel(&self, x: [f64; 3]) -> [f64; 3] {
+        let r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
+        let r = r2.sqrt().max(1e-12);
+        // spherical parts: g = -G M(<r)/r^3 x
+        let m_sph = self.m_s * mu(r / self.r_s)
+            + self.m_bulge * r2 / ((r + self.a_bulge) * (r + self.a_bulge));
+        let gs = -G * m_sph / (r2 * r);
+        // Miyamoto–Nagai
+        let big_r2 = x[0] * x[0] + x[1] * x[1];
+        let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
+        let az = self.a_disc + zeta;
+        let d2 = big_r2 + az * az;
+        let d3 = d2 * d2.sqrt();
+        let gd = -G * self.m_disc / d3;
+        [
+            gs * x[0] + gd * x[0],
+            gs * x[1] + gd * x[1],
+            gs * x[2] + gd * x[2] * az / zeta,
+        ]
+    }
+
+    #[inline]
+    fn mass_enclosed(&self, r: f64) -> f64 {
+        self.halo_mass(r) + self.disc_mass_spherical(r) + self.bulge_mass(r)
+    }
+
+    #[inline]
+    fn friction_density(&self, r: f64) -> f64 {
+        self.halo_density(r)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn mw() -> HostSnapshot {
+        HostSnapshot {
+            m_s: 4.4e11,
+            r_s: 20.0,
+            r_vir: 280.0,
+            m_vir: 1.2e12,
+            m_disc: 6.8e10,
+            a_disc: 3.0,
+            b_disc: 0.28,
+            m_bulge: 1e10,
+            a_bulge: 0.6,
+        }
+    }
+
+    /// Acceleration = -grad Phi by central differences, at points off every symmetry plane.
+    #[test]
+    fn force_is_minus_gradient() {
+        let p = mw();
+        for x in [[5.0, 1.0, 0.3], [-20.0, 7.0, 4.0], [120.0, -80.0, 60.0], [0.7, 0.2, -0.1]] {
+            let a = p.accel(x);
+            for k in 0..3 {
+                let h = 1e-5 * (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).sqrt();
+                let mut xp = x;
+                let mut xm = x;
+                xp[k] += h;
+                xm[k] -= h;
+                let g = -(p.phi(xp) - p.phi(xm)) / (2.0 * h);
+                assert!((g - a[k]).abs() < 1e-6 * a[k].abs().max(1e-3 * g.abs().max(1.0)), "{x:?} {k}: {g} vs {}", a[k]);
+            }
+        }
+    }
+
+    /// Poisson's equation for the NFW + bulge part: Laplacian of Phi = 4 pi G rho.
+    #[test]
+    fn laplacian_is_density_for_spherical_parts() {
+        let mut p = mw();
+        p.m_disc = 0.0;
+        p.m_bulge = 0.0;
+        for r in [2.0, 15.0, 90.0] {
+            let x = [r / 3f64.sqrt(); 3];
+            let h = 1e-3 * r;
+            let mut lap = 0.0;
+            for k in 0..3 {
+                let mut xp = x;
+                let mut xm = x;
+                xp[k] += h;
+                xm[k] -= h;
+                lap += (p.phi(xp) - 2.0 * p.phi(x) + p.phi(xm)) / (h * h);
+            }
+            let want = 4.0 * PI * G * p.halo_density(r);
+            assert!((lap / want - 1.0).abs() < 1e-4, "r={r}: {lap} vs {want}");
+        }
+    }
+}
