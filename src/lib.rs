@@ -34,6 +34,7 @@ pub mod interp;
 pub mod io;
 pub mod linear;
 pub mod massfunction;
+pub mod orbits;
 pub mod rng;
 pub mod special;
 pub mod trees;

@@ -3,6 +3,7 @@
 pub mod cosmo_args;
 pub mod format;
 pub mod linear;
+pub mod orbit;
 pub mod tree;
 
 use clap::{Parser, Subcommand};
@@ -26,6 +27,8 @@ pub enum Command {
     Linear(linear::LinearCommand),
     /// Grow one merger tree (Parkinson, Cole & Helly 2008) and write it to HDF5.
     Tree(tree::TreeArgs),
+    /// Integrate one test-particle orbit in the configured host potential (CSV).
+    Orbit(orbit::OrbitArgs),
 }
 
 /// A command failure with its exit code.
@@ -59,5 +62,6 @@ pub fn run(cli: Cli) -> Result<(), CliError> {
     match cli.command {
         Command::Linear(c) => linear::run(c),
         Command::Tree(a) => tree::run(a),
+        Command::Orbit(a) => orbit::run(a),
     }
 }

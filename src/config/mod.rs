@@ -2,8 +2,10 @@
 //! problem at once, each naming its key, the value and the allowed range.
 
 pub mod cosmology;
+pub mod run;
 
 pub use cosmology::CosmologySection;
+pub use run::{RunConfig, RunConfigFile};
 
 use crate::error::InvalidValue;
 

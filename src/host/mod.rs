@@ -2,6 +2,7 @@
 //! Miyamoto–Nagai disc and a Hernquist bulge that grow with it.
 
 pub mod evolving;
+pub mod median;
 pub mod potential;
 
 pub use evolving::{DiscBulgeParams, EvolvingHost, HostOptions};

@@ -72,14 +72,16 @@ impl HostSnapshot {
         self.m_s * mu(r / self.r_s)
     }
 
-    /// Mass of the Miyamoto–Nagai disc inside a sphere of radius r, approximated by the
-    /// mass of the Hernquist-like spherical profile with the same total mass and scale
-    /// a + b (our approximation, used only where a spherical mass is needed: tidal radius,
-    /// Jeans dispersion, Coulomb logarithm; forces use the exact disc).
+    /// Mass of the Miyamoto–Nagai disc inside a sphere of radius r, exact (Gauss's theorem on
+    /// the sphere, tabulated once per process in r/a and b/a; see `disc_sphere_fraction`).
+    /// Used where a spherical mass is needed: tidal time-scale, Jeans dispersion, Coulomb
+    /// logarithm. Forces always use the exact disc.
     #[inline]
     pub fn disc_mass_spherical(&self, r: f64) -> f64 {
-        let s = self.a_disc + self.b_disc;
-        self.m_disc * r * r / ((r + s) * (r + s))
+        if self.m_disc == 0.0 {
+            return 0.0;
+        }
+        self.m_disc * disc_sphere_fraction(r / self.a_disc, self.b_disc / self.a_disc)
     }
 
     #[inline]
@@ -118,7 +120,7 @@ impl Potential for HostSnapshot {
         let nfw = if xs < 1e-6 {
             -G * self.m_s / self.r_s * (1.0 - 0.5 * xs)
         } else {
-            -G * self.m_s * xs.ln_1p() / r
+            -G * self.m_s * (1.0 + xs).ln() / r
         };
         let big_r2 = x[0] * x[0] + x[1] * x[1];
         let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
@@ -158,6 +160,86 @@ impl Potential for HostSnapshot {
     fn friction_density(&self, r: f64) -> f64 {
         self.halo_density(r)
     }
+}
+
+/// Fraction of a Miyamoto–Nagai disc's mass (scale lengths a, b) inside a sphere of radius
+/// r, as a function of x = r/a and beta = b/a. By Gauss's theorem,
+/// M(<r)/M_d = (r^2/(G M_d)) <dPhi/dr>_sphere = (x/2) \int_{-1}^{1} [s^2 + mu^2 (1 + zeta)/zeta] / D^3 dmu
+/// with s^2 = x^2 (1 - mu^2), zeta = sqrt(x^2 mu^2 + beta^2), D^2 = s^2 + (1 + zeta)^2 (lengths in
+/// units of a). Tabulated on 161 x 41 nodes in (ln x, ln beta) by double-exponential quadrature
+/// (split at |mu| = beta/x, where the integrand turns over), bicubic in between.
+pub fn disc_sphere_fraction(x: f64, beta: f64) -> f64 {
+    use std::sync::OnceLock;
+    const NX: usize = 161;
+    const NB: usize = 41;
+    const LX0: f64 = -6.907_755_278_982_137; // ln 1e-3
+    const LX1: f64 = 9.210_340_371_976_184; // ln 1e4
+    const LB0: f64 = -4.605_170_185_988_091; // ln 1e-2
+    const LB1: f64 = 4.605_170_185_988_091; // ln 1e2
+    static TABLE: OnceLock<Vec<f64>> = OnceLock::new();
+    let table = TABLE.get_or_init(|| {
+        let mut t = Vec::with_capacity(NX * NB);
+        for j in 0..NB {
+            let beta = (LB0 + (LB1 - LB0) * j as f64 / (NB - 1) as f64).exp();
+            for i in 0..NX {
+                let x = (LX0 + (LX1 - LX0) * i as f64 / (NX - 1) as f64).exp();
+                t.push(disc_sphere_fraction_exact(x, beta));
+            }
+        }
+        t
+    });
+    let u = ((x.max(1e-300).ln() - LX0) / (LX1 - LX0) * (NX - 1) as f64).clamp(0.0, (NX - 1) as f64);
+    let v = ((beta.ln() - LB0) / (LB1 - LB0) * (NB - 1) as f64).clamp(0.0, (NB - 1) as f64);
+    // 4-point Lagrange weights (cubic) in each direction, stencil kept inside the table
+    let stencil = |w: f64, n: usize| -> (usize, [f64; 4]) {
+        let i = (w.floor() as usize).clamp(1, n - 3);
+        let t = w - i as f64; // nodes at -1, 0, 1, 2
+        (
+            i - 1,
+            [
+                -t * (t - 1.0) * (t - 2.0) / 6.0,
+                (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0,
+                -(t + 1.0) * t * (t - 2.0) / 2.0,
+                (t + 1.0) * t * (t - 1.0) / 6.0,
+            ],
+        )
+    };
+    let (i0, wx) = stencil(u, NX);
+    let (j0, wb) = stencil(v, NB);
+    let mut f = 0.0;
+    for (jj, wj) in wb.iter().enumerate() {
+        let row = &table[(j0 + jj) * NX..(j0 + jj + 1) * NX];
+        let mut acc = 0.0;
+        for (ii, wi) in wx.iter().enumerate() {
+            acc += wi * row[i0 + ii];
+        }
+        f += wj * acc;
+    }
+    if x < 1e-3 {
+        // inside the first node the enclosed mass grows as r^3 (finite central density)
+        f * (x / 1e-3).powi(3)
+    } else {
+        f
+    }
+}
+
+/// The quadrature behind `disc_sphere_fraction`.
+pub fn disc_sphere_fraction_exact(x: f64, beta: f64) -> f64 {
+    let g = |mu: f64| {
+        let s2 = x * x * (1.0 - mu * mu);
+        let zeta = (x * x * mu * mu + beta * beta).sqrt();
+        let d2 = s2 + (1.0 + zeta) * (1.0 + zeta);
+        (s2 + x * x * mu * mu * (1.0 + zeta) / zeta) / (d2 * d2.sqrt())
+    };
+    // the integrand is even in mu: (x/2) times the integral over [-1, 1] = x times [0, 1]
+    let split = (beta / x).min(1.0);
+    let mut total = 0.0;
+    for (lo, hi) in [(0.0, split), (split, 1.0)] {
+        if hi > lo {
+            total += quadrature::integrate(g, lo, hi, 1e-12).integral;
+        }
+    }
+    x * total
 }
 
 #[cfg(test)]

@@ -123,6 +123,14 @@ impl HostHistory {
         h
     }
 
+    /// Index into `accretions` of branch b (None for the main branch).
+    pub fn accretion_index(&self, b: u32) -> Option<usize> {
+        self.branch_to_acc
+            .get(b as usize)
+            .copied()
+            .filter(|&i| i != usize::MAX)
+    }
+
     /// The accretion record of branch b (None for the main branch).
     pub fn accretion_of(&self, b: u32) -> Option<&Accretion> {
         self.branch_to_acc

@@ -5,6 +5,7 @@ mod val_cosmology;
 mod val_halo;
 mod val_linear;
 mod val_massfunction;
+mod val_orbits;
 mod val_trees;
 
 use retinue::cosmology::CosmologyParams;

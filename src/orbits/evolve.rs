@@ -1,0 +1,519 @@
+//! Evolving every accreted subhalo of one host: initial orbit at the host's virial radius,
+//! integration with dynamical friction and tidal stripping, disruption under two models, and
+//! the events along the orbit. Higher-order subhaloes ride with their parent until the
+//! parent's tidal radius shrinks inside their orbit (or the parent is disrupted); then they
+//! orbit the host from the parent's position and velocity.
+
+use rand::Rng;
+
+use super::friction;
+use super::initial::{initial_state, Li20};
+use super::integrate::{Dopri5, State, Tolerances};
+use super::stripping::{Stripping, SubhaloStructure};
+use super::OrbitOptions;
+use crate::constants::{G_KPC3_PER_MSUN_GYR2 as G, KMS_IN_KPC_PER_GYR as KMS};
+use crate::halo::concentration::{c_of_m, ConcentrationModel};
+use crate::halo::MassDefinition;
+use crate::host::{EvolvingHost, HostSnapshot, Potential};
+use crate::linear::LinearTheory;
+use crate::trees::HostHistory;
+
+pub static STEPS: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+
+/// What became of a subhalo by the end of the run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[repr(u8)]
+pub enum SubhaloStatus {
+    /// Bound and orbiting the host (or outside it as a backsplash object).
+    Surviving = 0,
+    /// Bound fraction (or tidal radius) fell below the physical threshold.
+    DisruptedPhysical = 1,
+    /// Still inside its parent subhalo at the end (never released).
+    InParent = 2,
+}
+
+/// One subhalo's history and final state.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SubhaloResult {
+    pub branch: u32,
+    pub order: u16,
+    pub group: u32,
+    /// Branch it fell into (0 = host main branch).
+    pub parent_branch: u32,
+    pub m_infall_msun: f64,
+    pub m_peak_msun: f64,
+    pub t_peak_gyr: f64,
+    /// Merger time into whatever halo it fell into first (tree).
+    pub t_infall_gyr: f64,
+    /// First crossing of the host's virial radius (its group's merger with the main branch).
+    pub t_first_host_infall_gyr: f64,
+    /// Last inward crossing of the evolving virial radius.
+    pub t_last_host_infall_gyr: f64,
+    /// When it left its parent to orbit the host (NaN for order 1 or if never).
+    pub t_release_gyr: f64,
+    pub n_pericentres: u32,
+    pub t_peri_first_gyr: f64,
+    pub r_peri_first_kpc: f64,
+    pub r_peri_min_kpc: f64,
+    pub t_peri_last_gyr: f64,
+    pub r_peri_last_kpc: f64,
+    pub r_apo_last_kpc: f64,
+    pub n_host_crossings: u32,
+    pub t_disrupt_physical_gyr: f64,
+    pub t_disrupt_pericentre_gyr: f64,
+    pub pos_kpc: [f64; 3],
+    pub vel_kms: [f64; 3],
+    pub r_kpc: f64,
+    pub m_bound_msun: f64,
+    pub vmax_kms: f64,
+    pub rmax_kpc: f64,
+    pub vmax_infall_kms: f64,
+    pub backsplash: bool,
+    pub status: SubhaloStatus,
+}
+
+#[inline]
+fn norm(a: [f64; 3]) -> f64 {
+    (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt()
+}
+
+#[inline]
+fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
+    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
+}
+
+#[inline]
+fn pos(y: &State) -> [f64; 3] {
+    [y[0], y[1], y[2]]
+}
+
+#[inline]
+fn vel(y: &State) -> [f64; 3] {
+    [y[3], y[4], y[5]]
+}
+
+/// Right-hand side: host gravity plus friction on mass m.
+#[inline]
+fn rhs(host: &EvolvingHost, friction: bool, m: f64, t: f64, y: &State) -> State {
+    let s = host.snapshot(t);
+    let x = pos(y);
+    let mut a = s.accel(x);
+    if friction && m > 0.0 {
+        let r = norm(x);
+        let rho = s.friction_density(r);
+        let sig = host.sigma(r, t);
+        let ll = friction::coulomb_log(s.mass_enclosed(r), m);
+        let af = friction::acceleration(vel(y), rho, sig, m, ll);
+        a[0] += af[0];
+        a[1] += af[1];
+        a[2] += af[2];
+    }
+    [y[3], y[4], y[5], a[0], a[1], a[2]]
+}
+
+/// Cubic Hermite interpolation of r(s), s in [0, 1], from end values and derivatives
+/// (dr/ds = h v_r); returns the extremum inside (s, r) if there is one.
+fn hermite_extremum(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
+    // r(s) = a s^3 + b s^2 + c s + d
+    let a = 2.0 * r0 - 2.0 * r1 + d0 + d1;
+    let b = -3.0 * r0 + 3.0 * r1 - 2.0 * d0 - d1;
+    let c = d0;
+    let eval = |s: f64| ((a * s + b) * s + c) * s + r0;
+    // r'(s) = 3a s^2 + 2b s + c = 0
+    let roots: Vec<f64> = if a.abs() < 1e-14 * (b.abs() + c.abs()) {
+        if b.abs() > 0.0 {
+            vec![-c / (2.0 * b)]
+        } else {
+            vec![]
+        }
+    } else {
+        let disc = 4.0 * b * b - 12.0 * a * c;
+        if disc < 0.0 {
+            vec![]
+        } else {
+            let q = disc.sqrt();
+            vec![(-2.0 * b - q) / (6.0 * a), (-2.0 * b + q) / (6.0 * a)]
+        }
+    };
+    roots
+        .into_iter()
+        .filter(|s| (0.0..=1.0).contains(s))
+        .map(|s| (s, eval(s)))
+        .next()
+}
+
+/// Events and state of one orbit while it is integrated.
+struct Tracker {
+    n_peri: u32,
+    t_peri_first: f64,
+    r_peri_first: f64,
+    r_peri_min: f64,
+    t_peri_last: f64,
+    r_peri_last: f64,
+    r_apo_last: f64,
+    t_last_infall: f64,
+    n_cross: u32,
+    been_inside: bool,
+    t_disrupt_peri: f64,
+}
+
+impl Tracker {
+    fn new(t_start: f64) -> Self {
+        Self {
+            n_peri: 0,
+            t_peri_first: f64::NAN,
+            r_peri_first: f64::NAN,
+            r_peri_min: f64::NAN,
+            t_peri_last: f64::NAN,
+            r_peri_last: f64::NAN,
+            r_apo_last: f64::NAN,
+            t_last_infall: t_start,
+            n_cross: 0,
+            been_inside: false,
+            t_disrupt_peri: f64::NAN,
+        }
+    }
+
+    /// Look for events between two accepted steps.
+    fn step(&mut self, host: &EvolvingHost, t0: f64, y0: &State, t1: f64, y1: &State, r_cut: f64) {
+        let h = t1 - t0;
+        let (x0, x1) = (pos(y0), pos(y1));
+        let (r0, r1) = (norm(x0), norm(x1));
+        let vr0 = dot(x0, vel(y0)) / r0;
+        let vr1 = dot(x1, vel(y1)) / r1;
+        if (vr0 < 0.0 && vr1 >= 0.0) || (vr0 > 0.0 && vr1 <= 0.0) {
+            let (s, r) = hermite_extremum(r0, r1, vr0 * h, vr1 * h).unwrap_or(if r0 < r1 {
+                (0.0, r0)
+            } else {
+                (1.0, r1)
+            });
+            let t = t0 + s * h;
+            if vr0 < 0.0 {
+                self.n_peri += 1;
+                if self.n_peri == 1 {
+                    self.t_peri_first = t;
+                    self.r_peri_first = r;
+                }
+                self.r_peri_min = if self.r_peri_min.is_nan() { r } else { self.r_peri_min.min(r) };
+                self.t_peri_last = t;
+                self.r_peri_last = r;
+                if r < r_cut && self.t_disrupt_peri.is_nan() {
+                    self.t_disrupt_peri = t;
+                }
+            } else {
+                self.r_apo_last = r;
+            }
+        }
+        let rv0 = host.snapshot(t0).r_vir;
+        let rv1 = host.snapshot(t1).r_vir;
+        let (d0, d1) = (r0 - rv0, r1 - rv1);
+        if d1 < 0.0 || d0 < 0.0 {
+            self.been_inside = true;
+        }
+        if d0 >= 0.0 && d1 < 0.0 {
+            // inward crossing: linear interpolation of r - R_vir
+            self.n_cross += 1;
+            self.t_last_infall = t0 + h * d0 / (d0 - d1);
+        } else if d0 < 0.0 && d1 >= 0.0 {
+            self.n_cross += 1;
+        }
+    }
+}
+
+/// A pending release of a subhalo of a subhalo.
+#[derive(Debug, Clone, Copy)]
+struct Release {
+    t: f64,
+    y: State,
+}
+
+/// Evolve every accretion of a host. `rng` is the host's orbit stream; results come in the
+/// order of `hist.accretions` (branch order), so they are reproducible bit for bit.
+pub fn evolve_host_subhaloes<R: Rng>(
+    lt: &LinearTheory,
+    hist: &HostHistory,
+    host: &EvolvingHost,
+    options: &OrbitOptions,
+    t_end: f64,
+    rng: &mut R,
+) -> Vec<SubhaloResult> {
+    let cosmo = lt.cosmology();
+    let accs = &hist.accretions;
+    let n = accs.len();
+    let li = Li20::default();
+    let strip = Stripping {
+        alpha: options.stripping_alpha,
+    };
+    // children of each accretion (by index) and their orbit radius inside the parent
+    let mut children: Vec<Vec<(usize, f64)>> = vec![Vec::new(); n];
+    for (i, a) in accs.iter().enumerate() {
+        if a.order > 1 {
+            if let Some(pi) = hist.accretion_index(a.into_branch) {
+                let r_vir_p = MassDefinition::Vir.radius_kpc(
+                    cosmo,
+                    a.m_host_at_infall_msun,
+                    a.z_infall,
+                );
+                children[pi].push((i, options.suborbit_fraction * r_vir_p));
+            }
+        }
+    }
+    let mut release: Vec<Option<Release>> = vec![None; n];
+    let mut out: Vec<SubhaloResult> = Vec::with_capacity(n);
+    // index of each accretion's result, to copy a parent's final state
+    for i in 0..n {
+        let a = &accs[i];
+        let z_acc = a.z_infall;
+        let c_acc = c_of_m(ConcentrationModel::DuttonMaccio14, cosmo, a.m_infall_msun, z_acc, MassDefinition::Vir);
+        let r_vir_acc = MassDefinition::Vir.radius_kpc(cosmo, a.m_infall_msun, z_acc);
+        let structure = SubhaloStructure::nfw(a.m_infall_msun, r_vir_acc, c_acc);
+        let mut res = SubhaloResult {
+            branch: a.branch,
+            order: a.order,
+            group: a.group,
+            parent_branch: a.into_branch,
+            m_infall_msun: a.m_infall_msun,
+            m_peak_msun: a.m_peak_msun,
+            t_peak_gyr: a.t_peak_gyr,
+            t_infall_gyr: a.t_infall_gyr,
+            t_first_host_infall_gyr: a.t_host_infall_gyr,
+            t_last_host_infall_gyr: a.t_host_infall_gyr,
+            t_release_gyr: f64::NAN,
+            n_pericentres: 0,
+            t_peri_first_gyr: f64::NAN,
+            r_peri_first_kpc: f64::NAN,
+            r_peri_min_kpc: f64::NAN,
+            t_peri_last_gyr: f64::NAN,
+            r_peri_last_kpc: f64::NAN,
+            r_apo_last_kpc: f64::NAN,
+            n_host_crossings: 0,
+            t_disrupt_physical_gyr: f64::NAN,
+            t_disrupt_pericentre_gyr: f64::NAN,
+            pos_kpc: [f64::NAN; 3],
+            vel_kms: [f64::NAN; 3],
+            r_kpc: f64::NAN,
+            m_bound_msun: a.m_infall_msun,
+            vmax_kms: structure.vmax_acc / KMS,
+            rmax_kpc: structure.rmax_acc,
+            vmax_infall_kms: structure.vmax_acc / KMS,
+            backsplash: false,
+            status: SubhaloStatus::Surviving,
+        };
+        // starting point
+        let start = if a.order == 1 {
+            let t_acc = a.t_infall_gyr;
+            let s = host.snapshot(t_acc);
+            let v_vir = (G * s.m_vir / s.r_vir).sqrt();
+            let nu = lt.delta_c(z_acc) / lt.sigma(s.m_vir, z_acc);
+            let zeta = a.m_infall_msun / s.m_vir;
+            let (u, x) = li.sample(nu, zeta, rng);
+            Some(Release {
+                t: t_acc,
+                y: initial_state(s.r_vir, v_vir, u, x, rng),
+            })
+        } else {
+            release[i]
+        };
+        match start {
+            None => {
+                // never left its parent: it sits where the parent ended
+                let pidx = hist.accretion_index(a.into_branch);
+                if let Some(p) = pidx.and_then(|p| out.get(p)) {
+                    res.pos_kpc = p.pos_kpc;
+                    res.vel_kms = p.vel_kms;
+                    res.r_kpc = p.r_kpc;
+                    res.backsplash = p.backsplash;
+                    res.t_last_host_infall_gyr = p.t_last_host_infall_gyr;
+                }
+                res.status = SubhaloStatus::InParent;
+                // its children stay inside it too
+            }
+            Some(rel) => {
+                if a.order > 1 {
+                    res.t_release_gyr = rel.t;
+                }
+                let kids = &children[i];
+                let released = integrate_subhalo(
+                    host, options, &strip, &structure, rel, t_end, kids, &mut res,
+                );
+                for (k, r) in released {
+                    release[k] = Some(r);
+                }
+            }
+        }
+        out.push(res);
+    }
+    out
+}
+
+/// Integrate one subhalo from its release to t_end; fill `res`; return the releases of its
+/// children (accretion index, state).
+#[allow(clippy::too_many_arguments)]
+fn integrate_subhalo(
+    host: &EvolvingHost,
+    options: &OrbitOptions,
+    strip: &Stripping,
+    structure: &SubhaloStructure,
+    start: Release,
+    t_end: f64,
+    kids: &[(usize, f64)],
+    res: &mut SubhaloResult,
+) -> Vec<(usize, Release)> {
+    let tol = Tolerances {
+        rtol: options.rtol,
+        atol_pos_kpc: options.rtol * 10.0,
+        atol_vel_kpc_gyr: options.rtol * 10.0,
+    };
+    let mut released = Vec::new();
+    let mut pending: Vec<(usize, f64)> = kids.to_vec();
+    let mut t = start.t;
+    let mut y = start.y;
+    let mut m = res.m_infall_msun;
+    let mut r_t = f64::INFINITY;
+    let mut prof_m = m;
+    let mut prof = structure.profile(m);
+    let mut tracker = Tracker::new(t);
+    let mut dopri = Dopri5::new(tol, 1e-3, 0.1);
+    let mut physical_end = false;
+    // Friction is negligible for m < 1e-4 M_vir (sinking times > 1e3 host dynamical times;
+    // physics reference sheet sec. 9: negligible below 1e-3 within a Hubble time); skipping
+    // it there saves most of the cost for the many small subhaloes.
+    let friction_on = |m: f64, t: f64| options.friction && m > 1e-4 * host.snapshot(t).m_vir;
+    while t < t_end {
+        let m_now = m;
+        let fr = friction_on(m, t);
+        let mut f = |tt: f64, yy: &State| rhs(host, fr, m_now, tt, yy);
+        let (t1, y1) = dopri.step(&mut f, t, &y, t_end);
+        tracker.step(host, t, &y, t1, &y1, options.pericentre_cut_kpc);
+        let h = t1 - t;
+        t = t1;
+        y = y1;
+        if options.stripping {
+            let s: HostSnapshot = host.snapshot(t);
+            let x = pos(&y);
+            let v = vel(&y);
+            let r = norm(x);
+            let l = [x[1] * v[2] - x[2] * v[1], x[2] * v[0] - x[0] * v[2], x[0] * v[1] - x[1] * v[0]];
+            let omega2 = dot(l, l) / (r * r * r * r);
+            let denom = omega2 - s.d2phi_dr2(x);
+            if m != prof_m {
+                prof = structure.profile(m);
+                prof_m = m;
+            }
+            r_t = structure.tidal_radius_with(prof, m, denom, r_t);
+            let (m_t, _) = structure.enclosed_with(prof, r_t, m);
+            let t_dyn = Stripping::t_dyn(r, s.mass_enclosed(r));
+            let m_new = strip.step(m, m_t, h, t_dyn);
+            if fr && (m_new / m - 1.0).abs() > 1e-3 {
+                dopri.reset_derivative();
+            }
+            m = m_new;
+            // release children whose orbit now lies outside the tidal radius
+            pending.retain(|&(k, r_orb)| {
+                if r_orb > r_t {
+                    released.push((k, Release { t, y }));
+                    false
+                } else {
+                    true
+                }
+            });
+            let x_b = m / structure.m_acc;
+            if x_b < options.disrupt_bound_fraction
+                || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc
+            {
+                res.t_disrupt_physical_gyr = t;
+                physical_end = true;
+                break;
+            }
+        }
+    }
+    // remaining children leave at the end of the parent's life (if it was disrupted)
+    if physical_end {
+        for (k, _) in pending.drain(..) {
+            released.push((k, Release { t, y }));
+        }
+    }
+    let x = pos(&y);
+    let v = vel(&y);
+    let r = norm(x);
+    let (vmax, rmax) = structure.vmax_rmax(m);
+    res.n_pericentres = tracker.n_peri;
+    res.t_peri_first_gyr = tracker.t_peri_first;
+    res.r_peri_first_kpc = tracker.r_peri_first;
+    res.r_peri_min_kpc = tracker.r_peri_min;
+    res.t_peri_last_gyr = tracker.t_peri_last;
+    res.r_peri_last_kpc = tracker.r_peri_last;
+    res.r_apo_last_kpc = tracker.r_apo_last;
+    res.n_host_crossings = tracker.n_cross;
+    res.t_last_host_infall_gyr = tracker.t_last_infall.max(res.t_first_host_infall_gyr);
+    res.t_disrupt_pericentre_gyr = tracker.t_disrupt_peri;
+    res.pos_kpc = x;
+    res.vel_kms = [v[0] / KMS, v[1] / KMS, v[2] / KMS];
+    res.r_kpc = r;
+    res.m_bound_msun = m;
+    res.vmax_kms = vmax / KMS;
+    res.rmax_kpc = rmax;
+    res.backsplash = !physical_end && tracker.been_inside && r > host.snapshot(t).r_vir;
+    STEPS.fetch_add(dopri.accepted + dopri.rejected, std::sync::atomic::Ordering::Relaxed);
+    res.status = if physical_end {
+        SubhaloStatus::DisruptedPhysical
+    } else {
+        SubhaloStatus::Surviving
+    };
+    released
+}
+
+/// A test particle (no friction, no stripping) in the host from `t0` to `t1`; returns the
+/// state every `dt_out` (positions kpc, velocities km/s) and (pericentres, apocentres) as
+/// (t, r) lists.
+pub type Track = (Vec<(f64, [f64; 6])>, Vec<(f64, f64)>, Vec<(f64, f64)>);
+
+pub fn integrate_test_particle(
+    host: &EvolvingHost,
+    x0_kpc: [f64; 3],
+    v0_kms: [f64; 3],
+    t0: f64,
+    t1: f64,
+    dt_out: f64,
+    tol: Tolerances,
+) -> Track {
+    let mut y: State = [
+        x0_kpc[0],
+        x0_kpc[1],
+        x0_kpc[2],
+        v0_kms[0] * KMS,
+        v0_kms[1] * KMS,
+        v0_kms[2] * KMS,
+    ];
+    let mut t = t0;
+    let to_kms = |y: &State| [y[0], y[1], y[2], y[3] / KMS, y[4] / KMS, y[5] / KMS];
+    let mut out = vec![(t, to_kms(&y))];
+    let (mut peri, mut apo) = (Vec::new(), Vec::new());
+    let mut dopri = Dopri5::new(tol, 1e-4, dt_out.max(1e-6));
+    let mut f = |tt: f64, yy: &State| rhs(host, false, 0.0, tt, yy);
+    let n_out = ((t1 - t0) / dt_out).round().max(1.0) as usize;
+    for k in 1..=n_out {
+        let t_next = if k == n_out { t1 } else { t0 + dt_out * k as f64 };
+        while t < t_next {
+            let (tn, yn) = dopri.step(&mut f, t, &y, t_next);
+            let h = tn - t;
+            let (x0, x1) = (pos(&y), pos(&yn));
+            let (r0, r1) = (norm(x0), norm(x1));
+            let vr0 = dot(x0, vel(&y)) / r0;
+            let vr1 = dot(x1, vel(&yn)) / r1;
+            if (vr0 < 0.0) != (vr1 < 0.0) {
+                if let Some((s, r)) = hermite_extremum(r0, r1, vr0 * h, vr1 * h) {
+                    if vr0 < 0.0 {
+                        peri.push((t + s * h, r));
+                    } else {
+                        apo.push((t + s * h, r));
+                    }
+                }
+            }
+            t = tn;
+            y = yn;
+        }
+        out.push((t, to_kms(&y)));
+    }
+    (out, peri, apo)
+}

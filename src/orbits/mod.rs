@@ -1,0 +1,75 @@
+//! Subhalo dynamics: infall orbits, integration in the evolving host with dynamical friction
+//! and tidal stripping, disruption, and the events along every orbit.
+
+pub mod evolve;
+pub mod friction;
+pub mod initial;
+pub mod integrate;
+pub mod stripping;
+pub mod tidal_track;
+
+use serde::{Deserialize, Serialize};
+
+use crate::error::InvalidValue;
+
+pub use evolve::{evolve_host_subhaloes, integrate_test_particle, SubhaloResult, SubhaloStatus};
+pub use integrate::Tolerances;
+
+/// Choices for the subhalo orbits.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct OrbitOptions {
+    /// Relative tolerance of the orbit integrator.
+    pub rtol: f64,
+    /// Dynamical friction on/off.
+    pub friction: bool,
+    /// Tidal stripping on/off.
+    pub stripping: bool,
+    /// alpha_s of the mass-loss rate.
+    pub stripping_alpha: f64,
+    /// Physical disruption: bound fraction below this.
+    pub disrupt_bound_fraction: f64,
+    /// Physical disruption: tidal radius below this fraction of the infall scale radius
+    /// (0 = off).
+    pub disrupt_tidal_radius_over_rs: f64,
+    /// Pericentre model: a subhalo whose pericentre comes inside this radius (kpc) is
+    /// counted as destroyed by the disc at that pericentre.
+    pub pericentre_cut_kpc: f64,
+    /// A subhalo of a subhalo orbits its parent at this fraction of the parent's virial
+    /// radius (at the time it fell in) and is released when the parent's tidal radius
+    /// shrinks inside that.
+    pub suborbit_fraction: f64,
+}
+
+impl Default for OrbitOptions {
+    fn default() -> Self {
+        Self {
+            rtol: 1e-5,
+            friction: true,
+            stripping: true,
+            stripping_alpha: 0.55,
+            disrupt_bound_fraction: 1e-3,
+            disrupt_tidal_radius_over_rs: 0.0,
+            pericentre_cut_kpc: 20.0,
+            suborbit_fraction: 0.5,
+        }
+    }
+}
+
+impl OrbitOptions {
+    pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
+        let mut out = Vec::new();
+        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
+            if !ok || !v.is_finite() {
+                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
+            }
+        };
+        chk("rtol", self.rtol, self.rtol >= 1e-12 && self.rtol <= 1e-2, "must be in [1e-12, 1e-2]");
+        chk("stripping_alpha", self.stripping_alpha, self.stripping_alpha > 0.0 && self.stripping_alpha <= 20.0, "must be in (0, 20]");
+        chk("disrupt_bound_fraction", self.disrupt_bound_fraction, (0.0..1.0).contains(&self.disrupt_bound_fraction), "must be in [0, 1)");
+        chk("disrupt_tidal_radius_over_rs", self.disrupt_tidal_radius_over_rs, (0.0..10.0).contains(&self.disrupt_tidal_radius_over_rs), "must be in [0, 10)");
+        chk("pericentre_cut_kpc", self.pericentre_cut_kpc, (0.0..=200.0).contains(&self.pericentre_cut_kpc), "must be in [0, 200] kpc");
+        chk("suborbit_fraction", self.suborbit_fraction, self.suborbit_fraction > 0.0 && self.suborbit_fraction <= 1.0, "must be in (0, 1]");
+        out
+    }
+}
