@@ -35,8 +35,7 @@ pub const DELTA_C_EDS: f64 = 1.686_470_199_841_145;
 
 /// G in kpc^3 / (Msun Gyr^2): G_KPC_KMS2_PER_MSUN * KMS_IN_KPC_PER_GYR^2. Orbits are
 /// integrated in kpc, kpc/Gyr and Gyr.
-pub const G_KPC3_PER_MSUN_GYR2: f64 =
-    G_KPC_KMS2_PER_MSUN * KMS_IN_KPC_PER_GYR * KMS_IN_KPC_PER_GYR;
+pub const G_KPC3_PER_MSUN_GYR2: f64 = G_KPC_KMS2_PER_MSUN * KMS_IN_KPC_PER_GYR * KMS_IN_KPC_PER_GYR;
 
 /// Kiloparsecs per megaparsec.
 pub const KPC_PER_MPC: f64 = 1.0e3;

@@ -14,11 +14,13 @@ use retinue::orbits::{integrate_test_particle, Tolerances};
 use retinue::{Cosmology, LinearTheory};
 
 #[derive(Debug, Args)]
-#[command(after_help = "Example:\n  retinue orbit --config configs/milky-way.toml --pos 50,0,10 --vel 0,120,40 --gyr 8\n\n\
+#[command(
+    after_help = "Example:\n  retinue orbit --config configs/milky-way.toml --pos 50,0,10 --vel 0,120,40 --gyr 8\n\n\
 The host is the configured halo (mass history: the median of Correa et al. 2015 ending at\n\
 [host] mass_msun) with its disc and bulge. Without --static the orbit runs from --gyr before\n\
 z_final to z_final in the evolving host and t_gyr is cosmic time; with --static the potential\n\
-is frozen at z_final and t_gyr counts from 0. Pericentres and apocentres go to stderr.")]
+is frozen at z_final and t_gyr counts from 0. Pericentres and apocentres go to stderr."
+)]
 pub struct OrbitArgs {
     /// Run configuration (TOML) defining [cosmology] and [host].
     #[arg(long)]
@@ -58,10 +60,14 @@ pub fn run(a: OrbitArgs) -> Result<(), CliError> {
     let x0 = vec3("--pos", &a.pos)?;
     let v0 = vec3("--vel", &a.vel)?;
     if x0 == [0.0; 3] {
-        return Err(CliError::Usage("--pos = 0,0,0 is not allowed: the host centre is singular".into()));
+        return Err(CliError::Usage(
+            "--pos = 0,0,0 is not allowed: the host centre is singular".into(),
+        ));
     }
-    let cosmo = Cosmology::new(cfg.cosmology.clone()).map_err(|e| CliError::Usage(e.to_string()))?;
-    let lt = LinearTheory::new(cosmo, cfg.linear.clone()).map_err(|e| CliError::Usage(e.to_string()))?;
+    let cosmo =
+        Cosmology::new(cfg.cosmology.clone()).map_err(|e| CliError::Usage(e.to_string()))?;
+    let lt =
+        LinearTheory::new(cosmo, cfg.linear.clone()).map_err(|e| CliError::Usage(e.to_string()))?;
     let z_final = cfg.file.host.z_final;
     let t_final = lt.cosmology().age_gyr(z_final);
     let max_gyr = if a.fixed { 100.0 } else { t_final - 0.2 };
@@ -69,17 +75,34 @@ pub fn run(a: OrbitArgs) -> Result<(), CliError> {
         return Err(CliError::Usage(format!(
             "--gyr = {} is not allowed: must be in (0, {max_gyr:.2}] Gyr{}",
             a.gyr,
-            if a.fixed { "" } else { " (from the universe's age at 0.2 Gyr to z_final)" }
+            if a.fixed {
+                ""
+            } else {
+                " (from the universe's age at 0.2 Gyr to z_final)"
+            }
         )));
     }
     if !(a.dt > 0.0 && a.dt <= a.gyr) {
-        return Err(CliError::Usage(format!("--dt = {} is not allowed: must be in (0, --gyr]", a.dt)));
+        return Err(CliError::Usage(format!(
+            "--dt = {} is not allowed: must be in (0, --gyr]",
+            a.dt
+        )));
     }
     if !(1e-14..=1e-3).contains(&a.rtol) {
-        return Err(CliError::Usage(format!("--rtol = {} is not allowed: must be in [1e-14, 1e-3]", a.rtol)));
+        return Err(CliError::Usage(format!(
+            "--rtol = {} is not allowed: must be in [1e-14, 1e-3]",
+            a.rtol
+        )));
     }
     let t_start = t_final - a.gyr;
-    let evolving = median_host(&lt, cfg.host_mass_msun, cfg.host_mass_definition, z_final, &cfg.host, t_start.min(t_final - 1e-3));
+    let evolving = median_host(
+        &lt,
+        cfg.host_mass_msun,
+        cfg.host_mass_definition,
+        z_final,
+        &cfg.host,
+        t_start.min(t_final - 1e-3),
+    );
     let (host, t0, t1) = if a.fixed {
         (EvolvingHost::fixed(evolving.snapshot(t_final)), 0.0, a.gyr)
     } else {

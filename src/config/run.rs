@@ -159,10 +159,18 @@ impl RunConfig {
             ));
         }
         if !(h.mass_msun >= 1e8 && h.mass_msun <= 1e16) {
-            problems.push(InvalidValue::new("host.mass_msun", h.mass_msun, "must be in [1e8, 1e16] Msun"));
+            problems.push(InvalidValue::new(
+                "host.mass_msun",
+                h.mass_msun,
+                "must be in [1e8, 1e16] Msun",
+            ));
         }
         if !(0.0..20.0).contains(&h.z_final) {
-            problems.push(InvalidValue::new("host.z_final", h.z_final, "must be in [0, 20)"));
+            problems.push(InvalidValue::new(
+                "host.z_final",
+                h.z_final,
+                "must be in [0, 20)",
+            ));
         }
         let conc = ConcentrationModel::parse(&h.concentration);
         if conc.is_none() {
@@ -194,7 +202,10 @@ impl RunConfig {
             problems.push(InvalidValue::new(
                 "trees.resolution_msun",
                 t.resolution_msun,
-                format!("must be positive and below half the host mass ({:e} Msun)", 0.5 * h.mass_msun),
+                format!(
+                    "must be positive and below half the host mass ({:e} Msun)",
+                    0.5 * h.mass_msun
+                ),
             ));
         }
         if !(t.z_max > h.z_final && t.z_max <= 100.0) {
@@ -205,7 +216,11 @@ impl RunConfig {
             ));
         }
         if !(2..=10_000).contains(&t.output_steps) {
-            problems.push(InvalidValue::new("trees.output_steps", t.output_steps, "must be in [2, 10000]"));
+            problems.push(InvalidValue::new(
+                "trees.output_steps",
+                t.output_steps,
+                "must be in [2, 10000]",
+            ));
         }
         problems.extend(file.orbits.problems("orbits."));
         if !problems.is_empty() {

@@ -71,11 +71,36 @@ impl DiscBulgeParams {
                 out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
             }
         };
-        chk("disc_mass_msun", self.disc_mass_msun, (0.0..=1e12).contains(&self.disc_mass_msun), "must be in [0, 1e12] Msun");
-        chk("disc_a_kpc", self.disc_a_kpc, self.disc_a_kpc > 0.0 && self.disc_a_kpc <= 50.0, "must be in (0, 50] kpc");
-        chk("disc_b_kpc", self.disc_b_kpc, self.disc_b_kpc > 0.0 && self.disc_b_kpc <= 10.0, "must be in (0, 10] kpc");
-        chk("bulge_mass_msun", self.bulge_mass_msun, (0.0..=1e12).contains(&self.bulge_mass_msun), "must be in [0, 1e12] Msun");
-        chk("bulge_a_kpc", self.bulge_a_kpc, self.bulge_a_kpc > 0.0 && self.bulge_a_kpc <= 20.0, "must be in (0, 20] kpc");
+        chk(
+            "disc_mass_msun",
+            self.disc_mass_msun,
+            (0.0..=1e12).contains(&self.disc_mass_msun),
+            "must be in [0, 1e12] Msun",
+        );
+        chk(
+            "disc_a_kpc",
+            self.disc_a_kpc,
+            self.disc_a_kpc > 0.0 && self.disc_a_kpc <= 50.0,
+            "must be in (0, 50] kpc",
+        );
+        chk(
+            "disc_b_kpc",
+            self.disc_b_kpc,
+            self.disc_b_kpc > 0.0 && self.disc_b_kpc <= 10.0,
+            "must be in (0, 10] kpc",
+        );
+        chk(
+            "bulge_mass_msun",
+            self.bulge_mass_msun,
+            (0.0..=1e12).contains(&self.bulge_mass_msun),
+            "must be in [0, 1e12] Msun",
+        );
+        chk(
+            "bulge_a_kpc",
+            self.bulge_a_kpc,
+            self.bulge_a_kpc > 0.0 && self.bulge_a_kpc <= 20.0,
+            "must be in (0, 20] kpc",
+        );
         out
     }
 }
@@ -99,7 +124,7 @@ impl Default for HostOptions {
 const N_T: usize = 128;
 const N_R: usize = 64;
 const LNX_MIN: f64 = -9.210_340_371_976_182; // ln 1e-4
-const LNX_MAX: f64 = 2.302_585_092_994_046; // ln 10
+const LNX_MAX: f64 = std::f64::consts::LN_10;
 
 /// The host's potential and velocity dispersion as functions of cosmic time.
 #[derive(Debug, Clone)]
@@ -188,7 +213,13 @@ impl EvolvingHost {
             let c = match options.concentration {
                 ConcentrationModel::Zhao09 => match t_at_ln_m((0.04 * m).ln()) {
                     Some(t04) if t04 > 0.0 => zhao09::concentration(t, t04),
-                    _ => c_of_m(ConcentrationModel::DuttonMaccio14, cosmo, m, z, MassDefinition::Vir),
+                    _ => c_of_m(
+                        ConcentrationModel::DuttonMaccio14,
+                        cosmo,
+                        m,
+                        z,
+                        MassDefinition::Vir,
+                    ),
                 },
                 other => c_of_m(other, cosmo, m, z, MassDefinition::Vir),
             };

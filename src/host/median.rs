@@ -35,7 +35,8 @@ pub fn median_host(
         // from z_final to z = 12, uniform in ln(1+z)
         let lz = (1.0 + z_final).ln() + (13.0f64.ln() - (1.0 + z_final).ln()) * i as f64 / 199.0;
         let z = lz.exp() - 1.0;
-        let ratio = correa15::mass_ratio(alpha, beta, z) / correa15::mass_ratio(alpha, beta, z_final);
+        let ratio =
+            correa15::mass_ratio(alpha, beta, z) / correa15::mass_ratio(alpha, beta, z_final);
         let mvir = conv(m200 * ratio, z, MassDefinition::C200, MassDefinition::Vir);
         pts.push((c.age_gyr(z), mvir.ln()));
     }

@@ -111,6 +111,33 @@ impl HostSnapshot {
     }
 }
 
+impl HostSnapshot {
+    /// Acceleration at x together with the spherical (halo + bulge) mass inside |x| that the
+    /// force used, so callers that need M(<r) do not recompute it.
+    #[inline]
+    pub fn accel_and_spherical_mass(&self, x: [f64; 3]) -> ([f64; 3], f64) {
+        let r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
+        let r = r2.sqrt().max(1e-12);
+        let m_sph = self.m_s * mu(r / self.r_s)
+            + self.m_bulge * r2 / ((r + self.a_bulge) * (r + self.a_bulge));
+        let gs = -G * m_sph / (r2 * r);
+        let big_r2 = x[0] * x[0] + x[1] * x[1];
+        let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
+        let az = self.a_disc + zeta;
+        let d2 = big_r2 + az * az;
+        let d3 = d2 * d2.sqrt();
+        let gd = -G * self.m_disc / d3;
+        (
+            [
+                gs * x[0] + gd * x[0],
+                gs * x[1] + gd * x[1],
+                gs * x[2] + gd * x[2] * az / zeta,
+            ],
+            m_sph,
+        )
+    }
+}
+
 impl Potential for HostSnapshot {
     #[inline]
     fn phi(&self, x: [f64; 3]) -> f64 {
@@ -131,24 +158,8 @@ impl Potential for HostSnapshot {
 
     #[inline]
     fn accel(&self, x: [f64; 3]) -> [f64; 3] {
-        let r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
-        let r = r2.sqrt().max(1e-12);
-        // spherical parts: g = -G M(<r)/r^3 x
-        let m_sph = self.m_s * mu(r / self.r_s)
-            + self.m_bulge * r2 / ((r + self.a_bulge) * (r + self.a_bulge));
-        let gs = -G * m_sph / (r2 * r);
-        // Miyamoto–Nagai
-        let big_r2 = x[0] * x[0] + x[1] * x[1];
-        let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
-        let az = self.a_disc + zeta;
-        let d2 = big_r2 + az * az;
-        let d3 = d2 * d2.sqrt();
-        let gd = -G * self.m_disc / d3;
-        [
-            gs * x[0] + gd * x[0],
-            gs * x[1] + gd * x[1],
-            gs * x[2] + gd * x[2] * az / zeta,
-        ]
+        // spherical parts g = -G M(<r)/r^3 x; Miyamoto–Nagai exact
+        self.accel_and_spherical_mass(x).0
     }
 
     #[inline]
@@ -188,7 +199,8 @@ pub fn disc_sphere_fraction(x: f64, beta: f64) -> f64 {
         }
         t
     });
-    let u = ((x.max(1e-300).ln() - LX0) / (LX1 - LX0) * (NX - 1) as f64).clamp(0.0, (NX - 1) as f64);
+    let u =
+        ((x.max(1e-300).ln() - LX0) / (LX1 - LX0) * (NX - 1) as f64).clamp(0.0, (NX - 1) as f64);
     let v = ((beta.ln() - LB0) / (LB1 - LB0) * (NB - 1) as f64).clamp(0.0, (NB - 1) as f64);
     // 4-point Lagrange weights (cubic) in each direction, stencil kept inside the table
     let stencil = |w: f64, n: usize| -> (usize, [f64; 4]) {
@@ -264,7 +276,12 @@ mod tests {
     #[test]
     fn force_is_minus_gradient() {
         let p = mw();
-        for x in [[5.0, 1.0, 0.3], [-20.0, 7.0, 4.0], [120.0, -80.0, 60.0], [0.7, 0.2, -0.1]] {
+        for x in [
+            [5.0, 1.0, 0.3],
+            [-20.0, 7.0, 4.0],
+            [120.0, -80.0, 60.0],
+            [0.7, 0.2, -0.1],
+        ] {
             let a = p.accel(x);
             for k in 0..3 {
                 let h = 1e-5 * (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).sqrt();
@@ -273,7 +290,11 @@ mod tests {
                 xp[k] += h;
                 xm[k] -= h;
                 let g = -(p.phi(xp) - p.phi(xm)) / (2.0 * h);
-                assert!((g - a[k]).abs() < 1e-6 * a[k].abs().max(1e-3 * g.abs().max(1.0)), "{x:?} {k}: {g} vs {}", a[k]);
+                assert!(
+                    (g - a[k]).abs() < 1e-6 * a[k].abs().max(1e-3 * g.abs().max(1.0)),
+                    "{x:?} {k}: {g} vs {}",
+                    a[k]
+                );
             }
         }
     }

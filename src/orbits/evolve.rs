@@ -92,17 +92,25 @@ fn vel(y: &State) -> [f64; 3] {
     [y[3], y[4], y[5]]
 }
 
-/// Right-hand side: host gravity plus friction on mass m.
+/// Coulomb logarithm at the satellite's position (held fixed over one integrator step: it
+/// changes only logarithmically with radius).
 #[inline]
-fn rhs(host: &EvolvingHost, friction: bool, m: f64, t: f64, y: &State) -> State {
+fn coulomb_log_at(host: &EvolvingHost, t: f64, y: &State, m: f64) -> f64 {
+    let s = host.snapshot(t);
+    friction::coulomb_log(s.mass_enclosed(norm(pos(y))), m)
+}
+
+/// Right-hand side: host gravity plus friction on mass m with Coulomb logarithm `ll`
+/// (friction off when `ll` <= 0).
+#[inline]
+fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
     let s = host.snapshot(t);
     let x = pos(y);
     let mut a = s.accel(x);
-    if friction && m > 0.0 {
+    if ll > 0.0 && m > 0.0 {
         let r = norm(x);
         let rho = s.friction_density(r);
         let sig = host.sigma(r, t);
-        let ll = friction::coulomb_log(s.mass_enclosed(r), m);
         let af = friction::acceleration(vel(y), rho, sig, m, ll);
         a[0] += af[0];
         a[1] += af[1];
@@ -194,7 +202,11 @@ impl Tracker {
                     self.t_peri_first = t;
                     self.r_peri_first = r;
                 }
-                self.r_peri_min = if self.r_peri_min.is_nan() { r } else { self.r_peri_min.min(r) };
+                self.r_peri_min = if self.r_peri_min.is_nan() {
+                    r
+                } else {
+                    self.r_peri_min.min(r)
+                };
                 self.t_peri_last = t;
                 self.r_peri_last = r;
                 if r < r_cut && self.t_disrupt_peri.is_nan() {
@@ -225,6 +237,8 @@ impl Tracker {
 struct Release {
     t: f64,
     y: State,
+    /// The carrier's last inward crossing of the host's virial radius so far.
+    t_last_infall: f64,
 }
 
 /// Evolve every accretion of a host. `rng` is the host's orbit stream; results come in the
@@ -249,11 +263,8 @@ pub fn evolve_host_subhaloes<R: Rng>(
     for (i, a) in accs.iter().enumerate() {
         if a.order > 1 {
             if let Some(pi) = hist.accretion_index(a.into_branch) {
-                let r_vir_p = MassDefinition::Vir.radius_kpc(
-                    cosmo,
-                    a.m_host_at_infall_msun,
-                    a.z_infall,
-                );
+                let r_vir_p =
+                    MassDefinition::Vir.radius_kpc(cosmo, a.m_host_at_infall_msun, a.z_infall);
                 children[pi].push((i, options.suborbit_fraction * r_vir_p));
             }
         }
@@ -264,7 +275,13 @@ pub fn evolve_host_subhaloes<R: Rng>(
     for i in 0..n {
         let a = &accs[i];
         let z_acc = a.z_infall;
-        let c_acc = c_of_m(ConcentrationModel::DuttonMaccio14, cosmo, a.m_infall_msun, z_acc, MassDefinition::Vir);
+        let c_acc = c_of_m(
+            ConcentrationModel::DuttonMaccio14,
+            cosmo,
+            a.m_infall_msun,
+            z_acc,
+            MassDefinition::Vir,
+        );
         let r_vir_acc = MassDefinition::Vir.radius_kpc(cosmo, a.m_infall_msun, z_acc);
         let structure = SubhaloStructure::nfw(a.m_infall_msun, r_vir_acc, c_acc);
         let mut res = SubhaloResult {
@@ -310,6 +327,7 @@ pub fn evolve_host_subhaloes<R: Rng>(
             Some(Release {
                 t: t_acc,
                 y: initial_state(s.r_vir, v_vir, u, x, rng),
+                t_last_infall: t_acc,
             })
         } else {
             release[i]
@@ -346,6 +364,28 @@ pub fn evolve_host_subhaloes<R: Rng>(
     out
 }
 
+/// Evolve one first-order accretion (no sub-subhaloes) from its infall to `t_end`.
+pub fn evolve_subhalo<R: Rng>(
+    lt: &LinearTheory,
+    host: &EvolvingHost,
+    options: &OrbitOptions,
+    a: &crate::trees::Accretion,
+    t_end: f64,
+    rng: &mut R,
+) -> SubhaloResult {
+    let mut h = HostHistory::default();
+    let mut a1 = a.clone();
+    a1.order = 1;
+    a1.into_branch = 0;
+    a1.branch = 1;
+    a1.group = 1;
+    h.accretions.push(a1);
+    h.set_branch_index(vec![usize::MAX, 0]);
+    evolve_host_subhaloes(lt, &h, host, options, t_end, rng)
+        .pop()
+        .expect("one result")
+}
+
 /// Integrate one subhalo from its release to t_end; fill `res`; return the releases of its
 /// children (accretion index, state).
 #[allow(clippy::too_many_arguments)]
@@ -372,17 +412,29 @@ fn integrate_subhalo(
     let mut r_t = f64::INFINITY;
     let mut prof_m = m;
     let mut prof = structure.profile(m);
-    let mut tracker = Tracker::new(t);
+    let mut tracker = Tracker::new(start.t_last_infall);
     let mut dopri = Dopri5::new(tol, 1e-3, 0.1);
     let mut physical_end = false;
     // Friction is negligible for m < 1e-4 M_vir (sinking times > 1e3 host dynamical times;
     // physics reference sheet sec. 9: negligible below 1e-3 within a Hubble time); skipping
     // it there saves most of the cost for the many small subhaloes.
+    let (mut last_m, mut last_ll) = (m, f64::INFINITY);
     let friction_on = |m: f64, t: f64| options.friction && m > 1e-4 * host.snapshot(t).m_vir;
     while t < t_end {
         let m_now = m;
         let fr = friction_on(m, t);
-        let mut f = |tt: f64, yy: &State| rhs(host, fr, m_now, tt, yy);
+        let ll = if fr {
+            coulomb_log_at(host, t, &y, m)
+        } else {
+            0.0
+        };
+        if fr && ((m / last_m - 1.0).abs() > 1e-3 || (ll / last_ll - 1.0).abs() > 1e-3) {
+            // the friction term changed: the stored first-stage derivative is stale
+            dopri.reset_derivative();
+            last_m = m;
+            last_ll = ll;
+        }
+        let mut f = |tt: f64, yy: &State| rhs(host, ll, m_now, tt, yy);
         let (t1, y1) = dopri.step(&mut f, t, &y, t_end);
         tracker.step(host, t, &y, t1, &y1, options.pericentre_cut_kpc);
         let h = t1 - t;
@@ -393,7 +445,11 @@ fn integrate_subhalo(
             let x = pos(&y);
             let v = vel(&y);
             let r = norm(x);
-            let l = [x[1] * v[2] - x[2] * v[1], x[2] * v[0] - x[0] * v[2], x[0] * v[1] - x[1] * v[0]];
+            let l = [
+                x[1] * v[2] - x[2] * v[1],
+                x[2] * v[0] - x[0] * v[2],
+                x[0] * v[1] - x[1] * v[0],
+            ];
             let omega2 = dot(l, l) / (r * r * r * r);
             let denom = omega2 - s.d2phi_dr2(x);
             if m != prof_m {
@@ -404,14 +460,18 @@ fn integrate_subhalo(
             let (m_t, _) = structure.enclosed_with(prof, r_t, m);
             let t_dyn = Stripping::t_dyn(r, s.mass_enclosed(r));
             let m_new = strip.step(m, m_t, h, t_dyn);
-            if fr && (m_new / m - 1.0).abs() > 1e-3 {
-                dopri.reset_derivative();
-            }
             m = m_new;
             // release children whose orbit now lies outside the tidal radius
             pending.retain(|&(k, r_orb)| {
                 if r_orb > r_t {
-                    released.push((k, Release { t, y }));
+                    released.push((
+                        k,
+                        Release {
+                            t,
+                            y,
+                            t_last_infall: tracker.t_last_infall,
+                        },
+                    ));
                     false
                 } else {
                     true
@@ -430,7 +490,14 @@ fn integrate_subhalo(
     // remaining children leave at the end of the parent's life (if it was disrupted)
     if physical_end {
         for (k, _) in pending.drain(..) {
-            released.push((k, Release { t, y }));
+            released.push((
+                k,
+                Release {
+                    t,
+                    y,
+                    t_last_infall: tracker.t_last_infall,
+                },
+            ));
         }
     }
     let x = pos(&y);
@@ -454,7 +521,10 @@ fn integrate_subhalo(
     res.vmax_kms = vmax / KMS;
     res.rmax_kpc = rmax;
     res.backsplash = !physical_end && tracker.been_inside && r > host.snapshot(t).r_vir;
-    STEPS.fetch_add(dopri.accepted + dopri.rejected, std::sync::atomic::Ordering::Relaxed);
+    STEPS.fetch_add(
+        dopri.accepted + dopri.rejected,
+        std::sync::atomic::Ordering::Relaxed,
+    );
     res.status = if physical_end {
         SubhaloStatus::DisruptedPhysical
     } else {
@@ -477,6 +547,22 @@ pub fn integrate_test_particle(
     dt_out: f64,
     tol: Tolerances,
 ) -> Track {
+    integrate_point_mass(host, x0_kpc, v0_kms, 0.0, t0, t1, dt_out, tol)
+}
+
+/// As `integrate_test_particle`, for a satellite of fixed mass `m_msun` that feels
+/// dynamical friction (m = 0: no friction).
+#[allow(clippy::too_many_arguments)]
+pub fn integrate_point_mass(
+    host: &EvolvingHost,
+    x0_kpc: [f64; 3],
+    v0_kms: [f64; 3],
+    m_msun: f64,
+    t0: f64,
+    t1: f64,
+    dt_out: f64,
+    tol: Tolerances,
+) -> Track {
     let mut y: State = [
         x0_kpc[0],
         x0_kpc[1],
@@ -490,10 +576,21 @@ pub fn integrate_test_particle(
     let mut out = vec![(t, to_kms(&y))];
     let (mut peri, mut apo) = (Vec::new(), Vec::new());
     let mut dopri = Dopri5::new(tol, 1e-4, dt_out.max(1e-6));
-    let mut f = |tt: f64, yy: &State| rhs(host, false, 0.0, tt, yy);
+    let mut f = |tt: f64, yy: &State| {
+        let ll = if m_msun > 0.0 {
+            coulomb_log_at(host, tt, yy, m_msun)
+        } else {
+            0.0
+        };
+        rhs(host, ll, m_msun, tt, yy)
+    };
     let n_out = ((t1 - t0) / dt_out).round().max(1.0) as usize;
     for k in 1..=n_out {
-        let t_next = if k == n_out { t1 } else { t0 + dt_out * k as f64 };
+        let t_next = if k == n_out {
+            t1
+        } else {
+            t0 + dt_out * k as f64
+        };
         while t < t_next {
             let (tn, yn) = dopri.step(&mut f, t, &y, t_next);
             let h = tn - t;

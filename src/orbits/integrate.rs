@@ -122,16 +122,27 @@ impl Dopri5 {
             }
             let k2 = f(t + C2 * h, &axpy(y, h, &[(A21, &k1)]));
             let k3 = f(t + C3 * h, &axpy(y, h, &[(A31, &k1), (A32, &k2)]));
-            let k4 = f(t + C4 * h, &axpy(y, h, &[(A41, &k1), (A42, &k2), (A43, &k3)]));
+            let k4 = f(
+                t + C4 * h,
+                &axpy(y, h, &[(A41, &k1), (A42, &k2), (A43, &k3)]),
+            );
             let k5 = f(
                 t + C5 * h,
                 &axpy(y, h, &[(A51, &k1), (A52, &k2), (A53, &k3), (A54, &k4)]),
             );
             let k6 = f(
                 t + h,
-                &axpy(y, h, &[(A61, &k1), (A62, &k2), (A63, &k3), (A64, &k4), (A65, &k5)]),
+                &axpy(
+                    y,
+                    h,
+                    &[(A61, &k1), (A62, &k2), (A63, &k3), (A64, &k4), (A65, &k5)],
+                ),
             );
-            let y_new = axpy(y, h, &[(A71, &k1), (A73, &k3), (A74, &k4), (A75, &k5), (A76, &k6)]);
+            let y_new = axpy(
+                y,
+                h,
+                &[(A71, &k1), (A73, &k3), (A74, &k4), (A75, &k5), (A76, &k6)],
+            );
             let k7 = f(t + h, &y_new);
             // error estimate, RMS norm over components
             let mut err2 = 0.0;
@@ -174,7 +185,11 @@ mod tests {
     #[test]
     fn harmonic_oscillator() {
         let mut f = |_t: f64, y: &State| [y[3], y[4], y[5], -y[0], -y[1], -y[2]];
-        let tol = Tolerances { rtol: 1e-10, atol_pos_kpc: 1e-12, atol_vel_kpc_gyr: 1e-12 };
+        let tol = Tolerances {
+            rtol: 1e-10,
+            atol_pos_kpc: 1e-12,
+            atol_vel_kpc_gyr: 1e-12,
+        };
         let mut d = Dopri5::new(tol, 0.01, 1.0);
         let (mut t, mut y) = (0.0, [1.0, 0.0, 0.0, 0.0, 1.0, 0.0]);
         while t < 20.0 {

@@ -12,7 +12,10 @@ use serde::{Deserialize, Serialize};
 
 use crate::error::InvalidValue;
 
-pub use evolve::{evolve_host_subhaloes, integrate_test_particle, SubhaloResult, SubhaloStatus};
+pub use evolve::{
+    evolve_host_subhaloes, evolve_subhalo, integrate_point_mass, integrate_test_particle,
+    SubhaloResult, SubhaloStatus,
+};
 pub use integrate::Tolerances;
 
 /// Choices for the subhalo orbits.
@@ -64,12 +67,42 @@ impl OrbitOptions {
                 out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
             }
         };
-        chk("rtol", self.rtol, self.rtol >= 1e-12 && self.rtol <= 1e-2, "must be in [1e-12, 1e-2]");
-        chk("stripping_alpha", self.stripping_alpha, self.stripping_alpha > 0.0 && self.stripping_alpha <= 20.0, "must be in (0, 20]");
-        chk("disrupt_bound_fraction", self.disrupt_bound_fraction, (0.0..1.0).contains(&self.disrupt_bound_fraction), "must be in [0, 1)");
-        chk("disrupt_tidal_radius_over_rs", self.disrupt_tidal_radius_over_rs, (0.0..10.0).contains(&self.disrupt_tidal_radius_over_rs), "must be in [0, 10)");
-        chk("pericentre_cut_kpc", self.pericentre_cut_kpc, (0.0..=200.0).contains(&self.pericentre_cut_kpc), "must be in [0, 200] kpc");
-        chk("suborbit_fraction", self.suborbit_fraction, self.suborbit_fraction > 0.0 && self.suborbit_fraction <= 1.0, "must be in (0, 1]");
+        chk(
+            "rtol",
+            self.rtol,
+            self.rtol >= 1e-12 && self.rtol <= 1e-2,
+            "must be in [1e-12, 1e-2]",
+        );
+        chk(
+            "stripping_alpha",
+            self.stripping_alpha,
+            self.stripping_alpha > 0.0 && self.stripping_alpha <= 20.0,
+            "must be in (0, 20]",
+        );
+        chk(
+            "disrupt_bound_fraction",
+            self.disrupt_bound_fraction,
+            (0.0..1.0).contains(&self.disrupt_bound_fraction),
+            "must be in [0, 1)",
+        );
+        chk(
+            "disrupt_tidal_radius_over_rs",
+            self.disrupt_tidal_radius_over_rs,
+            (0.0..10.0).contains(&self.disrupt_tidal_radius_over_rs),
+            "must be in [0, 10)",
+        );
+        chk(
+            "pericentre_cut_kpc",
+            self.pericentre_cut_kpc,
+            (0.0..=200.0).contains(&self.pericentre_cut_kpc),
+            "must be in [0, 200] kpc",
+        );
+        chk(
+            "suborbit_fraction",
+            self.suborbit_fraction,
+            self.suborbit_fraction > 0.0 && self.suborbit_fraction <= 1.0,
+            "must be in (0, 1]",
+        );
         out
     }
 }

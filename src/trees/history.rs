@@ -123,6 +123,11 @@ impl HostHistory {
         h
     }
 
+    /// Replace the branch -> accretion index map (for histories assembled by hand).
+    pub fn set_branch_index(&mut self, map: Vec<usize>) {
+        self.branch_to_acc = map;
+    }
+
     /// Index into `accretions` of branch b (None for the main branch).
     pub fn accretion_index(&self, b: u32) -> Option<usize> {
         self.branch_to_acc
