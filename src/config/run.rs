@@ -6,6 +6,8 @@
 //! [host]        # host mass, concentration, disc and bulge
 //! [trees]       # merger-tree resolution and sampler
 //! [orbits]      # integration, friction, stripping, disruption
+//! [galaxies]    # stellar-mass–halo-mass relation, scatter, occupation, luminosity
+//! [survey]      # observer position and survey completeness
 //! ```
 
 use std::path::Path;
@@ -16,6 +18,8 @@ use super::cosmology::CosmologySection;
 use super::{one_line, ConfigProblems};
 use crate::cosmology::CosmologyParams;
 use crate::error::InvalidValue;
+use crate::galaxies::observability::SurveyOptions;
+use crate::galaxies::GalaxyOptions;
 use crate::halo::concentration::ConcentrationModel;
 use crate::halo::MassDefinition;
 use crate::host::{DiscBulgeParams, HostOptions};
@@ -101,6 +105,10 @@ pub struct RunConfigFile {
     pub trees: TreesSection,
     #[serde(default)]
     pub orbits: OrbitOptions,
+    #[serde(default)]
+    pub galaxies: GalaxyOptions,
+    #[serde(default)]
+    pub survey: SurveyOptions,
 }
 
 /// A validated configuration.
@@ -223,6 +231,8 @@ impl RunConfig {
             ));
         }
         problems.extend(file.orbits.problems("orbits."));
+        problems.extend(file.galaxies.problems("galaxies."));
+        problems.extend(file.survey.problems("survey."));
         if !problems.is_empty() {
             return Err(ConfigProblems(problems));
         }

@@ -45,6 +45,8 @@ pub struct SubhaloResult {
     pub t_peak_gyr: f64,
     /// Merger time into whatever halo it fell into first (tree).
     pub t_infall_gyr: f64,
+    /// Mass of the halo it fell into then (the host's main branch for order 1), Msun.
+    pub m_host_at_infall_msun: f64,
     /// First crossing of the host's virial radius (its group's merger with the main branch).
     pub t_first_host_infall_gyr: f64,
     /// Last inward crossing of the evolving virial radius.
@@ -293,6 +295,7 @@ pub fn evolve_host_subhaloes<R: Rng>(
             m_peak_msun: a.m_peak_msun,
             t_peak_gyr: a.t_peak_gyr,
             t_infall_gyr: a.t_infall_gyr,
+            m_host_at_infall_msun: a.m_host_at_infall_msun,
             t_first_host_infall_gyr: a.t_host_infall_gyr,
             t_last_host_infall_gyr: a.t_host_infall_gyr,
             t_release_gyr: f64::NAN,

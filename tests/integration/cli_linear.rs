@@ -270,7 +270,9 @@ fn shipped_example_config_is_valid() {
 fn orbit_command() {
     let cfg = concat!(env!("CARGO_MANIFEST_DIR"), "/configs/milky-way.toml");
     // circular speed at 8 kpc in the static potential, from a first short run's stderr
-    let (code, _, err) = run_cli(&["orbit", "--config", cfg, "--pos", "8,0,0", "--vel", "0,200,0", "--gyr", "0.1", "--static"]);
+    let (code, _, err) = run_cli(&[
+        "orbit", "--config", cfg, "--pos", "8,0,0", "--vel", "0,200,0", "--gyr", "0.1", "--static",
+    ]);
     assert_eq!(code, 0, "{err}");
     let vc: f64 = err
         .split("v_c(8 kpc) = ")
@@ -279,18 +281,28 @@ fn orbit_command() {
         .and_then(|s| s.parse().ok())
         .expect("v_c printed");
     let v = format!("0,{vc},0");
-    let (code, out, err) = run_cli(&["orbit", "--config", cfg, "--pos", "8,0,0", "--vel", &v, "--gyr", "2", "--static", "--dt", "0.25"]);
+    let (code, out, err) = run_cli(&[
+        "orbit", "--config", cfg, "--pos", "8,0,0", "--vel", &v, "--gyr", "2", "--static", "--dt",
+        "0.25",
+    ]);
     assert_eq!(code, 0, "{err}");
-    assert_eq!(out.lines().next().unwrap(), "t_gyr,x_kpc,y_kpc,z_kpc,vx_kms,vy_kms,vz_kms");
+    assert_eq!(
+        out.lines().next().unwrap(),
+        "t_gyr,x_kpc,y_kpc,z_kpc,vx_kms,vy_kms,vz_kms"
+    );
     for row in rows(&out) {
         let r = (row[1] * row[1] + row[2] * row[2] + row[3] * row[3]).sqrt();
         // v_c is printed to 0.1 km/s, so the orbit is circular to ~1e-3
         assert!((r - 8.0).abs() < 0.05, "r = {r}");
     }
-    let (code, _, err) = run_cli(&["orbit", "--config", cfg, "--pos", "8,0", "--vel", "0,200,0", "--gyr", "1"]);
+    let (code, _, err) = run_cli(&[
+        "orbit", "--config", cfg, "--pos", "8,0", "--vel", "0,200,0", "--gyr", "1",
+    ]);
     assert_eq!(code, 2);
     assert!(err.contains("--pos"), "{err}");
-    let (code, _, err) = run_cli(&["orbit", "--config", cfg, "--pos", "8,0,0", "--vel", "0,200,0", "--gyr", "20"]);
+    let (code, _, err) = run_cli(&[
+        "orbit", "--config", cfg, "--pos", "8,0,0", "--vel", "0,200,0", "--gyr", "20",
+    ]);
     assert_eq!(code, 2);
     assert!(err.contains("--gyr"), "{err}");
 }

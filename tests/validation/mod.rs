@@ -2,6 +2,7 @@
 //! tolerance. Fixtures: tests/reference (see its README for the generating script).
 
 mod val_cosmology;
+mod val_galaxies;
 mod val_halo;
 mod val_linear;
 mod val_massfunction;
