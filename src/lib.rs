@@ -37,6 +37,7 @@ pub mod massfunction;
 pub mod orbits;
 pub mod rng;
 pub mod special;
+pub mod stats;
 pub mod synth;
 pub mod trees;
 

@@ -1,0 +1,98 @@
+//! The flat view of a run that the statistics work on: one row per subhalo with the columns
+//! the tests need, and one row per host. Built from in-memory host records or read from a
+//! run store, so `retinue infall` can re-run the tests without re-synthesising.
+
+use crate::orbits::SubhaloStatus;
+use crate::synth::HostRecord;
+
+/// Columns of the subhalo table used by the tests.
+#[derive(Debug, Clone, Default)]
+pub struct Catalog {
+    // hosts
+    pub host_id: Vec<u64>,
+    pub host_cosmology: Vec<u16>,
+    pub host_mass_bin: Vec<u16>,
+    pub host_m_vir_msun: Vec<f64>,
+    pub host_r_vir_kpc: Vec<f64>,
+    /// Subhalo rows of host h are offset[h]..offset[h+1].
+    pub offset: Vec<usize>,
+    // subhaloes
+    pub branch: Vec<u32>,
+    pub parent_branch: Vec<u32>,
+    pub order: Vec<u16>,
+    pub m_peak_msun: Vec<f64>,
+    pub m_bound_msun: Vec<f64>,
+    pub t_infall_gyr: Vec<f64>,
+    pub m_host_at_infall_msun: Vec<f64>,
+    pub t_first_host_infall_gyr: Vec<f64>,
+    pub t_last_host_infall_gyr: Vec<f64>,
+    pub r_kpc: Vec<f64>,
+    /// Galactocentric radial velocity today, km/s.
+    pub v_r_kms: Vec<f64>,
+    pub status: Vec<u8>,
+    pub t_disrupt_pericentre_gyr: Vec<f64>,
+    pub backsplash: Vec<bool>,
+    pub occupied: Vec<bool>,
+    pub mstar_msun: Vec<f64>,
+    pub m_v: Vec<f64>,
+    pub observable: Vec<bool>,
+}
+
+impl Catalog {
+    pub fn n_hosts(&self) -> usize {
+        self.host_id.len()
+    }
+
+    pub fn n_subhaloes(&self) -> usize {
+        self.branch.len()
+    }
+
+    /// Rows of host h.
+    pub fn rows(&self, h: usize) -> std::ops::Range<usize> {
+        self.offset[h]..self.offset[h + 1]
+    }
+
+    /// Append one synthesised host.
+    pub fn push_host(&mut self, global_index: u64, rec: &HostRecord) {
+        if self.offset.is_empty() {
+            self.offset.push(0);
+        }
+        self.host_id.push(global_index);
+        self.host_cosmology.push(rec.summary.id.cosmology);
+        self.host_mass_bin.push(rec.summary.id.mass_bin);
+        self.host_m_vir_msun.push(rec.summary.m_vir_msun);
+        self.host_r_vir_kpc.push(rec.summary.r_vir_kpc);
+        for (s, g) in rec.subhaloes.iter().zip(&rec.galaxies) {
+            self.branch.push(s.branch);
+            self.parent_branch.push(s.parent_branch);
+            self.order.push(s.order);
+            self.m_peak_msun.push(s.m_peak_msun);
+            self.m_bound_msun.push(s.m_bound_msun);
+            self.t_infall_gyr.push(s.t_infall_gyr);
+            self.m_host_at_infall_msun.push(s.m_host_at_infall_msun);
+            self.t_first_host_infall_gyr.push(s.t_first_host_infall_gyr);
+            self.t_last_host_infall_gyr.push(s.t_last_host_infall_gyr);
+            self.r_kpc.push(s.r_kpc);
+            let (x, v) = (s.pos_kpc, s.vel_kms);
+            let vr = if s.r_kpc > 0.0 {
+                (x[0] * v[0] + x[1] * v[1] + x[2] * v[2]) / s.r_kpc
+            } else {
+                f64::NAN
+            };
+            self.v_r_kms.push(vr);
+            self.status.push(s.status as u8);
+            self.t_disrupt_pericentre_gyr.push(s.t_disrupt_pericentre_gyr);
+            self.backsplash.push(s.backsplash);
+            self.occupied.push(g.occupied);
+            self.mstar_msun.push(g.mstar_msun);
+            self.m_v.push(g.m_v);
+            self.observable.push(g.observable);
+        }
+        self.offset.push(self.branch.len());
+    }
+
+    /// Whether row i is physically disrupted.
+    pub fn disrupted_physical(&self, i: usize) -> bool {
+        self.status[i] == SubhaloStatus::DisruptedPhysical as u8
+    }
+}

@@ -1,0 +1,18 @@
+//! Infall statistics: the tests users run on the mock hosts. See `docs/methods.md`.
+
+pub mod backsplash;
+pub mod catalog;
+pub mod clocks;
+pub mod draws;
+pub mod intervals;
+pub mod sample;
+pub mod tests;
+
+pub use catalog::Catalog;
+pub use clocks::{clock_times, Clock, ClockTimes, PreprocessingThreshold};
+pub use intervals::{spread, Spread};
+pub use sample::{ObservedObject, ObservedSample};
+pub use selection::{Selection, Survival};
+pub use tests::{run_tests, AnalysisResults, TestOptions};
+
+pub mod selection;

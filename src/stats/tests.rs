@@ -1,0 +1,450 @@
+//! The test battery run on a catalogue of mock hosts.
+//!
+//! 1. All-of-N: per host, draw N satellites without replacement K times and count how often
+//!    all N fell in (by a clock) before redshift z, on a grid of z (Monte Carlo; the exact
+//!    hypergeometric value is stored beside it). Across hosts: median, 16–84% and the mean,
+//!    with bootstrap intervals over hosts.
+//! 2. Fraction-of-N: P(at least a fraction f of N fell in before z) for a range of N, exact
+//!    hypergeometric per host (the infinite-draw limit of the Monte Carlo), summarised over
+//!    hosts.
+//! 3. Quenching-time comparison: N mock satellites drawn per host are paired at random with the
+//!    N observed objects, whose quenching lookback times are perturbed by their errors; with
+//!    an environmental delay tau, the draw is "explained" if every object's infall lookback
+//!    minus tau is at least its quenching lookback. P(tau) over draws and hosts; the largest
+//!    tau with P(tau) >= 1 - confidence is reported.
+//! 4. Phase-space-matched objects: for each observed object, mock satellites within windows in
+//!    distance, radial velocity and stellar mass, pooled over hosts: the infall-time
+//!    distribution and P(infall lookback >= quenching lookback).
+//! 5. Backsplash fraction in a shell outside the host (see `backsplash`).
+//! 6. Dependence on host mass and cosmology: the same numbers per grid cell.
+//!
+//! Random numbers: one stream per host (Stream::Statistics, the host's id), and one for the
+//! bootstrap; results do not depend on thread count.
+
+use rand::Rng;
+use rand_distr::{Distribution, StandardNormal};
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use super::backsplash::BacksplashOptions;
+use super::catalog::Catalog;
+use super::clocks::{clock_times, Clock, ClockTimes, PreprocessingThreshold};
+use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
+use super::intervals::{spread, Spread};
+use super::sample::ObservedSample;
+use super::selection::Selection;
+use crate::error::InvalidValue;
+use crate::galaxies::GalaxyOptions;
+use crate::linear::LinearTheory;
+use crate::rng::{host_rng, HostId, Stream};
+
+/// Windows for phase-space matching.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct MatchWindows {
+    /// Half-width in galactocentric distance, kpc.
+    pub dr_kpc: f64,
+    /// Half-width in radial velocity, km/s.
+    pub dv_kms: f64,
+    /// Half-width in log10 stellar mass, dex.
+    pub dlog_mstar: f64,
+}
+
+impl Default for MatchWindows {
+    fn default() -> Self {
+        Self {
+            dr_kpc: 25.0,
+            dv_kms: 40.0,
+            dlog_mstar: 0.5,
+        }
+    }
+}
+
+/// Settings of the test battery (`[tests]`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct TestOptions {
+    pub selection: Selection,
+    pub preprocessing: PreprocessingThreshold,
+    /// Redshift grid of the probability curves.
+    pub z_grid: Vec<f64>,
+    /// N of all-of-N (default: the observed sample's size, else 11).
+    pub n_draw: Option<usize>,
+    /// Monte Carlo draws per host.
+    pub draws: usize,
+    /// f of fraction-of-N and the range of N.
+    pub fraction: f64,
+    pub n_range: [usize; 2],
+    /// Bootstrap resamples over hosts.
+    pub bootstrap: usize,
+    /// Environmental quenching delays, Gyr.
+    pub delay_grid_gyr: Vec<f64>,
+    /// Confidence for the largest allowed delay.
+    pub confidence: f64,
+    pub match_windows: MatchWindows,
+    pub backsplash: BacksplashOptions,
+}
+
+impl Default for TestOptions {
+    fn default() -> Self {
+        Self {
+            selection: Selection::default(),
+            preprocessing: PreprocessingThreshold::default(),
+            z_grid: (0..=24).map(|i| 0.25 * i as f64).collect(),
+            n_draw: None,
+            draws: 10_000,
+            fraction: 0.75,
+            n_range: [6, 20],
+            bootstrap: 1000,
+            delay_grid_gyr: (0..=24).map(|i| 0.25 * i as f64).collect(),
+            confidence: 0.95,
+            match_windows: MatchWindows::default(),
+            backsplash: BacksplashOptions::default(),
+        }
+    }
+}
+
+impl TestOptions {
+    pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
+        let mut out = self.selection.problems(&format!("{prefix}selection."));
+        out.extend(self.backsplash.problems(&format!("{prefix}backsplash.")));
+        if self.z_grid.is_empty() || self.z_grid.iter().any(|z| !(*z >= 0.0 && *z <= 20.0)) {
+            out.push(InvalidValue::new(format!("{prefix}z_grid"), format!("{:?}", self.z_grid), "must be a non-empty list of redshifts in [0, 20]"));
+        }
+        if !(100..=10_000_000).contains(&self.draws) {
+            out.push(InvalidValue::new(format!("{prefix}draws"), self.draws, "must be in [100, 1e7]"));
+        }
+        if let Some(n) = self.n_draw {
+            if !(1..=1000).contains(&n) {
+                out.push(InvalidValue::new(format!("{prefix}n_draw"), n, "must be in [1, 1000]"));
+            }
+        }
+        if !(self.fraction > 0.0 && self.fraction <= 1.0) {
+            out.push(InvalidValue::new(format!("{prefix}fraction"), self.fraction, "must be in (0, 1]"));
+        }
+        if !(self.n_range[0] >= 1 && self.n_range[0] <= self.n_range[1] && self.n_range[1] <= 1000) {
+            out.push(InvalidValue::new(format!("{prefix}n_range"), format!("{:?}", self.n_range), "must be [lo, hi] with 1 <= lo <= hi <= 1000"));
+        }
+        if !(10..=100_000).contains(&self.bootstrap) {
+            out.push(InvalidValue::new(format!("{prefix}bootstrap"), self.bootstrap, "must be in [10, 100000]"));
+        }
+        if self.delay_grid_gyr.is_empty() || self.delay_grid_gyr.iter().any(|t| !(*t >= 0.0 && *t <= 14.0)) {
+            out.push(InvalidValue::new(format!("{prefix}delay_grid_gyr"), format!("{:?}", self.delay_grid_gyr), "must be a non-empty list in [0, 14] Gyr"));
+        }
+        if !(self.confidence > 0.0 && self.confidence < 1.0) {
+            out.push(InvalidValue::new(format!("{prefix}confidence"), self.confidence, "must be in (0, 1)"));
+        }
+        let w = &self.match_windows;
+        if !(w.dr_kpc > 0.0 && w.dv_kms > 0.0 && w.dlog_mstar > 0.0) {
+            out.push(InvalidValue::new(format!("{prefix}match_windows"), format!("{w:?}"), "all half-widths must be positive"));
+        }
+        out
+    }
+}
+
+/// A probability curve over hosts, on the z (or delay) grid.
+#[derive(Debug, Clone)]
+pub struct Curve {
+    pub x: Vec<f64>,
+    /// Per host (rows = included hosts), values on the grid.
+    pub per_host: Vec<Vec<f64>>,
+    pub spread: Vec<Spread>,
+}
+
+/// Results of the whole battery.
+#[derive(Debug, Clone)]
+pub struct AnalysisResults {
+    pub n_draw: usize,
+    pub selection: Selection,
+    /// Candidates per host (all hosts).
+    pub candidates: Vec<usize>,
+    /// Hosts with fewer candidates than n_draw (host ids), reported and not used.
+    pub hosts_too_few: Vec<u64>,
+    /// All-of-N per clock: Monte Carlo and exact.
+    pub all_of_n_mc: Vec<(Clock, Curve)>,
+    pub all_of_n_exact: Vec<(Clock, Curve)>,
+    /// Fraction-of-N per clock and N (exact).
+    pub fraction_of_n: Vec<(Clock, usize, Curve)>,
+    /// Quenching comparison per clock: P(tau) and the largest allowed tau.
+    pub quench: Vec<(Clock, Curve, f64)>,
+    /// Phase-space matches per object and clock: (object id, clock, pooled infall lookbacks,
+    /// P(infall before quenching) with its spread over hosts, number of matches).
+    pub matches: Vec<(String, Clock, Vec<f64>, Spread, usize)>,
+    /// Backsplash: per-host fractions, mean backsplash count, expected field count.
+    pub backsplash_fraction: Spread,
+    pub backsplash_count_mean: f64,
+    pub field_count_expected: f64,
+    /// Pooled infall lookback times of every selected satellite, per clock.
+    pub infall_lookbacks: Vec<(Clock, Vec<f64>)>,
+    /// Per grid cell: (cosmology index, mass bin, number of hosts, median host mass (Msun),
+    /// median first-infall redshift of selected satellites, mean all-of-N (first infall) at
+    /// z = 2 when 2 is on the grid).
+    pub dependence: Vec<(u16, u16, usize, f64, f64, f64)>,
+}
+
+fn lookback_times(t: &[f64], t0: f64) -> Vec<f64> {
+    t.iter().map(|&x| t0 - x).collect()
+}
+
+/// Run every test. `sample` supplies N (its size), the quenching times and the objects to
+/// match; without it, tests 3 and 4 are skipped and N = `n_draw` (default 11).
+pub fn run_tests(
+    lt: &LinearTheory,
+    galaxies: &GalaxyOptions,
+    cat: &Catalog,
+    options: &TestOptions,
+    sample: Option<&ObservedSample>,
+    master_seed: u64,
+) -> AnalysisResults {
+    let cosmo = lt.cosmology();
+    let t0 = cosmo.age0_gyr();
+    let n_draw = options
+        .n_draw
+        .or(sample.map(|s| s.objects.len()))
+        .unwrap_or(11);
+    let clocks: ClockTimes = clock_times(cat, cosmo, galaxies, &options.preprocessing);
+    let n_hosts = cat.n_hosts();
+    let selected: Vec<Vec<usize>> = (0..n_hosts)
+        .into_par_iter()
+        .map(|h| options.selection.rows(cat, h))
+        .collect();
+    let candidates: Vec<usize> = selected.iter().map(|s| s.len()).collect();
+    let usable: Vec<usize> = (0..n_hosts).filter(|&h| candidates[h] >= n_draw).collect();
+    let hosts_too_few: Vec<u64> = (0..n_hosts)
+        .filter(|&h| candidates[h] < n_draw)
+        .map(|h| cat.host_id[h])
+        .collect();
+    let t_grid: Vec<f64> = options.z_grid.iter().map(|&z| cosmo.age_gyr(z)).collect();
+    let mut boot_rng = host_rng(master_seed, HostId::new(u16::MAX, u16::MAX, u32::MAX), Stream::Statistics);
+    let summarise = |per_host: &Vec<Vec<f64>>, x: &[f64], rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
+        (0..x.len())
+            .map(|k| {
+                let col: Vec<f64> = per_host.iter().map(|row| row[k]).collect();
+                spread(&col, options.bootstrap, rng)
+            })
+            .collect()
+    };
+
+    let mut all_mc = Vec::new();
+    let mut all_ex = Vec::new();
+    let mut frac = Vec::new();
+    let mut quench = Vec::new();
+    let mut infall_lookbacks = Vec::new();
+    for clock in Clock::ALL {
+        let times = clocks.get(clock);
+        let host_times = |h: usize| -> Vec<f64> { selected[h].iter().map(|&i| times[i]).collect() };
+        // 1. all of N
+        let mc: Vec<Vec<f64>> = usable
+            .par_iter()
+            .map(|&h| {
+                let mut rng = host_rng(master_seed, HostId { cosmology: clock as u16, mass_bin: 0, index: cat.host_id[h] as u32 }, Stream::Statistics);
+                p_all_mc(&host_times(h), n_draw, options.draws, &t_grid, &mut rng)
+            })
+            .collect();
+        let ex: Vec<Vec<f64>> = usable
+            .iter()
+            .map(|&h| {
+                let ts = host_times(h);
+                t_grid
+                    .iter()
+                    .map(|&tz| {
+                        let k = ts.iter().filter(|&&t| t < tz).count() as u64;
+                        p_all_exact(ts.len() as u64, k, n_draw as u64)
+                    })
+                    .collect()
+            })
+            .collect();
+        let s_mc = summarise(&mc, &options.z_grid, &mut boot_rng);
+        let s_ex = summarise(&ex, &options.z_grid, &mut boot_rng);
+        all_mc.push((clock, Curve { x: options.z_grid.clone(), per_host: mc, spread: s_mc }));
+        all_ex.push((clock, Curve { x: options.z_grid.clone(), per_host: ex, spread: s_ex }));
+        // 2. fraction of N, exact
+        for n in options.n_range[0]..=options.n_range[1] {
+            let k_min = (options.fraction * n as f64 - 1e-9).ceil() as u64;
+            let per: Vec<Vec<f64>> = (0..n_hosts)
+                .filter(|&h| candidates[h] >= n)
+                .map(|h| {
+                    let ts = host_times(h);
+                    t_grid
+                        .iter()
+                        .map(|&tz| {
+                            let k = ts.iter().filter(|&&t| t < tz).count() as u64;
+                            p_at_least_exact(ts.len() as u64, k, n as u64, k_min)
+                        })
+                        .collect()
+                })
+                .collect();
+            let s = summarise(&per, &options.z_grid, &mut boot_rng);
+            frac.push((clock, n, Curve { x: options.z_grid.clone(), per_host: per, spread: s }));
+        }
+        // 3. quenching-time comparison
+        if let Some(sample) = sample {
+            let n = sample.objects.len();
+            let per: Vec<Vec<f64>> = (0..n_hosts)
+                .filter(|&h| candidates[h] >= n)
+                .collect::<Vec<_>>()
+                .par_iter()
+                .map(|&h| {
+                    let mut rng = host_rng(master_seed, HostId { cosmology: 16 + clock as u16, mass_bin: 0, index: cat.host_id[h] as u32 }, Stream::Statistics);
+                    let lb: Vec<f64> = host_times(h).iter().map(|&t| t0 - t).collect();
+                    let draws = options.draws;
+                    let mut idx: Vec<usize> = (0..lb.len()).collect();
+                    let mut tau_star = Vec::with_capacity(draws);
+                    for _ in 0..draws {
+                        let mut m = f64::INFINITY;
+                        for (j, o) in sample.objects.iter().enumerate() {
+                            let r = rng.random_range(j..lb.len());
+                            idx.swap(j, r);
+                            let g: f64 = StandardNormal.sample(&mut rng);
+                            let q = (o.t_quench_lookback_gyr + o.t_quench_err_gyr * g).max(0.0);
+                            let l = lb[idx[j]];
+                            // largest delay this pairing allows: l - tau >= q
+                            m = m.min(if l.is_nan() { f64::NEG_INFINITY } else { l - q });
+                        }
+                        tau_star.push(m);
+                    }
+                    tau_star.sort_by(|a, b| a.partial_cmp(b).unwrap());
+                    options
+                        .delay_grid_gyr
+                        .iter()
+                        .map(|&tau| 1.0 - tau_star.partition_point(|&v| v < tau) as f64 / draws as f64)
+                        .collect()
+                })
+                .collect();
+            let s = summarise(&per, &options.delay_grid_gyr, &mut boot_rng);
+            let floor = 1.0 - options.confidence;
+            let tau_max = options
+                .delay_grid_gyr
+                .iter()
+                .zip(&s)
+                .filter(|(_, sp)| sp.mean >= floor)
+                .map(|(t, _)| *t)
+                .fold(f64::NAN, f64::max);
+            quench.push((clock, Curve { x: options.delay_grid_gyr.clone(), per_host: per, spread: s }, tau_max));
+        }
+        let pooled: Vec<f64> = selected.iter().flatten().map(|&i| times[i]).filter(|t| t.is_finite()).collect();
+        infall_lookbacks.push((clock, lookback_times(&pooled, t0)));
+    }
+
+    // 4. phase-space matches
+    let mut matches = Vec::new();
+    if let Some(sample) = sample {
+        let w = options.match_windows;
+        for o in &sample.objects {
+            for clock in Clock::ALL {
+                let times = clocks.get(clock);
+                let mut pooled = Vec::new();
+                let mut per_host = Vec::new();
+                for h in 0..n_hosts {
+                    let (mut k, mut early) = (0usize, 0usize);
+                    for i in cat.rows(h) {
+                        let sel = &options.selection;
+                        let alive = !cat.disrupted_physical(i)
+                            && cat.occupied[i]
+                            && (sel.survival == super::selection::Survival::Physical
+                                || !cat.t_disrupt_pericentre_gyr[i].is_finite());
+                        if alive
+                            && (cat.r_kpc[i] - o.r_gc_kpc).abs() <= w.dr_kpc
+                            && (cat.v_r_kms[i] - o.v_r_kms).abs() <= w.dv_kms
+                            && (cat.mstar_msun[i].log10() - o.mstar_msun.log10()).abs() <= w.dlog_mstar
+                            && times[i].is_finite()
+                        {
+                            let lb = t0 - times[i];
+                            pooled.push(lb);
+                            k += 1;
+                            early += (lb >= o.t_quench_lookback_gyr) as usize;
+                        }
+                    }
+                    if k > 0 {
+                        per_host.push(early as f64 / k as f64);
+                    }
+                }
+                let s = spread(&per_host, options.bootstrap, &mut boot_rng);
+                let n = pooled.len();
+                matches.push((o.id.clone(), clock, pooled, s, n));
+            }
+        }
+    }
+
+    // 5. backsplash
+    let b = &options.backsplash;
+    let mut fr = Vec::new();
+    let mut counts = Vec::new();
+    let mut field = 0.0;
+    for h in 0..n_hosts {
+        let rv = cat.host_r_vir_kpc[h];
+        let f_exp = b.field_count(lt, rv);
+        field += f_exp;
+        let n_bs = cat
+            .rows(h)
+            .filter(|&i| {
+                let x = cat.r_kpc[i] / rv;
+                cat.backsplash[i]
+                    && !cat.disrupted_physical(i)
+                    && x >= b.shell_over_rvir[0]
+                    && x <= b.shell_over_rvir[1]
+                    && cat.m_peak_msun[i] >= b.m_peak_msun[0]
+                    && cat.m_peak_msun[i] <= b.m_peak_msun[1]
+            })
+            .count() as f64;
+        counts.push(n_bs);
+        fr.push(if n_bs + f_exp > 0.0 { n_bs / (n_bs + f_exp) } else { f64::NAN });
+    }
+    let backsplash_fraction = spread(&fr, options.bootstrap, &mut boot_rng);
+    let nh = n_hosts.max(1) as f64;
+
+    // 6. dependence on the grid cell
+    let mut cells: Vec<(u16, u16)> = (0..n_hosts).map(|h| (cat.host_cosmology[h], cat.host_mass_bin[h])).collect();
+    cells.sort();
+    cells.dedup();
+    let first = &all_mc[0].1;
+    let k2 = options.z_grid.iter().position(|&z| (z - 2.0).abs() < 1e-9);
+    let dependence = cells
+        .into_iter()
+        .map(|(ci, mi)| {
+            let hosts: Vec<usize> = (0..n_hosts).filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi).collect();
+            let mut zs: Vec<f64> = hosts
+                .iter()
+                .flat_map(|&h| selected[h].iter().map(|&i| clocks.first[i]))
+                .filter(|t| t.is_finite())
+                .map(|t| cosmo.z_at_age(t))
+                .collect();
+            zs.sort_by(|a, b| a.partial_cmp(b).unwrap());
+            let med_z = super::intervals::percentile(&zs, 0.5);
+            let m_med = {
+                let mut m: Vec<f64> = hosts.iter().map(|&h| cat.host_m_vir_msun[h]).collect();
+                m.sort_by(|a, b| a.partial_cmp(b).unwrap());
+                super::intervals::percentile(&m, 0.5)
+            };
+            let p2 = k2
+                .map(|k| {
+                    let v: Vec<f64> = usable
+                        .iter()
+                        .enumerate()
+                        .filter(|(_, &h)| hosts.contains(&h))
+                        .map(|(row, _)| first.per_host[row][k])
+                        .collect();
+                    if v.is_empty() { f64::NAN } else { v.iter().sum::<f64>() / v.len() as f64 }
+                })
+                .unwrap_or(f64::NAN);
+            (ci, mi, hosts.len(), m_med, med_z, p2)
+        })
+        .collect();
+
+    AnalysisResults {
+        n_draw,
+        selection: options.selection.clone(),
+        candidates,
+        hosts_too_few,
+        all_of_n_mc: all_mc,
+        all_of_n_exact: all_ex,
+        fraction_of_n: frac,
+        quench,
+        matches,
+        backsplash_fraction,
+        backsplash_count_mean: counts.iter().sum::<f64>() / nh,
+        field_count_expected: field / nh,
+        infall_lookbacks,
+        dependence,
+    }
+}
