@@ -4,6 +4,7 @@ pub mod cosmo_args;
 pub mod format;
 pub mod linear;
 pub mod orbit;
+pub mod run;
 pub mod tree;
 
 use clap::{Parser, Subcommand};
@@ -29,6 +30,16 @@ pub enum Command {
     Tree(tree::TreeArgs),
     /// Integrate one test-particle orbit in the configured host potential (CSV).
     Orbit(orbit::OrbitArgs),
+    /// Synthesise every host of a configuration, store them, run the tests, write the report.
+    Run(run::RunArgs),
+    /// Run the built-in demo (Milky-Way-mass hosts and an invented observed sample).
+    Demo(run::DemoArgs),
+    /// Validate a configuration without running it.
+    Check(run::CheckArgs),
+    /// Join shard stores into one.
+    Merge(run::MergeArgs),
+    /// Run the infall tests on an existing store.
+    Infall(run::InfallArgs),
 }
 
 /// A command failure with its exit code.
@@ -63,5 +74,10 @@ pub fn run(cli: Cli) -> Result<(), CliError> {
         Command::Linear(c) => linear::run(c),
         Command::Tree(a) => tree::run(a),
         Command::Orbit(a) => orbit::run(a),
+        Command::Run(a) => run::run(a),
+        Command::Demo(a) => run::demo(a),
+        Command::Check(a) => run::check(a),
+        Command::Merge(a) => run::merge(a),
+        Command::Infall(a) => run::infall(a),
     }
 }

@@ -5,7 +5,7 @@ pub mod cosmology;
 pub mod run;
 
 pub use cosmology::CosmologySection;
-pub use run::{RunConfig, RunConfigFile};
+pub use run::{MassBin, OneOrMany, RunConfig, RunConfigFile, RunSection};
 
 use crate::error::InvalidValue;
 
@@ -37,6 +37,11 @@ pub fn cosmology_from_file(path: &std::path::Path) -> Result<CosmologySection, C
             format!("{} has no [cosmology] table", path.display()),
         )])
     })?;
+    // a sweep has an array of [[cosmology]] tables: take the first
+    let section = match section {
+        toml::Value::Array(a) if !a.is_empty() => a[0].clone(),
+        other => other,
+    };
     section.try_into::<CosmologySection>().map_err(|e| {
         ConfigProblems(vec![InvalidValue::new(
             "cosmology",

@@ -25,14 +25,35 @@ use crate::halo::MassDefinition;
 use crate::host::{DiscBulgeParams, HostOptions};
 use crate::linear::LinearOptions;
 use crate::orbits::OrbitOptions;
+use crate::stats::TestOptions;
 use crate::trees::Pch08Params;
+use std::path::PathBuf;
+
+/// One value or a list of values.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum OneOrMany<T> {
+    One(T),
+    Many(Vec<T>),
+}
+
+impl<T: Clone> OneOrMany<T> {
+    pub fn to_vec(&self) -> Vec<T> {
+        match self {
+            OneOrMany::One(v) => vec![v.clone()],
+            OneOrMany::Many(v) => v.clone(),
+        }
+    }
+}
 
 /// `[host]`: the host halo today and its baryons.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
 pub struct HostSection {
-    /// Host mass at z_final, Msun, in `mass_definition`.
-    pub mass_msun: f64,
+    /// Host mass at z_final, Msun, in `mass_definition`: one value or a list (a sweep).
+    pub mass_msun: OneOrMany<f64>,
+    /// Instead of fixed masses: draw each host's mass log-uniformly in [lo, hi] Msun.
+    pub mass_log_uniform_msun: Option<[f64; 2]>,
     pub mass_definition: String,
     pub z_final: f64,
     /// zhao09 (from the host's own history) | duffy08 | dutton14.
@@ -50,7 +71,8 @@ impl Default for HostSection {
     fn default() -> Self {
         let b = DiscBulgeParams::default();
         Self {
-            mass_msun: 1.2e12,
+            mass_msun: OneOrMany::One(1.2e12),
+            mass_log_uniform_msun: None,
             mass_definition: "vir".into(),
             z_final: 0.0,
             concentration: "zhao09".into(),
@@ -94,11 +116,50 @@ impl Default for TreesSection {
     }
 }
 
+/// `[run]`: the grid size, seed, output and parallelism.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct RunSection {
+    pub master_seed: u64,
+    /// Hosts per (cosmology, host mass) cell.
+    pub hosts_per_cell: usize,
+    /// Worker threads (0 = all cores).
+    pub threads: usize,
+    /// Hosts per part file (the unit of crash-safe progress).
+    pub batch_hosts: usize,
+    /// Output store (relative to the working directory).
+    pub output: PathBuf,
+    /// Observed sample (CSV or TOML), relative to the config file.
+    pub sample: Option<PathBuf>,
+}
+
+impl Default for RunSection {
+    fn default() -> Self {
+        Self {
+            master_seed: 1,
+            hosts_per_cell: 100,
+            threads: 0,
+            batch_hosts: 16,
+            output: PathBuf::from("retinue-run.h5"),
+            sample: None,
+        }
+    }
+}
+
+/// How a grid cell's host masses are chosen.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum MassBin {
+    Fixed(f64),
+    LogUniform(f64, f64),
+}
+
 /// The whole file.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct RunConfigFile {
-    pub cosmology: CosmologySection,
+    #[serde(default)]
+    pub run: RunSection,
+    pub cosmology: OneOrMany<CosmologySection>,
     #[serde(default)]
     pub host: HostSection,
     #[serde(default)]
@@ -109,24 +170,34 @@ pub struct RunConfigFile {
     pub galaxies: GalaxyOptions,
     #[serde(default)]
     pub survey: SurveyOptions,
+    #[serde(default)]
+    pub tests: TestOptions,
 }
 
 /// A validated configuration.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RunConfig {
     pub file: RunConfigFile,
+    /// The first cosmology (commands that need one).
     pub cosmology: CosmologyParams,
     pub linear: LinearOptions,
+    /// Every cosmology of the sweep.
+    pub cosmologies: Vec<(CosmologyParams, LinearOptions)>,
+    pub mass_bins: Vec<MassBin>,
+    /// The first fixed host mass (commands that need one).
     pub host_mass_msun: f64,
     pub host_mass_definition: MassDefinition,
     pub host: HostOptions,
     pub pch08: Pch08Params,
+    /// Directory of the config file (resolves relative paths).
+    pub base_dir: Option<PathBuf>,
 }
 
 impl RunConfig {
     /// Parse and validate TOML text; `base_dir` resolves relative paths.
     pub fn parse_str(text: &str, base_dir: Option<&Path>) -> Result<Self, ConfigProblems> {
         let file: RunConfigFile = toml::from_str(text).map_err(|e| {
+            let e: toml::de::Error = e;
             ConfigProblems(vec![InvalidValue::new(
                 "config",
                 "(file)",
@@ -150,27 +221,113 @@ impl RunConfig {
     /// Check every table; all problems at once.
     pub fn validate(file: RunConfigFile, base_dir: Option<&Path>) -> Result<Self, ConfigProblems> {
         let mut problems = Vec::new();
-        let (cosmology, linear) = match file.cosmology.resolve("cosmology.", base_dir) {
-            Ok(v) => (Some(v.0), Some(v.1)),
-            Err(p) => {
-                problems.extend(p);
-                (None, None)
+        let sections = file.cosmology.to_vec();
+        let mut cosmologies = Vec::new();
+        if sections.is_empty() {
+            problems.push(InvalidValue::new(
+                "cosmology",
+                "[]",
+                "at least one cosmology is required",
+            ));
+        }
+        for (i, sec) in sections.iter().enumerate() {
+            let prefix = if sections.len() == 1 {
+                "cosmology.".to_string()
+            } else {
+                format!("cosmology[{i}].")
+            };
+            match sec.resolve(&prefix, base_dir) {
+                Ok(v) => cosmologies.push(v),
+                Err(p) => problems.extend(p),
             }
-        };
+        }
         let h = &file.host;
+        let masses = h.mass_msun.to_vec();
+        let mut mass_bins = Vec::new();
+        if let Some([lo, hi]) = h.mass_log_uniform_msun {
+            if !(lo >= 1e8 && lo < hi && hi <= 1e16) {
+                problems.push(InvalidValue::new(
+                    "host.mass_log_uniform_msun",
+                    format!("[{lo}, {hi}]"),
+                    "must be [lo, hi] with 1e8 <= lo < hi <= 1e16 Msun",
+                ));
+            } else {
+                mass_bins.push(MassBin::LogUniform(lo, hi));
+            }
+        } else {
+            if masses.is_empty() {
+                problems.push(InvalidValue::new(
+                    "host.mass_msun",
+                    "[]",
+                    "give at least one host mass",
+                ));
+            }
+            for m in &masses {
+                if !(*m >= 1e8 && *m <= 1e16) {
+                    problems.push(InvalidValue::new(
+                        "host.mass_msun",
+                        m,
+                        "must be in [1e8, 1e16] Msun",
+                    ));
+                } else {
+                    mass_bins.push(MassBin::Fixed(*m));
+                }
+            }
+        }
+        let m_first = masses.first().copied().unwrap_or(1.2e12);
+        let m_min = match h.mass_log_uniform_msun {
+            Some([lo, _]) => lo,
+            None => masses.iter().copied().fold(f64::INFINITY, f64::min),
+        };
+        let r = &file.run;
+        if !(1..=10_000_000).contains(&r.hosts_per_cell) {
+            problems.push(InvalidValue::new(
+                "run.hosts_per_cell",
+                r.hosts_per_cell,
+                "must be in [1, 1e7]",
+            ));
+        }
+        if r.threads > 1024 {
+            problems.push(InvalidValue::new(
+                "run.threads",
+                r.threads,
+                "must be in [0, 1024] (0 = all cores)",
+            ));
+        }
+        if !(1..=100_000).contains(&r.batch_hosts) {
+            problems.push(InvalidValue::new(
+                "run.batch_hosts",
+                r.batch_hosts,
+                "must be in [1, 100000]",
+            ));
+        }
+        if cosmologies.len() > 1000 || mass_bins.len() > 1000 {
+            problems.push(InvalidValue::new(
+                "cosmology / host.mass_msun",
+                format!("{} x {}", cosmologies.len(), mass_bins.len()),
+                "at most 1000 cosmologies and 1000 host masses",
+            ));
+        }
+        if let Some(sp) = &r.sample {
+            let p = match base_dir {
+                Some(d) if sp.is_relative() => d.join(sp),
+                _ => sp.clone(),
+            };
+            if !p.exists() {
+                problems.push(InvalidValue::new(
+                    "run.sample",
+                    p.display(),
+                    "file not found",
+                ));
+            }
+        }
+        problems.extend(file.tests.problems("tests."));
         let mdef = MassDefinition::parse(&h.mass_definition);
         if mdef.is_none() {
             problems.push(InvalidValue::new(
                 "host.mass_definition",
                 &h.mass_definition,
                 format!("expected one of {}", MassDefinition::NAMES.join(", ")),
-            ));
-        }
-        if !(h.mass_msun >= 1e8 && h.mass_msun <= 1e16) {
-            problems.push(InvalidValue::new(
-                "host.mass_msun",
-                h.mass_msun,
-                "must be in [1e8, 1e16] Msun",
             ));
         }
         if !(0.0..20.0).contains(&h.z_final) {
@@ -206,13 +363,13 @@ impl RunConfig {
             eps2: t.eps2,
         };
         problems.extend(pch08.problems("trees."));
-        if !(t.resolution_msun > 0.0 && t.resolution_msun < 0.5 * h.mass_msun) {
+        if !(t.resolution_msun > 0.0 && t.resolution_msun < 0.5 * m_min) {
             problems.push(InvalidValue::new(
                 "trees.resolution_msun",
                 t.resolution_msun,
                 format!(
-                    "must be positive and below half the host mass ({:e} Msun)",
-                    0.5 * h.mass_msun
+                    "must be positive and below half the smallest host mass ({:e} Msun)",
+                    0.5 * m_min
                 ),
             ));
         }
@@ -237,16 +394,34 @@ impl RunConfig {
             return Err(ConfigProblems(problems));
         }
         Ok(Self {
-            cosmology: cosmology.unwrap(),
-            linear: linear.unwrap(),
-            host_mass_msun: h.mass_msun,
+            cosmology: cosmologies[0].0.clone(),
+            linear: cosmologies[0].1.clone(),
+            cosmologies,
+            mass_bins,
+            host_mass_msun: m_first,
             host_mass_definition: mdef.unwrap(),
             host: HostOptions {
                 concentration: conc.unwrap(),
                 baryons,
             },
             pch08,
+            base_dir: base_dir.map(|d| d.to_path_buf()),
             file,
         })
+    }
+}
+
+impl RunConfig {
+    /// Path of the observed sample, resolved against the config's directory.
+    pub fn sample_path(&self) -> Option<PathBuf> {
+        self.file.run.sample.as_ref().map(|p| match &self.base_dir {
+            Some(d) if p.is_relative() => d.join(p),
+            _ => p.clone(),
+        })
+    }
+
+    /// Number of hosts in the whole grid.
+    pub fn n_hosts(&self) -> u64 {
+        (self.cosmologies.len() * self.mass_bins.len() * self.file.run.hosts_per_cell) as u64
     }
 }

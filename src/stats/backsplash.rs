@@ -43,16 +43,28 @@ impl BacksplashOptions {
         let mut out = Vec::new();
         let mut pair = |k: &str, r: [f64; 2]| {
             if !(r[0] > 0.0 && r[0] < r[1] && r[1].is_finite()) {
-                out.push(InvalidValue::new(format!("{prefix}{k}"), format!("[{}, {}]", r[0], r[1]), "must be an increasing pair of positive numbers"));
+                out.push(InvalidValue::new(
+                    format!("{prefix}{k}"),
+                    format!("[{}, {}]", r[0], r[1]),
+                    "must be an increasing pair of positive numbers",
+                ));
             }
         };
         pair("m_peak_msun", self.m_peak_msun);
         pair("shell_over_rvir", self.shell_over_rvir);
         if !(self.region_radius_mpc > 0.05 && self.region_radius_mpc <= 50.0) {
-            out.push(InvalidValue::new(format!("{prefix}region_radius_mpc"), self.region_radius_mpc, "must be in (0.05, 50] Mpc"));
+            out.push(InvalidValue::new(
+                format!("{prefix}region_radius_mpc"),
+                self.region_radius_mpc,
+                "must be in (0.05, 50] Mpc",
+            ));
         }
         if !(self.region_mass_msun > 0.0 && self.region_mass_msun.is_finite()) {
-            out.push(InvalidValue::new(format!("{prefix}region_mass_msun"), self.region_mass_msun, "must be a positive mass in Msun"));
+            out.push(InvalidValue::new(
+                format!("{prefix}region_mass_msun"),
+                self.region_mass_msun,
+                "must be a positive mass in Msun",
+            ));
         }
         out
     }

@@ -31,6 +31,8 @@ pub struct Catalog {
     pub v_r_kms: Vec<f64>,
     pub status: Vec<u8>,
     pub t_disrupt_pericentre_gyr: Vec<f64>,
+    /// Smallest pericentre, kpc (NaN: none).
+    pub r_peri_min_kpc: Vec<f64>,
     pub backsplash: Vec<bool>,
     pub occupied: Vec<bool>,
     pub mstar_msun: Vec<f64>,
@@ -81,7 +83,9 @@ impl Catalog {
             };
             self.v_r_kms.push(vr);
             self.status.push(s.status as u8);
-            self.t_disrupt_pericentre_gyr.push(s.t_disrupt_pericentre_gyr);
+            self.t_disrupt_pericentre_gyr
+                .push(s.t_disrupt_pericentre_gyr);
+            self.r_peri_min_kpc.push(s.r_peri_min_kpc);
             self.backsplash.push(s.backsplash);
             self.occupied.push(g.occupied);
             self.mstar_msun.push(g.mstar_msun);

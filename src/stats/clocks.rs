@@ -26,7 +26,11 @@ pub enum Clock {
 }
 
 impl Clock {
-    pub const ALL: [Clock; 3] = [Clock::FirstHostInfall, Clock::LastHostInfall, Clock::Preprocessing];
+    pub const ALL: [Clock; 3] = [
+        Clock::FirstHostInfall,
+        Clock::LastHostInfall,
+        Clock::Preprocessing,
+    ];
 
     pub fn name(self) -> &'static str {
         match self {

@@ -23,7 +23,9 @@ pub fn p_all_exact(big_n: u64, k: u64, n: u64) -> f64 {
     if k < n {
         return 0.0;
     }
-    (0..n).map(|j| (k - j) as f64 / (big_n - j) as f64).product()
+    (0..n)
+        .map(|j| (k - j) as f64 / (big_n - j) as f64)
+        .product()
 }
 
 /// P(at least k_min of the n drawn are early).
@@ -46,7 +48,13 @@ pub fn p_at_least_exact(big_n: u64, k: u64, n: u64, k_min: u64) -> f64 {
 /// returns, for each threshold time in `t_grid`, the fraction of subsets whose members all
 /// fell in before it. Each draw is reduced to its latest infall time, so the whole grid costs
 /// one sort.
-pub fn p_all_mc<R: Rng>(times: &[f64], n: usize, draws: usize, t_grid: &[f64], rng: &mut R) -> Vec<f64> {
+pub fn p_all_mc<R: Rng>(
+    times: &[f64],
+    n: usize,
+    draws: usize,
+    t_grid: &[f64],
+    rng: &mut R,
+) -> Vec<f64> {
     let big_n = times.len();
     if n > big_n || n == 0 {
         return vec![f64::NAN; t_grid.len()];

@@ -109,34 +109,76 @@ impl TestOptions {
         let mut out = self.selection.problems(&format!("{prefix}selection."));
         out.extend(self.backsplash.problems(&format!("{prefix}backsplash.")));
         if self.z_grid.is_empty() || self.z_grid.iter().any(|z| !(*z >= 0.0 && *z <= 20.0)) {
-            out.push(InvalidValue::new(format!("{prefix}z_grid"), format!("{:?}", self.z_grid), "must be a non-empty list of redshifts in [0, 20]"));
+            out.push(InvalidValue::new(
+                format!("{prefix}z_grid"),
+                format!("{:?}", self.z_grid),
+                "must be a non-empty list of redshifts in [0, 20]",
+            ));
         }
         if !(100..=10_000_000).contains(&self.draws) {
-            out.push(InvalidValue::new(format!("{prefix}draws"), self.draws, "must be in [100, 1e7]"));
+            out.push(InvalidValue::new(
+                format!("{prefix}draws"),
+                self.draws,
+                "must be in [100, 1e7]",
+            ));
         }
         if let Some(n) = self.n_draw {
             if !(1..=1000).contains(&n) {
-                out.push(InvalidValue::new(format!("{prefix}n_draw"), n, "must be in [1, 1000]"));
+                out.push(InvalidValue::new(
+                    format!("{prefix}n_draw"),
+                    n,
+                    "must be in [1, 1000]",
+                ));
             }
         }
         if !(self.fraction > 0.0 && self.fraction <= 1.0) {
-            out.push(InvalidValue::new(format!("{prefix}fraction"), self.fraction, "must be in (0, 1]"));
+            out.push(InvalidValue::new(
+                format!("{prefix}fraction"),
+                self.fraction,
+                "must be in (0, 1]",
+            ));
         }
-        if !(self.n_range[0] >= 1 && self.n_range[0] <= self.n_range[1] && self.n_range[1] <= 1000) {
-            out.push(InvalidValue::new(format!("{prefix}n_range"), format!("{:?}", self.n_range), "must be [lo, hi] with 1 <= lo <= hi <= 1000"));
+        if !(self.n_range[0] >= 1 && self.n_range[0] <= self.n_range[1] && self.n_range[1] <= 1000)
+        {
+            out.push(InvalidValue::new(
+                format!("{prefix}n_range"),
+                format!("{:?}", self.n_range),
+                "must be [lo, hi] with 1 <= lo <= hi <= 1000",
+            ));
         }
         if !(10..=100_000).contains(&self.bootstrap) {
-            out.push(InvalidValue::new(format!("{prefix}bootstrap"), self.bootstrap, "must be in [10, 100000]"));
+            out.push(InvalidValue::new(
+                format!("{prefix}bootstrap"),
+                self.bootstrap,
+                "must be in [10, 100000]",
+            ));
         }
-        if self.delay_grid_gyr.is_empty() || self.delay_grid_gyr.iter().any(|t| !(*t >= 0.0 && *t <= 14.0)) {
-            out.push(InvalidValue::new(format!("{prefix}delay_grid_gyr"), format!("{:?}", self.delay_grid_gyr), "must be a non-empty list in [0, 14] Gyr"));
+        if self.delay_grid_gyr.is_empty()
+            || self
+                .delay_grid_gyr
+                .iter()
+                .any(|t| !(*t >= 0.0 && *t <= 14.0))
+        {
+            out.push(InvalidValue::new(
+                format!("{prefix}delay_grid_gyr"),
+                format!("{:?}", self.delay_grid_gyr),
+                "must be a non-empty list in [0, 14] Gyr",
+            ));
         }
         if !(self.confidence > 0.0 && self.confidence < 1.0) {
-            out.push(InvalidValue::new(format!("{prefix}confidence"), self.confidence, "must be in (0, 1)"));
+            out.push(InvalidValue::new(
+                format!("{prefix}confidence"),
+                self.confidence,
+                "must be in (0, 1)",
+            ));
         }
         let w = &self.match_windows;
         if !(w.dr_kpc > 0.0 && w.dv_kms > 0.0 && w.dlog_mstar > 0.0) {
-            out.push(InvalidValue::new(format!("{prefix}match_windows"), format!("{w:?}"), "all half-widths must be positive"));
+            out.push(InvalidValue::new(
+                format!("{prefix}match_windows"),
+                format!("{w:?}"),
+                "all half-widths must be positive",
+            ));
         }
         out
     }
@@ -215,15 +257,20 @@ pub fn run_tests(
         .map(|h| cat.host_id[h])
         .collect();
     let t_grid: Vec<f64> = options.z_grid.iter().map(|&z| cosmo.age_gyr(z)).collect();
-    let mut boot_rng = host_rng(master_seed, HostId::new(u16::MAX, u16::MAX, u32::MAX), Stream::Statistics);
-    let summarise = |per_host: &Vec<Vec<f64>>, x: &[f64], rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
-        (0..x.len())
-            .map(|k| {
-                let col: Vec<f64> = per_host.iter().map(|row| row[k]).collect();
-                spread(&col, options.bootstrap, rng)
-            })
-            .collect()
-    };
+    let mut boot_rng = host_rng(
+        master_seed,
+        HostId::new(u16::MAX, u16::MAX, u32::MAX),
+        Stream::Statistics,
+    );
+    let summarise =
+        |per_host: &Vec<Vec<f64>>, x: &[f64], rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
+            (0..x.len())
+                .map(|k| {
+                    let col: Vec<f64> = per_host.iter().map(|row| row[k]).collect();
+                    spread(&col, options.bootstrap, rng)
+                })
+                .collect()
+        };
 
     let mut all_mc = Vec::new();
     let mut all_ex = Vec::new();
@@ -237,7 +284,15 @@ pub fn run_tests(
         let mc: Vec<Vec<f64>> = usable
             .par_iter()
             .map(|&h| {
-                let mut rng = host_rng(master_seed, HostId { cosmology: clock as u16, mass_bin: 0, index: cat.host_id[h] as u32 }, Stream::Statistics);
+                let mut rng = host_rng(
+                    master_seed,
+                    HostId {
+                        cosmology: clock as u16,
+                        mass_bin: 0,
+                        index: cat.host_id[h] as u32,
+                    },
+                    Stream::Statistics,
+                );
                 p_all_mc(&host_times(h), n_draw, options.draws, &t_grid, &mut rng)
             })
             .collect();
@@ -256,8 +311,22 @@ pub fn run_tests(
             .collect();
         let s_mc = summarise(&mc, &options.z_grid, &mut boot_rng);
         let s_ex = summarise(&ex, &options.z_grid, &mut boot_rng);
-        all_mc.push((clock, Curve { x: options.z_grid.clone(), per_host: mc, spread: s_mc }));
-        all_ex.push((clock, Curve { x: options.z_grid.clone(), per_host: ex, spread: s_ex }));
+        all_mc.push((
+            clock,
+            Curve {
+                x: options.z_grid.clone(),
+                per_host: mc,
+                spread: s_mc,
+            },
+        ));
+        all_ex.push((
+            clock,
+            Curve {
+                x: options.z_grid.clone(),
+                per_host: ex,
+                spread: s_ex,
+            },
+        ));
         // 2. fraction of N, exact
         for n in options.n_range[0]..=options.n_range[1] {
             let k_min = (options.fraction * n as f64 - 1e-9).ceil() as u64;
@@ -275,7 +344,15 @@ pub fn run_tests(
                 })
                 .collect();
             let s = summarise(&per, &options.z_grid, &mut boot_rng);
-            frac.push((clock, n, Curve { x: options.z_grid.clone(), per_host: per, spread: s }));
+            frac.push((
+                clock,
+                n,
+                Curve {
+                    x: options.z_grid.clone(),
+                    per_host: per,
+                    spread: s,
+                },
+            ));
         }
         // 3. quenching-time comparison
         if let Some(sample) = sample {
@@ -285,7 +362,15 @@ pub fn run_tests(
                 .collect::<Vec<_>>()
                 .par_iter()
                 .map(|&h| {
-                    let mut rng = host_rng(master_seed, HostId { cosmology: 16 + clock as u16, mass_bin: 0, index: cat.host_id[h] as u32 }, Stream::Statistics);
+                    let mut rng = host_rng(
+                        master_seed,
+                        HostId {
+                            cosmology: 16 + clock as u16,
+                            mass_bin: 0,
+                            index: cat.host_id[h] as u32,
+                        },
+                        Stream::Statistics,
+                    );
                     let lb: Vec<f64> = host_times(h).iter().map(|&t| t0 - t).collect();
                     let draws = options.draws;
                     let mut idx: Vec<usize> = (0..lb.len()).collect();
@@ -307,7 +392,9 @@ pub fn run_tests(
                     options
                         .delay_grid_gyr
                         .iter()
-                        .map(|&tau| 1.0 - tau_star.partition_point(|&v| v < tau) as f64 / draws as f64)
+                        .map(|&tau| {
+                            1.0 - tau_star.partition_point(|&v| v < tau) as f64 / draws as f64
+                        })
                         .collect()
                 })
                 .collect();
@@ -320,9 +407,22 @@ pub fn run_tests(
                 .filter(|(_, sp)| sp.mean >= floor)
                 .map(|(t, _)| *t)
                 .fold(f64::NAN, f64::max);
-            quench.push((clock, Curve { x: options.delay_grid_gyr.clone(), per_host: per, spread: s }, tau_max));
+            quench.push((
+                clock,
+                Curve {
+                    x: options.delay_grid_gyr.clone(),
+                    per_host: per,
+                    spread: s,
+                },
+                tau_max,
+            ));
         }
-        let pooled: Vec<f64> = selected.iter().flatten().map(|&i| times[i]).filter(|t| t.is_finite()).collect();
+        let pooled: Vec<f64> = selected
+            .iter()
+            .flatten()
+            .map(|&i| times[i])
+            .filter(|t| t.is_finite())
+            .collect();
         infall_lookbacks.push((clock, lookback_times(&pooled, t0)));
     }
 
@@ -346,7 +446,8 @@ pub fn run_tests(
                         if alive
                             && (cat.r_kpc[i] - o.r_gc_kpc).abs() <= w.dr_kpc
                             && (cat.v_r_kms[i] - o.v_r_kms).abs() <= w.dv_kms
-                            && (cat.mstar_msun[i].log10() - o.mstar_msun.log10()).abs() <= w.dlog_mstar
+                            && (cat.mstar_msun[i].log10() - o.mstar_msun.log10()).abs()
+                                <= w.dlog_mstar
                             && times[i].is_finite()
                         {
                             let lb = t0 - times[i];
@@ -388,13 +489,19 @@ pub fn run_tests(
             })
             .count() as f64;
         counts.push(n_bs);
-        fr.push(if n_bs + f_exp > 0.0 { n_bs / (n_bs + f_exp) } else { f64::NAN });
+        fr.push(if n_bs + f_exp > 0.0 {
+            n_bs / (n_bs + f_exp)
+        } else {
+            f64::NAN
+        });
     }
     let backsplash_fraction = spread(&fr, options.bootstrap, &mut boot_rng);
     let nh = n_hosts.max(1) as f64;
 
     // 6. dependence on the grid cell
-    let mut cells: Vec<(u16, u16)> = (0..n_hosts).map(|h| (cat.host_cosmology[h], cat.host_mass_bin[h])).collect();
+    let mut cells: Vec<(u16, u16)> = (0..n_hosts)
+        .map(|h| (cat.host_cosmology[h], cat.host_mass_bin[h]))
+        .collect();
     cells.sort();
     cells.dedup();
     let first = &all_mc[0].1;
@@ -402,7 +509,9 @@ pub fn run_tests(
     let dependence = cells
         .into_iter()
         .map(|(ci, mi)| {
-            let hosts: Vec<usize> = (0..n_hosts).filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi).collect();
+            let hosts: Vec<usize> = (0..n_hosts)
+                .filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi)
+                .collect();
             let mut zs: Vec<f64> = hosts
                 .iter()
                 .flat_map(|&h| selected[h].iter().map(|&i| clocks.first[i]))
@@ -424,7 +533,11 @@ pub fn run_tests(
                         .filter(|(_, &h)| hosts.contains(&h))
                         .map(|(row, _)| first.per_host[row][k])
                         .collect();
-                    if v.is_empty() { f64::NAN } else { v.iter().sum::<f64>() / v.len() as f64 }
+                    if v.is_empty() {
+                        f64::NAN
+                    } else {
+                        v.iter().sum::<f64>() / v.len() as f64
+                    }
                 })
                 .unwrap_or(f64::NAN);
             (ci, mi, hosts.len(), m_med, med_z, p2)

@@ -6,11 +6,17 @@ use rand_chacha::ChaCha8Rng;
 
 use retinue::galaxies::GalaxyOptions;
 use retinue::stats::draws::{p_all_exact, p_all_mc, p_at_least_exact, p_at_least_mc};
-use retinue::stats::{run_tests, spread, Catalog, Clock, ObservedObject, ObservedSample, Selection, TestOptions};
+use retinue::stats::{
+    run_tests, spread, Catalog, Clock, ObservedObject, ObservedSample, Selection, TestOptions,
+};
 use retinue::{Cosmology, LinearOptions, LinearTheory};
 
 fn planck18() -> LinearTheory {
-    LinearTheory::new(Cosmology::from_preset("planck18").unwrap(), LinearOptions::default()).unwrap()
+    LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap()
 }
 
 /// Monte Carlo draws against the exact hypergeometric value, N = 30 candidates with K = 20
@@ -28,7 +34,11 @@ fn val_monte_carlo_matches_hypergeometric() {
             let kk = times.iter().filter(|&&t| t < tz).count() as u64;
             let ex = p_all_exact(30, kk, n as u64);
             let tol = 4.0 * (ex * (1.0 - ex) / draws as f64).sqrt() + 1e-12;
-            assert!((mc[k] - ex).abs() <= tol, "n={n} K={kk}: mc {} exact {ex}", mc[k]);
+            assert!(
+                (mc[k] - ex).abs() <= tol,
+                "n={n} K={kk}: mc {} exact {ex}",
+                mc[k]
+            );
         }
     }
     let mc = p_at_least_mc(&times, 11, 8, draws, &[19.5], &mut rng); // K = 20 early
@@ -41,7 +51,10 @@ fn val_monte_carlo_matches_hypergeometric() {
 /// independently and uniformly in cosmic time over [t_lo, t_hi].
 fn synthetic(hosts: usize, per: usize, t_lo: f64, t_hi: f64, seed: u64) -> Catalog {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
-    let mut c = Catalog { offset: vec![0], ..Default::default() };
+    let mut c = Catalog {
+        offset: vec![0],
+        ..Default::default()
+    };
     for h in 0..hosts {
         c.host_id.push(h as u64);
         c.host_cosmology.push(0);
@@ -63,6 +76,7 @@ fn synthetic(hosts: usize, per: usize, t_lo: f64, t_hi: f64, seed: u64) -> Catal
             c.v_r_kms.push(0.0);
             c.status.push(0);
             c.t_disrupt_pericentre_gyr.push(f64::NAN);
+            c.r_peri_min_kpc.push(f64::NAN);
             c.backsplash.push(false);
             c.occupied.push(true);
             c.mstar_msun.push(1e6);
@@ -95,20 +109,35 @@ fn val_synthetic_infall_recovers_analytic_probability() {
         ..Default::default()
     };
     let res = run_tests(&lt, &GalaxyOptions::default(), &cat, &opts, None, 7);
-    let (_, curve) = res.all_of_n_mc.iter().find(|(c, _)| *c == Clock::FirstHostInfall).unwrap();
-    let (_, exact) = res.all_of_n_exact.iter().find(|(c, _)| *c == Clock::FirstHostInfall).unwrap();
+    let (_, curve) = res
+        .all_of_n_mc
+        .iter()
+        .find(|(c, _)| *c == Clock::FirstHostInfall)
+        .unwrap();
+    let (_, exact) = res
+        .all_of_n_exact
+        .iter()
+        .find(|(c, _)| *c == Clock::FirstHostInfall)
+        .unwrap();
     for (k, &z) in opts.z_grid.iter().enumerate() {
         let t = cosmo.age_gyr(z);
         let p = ((t - 1.0) / 12.0).clamp(0.0, 1.0);
         let want = p.powi(4);
         let col: Vec<f64> = curve.per_host.iter().map(|r| r[k]).collect();
         let mean = col.iter().sum::<f64>() / col.len() as f64;
-        let sd = (col.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (col.len() - 1) as f64).sqrt();
+        let sd =
+            (col.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (col.len() - 1) as f64).sqrt();
         let se = sd / (col.len() as f64).sqrt();
-        assert!((mean - want).abs() < 4.0 * se + 1e-9, "z={z}: {mean} vs {want} (se {se})");
+        assert!(
+            (mean - want).abs() < 4.0 * se + 1e-9,
+            "z={z}: {mean} vs {want} (se {se})"
+        );
         assert!((curve.spread[k].mean - mean).abs() < 1e-12);
         let ex_mean = exact.spread[k].mean;
-        assert!((mean - ex_mean).abs() < 4.0 * (0.25 / (opts.draws as f64 * col.len() as f64)).sqrt() + 1e-9);
+        assert!(
+            (mean - ex_mean).abs()
+                < 4.0 * (0.25 / (opts.draws as f64 * col.len() as f64)).sqrt() + 1e-9
+        );
     }
     assert!(res.hosts_too_few.is_empty());
 }
@@ -144,7 +173,12 @@ fn quench_comparison_known_answer() {
     let lt = planck18();
     let t0 = lt.cosmology().age0_gyr();
     let mut cat = synthetic(20, 10, 0.0, 1.0, 1);
-    for t in cat.t_first_host_infall_gyr.iter_mut().chain(cat.t_last_host_infall_gyr.iter_mut()).chain(cat.t_infall_gyr.iter_mut()) {
+    for t in cat
+        .t_first_host_infall_gyr
+        .iter_mut()
+        .chain(cat.t_last_host_infall_gyr.iter_mut())
+        .chain(cat.t_infall_gyr.iter_mut())
+    {
         *t = t0 - 10.0;
     }
     let obj = |id: &str| ObservedObject {
@@ -155,7 +189,9 @@ fn quench_comparison_known_answer() {
         t_quench_lookback_gyr: 8.0,
         t_quench_err_gyr: 0.0,
     };
-    let sample = ObservedSample { objects: vec![obj("a"), obj("b"), obj("c")] };
+    let sample = ObservedSample {
+        objects: vec![obj("a"), obj("b"), obj("c")],
+    };
     let opts = TestOptions {
         draws: 500,
         bootstrap: 50,
@@ -163,13 +199,24 @@ fn quench_comparison_known_answer() {
         n_range: [3, 3],
         ..Default::default()
     };
-    let res = run_tests(&lt, &GalaxyOptions::default(), &cat, &opts, Some(&sample), 3);
+    let res = run_tests(
+        &lt,
+        &GalaxyOptions::default(),
+        &cat,
+        &opts,
+        Some(&sample),
+        3,
+    );
     let (_, curve, tau_max) = &res.quench[0];
     let means: Vec<f64> = curve.spread.iter().map(|s| s.mean).collect();
     assert_eq!(means, vec![1.0, 1.0, 1.0, 0.0, 0.0]);
     assert_eq!(*tau_max, 1.99);
     // phase-space matches: every satellite sits at 100 kpc, v_r = 0, 1e6 Msun
-    let m = res.matches.iter().find(|m| m.0 == "a" && m.1 == Clock::FirstHostInfall).unwrap();
+    let m = res
+        .matches
+        .iter()
+        .find(|m| m.0 == "a" && m.1 == Clock::FirstHostInfall)
+        .unwrap();
     assert_eq!(m.4, 200);
     assert_eq!(m.3.mean, 1.0);
 }
@@ -179,7 +226,13 @@ fn quench_comparison_known_answer() {
 fn hosts_with_too_few_candidates_are_reported() {
     let lt = planck18();
     let cat = synthetic(5, 3, 1.0, 13.0, 2);
-    let opts = TestOptions { n_draw: Some(4), draws: 200, bootstrap: 20, n_range: [2, 4], ..Default::default() };
+    let opts = TestOptions {
+        n_draw: Some(4),
+        draws: 200,
+        bootstrap: 20,
+        n_range: [2, 4],
+        ..Default::default()
+    };
     let res = run_tests(&lt, &GalaxyOptions::default(), &cat, &opts, None, 1);
     assert_eq!(res.hosts_too_few, vec![0, 1, 2, 3, 4]);
     assert!(res.all_of_n_mc[0].1.per_host.is_empty());
@@ -194,14 +247,29 @@ fn observed_sample_parsing() {
     assert_eq!(s.objects[0].mstar_msun, 3e5);
     for (text, want) in [
         ("id,mass\nA,1\n", "unknown column `mass`"),
-        ("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr\nA,1,2,3,4\n", "missing column `t_quench_err_gyr`"),
-        ("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1,2,x,4,1\n", "v_r_kms = `x`"),
-        ("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1,2,3\n", "4 fields"),
+        (
+            "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr\nA,1,2,3,4\n",
+            "missing column `t_quench_err_gyr`",
+        ),
+        (
+            "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1,2,x,4,1\n",
+            "v_r_kms = `x`",
+        ),
+        (
+            "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1,2,3\n",
+            "4 fields",
+        ),
     ] {
         let e = ObservedSample::parse_csv(text).unwrap_err();
         assert!(e.contains(want), "{text:?}: {e}");
     }
-    let bad = ObservedSample::parse_csv("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,20,1\n").unwrap();
+    let bad = ObservedSample::parse_csv(
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,20,1\n",
+    )
+    .unwrap();
     let e = bad.check().unwrap_err();
-    assert!(e.contains("t_quench_lookback_gyr = 20") && e.contains("`A`"), "{e}");
+    assert!(
+        e.contains("t_quench_lookback_gyr = 20") && e.contains("`A`"),
+        "{e}"
+    );
 }

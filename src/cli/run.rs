@@ -1,0 +1,424 @@
+//! `retinue run | demo | check | merge | infall`.
+
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+use clap::Args;
+
+use super::CliError;
+use retinue::config::RunConfig;
+use retinue::io::store::{read_catalog, read_meta};
+use retinue::report::{write_analysis_to_store, write_tables};
+use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
+use retinue::stats::{run_tests, AnalysisResults, ObservedSample};
+
+const DEMO_CONFIG: &str = include_str!("../../configs/demo.toml");
+const DEMO_SAMPLE: &str = include_str!("../../demo-data/sample.csv");
+
+#[derive(Debug, Args)]
+#[command(
+    after_help = "Examples:\n  retinue run configs/milky-way.toml\n  retinue run sweep.toml --threads 2 --out sweep.h5\n  retinue run sweep.toml --shard 1/4 --out shard-1.h5     (then: retinue merge shard-*.h5 --out sweep.h5)\n  retinue run sweep.toml --resume                         (continue an interrupted run)"
+)]
+pub struct RunArgs {
+    /// Run configuration (TOML).
+    pub config: PathBuf,
+    /// Output store (default: [run] output).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Worker threads (default: [run] threads; 0 = all cores).
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Run only shard K of N (1-based, e.g. 2/4): a contiguous block of hosts.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
+    /// Continue an interrupted run (its finished parts are kept).
+    #[arg(long)]
+    pub resume: bool,
+}
+
+#[derive(Debug, Args)]
+pub struct DemoArgs {
+    /// Directory for the demo's store, report and inputs.
+    #[arg(long, default_value = "retinue-demo")]
+    pub out: PathBuf,
+    /// Worker threads (0 = all cores).
+    #[arg(long, default_value_t = 0)]
+    pub threads: usize,
+}
+
+#[derive(Debug, Args)]
+pub struct CheckArgs {
+    /// Run configuration (TOML).
+    pub config: PathBuf,
+}
+
+#[derive(Debug, Args)]
+pub struct MergeArgs {
+    /// Shard stores to join.
+    #[arg(required = true)]
+    pub shards: Vec<PathBuf>,
+    #[arg(long)]
+    pub out: PathBuf,
+}
+
+#[derive(Debug, Args)]
+#[command(
+    after_help = "Example:\n  retinue infall run.h5 --sample my-satellites.csv --config tests.toml\n\nRe-runs the tests on an existing store with the [tests] (and [galaxies]) tables of --config\n(default: the configuration stored in the file)."
+)]
+pub struct InfallArgs {
+    /// A run store.
+    pub store: PathBuf,
+    /// Observed sample (CSV or TOML).
+    #[arg(long)]
+    pub sample: Option<PathBuf>,
+    /// Configuration whose [tests] table to use.
+    #[arg(long)]
+    pub config: Option<PathBuf>,
+}
+
+fn usage(e: impl std::fmt::Display) -> CliError {
+    CliError::Usage(e.to_string())
+}
+
+fn run_err(e: RunError) -> CliError {
+    match e {
+        RunError::Invalid(_) => CliError::Usage(e.to_string()),
+        other => CliError::Failed(anyhow::anyhow!(other.to_string())),
+    }
+}
+
+fn parse_shard(s: &str) -> Result<Shard, CliError> {
+    let bad = || {
+        usage(format!(
+            "--shard = {s} is not allowed: expected K/N with 1 <= K <= N, e.g. 2/4"
+        ))
+    };
+    let (k, n) = s.split_once('/').ok_or_else(bad)?;
+    let k: u32 = k.trim().parse().map_err(|_| bad())?;
+    let n: u32 = n.trim().parse().map_err(|_| bad())?;
+    if !(n >= 1 && k >= 1 && k <= n) {
+        return Err(bad());
+    }
+    Ok(Shard {
+        index: k - 1,
+        count: n,
+    })
+}
+
+fn load(path: &Path) -> Result<(RunConfig, String), CliError> {
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        usage(format!(
+            "config file {}: cannot be read: {e}",
+            path.display()
+        ))
+    })?;
+    let cfg = RunConfig::parse_str(&text, path.parent()).map_err(usage)?;
+    Ok((cfg, text))
+}
+
+/// Progress on stderr: a bar on a terminal, plain lines otherwise.
+struct Reporter {
+    bar: Option<indicatif::ProgressBar>,
+    start: Instant,
+    last: std::sync::Mutex<f64>,
+}
+
+impl Reporter {
+    fn new(total: u64) -> Self {
+        let bar = if std::io::stderr().is_terminal() {
+            let b = indicatif::ProgressBar::new(total);
+            b.set_style(
+                indicatif::ProgressStyle::with_template(
+                    "{bar:40} {pos}/{len} hosts  {per_sec}  ETA {eta}",
+                )
+                .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+            );
+            Some(b)
+        } else {
+            None
+        };
+        Self {
+            bar,
+            start: Instant::now(),
+            last: std::sync::Mutex::new(-1e9),
+        }
+    }
+
+    fn update(&self, done: u64, total: u64) {
+        if let Some(b) = &self.bar {
+            b.set_position(done);
+            return;
+        }
+        let el = self.start.elapsed().as_secs_f64();
+        let mut last = self.last.lock().unwrap();
+        if done == total || el - *last >= 10.0 {
+            *last = el;
+            let rate = done as f64 / el.max(1e-9);
+            let eta = (total - done) as f64 / rate.max(1e-9);
+            eprintln!("hosts {done}/{total}  {rate:.2} hosts/s  ETA {eta:.0} s");
+        }
+    }
+
+    fn finish(&self) {
+        if let Some(b) = &self.bar {
+            b.finish_and_clear();
+        }
+    }
+}
+
+fn pool(threads: usize) -> Result<rayon::ThreadPool, CliError> {
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("thread pool: {e}")))
+}
+
+/// The whole job: synthesise, store, test, report. Returns the store path.
+fn execute(
+    cfg: RunConfig,
+    text: &str,
+    out: PathBuf,
+    threads: usize,
+    shard: Shard,
+    resume: bool,
+    sample_override: Option<PathBuf>,
+) -> Result<PathBuf, CliError> {
+    let sample_path = sample_override.or(cfg.sample_path());
+    let sample = match &sample_path {
+        Some(p) => Some(ObservedSample::from_file(p).map_err(usage)?),
+        None => None,
+    };
+    let grid = Grid::new(cfg).map_err(run_err)?;
+    let (lo, hi) = shard.range(grid.n_hosts());
+    eprintln!(
+        "retinue run: {} cosmologies x {} host masses x {} hosts = {} hosts{}; writing {}",
+        grid.config.cosmologies.len(),
+        grid.config.mass_bins.len(),
+        grid.config.file.run.hosts_per_cell,
+        grid.n_hosts(),
+        if shard.count > 1 {
+            format!(
+                " (shard {}/{}: hosts {lo}..{hi})",
+                shard.index + 1,
+                shard.count
+            )
+        } else {
+            String::new()
+        },
+        out.display()
+    );
+    let t0 = Instant::now();
+    let rep = Reporter::new(hi - lo);
+    let pool = pool(threads)?;
+    let path = pool
+        .install(|| synthesize_to_store(&grid, text, &out, shard, resume, &|d, t| rep.update(d, t)))
+        .map_err(run_err)?;
+    rep.finish();
+    let el = t0.elapsed().as_secs_f64();
+    eprintln!(
+        "synthesised {} hosts in {el:.1} s ({:.2} hosts/s)",
+        hi - lo,
+        (hi - lo) as f64 / el.max(1e-9)
+    );
+    if shard.count > 1 {
+        eprintln!("shard written to {}; when every shard is done: retinue merge <shards...> --out FILE, then retinue infall FILE", path.display());
+        return Ok(path);
+    }
+    pool.install(|| analyse(&grid, &path, sample.as_ref()))?;
+    Ok(path)
+}
+
+fn analyse(
+    grid: &Grid,
+    store: &Path,
+    sample: Option<&ObservedSample>,
+) -> Result<AnalysisResults, CliError> {
+    let cfg = &grid.config;
+    let cat = read_catalog(store).map_err(|e| CliError::Failed(e.into()))?;
+    let t0 = Instant::now();
+    // the tests use the first cosmology's clock and linear theory for lookback times
+    let res = run_tests(
+        &grid.theories[0],
+        &cfg.file.galaxies,
+        &cat,
+        &cfg.file.tests,
+        sample,
+        cfg.file.run.master_seed,
+    );
+    let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
+    write_analysis_to_store(store, &res, &tests_toml).map_err(|e| CliError::Failed(e.into()))?;
+    let dir = report_dir(store);
+    let summary = format!(
+        "Store `{}`: {} hosts, {} subhaloes; master seed {}.",
+        store.display(),
+        cat.n_hosts(),
+        cat.n_subhaloes(),
+        cfg.file.run.master_seed
+    );
+    let files = write_tables(&dir, &res, &cfg.file.tests, sample, &summary)
+        .map_err(|e| CliError::Failed(e.into()))?;
+    let figs =
+        retinue::report::figures::write_figures(&dir, &res, &cat, grid.theories[0].cosmology())
+            .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
+    eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
+    println!("store:   {}", store.display());
+    println!("report:  {}", dir.join("report.md").display());
+    println!(
+        "tables:  {}",
+        files
+            .iter()
+            .filter(|p| p.extension().map(|e| e == "csv").unwrap_or(false))
+            .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    println!(
+        "figures: {}",
+        figs.iter()
+            .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    headline(&res);
+    Ok(res)
+}
+
+fn report_dir(store: &Path) -> PathBuf {
+    let stem = store
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".into());
+    store.with_file_name(format!("{stem}-report"))
+}
+
+fn headline(res: &AnalysisResults) {
+    println!();
+    println!(
+        "P(all {} fell in before z), mean over hosts [bootstrap 16-84%]",
+        res.n_draw
+    );
+    println!(
+        "{:<20} {:>22} {:>22} {:>22}",
+        "clock", "z = 1", "z = 2", "z = 3"
+    );
+    for (clock, c) in &res.all_of_n_mc {
+        let cell = |z: f64| {
+            c.x.iter()
+                .position(|&x| (x - z).abs() < 1e-9)
+                .map(|k| {
+                    format!(
+                        "{:.3} [{:.3}, {:.3}]",
+                        c.spread[k].mean, c.spread[k].boot16, c.spread[k].boot84
+                    )
+                })
+                .unwrap_or_else(|| "-".into())
+        };
+        println!(
+            "{:<20} {:>22} {:>22} {:>22}",
+            clock.name(),
+            cell(1.0),
+            cell(2.0),
+            cell(3.0)
+        );
+    }
+    for (clock, _, tau) in &res.quench {
+        println!(
+            "largest quenching delay allowed ({}): {}",
+            clock.name(),
+            if tau.is_nan() {
+                "none".into()
+            } else {
+                format!("{tau:.2} Gyr")
+            }
+        );
+    }
+    if !res.hosts_too_few.is_empty() {
+        println!(
+            "{} hosts had fewer than {} candidates (listed in the store)",
+            res.hosts_too_few.len(),
+            res.n_draw
+        );
+    }
+}
+
+pub fn run(a: RunArgs) -> Result<(), CliError> {
+    let (cfg, text) = load(&a.config)?;
+    let shard = match &a.shard {
+        Some(s) => parse_shard(s)?,
+        None => Shard::WHOLE,
+    };
+    let out = a.out.clone().unwrap_or_else(|| cfg.file.run.output.clone());
+    let threads = a.threads.unwrap_or(cfg.file.run.threads);
+    execute(cfg, &text, out, threads, shard, a.resume, None).map(|_| ())
+}
+
+pub fn demo(a: DemoArgs) -> Result<(), CliError> {
+    std::fs::create_dir_all(&a.out)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", a.out.display())))?;
+    let cfg_path = a.out.join("demo.toml");
+    let text = DEMO_CONFIG.replace("\"../demo-data/sample.csv\"", "\"sample.csv\"");
+    std::fs::write(&cfg_path, &text)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", cfg_path.display())))?;
+    std::fs::write(a.out.join("sample.csv"), DEMO_SAMPLE)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))?;
+    let cfg = RunConfig::parse_str(&text, Some(&a.out)).map_err(usage)?;
+    let out = a.out.join("demo.h5");
+    if out.exists() {
+        std::fs::remove_file(&out)
+            .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", out.display())))?;
+    }
+    println!(
+        "demo: inputs in {} (demo.toml, sample.csv)",
+        a.out.display()
+    );
+    execute(cfg, &text, out, a.threads, Shard::WHOLE, true, None).map(|_| ())
+}
+
+pub fn check(a: CheckArgs) -> Result<(), CliError> {
+    let (cfg, _) = load(&a.config)?;
+    if let Some(p) = cfg.sample_path() {
+        ObservedSample::from_file(&p).map_err(usage)?;
+    }
+    println!(
+        "{}: valid ({} cosmologies x {} host masses x {} hosts = {} hosts)",
+        a.config.display(),
+        cfg.cosmologies.len(),
+        cfg.mass_bins.len(),
+        cfg.file.run.hosts_per_cell,
+        cfg.n_hosts()
+    );
+    Ok(())
+}
+
+pub fn merge(a: MergeArgs) -> Result<(), CliError> {
+    let p = merge_stores(&a.shards, &a.out).map_err(run_err)?;
+    println!("merged {} shards into {}", a.shards.len(), p.display());
+    Ok(())
+}
+
+pub fn infall(a: InfallArgs) -> Result<(), CliError> {
+    let meta = read_meta(&a.store).map_err(usage)?;
+    let text = match &a.config {
+        Some(p) => {
+            std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?
+        }
+        None => meta.config_toml.clone(),
+    };
+    let base = a
+        .config
+        .as_ref()
+        .and_then(|p| p.parent().map(|d| d.to_path_buf()));
+    let mut cfg =
+        RunConfig::parse_str(&text, base.as_deref().or(Some(Path::new(".")))).map_err(usage)?;
+    if a.config.is_none() {
+        // the stored configuration's relative sample path no longer applies
+        cfg.file.run.sample = None;
+    }
+    let sample = match a.sample.clone().or(cfg.sample_path()) {
+        Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
+        None => None,
+    };
+    let grid = Grid::new(cfg).map_err(run_err)?;
+    analyse(&grid, &a.store, sample.as_ref()).map(|_| ())
+}

@@ -1,0 +1,713 @@
+//! The run store (HDF5): flat columnar tables `hosts` and `subhalos`, main-branch histories,
+//! provenance attributes, and an `analysis` group. Documented column by column in
+//! docs/output-format.md.
+//!
+//! Crash safety: a run writes each batch of hosts to its own part file
+//! (`.NAME.parts/part-KKKKK.h5`), under a temporary name renamed when complete, so a killed run
+//! leaves only whole parts. `--resume` skips the parts that exist. When every host is done,
+//! the parts are joined (streaming, one part at a time) into `.NAME.partial`, which is renamed
+//! to NAME. Shards of a split run are complete stores of their host ranges; `merge` joins
+//! stores in global host order with the same code.
+
+use std::path::{Path, PathBuf};
+
+use hdf5::{Extent, Group, H5Type};
+
+use super::h5::{get_str_attr, set_num_attr, set_str_attr};
+use super::{AtomicPath, IoError};
+use crate::stats::Catalog;
+use crate::synth::HostRecord;
+
+/// Provenance written as root attributes.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StoreMeta {
+    pub config_toml: String,
+    pub master_seed: u64,
+    pub generator: String,
+    pub crate_version: String,
+    pub build_info: String,
+    /// Total hosts of the whole run (all shards).
+    pub n_hosts_total: u64,
+    /// Shard k of n (0 of 1 for an unsplit run).
+    pub shard: (u32, u32),
+}
+
+/// One column of values.
+#[derive(Debug, Clone)]
+pub enum Col {
+    F64(Vec<f64>),
+    U64(Vec<u64>),
+    U32(Vec<u32>),
+    U16(Vec<u16>),
+    U8(Vec<u8>),
+}
+
+impl Col {
+    fn len(&self) -> usize {
+        match self {
+            Col::F64(v) => v.len(),
+            Col::U64(v) => v.len(),
+            Col::U32(v) => v.len(),
+            Col::U16(v) => v.len(),
+            Col::U8(v) => v.len(),
+        }
+    }
+}
+
+/// (name, units, description)
+type Spec = (&'static str, &'static str, &'static str);
+
+/// Columns of the `hosts` table.
+pub const HOST_COLUMNS: &[Spec] = &[
+    (
+        "host_index",
+        "index",
+        "global host index: (cosmology * n_mass_bins + mass_bin) * hosts_per_cell + k",
+    ),
+    (
+        "cosmology_index",
+        "index",
+        "position in the run's list of cosmologies",
+    ),
+    (
+        "mass_bin",
+        "index",
+        "position in the run's list of host masses",
+    ),
+    (
+        "k",
+        "index",
+        "host number within its grid cell (selects its random streams)",
+    ),
+    ("m_vir_msun", "Msun", "virial mass today (z_final)"),
+    ("r_vir_kpc", "kpc", "virial radius today"),
+    ("concentration", "", "NFW concentration today"),
+    (
+        "z_half",
+        "",
+        "half-mass formation redshift of the main branch",
+    ),
+    ("t_half_gyr", "Gyr", "half-mass formation time"),
+    (
+        "t_04_gyr",
+        "Gyr",
+        "time the main branch first held 4% of its final mass",
+    ),
+    (
+        "mstar_msun",
+        "Msun",
+        "median stellar mass of the host's galaxy",
+    ),
+    ("disc_mass_msun", "Msun", "disc mass today"),
+    ("n_tree_nodes", "", "nodes in the host's merger tree"),
+    ("sub_offset", "index", "first row of this host in /subhalos"),
+    ("sub_count", "", "number of rows of this host in /subhalos"),
+];
+
+/// Columns of the `subhalos` table.
+pub const SUB_COLUMNS: &[Spec] = &[
+    ("host_row", "index", "row of the host in /hosts"),
+    ("host_index", "index", "global host index"),
+    ("branch", "index", "branch id in the host's merger tree"),
+    (
+        "parent_branch",
+        "index",
+        "branch it fell into (0 = the host's main branch)",
+    ),
+    (
+        "order",
+        "",
+        "1: fell straight into the host; 2: into a first-order subhalo; ...",
+    ),
+    (
+        "group",
+        "index",
+        "first-order branch with which it entered the host",
+    ),
+    (
+        "m_infall_msun",
+        "Msun",
+        "mass when it fell into its first halo (tree merger)",
+    ),
+    ("m_peak_msun", "Msun", "peak virial mass"),
+    ("t_peak_gyr", "Gyr", "cosmic time of the peak mass"),
+    (
+        "t_infall_gyr",
+        "Gyr",
+        "merger time into the halo it fell into first",
+    ),
+    (
+        "m_host_at_infall_msun",
+        "Msun",
+        "mass of that halo at that time",
+    ),
+    (
+        "t_first_host_infall_gyr",
+        "Gyr",
+        "first crossing of the host's virial radius",
+    ),
+    (
+        "t_last_host_infall_gyr",
+        "Gyr",
+        "last inward crossing of the host's evolving virial radius",
+    ),
+    (
+        "t_release_gyr",
+        "Gyr",
+        "when it left its parent subhalo (NaN: order 1 or never)",
+    ),
+    ("n_pericentres", "", "pericentres passed"),
+    ("t_peri_first_gyr", "Gyr", "first pericentre time"),
+    ("r_peri_first_kpc", "kpc", "first pericentre radius"),
+    ("r_peri_min_kpc", "kpc", "smallest pericentre radius"),
+    ("t_peri_last_gyr", "Gyr", "last pericentre time"),
+    ("r_peri_last_kpc", "kpc", "last pericentre radius"),
+    ("r_apo_last_kpc", "kpc", "last apocentre radius"),
+    (
+        "n_host_crossings",
+        "",
+        "crossings of the host's virial radius after infall",
+    ),
+    (
+        "t_disrupt_physical_gyr",
+        "Gyr",
+        "disruption by stripping (NaN: survived)",
+    ),
+    (
+        "t_disrupt_pericentre_gyr",
+        "Gyr",
+        "first pericentre inside the disc cut (NaN: none)",
+    ),
+    (
+        "x_kpc",
+        "kpc",
+        "position today (host frame, disc in the x-y plane)",
+    ),
+    ("y_kpc", "kpc", "position today"),
+    ("z_kpc", "kpc", "position today"),
+    ("vx_kms", "km/s", "velocity today"),
+    ("vy_kms", "km/s", "velocity today"),
+    ("vz_kms", "km/s", "velocity today"),
+    ("r_kpc", "kpc", "galactocentric radius today"),
+    ("m_bound_msun", "Msun", "bound mass today"),
+    ("vmax_kms", "km/s", "Vmax today (tidal track)"),
+    ("rmax_kpc", "kpc", "Rmax today"),
+    ("vmax_infall_kms", "km/s", "Vmax at infall"),
+    (
+        "backsplash",
+        "flag",
+        "1: outside R_vir today after having been inside",
+    ),
+    (
+        "status",
+        "code",
+        "0 surviving, 1 disrupted by stripping, 2 still inside its parent",
+    ),
+    ("occupied", "flag", "1: hosts a galaxy"),
+    ("mstar_msun", "Msun", "stellar mass (0 if dark)"),
+    ("m_v", "mag", "absolute V magnitude (NaN if dark)"),
+    ("d_helio_kpc", "kpc", "heliocentric distance today"),
+    (
+        "observable",
+        "flag",
+        "1: the configured survey would detect it",
+    ),
+];
+
+fn host_cols(recs: &[(u64, &HostRecord)], first_row: u64, first_sub: u64) -> Vec<Col> {
+    let f = |g: &dyn Fn(&HostRecord) -> f64| Col::F64(recs.iter().map(|(_, r)| g(r)).collect());
+    let mut offsets = Vec::with_capacity(recs.len());
+    let mut off = first_sub;
+    for (_, r) in recs {
+        offsets.push(off);
+        off += r.subhaloes.len() as u64;
+    }
+    let _ = first_row;
+    vec![
+        Col::U64(recs.iter().map(|(g, _)| *g).collect()),
+        Col::U16(recs.iter().map(|(_, r)| r.summary.id.cosmology).collect()),
+        Col::U16(recs.iter().map(|(_, r)| r.summary.id.mass_bin).collect()),
+        Col::U32(recs.iter().map(|(_, r)| r.summary.id.index).collect()),
+        f(&|r| r.summary.m_vir_msun),
+        f(&|r| r.summary.r_vir_kpc),
+        f(&|r| r.summary.concentration),
+        f(&|r| r.summary.z_half),
+        f(&|r| r.summary.t_half_gyr),
+        f(&|r| r.summary.t_04_gyr),
+        f(&|r| r.summary.mstar_msun),
+        f(&|r| r.summary.disc_mass_msun),
+        Col::U64(recs.iter().map(|(_, r)| r.summary.n_tree_nodes).collect()),
+        Col::U64(offsets),
+        Col::U64(recs.iter().map(|(_, r)| r.subhaloes.len() as u64).collect()),
+    ]
+}
+
+fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
+    let rows: Vec<(
+        u64,
+        u64,
+        &crate::orbits::SubhaloResult,
+        &crate::galaxies::GalaxyRecord,
+    )> = recs
+        .iter()
+        .enumerate()
+        .flat_map(|(k, (g, r))| {
+            r.subhaloes
+                .iter()
+                .zip(&r.galaxies)
+                .map(move |(s, gal)| (first_row + k as u64, *g, s, gal))
+        })
+        .collect();
+    let f = |get: &dyn Fn(&crate::orbits::SubhaloResult) -> f64| {
+        Col::F64(rows.iter().map(|x| get(x.2)).collect())
+    };
+    let fg = |get: &dyn Fn(&crate::galaxies::GalaxyRecord) -> f64| {
+        Col::F64(rows.iter().map(|x| get(x.3)).collect())
+    };
+    vec![
+        Col::U64(rows.iter().map(|x| x.0).collect()),
+        Col::U64(rows.iter().map(|x| x.1).collect()),
+        Col::U32(rows.iter().map(|x| x.2.branch).collect()),
+        Col::U32(rows.iter().map(|x| x.2.parent_branch).collect()),
+        Col::U16(rows.iter().map(|x| x.2.order).collect()),
+        Col::U32(rows.iter().map(|x| x.2.group).collect()),
+        f(&|s| s.m_infall_msun),
+        f(&|s| s.m_peak_msun),
+        f(&|s| s.t_peak_gyr),
+        f(&|s| s.t_infall_gyr),
+        f(&|s| s.m_host_at_infall_msun),
+        f(&|s| s.t_first_host_infall_gyr),
+        f(&|s| s.t_last_host_infall_gyr),
+        f(&|s| s.t_release_gyr),
+        Col::U32(rows.iter().map(|x| x.2.n_pericentres).collect()),
+        f(&|s| s.t_peri_first_gyr),
+        f(&|s| s.r_peri_first_kpc),
+        f(&|s| s.r_peri_min_kpc),
+        f(&|s| s.t_peri_last_gyr),
+        f(&|s| s.r_peri_last_kpc),
+        f(&|s| s.r_apo_last_kpc),
+        Col::U32(rows.iter().map(|x| x.2.n_host_crossings).collect()),
+        f(&|s| s.t_disrupt_physical_gyr),
+        f(&|s| s.t_disrupt_pericentre_gyr),
+        f(&|s| s.pos_kpc[0]),
+        f(&|s| s.pos_kpc[1]),
+        f(&|s| s.pos_kpc[2]),
+        f(&|s| s.vel_kms[0]),
+        f(&|s| s.vel_kms[1]),
+        f(&|s| s.vel_kms[2]),
+        f(&|s| s.r_kpc),
+        f(&|s| s.m_bound_msun),
+        f(&|s| s.vmax_kms),
+        f(&|s| s.rmax_kpc),
+        f(&|s| s.vmax_infall_kms),
+        Col::U8(rows.iter().map(|x| x.2.backsplash as u8).collect()),
+        Col::U8(rows.iter().map(|x| x.2.status as u8).collect()),
+        Col::U8(rows.iter().map(|x| x.3.occupied as u8).collect()),
+        fg(&|g| g.mstar_msun),
+        fg(&|g| g.m_v),
+        fg(&|g| g.d_helio_kpc),
+        Col::U8(rows.iter().map(|x| x.3.observable as u8).collect()),
+    ]
+}
+
+fn create_col(g: &Group, spec: &Spec, template: &Col) -> hdf5::Result<()> {
+    macro_rules! mk {
+        ($t:ty) => {{
+            let ds = g
+                .new_dataset::<$t>()
+                .chunk(8192)
+                .shape(Extent::resizable(0))
+                .create(spec.0)?;
+            set_str_attr(&ds, "units", spec.1)?;
+            set_str_attr(&ds, "description", spec.2)?;
+        }};
+    }
+    match template {
+        Col::F64(_) => mk!(f64),
+        Col::U64(_) => mk!(u64),
+        Col::U32(_) => mk!(u32),
+        Col::U16(_) => mk!(u16),
+        Col::U8(_) => mk!(u8),
+    }
+    Ok(())
+}
+
+fn append<T: H5Type>(ds: &hdf5::Dataset, v: &[T]) -> hdf5::Result<()> {
+    let n = ds.size();
+    ds.resize(n + v.len())?;
+    ds.write_slice(v, n..n + v.len())
+}
+
+fn append_col(g: &Group, name: &str, c: &Col) -> hdf5::Result<()> {
+    let ds = g.dataset(name)?;
+    match c {
+        Col::F64(v) => append(&ds, v),
+        Col::U64(v) => append(&ds, v),
+        Col::U32(v) => append(&ds, v),
+        Col::U16(v) => append(&ds, v),
+        Col::U8(v) => append(&ds, v),
+    }
+}
+
+fn read_col(g: &Group, name: &str) -> hdf5::Result<Col> {
+    let ds = g.dataset(name)?;
+    let dt = ds.dtype()?;
+    Ok(if dt.is::<f64>() {
+        Col::F64(ds.read_raw()?)
+    } else if dt.is::<u64>() {
+        Col::U64(ds.read_raw()?)
+    } else if dt.is::<u32>() {
+        Col::U32(ds.read_raw()?)
+    } else if dt.is::<u16>() {
+        Col::U16(ds.read_raw()?)
+    } else {
+        Col::U8(ds.read_raw()?)
+    })
+}
+
+/// A store being written (one file).
+pub struct StoreWriter {
+    file: hdf5::File,
+    n_hosts: u64,
+    n_subs: u64,
+    mah_len: Option<usize>,
+}
+
+impl StoreWriter {
+    /// Create a new store file with its tables.
+    pub fn create(path: &Path, meta: &StoreMeta) -> hdf5::Result<Self> {
+        let f = hdf5::File::create(path)?;
+        set_str_attr(&f, "format", "retinue run store, version 1")?;
+        set_str_attr(&f, "config", &meta.config_toml)?;
+        set_num_attr(&f, "master_seed", meta.master_seed)?;
+        set_str_attr(&f, "generator", &meta.generator)?;
+        set_str_attr(&f, "crate_version", &meta.crate_version)?;
+        set_str_attr(&f, "build_info", &meta.build_info)?;
+        set_num_attr(&f, "n_hosts_total", meta.n_hosts_total)?;
+        set_num_attr(&f, "shard_index", meta.shard.0)?;
+        set_num_attr(&f, "shard_count", meta.shard.1)?;
+        let h = f.create_group("hosts")?;
+        let s = f.create_group("subhalos")?;
+        let templ_h = host_cols(&[], 0, 0);
+        for (spec, c) in HOST_COLUMNS.iter().zip(&templ_h) {
+            create_col(&h, spec, c)?;
+        }
+        let templ_s = sub_cols(&[], 0);
+        for (spec, c) in SUB_COLUMNS.iter().zip(&templ_s) {
+            create_col(&s, spec, c)?;
+        }
+        f.create_group("histories")?;
+        f.create_group("analysis")?;
+        Ok(Self {
+            file: f,
+            n_hosts: 0,
+            n_subs: 0,
+            mah_len: None,
+        })
+    }
+
+    /// Append hosts (global index, record) in order.
+    pub fn append(&mut self, recs: &[(u64, &HostRecord)]) -> hdf5::Result<()> {
+        if recs.is_empty() {
+            return Ok(());
+        }
+        let h = self.file.group("hosts")?;
+        for (spec, c) in HOST_COLUMNS
+            .iter()
+            .zip(host_cols(recs, self.n_hosts, self.n_subs))
+        {
+            append_col(&h, spec.0, &c)?;
+        }
+        let s = self.file.group("subhalos")?;
+        let cols = sub_cols(recs, self.n_hosts);
+        let n_new = cols[0].len() as u64;
+        for (spec, c) in SUB_COLUMNS.iter().zip(cols) {
+            append_col(&s, spec.0, &c)?;
+        }
+        // histories: a 2-D table, one row per host, on the tree's output grid
+        let hist = self.file.group("histories")?;
+        let len = recs[0].1.mah_msun.len();
+        if self.mah_len.is_none() {
+            let ds = hist
+                .new_dataset::<f64>()
+                .chunk((64, len))
+                .shape((Extent::resizable(0), Extent::fixed(len)))
+                .create("mass_msun")?;
+            set_str_attr(&ds, "units", "Msun")?;
+            set_str_attr(
+                &ds,
+                "description",
+                "main-branch virial mass, one row per host, columns at /histories/z",
+            )?;
+            let z = hist
+                .new_dataset_builder()
+                .with_data(&recs[0].1.mah_z)
+                .create("z")?;
+            set_str_attr(&z, "units", "")?;
+            set_str_attr(&z, "description", "redshifts of the history columns")?;
+            self.mah_len = Some(len);
+        }
+        let ds = hist.dataset("mass_msun")?;
+        let n = ds.shape()[0];
+        ds.resize((n + recs.len(), len))?;
+        let flat: Vec<f64> = recs
+            .iter()
+            .flat_map(|(_, r)| r.mah_msun.iter().copied())
+            .collect();
+        let arr = ndarray::Array2::from_shape_vec((recs.len(), len), flat)
+            .map_err(|e| hdf5::Error::from(e.to_string()))?;
+        ds.write_slice(&arr, (n..n + recs.len(), ..))?;
+        self.n_hosts += recs.len() as u64;
+        self.n_subs += n_new;
+        Ok(())
+    }
+
+    /// Append the rows of another store (a part or a shard), in order.
+    pub fn append_store(&mut self, other: &Path) -> Result<(), IoError> {
+        let e = |x| IoError::hdf5(other, x);
+        let f = hdf5::File::open(other).map_err(e)?;
+        let h = f.group("hosts").map_err(e)?;
+        let s = f.group("subhalos").map_err(e)?;
+        let mut hcols: Vec<Col> = HOST_COLUMNS
+            .iter()
+            .map(|c| read_col(&h, c.0))
+            .collect::<hdf5::Result<_>>()
+            .map_err(e)?;
+        let mut scols: Vec<Col> = SUB_COLUMNS
+            .iter()
+            .map(|c| read_col(&s, c.0))
+            .collect::<hdf5::Result<_>>()
+            .map_err(e)?;
+        let nh = hcols[0].len() as u64;
+        // renumber host rows and subhalo offsets
+        if let Col::U64(v) = &mut hcols[13] {
+            for x in v.iter_mut() {
+                *x += self.n_subs;
+            }
+        }
+        if let Col::U64(v) = &mut scols[0] {
+            for x in v.iter_mut() {
+                *x += self.n_hosts;
+            }
+        }
+        let me = |x| IoError::hdf5(Path::new("(output)"), x);
+        let hh = self.file.group("hosts").map_err(me)?;
+        for (spec, c) in HOST_COLUMNS.iter().zip(&hcols) {
+            append_col(&hh, spec.0, c).map_err(me)?;
+        }
+        let ss = self.file.group("subhalos").map_err(me)?;
+        let ns = scols[0].len() as u64;
+        for (spec, c) in SUB_COLUMNS.iter().zip(&scols) {
+            append_col(&ss, spec.0, c).map_err(me)?;
+        }
+        let hist = f.group("histories").map_err(e)?;
+        if let Ok(ds) = hist.dataset("mass_msun") {
+            let arr: ndarray::Array2<f64> = ds.read_2d().map_err(e)?;
+            let z: Vec<f64> = hist.dataset("z").map_err(e)?.read_raw().map_err(e)?;
+            let mh = self.file.group("histories").map_err(me)?;
+            let len = arr.ncols();
+            if self.mah_len.is_none() {
+                let d = mh
+                    .new_dataset::<f64>()
+                    .chunk((64, len.max(1)))
+                    .shape((Extent::resizable(0), Extent::fixed(len)))
+                    .create("mass_msun")
+                    .map_err(me)?;
+                set_str_attr(&d, "units", "Msun").map_err(me)?;
+                set_str_attr(
+                    &d,
+                    "description",
+                    "main-branch virial mass, one row per host, columns at /histories/z",
+                )
+                .map_err(me)?;
+                let zd = mh
+                    .new_dataset_builder()
+                    .with_data(&z)
+                    .create("z")
+                    .map_err(me)?;
+                set_str_attr(&zd, "units", "").map_err(me)?;
+                set_str_attr(&zd, "description", "redshifts of the history columns").map_err(me)?;
+                self.mah_len = Some(len);
+            }
+            let d = mh.dataset("mass_msun").map_err(me)?;
+            let n = d.shape()[0];
+            d.resize((n + arr.nrows(), len)).map_err(me)?;
+            d.write_slice(&arr, (n..n + arr.nrows(), ..)).map_err(me)?;
+        }
+        self.n_hosts += nh;
+        self.n_subs += ns;
+        Ok(())
+    }
+
+    pub fn file(&self) -> &hdf5::File {
+        &self.file
+    }
+
+    pub fn n_hosts(&self) -> u64 {
+        self.n_hosts
+    }
+
+    pub fn flush(&self) -> hdf5::Result<()> {
+        self.file.flush()
+    }
+}
+
+/// Metadata of an existing store.
+pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
+    let e = |x| IoError::hdf5(path, x);
+    let f = hdf5::File::open(path).map_err(e)?;
+    let fmt = get_str_attr(&f, "format").map_err(|_| IoError::Format {
+        path: path.display().to_string(),
+        reason: "not a retinue run store (no `format` attribute)".into(),
+    })?;
+    if !fmt.starts_with("retinue run store") {
+        return Err(IoError::Format {
+            path: path.display().to_string(),
+            reason: format!("not a retinue run store (format `{fmt}`)"),
+        });
+    }
+    Ok(StoreMeta {
+        config_toml: get_str_attr(&f, "config").map_err(e)?,
+        master_seed: f
+            .attr("master_seed")
+            .and_then(|a| a.read_scalar())
+            .map_err(e)?,
+        generator: get_str_attr(&f, "generator").map_err(e)?,
+        crate_version: get_str_attr(&f, "crate_version").map_err(e)?,
+        build_info: get_str_attr(&f, "build_info").map_err(e)?,
+        n_hosts_total: f
+            .attr("n_hosts_total")
+            .and_then(|a| a.read_scalar())
+            .map_err(e)?,
+        shard: (
+            f.attr("shard_index")
+                .and_then(|a| a.read_scalar())
+                .map_err(e)?,
+            f.attr("shard_count")
+                .and_then(|a| a.read_scalar())
+                .map_err(e)?,
+        ),
+    })
+}
+
+/// Read the columns the statistics need into a catalogue.
+pub fn read_catalog(path: &Path) -> Result<Catalog, IoError> {
+    let e = |x| IoError::hdf5(path, x);
+    let f = hdf5::File::open(path).map_err(e)?;
+    let h = f.group("hosts").map_err(e)?;
+    let s = f.group("subhalos").map_err(e)?;
+    let rf = |g: &Group, n: &str| -> Result<Vec<f64>, IoError> {
+        g.dataset(n).and_then(|d| d.read_raw()).map_err(e)
+    };
+    let mut c = Catalog {
+        host_id: h
+            .dataset("host_index")
+            .and_then(|d| d.read_raw())
+            .map_err(e)?,
+        host_cosmology: h
+            .dataset("cosmology_index")
+            .and_then(|d| d.read_raw())
+            .map_err(e)?,
+        host_mass_bin: h
+            .dataset("mass_bin")
+            .and_then(|d| d.read_raw())
+            .map_err(e)?,
+        host_m_vir_msun: rf(&h, "m_vir_msun")?,
+        host_r_vir_kpc: rf(&h, "r_vir_kpc")?,
+        ..Default::default()
+    };
+    let offs: Vec<u64> = h
+        .dataset("sub_offset")
+        .and_then(|d| d.read_raw())
+        .map_err(e)?;
+    let counts: Vec<u64> = h
+        .dataset("sub_count")
+        .and_then(|d| d.read_raw())
+        .map_err(e)?;
+    c.offset = offs.iter().map(|&o| o as usize).collect();
+    c.offset.push(
+        offs.last().map(|&o| o as usize).unwrap_or(0)
+            + counts.last().map(|&n| n as usize).unwrap_or(0),
+    );
+    c.branch = s.dataset("branch").and_then(|d| d.read_raw()).map_err(e)?;
+    c.parent_branch = s
+        .dataset("parent_branch")
+        .and_then(|d| d.read_raw())
+        .map_err(e)?;
+    c.order = s.dataset("order").and_then(|d| d.read_raw()).map_err(e)?;
+    c.m_peak_msun = rf(&s, "m_peak_msun")?;
+    c.m_bound_msun = rf(&s, "m_bound_msun")?;
+    c.t_infall_gyr = rf(&s, "t_infall_gyr")?;
+    c.m_host_at_infall_msun = rf(&s, "m_host_at_infall_msun")?;
+    c.t_first_host_infall_gyr = rf(&s, "t_first_host_infall_gyr")?;
+    c.t_last_host_infall_gyr = rf(&s, "t_last_host_infall_gyr")?;
+    c.r_kpc = rf(&s, "r_kpc")?;
+    let (x, y, z) = (rf(&s, "x_kpc")?, rf(&s, "y_kpc")?, rf(&s, "z_kpc")?);
+    let (vx, vy, vz) = (rf(&s, "vx_kms")?, rf(&s, "vy_kms")?, rf(&s, "vz_kms")?);
+    c.v_r_kms = (0..x.len())
+        .map(|i| (x[i] * vx[i] + y[i] * vy[i] + z[i] * vz[i]) / c.r_kpc[i])
+        .collect();
+    c.status = s.dataset("status").and_then(|d| d.read_raw()).map_err(e)?;
+    c.t_disrupt_pericentre_gyr = rf(&s, "t_disrupt_pericentre_gyr")?;
+    c.r_peri_min_kpc = rf(&s, "r_peri_min_kpc")?;
+    let b: Vec<u8> = s
+        .dataset("backsplash")
+        .and_then(|d| d.read_raw())
+        .map_err(e)?;
+    c.backsplash = b.into_iter().map(|v| v != 0).collect();
+    let o: Vec<u8> = s
+        .dataset("occupied")
+        .and_then(|d| d.read_raw())
+        .map_err(e)?;
+    c.occupied = o.into_iter().map(|v| v != 0).collect();
+    c.mstar_msun = rf(&s, "mstar_msun")?;
+    c.m_v = rf(&s, "m_v")?;
+    let ob: Vec<u8> = s
+        .dataset("observable")
+        .and_then(|d| d.read_raw())
+        .map_err(e)?;
+    c.observable = ob.into_iter().map(|v| v != 0).collect();
+    if c.offset.len() != c.host_id.len() + 1 || *c.offset.last().unwrap() != c.branch.len() {
+        return Err(IoError::Format {
+            path: path.display().to_string(),
+            reason: "host offsets do not match the subhalo table (truncated or damaged store)"
+                .into(),
+        });
+    }
+    Ok(c)
+}
+
+/// Directory of the part files of a run writing `final_path`.
+pub fn parts_dir(final_path: &Path) -> PathBuf {
+    let name = final_path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run.h5".into());
+    final_path.with_file_name(format!(".{name}.parts"))
+}
+
+/// Path of part `k`.
+pub fn part_path(dir: &Path, k: usize) -> PathBuf {
+    dir.join(format!("part-{k:05}.h5"))
+}
+
+/// Write one part atomically.
+pub fn write_part(
+    path: &Path,
+    meta: &StoreMeta,
+    recs: &[(u64, &HostRecord)],
+) -> Result<(), IoError> {
+    let atomic = AtomicPath::new(path);
+    let r = (|| -> hdf5::Result<()> {
+        let mut w = StoreWriter::create(&atomic.temp_path, meta)?;
+        w.append(recs)?;
+        w.flush()
+    })();
+    match r {
+        Ok(()) => atomic.commit().map(|_| ()),
+        Err(e) => {
+            atomic.discard();
+            Err(IoError::hdf5(path, e))
+        }
+    }
+}

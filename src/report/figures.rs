@@ -1,0 +1,361 @@
+//! PNG figures with plotters. Text uses the DejaVu Sans font shipped in assets/fonts (free
+//! licence, assets/fonts/LICENSE_DEJAVU), embedded in the binary so figures render on
+//! machines without fonts.
+
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
+
+use plotters::prelude::*;
+
+use crate::stats::tests::Curve;
+use crate::stats::{AnalysisResults, Catalog};
+
+static FONT: OnceLock<Result<(), String>> = OnceLock::new();
+
+fn ensure_font() -> Result<(), String> {
+    FONT.get_or_init(|| {
+        plotters::style::register_font(
+            "sans-serif",
+            FontStyle::Normal,
+            include_bytes!("../../assets/fonts/DejaVuSans.ttf"),
+        )
+        .map_err(|_| "the embedded font could not be loaded".to_string())
+    })
+    .clone()
+}
+
+const COLORS: [RGBColor; 3] = [
+    RGBColor(31, 119, 180),
+    RGBColor(214, 39, 40),
+    RGBColor(44, 160, 44),
+];
+
+type Res = Result<(), Box<dyn std::error::Error>>;
+
+fn curve_plot(
+    path: &Path,
+    title: &str,
+    xlabel: &str,
+    curves: &[(String, Vec<f64>, &Curve)],
+) -> Res {
+    let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let xmax = curves
+        .iter()
+        .flat_map(|c| c.1.iter().copied())
+        .fold(0.0f64, f64::max)
+        .max(1e-3);
+    let mut ch = ChartBuilder::on(&root)
+        .caption(title, ("sans-serif", 24))
+        .margin(20)
+        .x_label_area_size(45)
+        .y_label_area_size(60)
+        .build_cartesian_2d(0.0..xmax, 0.0..1.0)?;
+    ch.configure_mesh()
+        .x_desc(xlabel)
+        .y_desc("probability")
+        .label_style(("sans-serif", 16))
+        .draw()?;
+    for (i, (name, x, c)) in curves.iter().enumerate() {
+        let col = COLORS[i % COLORS.len()];
+        let band: Vec<(f64, f64)> = x
+            .iter()
+            .zip(&c.spread)
+            .map(|(&x, s)| (x, s.p84))
+            .chain(x.iter().zip(&c.spread).rev().map(|(&x, s)| (x, s.p16)))
+            .collect();
+        ch.draw_series(std::iter::once(Polygon::new(band, col.mix(0.12))))?;
+        let boot: Vec<(f64, f64)> = x
+            .iter()
+            .zip(&c.spread)
+            .map(|(&x, s)| (x, s.boot84))
+            .chain(x.iter().zip(&c.spread).rev().map(|(&x, s)| (x, s.boot16)))
+            .collect();
+        ch.draw_series(std::iter::once(Polygon::new(boot, col.mix(0.35))))?;
+        ch.draw_series(LineSeries::new(
+            x.iter().zip(&c.spread).map(|(&x, s)| (x, s.mean)),
+            col.stroke_width(2),
+        ))?
+        .label(name.clone())
+        .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], col.stroke_width(2)));
+    }
+    ch.configure_series_labels()
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .label_font(("sans-serif", 16))
+        .draw()?;
+    root.present()?;
+    Ok(())
+}
+
+fn hist_plot(
+    path: &Path,
+    title: &str,
+    xlabel: &str,
+    series: &[(String, Vec<f64>)],
+    bins: usize,
+    log_y: bool,
+) -> Res {
+    let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let xmax = series
+        .iter()
+        .flat_map(|s| s.1.iter().copied())
+        .filter(|v| v.is_finite())
+        .fold(0.0f64, f64::max)
+        .max(1e-3);
+    let w = xmax / bins as f64;
+    let hists: Vec<Vec<f64>> = series
+        .iter()
+        .map(|(_, v)| {
+            let mut h = vec![0.0; bins];
+            let n = v.iter().filter(|x| x.is_finite()).count().max(1) as f64;
+            for &x in v.iter().filter(|x| x.is_finite()) {
+                let k = ((x / w) as usize).min(bins - 1);
+                h[k] += 1.0 / (n * w);
+            }
+            h
+        })
+        .collect();
+    let ymax = hists
+        .iter()
+        .flatten()
+        .copied()
+        .fold(0.0f64, f64::max)
+        .max(1e-9)
+        * 1.1;
+    let mut ch = ChartBuilder::on(&root)
+        .caption(title, ("sans-serif", 24))
+        .margin(20)
+        .x_label_area_size(45)
+        .y_label_area_size(70)
+        .build_cartesian_2d(0.0..xmax, if log_y { 1e-4 * ymax..ymax } else { 0.0..ymax })?;
+    ch.configure_mesh()
+        .x_desc(xlabel)
+        .y_desc("probability density")
+        .label_style(("sans-serif", 16))
+        .draw()?;
+    for (i, ((name, _), h)) in series.iter().zip(&hists).enumerate() {
+        let col = COLORS[i % COLORS.len()];
+        let pts: Vec<(f64, f64)> = h
+            .iter()
+            .enumerate()
+            .flat_map(|(k, &v)| [(k as f64 * w, v), ((k + 1) as f64 * w, v)])
+            .collect();
+        ch.draw_series(LineSeries::new(pts, col.stroke_width(2)))?
+            .label(name.clone())
+            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], col.stroke_width(2)));
+    }
+    ch.configure_series_labels()
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .label_font(("sans-serif", 16))
+        .draw()?;
+    root.present()?;
+    Ok(())
+}
+
+fn cumulative_plot(
+    path: &Path,
+    title: &str,
+    xlabel: &str,
+    ylabel: &str,
+    x: &[f64],
+    y: &[f64],
+    log: bool,
+) -> Res {
+    let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let pts: Vec<(f64, f64)> = x
+        .iter()
+        .zip(y)
+        .filter(|(a, b)| a.is_finite() && b.is_finite() && (!log || (**a > 0.0 && **b > 0.0)))
+        .map(|(a, b)| (*a, *b))
+        .collect();
+    if pts.is_empty() {
+        return Ok(());
+    }
+    let (x0, x1) = pts.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, p| {
+        (a.0.min(p.0), a.1.max(p.0))
+    });
+    let (y0, y1) = pts.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, p| {
+        (a.0.min(p.1), a.1.max(p.1))
+    });
+    if log {
+        let mut ch = ChartBuilder::on(&root)
+            .caption(title, ("sans-serif", 24))
+            .margin(20)
+            .x_label_area_size(45)
+            .y_label_area_size(70)
+            .build_cartesian_2d((x0..x1).log_scale(), (y0..y1 * 1.1).log_scale())?;
+        ch.configure_mesh()
+            .x_desc(xlabel)
+            .y_desc(ylabel)
+            .label_style(("sans-serif", 16))
+            .draw()?;
+        ch.draw_series(LineSeries::new(pts, COLORS[0].stroke_width(2)))?;
+    } else {
+        let mut ch = ChartBuilder::on(&root)
+            .caption(title, ("sans-serif", 24))
+            .margin(20)
+            .x_label_area_size(45)
+            .y_label_area_size(70)
+            .build_cartesian_2d(x0.min(0.0)..x1, y0.min(0.0)..y1 * 1.05)?;
+        ch.configure_mesh()
+            .x_desc(xlabel)
+            .y_desc(ylabel)
+            .label_style(("sans-serif", 16))
+            .draw()?;
+        ch.draw_series(LineSeries::new(pts, COLORS[0].stroke_width(2)))?;
+    }
+    root.present()?;
+    Ok(())
+}
+
+/// Write every figure into `dir`; returns the files written.
+pub fn write_figures(
+    dir: &Path,
+    res: &AnalysisResults,
+    cat: &Catalog,
+    cosmo: &crate::cosmology::Cosmology,
+) -> Result<Vec<PathBuf>, String> {
+    ensure_font()?;
+    let mut out = Vec::new();
+    let mut go = |name: &str, r: Res| -> Result<(), String> {
+        r.map_err(|e| format!("figure {name}: {e}"))?;
+        out.push(dir.join(name));
+        Ok(())
+    };
+    let by_z: Vec<(String, Vec<f64>, &Curve)> = res
+        .all_of_n_mc
+        .iter()
+        .map(|(c, cv)| (c.name().to_string(), cv.x.clone(), cv))
+        .collect();
+    go(
+        "all_of_n_vs_redshift.png",
+        curve_plot(
+            &dir.join("all_of_n_vs_redshift.png"),
+            &format!("P(all {} fell in before z)", res.n_draw),
+            "redshift z",
+            &by_z,
+        ),
+    )?;
+    let lb = |z: f64| cosmo.lookback_gyr(z);
+    let by_t: Vec<(String, Vec<f64>, &Curve)> = res
+        .all_of_n_mc
+        .iter()
+        .map(|(c, cv)| {
+            (
+                c.name().to_string(),
+                cv.x.iter().map(|&z| lb(z)).collect(),
+                cv,
+            )
+        })
+        .collect();
+    go(
+        "all_of_n_vs_lookback.png",
+        curve_plot(
+            &dir.join("all_of_n_vs_lookback.png"),
+            &format!("P(all {} fell in earlier than a lookback time)", res.n_draw),
+            "lookback time (Gyr)",
+            &by_t,
+        ),
+    )?;
+    let infall: Vec<(String, Vec<f64>)> = res
+        .infall_lookbacks
+        .iter()
+        .map(|(c, v)| (c.name().to_string(), v.clone()))
+        .collect();
+    go(
+        "infall_times.png",
+        hist_plot(
+            &dir.join("infall_times.png"),
+            "infall lookback times of selected satellites",
+            "lookback time (Gyr)",
+            &infall,
+            28,
+            false,
+        ),
+    )?;
+    // pericentres of surviving satellites
+    let peri: Vec<f64> = (0..cat.n_subhaloes())
+        .filter(|&i| !cat.disrupted_physical(i) && cat.occupied[i])
+        .map(|i| cat.r_peri_min_kpc[i])
+        .filter(|v| v.is_finite())
+        .collect();
+    go(
+        "pericentres.png",
+        hist_plot(
+            &dir.join("pericentres.png"),
+            "smallest pericentre of surviving luminous satellites",
+            "r_peri (kpc)",
+            &[("all hosts".into(), peri)],
+            40,
+            false,
+        ),
+    )?;
+    // mass function: mean N(> m_bound / M_host) inside R_vir
+    let mut psi: Vec<f64> = Vec::new();
+    for h in 0..cat.n_hosts() {
+        for i in cat.rows(h) {
+            if !cat.disrupted_physical(i) && cat.r_kpc[i] < cat.host_r_vir_kpc[h] {
+                psi.push(cat.m_bound_msun[i] / cat.host_m_vir_msun[h]);
+            }
+        }
+    }
+    psi.sort_by(|a, b| b.partial_cmp(a).unwrap());
+    let nh = cat.n_hosts().max(1) as f64;
+    let n_cum: Vec<f64> = (1..=psi.len()).map(|k| k as f64 / nh).collect();
+    go(
+        "subhalo_mass_function.png",
+        cumulative_plot(
+            &dir.join("subhalo_mass_function.png"),
+            "surviving subhaloes inside R_vir",
+            "m_bound / M_host",
+            "N(> m) per host",
+            &psi,
+            &n_cum,
+            true,
+        ),
+    )?;
+    let mut x: Vec<f64> = Vec::new();
+    for h in 0..cat.n_hosts() {
+        for i in cat.rows(h) {
+            if !cat.disrupted_physical(i) && cat.occupied[i] && cat.r_kpc[i] < cat.host_r_vir_kpc[h]
+            {
+                x.push(cat.r_kpc[i] / cat.host_r_vir_kpc[h]);
+            }
+        }
+    }
+    x.sort_by(|a, b| a.partial_cmp(b).unwrap());
+    let f: Vec<f64> = (1..=x.len())
+        .map(|k| k as f64 / x.len().max(1) as f64)
+        .collect();
+    go(
+        "radial_distribution.png",
+        cumulative_plot(
+            &dir.join("radial_distribution.png"),
+            "luminous satellites inside R_vir",
+            "r / R_vir",
+            "N(< r) / N",
+            &x,
+            &f,
+            false,
+        ),
+    )?;
+    let dm: Vec<f64> = res.dependence.iter().map(|d| d.3).collect();
+    let dp: Vec<f64> = res.dependence.iter().map(|d| d.5).collect();
+    go(
+        "dependence_on_host_mass.png",
+        cumulative_plot(
+            &dir.join("dependence_on_host_mass.png"),
+            "all-of-N probability at z = 2 (first infall) by grid cell",
+            "median host mass (Msun)",
+            "mean P",
+            &dm,
+            &dp,
+            false,
+        ),
+    )?;
+    Ok(out)
+}

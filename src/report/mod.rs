@@ -1,0 +1,382 @@
+//! Reports: CSV tables, a Markdown summary, the `analysis` group of the store, and figures.
+
+pub mod figures;
+
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+use crate::io::h5::{set_num_attr, set_str_attr};
+use crate::io::{AtomicPath, IoError};
+use crate::stats::intervals::Spread;
+use crate::stats::tests::Curve;
+use crate::stats::{AnalysisResults, ObservedSample, TestOptions};
+
+fn spread_header() -> &'static str {
+    "mean,median,p16,p84,boot16,boot84,boot025,boot975"
+}
+
+fn spread_row(s: &Spread) -> String {
+    format!(
+        "{:.6},{:.6},{:.6},{:.6},{:.6},{:.6},{:.6},{:.6}",
+        s.mean, s.median, s.p16, s.p84, s.boot16, s.boot84, s.boot025, s.boot975
+    )
+}
+
+fn write_atomic(path: &Path, text: &str) -> Result<(), IoError> {
+    let a = AtomicPath::new(path);
+    std::fs::write(&a.temp_path, text).map_err(|e| IoError::fs(&a.temp_path, e))?;
+    a.commit().map(|_| ())
+}
+
+/// Write the CSV tables and the Markdown report into `dir`; returns the files written.
+pub fn write_tables(
+    dir: &Path,
+    res: &AnalysisResults,
+    options: &TestOptions,
+    sample: Option<&ObservedSample>,
+    run_summary: &str,
+) -> Result<Vec<PathBuf>, IoError> {
+    std::fs::create_dir_all(dir).map_err(|e| IoError::fs(dir, e))?;
+    let mut files = Vec::new();
+    let mut put = |name: &str, text: String| -> Result<(), IoError> {
+        let p = dir.join(name);
+        write_atomic(&p, &text)?;
+        files.push(p);
+        Ok(())
+    };
+    // all of N
+    let mut t = format!("clock,n,z,{},exact_mean\n", spread_header());
+    for ((clock, mc), (_, ex)) in res.all_of_n_mc.iter().zip(&res.all_of_n_exact) {
+        for k in 0..mc.x.len() {
+            let _ = writeln!(
+                t,
+                "{},{},{},{},{:.6}",
+                clock.name(),
+                res.n_draw,
+                mc.x[k],
+                spread_row(&mc.spread[k]),
+                ex.spread[k].mean
+            );
+        }
+    }
+    put("all_of_n.csv", t)?;
+    let mut t = format!("clock,n,fraction,z,{}\n", spread_header());
+    for (clock, n, c) in &res.fraction_of_n {
+        for k in 0..c.x.len() {
+            let _ = writeln!(
+                t,
+                "{},{},{},{},{}",
+                clock.name(),
+                n,
+                options.fraction,
+                c.x[k],
+                spread_row(&c.spread[k])
+            );
+        }
+    }
+    put("fraction_of_n.csv", t)?;
+    if !res.quench.is_empty() {
+        let mut t = format!(
+            "clock,delay_gyr,{},largest_delay_allowed_gyr\n",
+            spread_header()
+        );
+        for (clock, c, tau) in &res.quench {
+            for k in 0..c.x.len() {
+                let _ = writeln!(
+                    t,
+                    "{},{},{},{}",
+                    clock.name(),
+                    c.x[k],
+                    spread_row(&c.spread[k]),
+                    tau
+                );
+            }
+        }
+        put("quenching_delay.csv", t)?;
+        let mut t = format!(
+            "object,clock,n_matches,median_infall_lookback_gyr,p_infall_before_quench_{}\n",
+            spread_header().replace(',', ",p_")
+        );
+        for (id, clock, lbs, s, n) in &res.matches {
+            let mut v = lbs.clone();
+            v.sort_by(|a, b| a.partial_cmp(b).unwrap());
+            let med = crate::stats::intervals::percentile(&v, 0.5);
+            let _ = writeln!(
+                t,
+                "{},{},{},{:.4},{}",
+                id,
+                clock.name(),
+                n,
+                med,
+                spread_row(s)
+            );
+        }
+        put("phase_space_matches.csv", t)?;
+    }
+    let mut t = String::from("cosmology_index,mass_bin,n_hosts,median_host_mass_msun,median_first_infall_z,mean_p_all_at_z2\n");
+    for (c, m, n, mm, z, p) in &res.dependence {
+        let _ = writeln!(t, "{c},{m},{n},{mm:.4e},{z:.4},{p:.6}");
+    }
+    put("dependence.csv", t)?;
+    let mut t = format!("quantity,{}\n", spread_header());
+    let _ = writeln!(
+        t,
+        "backsplash_fraction,{}",
+        spread_row(&res.backsplash_fraction)
+    );
+    put("backsplash.csv", t)?;
+    put("report.md", markdown(res, options, sample, run_summary))?;
+    Ok(files)
+}
+
+fn at_z(c: &Curve, z: f64) -> Option<&Spread> {
+    c.x.iter()
+        .position(|&x| (x - z).abs() < 1e-9)
+        .map(|k| &c.spread[k])
+}
+
+/// The Markdown report: selection, clocks, models and caveats in words, and the headline
+/// numbers.
+pub fn markdown(
+    res: &AnalysisResults,
+    o: &TestOptions,
+    sample: Option<&ObservedSample>,
+    run_summary: &str,
+) -> String {
+    let mut m = String::new();
+    let sel = &res.selection;
+    let _ = writeln!(m, "# Infall-time tests\n");
+    let _ = writeln!(m, "{run_summary}\n");
+    let _ = writeln!(m, "## Selection: {}\n", sel.name);
+    let _ = writeln!(
+        m,
+        "Mock satellites with peak mass {:.3e}–{:.3e} Msun, stellar mass {:.3e}–{:.3e} Msun, M_V between {} and {}, \
+         at {}–{} R_vir today, hosting a galaxy, surviving tidal stripping{}{}.",
+        sel.m_peak_msun[0], sel.m_peak_msun[1], sel.mstar_msun[0], sel.mstar_msun[1], sel.m_v[0], sel.m_v[1],
+        sel.r_over_rvir[0], sel.r_over_rvir[1],
+        if sel.survival == crate::stats::Survival::Pericentre { " and never passing a pericentre inside the disc cut" } else { "" },
+        if sel.observable_only { ", and detectable by the configured survey" } else { "" }
+    );
+    let n_h = res.candidates.len();
+    let mut c = res.candidates.clone();
+    c.sort();
+    let _ = writeln!(
+        m,
+        "\n{n_h} hosts; candidates per host: median {}, range {}–{}. {} hosts have fewer than N = {} candidates and are \
+         left out of the all-of-N test{}.\n",
+        c.get(n_h / 2).copied().unwrap_or(0),
+        c.first().copied().unwrap_or(0),
+        c.last().copied().unwrap_or(0),
+        res.hosts_too_few.len(),
+        res.n_draw,
+        if res.hosts_too_few.is_empty() { "" } else { " (their indices are in the store's analysis group)" }
+    );
+    let _ = writeln!(m, "## Clocks\n");
+    let _ = writeln!(m, "- **first_host_infall**: the first crossing of the host's virial radius (the merger with the host's main branch in the tree).");
+    let _ = writeln!(m, "- **last_host_infall**: the last inward crossing of the host's evolving virial radius (later for objects that went back out).");
+    let thr = match (
+        o.preprocessing.halo_mass_msun,
+        o.preprocessing.stellar_mass_msun,
+    ) {
+        (Some(h), _) => format!("a halo of at least {h:.3e} Msun"),
+        (None, Some(s)) => format!("a halo whose median galaxy has at least {s:.3e} Msun of stars"),
+        _ => "any halo".into(),
+    };
+    let _ = writeln!(
+        m,
+        "- **preprocessing**: the first merger into {thr}, the host included.\n"
+    );
+    let _ = writeln!(m, "## All of N = {}\n", res.n_draw);
+    let _ = writeln!(m, "Probability that all {} satellites drawn at random from one host ({} draws per host) had fallen in before redshift z: mean over hosts with its bootstrap 16–84% interval ({} resamples), and the host-to-host 16–84% range.\n", res.n_draw, o.draws, o.bootstrap);
+    let _ = writeln!(
+        m,
+        "| clock | z | mean | bootstrap 16–84% | hosts 16–84% |\n|---|---|---|---|---|"
+    );
+    for (clock, cv) in &res.all_of_n_mc {
+        for z in [1.0, 2.0, 3.0, 4.0] {
+            if let Some(s) = at_z(cv, z) {
+                let _ = writeln!(
+                    m,
+                    "| {} | {z} | {:.4} | {:.4}–{:.4} | {:.4}–{:.4} |",
+                    clock.name(),
+                    s.mean,
+                    s.boot16,
+                    s.boot84,
+                    s.p16,
+                    s.p84
+                );
+            }
+        }
+    }
+    if !res.quench.is_empty() {
+        let n = sample.map(|s| s.objects.len()).unwrap_or(0);
+        let _ = writeln!(m, "\n## Quenching delay ({n} observed objects)\n");
+        let _ = writeln!(m, "With an environmental quenching delay τ, a draw of {n} mock satellites paired at random with the observed objects explains them all if every object's infall lookback time minus τ is at least its quenching lookback time (perturbed by its error). The largest τ with a mean probability of at least {:.2} (confidence {:.2}):\n", 1.0 - o.confidence, o.confidence);
+        for (clock, _, tau) in &res.quench {
+            let txt = if tau.is_nan() {
+                "none on the grid: even τ = 0 is excluded".to_string()
+            } else {
+                format!("{tau:.2} Gyr")
+            };
+            let _ = writeln!(m, "- {}: {txt}", clock.name());
+        }
+    }
+    if !res.matches.is_empty() {
+        let _ = writeln!(m, "\n## Phase-space-matched objects\n\nMock satellites within ±{} kpc, ±{} km/s and ±{} dex of each object; probability that the match fell in before the object quenched (first host infall):\n", o.match_windows.dr_kpc, o.match_windows.dv_kms, o.match_windows.dlog_mstar);
+        let _ = writeln!(
+            m,
+            "| object | matches | P(infall before quenching) | hosts 16–84% |\n|---|---|---|---|"
+        );
+        for (id, clock, _, s, n) in &res.matches {
+            if *clock == crate::stats::Clock::FirstHostInfall {
+                let _ = writeln!(
+                    m,
+                    "| {id} | {n} | {:.3} | {:.3}–{:.3} |",
+                    s.mean, s.p16, s.p84
+                );
+            }
+        }
+    }
+    let b = &o.backsplash;
+    let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {:.2e}–{:.2e} Msun at {}–{} R_vir today, the fraction that were once inside the host: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from the Mo & White 1996 mass function of a region of {:.2e} Msun within {} Mpc (linear theory, haloes spread uniformly over the region; an estimate, not a prediction of the infall-region profile).",
+        b.m_peak_msun[0], b.m_peak_msun[1], b.shell_over_rvir[0], b.shell_over_rvir[1], res.backsplash_fraction.mean, res.backsplash_fraction.p16, res.backsplash_fraction.p84, res.backsplash_count_mean, res.field_count_expected, b.region_mass_msun, b.region_radius_mpc);
+    let _ = writeln!(m, "\n## Caveats\n");
+    let _ = writeln!(m, "- The draws treat the observed satellites as a random subset of the selection; bright and nearby satellites are not a random subset in infall time, so match the selection (stellar mass, distance, survey) to how the sample was chosen.");
+    let _ = writeln!(m, "- Infall times come from extended Press–Schechter trees (Parkinson, Cole & Helly 2008) and semi-analytic orbits; disruption by the disc is modelled by a pericentre cut or tidal stripping, not simulated.");
+    let _ = writeln!(m, "- Host-to-host scatter is large; the bootstrap interval describes the uncertainty of the host-averaged value, the 16–84% range the spread of single hosts like the Milky Way.");
+    m
+}
+
+/// Write the results into the store's `analysis` group (replacing any earlier one).
+pub fn write_analysis(
+    file: &hdf5::File,
+    res: &AnalysisResults,
+    options_toml: &str,
+) -> hdf5::Result<()> {
+    if file.link_exists("analysis") {
+        file.unlink("analysis")?;
+    }
+    let a = file.create_group("analysis")?;
+    set_str_attr(&a, "tests", options_toml)?;
+    set_num_attr(&a, "n_draw", res.n_draw as u64)?;
+    let col = |g: &hdf5::Group, name: &str, v: &[f64], units: &str| -> hdf5::Result<()> {
+        let d = g.new_dataset_builder().with_data(v).create(name)?;
+        set_str_attr(&d, "units", units)
+    };
+    let write_curve = |g: &hdf5::Group, c: &Curve, xname: &str| -> hdf5::Result<()> {
+        col(g, xname, &c.x, "")?;
+        col(
+            g,
+            "mean",
+            &c.spread.iter().map(|s| s.mean).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "median",
+            &c.spread.iter().map(|s| s.median).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "p16",
+            &c.spread.iter().map(|s| s.p16).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "p84",
+            &c.spread.iter().map(|s| s.p84).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "boot16",
+            &c.spread.iter().map(|s| s.boot16).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "boot84",
+            &c.spread.iter().map(|s| s.boot84).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "boot025",
+            &c.spread.iter().map(|s| s.boot025).collect::<Vec<_>>(),
+            "",
+        )?;
+        col(
+            g,
+            "boot975",
+            &c.spread.iter().map(|s| s.boot975).collect::<Vec<_>>(),
+            "",
+        )
+    };
+    let g = a.create_group("all_of_n")?;
+    for ((clock, mc), (_, ex)) in res.all_of_n_mc.iter().zip(&res.all_of_n_exact) {
+        let cg = g.create_group(clock.name())?;
+        write_curve(&cg, mc, "z")?;
+        col(
+            &cg,
+            "exact_mean",
+            &ex.spread.iter().map(|s| s.mean).collect::<Vec<_>>(),
+            "",
+        )?;
+    }
+    let g = a.create_group("fraction_of_n")?;
+    for (clock, n, c) in &res.fraction_of_n {
+        let cg = if g.link_exists(clock.name()) {
+            g.group(clock.name())?
+        } else {
+            g.create_group(clock.name())?
+        };
+        let ng = cg.create_group(&format!("n{n}"))?;
+        write_curve(&ng, c, "z")?;
+    }
+    let g = a.create_group("quenching_delay")?;
+    for (clock, c, tau) in &res.quench {
+        let cg = g.create_group(clock.name())?;
+        write_curve(&cg, c, "delay_gyr")?;
+        set_num_attr(&cg, "largest_delay_allowed_gyr", *tau)?;
+    }
+    let hosts_too_few = a
+        .new_dataset_builder()
+        .with_data(&res.hosts_too_few)
+        .create("hosts_too_few")?;
+    set_str_attr(&hosts_too_few, "units", "index")?;
+    let cand: Vec<u64> = res.candidates.iter().map(|&c| c as u64).collect();
+    a.new_dataset_builder()
+        .with_data(&cand)
+        .create("candidates_per_host")?;
+    let bg = a.create_group("backsplash")?;
+    set_num_attr(&bg, "fraction_mean", res.backsplash_fraction.mean)?;
+    set_num_attr(&bg, "fraction_boot16", res.backsplash_fraction.boot16)?;
+    set_num_attr(&bg, "fraction_boot84", res.backsplash_fraction.boot84)?;
+    set_num_attr(&bg, "backsplash_per_host", res.backsplash_count_mean)?;
+    set_num_attr(&bg, "field_expected_per_host", res.field_count_expected)?;
+    Ok(())
+}
+
+/// Write the analysis into an existing store atomically (copy, write, rename over).
+pub fn write_analysis_to_store(
+    store: &Path,
+    res: &AnalysisResults,
+    options_toml: &str,
+) -> Result<(), IoError> {
+    let a = AtomicPath::new(store);
+    std::fs::copy(store, &a.temp_path).map_err(|e| IoError::fs(&a.temp_path, e))?;
+    let r = (|| -> hdf5::Result<()> {
+        let f = hdf5::File::open_rw(&a.temp_path)?;
+        write_analysis(&f, res, options_toml)?;
+        f.flush()
+    })();
+    match r {
+        Ok(()) => a.commit().map(|_| ()),
+        Err(e) => {
+            a.discard();
+            Err(IoError::hdf5(store, e))
+        }
+    }
+}

@@ -1,0 +1,299 @@
+//! A whole run: the grid of (cosmology × host mass × hosts per cell), hosts synthesised in
+//! parallel batches, each batch written to a crash-safe part file, the parts joined into the
+//! store, then the tests and the report. Host g of the grid is
+//! (cosmology c, mass bin m, k) with g = (c * n_mass + m) * hosts_per_cell + k; its random
+//! streams depend only on (master seed, c, m, k), so threads, shards and resumes never change
+//! a host's output.
+
+use std::path::{Path, PathBuf};
+
+use rand::Rng;
+use rayon::prelude::*;
+
+use crate::config::{MassBin, RunConfig};
+use crate::cosmology::Cosmology;
+use crate::error::InvalidValue;
+use crate::halo::concentration::{c_of_m, ConcentrationModel};
+use crate::halo::definitions::convert_nfw;
+use crate::halo::MassDefinition;
+use crate::io::store::{part_path, parts_dir, write_part, StoreMeta, StoreWriter};
+use crate::io::{AtomicPath, IoError};
+use crate::linear::LinearTheory;
+use crate::rng::{host_rng, HostId, Stream, GENERATOR};
+use crate::synth::{synthesize_host, HostRecord, SynthOptions};
+use crate::trees::{OutputTimes, TreeBuilder, TreeSpec};
+
+/// Errors of a run.
+#[derive(Debug, thiserror::Error)]
+pub enum RunError {
+    #[error("{0}")]
+    Invalid(#[from] InvalidValue),
+    #[error("{0}")]
+    Io(#[from] IoError),
+    #[error("host {index} (cosmology {cosmology}, mass bin {mass_bin}, k = {k}, master seed {seed}): {reason}")]
+    Host {
+        index: u64,
+        cosmology: u16,
+        mass_bin: u16,
+        k: u32,
+        seed: u64,
+        reason: String,
+    },
+    #[error("{0}")]
+    Other(String),
+}
+
+/// Which slice of the grid this process runs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shard {
+    pub index: u32,
+    pub count: u32,
+}
+
+impl Shard {
+    pub const WHOLE: Shard = Shard { index: 0, count: 1 };
+
+    /// Contiguous block of global host indices [lo, hi).
+    pub fn range(&self, n_hosts: u64) -> (u64, u64) {
+        let n = self.count as u64;
+        let k = self.index as u64;
+        (n_hosts * k / n, n_hosts * (k + 1) / n)
+    }
+}
+
+/// Everything needed to synthesise any host of the grid.
+pub struct Grid {
+    pub config: RunConfig,
+    pub theories: Vec<LinearTheory>,
+}
+
+impl Grid {
+    pub fn new(config: RunConfig) -> Result<Self, RunError> {
+        let theories = config
+            .cosmologies
+            .iter()
+            .map(|(p, o)| {
+                let c = Cosmology::new(p.clone()).map_err(|e| RunError::Other(e.to_string()))?;
+                LinearTheory::new(c, o.clone()).map_err(|e| RunError::Other(e.to_string()))
+            })
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok(Self { config, theories })
+    }
+
+    pub fn n_hosts(&self) -> u64 {
+        self.config.n_hosts()
+    }
+
+    /// (cosmology, mass bin, k) of global host g.
+    pub fn host_id(&self, g: u64) -> HostId {
+        let per = self.config.file.run.hosts_per_cell as u64;
+        let nm = self.config.mass_bins.len() as u64;
+        let cell = g / per;
+        HostId::new((cell / nm) as u16, (cell % nm) as u16, (g % per) as u32)
+    }
+
+    /// Host mass (Msun, config definition) of host id.
+    fn host_mass(&self, id: HostId) -> f64 {
+        match self.config.mass_bins[id.mass_bin as usize] {
+            MassBin::Fixed(m) => m,
+            MassBin::LogUniform(lo, hi) => {
+                let mut r = host_rng(self.config.file.run.master_seed, id, Stream::HostDraw);
+                (lo.ln() + (hi.ln() - lo.ln()) * r.random::<f64>()).exp()
+            }
+        }
+    }
+
+    /// Synthesis options of host id.
+    pub fn options(&self, id: HostId) -> SynthOptions {
+        let cfg = &self.config;
+        let lt = &self.theories[id.cosmology as usize];
+        let f = &cfg.file;
+        let m = self.host_mass(id);
+        let z = f.host.z_final;
+        let m_vir = if cfg.host_mass_definition == MassDefinition::Vir {
+            m
+        } else {
+            let c = c_of_m(
+                ConcentrationModel::DuttonMaccio14,
+                lt.cosmology(),
+                m,
+                z,
+                cfg.host_mass_definition,
+            );
+            convert_nfw(
+                lt.cosmology(),
+                m,
+                c,
+                z,
+                cfg.host_mass_definition,
+                MassDefinition::Vir,
+            )
+            .0
+        };
+        SynthOptions {
+            tree: TreeSpec {
+                m_host_msun: m_vir,
+                z_final: z,
+                m_resolution_msun: f.trees.resolution_msun,
+                z_max: f.trees.z_max,
+                outputs: OutputTimes::UniformLnA(f.trees.output_steps),
+                pch08: cfg.pch08,
+            },
+            host: cfg.host,
+            orbits: f.orbits,
+            galaxies: f.galaxies,
+            survey: f.survey,
+        }
+    }
+
+    /// Synthesise global host g.
+    pub fn synthesize(&self, g: u64, builder: &mut TreeBuilder) -> Result<HostRecord, RunError> {
+        let id = self.host_id(g);
+        let opts = self.options(id);
+        let seed = self.config.file.run.master_seed;
+        synthesize_host(
+            &self.theories[id.cosmology as usize],
+            &opts,
+            seed,
+            id,
+            builder,
+        )
+        .map_err(|e| RunError::Host {
+            index: g,
+            cosmology: id.cosmology,
+            mass_bin: id.mass_bin,
+            k: id.index,
+            seed,
+            reason: e.to_string(),
+        })
+    }
+
+    pub fn meta(&self, config_text: &str, shard: Shard) -> StoreMeta {
+        StoreMeta {
+            config_toml: config_text.to_string(),
+            master_seed: self.config.file.run.master_seed,
+            generator: GENERATOR.to_string(),
+            crate_version: env!("CARGO_PKG_VERSION").to_string(),
+            build_info: format!("{} {}", std::env::consts::OS, std::env::consts::ARCH),
+            n_hosts_total: self.n_hosts(),
+            shard: (shard.index, shard.count),
+        }
+    }
+}
+
+/// Progress reports: (hosts done, hosts total).
+pub type Progress<'a> = &'a (dyn Fn(u64, u64) + Sync);
+
+/// Synthesise this shard's hosts into `out` (crash-safe; resumable). Returns the path.
+pub fn synthesize_to_store(
+    grid: &Grid,
+    config_text: &str,
+    out: &Path,
+    shard: Shard,
+    resume: bool,
+    progress: Progress,
+) -> Result<PathBuf, RunError> {
+    let (lo, hi) = shard.range(grid.n_hosts());
+    let batch = grid.config.file.run.batch_hosts as u64;
+    let dir = parts_dir(out);
+    if dir.exists() && !resume {
+        return Err(RunError::Other(format!(
+            "{} holds parts of an interrupted run; add --resume to continue it, or delete the directory",
+            dir.display()
+        )));
+    }
+    std::fs::create_dir_all(&dir).map_err(|e| IoError::fs(&dir, e))?;
+    // a resumed run must have the same configuration
+    let stamp = dir.join("config.toml");
+    if stamp.exists() {
+        let old = std::fs::read_to_string(&stamp).map_err(|e| IoError::fs(&stamp, e))?;
+        if old != config_text {
+            return Err(RunError::Other(format!(
+                "--resume: the configuration differs from the one of the interrupted run in {}",
+                dir.display()
+            )));
+        }
+    } else {
+        std::fs::write(&stamp, config_text).map_err(|e| IoError::fs(&stamp, e))?;
+    }
+    let meta = grid.meta(config_text, shard);
+    let n_parts = (hi - lo).div_ceil(batch) as usize;
+    let mut done = 0u64;
+    for k in 0..n_parts {
+        let a = lo + k as u64 * batch;
+        let b = (a + batch).min(hi);
+        let path = part_path(&dir, k);
+        if !path.exists() {
+            let recs: Vec<Result<(u64, HostRecord), RunError>> = (a..b)
+                .into_par_iter()
+                .map_init(
+                    || TreeBuilder::new(grid.config.pch08).expect("validated"),
+                    |builder, g| grid.synthesize(g, builder).map(|r| (g, r)),
+                )
+                .collect();
+            let recs: Vec<(u64, HostRecord)> = recs.into_iter().collect::<Result<_, _>>()?;
+            let refs: Vec<(u64, &HostRecord)> = recs.iter().map(|(g, r)| (*g, r)).collect();
+            write_part(&path, &meta, &refs)?;
+        }
+        done += b - a;
+        progress(done, hi - lo);
+    }
+    // join the parts
+    let atomic = AtomicPath::new(out);
+    let _ = std::fs::remove_file(&atomic.temp_path);
+    {
+        let mut w = StoreWriter::create(&atomic.temp_path, &meta)
+            .map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
+        for k in 0..n_parts {
+            w.append_store(&part_path(&dir, k))?;
+        }
+        w.flush().map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
+    }
+    let path = atomic.commit()?;
+    let _ = std::fs::remove_dir_all(&dir);
+    Ok(path)
+}
+
+/// Join shard stores (in any order) into one store ordered by global host index.
+pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError> {
+    use crate::io::store::read_meta;
+    let mut metas = Vec::new();
+    for p in inputs {
+        metas.push((read_meta(p)?, p.clone()));
+    }
+    let first = metas
+        .first()
+        .ok_or_else(|| RunError::Other("no stores to merge".into()))?
+        .0
+        .clone();
+    for (m, p) in &metas {
+        if m.config_toml != first.config_toml || m.master_seed != first.master_seed {
+            return Err(RunError::Other(format!(
+                "{}: a different configuration or seed than {}",
+                p.display(),
+                metas[0].1.display()
+            )));
+        }
+    }
+    metas.sort_by_key(|(m, _)| m.shard.0);
+    let count = first.shard.1;
+    let have: Vec<u32> = metas.iter().map(|(m, _)| m.shard.0).collect();
+    let missing: Vec<u32> = (0..count).filter(|k| !have.contains(k)).collect();
+    if !missing.is_empty() || metas.iter().any(|(m, _)| m.shard.1 != count) {
+        return Err(RunError::Other(format!(
+            "shards of a {count}-way split are missing: {missing:?} (run them with --shard K/{count}, then merge again)"
+        )));
+    }
+    let mut meta = first.clone();
+    meta.shard = (0, 1);
+    let atomic = AtomicPath::new(out);
+    {
+        let mut w = StoreWriter::create(&atomic.temp_path, &meta)
+            .map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
+        for (_, p) in &metas {
+            w.append_store(p)?;
+        }
+        w.flush().map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
+    }
+    Ok(atomic.commit()?)
+}
