@@ -1,2 +1,3 @@
 mod cli_linear;
+mod cli_run;
 mod cli_tree;

@@ -1,0 +1,446 @@
+//! Whole runs: determinism across threads and shards, crash and resume, the store's schema,
+//! and clear errors for malformed configurations, samples and stores.
+
+use std::path::{Path, PathBuf};
+
+use crate::common::run_cli;
+
+const TINY: &str = r#"
+[run]
+master_seed = 11
+hosts_per_cell = 3
+batch_hosts = 2
+output = "tiny.h5"
+
+[cosmology]
+preset = "planck18"
+
+[host]
+mass_msun = [8e11, 1.2e12]
+
+[trees]
+resolution_msun = 1e9
+z_max = 10.0
+output_steps = 16
+
+[tests]
+n_draw = 3
+draws = 500
+bootstrap = 50
+n_range = [3, 4]
+z_grid = [0.0, 0.5, 1.0, 2.0]
+"#;
+
+fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+/// Every column of /hosts and /subhalos as f64 bit patterns (integers convert exactly).
+fn tables(path: &Path) -> Vec<(String, Vec<u64>)> {
+    let f = hdf5::File::open(path).unwrap();
+    let mut out = Vec::new();
+    for g in ["hosts", "subhalos"] {
+        let grp = f.group(g).unwrap();
+        let mut names = grp.member_names().unwrap();
+        names.sort();
+        for n in names {
+            let v: Vec<f64> = grp.dataset(&n).unwrap().read_raw().unwrap();
+            out.push((format!("{g}/{n}"), v.iter().map(|x| x.to_bits()).collect()));
+        }
+    }
+    let h: ndarray::Array2<f64> = f.dataset("histories/mass_msun").unwrap().read_2d().unwrap();
+    out.push(("histories".into(), h.iter().map(|x| x.to_bits()).collect()));
+    out
+}
+
+fn run_ok(args: &[&str]) -> String {
+    let (code, out, err) = run_cli(args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    out
+}
+
+#[test]
+fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let o = |n: &str| d.path().join(n).to_str().unwrap().to_string();
+    run_ok(&["run", c, "--threads", "1", "--out", &o("t1.h5")]);
+    run_ok(&["run", c, "--threads", "2", "--out", &o("t2.h5")]);
+    let a = tables(&d.path().join("t1.h5"));
+    assert_eq!(a, tables(&d.path().join("t2.h5")), "1 vs 2 threads");
+    for k in 1..=3 {
+        run_ok(&[
+            "run",
+            c,
+            "--threads",
+            "2",
+            "--shard",
+            &format!("{k}/3"),
+            "--out",
+            &o(&format!("s{k}.h5")),
+        ]);
+    }
+    // shards in any order
+    run_ok(&[
+        "merge",
+        &o("s3.h5"),
+        &o("s1.h5"),
+        &o("s2.h5"),
+        "--out",
+        &o("merged.h5"),
+    ]);
+    assert_eq!(
+        a,
+        tables(&d.path().join("merged.h5")),
+        "single run vs 3 shards merged"
+    );
+    // a missing shard is named
+    let (code, _, err) = run_cli(&["merge", &o("s1.h5"), &o("s3.h5"), "--out", &o("bad.h5")]);
+    assert_ne!(code, 0);
+    assert!(err.contains("[1]") && err.contains("missing"), "{err}");
+    // the tests run on the merged store without re-synthesising
+    let out = run_ok(&["infall", &o("merged.h5")]);
+    assert!(out.contains("P(all 3 fell in before z)"), "{out}");
+    let report = std::fs::read_to_string(d.path().join("merged-report").join("report.md")).unwrap();
+    assert!(report.contains("## Clocks") && report.contains("## Caveats"));
+    for fig in [
+        "all_of_n_vs_redshift.png",
+        "infall_times.png",
+        "pericentres.png",
+        "subhalo_mass_function.png",
+        "radial_distribution.png",
+    ] {
+        let p = d.path().join("merged-report").join(fig);
+        assert!(
+            std::fs::metadata(&p)
+                .map(|m| m.len() > 1000)
+                .unwrap_or(false),
+            "{fig}"
+        );
+    }
+}
+
+#[test]
+fn store_schema_units_and_provenance() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let out = d.path().join("s.h5");
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    let f = hdf5::File::open(&out).unwrap();
+    for (g, cols) in [
+        ("hosts", retinue::io::store::HOST_COLUMNS),
+        ("subhalos", retinue::io::store::SUB_COLUMNS),
+    ] {
+        let grp = f.group(g).unwrap();
+        for (name, units, _) in cols {
+            let ds = grp.dataset(name).unwrap_or_else(|_| panic!("{g}/{name}"));
+            assert_eq!(retinue::io::h5::get_str_attr(&ds, "units").unwrap(), *units);
+        }
+    }
+    let cfg_text = retinue::io::h5::get_str_attr(&f, "config").unwrap();
+    assert!(cfg_text.contains("hosts_per_cell = 3"));
+    let seed: u64 = f.attr("master_seed").unwrap().read_scalar().unwrap();
+    assert_eq!(seed, 11);
+    assert!(f.group("analysis").unwrap().group("all_of_n").is_ok());
+    let n: Vec<u64> = f.dataset("hosts/host_index").unwrap().read_raw().unwrap();
+    assert_eq!(n, vec![0, 1, 2, 3, 4, 5]);
+    // nothing but the store and its report
+    let mut names: Vec<String> = std::fs::read_dir(d.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(names, vec!["s-report", "s.h5", "tiny.toml"]);
+}
+
+/// Kill a run part-way (SIGKILL), resume it, and get the tables of an uninterrupted run.
+#[test]
+fn killed_run_resumes_to_identical_tables() {
+    let d = tempfile::tempdir().unwrap();
+    let text = TINY
+        .replace("hosts_per_cell = 3", "hosts_per_cell = 12")
+        .replace("batch_hosts = 2", "batch_hosts = 1");
+    let cfg = write(d.path(), "k.toml", &text);
+    let c = cfg.to_str().unwrap();
+    let full = d.path().join("full.h5");
+    run_ok(&["run", c, "--threads", "1", "--out", full.to_str().unwrap()]);
+    let out = d.path().join("killed.h5");
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(["run", c, "--threads", "1", "--out", out.to_str().unwrap()])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let parts = d.path().join(".killed.h5.parts");
+    let t0 = std::time::Instant::now();
+    loop {
+        let n = std::fs::read_dir(&parts)
+            .map(|r| {
+                r.filter(|e| {
+                    e.as_ref()
+                        .map(|e| e.file_name().to_string_lossy().starts_with("part-"))
+                        .unwrap_or(false)
+                })
+                .count()
+            })
+            .unwrap_or(0);
+        if n >= 3 || t0.elapsed().as_secs() > 60 {
+            break;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    child.kill().unwrap(); // SIGKILL on Unix
+    child.wait().unwrap();
+    assert!(
+        !out.exists(),
+        "a killed run must not leave a finished-looking store"
+    );
+    // without --resume the leftover parts are refused with a clear message
+    let (code, _, err) = run_cli(&["run", c, "--out", out.to_str().unwrap()]);
+    assert_ne!(code, 0);
+    assert!(err.contains("--resume"), "{err}");
+    run_ok(&[
+        "run",
+        c,
+        "--threads",
+        "2",
+        "--resume",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(tables(&full), tables(&out));
+    assert!(!parts.exists());
+}
+
+/// At least 30 malformed configurations and inputs: each gives exit code 2, a message that
+/// names the problem, no panic, and no files.
+#[test]
+fn malformed_configs_are_reported() {
+    let d = tempfile::tempdir().unwrap();
+    let base = TINY.to_string();
+    let cases: Vec<(String, &str)> = vec![
+        (
+            base.replace("preset = \"planck18\"", "preset = \"planck99\""),
+            "cosmology.preset",
+        ),
+        (
+            base.replace("hosts_per_cell = 3", "hosts_per_cell = 0"),
+            "run.hosts_per_cell",
+        ),
+        (
+            base.replace("hosts_per_cell = 3", "hosts_per_cell = -3"),
+            "hosts_per_cell",
+        ),
+        (
+            base.replace("hosts_per_cell = 3", "hosts_per_cell = \"many\""),
+            "hosts_per_cell",
+        ),
+        (
+            base.replace("master_seed = 11", "master_sead = 11"),
+            "master_sead",
+        ),
+        (base.replace("[trees]", "[tree]"), "tree"),
+        (
+            base.replace("resolution_msun = 1e9", "resolution_msun = 1e12"),
+            "trees.resolution_msun",
+        ),
+        (
+            base.replace("resolution_msun = 1e9", "resolution_msun = -1"),
+            "trees.resolution_msun",
+        ),
+        (base.replace("z_max = 10.0", "z_max = 0.0"), "trees.z_max"),
+        (base.replace("z_max = 10.0", "z_max = 500.0"), "trees.z_max"),
+        (
+            base.replace("output_steps = 16", "output_steps = 1"),
+            "trees.output_steps",
+        ),
+        (
+            base.replace("mass_msun = [8e11, 1.2e12]", "mass_msun = []"),
+            "host.mass_msun",
+        ),
+        (
+            base.replace("mass_msun = [8e11, 1.2e12]", "mass_msun = [8e11, 1e20]"),
+            "host.mass_msun",
+        ),
+        (
+            base.replace("mass_msun = [8e11, 1.2e12]", "mass_msun = \"heavy\""),
+            "mass_msun",
+        ),
+        (
+            base.replace("[host]", "[host]\nmass_definition = \"300c\""),
+            "host.mass_definition",
+        ),
+        (
+            base.replace("[host]", "[host]\nconcentration = \"random\""),
+            "host.concentration",
+        ),
+        (
+            base.replace("[host]", "[host]\ndisc_mass_msun = -5"),
+            "host.disc_mass_msun",
+        ),
+        (
+            base.replace("[host]", "[host]\nz_final = 25"),
+            "host.z_final",
+        ),
+        (
+            base.replace("[host]", "[host]\nmass_log_uniform_msun = [2e12, 1e12]"),
+            "host.mass_log_uniform_msun",
+        ),
+        (
+            base.replace("[tests]", "[orbits]\nrtol = 0.5\n\n[tests]"),
+            "orbits.rtol",
+        ),
+        (
+            base.replace("[tests]", "[orbits]\npericentre_cut_kpc = -1\n\n[tests]"),
+            "orbits.pericentre_cut_kpc",
+        ),
+        (
+            base.replace("[tests]", "[orbits]\nfriction = \"yes\"\n\n[tests]"),
+            "friction",
+        ),
+        (
+            base.replace("[tests]", "[galaxies]\nsmhm = \"other\"\n\n[tests]"),
+            "smhm",
+        ),
+        (
+            base.replace("[tests]", "[galaxies]\ndwarf_slope = 9\n\n[tests]"),
+            "galaxies.dwarf_slope",
+        ),
+        (
+            base.replace("[tests]", "[galaxies]\nscatter_dex = 3\n\n[tests]"),
+            "galaxies.scatter_dex",
+        ),
+        (
+            base.replace("[tests]", "[survey]\nsky_fraction = 0\n\n[tests]"),
+            "survey.sky_fraction",
+        ),
+        (base.replace("draws = 500", "draws = 5"), "tests.draws"),
+        (
+            base.replace("bootstrap = 50", "bootstrap = 1"),
+            "tests.bootstrap",
+        ),
+        (
+            base.replace("n_range = [3, 4]", "n_range = [5, 4]"),
+            "tests.n_range",
+        ),
+        (
+            base.replace("z_grid = [0.0, 0.5, 1.0, 2.0]", "z_grid = [-1.0]"),
+            "tests.z_grid",
+        ),
+        (
+            format!("{base}\n[tests.selection]\nm_v = [0.0, -5.0]\n"),
+            "tests.selection.m_v",
+        ),
+        (
+            format!("{base}\n[tests.selection]\nsurvival = \"sometimes\"\n"),
+            "survival",
+        ),
+        (
+            base.replace("[cosmology]\npreset = \"planck18\"", "[cosmology]\nh = 0.7"),
+            "cosmology.omega_m",
+        ),
+        (
+            base.replace("preset = \"planck18\"", "preset = \"planck18\"\nsigma8 = 0"),
+            "cosmology.sigma8",
+        ),
+        (
+            base.replace("[run]", "[run]\nsample = \"nowhere.csv\""),
+            "run.sample",
+        ),
+        ("[run\nhosts_per_cell = 3".to_string(), "TOML"),
+        ("".to_string(), "cosmology"),
+    ];
+    assert!(cases.len() >= 30);
+    for (i, (text, key)) in cases.iter().enumerate() {
+        let p = write(d.path(), &format!("bad{i}.toml"), text);
+        let (code, out, err) = run_cli(&["check", p.to_str().unwrap()]);
+        assert_eq!(code, 2, "case {i} ({key}): {out} {err}");
+        assert!(err.contains(key), "case {i}: expected `{key}` in: {err}");
+        assert!(!err.contains("panicked"), "case {i}: {err}");
+        let (code, _, err) = run_cli(&[
+            "run",
+            p.to_str().unwrap(),
+            "--out",
+            d.path().join("never.h5").to_str().unwrap(),
+        ]);
+        assert_eq!(code, 2, "run case {i}: {err}");
+    }
+    // all problems at once, one line each
+    let many = base
+        .replace("draws = 500", "draws = 5")
+        .replace("bootstrap = 50", "bootstrap = 1");
+    let p = write(d.path(), "many.toml", &many);
+    let (_, _, err) = run_cli(&["check", p.to_str().unwrap()]);
+    assert!(
+        err.contains("tests.draws") && err.contains("tests.bootstrap"),
+        "{err}"
+    );
+    assert!(!d.path().join("never.h5").exists());
+    let leftovers: Vec<_> = std::fs::read_dir(d.path())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().starts_with('.'))
+        .collect();
+    assert!(leftovers.is_empty(), "temporary files left: {leftovers:?}");
+    // bad shard specs
+    let good = write(d.path(), "good.toml", TINY);
+    for s in ["0/3", "4/3", "x/3", "3"] {
+        let (code, _, err) = run_cli(&["run", good.to_str().unwrap(), "--shard", s]);
+        assert_eq!(code, 2, "{s}");
+        assert!(err.contains("--shard"), "{err}");
+    }
+}
+
+/// A truncated store and malformed observed samples give clear errors.
+#[test]
+fn damaged_store_and_bad_sample() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("ok.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let bytes = std::fs::read(&store).unwrap();
+    let cut = d.path().join("cut.h5");
+    std::fs::write(&cut, &bytes[..bytes.len() / 3]).unwrap();
+    let (code, _, err) = run_cli(&["infall", cut.to_str().unwrap()]);
+    assert!(code == 1 || code == 2, "{err}");
+    assert!(err.contains("cut.h5"), "{err}");
+    assert!(!err.contains("panicked"), "{err}");
+    let not_store = write(d.path(), "not.h5", "plain text");
+    let (code, _, err) = run_cli(&["infall", not_store.to_str().unwrap()]);
+    assert_ne!(code, 0);
+    assert!(err.contains("not.h5"), "{err}");
+    for (text, want) in [
+        ("id,mstar_msun\nA,1\n", "missing column"),
+        ("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e5,60,0,99,1\n", "t_quench_lookback_gyr = 99"),
+        ("", "empty"),
+    ] {
+        let s = write(d.path(), "s.csv", text);
+        let (code, _, err) = run_cli(&["infall", store.to_str().unwrap(), "--sample", s.to_str().unwrap()]);
+        assert_eq!(code, 2, "{err}");
+        assert!(err.contains(want), "{text:?}: {err}");
+    }
+}
+
+/// The demo config shipped in configs/ is valid.
+#[test]
+fn shipped_configs_are_valid() {
+    for c in [
+        "configs/demo.toml",
+        "configs/milky-way.toml",
+        "configs/host-mass-sweep.toml",
+        "configs/cosmology-sweep.toml",
+    ] {
+        let p = Path::new(env!("CARGO_MANIFEST_DIR")).join(c);
+        let (code, out, err) = run_cli(&["check", p.to_str().unwrap()]);
+        assert_eq!(code, 0, "{c}: {err}");
+        assert!(out.contains("valid"), "{out}");
+    }
+}
