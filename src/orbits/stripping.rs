@@ -16,7 +16,7 @@
 use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
 use crate::halo::nfw::{mu, M_OVER_X_AT_MAX, X_MAX};
 
-use super::tidal_track::{rmax_ratio, vmax_ratio};
+use super::tidal_track::vmax_rmax_ratio;
 
 /// The internal structure of one subhalo.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -48,7 +48,8 @@ impl SubhaloStructure {
     #[inline]
     pub fn vmax_rmax(&self, m: f64) -> (f64, f64) {
         let x = (m / self.m_acc).clamp(1e-12, 1.0);
-        (self.vmax_acc * vmax_ratio(x), self.rmax_acc * rmax_ratio(x))
+        let (v, r) = vmax_rmax_ratio(x);
+        (self.vmax_acc * v, self.rmax_acc * r)
     }
 
     /// The NFW profile (M_s = 4 pi rho_s r_s^3, r_s) with the Vmax and Rmax of bound mass m.
@@ -95,7 +96,7 @@ impl SubhaloStructure {
             let f = 3.0 * lr - (G * me).ln() + denom.ln();
             let step = f / (3.0 - s);
             lr -= step;
-            if step.abs() < 1e-8 {
+            if step.abs() < 1e-7 {
                 break;
             }
         }
