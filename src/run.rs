@@ -146,9 +146,25 @@ impl Grid {
         }
     }
 
-    /// Synthesise global host g.
+    /// Synthesise global host g. For testing the recovery of failed shards, the environment
+    /// variable RETINUE_FAULT_HOST=g makes host g fail (fault injection; never set it in
+    /// production).
     pub fn synthesize(&self, g: u64, builder: &mut TreeBuilder) -> Result<HostRecord, RunError> {
         let id = self.host_id(g);
+        if std::env::var("RETINUE_FAULT_HOST")
+            .ok()
+            .and_then(|v| v.parse::<u64>().ok())
+            == Some(g)
+        {
+            return Err(RunError::Host {
+                index: g,
+                cosmology: id.cosmology,
+                mass_bin: id.mass_bin,
+                k: id.index,
+                seed: self.config.file.run.master_seed,
+                reason: "injected fault (RETINUE_FAULT_HOST)".into(),
+            });
+        }
         let opts = self.options(id);
         let seed = self.config.file.run.master_seed;
         synthesize_host(

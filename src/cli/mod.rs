@@ -3,6 +3,8 @@
 pub mod cosmo_args;
 pub mod format;
 pub mod linear;
+#[cfg(feature = "mpi")]
+pub mod mpi_run;
 pub mod orbit;
 pub mod run;
 pub mod tree;

@@ -349,6 +349,30 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         None => Shard::WHOLE,
     };
     let out = a.out.clone().unwrap_or_else(|| cfg.file.run.output.clone());
+    #[cfg(feature = "mpi")]
+    if a.shard.is_none() {
+        // under mpirun: one shard per rank; one thread per rank unless told otherwise
+        let threads = a.threads.unwrap_or(1);
+        let go = |s: Shard, p: PathBuf| execute(cfg.clone(), &text, p, threads, s, a.resume, None);
+        let finish = |shards: &[PathBuf], out: &Path| -> Result<(), CliError> {
+            let p = merge_stores(shards, out).map_err(run_err)?;
+            for s in shards {
+                let _ = std::fs::remove_file(s);
+            }
+            eprintln!("merged {} rank shards into {}", shards.len(), p.display());
+            let grid = Grid::new(cfg.clone()).map_err(run_err)?;
+            let sample = match cfg.sample_path() {
+                Some(sp) => Some(ObservedSample::from_file(&sp).map_err(usage)?),
+                None => None,
+            };
+            pool(0)?
+                .install(|| analyse(&grid, &p, sample.as_ref()))
+                .map(|_| ())
+        };
+        if let Some(r) = super::mpi_run::run_mpi(&go, &finish, &out) {
+            return r;
+        }
+    }
     let threads = a.threads.unwrap_or(cfg.file.run.threads);
     execute(cfg, &text, out, threads, shard, a.resume, None).map(|_| ())
 }

@@ -108,7 +108,9 @@ mod tests {
         assert!((vmax_ratio(1.0) - 1.0).abs() < 1e-12 && (rmax_ratio(1.0) - 1.0).abs() < 1e-12);
         for x in [1e-3, 0.1, 0.7] {
             let (v, r) = vmax_rmax_ratio(x);
-            assert!((v / vmax_ratio(x) - 1.0).abs() < 1e-13 && (r / rmax_ratio(x) - 1.0).abs() < 1e-13);
+            assert!(
+                (v / vmax_ratio(x) - 1.0).abs() < 1e-13 && (r / rmax_ratio(x) - 1.0).abs() < 1e-13
+            );
         }
     }
 

@@ -1,3 +1,4 @@
 mod cli_linear;
+mod cli_mpi;
 mod cli_run;
 mod cli_tree;

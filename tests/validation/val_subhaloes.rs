@@ -168,9 +168,16 @@ fn clocks_are_consistent_on_mock_hosts() {
     use retinue::galaxies::GalaxyOptions;
     use retinue::stats::{clock_times, Catalog, PreprocessingThreshold};
     use retinue::synth::{synthesize_host, SynthOptions};
-    let lt = LinearTheory::new(Cosmology::from_preset("planck18").unwrap(), LinearOptions::default()).unwrap();
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
     let opts = SynthOptions {
-        tree: TreeSpec { m_resolution_msun: 1e8, ..TreeSpec::milky_way_default() },
+        tree: TreeSpec {
+            m_resolution_msun: 1e8,
+            ..TreeSpec::milky_way_default()
+        },
         host: Default::default(),
         orbits: Default::default(),
         galaxies: Default::default(),
@@ -182,13 +189,21 @@ fn clocks_are_consistent_on_mock_hosts() {
         let rec = synthesize_host(&lt, &opts, 8, HostId::new(0, 0, i), &mut b).unwrap();
         cat.push_host(i as u64, &rec);
     }
-    let thr = PreprocessingThreshold { halo_mass_msun: Some(1e10), stellar_mass_msun: None };
+    let thr = PreprocessingThreshold {
+        halo_mass_msun: Some(1e10),
+        stellar_mass_msun: None,
+    };
     let c = clock_times(&cat, lt.cosmology(), &GalaxyOptions::default(), &thr);
     let mut pre_processed = 0;
     for i in 0..cat.n_subhaloes() {
         assert!(c.first[i] <= c.last[i] + 1e-9, "row {i}");
         if c.pre[i].is_finite() {
-            assert!(c.pre[i] <= c.first[i] + 1e-9, "row {i}: pre {} first {}", c.pre[i], c.first[i]);
+            assert!(
+                c.pre[i] <= c.first[i] + 1e-9,
+                "row {i}: pre {} first {}",
+                c.pre[i],
+                c.first[i]
+            );
             if c.pre[i] < c.first[i] - 1e-9 {
                 pre_processed += 1;
                 assert!(cat.order[i] > 1);
@@ -198,5 +213,8 @@ fn clocks_are_consistent_on_mock_hosts() {
             assert_eq!(c.pre[i], c.first[i]);
         }
     }
-    assert!(pre_processed > 10, "some subhaloes are pre-processed ({pre_processed})");
+    assert!(
+        pre_processed > 10,
+        "some subhaloes are pre-processed ({pre_processed})"
+    );
 }

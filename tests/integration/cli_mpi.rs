@@ -1,0 +1,140 @@
+//! MPI runs (cargo feature `mpi`). These tests need an MPI-enabled binary and `mpirun`:
+//! scripts/test builds one and sets RETINUE_MPI_BIN; without it they print that they were
+//! skipped. The shard-recovery test runs everywhere.
+
+use std::path::{Path, PathBuf};
+
+use crate::common::run_cli;
+
+fn tables(path: &Path) -> Vec<(String, Vec<u64>)> {
+    let f = hdf5::File::open(path).unwrap();
+    let mut out = Vec::new();
+    for g in ["hosts", "subhalos"] {
+        let grp = f.group(g).unwrap();
+        let mut names = grp.member_names().unwrap();
+        names.sort();
+        for n in names {
+            let v: Vec<f64> = grp.dataset(&n).unwrap().read_raw().unwrap();
+            out.push((format!("{g}/{n}"), v.iter().map(|x| x.to_bits()).collect()));
+        }
+    }
+    out
+}
+
+fn tiny(dir: &Path) -> PathBuf {
+    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/tiny.toml");
+    let p = dir.join("tiny.toml");
+    std::fs::copy(src, &p).unwrap();
+    p
+}
+
+fn mpirun(n: u32, bin: &str, args: &[&str], env: &[(&str, &str)]) -> std::process::Output {
+    let mut c = std::process::Command::new("mpirun");
+    c.args([
+        "--allow-run-as-root",
+        "--oversubscribe",
+        "-n",
+        &n.to_string(),
+    ]);
+    for (k, v) in env {
+        c.arg("-x").arg(k).env(k, v);
+    }
+    c.arg(bin).args(args);
+    c.output().expect("mpirun")
+}
+
+/// `mpirun -n 2` gives the same subhalo and host tables, bit for bit, as one process.
+#[test]
+fn mpi_two_ranks_match_a_single_process() {
+    let Ok(bin) = std::env::var("RETINUE_MPI_BIN") else {
+        eprintln!(
+            "skipped: RETINUE_MPI_BIN is not set (scripts/test sets it when MPI is installed)"
+        );
+        return;
+    };
+    let d = tempfile::tempdir().unwrap();
+    let cfg = tiny(d.path());
+    let single = d.path().join("single.h5");
+    let (code, _, err) = run_cli(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        single.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let m = d.path().join("mpi.h5");
+    let o = mpirun(
+        2,
+        &bin,
+        &["run", cfg.to_str().unwrap(), "--out", m.to_str().unwrap()],
+        &[],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(tables(&single), tables(&m));
+    assert!(d.path().join("mpi-report").join("report.md").exists());
+    // the rank shards were merged and removed
+    assert!(!d.path().join("mpi.shard-1-of-2.h5").exists());
+
+    // a failing rank is named; the other shard stays usable; re-running the missing shard and
+    // merging completes the run
+    let f = d.path().join("fail.h5");
+    let o = mpirun(
+        2,
+        &bin,
+        &["run", cfg.to_str().unwrap(), "--out", f.to_str().unwrap()],
+        &[("RETINUE_FAULT_HOST", "3")],
+    );
+    assert!(!o.status.success());
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("shards [2] of 2 failed"), "{err}");
+    let s1 = d.path().join("fail.shard-1-of-2.h5");
+    let s2 = d.path().join("fail.shard-2-of-2.h5");
+    assert!(s1.exists() && !s2.exists());
+    let (code, _, err) = run_cli(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--shard",
+        "2/2",
+        "--out",
+        s2.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let (code, _, err) = run_cli(&[
+        "merge",
+        s1.to_str().unwrap(),
+        s2.to_str().unwrap(),
+        "--out",
+        f.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(tables(&single), tables(&f));
+}
+
+/// Without MPI: a failed host is reported with its index and seed, the shard's finished parts
+/// survive, and `--resume` completes it to the same tables.
+#[test]
+fn failed_shard_is_named_and_recovers() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = tiny(d.path());
+    let c = cfg.to_str().unwrap();
+    let whole = d.path().join("whole.h5");
+    let (code, _, err) = run_cli(&["run", c, "--out", whole.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    let s = d.path().join("s.h5");
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(["run", c, "--threads", "1", "--out", s.to_str().unwrap()])
+        .env("RETINUE_FAULT_HOST", "2")
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("host 2") && err.contains("master seed 3"),
+        "{err}"
+    );
+    assert!(!s.exists());
+    let (code, _, err) = run_cli(&["run", c, "--resume", "--out", s.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(tables(&whole), tables(&s));
+}
