@@ -22,13 +22,14 @@ pub fn shard_path(out: &Path, k: u32, r: u32) -> PathBuf {
     out.with_file_name(format!("{stem}.shard-{}-of-{r}.h5", k + 1))
 }
 
+/// Synthesise one shard into a path.
+pub type ShardJob<'a> = &'a dyn Fn(Shard, PathBuf) -> Result<PathBuf, CliError>;
+/// Merge the shards into the output and report.
+pub type FinishJob<'a> = &'a dyn Fn(&[PathBuf], &Path) -> Result<(), CliError>;
+
 /// Run under MPI when there is more than one rank; returns None when this is a single process
 /// (the caller then runs normally).
-pub fn run_mpi(
-    go: &dyn Fn(Shard, PathBuf) -> Result<PathBuf, CliError>,
-    finish: &dyn Fn(&[PathBuf], &Path) -> Result<(), CliError>,
-    out: &Path,
-) -> Option<Result<(), CliError>> {
+pub fn run_mpi(go: ShardJob, finish: FinishJob, out: &Path) -> Option<Result<(), CliError>> {
     let universe = mpi::initialize()?;
     let world = universe.world();
     let size = world.size() as u32;
