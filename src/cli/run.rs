@@ -8,7 +8,7 @@ use clap::Args;
 
 use super::CliError;
 use retinue::config::RunConfig;
-use retinue::io::store::{read_catalog, read_meta};
+use retinue::io::store::read_meta;
 use retinue::report::{write_analysis_to_store, write_tables};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
 use retinue::stats::{run_tests, AnalysisResults, ObservedSample};
@@ -235,8 +235,17 @@ fn analyse(
     sample: Option<&ObservedSample>,
 ) -> Result<AnalysisResults, CliError> {
     let cfg = &grid.config;
-    let cat = read_catalog(store).map_err(|e| CliError::Failed(e.into()))?;
     let t0 = Instant::now();
+    // stream the store in chunks: memory stays flat in the number of hosts
+    let (cat, fig) = retinue::stats::compact::compact_from_store(
+        store,
+        &cfg.file.tests,
+        sample,
+        grid.theories[0].cosmology(),
+        &cfg.file.galaxies,
+        64,
+    )
+    .map_err(|e| CliError::Failed(e.into()))?;
     // the tests use the first cosmology's clock and linear theory for lookback times
     let res = run_tests(
         &grid.theories[0],
@@ -249,17 +258,19 @@ fn analyse(
     let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
     write_analysis_to_store(store, &res, &tests_toml).map_err(|e| CliError::Failed(e.into()))?;
     let dir = report_dir(store);
+    let n_sub =
+        retinue::io::store::n_subhaloes_in(store).map_err(|e| CliError::Failed(e.into()))?;
     let summary = format!(
         "Store `{}`: {} hosts, {} subhaloes; master seed {}.",
         store.display(),
         cat.n_hosts(),
-        cat.n_subhaloes(),
+        n_sub,
         cfg.file.run.master_seed
     );
     let files = write_tables(&dir, &res, &cfg.file.tests, sample, &summary)
         .map_err(|e| CliError::Failed(e.into()))?;
     let figs =
-        retinue::report::figures::write_figures(&dir, &res, &cat, grid.theories[0].cosmology())
+        retinue::report::figures::write_figures(&dir, &res, &fig, grid.theories[0].cosmology())
             .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
     eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
     println!("store:   {}", store.display());

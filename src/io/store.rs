@@ -590,88 +590,97 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     })
 }
 
-/// Read the columns the statistics need into a catalogue.
+/// Number of hosts in a store.
+pub fn n_hosts_in(path: &Path) -> Result<usize, IoError> {
+    let e = |x| IoError::hdf5(path, x);
+    let f = hdf5::File::open(path).map_err(e)?;
+    let n = f.dataset("hosts/host_index").map_err(e)?.size();
+    Ok(n)
+}
+
+/// Number of subhalo rows in a store.
+pub fn n_subhaloes_in(path: &Path) -> Result<usize, IoError> {
+    let e = |x| IoError::hdf5(path, x);
+    let f = hdf5::File::open(path).map_err(e)?;
+    let n = f.dataset("subhalos/branch").map_err(e)?.size();
+    Ok(n)
+}
+
+/// Read the columns the statistics need into a catalogue (every host).
 pub fn read_catalog(path: &Path) -> Result<Catalog, IoError> {
+    let n = n_hosts_in(path)?;
+    read_catalog_range(path, 0, n)
+}
+
+/// Read hosts [h0, h1) and their subhaloes.
+pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, IoError> {
     let e = |x| IoError::hdf5(path, x);
     let f = hdf5::File::open(path).map_err(e)?;
     let h = f.group("hosts").map_err(e)?;
     let s = f.group("subhalos").map_err(e)?;
-    let rf = |g: &Group, n: &str| -> Result<Vec<f64>, IoError> {
-        g.dataset(n).and_then(|d| d.read_raw()).map_err(e)
+    fn sl<T: H5Type + Clone>(
+        g: &Group,
+        n: &str,
+        r: std::ops::Range<usize>,
+    ) -> hdf5::Result<Vec<T>> {
+        Ok(g.dataset(n)?.read_slice_1d::<T, _>(r)?.to_vec())
+    }
+    let hr = h0..h1;
+    let offs: Vec<u64> = sl(&h, "sub_offset", hr.clone()).map_err(e)?;
+    let counts: Vec<u64> = sl(&h, "sub_count", hr.clone()).map_err(e)?;
+    let n_sub_total = s.dataset("branch").map_err(e)?.size();
+    let (s0, s1) = match (offs.first(), offs.last(), counts.last()) {
+        (Some(&a), Some(&b), Some(&c)) => (a as usize, (b + c) as usize),
+        _ => (0, 0),
     };
+    if s1 > n_sub_total || s0 > s1 {
+        return Err(IoError::Format {
+            path: path.display().to_string(),
+            reason: "host offsets point past the subhalo table (truncated or damaged store)".into(),
+        });
+    }
+    let sr = s0..s1;
     let mut c = Catalog {
-        host_id: h
-            .dataset("host_index")
-            .and_then(|d| d.read_raw())
-            .map_err(e)?,
-        host_cosmology: h
-            .dataset("cosmology_index")
-            .and_then(|d| d.read_raw())
-            .map_err(e)?,
-        host_mass_bin: h
-            .dataset("mass_bin")
-            .and_then(|d| d.read_raw())
-            .map_err(e)?,
-        host_m_vir_msun: rf(&h, "m_vir_msun")?,
-        host_r_vir_kpc: rf(&h, "r_vir_kpc")?,
+        host_id: sl(&h, "host_index", hr.clone()).map_err(e)?,
+        host_cosmology: sl(&h, "cosmology_index", hr.clone()).map_err(e)?,
+        host_mass_bin: sl(&h, "mass_bin", hr.clone()).map_err(e)?,
+        host_m_vir_msun: sl(&h, "m_vir_msun", hr.clone()).map_err(e)?,
+        host_r_vir_kpc: sl(&h, "r_vir_kpc", hr.clone()).map_err(e)?,
         ..Default::default()
     };
-    let offs: Vec<u64> = h
-        .dataset("sub_offset")
-        .and_then(|d| d.read_raw())
-        .map_err(e)?;
-    let counts: Vec<u64> = h
-        .dataset("sub_count")
-        .and_then(|d| d.read_raw())
-        .map_err(e)?;
-    c.offset = offs.iter().map(|&o| o as usize).collect();
-    c.offset.push(
-        offs.last().map(|&o| o as usize).unwrap_or(0)
-            + counts.last().map(|&n| n as usize).unwrap_or(0),
-    );
-    c.branch = s.dataset("branch").and_then(|d| d.read_raw()).map_err(e)?;
-    c.parent_branch = s
-        .dataset("parent_branch")
-        .and_then(|d| d.read_raw())
-        .map_err(e)?;
-    c.order = s.dataset("order").and_then(|d| d.read_raw()).map_err(e)?;
-    c.m_peak_msun = rf(&s, "m_peak_msun")?;
-    c.m_bound_msun = rf(&s, "m_bound_msun")?;
-    c.t_infall_gyr = rf(&s, "t_infall_gyr")?;
-    c.m_host_at_infall_msun = rf(&s, "m_host_at_infall_msun")?;
-    c.t_first_host_infall_gyr = rf(&s, "t_first_host_infall_gyr")?;
-    c.t_last_host_infall_gyr = rf(&s, "t_last_host_infall_gyr")?;
-    c.r_kpc = rf(&s, "r_kpc")?;
-    let (x, y, z) = (rf(&s, "x_kpc")?, rf(&s, "y_kpc")?, rf(&s, "z_kpc")?);
-    let (vx, vy, vz) = (rf(&s, "vx_kms")?, rf(&s, "vy_kms")?, rf(&s, "vz_kms")?);
+    c.offset = offs.iter().map(|&o| o as usize - s0).collect();
+    c.offset.push(s1 - s0);
+    let rf = |n: &str| -> Result<Vec<f64>, IoError> { sl(&s, n, sr.clone()).map_err(e) };
+    c.branch = sl(&s, "branch", sr.clone()).map_err(e)?;
+    c.parent_branch = sl(&s, "parent_branch", sr.clone()).map_err(e)?;
+    c.order = sl(&s, "order", sr.clone()).map_err(e)?;
+    c.m_peak_msun = rf("m_peak_msun")?;
+    c.m_bound_msun = rf("m_bound_msun")?;
+    c.t_infall_gyr = rf("t_infall_gyr")?;
+    c.m_host_at_infall_msun = rf("m_host_at_infall_msun")?;
+    c.t_first_host_infall_gyr = rf("t_first_host_infall_gyr")?;
+    c.t_last_host_infall_gyr = rf("t_last_host_infall_gyr")?;
+    c.r_kpc = rf("r_kpc")?;
+    let (x, y, z) = (rf("x_kpc")?, rf("y_kpc")?, rf("z_kpc")?);
+    let (vx, vy, vz) = (rf("vx_kms")?, rf("vy_kms")?, rf("vz_kms")?);
     c.v_r_kms = (0..x.len())
         .map(|i| (x[i] * vx[i] + y[i] * vy[i] + z[i] * vz[i]) / c.r_kpc[i])
         .collect();
-    c.status = s.dataset("status").and_then(|d| d.read_raw()).map_err(e)?;
-    c.t_disrupt_pericentre_gyr = rf(&s, "t_disrupt_pericentre_gyr")?;
-    c.r_peri_min_kpc = rf(&s, "r_peri_min_kpc")?;
-    let b: Vec<u8> = s
-        .dataset("backsplash")
-        .and_then(|d| d.read_raw())
-        .map_err(e)?;
+    c.status = sl(&s, "status", sr.clone()).map_err(e)?;
+    c.t_disrupt_pericentre_gyr = rf("t_disrupt_pericentre_gyr")?;
+    c.r_peri_min_kpc = rf("r_peri_min_kpc")?;
+    let b: Vec<u8> = sl(&s, "backsplash", sr.clone()).map_err(e)?;
     c.backsplash = b.into_iter().map(|v| v != 0).collect();
-    let o: Vec<u8> = s
-        .dataset("occupied")
-        .and_then(|d| d.read_raw())
-        .map_err(e)?;
+    let o: Vec<u8> = sl(&s, "occupied", sr.clone()).map_err(e)?;
     c.occupied = o.into_iter().map(|v| v != 0).collect();
-    c.mstar_msun = rf(&s, "mstar_msun")?;
-    c.m_v = rf(&s, "m_v")?;
-    let ob: Vec<u8> = s
-        .dataset("observable")
-        .and_then(|d| d.read_raw())
-        .map_err(e)?;
+    c.mstar_msun = rf("mstar_msun")?;
+    c.m_v = rf("m_v")?;
+    let ob: Vec<u8> = sl(&s, "observable", sr.clone()).map_err(e)?;
     c.observable = ob.into_iter().map(|v| v != 0).collect();
-    if c.offset.len() != c.host_id.len() + 1 || *c.offset.last().unwrap() != c.branch.len() {
+    if c.offset.windows(2).any(|w| w[1] < w[0]) {
         return Err(IoError::Format {
             path: path.display().to_string(),
-            reason: "host offsets do not match the subhalo table (truncated or damaged store)"
-                .into(),
+            reason: "host offsets are not increasing (damaged store)".into(),
         });
     }
     Ok(c)

@@ -7,8 +7,9 @@ use std::sync::OnceLock;
 
 use plotters::prelude::*;
 
+use crate::stats::compact::FigureData;
 use crate::stats::tests::Curve;
-use crate::stats::{AnalysisResults, Catalog};
+use crate::stats::AnalysisResults;
 
 static FONT: OnceLock<Result<(), String>> = OnceLock::new();
 
@@ -216,7 +217,7 @@ fn cumulative_plot(
 pub fn write_figures(
     dir: &Path,
     res: &AnalysisResults,
-    cat: &Catalog,
+    fig: &FigureData,
     cosmo: &crate::cosmology::Cosmology,
 ) -> Result<Vec<PathBuf>, String> {
     ensure_font()?;
@@ -277,35 +278,39 @@ pub fn write_figures(
             false,
         ),
     )?;
-    // pericentres of surviving satellites
-    let peri: Vec<f64> = (0..cat.n_subhaloes())
-        .filter(|&i| !cat.disrupted_physical(i) && cat.occupied[i])
-        .map(|i| cat.r_peri_min_kpc[i])
-        .filter(|v| v.is_finite())
+    // pericentres of surviving luminous satellites (fixed bins)
+    let w = fig.peri_max_kpc / fig.peri_counts.len() as f64;
+    let tot: f64 = fig.peri_counts.iter().sum::<f64>().max(1.0);
+    let px: Vec<f64> = (0..fig.peri_counts.len())
+        .flat_map(|k| [k as f64 * w, (k + 1) as f64 * w])
+        .collect();
+    let py: Vec<f64> = fig
+        .peri_counts
+        .iter()
+        .flat_map(|&c| [c / (tot * w), c / (tot * w)])
         .collect();
     go(
         "pericentres.png",
-        hist_plot(
+        cumulative_plot(
             &dir.join("pericentres.png"),
             "smallest pericentre of surviving luminous satellites",
             "r_peri (kpc)",
-            &[("all hosts".into(), peri)],
-            40,
+            "probability density (1/kpc)",
+            &px,
+            &py,
             false,
         ),
     )?;
-    // mass function: mean N(> m_bound / M_host) inside R_vir
-    let mut psi: Vec<f64> = Vec::new();
-    for h in 0..cat.n_hosts() {
-        for i in cat.rows(h) {
-            if !cat.disrupted_physical(i) && cat.r_kpc[i] < cat.host_r_vir_kpc[h] {
-                psi.push(cat.m_bound_msun[i] / cat.host_m_vir_msun[h]);
-            }
-        }
+    // mass function: mean N(> m_bound / M_host) per host inside R_vir
+    let nh = fig.n_hosts.max(1) as f64;
+    let mut psi = Vec::new();
+    let mut ncum = Vec::new();
+    let mut acc = 0.0;
+    for k in (0..fig.psi_counts.len()).rev() {
+        acc += fig.psi_counts[k];
+        psi.push(10f64.powf(-7.0 + 0.1 * k as f64));
+        ncum.push(acc / nh);
     }
-    psi.sort_by(|a, b| b.partial_cmp(a).unwrap());
-    let nh = cat.n_hosts().max(1) as f64;
-    let n_cum: Vec<f64> = (1..=psi.len()).map(|k| k as f64 / nh).collect();
     go(
         "subhalo_mass_function.png",
         cumulative_plot(
@@ -314,23 +319,19 @@ pub fn write_figures(
             "m_bound / M_host",
             "N(> m) per host",
             &psi,
-            &n_cum,
+            &ncum,
             true,
         ),
     )?;
-    let mut x: Vec<f64> = Vec::new();
-    for h in 0..cat.n_hosts() {
-        for i in cat.rows(h) {
-            if !cat.disrupted_physical(i) && cat.occupied[i] && cat.r_kpc[i] < cat.host_r_vir_kpc[h]
-            {
-                x.push(cat.r_kpc[i] / cat.host_r_vir_kpc[h]);
-            }
-        }
+    let totr: f64 = fig.radial_counts.iter().sum::<f64>().max(1.0);
+    let mut x = vec![0.0];
+    let mut f = vec![0.0];
+    let mut acc = 0.0;
+    for (k, c) in fig.radial_counts.iter().enumerate() {
+        acc += c;
+        x.push((k + 1) as f64 / fig.radial_counts.len() as f64);
+        f.push(acc / totr);
     }
-    x.sort_by(|a, b| a.partial_cmp(b).unwrap());
-    let f: Vec<f64> = (1..=x.len())
-        .map(|k| k as f64 / x.len().max(1) as f64)
-        .collect();
     go(
         "radial_distribution.png",
         cumulative_plot(

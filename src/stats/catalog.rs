@@ -38,6 +38,11 @@ pub struct Catalog {
     pub mstar_msun: Vec<f64>,
     pub m_v: Vec<f64>,
     pub observable: Vec<bool>,
+    /// Pre-processing infall times already computed (a compacted catalogue drops the rows the
+    /// chain walk needs); empty = compute from the rows.
+    pub t_pre_gyr: Vec<f64>,
+    /// Backsplash counts per host already computed (compacted catalogue); empty = count rows.
+    pub host_backsplash_count: Vec<f64>,
 }
 
 impl Catalog {
@@ -93,6 +98,34 @@ impl Catalog {
             self.observable.push(g.observable);
         }
         self.offset.push(self.branch.len());
+    }
+
+    /// Append row i of `other` (host columns are handled by the caller).
+    pub fn push_row_from(&mut self, other: &Catalog, i: usize, t_pre: f64) {
+        self.branch.push(other.branch[i]);
+        self.parent_branch.push(other.parent_branch[i]);
+        self.order.push(other.order[i]);
+        self.m_peak_msun.push(other.m_peak_msun[i]);
+        self.m_bound_msun.push(other.m_bound_msun[i]);
+        self.t_infall_gyr.push(other.t_infall_gyr[i]);
+        self.m_host_at_infall_msun
+            .push(other.m_host_at_infall_msun[i]);
+        self.t_first_host_infall_gyr
+            .push(other.t_first_host_infall_gyr[i]);
+        self.t_last_host_infall_gyr
+            .push(other.t_last_host_infall_gyr[i]);
+        self.r_kpc.push(other.r_kpc[i]);
+        self.v_r_kms.push(other.v_r_kms[i]);
+        self.status.push(other.status[i]);
+        self.t_disrupt_pericentre_gyr
+            .push(other.t_disrupt_pericentre_gyr[i]);
+        self.r_peri_min_kpc.push(other.r_peri_min_kpc[i]);
+        self.backsplash.push(other.backsplash[i]);
+        self.occupied.push(other.occupied[i]);
+        self.mstar_msun.push(other.mstar_msun[i]);
+        self.m_v.push(other.m_v[i]);
+        self.observable.push(other.observable[i]);
+        self.t_pre_gyr.push(t_pre);
     }
 
     /// Whether row i is physically disrupted.

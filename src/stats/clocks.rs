@@ -88,6 +88,13 @@ pub fn clock_times(
     threshold: &PreprocessingThreshold,
 ) -> ClockTimes {
     let n = c.n_subhaloes();
+    if c.t_pre_gyr.len() == n && n > 0 {
+        return ClockTimes {
+            first: c.t_first_host_infall_gyr.clone(),
+            last: c.t_last_host_infall_gyr.clone(),
+            pre: c.t_pre_gyr.clone(),
+        };
+    }
     let mut pre = vec![f64::NAN; n];
     let thr = |t: f64| -> f64 {
         match (threshold.halo_mass_msun, threshold.stellar_mass_msun) {

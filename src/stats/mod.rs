@@ -3,6 +3,7 @@
 pub mod backsplash;
 pub mod catalog;
 pub mod clocks;
+pub mod compact;
 pub mod draws;
 pub mod intervals;
 pub mod sample;

@@ -476,18 +476,21 @@ pub fn run_tests(
         let rv = cat.host_r_vir_kpc[h];
         let f_exp = b.field_count(lt, rv);
         field += f_exp;
-        let n_bs = cat
-            .rows(h)
-            .filter(|&i| {
-                let x = cat.r_kpc[i] / rv;
-                cat.backsplash[i]
-                    && !cat.disrupted_physical(i)
-                    && x >= b.shell_over_rvir[0]
-                    && x <= b.shell_over_rvir[1]
-                    && cat.m_peak_msun[i] >= b.m_peak_msun[0]
-                    && cat.m_peak_msun[i] <= b.m_peak_msun[1]
-            })
-            .count() as f64;
+        let n_bs = if cat.host_backsplash_count.len() == n_hosts {
+            cat.host_backsplash_count[h]
+        } else {
+            cat.rows(h)
+                .filter(|&i| {
+                    let x = cat.r_kpc[i] / rv;
+                    cat.backsplash[i]
+                        && !cat.disrupted_physical(i)
+                        && x >= b.shell_over_rvir[0]
+                        && x <= b.shell_over_rvir[1]
+                        && cat.m_peak_msun[i] >= b.m_peak_msun[0]
+                        && cat.m_peak_msun[i] <= b.m_peak_msun[1]
+                })
+                .count() as f64
+        };
         counts.push(n_bs);
         fr.push(if n_bs + f_exp > 0.0 {
             n_bs / (n_bs + f_exp)

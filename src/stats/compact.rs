@@ -1,0 +1,133 @@
+//! Streaming a run store into the compact catalogue the tests need, host chunk by host chunk,
+//! so memory stays flat in the number of hosts: only rows that some test uses are kept
+//! (selected satellites and phase-space-match candidates), the pre-processing clock is
+//! computed while each host's full table is at hand, backsplash counts are reduced per host,
+//! and the figure distributions are accumulated in fixed bins.
+
+use std::path::Path;
+
+use super::catalog::Catalog;
+use super::clocks::clock_times;
+use super::sample::ObservedSample;
+use super::tests::TestOptions;
+use crate::cosmology::Cosmology;
+use crate::galaxies::GalaxyOptions;
+use crate::io::store::{n_hosts_in, read_catalog_range};
+use crate::io::IoError;
+
+/// Fixed-bin distributions for the figures.
+#[derive(Debug, Clone)]
+pub struct FigureData {
+    /// Smallest pericentres of surviving luminous satellites: 60 bins over 0–300 kpc.
+    pub peri_counts: Vec<f64>,
+    pub peri_max_kpc: f64,
+    /// Surviving subhaloes inside R_vir per bin of log10(m_bound/M_host) over [-7, 0].
+    pub psi_counts: Vec<f64>,
+    /// Luminous survivors inside R_vir per bin of r/R_vir over [0, 1] (50 bins).
+    pub radial_counts: Vec<f64>,
+    pub n_hosts: usize,
+}
+
+impl Default for FigureData {
+    fn default() -> Self {
+        Self {
+            peri_counts: vec![0.0; 60],
+            peri_max_kpc: 300.0,
+            psi_counts: vec![0.0; 70],
+            radial_counts: vec![0.0; 50],
+            n_hosts: 0,
+        }
+    }
+}
+
+impl FigureData {
+    fn add(&mut self, c: &Catalog, h: usize, i: usize) {
+        if c.disrupted_physical(i) {
+            return;
+        }
+        let rv = c.host_r_vir_kpc[h];
+        let inside = c.r_kpc[i] < rv;
+        if inside {
+            let l = (c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10();
+            if l >= -7.0 && l < 0.0 {
+                self.psi_counts[((l + 7.0) * 10.0) as usize] += 1.0;
+            }
+        }
+        if c.occupied[i] {
+            let p = c.r_peri_min_kpc[i];
+            if p.is_finite() && p < self.peri_max_kpc {
+                self.peri_counts[(p / self.peri_max_kpc * 60.0) as usize] += 1.0;
+            }
+            if inside {
+                let x = c.r_kpc[i] / rv;
+                self.radial_counts[((x * 50.0) as usize).min(49)] += 1.0;
+            }
+        }
+    }
+}
+
+/// Read a store in chunks of `chunk` hosts and keep what the tests need.
+pub fn compact_from_store(
+    path: &Path,
+    options: &TestOptions,
+    sample: Option<&ObservedSample>,
+    cosmo: &Cosmology,
+    galaxies: &GalaxyOptions,
+    chunk: usize,
+) -> Result<(Catalog, FigureData), IoError> {
+    let n = n_hosts_in(path)?;
+    let mut out = Catalog {
+        offset: vec![0],
+        ..Default::default()
+    };
+    let mut fig = FigureData::default();
+    let w = options.match_windows;
+    let b = &options.backsplash;
+    let mut h0 = 0;
+    while h0 < n {
+        let h1 = (h0 + chunk.max(1)).min(n);
+        let c = read_catalog_range(path, h0, h1)?;
+        let clocks = clock_times(&c, cosmo, galaxies, &options.preprocessing);
+        for h in 0..c.n_hosts() {
+            out.host_id.push(c.host_id[h]);
+            out.host_cosmology.push(c.host_cosmology[h]);
+            out.host_mass_bin.push(c.host_mass_bin[h]);
+            out.host_m_vir_msun.push(c.host_m_vir_msun[h]);
+            out.host_r_vir_kpc.push(c.host_r_vir_kpc[h]);
+            let rv = c.host_r_vir_kpc[h];
+            let mut n_bs = 0.0;
+            for i in c.rows(h) {
+                fig.add(&c, h, i);
+                let x = c.r_kpc[i] / rv;
+                if c.backsplash[i]
+                    && !c.disrupted_physical(i)
+                    && x >= b.shell_over_rvir[0]
+                    && x <= b.shell_over_rvir[1]
+                    && c.m_peak_msun[i] >= b.m_peak_msun[0]
+                    && c.m_peak_msun[i] <= b.m_peak_msun[1]
+                {
+                    n_bs += 1.0;
+                }
+                let keep = options.selection.passes(&c, h, i)
+                    || sample.is_some_and(|s| {
+                        !c.disrupted_physical(i)
+                            && c.occupied[i]
+                            && s.objects.iter().any(|o| {
+                                (c.r_kpc[i] - o.r_gc_kpc).abs() <= w.dr_kpc
+                                    && (c.v_r_kms[i] - o.v_r_kms).abs() <= w.dv_kms
+                                    && (c.mstar_msun[i].log10() - o.mstar_msun.log10()).abs()
+                                        <= w.dlog_mstar
+                            })
+                    });
+                if keep {
+                    out.push_row_from(&c, i, clocks.pre[i]);
+                }
+            }
+            out.host_backsplash_count.push(n_bs);
+            out.offset.push(out.branch.len());
+            fig.n_hosts += 1;
+        }
+        h0 = h1;
+    }
+    Ok((out, fig))
+}
