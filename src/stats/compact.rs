@@ -49,7 +49,7 @@ impl FigureData {
         let inside = c.r_kpc[i] < rv;
         if inside {
             let l = (c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10();
-            if l >= -7.0 && l < 0.0 {
+            if (-7.0..0.0).contains(&l) {
                 self.psi_counts[((l + 7.0) * 10.0) as usize] += 1.0;
             }
         }
