@@ -236,25 +236,40 @@ fn analyse(
 ) -> Result<AnalysisResults, CliError> {
     let cfg = &grid.config;
     let t0 = Instant::now();
-    // stream the store in chunks: memory stays flat in the number of hosts
-    let (cat, fig) = retinue::stats::compact::compact_from_store(
+    // stream the store in chunks of hosts, test each chunk, merge: memory stays flat in the
+    // number of hosts (the merge keeps per-host curves and pooled infall times only)
+    let lt = &grid.theories[0];
+    let mut chunk_opts = cfg.file.tests.clone();
+    chunk_opts.bootstrap = 10; // chunk summaries are discarded; the merge bootstraps all hosts
+    let mut parts = Vec::new();
+    let fig = retinue::stats::compact::for_each_chunk(
         store,
         &cfg.file.tests,
         sample,
-        grid.theories[0].cosmology(),
+        lt.cosmology(),
         &cfg.file.galaxies,
         64,
+        &mut |cat| {
+            parts.push(run_tests(
+                lt,
+                &cfg.file.galaxies,
+                &cat,
+                &chunk_opts,
+                sample,
+                cfg.file.run.master_seed,
+            ));
+        },
     )
     .map_err(|e| CliError::Failed(e.into()))?;
-    // the tests use the first cosmology's clock and linear theory for lookback times
-    let res = run_tests(
-        &grid.theories[0],
-        &cfg.file.galaxies,
-        &cat,
-        &cfg.file.tests,
-        sample,
-        cfg.file.run.master_seed,
-    );
+    let n_hosts = fig.n_hosts;
+    let res =
+        retinue::stats::tests::merge_partials(parts, &cfg.file.tests, cfg.file.run.master_seed)
+            .ok_or_else(|| {
+                CliError::Failed(anyhow::anyhow!(
+                    "{}: the store has no hosts",
+                    store.display()
+                ))
+            })?;
     let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
     write_analysis_to_store(store, &res, &tests_toml).map_err(|e| CliError::Failed(e.into()))?;
     let dir = report_dir(store);
@@ -263,7 +278,7 @@ fn analyse(
     let summary = format!(
         "Store `{}`: {} hosts, {} subhaloes; master seed {}.",
         store.display(),
-        cat.n_hosts(),
+        n_hosts,
         n_sub,
         cfg.file.run.master_seed
     );

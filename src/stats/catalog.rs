@@ -128,6 +128,33 @@ impl Catalog {
         self.t_pre_gyr.push(t_pre);
     }
 
+    /// Hosts [h0, h1) as a catalogue of their own.
+    pub fn slice_hosts(&self, h0: usize, h1: usize) -> Catalog {
+        let mut c = Catalog {
+            offset: vec![0],
+            ..Default::default()
+        };
+        for h in h0..h1 {
+            c.host_id.push(self.host_id[h]);
+            c.host_cosmology.push(self.host_cosmology[h]);
+            c.host_mass_bin.push(self.host_mass_bin[h]);
+            c.host_m_vir_msun.push(self.host_m_vir_msun[h]);
+            c.host_r_vir_kpc.push(self.host_r_vir_kpc[h]);
+            if !self.host_backsplash_count.is_empty() {
+                c.host_backsplash_count.push(self.host_backsplash_count[h]);
+            }
+            for i in self.rows(h) {
+                let pre = self.t_pre_gyr.get(i).copied().unwrap_or(f64::NAN);
+                c.push_row_from(self, i, pre);
+            }
+            c.offset.push(c.branch.len());
+        }
+        if self.t_pre_gyr.is_empty() {
+            c.t_pre_gyr.clear();
+        }
+        c
+    }
+
     /// Whether row i is physically disrupted.
     pub fn disrupted_physical(&self, i: usize) -> bool {
         self.status[i] == SubhaloStatus::DisruptedPhysical as u8

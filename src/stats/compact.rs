@@ -75,17 +75,48 @@ pub fn compact_from_store(
     galaxies: &GalaxyOptions,
     chunk: usize,
 ) -> Result<(Catalog, FigureData), IoError> {
-    let n = n_hosts_in(path)?;
-    let mut out = Catalog {
+    let mut all = Catalog {
         offset: vec![0],
         ..Default::default()
     };
+    let fig = for_each_chunk(path, options, sample, cosmo, galaxies, chunk, &mut |c| {
+        let base = all.branch.len();
+        all.host_id.extend(&c.host_id);
+        all.host_cosmology.extend(&c.host_cosmology);
+        all.host_mass_bin.extend(&c.host_mass_bin);
+        all.host_m_vir_msun.extend(&c.host_m_vir_msun);
+        all.host_r_vir_kpc.extend(&c.host_r_vir_kpc);
+        all.host_backsplash_count.extend(&c.host_backsplash_count);
+        for i in 0..c.n_subhaloes() {
+            all.push_row_from(&c, i, c.t_pre_gyr[i]);
+        }
+        all.offset.extend(c.offset[1..].iter().map(|o| o + base));
+    })?;
+    Ok((all, fig))
+}
+
+/// Stream a store chunk by chunk: each chunk's compact catalogue is handed to `f` and
+/// dropped; returns the figure distributions of every host. Memory: one chunk.
+pub fn for_each_chunk(
+    path: &Path,
+    options: &TestOptions,
+    sample: Option<&ObservedSample>,
+    cosmo: &Cosmology,
+    galaxies: &GalaxyOptions,
+    chunk: usize,
+    f: &mut dyn FnMut(Catalog),
+) -> Result<FigureData, IoError> {
+    let n = n_hosts_in(path)?;
     let mut fig = FigureData::default();
     let w = options.match_windows;
     let b = &options.backsplash;
     let mut h0 = 0;
     while h0 < n {
         let h1 = (h0 + chunk.max(1)).min(n);
+        let mut out = Catalog {
+            offset: vec![0],
+            ..Default::default()
+        };
         let c = read_catalog_range(path, h0, h1)?;
         let clocks = clock_times(&c, cosmo, galaxies, &options.preprocessing);
         for h in 0..c.n_hosts() {
@@ -127,7 +158,8 @@ pub fn compact_from_store(
             out.offset.push(out.branch.len());
             fig.n_hosts += 1;
         }
+        f(out);
         h0 = h1;
     }
-    Ok((out, fig))
+    Ok(fig)
 }

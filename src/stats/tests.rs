@@ -222,6 +222,145 @@ pub struct AnalysisResults {
     /// median first-infall redshift of selected satellites, mean all-of-N (first infall) at
     /// z = 2 when 2 is on the grid).
     pub dependence: Vec<(u16, u16, usize, f64, f64, f64)>,
+    /// Raw per-host values behind the summaries, so partial results (host chunks) can be
+    /// merged: per-host match fractions (aligned with `matches`), backsplash fractions,
+    /// counts and expected field counts, and per-cell dependence lists.
+    pub matches_per_host: Vec<Vec<f64>>,
+    pub backsplash_per_host: Vec<f64>,
+    pub backsplash_counts: Vec<f64>,
+    pub field_per_host: Vec<f64>,
+    pub dependence_raw: Vec<DependenceRaw>,
+}
+
+/// Per grid cell: host masses, first-infall redshifts of selected satellites, and per-host
+/// all-of-N (first infall) at z = 2.
+#[derive(Debug, Clone, Default)]
+pub struct DependenceRaw {
+    pub cell: (u16, u16),
+    pub masses: Vec<f64>,
+    pub zs: Vec<f64>,
+    pub p2: Vec<f64>,
+}
+
+fn dependence_row(d: &DependenceRaw) -> (u16, u16, usize, f64, f64, f64) {
+    let med = |v: &[f64]| {
+        let mut s: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
+        s.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        super::intervals::percentile(&s, 0.5)
+    };
+    let p2 = if d.p2.is_empty() {
+        f64::NAN
+    } else {
+        d.p2.iter().sum::<f64>() / d.p2.len() as f64
+    };
+    (
+        d.cell.0,
+        d.cell.1,
+        d.masses.len(),
+        med(&d.masses),
+        med(&d.zs),
+        p2,
+    )
+}
+
+/// Merge results computed on consecutive chunks of hosts (in host order) and recompute
+/// every summary and bootstrap interval over all hosts, in a fixed order (so the result does
+/// not depend on the chunking).
+pub fn merge_partials(
+    parts: Vec<AnalysisResults>,
+    options: &TestOptions,
+    master_seed: u64,
+) -> Option<AnalysisResults> {
+    let mut it = parts.into_iter();
+    let mut m = it.next()?;
+    for p in it {
+        m.candidates.extend(p.candidates);
+        m.hosts_too_few.extend(p.hosts_too_few);
+        for (a, b) in m.all_of_n_mc.iter_mut().zip(p.all_of_n_mc) {
+            a.1.per_host.extend(b.1.per_host);
+        }
+        for (a, b) in m.all_of_n_exact.iter_mut().zip(p.all_of_n_exact) {
+            a.1.per_host.extend(b.1.per_host);
+        }
+        for (a, b) in m.fraction_of_n.iter_mut().zip(p.fraction_of_n) {
+            a.2.per_host.extend(b.2.per_host);
+        }
+        for (a, b) in m.quench.iter_mut().zip(p.quench) {
+            a.1.per_host.extend(b.1.per_host);
+        }
+        for ((a, ah), (b, bh)) in m
+            .matches
+            .iter_mut()
+            .zip(m.matches_per_host.iter_mut())
+            .zip(p.matches.into_iter().zip(p.matches_per_host))
+        {
+            a.2.extend(b.2);
+            ah.extend(bh);
+        }
+        m.backsplash_per_host.extend(p.backsplash_per_host);
+        m.backsplash_counts.extend(p.backsplash_counts);
+        m.field_per_host.extend(p.field_per_host);
+        for (a, b) in m.infall_lookbacks.iter_mut().zip(p.infall_lookbacks) {
+            a.1.extend(b.1);
+        }
+        for d in p.dependence_raw {
+            match m.dependence_raw.iter_mut().find(|x| x.cell == d.cell) {
+                Some(x) => {
+                    x.masses.extend(d.masses);
+                    x.zs.extend(d.zs);
+                    x.p2.extend(d.p2);
+                }
+                None => m.dependence_raw.push(d),
+            }
+        }
+    }
+    // summaries, in the same order as run_tests
+    let mut boot_rng = host_rng(
+        master_seed,
+        HostId::new(u16::MAX, u16::MAX, u32::MAX),
+        Stream::Statistics,
+    );
+    let summarise =
+        |per_host: &Vec<Vec<f64>>, n: usize, rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
+            (0..n)
+                .map(|k| {
+                    let col: Vec<f64> = per_host.iter().map(|row| row[k]).collect();
+                    spread(&col, options.bootstrap, rng)
+                })
+                .collect()
+        };
+    for ci in 0..m.all_of_n_mc.len() {
+        let nz = m.all_of_n_mc[ci].1.x.len();
+        m.all_of_n_mc[ci].1.spread = summarise(&m.all_of_n_mc[ci].1.per_host, nz, &mut boot_rng);
+        m.all_of_n_exact[ci].1.spread =
+            summarise(&m.all_of_n_exact[ci].1.per_host, nz, &mut boot_rng);
+        let clock = m.all_of_n_mc[ci].0;
+        for f in m.fraction_of_n.iter_mut().filter(|f| f.0 == clock) {
+            f.2.spread = summarise(&f.2.per_host, f.2.x.len(), &mut boot_rng);
+        }
+        for q in m.quench.iter_mut().filter(|q| q.0 == clock) {
+            q.1.spread = summarise(&q.1.per_host, q.1.x.len(), &mut boot_rng);
+            let floor = 1.0 - options.confidence;
+            q.2 =
+                q.1.x
+                    .iter()
+                    .zip(&q.1.spread)
+                    .filter(|(_, sp)| sp.mean >= floor)
+                    .map(|(t, _)| *t)
+                    .fold(f64::NAN, f64::max);
+        }
+    }
+    for (mm, per) in m.matches.iter_mut().zip(&m.matches_per_host) {
+        mm.3 = spread(per, options.bootstrap, &mut boot_rng);
+        mm.4 = mm.2.len();
+    }
+    m.backsplash_fraction = spread(&m.backsplash_per_host, options.bootstrap, &mut boot_rng);
+    let nh = m.backsplash_counts.len().max(1) as f64;
+    m.backsplash_count_mean = m.backsplash_counts.iter().sum::<f64>() / nh;
+    m.field_count_expected = m.field_per_host.iter().sum::<f64>() / nh;
+    m.dependence_raw.sort_by_key(|d| d.cell);
+    m.dependence = m.dependence_raw.iter().map(dependence_row).collect();
+    Some(m)
 }
 
 fn lookback_times(t: &[f64], t0: f64) -> Vec<f64> {
@@ -428,6 +567,7 @@ pub fn run_tests(
 
     // 4. phase-space matches
     let mut matches = Vec::new();
+    let mut matches_per_host = Vec::new();
     if let Some(sample) = sample {
         let w = options.match_windows;
         for o in &sample.objects {
@@ -463,6 +603,7 @@ pub fn run_tests(
                 let s = spread(&per_host, options.bootstrap, &mut boot_rng);
                 let n = pooled.len();
                 matches.push((o.id.clone(), clock, pooled, s, n));
+                matches_per_host.push(per_host);
             }
         }
     }
@@ -498,6 +639,10 @@ pub fn run_tests(
             f64::NAN
         });
     }
+    let mut field_per_host = Vec::with_capacity(n_hosts);
+    for h in 0..n_hosts {
+        field_per_host.push(b.field_count(lt, cat.host_r_vir_kpc[h]));
+    }
     let backsplash_fraction = spread(&fr, options.bootstrap, &mut boot_rng);
     let nh = n_hosts.max(1) as f64;
 
@@ -509,43 +654,38 @@ pub fn run_tests(
     cells.dedup();
     let first = &all_mc[0].1;
     let k2 = options.z_grid.iter().position(|&z| (z - 2.0).abs() < 1e-9);
-    let dependence = cells
+    let dependence_raw: Vec<DependenceRaw> = cells
         .into_iter()
         .map(|(ci, mi)| {
             let hosts: Vec<usize> = (0..n_hosts)
                 .filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi)
                 .collect();
-            let mut zs: Vec<f64> = hosts
+            let zs: Vec<f64> = hosts
                 .iter()
                 .flat_map(|&h| selected[h].iter().map(|&i| clocks.first[i]))
                 .filter(|t| t.is_finite())
                 .map(|t| cosmo.z_at_age(t))
                 .collect();
-            zs.sort_by(|a, b| a.partial_cmp(b).unwrap());
-            let med_z = super::intervals::percentile(&zs, 0.5);
-            let m_med = {
-                let mut m: Vec<f64> = hosts.iter().map(|&h| cat.host_m_vir_msun[h]).collect();
-                m.sort_by(|a, b| a.partial_cmp(b).unwrap());
-                super::intervals::percentile(&m, 0.5)
-            };
-            let p2 = k2
+            let masses: Vec<f64> = hosts.iter().map(|&h| cat.host_m_vir_msun[h]).collect();
+            let p2: Vec<f64> = k2
                 .map(|k| {
-                    let v: Vec<f64> = usable
+                    usable
                         .iter()
                         .enumerate()
                         .filter(|(_, &h)| hosts.contains(&h))
                         .map(|(row, _)| first.per_host[row][k])
-                        .collect();
-                    if v.is_empty() {
-                        f64::NAN
-                    } else {
-                        v.iter().sum::<f64>() / v.len() as f64
-                    }
+                        .collect()
                 })
-                .unwrap_or(f64::NAN);
-            (ci, mi, hosts.len(), m_med, med_z, p2)
+                .unwrap_or_default();
+            DependenceRaw {
+                cell: (ci, mi),
+                masses,
+                zs,
+                p2,
+            }
         })
         .collect();
+    let dependence = dependence_raw.iter().map(dependence_row).collect();
 
     AnalysisResults {
         n_draw,
@@ -562,5 +702,10 @@ pub fn run_tests(
         field_count_expected: field / nh,
         infall_lookbacks,
         dependence,
+        matches_per_host,
+        backsplash_per_host: fr,
+        backsplash_counts: counts,
+        field_per_host,
+        dependence_raw,
     }
 }
