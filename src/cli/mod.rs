@@ -42,6 +42,8 @@ pub enum Command {
     Merge(run::MergeArgs),
     /// Run the infall tests on an existing store.
     Infall(run::InfallArgs),
+    /// Draw the figures of an existing store.
+    Plot(run::PlotArgs),
 }
 
 /// A command failure with its exit code.
@@ -81,5 +83,6 @@ pub fn run(cli: Cli) -> Result<(), CliError> {
         Command::Check(a) => run::check(a),
         Command::Merge(a) => run::merge(a),
         Command::Infall(a) => run::infall(a),
+        Command::Plot(a) => run::plot(a),
     }
 }

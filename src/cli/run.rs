@@ -229,13 +229,14 @@ fn execute(
     Ok(path)
 }
 
-fn analyse(
+/// Run the tests on a store, streaming it in host chunks; returns the results, the figure
+/// data and the number of hosts.
+fn compute(
     grid: &Grid,
     store: &Path,
     sample: Option<&ObservedSample>,
-) -> Result<AnalysisResults, CliError> {
+) -> Result<(AnalysisResults, retinue::stats::compact::FigureData, usize), CliError> {
     let cfg = &grid.config;
-    let t0 = Instant::now();
     // stream the store in chunks of hosts, test each chunk, merge: memory stays flat in the
     // number of hosts (the merge keeps per-host curves and pooled infall times only)
     let lt = &grid.theories[0];
@@ -270,6 +271,17 @@ fn analyse(
                     store.display()
                 ))
             })?;
+    Ok((res, fig, n_hosts))
+}
+
+fn analyse(
+    grid: &Grid,
+    store: &Path,
+    sample: Option<&ObservedSample>,
+) -> Result<AnalysisResults, CliError> {
+    let cfg = &grid.config;
+    let t0 = Instant::now();
+    let (res, fig, n_hosts) = compute(grid, store, sample)?;
     let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
     write_analysis_to_store(store, &res, &tests_toml).map_err(|e| CliError::Failed(e.into()))?;
     let dir = report_dir(store);
@@ -444,6 +456,43 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
 pub fn merge(a: MergeArgs) -> Result<(), CliError> {
     let p = merge_stores(&a.shards, &a.out).map_err(run_err)?;
     println!("merged {} shards into {}", a.shards.len(), p.display());
+    Ok(())
+}
+
+#[derive(Debug, Args)]
+#[command(
+    after_help = "Example:\n  retinue plot run.h5 --out figures/\n\nDraws the figures of a store (probability curves with bands, infall-time distributions,\npericentres, subhalo mass function, radial distribution, dependence on host mass) with the\nstored configuration."
+)]
+pub struct PlotArgs {
+    /// A run store.
+    pub store: PathBuf,
+    /// Directory for the PNG files (default: NAME-report next to the store).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Observed sample (CSV or TOML), for the sample's N.
+    #[arg(long)]
+    pub sample: Option<PathBuf>,
+}
+
+pub fn plot(a: PlotArgs) -> Result<(), CliError> {
+    let meta = read_meta(&a.store).map_err(usage)?;
+    let mut cfg = RunConfig::parse_str(&meta.config_toml, Some(Path::new("."))).map_err(usage)?;
+    cfg.file.run.sample = None;
+    let sample = match &a.sample {
+        Some(p) => Some(ObservedSample::from_file(p).map_err(usage)?),
+        None => None,
+    };
+    let grid = Grid::new(cfg).map_err(run_err)?;
+    let (res, fig, _) = compute(&grid, &a.store, sample.as_ref())?;
+    let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
+    std::fs::create_dir_all(&dir)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
+    let figs =
+        retinue::report::figures::write_figures(&dir, &res, &fig, grid.theories[0].cosmology())
+            .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
+    for f in figs {
+        println!("{}", f.display());
+    }
     Ok(())
 }
 

@@ -483,6 +483,7 @@ fn integrate_subhalo(
             let x_b = m / structure.m_acc;
             if x_b < options.disrupt_bound_fraction
                 || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc
+                || (fr && norm(pos(&y)) < options.central_merge_kpc)
             {
                 res.t_disrupt_physical_gyr = t;
                 physical_end = true;

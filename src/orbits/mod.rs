@@ -42,6 +42,9 @@ pub struct OrbitOptions {
     /// radius (at the time it fell in) and is released when the parent's tidal radius
     /// shrinks inside that.
     pub suborbit_fraction: f64,
+    /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) that sinks inside this radius
+    /// (kpc) has merged with the central galaxy and is removed (0 = never).
+    pub central_merge_kpc: f64,
 }
 
 impl Default for OrbitOptions {
@@ -55,6 +58,7 @@ impl Default for OrbitOptions {
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
             suborbit_fraction: 0.5,
+            central_merge_kpc: 1.0,
         }
     }
 }
@@ -102,6 +106,12 @@ impl OrbitOptions {
             self.suborbit_fraction,
             self.suborbit_fraction > 0.0 && self.suborbit_fraction <= 1.0,
             "must be in (0, 1]",
+        );
+        chk(
+            "central_merge_kpc",
+            self.central_merge_kpc,
+            (0.0..=50.0).contains(&self.central_merge_kpc),
+            "must be in [0, 50] kpc",
         );
         out
     }

@@ -30,7 +30,7 @@ use super::backsplash::BacksplashOptions;
 use super::catalog::Catalog;
 use super::clocks::{clock_times, Clock, ClockTimes, PreprocessingThreshold};
 use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
-use super::intervals::{spread, Spread};
+use super::intervals::{spread, spread_columns, Spread};
 use super::sample::ObservedSample;
 use super::selection::Selection;
 use crate::error::InvalidValue;
@@ -320,15 +320,10 @@ pub fn merge_partials(
         HostId::new(u16::MAX, u16::MAX, u32::MAX),
         Stream::Statistics,
     );
-    let summarise =
-        |per_host: &Vec<Vec<f64>>, n: usize, rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
-            (0..n)
-                .map(|k| {
-                    let col: Vec<f64> = per_host.iter().map(|row| row[k]).collect();
-                    spread(&col, options.bootstrap, rng)
-                })
-                .collect()
-        };
+    let summarise = |per_host: &Vec<Vec<f64>>,
+                     n: usize,
+                     rng: &mut rand_chacha::ChaCha8Rng|
+     -> Vec<Spread> { spread_columns(per_host, n, options.bootstrap, rng) };
     for ci in 0..m.all_of_n_mc.len() {
         let nz = m.all_of_n_mc[ci].1.x.len();
         m.all_of_n_mc[ci].1.spread = summarise(&m.all_of_n_mc[ci].1.per_host, nz, &mut boot_rng);
@@ -403,12 +398,7 @@ pub fn run_tests(
     );
     let summarise =
         |per_host: &Vec<Vec<f64>>, x: &[f64], rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
-            (0..x.len())
-                .map(|k| {
-                    let col: Vec<f64> = per_host.iter().map(|row| row[k]).collect();
-                    spread(&col, options.bootstrap, rng)
-                })
-                .collect()
+            spread_columns(per_host, x.len(), options.bootstrap, rng)
         };
 
     let mut all_mc = Vec::new();
