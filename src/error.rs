@@ -40,6 +40,33 @@ impl InvalidValue {
     }
 }
 
+/// Collects range problems of numeric parameters: `num(key, value, ok, allowed)` records a
+/// problem when `ok` is false or the value is not finite.
+#[derive(Debug, Default)]
+pub struct Checker {
+    prefix: String,
+    pub problems: Vec<InvalidValue>,
+}
+
+impl Checker {
+    pub fn new(prefix: &str) -> Self {
+        Self {
+            prefix: prefix.to_string(),
+            problems: Vec::new(),
+        }
+    }
+
+    pub fn num(&mut self, key: &str, v: f64, ok: bool, allowed: &str) {
+        if !ok || !v.is_finite() {
+            self.problems.push(InvalidValue::new(
+                format!("{}{key}", self.prefix),
+                v,
+                allowed,
+            ));
+        }
+    }
+}
+
 #[derive(Debug, Error)]
 pub enum CosmologyError {
     #[error("{0}")]

@@ -100,67 +100,62 @@ impl Default for GalaxyOptions {
 
 impl GalaxyOptions {
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
-        let mut out = Vec::new();
-        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
-            if !ok || !v.is_finite() {
-                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
-            }
-        };
-        chk(
+        let mut ck = crate::error::Checker::new(prefix);
+        ck.num(
             "dwarf_pivot_msun",
             self.dwarf_pivot_msun,
             (1e8..=1e13).contains(&self.dwarf_pivot_msun),
             "must be in [1e8, 1e13] Msun",
         );
-        chk(
+        ck.num(
             "dwarf_slope",
             self.dwarf_slope,
             (0.5..=5.0).contains(&self.dwarf_slope),
             "must be in [0.5, 5]",
         );
-        chk(
+        ck.num(
             "dwarf_transition_dex",
             self.dwarf_transition_dex,
             self.dwarf_transition_dex > 0.0 && self.dwarf_transition_dex <= 3.0,
             "must be in (0, 3] dex",
         );
-        chk(
+        ck.num(
             "scatter_dex",
             self.scatter_dex,
             (0.0..=1.5).contains(&self.scatter_dex),
             "must be in [0, 1.5] dex",
         );
-        chk(
+        ck.num(
             "scatter_growth",
             self.scatter_growth,
             (0.0..=2.0).contains(&self.scatter_growth),
             "must be in [0, 2] dex per dex",
         );
-        chk(
+        ck.num(
             "scatter_max_dex",
             self.scatter_max_dex,
             self.scatter_max_dex >= self.scatter_dex && self.scatter_max_dex <= 3.0,
             "must be in [scatter_dex, 3] dex",
         );
-        chk(
+        ck.num(
             "occupation_m50_msun",
             self.occupation_m50_msun,
             (1e5..=1e12).contains(&self.occupation_m50_msun),
             "must be in [1e5, 1e12] Msun",
         );
-        chk(
+        ck.num(
             "occupation_sigma_dex",
             self.occupation_sigma_dex,
             self.occupation_sigma_dex > 0.0 && self.occupation_sigma_dex <= 2.0,
             "must be in (0, 2] dex",
         );
-        chk(
+        ck.num(
             "mass_to_light_v",
             self.mass_to_light_v,
             self.mass_to_light_v > 0.0 && self.mass_to_light_v <= 20.0,
             "must be in (0, 20] Msun/Lsun",
         );
-        out
+        ck.problems
     }
 
     /// Median log10 M* of the published relation alone, for a virial peak mass at z.

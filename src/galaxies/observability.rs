@@ -42,43 +42,38 @@ impl Default for SurveyOptions {
 
 impl SurveyOptions {
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
-        let mut out = Vec::new();
-        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
-            if !ok || !v.is_finite() {
-                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
-            }
-        };
-        chk(
+        let mut ck = crate::error::Checker::new(prefix);
+        ck.num(
             "sun_r0_kpc",
             self.sun_r0_kpc,
             (0.0..=30.0).contains(&self.sun_r0_kpc),
             "must be in [0, 30] kpc",
         );
-        chk(
+        ck.num(
             "sun_z_kpc",
             self.sun_z_kpc,
             self.sun_z_kpc.abs() <= 1.0,
             "must be in [-1, 1] kpc",
         );
-        chk(
+        ck.num(
             "completeness_a",
             self.completeness_a,
             self.completeness_a > 0.0 && self.completeness_a <= 1.0,
             "must be in (0, 1]",
         );
-        chk(
+        ck.num(
             "completeness_b",
             self.completeness_b,
             self.completeness_b.abs() <= 10.0,
             "must be in [-10, 10]",
         );
-        chk(
+        ck.num(
             "sky_fraction",
             self.sky_fraction,
             self.sky_fraction > 0.0 && self.sky_fraction <= 1.0,
             "must be in (0, 1]",
         );
-        out
+        ck.problems
     }
 
     /// Sun's position in the host frame, kpc.

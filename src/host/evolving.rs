@@ -65,43 +65,38 @@ impl DiscBulgeParams {
     }
 
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
-        let mut out = Vec::new();
-        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
-            if !ok || !v.is_finite() {
-                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
-            }
-        };
-        chk(
+        let mut ck = crate::error::Checker::new(prefix);
+        ck.num(
             "disc_mass_msun",
             self.disc_mass_msun,
             (0.0..=1e12).contains(&self.disc_mass_msun),
             "must be in [0, 1e12] Msun",
         );
-        chk(
+        ck.num(
             "disc_a_kpc",
             self.disc_a_kpc,
             self.disc_a_kpc > 0.0 && self.disc_a_kpc <= 50.0,
             "must be in (0, 50] kpc",
         );
-        chk(
+        ck.num(
             "disc_b_kpc",
             self.disc_b_kpc,
             self.disc_b_kpc > 0.0 && self.disc_b_kpc <= 10.0,
             "must be in (0, 10] kpc",
         );
-        chk(
+        ck.num(
             "bulge_mass_msun",
             self.bulge_mass_msun,
             (0.0..=1e12).contains(&self.bulge_mass_msun),
             "must be in [0, 1e12] Msun",
         );
-        chk(
+        ck.num(
             "bulge_a_kpc",
             self.bulge_a_kpc,
             self.bulge_a_kpc > 0.0 && self.bulge_a_kpc <= 20.0,
             "must be in (0, 20] kpc",
         );
-        out
+        ck.problems
     }
 }
 

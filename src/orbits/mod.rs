@@ -65,54 +65,49 @@ impl Default for OrbitOptions {
 
 impl OrbitOptions {
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
-        let mut out = Vec::new();
-        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
-            if !ok || !v.is_finite() {
-                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
-            }
-        };
-        chk(
+        let mut ck = crate::error::Checker::new(prefix);
+        ck.num(
             "rtol",
             self.rtol,
             self.rtol >= 1e-12 && self.rtol <= 1e-2,
             "must be in [1e-12, 1e-2]",
         );
-        chk(
+        ck.num(
             "stripping_alpha",
             self.stripping_alpha,
             self.stripping_alpha > 0.0 && self.stripping_alpha <= 20.0,
             "must be in (0, 20]",
         );
-        chk(
+        ck.num(
             "disrupt_bound_fraction",
             self.disrupt_bound_fraction,
             (0.0..1.0).contains(&self.disrupt_bound_fraction),
             "must be in [0, 1)",
         );
-        chk(
+        ck.num(
             "disrupt_tidal_radius_over_rs",
             self.disrupt_tidal_radius_over_rs,
             (0.0..10.0).contains(&self.disrupt_tidal_radius_over_rs),
             "must be in [0, 10)",
         );
-        chk(
+        ck.num(
             "pericentre_cut_kpc",
             self.pericentre_cut_kpc,
             (0.0..=200.0).contains(&self.pericentre_cut_kpc),
             "must be in [0, 200] kpc",
         );
-        chk(
+        ck.num(
             "suborbit_fraction",
             self.suborbit_fraction,
             self.suborbit_fraction > 0.0 && self.suborbit_fraction <= 1.0,
             "must be in (0, 1]",
         );
-        chk(
+        ck.num(
             "central_merge_kpc",
             self.central_merge_kpc,
             (0.0..=50.0).contains(&self.central_merge_kpc),
             "must be in [0, 50] kpc",
         );
-        out
+        ck.problems
     }
 }

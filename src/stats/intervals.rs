@@ -34,21 +34,26 @@ pub struct Spread {
     pub boot975: f64,
 }
 
+impl Spread {
+    /// Nothing to summarise.
+    pub const NAN: Spread = Spread {
+        mean: f64::NAN,
+        median: f64::NAN,
+        p16: f64::NAN,
+        p84: f64::NAN,
+        boot16: f64::NAN,
+        boot84: f64::NAN,
+        boot025: f64::NAN,
+        boot975: f64::NAN,
+    };
+}
+
 /// Spread and bootstrap of per-host values (NaN values are skipped).
 pub fn spread<R: Rng>(values: &[f64], resamples: usize, rng: &mut R) -> Spread {
     let v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
     let n = v.len();
     if n == 0 {
-        return Spread {
-            mean: f64::NAN,
-            median: f64::NAN,
-            p16: f64::NAN,
-            p84: f64::NAN,
-            boot16: f64::NAN,
-            boot84: f64::NAN,
-            boot025: f64::NAN,
-            boot975: f64::NAN,
-        };
+        return Spread::NAN;
     }
     let mut s = v.clone();
     s.sort_by(|a, b| a.partial_cmp(b).unwrap());
@@ -105,16 +110,7 @@ pub fn spread_columns<R: Rng>(
                 .filter(|v| v.is_finite())
                 .collect();
             if col.is_empty() {
-                return Spread {
-                    mean: f64::NAN,
-                    median: f64::NAN,
-                    p16: f64::NAN,
-                    p84: f64::NAN,
-                    boot16: f64::NAN,
-                    boot84: f64::NAN,
-                    boot025: f64::NAN,
-                    boot975: f64::NAN,
-                };
+                return Spread::NAN;
             }
             let mean = col.iter().sum::<f64>() / col.len() as f64;
             col.sort_by(|a, b| a.partial_cmp(b).unwrap());

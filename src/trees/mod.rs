@@ -55,43 +55,38 @@ impl Pch08Params {
     }
 
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
-        let mut out = Vec::new();
-        let mut chk = |k: &str, v: f64, ok: bool, allowed: &str| {
-            if !ok || !v.is_finite() {
-                out.push(InvalidValue::new(format!("{prefix}{k}"), v, allowed));
-            }
-        };
-        chk(
+        let mut ck = crate::error::Checker::new(prefix);
+        ck.num(
             "g0",
             self.g0,
             self.g0 > 0.0 && self.g0 <= 5.0,
             "must be in (0, 5]",
         );
-        chk(
+        ck.num(
             "gamma1",
             self.gamma1,
             (-1.0..1.0).contains(&self.gamma1),
             "must be in [-1, 1)",
         );
-        chk(
+        ck.num(
             "gamma2",
             self.gamma2,
             (-1.0..=1.0).contains(&self.gamma2),
             "must be in [-1, 1]",
         );
-        chk(
+        ck.num(
             "eps1",
             self.eps1,
             self.eps1 > 0.0 && self.eps1 <= 0.5,
             "must be in (0, 0.5]",
         );
-        chk(
+        ck.num(
             "eps2",
             self.eps2,
             self.eps2 > 0.0 && self.eps2 <= 0.5,
             "must be in (0, 0.5]",
         );
-        out
+        ck.problems
     }
 }
 
