@@ -127,8 +127,9 @@ pub struct EvolvingHost {
     t0: f64,
     dt: f64,
     snaps: Vec<HostSnapshot>,
-    /// ln sigma (kpc/Gyr) on N_T x N_R, radius grid uniform in ln(r / R_vir(t)).
-    ln_sigma: Vec<f64>,
+    /// sigma (kpc/Gyr) on N_T x N_R, radius grid uniform in ln(r / R_vir(t)) (linear
+    /// interpolation in sigma: no exponential in the friction inner loop).
+    sigma_tab: Vec<f64>,
     /// Concentration at each node (for output).
     conc: Vec<f64>,
 }
@@ -239,29 +240,29 @@ impl EvolvingHost {
             });
             conc.push(c);
         }
-        let mut ln_sigma = Vec::with_capacity(N_T * N_R);
+        let mut sigma_tab = Vec::with_capacity(N_T * N_R);
         for s in &snaps {
-            ln_sigma.extend(jeans_ln_sigma(s));
+            sigma_tab.extend(jeans_sigma(s));
         }
         Self {
             t0: t_lo,
             dt,
             snaps,
-            ln_sigma,
+            sigma_tab,
             conc,
         }
     }
 
     /// A host that does not change (for tests and `retinue orbit --static`).
     pub fn fixed(s: HostSnapshot) -> Self {
-        let sig = jeans_ln_sigma(&s);
-        let mut ln_sigma = sig.clone();
-        ln_sigma.extend(sig);
+        let sig = jeans_sigma(&s);
+        let mut sigma_tab = sig.clone();
+        sigma_tab.extend(sig);
         Self {
             t0: 0.0,
             dt: 1e6,
             snaps: vec![s, s],
-            ln_sigma,
+            sigma_tab,
             conc: vec![s.r_vir / s.r_s; 2],
         }
     }
@@ -301,10 +302,10 @@ impl EvolvingHost {
         let j = u as usize;
         let g = u - j as f64;
         let at = |ti: usize| {
-            let row = &self.ln_sigma[ti * N_R..(ti + 1) * N_R];
+            let row = &self.sigma_tab[ti * N_R..(ti + 1) * N_R];
             row[j] + g * (row[j + 1] - row[j])
         };
-        (at(i) + f * (at(i + 1) - at(i))).exp()
+        at(i) + f * (at(i + 1) - at(i))
     }
 
     /// The snapshot nodes (for output).
@@ -313,10 +314,10 @@ impl EvolvingHost {
     }
 }
 
-/// ln sigma_r (kpc/Gyr) of the NFW tracer in the spherical potential of all components, on
+/// sigma_r (kpc/Gyr) of the NFW tracer in the spherical potential of all components, on
 /// the grid ln(r/R_vir) in [ln 1e-4, ln 10]; integral by the trapezoid rule in ln r to 100 R_vir
 /// (the neglected tail is below 1e-6 of sigma^2 at 10 R_vir).
-fn jeans_ln_sigma(s: &HostSnapshot) -> Vec<f64> {
+fn jeans_sigma(s: &HostSnapshot) -> Vec<f64> {
     let n_int = 1024;
     let (l0, l1) = (LNX_MIN + s.r_vir.ln(), (100.0f64).ln() + s.r_vir.ln());
     let h = (l1 - l0) / (n_int - 1) as f64;
@@ -341,7 +342,7 @@ fn jeans_ln_sigma(s: &HostSnapshot) -> Vec<f64> {
             let g = u - k as f64;
             let integral = cum[k] + g * (cum[k + 1] - cum[k]);
             let r = lr.exp();
-            (0.5 * (integral / s.halo_density(r)).ln()).max(-50.0)
+            (integral / s.halo_density(r)).max(0.0).sqrt()
         })
         .collect()
 }

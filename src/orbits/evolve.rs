@@ -184,8 +184,9 @@ impl Tracker {
         }
     }
 
-    /// Look for events between two accepted steps.
-    fn step(&mut self, host: &EvolvingHost, t0: f64, y0: &State, t1: f64, y1: &State, r_cut: f64) {
+    /// Look for events between two accepted steps (rv0, rv1: the host's R_vir at t0 and t1).
+    #[allow(clippy::too_many_arguments)]
+    fn step(&mut self, t0: f64, y0: &State, t1: f64, y1: &State, rv0: f64, rv1: f64, r_cut: f64) {
         let h = t1 - t0;
         let (x0, x1) = (pos(y0), pos(y1));
         let (r0, r1) = (norm(x0), norm(x1));
@@ -218,8 +219,6 @@ impl Tracker {
                 self.r_apo_last = r;
             }
         }
-        let rv0 = host.snapshot(t0).r_vir;
-        let rv1 = host.snapshot(t1).r_vir;
         let (d0, d1) = (r0 - rv0, r1 - rv1);
         if d1 < 0.0 || d0 < 0.0 {
             self.been_inside = true;
@@ -422,12 +421,15 @@ fn integrate_subhalo(
     // physics reference sheet sec. 9: negligible below 1e-3 within a Hubble time); skipping
     // it there saves most of the cost for the many small subhaloes.
     let (mut last_m, mut last_ll) = (m, f64::INFINITY);
-    let friction_on = |m: f64, t: f64| options.friction && m > 1e-4 * host.snapshot(t).m_vir;
+    // the host at the current time, and the host's spherical mass inside the current radius
+    // (computed once per step and shared by friction and stripping)
+    let mut snap: HostSnapshot = host.snapshot(t);
+    let mut m_enc = snap.mass_enclosed(norm(pos(&y)));
     while t < t_end {
         let m_now = m;
-        let fr = friction_on(m, t);
+        let fr = options.friction && m > 1e-4 * snap.m_vir;
         let ll = if fr {
-            coulomb_log_at(host, t, &y, m)
+            friction::coulomb_log(m_enc, m)
         } else {
             0.0
         };
@@ -439,12 +441,23 @@ fn integrate_subhalo(
         }
         let mut f = |tt: f64, yy: &State| rhs(host, ll, m_now, tt, yy);
         let (t1, y1) = dopri.step(&mut f, t, &y, t_end);
-        tracker.step(host, t, &y, t1, &y1, options.pericentre_cut_kpc);
+        let snap1 = host.snapshot(t1);
+        tracker.step(
+            t,
+            &y,
+            t1,
+            &y1,
+            snap.r_vir,
+            snap1.r_vir,
+            options.pericentre_cut_kpc,
+        );
         let h = t1 - t;
         t = t1;
         y = y1;
+        snap = snap1;
+        m_enc = snap.mass_enclosed(norm(pos(&y)));
         if options.stripping {
-            let s: HostSnapshot = host.snapshot(t);
+            let s = snap;
             let x = pos(&y);
             let v = vel(&y);
             let r = norm(x);
@@ -461,7 +474,7 @@ fn integrate_subhalo(
             }
             r_t = structure.tidal_radius_with(prof, m, denom, r_t);
             let (m_t, _) = structure.enclosed_with(prof, r_t, m);
-            let t_dyn = Stripping::t_dyn(r, s.mass_enclosed(r));
+            let t_dyn = Stripping::t_dyn(r, m_enc);
             let m_new = strip.step(m, m_t, h, t_dyn);
             m = m_new;
             // release children whose orbit now lies outside the tidal radius
