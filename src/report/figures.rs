@@ -33,6 +33,17 @@ const COLORS: [RGBColor; 3] = [
 
 type Res = Result<(), Box<dyn std::error::Error>>;
 
+/// The legend box shared by the multi-series figures.
+fn draw_legend<'a, DB: DrawingBackend + 'a, CT: CoordTranslate>(
+    ch: &mut ChartContext<'a, DB, CT>,
+) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
+    ch.configure_series_labels()
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .label_font(("sans-serif", 16))
+        .draw()
+}
+
 fn curve_plot(
     path: &Path,
     title: &str,
@@ -80,11 +91,7 @@ fn curve_plot(
         .label(name.clone())
         .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], col.stroke_width(2)));
     }
-    ch.configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 16))
-        .draw()?;
+    draw_legend(&mut ch)?;
     root.present()?;
     Ok(())
 }
@@ -95,7 +102,6 @@ fn hist_plot(
     xlabel: &str,
     series: &[(String, Vec<f64>)],
     bins: usize,
-    log_y: bool,
 ) -> Res {
     let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
     root.fill(&WHITE)?;
@@ -130,7 +136,7 @@ fn hist_plot(
         .margin(20)
         .x_label_area_size(45)
         .y_label_area_size(70)
-        .build_cartesian_2d(0.0..xmax, if log_y { 1e-4 * ymax..ymax } else { 0.0..ymax })?;
+        .build_cartesian_2d(0.0..xmax, 0.0..ymax)?;
     ch.configure_mesh()
         .x_desc(xlabel)
         .y_desc("probability density")
@@ -147,11 +153,7 @@ fn hist_plot(
             .label(name.clone())
             .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], col.stroke_width(2)));
     }
-    ch.configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 16))
-        .draw()?;
+    draw_legend(&mut ch)?;
     root.present()?;
     Ok(())
 }
@@ -275,7 +277,6 @@ pub fn write_figures(
             "lookback time (Gyr)",
             &infall,
             28,
-            false,
         ),
     )?;
     // pericentres of surviving luminous satellites (fixed bins)
