@@ -5,6 +5,7 @@
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
+use plotters::coord::ranged1d::ValueFormatter;
 use plotters::prelude::*;
 
 use crate::stats::compact::FigureData;
@@ -33,6 +34,38 @@ const COLORS: [RGBColor; 3] = [
 
 type Res = Result<(), Box<dyn std::error::Error>>;
 
+/// A chart with the title and label areas every figure uses.
+fn chart<'a, 'b, DB: DrawingBackend>(
+    root: &'a DrawingArea<DB, plotters::coord::Shift>,
+    title: &str,
+    y_label_width: u32,
+) -> ChartBuilder<'a, 'b, DB> {
+    let mut b = ChartBuilder::on(root);
+    b.caption(title, ("sans-serif", 24))
+        .margin(20)
+        .x_label_area_size(45)
+        .y_label_area_size(y_label_width);
+    b
+}
+
+/// Grid, tick labels and axis titles, in the style every figure uses.
+fn draw_axes<'a, DB, X, Y>(
+    ch: &mut ChartContext<'a, DB, Cartesian2d<X, Y>>,
+    xlabel: &str,
+    ylabel: &str,
+) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>>
+where
+    DB: DrawingBackend + 'a,
+    X: Ranged<ValueType = f64> + ValueFormatter<f64>,
+    Y: Ranged<ValueType = f64> + ValueFormatter<f64>,
+{
+    ch.configure_mesh()
+        .x_desc(xlabel)
+        .y_desc(ylabel)
+        .label_style(("sans-serif", 16))
+        .draw()
+}
+
 /// The legend box shared by the multi-series figures.
 fn draw_legend<'a, DB: DrawingBackend + 'a, CT: CoordTranslate>(
     ch: &mut ChartContext<'a, DB, CT>,
@@ -57,17 +90,8 @@ fn curve_plot(
         .flat_map(|c| c.1.iter().copied())
         .fold(0.0f64, f64::max)
         .max(1e-3);
-    let mut ch = ChartBuilder::on(&root)
-        .caption(title, ("sans-serif", 24))
-        .margin(20)
-        .x_label_area_size(45)
-        .y_label_area_size(60)
-        .build_cartesian_2d(0.0..xmax, 0.0..1.0)?;
-    ch.configure_mesh()
-        .x_desc(xlabel)
-        .y_desc("probability")
-        .label_style(("sans-serif", 16))
-        .draw()?;
+    let mut ch = chart(&root, title, 60).build_cartesian_2d(0.0..xmax, 0.0..1.0)?;
+    draw_axes(&mut ch, xlabel, "probability")?;
     for (i, (name, x, c)) in curves.iter().enumerate() {
         let col = COLORS[i % COLORS.len()];
         let band: Vec<(f64, f64)> = x
@@ -131,17 +155,8 @@ fn hist_plot(
         .fold(0.0f64, f64::max)
         .max(1e-9)
         * 1.1;
-    let mut ch = ChartBuilder::on(&root)
-        .caption(title, ("sans-serif", 24))
-        .margin(20)
-        .x_label_area_size(45)
-        .y_label_area_size(70)
-        .build_cartesian_2d(0.0..xmax, 0.0..ymax)?;
-    ch.configure_mesh()
-        .x_desc(xlabel)
-        .y_desc("probability density")
-        .label_style(("sans-serif", 16))
-        .draw()?;
+    let mut ch = chart(&root, title, 70).build_cartesian_2d(0.0..xmax, 0.0..ymax)?;
+    draw_axes(&mut ch, xlabel, "probability density")?;
     for (i, ((name, _), h)) in series.iter().zip(&hists).enumerate() {
         let col = COLORS[i % COLORS.len()];
         let pts: Vec<(f64, f64)> = h
@@ -185,30 +200,14 @@ fn cumulative_plot(
         (a.0.min(p.1), a.1.max(p.1))
     });
     if log {
-        let mut ch = ChartBuilder::on(&root)
-            .caption(title, ("sans-serif", 24))
-            .margin(20)
-            .x_label_area_size(45)
-            .y_label_area_size(70)
+        let mut ch = chart(&root, title, 70)
             .build_cartesian_2d((x0..x1).log_scale(), (y0..y1 * 1.1).log_scale())?;
-        ch.configure_mesh()
-            .x_desc(xlabel)
-            .y_desc(ylabel)
-            .label_style(("sans-serif", 16))
-            .draw()?;
+        draw_axes(&mut ch, xlabel, ylabel)?;
         ch.draw_series(LineSeries::new(pts, COLORS[0].stroke_width(2)))?;
     } else {
-        let mut ch = ChartBuilder::on(&root)
-            .caption(title, ("sans-serif", 24))
-            .margin(20)
-            .x_label_area_size(45)
-            .y_label_area_size(70)
-            .build_cartesian_2d(x0.min(0.0)..x1, y0.min(0.0)..y1 * 1.05)?;
-        ch.configure_mesh()
-            .x_desc(xlabel)
-            .y_desc(ylabel)
-            .label_style(("sans-serif", 16))
-            .draw()?;
+        let mut ch =
+            chart(&root, title, 70).build_cartesian_2d(x0.min(0.0)..x1, y0.min(0.0)..y1 * 1.05)?;
+        draw_axes(&mut ch, xlabel, ylabel)?;
         ch.draw_series(LineSeries::new(pts, COLORS[0].stroke_width(2)))?;
     }
     root.present()?;
