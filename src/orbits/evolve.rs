@@ -4,6 +4,9 @@
 //! parent's tidal radius shrinks inside their orbit (or the parent is disrupted); then they
 //! orbit the host from the parent's position and velocity.
 
+use std::cell::RefCell;
+use std::rc::Rc;
+
 use rand::Rng;
 
 use super::friction;
@@ -14,10 +17,11 @@ use super::OrbitOptions;
 use crate::constants::{G_KPC3_PER_MSUN_GYR2 as G, KMS_IN_KPC_PER_GYR as KMS};
 use crate::halo::concentration::{c_of_m, ConcentrationModel};
 use crate::halo::MassDefinition;
-use crate::host::{EvolvingHost, HostSnapshot, Potential};
+use crate::host::{EvolvingHost, Potential};
 use crate::linear::LinearTheory;
 use crate::trees::HostHistory;
 
+/// Steps walked by all subhaloes of all hosts in this process (diagnostics for benches).
 pub static STEPS: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
 
 /// What became of a subhalo by the end of the run.
@@ -233,17 +237,139 @@ impl Tracker {
     }
 }
 
-/// A pending release of a subhalo of a subhalo.
+/// One accepted point of an orbit and the host quantities there, computed once and shared by
+/// every subhalo that follows this orbit.
 #[derive(Debug, Clone, Copy)]
-struct Release {
+struct Record {
     t: f64,
     y: State,
+    r_vir: f64,
+    m_vir: f64,
+    /// The host's spherical mass inside |x| (Msun).
+    m_enc: f64,
+    /// Omega^2 - d^2 Phi/dr^2 (Gyr^-2), the denominator of the tidal radius.
+    denom: f64,
+    /// The step that ended here was taken without dynamical friction.
+    free: bool,
+}
+
+impl Record {
+    fn at(host: &EvolvingHost, t: f64, y: State, free: bool) -> Self {
+        let s = host.snapshot(t);
+        let x = pos(&y);
+        let v = vel(&y);
+        let (m_enc, d2phi) = s.tidal_terms(x);
+        let r2 = dot(x, x).max(1e-300);
+        let l = [
+            x[1] * v[2] - x[2] * v[1],
+            x[2] * v[0] - x[0] * v[2],
+            x[0] * v[1] - x[1] * v[0],
+        ];
+        Self {
+            t,
+            y,
+            r_vir: s.r_vir,
+            m_vir: s.m_vir,
+            m_enc,
+            denom: dot(l, l) / (r2 * r2) - d2phi,
+            free,
+        }
+    }
+}
+
+/// An orbit through the host as a list of accepted integrator steps. A sub-subhalo leaves its
+/// parent at the parent's position and velocity, so while neither feels dynamical friction
+/// their orbits are the same test-particle orbit: it is integrated once and every member of
+/// the group walks it, each with its own stripping, disruption and events. A member that feels
+/// friction leaves the shared orbit and integrates its own.
+#[derive(Debug)]
+struct Path {
+    recs: Vec<Record>,
+    dopri: Dopri5,
+    /// The integrator's stored derivative belongs to the friction-free right-hand side.
+    k1_free: bool,
+    /// Mass and Coulomb logarithm of the last friction step.
+    last_m: f64,
+    last_ll: f64,
+    /// Friction-free continuations branched off at a record whose next step had friction.
+    branches: Vec<(usize, PathRef)>,
+}
+
+type PathRef = Rc<RefCell<Path>>;
+
+impl Path {
+    fn start(rec: Record, tol: Tolerances) -> PathRef {
+        Rc::new(RefCell::new(Self {
+            recs: vec![Record { free: true, ..rec }],
+            dopri: Dopri5::new(tol, 1e-3, 0.1),
+            k1_free: false,
+            last_m: f64::NAN,
+            last_ll: f64::NAN,
+            branches: Vec::new(),
+        }))
+    }
+
+    /// The friction-free continuation from record `idx` (created on first use).
+    fn branch_at(&mut self, idx: usize) -> PathRef {
+        if let Some((_, b)) = self.branches.iter().find(|(i, _)| *i == idx) {
+            return b.clone();
+        }
+        let b = Self::start(self.recs[idx], self.dopri.tol);
+        self.branches.push((idx, b.clone()));
+        b
+    }
+
+    /// Append one friction-free step.
+    fn extend_free(&mut self, host: &EvolvingHost, t_end: f64) -> Record {
+        if !self.k1_free {
+            self.dopri.reset_derivative();
+        }
+        let last = *self.recs.last().expect("a path has a first record");
+        let mut f = |tt: f64, yy: &State| rhs(host, 0.0, 0.0, tt, yy);
+        let (t1, y1) = self.dopri.step(&mut f, last.t, &last.y, t_end);
+        self.k1_free = true;
+        let rec = Record::at(host, t1, y1, true);
+        self.recs.push(rec);
+        rec
+    }
+
+    /// Append one step with friction on mass m, Coulomb logarithm ll.
+    fn extend_friction(&mut self, host: &EvolvingHost, m: f64, ll: f64, t_end: f64) -> Record {
+        if self.k1_free
+            || self.last_m.is_nan()
+            || (m / self.last_m - 1.0).abs() > 1e-3
+            || (ll / self.last_ll - 1.0).abs() > 1e-3
+        {
+            // the friction term changed: the stored first-stage derivative is stale
+            self.dopri.reset_derivative();
+            self.last_m = m;
+            self.last_ll = ll;
+        }
+        let last = *self.recs.last().expect("a path has a first record");
+        let (ll_step, m_step) = (self.last_ll, self.last_m);
+        let mut f = |tt: f64, yy: &State| rhs(host, ll_step, m_step, tt, yy);
+        let (t1, y1) = self.dopri.step(&mut f, last.t, &last.y, t_end);
+        self.k1_free = false;
+        let rec = Record::at(host, t1, y1, false);
+        self.recs.push(rec);
+        rec
+    }
+}
+
+/// Where a sub-subhalo starts when it leaves its parent: a record of the parent's path.
+#[derive(Debug, Clone)]
+struct Release {
+    path: PathRef,
+    idx: usize,
     /// The carrier's last inward crossing of the host's virial radius so far.
     t_last_infall: f64,
 }
 
 /// Evolve every accretion of a host. `rng` is the host's orbit stream; results come in the
-/// order of `hist.accretions` (branch order), so they are reproducible bit for bit.
+/// order of `hist.accretions` (branch order), so they are reproducible bit for bit. Each
+/// first-order subhalo is followed by all its descendants (depth first), so the orbits they
+/// share are freed as soon as the group is done; only first-order subhaloes draw random
+/// numbers, and they do so in branch order.
 pub fn evolve_host_subhaloes<R: Rng>(
     lt: &LinearTheory,
     hist: &HostHistory,
@@ -259,111 +385,134 @@ pub fn evolve_host_subhaloes<R: Rng>(
     let strip = Stripping {
         alpha: options.stripping_alpha,
     };
+    let tol = Tolerances {
+        rtol: options.rtol,
+        atol_pos_kpc: options.rtol * 10.0,
+        atol_vel_kpc_gyr: options.rtol * 10.0,
+    };
     // children of each accretion (by index) and their orbit radius inside the parent
     let mut children: Vec<Vec<(usize, f64)>> = vec![Vec::new(); n];
+    let mut parent: Vec<Option<usize>> = vec![None; n];
     for (i, a) in accs.iter().enumerate() {
         if a.order > 1 {
             if let Some(pi) = hist.accretion_index(a.into_branch) {
                 let r_vir_p =
                     MassDefinition::Vir.radius_kpc(cosmo, a.m_host_at_infall_msun, a.z_infall);
                 children[pi].push((i, options.suborbit_fraction * r_vir_p));
+                parent[i] = Some(pi);
             }
         }
     }
     let mut release: Vec<Option<Release>> = vec![None; n];
-    let mut out: Vec<SubhaloResult> = Vec::with_capacity(n);
-    // index of each accretion's result, to copy a parent's final state
-    for i in 0..n {
-        let a = &accs[i];
-        let z_acc = a.z_infall;
-        let c_acc = c_of_m(
-            ConcentrationModel::DuttonMaccio14,
-            cosmo,
-            a.m_infall_msun,
-            z_acc,
-            MassDefinition::Vir,
-        );
-        let r_vir_acc = MassDefinition::Vir.radius_kpc(cosmo, a.m_infall_msun, z_acc);
-        let structure = SubhaloStructure::nfw(a.m_infall_msun, r_vir_acc, c_acc);
-        let mut res = SubhaloResult {
-            branch: a.branch,
-            order: a.order,
-            group: a.group,
-            parent_branch: a.into_branch,
-            m_infall_msun: a.m_infall_msun,
-            m_peak_msun: a.m_peak_msun,
-            t_peak_gyr: a.t_peak_gyr,
-            t_infall_gyr: a.t_infall_gyr,
-            m_host_at_infall_msun: a.m_host_at_infall_msun,
-            t_first_host_infall_gyr: a.t_host_infall_gyr,
-            t_last_host_infall_gyr: a.t_host_infall_gyr,
-            t_release_gyr: f64::NAN,
-            n_pericentres: 0,
-            t_peri_first_gyr: f64::NAN,
-            r_peri_first_kpc: f64::NAN,
-            r_peri_min_kpc: f64::NAN,
-            t_peri_last_gyr: f64::NAN,
-            r_peri_last_kpc: f64::NAN,
-            r_apo_last_kpc: f64::NAN,
-            n_host_crossings: 0,
-            t_disrupt_physical_gyr: f64::NAN,
-            t_disrupt_pericentre_gyr: f64::NAN,
-            pos_kpc: [f64::NAN; 3],
-            vel_kms: [f64::NAN; 3],
-            r_kpc: f64::NAN,
-            m_bound_msun: a.m_infall_msun,
-            vmax_kms: structure.vmax_acc / KMS,
-            rmax_kpc: structure.rmax_acc,
-            vmax_infall_kms: structure.vmax_acc / KMS,
-            backsplash: false,
-            status: SubhaloStatus::Surviving,
-        };
-        // starting point
-        let start = if a.order == 1 {
-            let t_acc = a.t_infall_gyr;
-            let s = host.snapshot(t_acc);
-            let v_vir = (G * s.m_vir / s.r_vir).sqrt();
-            let nu = lt.delta_c(z_acc) / lt.sigma(s.m_vir, z_acc);
-            let zeta = a.m_infall_msun / s.m_vir;
-            let (u, x) = li.sample(nu, zeta, rng);
-            Some(Release {
-                t: t_acc,
-                y: initial_state(s.r_vir, v_vir, u, x, rng),
-                t_last_infall: t_acc,
-            })
-        } else {
-            release[i]
-        };
-        match start {
-            None => {
-                // never left its parent: it sits where the parent ended
-                let pidx = hist.accretion_index(a.into_branch);
-                if let Some(p) = pidx.and_then(|p| out.get(p)) {
-                    res.pos_kpc = p.pos_kpc;
-                    res.vel_kms = p.vel_kms;
-                    res.r_kpc = p.r_kpc;
-                    res.backsplash = p.backsplash;
-                    res.t_last_host_infall_gyr = p.t_last_host_infall_gyr;
-                }
-                res.status = SubhaloStatus::InParent;
-                // its children stay inside it too
-            }
-            Some(rel) => {
-                if a.order > 1 {
-                    res.t_release_gyr = rel.t;
-                }
-                let kids = &children[i];
-                let released = integrate_subhalo(
-                    host, options, &strip, &structure, rel, t_end, kids, &mut res,
-                );
-                for (k, r) in released {
-                    release[k] = Some(r);
-                }
-            }
+    let mut out: Vec<Option<SubhaloResult>> = vec![None; n];
+    let mut stack: Vec<usize> = Vec::new();
+    for root in 0..n {
+        if accs[root].order > 1 && parent[root].is_some() {
+            continue; // visited from its parent
         }
-        out.push(res);
+        stack.push(root);
+        while let Some(i) = stack.pop() {
+            let a = &accs[i];
+            let z_acc = a.z_infall;
+            let c_acc = c_of_m(
+                ConcentrationModel::DuttonMaccio14,
+                cosmo,
+                a.m_infall_msun,
+                z_acc,
+                MassDefinition::Vir,
+            );
+            let r_vir_acc = MassDefinition::Vir.radius_kpc(cosmo, a.m_infall_msun, z_acc);
+            let structure = SubhaloStructure::nfw(a.m_infall_msun, r_vir_acc, c_acc);
+            let mut res = SubhaloResult {
+                branch: a.branch,
+                order: a.order,
+                group: a.group,
+                parent_branch: a.into_branch,
+                m_infall_msun: a.m_infall_msun,
+                m_peak_msun: a.m_peak_msun,
+                t_peak_gyr: a.t_peak_gyr,
+                t_infall_gyr: a.t_infall_gyr,
+                m_host_at_infall_msun: a.m_host_at_infall_msun,
+                t_first_host_infall_gyr: a.t_host_infall_gyr,
+                t_last_host_infall_gyr: a.t_host_infall_gyr,
+                t_release_gyr: f64::NAN,
+                n_pericentres: 0,
+                t_peri_first_gyr: f64::NAN,
+                r_peri_first_kpc: f64::NAN,
+                r_peri_min_kpc: f64::NAN,
+                t_peri_last_gyr: f64::NAN,
+                r_peri_last_kpc: f64::NAN,
+                r_apo_last_kpc: f64::NAN,
+                n_host_crossings: 0,
+                t_disrupt_physical_gyr: f64::NAN,
+                t_disrupt_pericentre_gyr: f64::NAN,
+                pos_kpc: [f64::NAN; 3],
+                vel_kms: [f64::NAN; 3],
+                r_kpc: f64::NAN,
+                m_bound_msun: a.m_infall_msun,
+                vmax_kms: structure.vmax_acc / KMS,
+                rmax_kpc: structure.rmax_acc,
+                vmax_infall_kms: structure.vmax_acc / KMS,
+                backsplash: false,
+                status: SubhaloStatus::Surviving,
+            };
+            // starting point
+            let start = if a.order == 1 {
+                let t_acc = a.t_infall_gyr;
+                let s = host.snapshot(t_acc);
+                let v_vir = (G * s.m_vir / s.r_vir).sqrt();
+                let nu = lt.delta_c(z_acc) / lt.sigma(s.m_vir, z_acc);
+                let zeta = a.m_infall_msun / s.m_vir;
+                let (u, x) = li.sample(nu, zeta, rng);
+                let y0 = initial_state(s.r_vir, v_vir, u, x, rng);
+                Some(Release {
+                    path: Path::start(Record::at(host, t_acc, y0, true), tol),
+                    idx: 0,
+                    t_last_infall: t_acc,
+                })
+            } else {
+                release[i].take()
+            };
+            match start {
+                None => {
+                    // never left its parent: it sits where the parent ended
+                    if let Some(p) = parent[i].and_then(|p| out[p].as_ref()) {
+                        res.pos_kpc = p.pos_kpc;
+                        res.vel_kms = p.vel_kms;
+                        res.r_kpc = p.r_kpc;
+                        res.backsplash = p.backsplash;
+                        res.t_last_host_infall_gyr = p.t_last_host_infall_gyr;
+                    }
+                    res.status = SubhaloStatus::InParent;
+                    // its children stay inside it too
+                }
+                Some(rel) => {
+                    if a.order > 1 {
+                        res.t_release_gyr = rel.path.borrow().recs[rel.idx].t;
+                    }
+                    let released = integrate_subhalo(
+                        host,
+                        options,
+                        &strip,
+                        &structure,
+                        rel,
+                        t_end,
+                        &children[i],
+                        &mut res,
+                    );
+                    for (k, r) in released {
+                        release[k] = Some(r);
+                    }
+                }
+            }
+            out[i] = Some(res);
+            // children next, lowest index first
+            stack.extend(children[i].iter().rev().map(|&(k, _)| k));
+        }
     }
-    out
+    out.into_iter()
+        .map(|r| r.expect("every accretion is visited once"))
+        .collect()
 }
 
 /// Evolve one first-order accretion (no sub-subhaloes) from its infall to `t_end`.
@@ -388,8 +537,8 @@ pub fn evolve_subhalo<R: Rng>(
         .expect("one result")
 }
 
-/// Integrate one subhalo from its release to t_end; fill `res`; return the releases of its
-/// children (accretion index, state).
+/// Follow one subhalo from its release to t_end along its (possibly shared) path; fill `res`;
+/// return the releases of its children (accretion index, where they start).
 #[allow(clippy::too_many_arguments)]
 fn integrate_subhalo(
     host: &EvolvingHost,
@@ -401,90 +550,88 @@ fn integrate_subhalo(
     kids: &[(usize, f64)],
     res: &mut SubhaloResult,
 ) -> Vec<(usize, Release)> {
-    let tol = Tolerances {
-        rtol: options.rtol,
-        atol_pos_kpc: options.rtol * 10.0,
-        atol_vel_kpc_gyr: options.rtol * 10.0,
-    };
     let mut released = Vec::new();
     let mut pending: Vec<(usize, f64)> = kids.to_vec();
-    let mut t = start.t;
-    let mut y = start.y;
+    let mut path = start.path;
+    let mut idx = start.idx;
+    let mut cur = path.borrow().recs[idx];
     let mut m = res.m_infall_msun;
     let mut r_t = f64::INFINITY;
     let mut prof_m = m;
     let mut prof = structure.profile(m);
     let mut tracker = Tracker::new(start.t_last_infall);
-    let mut dopri = Dopri5::new(tol, 1e-3, 0.1);
     let mut physical_end = false;
-    // Friction is negligible for m < 1e-4 M_vir (sinking times > 1e3 host dynamical times;
-    // physics reference sheet sec. 9: negligible below 1e-3 within a Hubble time); skipping
-    // it there saves most of the cost for the many small subhaloes.
-    let (mut last_m, mut last_ll) = (m, f64::INFINITY);
-    // the host at the current time, and the host's spherical mass inside the current radius
-    // (computed once per step and shared by friction and stripping)
-    let mut snap: HostSnapshot = host.snapshot(t);
-    let mut m_enc = snap.mass_enclosed(norm(pos(&y)));
-    while t < t_end {
-        let m_now = m;
-        let fr = options.friction && m > 1e-4 * snap.m_vir;
-        let ll = if fr {
-            friction::coulomb_log(m_enc, m)
+    let mut steps = 0u64;
+    // tidal mass and stripping rate at the end of the previous step
+    let mut prev_tide: Option<(f64, f64)> = None;
+    while cur.t < t_end {
+        // Friction is negligible for m < 1e-4 M_vir (sinking times > 1e3 host dynamical times;
+        // physics reference sheet sec. 9: negligible below 1e-3 within a Hubble time); below
+        // that the subhalo is a test particle and can share its orbit.
+        let fr = options.friction && m > 1e-4 * cur.m_vir;
+        let next = if fr {
+            let ll = friction::coulomb_log(cur.m_enc, m);
+            if idx + 1 < path.borrow().recs.len() {
+                // others walk on from here without friction: continue on a private path
+                let tol = path.borrow().dopri.tol;
+                path = Path::start(cur, tol);
+                idx = 0;
+            }
+            let rec = path.borrow_mut().extend_friction(host, m, ll, t_end);
+            rec
         } else {
-            0.0
+            let mut p = path.borrow_mut();
+            if idx + 1 == p.recs.len() {
+                p.extend_free(host, t_end)
+            } else if p.recs[idx + 1].free {
+                p.recs[idx + 1]
+            } else {
+                // the path's owner felt friction after this point: take the shared
+                // friction-free branch
+                let b = p.branch_at(idx);
+                drop(p);
+                path = b;
+                idx = 0;
+                continue;
+            }
         };
-        if fr && ((m / last_m - 1.0).abs() > 1e-3 || (ll / last_ll - 1.0).abs() > 1e-3) {
-            // the friction term changed: the stored first-stage derivative is stale
-            dopri.reset_derivative();
-            last_m = m;
-            last_ll = ll;
-        }
-        let mut f = |tt: f64, yy: &State| rhs(host, ll, m_now, tt, yy);
-        let (t1, y1) = dopri.step(&mut f, t, &y, t_end);
-        let snap1 = host.snapshot(t1);
+        idx += 1;
+        steps += 1;
         tracker.step(
-            t,
-            &y,
-            t1,
-            &y1,
-            snap.r_vir,
-            snap1.r_vir,
+            cur.t,
+            &cur.y,
+            next.t,
+            &next.y,
+            cur.r_vir,
+            next.r_vir,
             options.pericentre_cut_kpc,
         );
-        let h = t1 - t;
-        t = t1;
-        y = y1;
-        snap = snap1;
-        m_enc = snap.mass_enclosed(norm(pos(&y)));
+        let h = next.t - cur.t;
+        cur = next;
         if options.stripping {
-            let s = snap;
-            let x = pos(&y);
-            let v = vel(&y);
-            let r = norm(x);
-            let l = [
-                x[1] * v[2] - x[2] * v[1],
-                x[2] * v[0] - x[0] * v[2],
-                x[0] * v[1] - x[1] * v[0],
-            ];
-            let omega2 = dot(l, l) / (r * r * r * r);
-            let denom = omega2 - s.d2phi_dr2(x);
+            let r = norm(pos(&cur.y));
             if m != prof_m {
                 prof = structure.profile(m);
                 prof_m = m;
             }
-            r_t = structure.tidal_radius_with(prof, m, denom, r_t);
-            let (m_t, _) = structure.enclosed_with(prof, r_t, m);
-            let t_dyn = Stripping::t_dyn(r, m_enc);
-            let m_new = strip.step(m, m_t, h, t_dyn);
-            m = m_new;
+            let (rt, m_t) = structure.tidal_radius_and_mass(prof, m, cur.denom, r_t);
+            r_t = rt;
+            let rate = 1.0 / Stripping::t_dyn(r, cur.m_enc);
+            // trapezoid rule over the step for the tidal mass and the rate (second order in h)
+            let (m_t_step, rate_step) = match prev_tide {
+                Some((m_t0, rate0)) => (0.5 * (m_t0 + m_t), 0.5 * (rate0 + rate)),
+                None => (m_t, rate),
+            };
+            prev_tide = Some((m_t, rate));
+            m = strip.step(m, m_t_step, h, 1.0 / rate_step);
             // release children whose orbit now lies outside the tidal radius
             pending.retain(|&(k, r_orb)| {
                 if r_orb > r_t {
                     released.push((
                         k,
                         Release {
-                            t,
-                            y,
+                            path: path.clone(),
+                            idx,
                             t_last_infall: tracker.t_last_infall,
                         },
                     ));
@@ -496,9 +643,9 @@ fn integrate_subhalo(
             let x_b = m / structure.m_acc;
             if x_b < options.disrupt_bound_fraction
                 || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc
-                || (fr && norm(pos(&y)) < options.central_merge_kpc)
+                || (fr && r < options.central_merge_kpc)
             {
-                res.t_disrupt_physical_gyr = t;
+                res.t_disrupt_physical_gyr = cur.t;
                 physical_end = true;
                 break;
             }
@@ -510,15 +657,15 @@ fn integrate_subhalo(
             released.push((
                 k,
                 Release {
-                    t,
-                    y,
+                    path: path.clone(),
+                    idx,
                     t_last_infall: tracker.t_last_infall,
                 },
             ));
         }
     }
-    let x = pos(&y);
-    let v = vel(&y);
+    let x = pos(&cur.y);
+    let v = vel(&cur.y);
     let r = norm(x);
     let (vmax, rmax) = structure.vmax_rmax(m);
     res.n_pericentres = tracker.n_peri;
@@ -537,11 +684,8 @@ fn integrate_subhalo(
     res.m_bound_msun = m;
     res.vmax_kms = vmax / KMS;
     res.rmax_kpc = rmax;
-    res.backsplash = !physical_end && tracker.been_inside && r > host.snapshot(t).r_vir;
-    STEPS.fetch_add(
-        dopri.accepted + dopri.rejected,
-        std::sync::atomic::Ordering::Relaxed,
-    );
+    res.backsplash = !physical_end && tracker.been_inside && r > cur.r_vir;
+    STEPS.fetch_add(steps, std::sync::atomic::Ordering::Relaxed);
     res.status = if physical_end {
         SubhaloStatus::DisruptedPhysical
     } else {

@@ -57,15 +57,23 @@ const E5: f64 = -17253.0 / 339200.0;
 const E6: f64 = 22.0 / 525.0;
 const E7: f64 = -1.0 / 40.0;
 
-#[inline]
-fn axpy(y: &State, h: f64, terms: &[(f64, &State)]) -> State {
+// step-size control (Hairer, Norsett & Wanner 1993, sec. II.4, and the PI stabilisation of
+// Gustafsson 1991 as used in Hairer's DOPRI5 code: beta = 0.04, exponent 0.2 - 0.75 beta)
+const SAFETY: f64 = 0.9;
+const BETA: f64 = 0.04;
+const EXPO_P: f64 = 0.2 - 0.75 * BETA;
+const LN_1EM4: f64 = -9.210_340_371_976_182;
+
+/// y + h sum_j c_j k_j, with the number of stages known at compile time (unrolled).
+#[inline(always)]
+fn axpy<const N: usize>(y: &State, h: f64, c: [f64; N], k: [&State; N]) -> State {
     let mut out = *y;
-    for k in 0..6 {
+    for i in 0..6 {
         let mut s = 0.0;
-        for (c, v) in terms {
-            s += c * v[k];
+        for j in 0..N {
+            s += c[j] * k[j][i];
         }
-        out[k] += h * s;
+        out[i] += h * s;
     }
     out
 }
@@ -80,6 +88,8 @@ pub struct Dopri5 {
     pub h_max: f64,
     /// Derivative at the current point (first-same-as-last), if known.
     k1: Option<State>,
+    /// ln of the error norm of the last accepted step (PI controller), at least ln 1e-4.
+    ln_err_old: f64,
     pub rejected: u64,
     pub accepted: u64,
 }
@@ -92,6 +102,7 @@ impl Dopri5 {
             h_min: 1e-12,
             h_max,
             k1: None,
+            ln_err_old: LN_1EM4,
             rejected: 0,
             accepted: 0,
         }
@@ -120,50 +131,47 @@ impl Dopri5 {
             if last {
                 h = t_stop - t;
             }
-            let k2 = f(t + C2 * h, &axpy(y, h, &[(A21, &k1)]));
-            let k3 = f(t + C3 * h, &axpy(y, h, &[(A31, &k1), (A32, &k2)]));
-            let k4 = f(
-                t + C4 * h,
-                &axpy(y, h, &[(A41, &k1), (A42, &k2), (A43, &k3)]),
-            );
+            let k2 = f(t + C2 * h, &axpy(y, h, [A21], [&k1]));
+            let k3 = f(t + C3 * h, &axpy(y, h, [A31, A32], [&k1, &k2]));
+            let k4 = f(t + C4 * h, &axpy(y, h, [A41, A42, A43], [&k1, &k2, &k3]));
             let k5 = f(
                 t + C5 * h,
-                &axpy(y, h, &[(A51, &k1), (A52, &k2), (A53, &k3), (A54, &k4)]),
+                &axpy(y, h, [A51, A52, A53, A54], [&k1, &k2, &k3, &k4]),
             );
             let k6 = f(
                 t + h,
-                &axpy(
-                    y,
-                    h,
-                    &[(A61, &k1), (A62, &k2), (A63, &k3), (A64, &k4), (A65, &k5)],
-                ),
+                &axpy(y, h, [A61, A62, A63, A64, A65], [&k1, &k2, &k3, &k4, &k5]),
             );
-            let y_new = axpy(
-                y,
-                h,
-                &[(A71, &k1), (A73, &k3), (A74, &k4), (A75, &k5), (A76, &k6)],
-            );
+            let y_new = axpy(y, h, [A71, A73, A74, A75, A76], [&k1, &k3, &k4, &k5, &k6]);
             let k7 = f(t + h, &y_new);
-            // error estimate, RMS norm over components
+            // error estimate: RMS over components, each position component scaled by the
+            // length of the position vector and each velocity component by the speed, so the
+            // control does not depend on the orientation of the axes
+            let mag = |a: usize| {
+                let m0 = (y[a] * y[a] + y[a + 1] * y[a + 1] + y[a + 2] * y[a + 2]).sqrt();
+                let m1 = (y_new[a] * y_new[a]
+                    + y_new[a + 1] * y_new[a + 1]
+                    + y_new[a + 2] * y_new[a + 2])
+                    .sqrt();
+                m0.max(m1)
+            };
+            let sc_pos = self.tol.atol_pos_kpc + self.tol.rtol * mag(0);
+            let sc_vel = self.tol.atol_vel_kpc_gyr + self.tol.rtol * mag(3);
             let mut err2 = 0.0;
             for i in 0..6 {
                 let e = h
                     * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
-                let atol = if i < 3 {
-                    self.tol.atol_pos_kpc
-                } else {
-                    self.tol.atol_vel_kpc_gyr
-                };
-                let sc = atol + self.tol.rtol * y[i].abs().max(y_new[i].abs());
+                let sc = if i < 3 { sc_pos } else { sc_vel };
                 err2 += (e / sc) * (e / sc);
             }
             let err = (err2 / 6.0).sqrt();
+            // ln err: err^(-0.17) is the proportional part of the controller
+            let ln_err = err.max(1e-10).ln();
             if err <= 1.0 || h <= self.h_min {
-                let fac = if err == 0.0 {
-                    5.0
-                } else {
-                    (0.9 * err.powf(-0.2)).clamp(0.2, 5.0)
-                };
+                // PI control: damp growth after a large error on the previous step
+                let fac =
+                    (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp()).clamp(0.1, 5.0);
+                self.ln_err_old = ln_err.max(LN_1EM4);
                 if !last {
                     self.h = h * fac;
                 }
@@ -172,7 +180,7 @@ impl Dopri5 {
                 return (if last { t_stop } else { t + h }, y_new);
             }
             self.rejected += 1;
-            self.h = h * (0.9 * err.powf(-0.2)).clamp(0.2, 1.0);
+            self.h = h * (SAFETY * (-EXPO_P * ln_err).exp()).clamp(0.2, 1.0);
         }
     }
 }

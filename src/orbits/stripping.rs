@@ -67,40 +67,52 @@ impl SubhaloStructure {
         enclosed_in(self.profile(m), r, m)
     }
 
-    /// As `enclosed`, with the profile of bound mass m already computed.
-    #[inline]
-    pub fn enclosed_with(&self, prof: (f64, f64), r: f64, m: f64) -> (f64, f64) {
-        enclosed_in(prof, r, m)
-    }
-
     /// Tidal radius (kpc) for bound mass m given the denominator Omega^2 - d2Phi/dr2 (Gyr^-2);
     /// Newton iterations in ln r from `guess`. Infinite when the denominator is not positive.
     pub fn tidal_radius(&self, m: f64, denom: f64, guess: f64) -> f64 {
-        self.tidal_radius_with(self.profile(m), m, denom, guess)
+        self.tidal_radius_and_mass(self.profile(m), m, denom, guess)
+            .0
     }
 
-    /// As `tidal_radius`, with the profile of bound mass m already computed.
-    pub fn tidal_radius_with(&self, prof: (f64, f64), m: f64, denom: f64, guess: f64) -> f64 {
+    /// Tidal radius (kpc) and the bound mass inside it (Msun), with the profile of bound mass
+    /// m already computed. Newton's method on F(ln r) = ln[r^3 denom / (G m(<r))], F' = 3 - s
+    /// (s = d ln m / d ln r), from `guess` (the previous step's radius); the update
+    /// r -> r exp(-F/F') takes a Taylor series for the exponential when the step is small (this
+    /// only changes the path, not the root). Stops after a step in ln r below 1e-3: Newton's
+    /// error after a step d is of order d^2, so the radius is good to about 1e-6 (far below
+    /// what the stripping model resolves); the mass is corrected to the final radius to first
+    /// order.
+    pub fn tidal_radius_and_mass(
+        &self,
+        prof: (f64, f64),
+        m: f64,
+        denom: f64,
+        guess: f64,
+    ) -> (f64, f64) {
         if denom <= 0.0 {
-            return f64::INFINITY;
+            return (f64::INFINITY, m);
         }
-        let mut lr = if guess.is_finite() && guess > 0.0 {
-            guess.ln()
+        let target = denom / G;
+        let mut r = if guess.is_finite() && guess > 0.0 {
+            guess
         } else {
-            ((G * m / denom).cbrt()).ln()
+            (m / target).cbrt()
         };
-        for _ in 0..50 {
-            let r = lr.exp();
+        for _ in 0..60 {
             let (me, s) = enclosed_in(prof, r, m);
-            // F = 3 ln r - ln(G m(<r)) + ln denom; F' = 3 - s
-            let f = 3.0 * lr - (G * me).ln() + denom.ln();
+            let f = (r * r * r * target / me).ln();
             let step = f / (3.0 - s);
-            lr -= step;
-            if step.abs() < 1e-7 {
-                break;
+            r *= if step.abs() < 0.05 {
+                1.0 - step * (1.0 - step * (0.5 - step * (1.0 / 6.0 - step / 24.0)))
+            } else {
+                (-step).exp()
+            };
+            if step.abs() < 1e-3 {
+                return (r, me * (1.0 - s * step));
             }
         }
-        lr.exp()
+        let me = enclosed_in(prof, r, m).0;
+        (r, me)
     }
 }
 
