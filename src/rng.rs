@@ -22,6 +22,8 @@ pub enum Stream {
     Galaxies = 3,
     HostDraw = 4,
     Statistics = 5,
+    /// Bootstrap weights of a host in the tests.
+    Bootstrap = 6,
 }
 
 /// Global identity of one host within a run.

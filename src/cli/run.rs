@@ -11,7 +11,8 @@ use retinue::config::RunConfig;
 use retinue::io::store::read_meta;
 use retinue::report::{write_analysis_to_store, write_tables};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
-use retinue::stats::{run_tests, AnalysisResults, ObservedSample};
+use retinue::stats::tests::{run_tests_raw, Merger};
+use retinue::stats::{AnalysisResults, ObservedSample};
 
 const DEMO_CONFIG: &str = include_str!("../../configs/demo.toml");
 const DEMO_SAMPLE: &str = include_str!("../../demo-data/sample.csv");
@@ -237,12 +238,10 @@ fn compute(
     sample: Option<&ObservedSample>,
 ) -> Result<(AnalysisResults, retinue::stats::compact::FigureData, usize), CliError> {
     let cfg = &grid.config;
-    // stream the store in chunks of hosts, test each chunk, merge: memory stays flat in the
-    // number of hosts (the merge keeps per-host curves and pooled infall times only)
+    // stream the store in chunks of hosts, test each chunk and fold it into running summaries:
+    // memory stays flat in the number of hosts
     let lt = &grid.theories[0];
-    let mut chunk_opts = cfg.file.tests.clone();
-    chunk_opts.bootstrap = 10; // chunk summaries are discarded; the merge bootstraps all hosts
-    let mut parts = Vec::new();
+    let mut merger = Merger::new(&cfg.file.tests, cfg.file.run.master_seed, false);
     let fig = retinue::stats::compact::for_each_chunk(
         store,
         &cfg.file.tests,
@@ -251,11 +250,11 @@ fn compute(
         &cfg.file.galaxies,
         64,
         &mut |cat| {
-            parts.push(run_tests(
+            merger.add(run_tests_raw(
                 lt,
                 &cfg.file.galaxies,
                 &cat,
-                &chunk_opts,
+                &cfg.file.tests,
                 sample,
                 cfg.file.run.master_seed,
             ));
@@ -263,14 +262,12 @@ fn compute(
     )
     .map_err(|e| CliError::Failed(e.into()))?;
     let n_hosts = fig.n_hosts;
-    let res =
-        retinue::stats::tests::merge_partials(parts, &cfg.file.tests, cfg.file.run.master_seed)
-            .ok_or_else(|| {
-                CliError::Failed(anyhow::anyhow!(
-                    "{}: the store has no hosts",
-                    store.display()
-                ))
-            })?;
+    let res = merger.finish().ok_or_else(|| {
+        CliError::Failed(anyhow::anyhow!(
+            "{}: the store has no hosts",
+            store.display()
+        ))
+    })?;
     Ok((res, fig, n_hosts))
 }
 

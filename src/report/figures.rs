@@ -9,6 +9,7 @@ use plotters::coord::ranged1d::ValueFormatter;
 use plotters::prelude::*;
 
 use crate::stats::compact::FigureData;
+use crate::stats::intervals::Binned;
 use crate::stats::tests::Curve;
 use crate::stats::AnalysisResults;
 
@@ -124,30 +125,34 @@ fn hist_plot(
     path: &Path,
     title: &str,
     xlabel: &str,
-    series: &[(String, Vec<f64>)],
-    bins: usize,
+    series: &[(String, Binned)],
+    group: usize,
 ) -> Res {
     let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
     root.fill(&WHITE)?;
-    let xmax = series
-        .iter()
-        .flat_map(|s| s.1.iter().copied())
-        .filter(|v| v.is_finite())
-        .fold(0.0f64, f64::max)
-        .max(1e-3);
-    let w = xmax / bins as f64;
+    // merge `group` fine bins into one plotted bin; plot up to the last non-empty one
+    let group = group.max(1);
     let hists: Vec<Vec<f64>> = series
         .iter()
-        .map(|(_, v)| {
-            let mut h = vec![0.0; bins];
-            let n = v.iter().filter(|x| x.is_finite()).count().max(1) as f64;
-            for &x in v.iter().filter(|x| x.is_finite()) {
-                let k = ((x / w) as usize).min(bins - 1);
-                h[k] += 1.0 / (n * w);
-            }
-            h
+        .map(|(_, b)| {
+            let n = b.counts.iter().sum::<f64>().max(1.0);
+            let w = b.width() * group as f64;
+            b.counts
+                .chunks(group)
+                .map(|c| c.iter().sum::<f64>() / (n * w))
+                .collect()
         })
         .collect();
+    let w = series
+        .first()
+        .map(|(_, b)| b.width() * group as f64)
+        .unwrap_or(1.0);
+    let last = hists
+        .iter()
+        .filter_map(|h| h.iter().rposition(|&v| v > 0.0))
+        .max()
+        .unwrap_or(0);
+    let xmax = ((last + 1) as f64 * w).max(1e-3);
     let ymax = hists
         .iter()
         .flatten()
@@ -263,7 +268,7 @@ pub fn write_figures(
             &by_t,
         ),
     )?;
-    let infall: Vec<(String, Vec<f64>)> = res
+    let infall: Vec<(String, Binned)> = res
         .infall_lookbacks
         .iter()
         .map(|(c, v)| (c.name().to_string(), v.clone()))
@@ -275,7 +280,7 @@ pub fn write_figures(
             "infall lookback times of selected satellites",
             "lookback time (Gyr)",
             &infall,
-            28,
+            10,
         ),
     )?;
     // pericentres of surviving luminous satellites (fixed bins)

@@ -1,6 +1,8 @@
 //! Intervals over hosts: the host-to-host spread (median and 16–84% of per-host values) and
 //! bootstrap intervals of the host-averaged value (resample hosts with replacement, recompute
-//! the mean, take percentiles; Efron & Tibshirani 1993, ch. 13 percentile interval).
+//! the mean, take percentiles; Efron & Tibshirani 1993, ch. 13 percentile interval). Curves
+//! over many hosts use the streaming form (`StreamingSpread`: Poisson bootstrap weights and
+//! binned percentiles), whose memory does not grow with the number of hosts.
 
 use rand::Rng;
 
@@ -74,61 +76,243 @@ pub fn spread<R: Rng>(values: &[f64], resamples: usize, rng: &mut R) -> Spread {
     }
 }
 
-/// Spread of every column of a per-host table (rows = hosts), with one set of bootstrap
-/// resamples shared by all columns (a paired bootstrap: the curve's band is coherent, and the
-/// cost is one index draw per host and resample instead of one per column). NaN entries are
-/// skipped.
-pub fn spread_columns<R: Rng>(
-    per_host: &[Vec<f64>],
+/// Counts in fixed, equal-width bins over [lo, hi): pooled distributions whose size does not
+/// grow with the number of values (values outside the range are counted in `below`/`above`).
+/// Merging two histograms adds their counts exactly, so chunked runs give the same result.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Binned {
+    pub lo: f64,
+    pub hi: f64,
+    pub counts: Vec<f64>,
+    pub below: f64,
+    pub above: f64,
+}
+
+impl Binned {
+    pub fn new(lo: f64, hi: f64, bins: usize) -> Self {
+        Self {
+            lo,
+            hi,
+            counts: vec![0.0; bins.max(1)],
+            below: 0.0,
+            above: 0.0,
+        }
+    }
+
+    /// Bin width.
+    pub fn width(&self) -> f64 {
+        (self.hi - self.lo) / self.counts.len() as f64
+    }
+
+    /// Count one value (NaN is ignored).
+    pub fn add(&mut self, x: f64) {
+        if x.is_nan() {
+            return;
+        }
+        if x < self.lo {
+            self.below += 1.0;
+        } else if x >= self.hi {
+            self.above += 1.0;
+        } else {
+            let k = (((x - self.lo) / self.width()) as usize).min(self.counts.len() - 1);
+            self.counts[k] += 1.0;
+        }
+    }
+
+    /// Add another histogram with the same bins.
+    pub fn merge(&mut self, other: &Binned) {
+        debug_assert_eq!(self.counts.len(), other.counts.len());
+        for (a, b) in self.counts.iter_mut().zip(&other.counts) {
+            *a += b;
+        }
+        self.below += other.below;
+        self.above += other.above;
+    }
+
+    /// Number of values counted (in range or not).
+    pub fn total(&self) -> f64 {
+        self.counts.iter().sum::<f64>() + self.below + self.above
+    }
+
+    /// Quantile q by linear interpolation inside the bin that holds it (good to one bin
+    /// width); NaN when empty or when the quantile falls outside the range.
+    pub fn quantile(&self, q: f64) -> f64 {
+        let n = self.total();
+        if n == 0.0 {
+            return f64::NAN;
+        }
+        let target = q * n - self.below;
+        if target < 0.0 {
+            return f64::NAN;
+        }
+        let mut acc = 0.0;
+        for (k, &c) in self.counts.iter().enumerate() {
+            if c > 0.0 && acc + c >= target {
+                let f = ((target - acc) / c).clamp(0.0, 1.0);
+                return self.lo + (k as f64 + f) * self.width();
+            }
+            acc += c;
+        }
+        f64::NAN
+    }
+}
+
+#[cfg(test)]
+mod binned_tests {
+    use super::*;
+
+    /// The binned median of 0.5, 1.5, ..., 99.5 in unit bins is 50 (one value per bin: the
+    /// interpolation puts the 50th value at the top of its bin); merging two halves gives the
+    /// histogram of the whole.
+    #[test]
+    fn quantiles_and_merging() {
+        let mut a = Binned::new(0.0, 100.0, 100);
+        let mut b = Binned::new(0.0, 100.0, 100);
+        for i in 0..100 {
+            let x = i as f64 + 0.5;
+            if i % 2 == 0 {
+                a.add(x);
+            } else {
+                b.add(x);
+            }
+        }
+        a.merge(&b);
+        assert_eq!(a.total(), 100.0);
+        assert!((a.quantile(0.5) - 50.0).abs() < 1e-12);
+        assert!((a.quantile(0.16) - 16.0).abs() < 1e-12);
+        a.add(-1.0);
+        a.add(1e3);
+        assert_eq!((a.below, a.above), (1.0, 1.0));
+    }
+}
+
+/// Poisson(1) draws by inverse transform on a cumulative table (exact to rounding; values
+/// above 20 have probability below 1e-19 and are cut there).
+pub fn poisson1<R: Rng>(rng: &mut R) -> u32 {
+    use std::sync::OnceLock;
+    static CDF: OnceLock<[f64; 21]> = OnceLock::new();
+    let cdf = CDF.get_or_init(|| {
+        let mut c = [0.0; 21];
+        let mut p = (-1.0f64).exp();
+        let mut acc = 0.0;
+        for (k, ck) in c.iter_mut().enumerate() {
+            acc += p;
+            *ck = acc;
+            p /= (k + 1) as f64;
+        }
+        c
+    });
+    let u: f64 = rng.random();
+    cdf.iter().position(|&c| u < c).unwrap_or(20) as u32
+}
+
+/// Streaming summary of a per-host table (rows = hosts, columns = grid points) whose values
+/// are probabilities, in memory that does not grow with the number of hosts:
+/// * the mean over hosts, exact (running sums in host order);
+/// * the host-to-host median and 16–84% range from 0.001-wide bins over [0, 1] (linear inside
+///   the bin: good to 0.001);
+/// * the bootstrap interval of the mean by the Poisson bootstrap (Hanley & MacGibbon 2006,
+///   Comput. Methods Programs Biomed. 83, 57; Chamandy et al. 2012): each host enters
+///   resample b with an independent Poisson(1) weight drawn from its own stream, the same
+///   weights for every column and every curve (a paired bootstrap). It approximates the
+///   resampling of hosts with replacement and, unlike it, needs neither the number of hosts
+///   in advance nor the rows kept; the result does not depend on how hosts are chunked.
+#[derive(Debug, Clone)]
+pub struct StreamingSpread {
     ncols: usize,
     resamples: usize,
-    rng: &mut R,
-) -> Vec<Spread> {
-    let n = per_host.len();
-    if n == 0 {
-        return (0..ncols).map(|_| spread(&[], resamples, rng)).collect();
+    sum: Vec<f64>,
+    count: Vec<u64>,
+    hist: Vec<u32>,
+    bsum: Vec<f64>,
+    bcount: Vec<u32>,
+}
+
+const SPREAD_BINS: usize = 1000;
+
+impl StreamingSpread {
+    pub fn new(ncols: usize, resamples: usize) -> Self {
+        Self {
+            ncols,
+            resamples,
+            sum: vec![0.0; ncols],
+            count: vec![0; ncols],
+            hist: vec![0; ncols * SPREAD_BINS],
+            bsum: vec![0.0; ncols * resamples],
+            bcount: vec![0; ncols * resamples],
+        }
     }
-    let mut sums = vec![vec![0.0f64; resamples]; ncols];
-    let mut counts = vec![vec![0u32; resamples]; ncols];
-    for b in 0..resamples {
-        for _ in 0..n {
-            let row = &per_host[rng.random_range(0..n)];
-            for k in 0..ncols {
+
+    /// Add one host's row with its bootstrap weights (`weights.len()` = resamples). NaN
+    /// entries are skipped, column by column.
+    pub fn add(&mut self, row: &[f64], weights: &[u32]) {
+        let nc = self.ncols;
+        for (k, &v) in row.iter().enumerate().take(nc) {
+            if v.is_finite() {
+                self.sum[k] += v;
+                self.count[k] += 1;
+                let bin = ((v.clamp(0.0, 1.0) * SPREAD_BINS as f64) as usize).min(SPREAD_BINS - 1);
+                self.hist[k * SPREAD_BINS + bin] += 1;
+            }
+        }
+        for (b, &w) in weights.iter().enumerate().take(self.resamples) {
+            if w == 0 {
+                continue;
+            }
+            let (bs, bc) = (
+                &mut self.bsum[b * nc..(b + 1) * nc],
+                &mut self.bcount[b * nc..(b + 1) * nc],
+            );
+            for k in 0..nc.min(row.len()) {
                 let v = row[k];
                 if v.is_finite() {
-                    sums[k][b] += v;
-                    counts[k][b] += 1;
+                    bs[k] += w as f64 * v;
+                    bc[k] += w;
                 }
             }
         }
     }
-    (0..ncols)
-        .map(|k| {
-            let mut col: Vec<f64> = per_host
-                .iter()
-                .map(|r| r[k])
-                .filter(|v| v.is_finite())
-                .collect();
-            if col.is_empty() {
-                return Spread::NAN;
+
+    /// Quantile of column k from its bins.
+    fn quantile(&self, k: usize, q: f64) -> f64 {
+        let h = &self.hist[k * SPREAD_BINS..(k + 1) * SPREAD_BINS];
+        let n = self.count[k] as f64;
+        let target = q * n;
+        let mut acc = 0.0;
+        for (j, &c) in h.iter().enumerate() {
+            let c = c as f64;
+            if c > 0.0 && acc + c >= target {
+                let f = ((target - acc) / c).clamp(0.0, 1.0);
+                return (j as f64 + f) / SPREAD_BINS as f64;
             }
-            let mean = col.iter().sum::<f64>() / col.len() as f64;
-            col.sort_by(|a, b| a.partial_cmp(b).unwrap());
-            let mut means: Vec<f64> = (0..resamples)
-                .filter(|&b| counts[k][b] > 0)
-                .map(|b| sums[k][b] / counts[k][b] as f64)
-                .collect();
-            means.sort_by(|a, b| a.partial_cmp(b).unwrap());
-            Spread {
-                mean,
-                median: percentile(&col, 0.5),
-                p16: percentile(&col, 0.16),
-                p84: percentile(&col, 0.84),
-                boot16: percentile(&means, 0.16),
-                boot84: percentile(&means, 0.84),
-                boot025: percentile(&means, 0.025),
-                boot975: percentile(&means, 0.975),
-            }
-        })
-        .collect()
+            acc += c;
+        }
+        1.0
+    }
+
+    pub fn finish(&self) -> Vec<Spread> {
+        let nc = self.ncols;
+        (0..nc)
+            .map(|k| {
+                if self.count[k] == 0 {
+                    return Spread::NAN;
+                }
+                let mut means: Vec<f64> = (0..self.resamples)
+                    .filter(|&b| self.bcount[b * nc + k] > 0)
+                    .map(|b| self.bsum[b * nc + k] / self.bcount[b * nc + k] as f64)
+                    .collect();
+                means.sort_by(|a, b| a.partial_cmp(b).unwrap());
+                Spread {
+                    mean: self.sum[k] / self.count[k] as f64,
+                    median: self.quantile(k, 0.5),
+                    p16: self.quantile(k, 0.16),
+                    p84: self.quantile(k, 0.84),
+                    boot16: percentile(&means, 0.16),
+                    boot84: percentile(&means, 0.84),
+                    boot025: percentile(&means, 0.025),
+                    boot975: percentile(&means, 0.975),
+                }
+            })
+            .collect()
+    }
 }

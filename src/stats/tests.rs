@@ -30,7 +30,7 @@ use super::backsplash::BacksplashOptions;
 use super::catalog::Catalog;
 use super::clocks::{clock_times, Clock, ClockTimes, PreprocessingThreshold};
 use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
-use super::intervals::{spread, spread_columns, Spread};
+use super::intervals::{poisson1, spread, Binned, Spread, StreamingSpread};
 use super::sample::ObservedSample;
 use super::selection::Selection;
 use crate::error::InvalidValue;
@@ -188,8 +188,11 @@ impl TestOptions {
 #[derive(Debug, Clone)]
 pub struct Curve {
     pub x: Vec<f64>,
-    /// Per host (rows = included hosts), values on the grid.
+    /// Per host (rows = included hosts), values on the grid. Kept by `run_tests`; a chunked
+    /// run (`Merger` without rows) folds them into the summaries and drops them.
     pub per_host: Vec<Vec<f64>>,
+    /// Host id of each row of `per_host`.
+    pub hosts: Vec<u64>,
     pub spread: Vec<Spread>,
 }
 
@@ -216,8 +219,9 @@ pub struct AnalysisResults {
     pub backsplash_fraction: Spread,
     pub backsplash_count_mean: f64,
     pub field_count_expected: f64,
-    /// Pooled infall lookback times of every selected satellite, per clock.
-    pub infall_lookbacks: Vec<(Clock, Vec<f64>)>,
+    /// Infall lookback times of every selected satellite, per clock, in fixed bins
+    /// (0.05 Gyr over [0, 15) Gyr).
+    pub infall_lookbacks: Vec<(Clock, Binned)>,
     /// Per grid cell: (cosmology index, mass bin, number of hosts, median host mass (Msun),
     /// median first-infall redshift of selected satellites, mean all-of-N (first infall) at
     /// z = 2 when 2 is on the grid).
@@ -232,14 +236,25 @@ pub struct AnalysisResults {
     pub dependence_raw: Vec<DependenceRaw>,
 }
 
-/// Per grid cell: host masses, first-infall redshifts of selected satellites, and per-host
-/// all-of-N (first infall) at z = 2.
-#[derive(Debug, Clone, Default)]
+/// Per grid cell: host masses, first-infall redshifts of selected satellites (binned: 0.002
+/// in z over [0, 20), so the median is good to 0.002), and per-host all-of-N (first infall)
+/// at z = 2.
+#[derive(Debug, Clone)]
 pub struct DependenceRaw {
     pub cell: (u16, u16),
     pub masses: Vec<f64>,
-    pub zs: Vec<f64>,
+    pub zs: Binned,
     pub p2: Vec<f64>,
+}
+
+/// The bins of the pooled infall lookback times.
+pub fn lookback_bins() -> Binned {
+    Binned::new(0.0, 15.0, 300)
+}
+
+/// The bins of the first-infall redshifts per grid cell.
+pub fn redshift_bins() -> Binned {
+    Binned::new(0.0, 20.0, 10_000)
 }
 
 fn dependence_row(d: &DependenceRaw) -> (u16, u16, usize, f64, f64, f64) {
@@ -258,36 +273,93 @@ fn dependence_row(d: &DependenceRaw) -> (u16, u16, usize, f64, f64, f64) {
         d.cell.1,
         d.masses.len(),
         med(&d.masses),
-        med(&d.zs),
+        d.zs.quantile(0.5),
         p2,
     )
 }
 
-/// Merge results computed on consecutive chunks of hosts (in host order) and recompute
-/// every summary and bootstrap interval over all hosts, in a fixed order (so the result does
-/// not depend on the chunking).
-pub fn merge_partials(
-    parts: Vec<AnalysisResults>,
-    options: &TestOptions,
+/// The curves of a result in a fixed order (all-of-N Monte Carlo, all-of-N exact,
+/// fraction-of-N, quenching delay).
+fn curves_mut(r: &mut AnalysisResults) -> Vec<&mut Curve> {
+    r.all_of_n_mc
+        .iter_mut()
+        .map(|c| &mut c.1)
+        .chain(r.all_of_n_exact.iter_mut().map(|c| &mut c.1))
+        .chain(r.fraction_of_n.iter_mut().map(|c| &mut c.2))
+        .chain(r.quench.iter_mut().map(|c| &mut c.1))
+        .collect()
+}
+
+/// The Poisson(1) bootstrap weights of one host (its own stream: independent of chunking).
+pub fn bootstrap_weights(master_seed: u64, host_id: u64, resamples: usize) -> Vec<u32> {
+    let id = HostId::new(
+        (host_id >> 48) as u16,
+        (host_id >> 32) as u16,
+        host_id as u32,
+    );
+    let mut rng = host_rng(master_seed, id, Stream::Bootstrap);
+    (0..resamples).map(|_| poisson1(&mut rng)).collect()
+}
+
+/// Folds results computed on consecutive chunks of hosts (in host order) into running
+/// summaries; `finish` computes every summary over all hosts. Memory does not grow with the
+/// number of hosts unless `keep_rows` asks to keep the per-host curves: the curves are
+/// summarised by `StreamingSpread` as they arrive. The result does not depend on the
+/// chunking.
+pub struct Merger<'a> {
+    options: &'a TestOptions,
     master_seed: u64,
-) -> Option<AnalysisResults> {
-    let mut it = parts.into_iter();
-    let mut m = it.next()?;
-    for p in it {
+    keep_rows: bool,
+    acc: Option<AnalysisResults>,
+    spreads: Vec<StreamingSpread>,
+}
+
+impl<'a> Merger<'a> {
+    pub fn new(options: &'a TestOptions, master_seed: u64, keep_rows: bool) -> Self {
+        Self {
+            options,
+            master_seed,
+            keep_rows,
+            acc: None,
+            spreads: Vec::new(),
+        }
+    }
+
+    /// Fold in the next chunk's results.
+    pub fn add(&mut self, mut p: AnalysisResults) {
+        let nb = self.options.bootstrap;
+        let mut weights: std::collections::HashMap<u64, Vec<u32>> = Default::default();
+        {
+            let curves = curves_mut(&mut p);
+            if self.spreads.is_empty() {
+                self.spreads = curves
+                    .iter()
+                    .map(|c| StreamingSpread::new(c.x.len(), nb))
+                    .collect();
+            }
+            for (c, acc) in curves.into_iter().zip(self.spreads.iter_mut()) {
+                for (row, &h) in c.per_host.iter().zip(&c.hosts) {
+                    let w = weights
+                        .entry(h)
+                        .or_insert_with(|| bootstrap_weights(self.master_seed, h, nb));
+                    acc.add(row, w);
+                }
+                if !self.keep_rows {
+                    c.per_host = Vec::new();
+                    c.hosts = Vec::new();
+                }
+            }
+        }
+        let Some(m) = self.acc.as_mut() else {
+            self.acc = Some(p);
+            return;
+        };
+        for (a, b) in curves_mut(m).into_iter().zip(curves_mut(&mut p)) {
+            a.per_host.append(&mut b.per_host);
+            a.hosts.append(&mut b.hosts);
+        }
         m.candidates.extend(p.candidates);
         m.hosts_too_few.extend(p.hosts_too_few);
-        for (a, b) in m.all_of_n_mc.iter_mut().zip(p.all_of_n_mc) {
-            a.1.per_host.extend(b.1.per_host);
-        }
-        for (a, b) in m.all_of_n_exact.iter_mut().zip(p.all_of_n_exact) {
-            a.1.per_host.extend(b.1.per_host);
-        }
-        for (a, b) in m.fraction_of_n.iter_mut().zip(p.fraction_of_n) {
-            a.2.per_host.extend(b.2.per_host);
-        }
-        for (a, b) in m.quench.iter_mut().zip(p.quench) {
-            a.1.per_host.extend(b.1.per_host);
-        }
         for ((a, ah), (b, bh)) in m
             .matches
             .iter_mut()
@@ -301,41 +373,29 @@ pub fn merge_partials(
         m.backsplash_counts.extend(p.backsplash_counts);
         m.field_per_host.extend(p.field_per_host);
         for (a, b) in m.infall_lookbacks.iter_mut().zip(p.infall_lookbacks) {
-            a.1.extend(b.1);
+            a.1.merge(&b.1);
         }
         for d in p.dependence_raw {
             match m.dependence_raw.iter_mut().find(|x| x.cell == d.cell) {
                 Some(x) => {
                     x.masses.extend(d.masses);
-                    x.zs.extend(d.zs);
+                    x.zs.merge(&d.zs);
                     x.p2.extend(d.p2);
                 }
                 None => m.dependence_raw.push(d),
             }
         }
     }
-    // summaries, in the same order as run_tests
-    let mut boot_rng = host_rng(
-        master_seed,
-        HostId::new(u16::MAX, u16::MAX, u32::MAX),
-        Stream::Statistics,
-    );
-    let summarise = |per_host: &Vec<Vec<f64>>,
-                     n: usize,
-                     rng: &mut rand_chacha::ChaCha8Rng|
-     -> Vec<Spread> { spread_columns(per_host, n, options.bootstrap, rng) };
-    for ci in 0..m.all_of_n_mc.len() {
-        let nz = m.all_of_n_mc[ci].1.x.len();
-        m.all_of_n_mc[ci].1.spread = summarise(&m.all_of_n_mc[ci].1.per_host, nz, &mut boot_rng);
-        m.all_of_n_exact[ci].1.spread =
-            summarise(&m.all_of_n_exact[ci].1.per_host, nz, &mut boot_rng);
-        let clock = m.all_of_n_mc[ci].0;
-        for f in m.fraction_of_n.iter_mut().filter(|f| f.0 == clock) {
-            f.2.spread = summarise(&f.2.per_host, f.2.x.len(), &mut boot_rng);
+
+    /// Every summary and bootstrap interval over all hosts folded in (None: no chunk).
+    pub fn finish(self) -> Option<AnalysisResults> {
+        let options = self.options;
+        let mut m = self.acc?;
+        for (c, acc) in curves_mut(&mut m).into_iter().zip(&self.spreads) {
+            c.spread = acc.finish();
         }
-        for q in m.quench.iter_mut().filter(|q| q.0 == clock) {
-            q.1.spread = summarise(&q.1.per_host, q.1.x.len(), &mut boot_rng);
-            let floor = 1.0 - options.confidence;
+        let floor = 1.0 - options.confidence;
+        for q in m.quench.iter_mut() {
             q.2 =
                 q.1.x
                     .iter()
@@ -344,27 +404,65 @@ pub fn merge_partials(
                     .map(|(t, _)| *t)
                     .fold(f64::NAN, f64::max);
         }
+        let mut boot_rng = host_rng(
+            self.master_seed,
+            HostId::new(u16::MAX, u16::MAX, u32::MAX),
+            Stream::Statistics,
+        );
+        for (mm, per) in m.matches.iter_mut().zip(&m.matches_per_host) {
+            mm.3 = spread(per, options.bootstrap, &mut boot_rng);
+            mm.4 = mm.2.len();
+        }
+        m.backsplash_fraction = spread(&m.backsplash_per_host, options.bootstrap, &mut boot_rng);
+        let nh = m.backsplash_counts.len().max(1) as f64;
+        m.backsplash_count_mean = m.backsplash_counts.iter().sum::<f64>() / nh;
+        m.field_count_expected = m.field_per_host.iter().sum::<f64>() / nh;
+        m.dependence_raw.sort_by_key(|d| d.cell);
+        m.dependence = m.dependence_raw.iter().map(dependence_row).collect();
+        Some(m)
     }
-    for (mm, per) in m.matches.iter_mut().zip(&m.matches_per_host) {
-        mm.3 = spread(per, options.bootstrap, &mut boot_rng);
-        mm.4 = mm.2.len();
-    }
-    m.backsplash_fraction = spread(&m.backsplash_per_host, options.bootstrap, &mut boot_rng);
-    let nh = m.backsplash_counts.len().max(1) as f64;
-    m.backsplash_count_mean = m.backsplash_counts.iter().sum::<f64>() / nh;
-    m.field_count_expected = m.field_per_host.iter().sum::<f64>() / nh;
-    m.dependence_raw.sort_by_key(|d| d.cell);
-    m.dependence = m.dependence_raw.iter().map(dependence_row).collect();
-    Some(m)
 }
 
-fn lookback_times(t: &[f64], t0: f64) -> Vec<f64> {
-    t.iter().map(|&x| t0 - x).collect()
+/// Merge results computed on consecutive chunks of hosts (in host order) and compute every
+/// summary over all hosts (the per-host curves are dropped; see `Merger`).
+pub fn merge_partials(
+    parts: Vec<AnalysisResults>,
+    options: &TestOptions,
+    master_seed: u64,
+) -> Option<AnalysisResults> {
+    let mut m = Merger::new(options, master_seed, false);
+    for p in parts {
+        m.add(p);
+    }
+    m.finish()
 }
 
 /// Run every test. `sample` supplies N (its size), the quenching times and the objects to
 /// match; without it, tests 3 and 4 are skipped and N = `n_draw` (default 11).
 pub fn run_tests(
+    lt: &LinearTheory,
+    galaxies: &GalaxyOptions,
+    cat: &Catalog,
+    options: &TestOptions,
+    sample: Option<&ObservedSample>,
+    master_seed: u64,
+) -> AnalysisResults {
+    // summaries and bootstrap intervals exactly as for a chunked run, keeping the rows
+    let mut merger = Merger::new(options, master_seed, true);
+    merger.add(run_tests_raw(
+        lt,
+        galaxies,
+        cat,
+        options,
+        sample,
+        master_seed,
+    ));
+    merger.finish().expect("one part was added")
+}
+
+/// The per-host results of every test on `cat`, without the summaries over hosts (those
+/// come from `Merger`, which folds chunks of hosts).
+pub fn run_tests_raw(
     lt: &LinearTheory,
     galaxies: &GalaxyOptions,
     cat: &Catalog,
@@ -391,15 +489,7 @@ pub fn run_tests(
         .map(|h| cat.host_id[h])
         .collect();
     let t_grid: Vec<f64> = options.z_grid.iter().map(|&z| cosmo.age_gyr(z)).collect();
-    let mut boot_rng = host_rng(
-        master_seed,
-        HostId::new(u16::MAX, u16::MAX, u32::MAX),
-        Stream::Statistics,
-    );
-    let summarise =
-        |per_host: &Vec<Vec<f64>>, x: &[f64], rng: &mut rand_chacha::ChaCha8Rng| -> Vec<Spread> {
-            spread_columns(per_host, x.len(), options.bootstrap, rng)
-        };
+    let ids = |hs: &[usize]| -> Vec<u64> { hs.iter().map(|&h| cat.host_id[h]).collect() };
 
     let mut all_mc = Vec::new();
     let mut all_ex = Vec::new();
@@ -438,14 +528,13 @@ pub fn run_tests(
                     .collect()
             })
             .collect();
-        let s_mc = summarise(&mc, &options.z_grid, &mut boot_rng);
-        let s_ex = summarise(&ex, &options.z_grid, &mut boot_rng);
         all_mc.push((
             clock,
             Curve {
                 x: options.z_grid.clone(),
                 per_host: mc,
-                spread: s_mc,
+                hosts: ids(&usable),
+                spread: Vec::new(),
             },
         ));
         all_ex.push((
@@ -453,15 +542,17 @@ pub fn run_tests(
             Curve {
                 x: options.z_grid.clone(),
                 per_host: ex,
-                spread: s_ex,
+                hosts: ids(&usable),
+                spread: Vec::new(),
             },
         ));
         // 2. fraction of N, exact
         for n in options.n_range[0]..=options.n_range[1] {
             let k_min = (options.fraction * n as f64 - 1e-9).ceil() as u64;
-            let per: Vec<Vec<f64>> = (0..n_hosts)
-                .filter(|&h| candidates[h] >= n)
-                .map(|h| {
+            let rows: Vec<usize> = (0..n_hosts).filter(|&h| candidates[h] >= n).collect();
+            let per: Vec<Vec<f64>> = rows
+                .iter()
+                .map(|&h| {
                     let ts = host_times(h);
                     t_grid
                         .iter()
@@ -472,23 +563,22 @@ pub fn run_tests(
                         .collect()
                 })
                 .collect();
-            let s = summarise(&per, &options.z_grid, &mut boot_rng);
             frac.push((
                 clock,
                 n,
                 Curve {
                     x: options.z_grid.clone(),
                     per_host: per,
-                    spread: s,
+                    hosts: ids(&rows),
+                    spread: Vec::new(),
                 },
             ));
         }
         // 3. quenching-time comparison
         if let Some(sample) = sample {
             let n = sample.objects.len();
-            let per: Vec<Vec<f64>> = (0..n_hosts)
-                .filter(|&h| candidates[h] >= n)
-                .collect::<Vec<_>>()
+            let rows: Vec<usize> = (0..n_hosts).filter(|&h| candidates[h] >= n).collect();
+            let per: Vec<Vec<f64>> = rows
                 .par_iter()
                 .map(|&h| {
                     let mut rng = host_rng(
@@ -527,32 +617,22 @@ pub fn run_tests(
                         .collect()
                 })
                 .collect();
-            let s = summarise(&per, &options.delay_grid_gyr, &mut boot_rng);
-            let floor = 1.0 - options.confidence;
-            let tau_max = options
-                .delay_grid_gyr
-                .iter()
-                .zip(&s)
-                .filter(|(_, sp)| sp.mean >= floor)
-                .map(|(t, _)| *t)
-                .fold(f64::NAN, f64::max);
             quench.push((
                 clock,
                 Curve {
                     x: options.delay_grid_gyr.clone(),
                     per_host: per,
-                    spread: s,
+                    hosts: ids(&rows),
+                    spread: Vec::new(),
                 },
-                tau_max,
+                f64::NAN,
             ));
         }
-        let pooled: Vec<f64> = selected
-            .iter()
-            .flatten()
-            .map(|&i| times[i])
-            .filter(|t| t.is_finite())
-            .collect();
-        infall_lookbacks.push((clock, lookback_times(&pooled, t0)));
+        let mut pooled = lookback_bins();
+        for &i in selected.iter().flatten() {
+            pooled.add(t0 - times[i]);
+        }
+        infall_lookbacks.push((clock, pooled));
     }
 
     // 4. phase-space matches
@@ -590,9 +670,8 @@ pub fn run_tests(
                         per_host.push(early as f64 / k as f64);
                     }
                 }
-                let s = spread(&per_host, options.bootstrap, &mut boot_rng);
                 let n = pooled.len();
-                matches.push((o.id.clone(), clock, pooled, s, n));
+                matches.push((o.id.clone(), clock, pooled, Spread::NAN, n));
                 matches_per_host.push(per_host);
             }
         }
@@ -633,7 +712,6 @@ pub fn run_tests(
     for h in 0..n_hosts {
         field_per_host.push(b.field_count(lt, cat.host_r_vir_kpc[h]));
     }
-    let backsplash_fraction = spread(&fr, options.bootstrap, &mut boot_rng);
     let nh = n_hosts.max(1) as f64;
 
     // 6. dependence on the grid cell
@@ -650,12 +728,12 @@ pub fn run_tests(
             let hosts: Vec<usize> = (0..n_hosts)
                 .filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi)
                 .collect();
-            let zs: Vec<f64> = hosts
-                .iter()
-                .flat_map(|&h| selected[h].iter().map(|&i| clocks.first[i]))
-                .filter(|t| t.is_finite())
-                .map(|t| cosmo.z_at_age(t))
-                .collect();
+            let mut zs = redshift_bins();
+            for &i in hosts.iter().flat_map(|&h| selected[h].iter()) {
+                if clocks.first[i].is_finite() {
+                    zs.add(cosmo.z_at_age(clocks.first[i]));
+                }
+            }
             let masses: Vec<f64> = hosts.iter().map(|&h| cat.host_m_vir_msun[h]).collect();
             let p2: Vec<f64> = k2
                 .map(|k| {
@@ -675,8 +753,6 @@ pub fn run_tests(
             }
         })
         .collect();
-    let dependence = dependence_raw.iter().map(dependence_row).collect();
-
     AnalysisResults {
         n_draw,
         selection: options.selection.clone(),
@@ -687,11 +763,11 @@ pub fn run_tests(
         fraction_of_n: frac,
         quench,
         matches,
-        backsplash_fraction,
+        backsplash_fraction: Spread::NAN,
         backsplash_count_mean: counts.iter().sum::<f64>() / nh,
         field_count_expected: field / nh,
         infall_lookbacks,
-        dependence,
+        dependence: Vec::new(),
         matches_per_host,
         backsplash_per_host: fr,
         backsplash_counts: counts,

@@ -165,6 +165,46 @@ fn val_bootstrap_coverage() {
     assert!((c - 0.68).abs() < 0.07, "coverage {c}");
 }
 
+/// The streaming (Poisson-weight) bootstrap of the tests covers the true mean at the stated
+/// rate, as the resampling bootstrap above: same 400 synthetic runs of 60 hosts, one column,
+/// 500 resamples; tolerance 3 binomial errors (0.07). Its binned host-to-host median and
+/// 16/84% points agree with the exact order statistics to the bin width (0.001).
+#[test]
+fn val_streaming_bootstrap_coverage() {
+    use retinue::stats::intervals::{percentile, poisson1, StreamingSpread};
+    let mut rng = ChaCha8Rng::seed_from_u64(6);
+    let runs = 400;
+    let mut covered = 0;
+    for _ in 0..runs {
+        let v: Vec<f64> = (0..60)
+            .map(|_| 0.2 * (rng.random::<f64>() + rng.random::<f64>() + rng.random::<f64>()))
+            .collect();
+        let mut acc = StreamingSpread::new(1, 500);
+        for &x in &v {
+            let w: Vec<u32> = (0..500).map(|_| poisson1(&mut rng)).collect();
+            acc.add(&[x], &w);
+        }
+        let s = acc.finish()[0];
+        if s.boot16 <= 0.3 && 0.3 <= s.boot84 {
+            covered += 1;
+        }
+        let mut sorted = v.clone();
+        sorted.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        for (q, got) in [(0.5f64, s.median), (0.16, s.p16), (0.84, s.p84)] {
+            // one order statistic apart at most (60 values), plus the bin width
+            let lo = percentile(&sorted, (q - 1.0 / 59.0).max(0.0));
+            let hi = percentile(&sorted, (q + 1.0 / 59.0).min(1.0));
+            assert!(
+                got >= lo - 1e-3 && got <= hi + 1e-3,
+                "q={q}: {got} not in [{lo}, {hi}]"
+            );
+        }
+        assert!((s.mean - v.iter().sum::<f64>() / 60.0).abs() < 1e-12);
+    }
+    let c = covered as f64 / runs as f64;
+    assert!((c - 0.68).abs() < 0.07, "coverage {c}");
+}
+
 /// Quenching comparison with a known answer: every satellite fell in 10 Gyr ago; three
 /// objects quenched 8 Gyr ago with no error. Every pairing allows a delay of exactly 2 Gyr, so
 /// P(tau) = 1 for tau <= 2 and 0 above, and the largest allowed delay is 2 Gyr.
@@ -308,14 +348,11 @@ fn chunked_tests_merge_to_the_whole() {
     let parts: Vec<_> = [(0, 7), (7, 20), (20, 30)]
         .iter()
         .map(|&(a, b)| {
-            run_tests(
+            retinue::stats::tests::run_tests_raw(
                 &lt,
                 &GalaxyOptions::default(),
                 &cat.slice_hosts(a, b),
-                &TestOptions {
-                    bootstrap: 10,
-                    ..opts.clone()
-                },
+                &opts,
                 Some(&sample),
                 5,
             )
