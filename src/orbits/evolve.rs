@@ -21,8 +21,6 @@ use crate::host::{EvolvingHost, Potential};
 use crate::linear::LinearTheory;
 use crate::trees::HostHistory;
 
-/// Steps walked by all subhaloes of all hosts in this process (diagnostics for benches).
-pub static STEPS: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
 
 /// What became of a subhalo by the end of the run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -561,7 +559,6 @@ fn integrate_subhalo(
     let mut prof = structure.profile(m);
     let mut tracker = Tracker::new(start.t_last_infall);
     let mut physical_end = false;
-    let mut steps = 0u64;
     // tidal mass and stripping rate at the end of the previous step
     let mut prev_tide: Option<(f64, f64)> = None;
     while cur.t < t_end {
@@ -596,7 +593,6 @@ fn integrate_subhalo(
             }
         };
         idx += 1;
-        steps += 1;
         tracker.step(
             cur.t,
             &cur.y,
@@ -685,7 +681,6 @@ fn integrate_subhalo(
     res.vmax_kms = vmax / KMS;
     res.rmax_kpc = rmax;
     res.backsplash = !physical_end && tracker.been_inside && r > cur.r_vir;
-    STEPS.fetch_add(steps, std::sync::atomic::Ordering::Relaxed);
     res.status = if physical_end {
         SubhaloStatus::DisruptedPhysical
     } else {
