@@ -21,7 +21,6 @@ use crate::host::{EvolvingHost, Potential};
 use crate::linear::LinearTheory;
 use crate::trees::HostHistory;
 
-
 /// What became of a subhalo by the end of the run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[repr(u8)]
