@@ -125,6 +125,7 @@ impl Dopri5 {
             Some(k) => k,
             None => f(t, y),
         };
+        let mut rejected_here = false;
         loop {
             let mut h = self.h.min(self.h_max).max(self.h_min);
             let last = t + h >= t_stop;
@@ -169,8 +170,10 @@ impl Dopri5 {
             let ln_err = err.max(1e-10).ln();
             if err <= 1.0 || h <= self.h_min {
                 // PI control: damp growth after a large error on the previous step
+                // no growth right after a rejection (Hairer's DOPRI5)
+                let fac_max = if rejected_here { 1.0 } else { 5.0 };
                 let fac =
-                    (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp()).clamp(0.1, 5.0);
+                    (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp()).clamp(0.1, fac_max);
                 self.ln_err_old = ln_err.max(LN_1EM4);
                 if !last {
                     self.h = h * fac;
@@ -180,6 +183,7 @@ impl Dopri5 {
                 return (if last { t_stop } else { t + h }, y_new);
             }
             self.rejected += 1;
+            rejected_here = true;
             self.h = h * (SAFETY * (-EXPO_P * ln_err).exp()).clamp(0.2, 1.0);
         }
     }

@@ -93,6 +93,12 @@ impl SubhaloStructure {
             return (f64::INFINITY, m);
         }
         let target = denom / G;
+        // The mean density inside r falls with r, so there is one root. If the whole bound
+        // mass lies inside r_cap = (G m / denom)^(1/3), that is the root (no stripping now).
+        let r_cap = (m / target).cbrt();
+        if enclosed_in(prof, r_cap, m).0 >= m {
+            return (r_cap, m);
+        }
         let mut r = if guess.is_finite() && guess > 0.0 {
             guess
         } else {
