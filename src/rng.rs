@@ -47,6 +47,11 @@ impl HostId {
     pub fn stream(self) -> u64 {
         ((self.cosmology as u64) << 48) | ((self.mass_bin as u64) << 32) | self.index as u64
     }
+
+    /// The host whose stream number (and global id in the store) is `s`.
+    pub fn from_stream(s: u64) -> Self {
+        Self::new((s >> 48) as u16, (s >> 32) as u16, s as u32)
+    }
 }
 
 /// The generator of one host for one purpose.

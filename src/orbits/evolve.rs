@@ -316,38 +316,44 @@ impl Path {
         b
     }
 
-    /// Append one friction-free step.
-    fn extend_free(&mut self, host: &EvolvingHost, t_end: f64) -> Record {
-        if !self.k1_free {
+    /// Append one step, without friction (`None`) or with friction on mass m and Coulomb
+    /// logarithm ll (`Some((m, ll))`).
+    #[inline(always)]
+    fn extend(&mut self, host: &EvolvingHost, friction: Option<(f64, f64)>, t_end: f64) -> Record {
+        let stale = match friction {
+            None => !self.k1_free,
+            Some((m, ll)) => {
+                let changed = self.k1_free
+                    || self.last_m.is_nan()
+                    || (m / self.last_m - 1.0).abs() > 1e-3
+                    || (ll / self.last_ll - 1.0).abs() > 1e-3;
+                if changed {
+                    self.last_m = m;
+                    self.last_ll = ll;
+                }
+                changed
+            }
+        };
+        if stale {
+            // the right-hand side changed: the stored first-stage derivative is stale
             self.dopri.reset_derivative();
         }
         let last = *self.recs.last().expect("a path has a first record");
-        let mut f = |tt: f64, yy: &State| rhs(host, 0.0, 0.0, tt, yy);
-        let (t1, y1) = self.dopri.step(&mut f, last.t, &last.y, t_end);
-        self.k1_free = true;
-        let rec = Record::at(host, t1, y1, true);
-        self.recs.push(rec);
-        rec
-    }
-
-    /// Append one step with friction on mass m, Coulomb logarithm ll.
-    fn extend_friction(&mut self, host: &EvolvingHost, m: f64, ll: f64, t_end: f64) -> Record {
-        if self.k1_free
-            || self.last_m.is_nan()
-            || (m / self.last_m - 1.0).abs() > 1e-3
-            || (ll / self.last_ll - 1.0).abs() > 1e-3
-        {
-            // the friction term changed: the stored first-stage derivative is stale
-            self.dopri.reset_derivative();
-            self.last_m = m;
-            self.last_ll = ll;
-        }
-        let last = *self.recs.last().expect("a path has a first record");
-        let (ll_step, m_step) = (self.last_ll, self.last_m);
-        let mut f = |tt: f64, yy: &State| rhs(host, ll_step, m_step, tt, yy);
-        let (t1, y1) = self.dopri.step(&mut f, last.t, &last.y, t_end);
-        self.k1_free = false;
-        let rec = Record::at(host, t1, y1, false);
+        // two instances of the integrator: the friction-free one has the friction term
+        // folded away at compile time
+        let (t1, y1) = match friction {
+            None => {
+                let mut f = |tt: f64, yy: &State| rhs(host, 0.0, 0.0, tt, yy);
+                self.dopri.step(&mut f, last.t, &last.y, t_end)
+            }
+            Some(_) => {
+                let (ll, m) = (self.last_ll, self.last_m);
+                let mut f = |tt: f64, yy: &State| rhs(host, ll, m, tt, yy);
+                self.dopri.step(&mut f, last.t, &last.y, t_end)
+            }
+        };
+        self.k1_free = friction.is_none();
+        let rec = Record::at(host, t1, y1, friction.is_none());
         self.recs.push(rec);
         rec
     }
@@ -573,12 +579,12 @@ fn integrate_subhalo(
                 path = Path::start(cur, tol);
                 idx = 0;
             }
-            let rec = path.borrow_mut().extend_friction(host, m, ll, t_end);
+            let rec = path.borrow_mut().extend(host, Some((m, ll)), t_end);
             rec
         } else {
             let mut p = path.borrow_mut();
             if idx + 1 == p.recs.len() {
-                p.extend_free(host, t_end)
+                p.extend(host, None, t_end)
             } else if p.recs[idx + 1].free {
                 p.recs[idx + 1]
             } else {

@@ -137,24 +137,45 @@ impl Binned {
     /// Quantile q by linear interpolation inside the bin that holds it (good to one bin
     /// width); NaN when empty or when the quantile falls outside the range.
     pub fn quantile(&self, q: f64) -> f64 {
-        let n = self.total();
-        if n == 0.0 {
-            return f64::NAN;
-        }
-        let target = q * n - self.below;
-        if target < 0.0 {
-            return f64::NAN;
-        }
-        let mut acc = 0.0;
-        for (k, &c) in self.counts.iter().enumerate() {
-            if c > 0.0 && acc + c >= target {
-                let f = ((target - acc) / c).clamp(0.0, 1.0);
-                return self.lo + (k as f64 + f) * self.width();
-            }
-            acc += c;
-        }
-        f64::NAN
+        binned_quantile(
+            &self.counts,
+            self.lo,
+            self.width(),
+            self.below,
+            self.total(),
+            q,
+        )
     }
+}
+
+/// Quantile q of values counted in equal bins of `width` from `lo` (`below` values lie under
+/// the range, `total` counts every value): linear inside the bin that holds it; NaN when there
+/// are no values or the quantile lies outside the bins.
+fn binned_quantile<T: Copy + Into<f64>>(
+    counts: &[T],
+    lo: f64,
+    width: f64,
+    below: f64,
+    total: f64,
+    q: f64,
+) -> f64 {
+    if total == 0.0 {
+        return f64::NAN;
+    }
+    let target = q * total - below;
+    if target < 0.0 {
+        return f64::NAN;
+    }
+    let mut acc = 0.0;
+    for (k, &c) in counts.iter().enumerate() {
+        let c: f64 = c.into();
+        if c > 0.0 && acc + c >= target {
+            let f = ((target - acc) / c).clamp(0.0, 1.0);
+            return lo + (k as f64 + f) * width;
+        }
+        acc += c;
+    }
+    f64::NAN
 }
 
 #[cfg(test)]
@@ -273,21 +294,16 @@ impl StreamingSpread {
         }
     }
 
-    /// Quantile of column k from its bins.
+    /// Quantile of column k from its bins (values were clamped into [0, 1]).
     fn quantile(&self, k: usize, q: f64) -> f64 {
-        let h = &self.hist[k * SPREAD_BINS..(k + 1) * SPREAD_BINS];
-        let n = self.count[k] as f64;
-        let target = q * n;
-        let mut acc = 0.0;
-        for (j, &c) in h.iter().enumerate() {
-            let c = c as f64;
-            if c > 0.0 && acc + c >= target {
-                let f = ((target - acc) / c).clamp(0.0, 1.0);
-                return (j as f64 + f) / SPREAD_BINS as f64;
-            }
-            acc += c;
-        }
-        1.0
+        binned_quantile(
+            &self.hist[k * SPREAD_BINS..(k + 1) * SPREAD_BINS],
+            0.0,
+            1.0 / SPREAD_BINS as f64,
+            0.0,
+            self.count[k] as f64,
+            q,
+        )
     }
 
     pub fn finish(&self) -> Vec<Spread> {
