@@ -1,6 +1,6 @@
 //! A whole run: the grid of (cosmology × host mass × hosts per cell), hosts synthesised in
-//! parallel batches, each batch written to a crash-safe part file, the parts joined into the
-//! store, then the tests and the report. Host g of the grid is
+//! parallel batches, each batch written to a crash-safe part file while the next batch is
+//! synthesised, the parts joined into the store, then the tests and the report. Host g of the grid is
 //! (cosmology c, mass bin m, k) with g = (c * n_mass + m) * hosts_per_cell + k; its random
 //! streams depend only on (master seed, c, m, k), so threads, shards and resumes never change
 //! a host's output.
@@ -234,25 +234,44 @@ pub fn synthesize_to_store(
     }
     let meta = grid.meta(config_text, shard);
     let n_parts = (hi - lo).div_ceil(batch) as usize;
-    let mut done = 0u64;
-    for k in 0..n_parts {
+    let bounds = |k: usize| {
         let a = lo + k as u64 * batch;
-        let b = (a + batch).min(hi);
-        let path = part_path(&dir, k);
-        if !path.exists() {
-            let recs: Vec<Result<(u64, HostRecord), RunError>> = (a..b)
-                .into_par_iter()
-                .map_init(
-                    || TreeBuilder::new(grid.config.pch08).expect("validated"),
-                    |builder, g| grid.synthesize(g, builder).map(|r| (g, r)),
-                )
-                .collect();
-            let recs: Vec<(u64, HostRecord)> = recs.into_iter().collect::<Result<_, _>>()?;
-            let refs: Vec<(u64, &HostRecord)> = recs.iter().map(|(g, r)| (*g, r)).collect();
-            write_part(&path, &meta, &refs)?;
+        (a, (a + batch).min(hi))
+    };
+    let synth_batch = |k: usize| -> Result<Vec<(u64, HostRecord)>, RunError> {
+        let (a, b) = bounds(k);
+        let recs: Vec<Result<(u64, HostRecord), RunError>> = (a..b)
+            .into_par_iter()
+            .map_init(
+                || TreeBuilder::new(grid.config.pch08).expect("validated"),
+                |builder, g| grid.synthesize(g, builder).map(|r| (g, r)),
+            )
+            .collect();
+        recs.into_iter().collect()
+    };
+    let write = |k: usize, recs: &[(u64, HostRecord)]| -> Result<(), RunError> {
+        let refs: Vec<(u64, &HostRecord)> = recs.iter().map(|(g, r)| (*g, r)).collect();
+        write_part(&part_path(&dir, k), &meta, &refs)?;
+        Ok(())
+    };
+    // the part of batch k - 1 is written while batch k is synthesised (two batches in memory)
+    let mut done = 0u64;
+    let mut pending: Option<(usize, Vec<(u64, HostRecord)>)> = None;
+    for k in 0..n_parts {
+        let (a, b) = bounds(k);
+        if !part_path(&dir, k).exists() {
+            let (written, recs) = rayon::join(
+                || pending.take().map_or(Ok(()), |(pk, r)| write(pk, &r)),
+                || synth_batch(k),
+            );
+            written?;
+            pending = Some((k, recs?));
         }
         done += b - a;
         progress(done, hi - lo);
+    }
+    if let Some((pk, r)) = pending.take() {
+        write(pk, &r)?;
     }
     // join the parts
     let atomic = AtomicPath::new(out);
