@@ -182,6 +182,23 @@ fn binned_quantile<T: Copy + Into<f64>>(
 mod binned_tests {
     use super::*;
 
+    /// Columns of all-0 and all-1 values have median 0 and 1 exactly; a column with half
+    /// zeros and half 0.5 has its 16% point at 0 and its 84% point in the bin of 0.5.
+    #[test]
+    fn streaming_spread_atoms_at_zero_and_one() {
+        let mut s = StreamingSpread::new(3, 4);
+        for i in 0..10 {
+            let v = if i % 2 == 0 { 0.0 } else { 0.5 };
+            s.add(&[0.0, 1.0, v], &[1, 1, 1, 1]);
+        }
+        let sp = s.finish();
+        assert_eq!((sp[0].median, sp[0].p16, sp[0].p84), (0.0, 0.0, 0.0));
+        assert_eq!((sp[1].median, sp[1].p16, sp[1].p84), (1.0, 1.0, 1.0));
+        assert_eq!(sp[2].p16, 0.0);
+        assert!((sp[2].p84 - 0.5).abs() <= 1e-3, "{}", sp[2].p84);
+        assert!((sp[2].mean - 0.25).abs() < 1e-15);
+    }
+
     /// The binned median of 0.5, 1.5, ..., 99.5 in unit bins is 50 (one value per bin: the
     /// interpolation puts the 50th value at the top of its bin); merging two halves gives the
     /// histogram of the whole.
@@ -230,8 +247,9 @@ pub fn poisson1<R: Rng>(rng: &mut R) -> u32 {
 /// Streaming summary of a per-host table (rows = hosts, columns = grid points) whose values
 /// are probabilities, in memory that does not grow with the number of hosts:
 /// * the mean over hosts, exact (running sums in host order);
-/// * the host-to-host median and 16–84% range from 0.001-wide bins over [0, 1] (linear inside
-///   the bin: good to 0.001);
+/// * the host-to-host median and 16–84% range from 0.001-wide bins over (0, 1) (linear inside
+///   the bin: good to 0.001), with exact 0 and exact 1 counted apart (probabilities of exactly
+///   0 or 1 are common, and their quantiles are then exact);
 /// * the bootstrap interval of the mean by the Poisson bootstrap (Hanley & MacGibbon 2006,
 ///   Comput. Methods Programs Biomed. 83, 57; Chamandy et al. 2012): each host enters
 ///   resample b with an independent Poisson(1) weight drawn from its own stream, the same
@@ -245,6 +263,9 @@ pub struct StreamingSpread {
     sum: Vec<f64>,
     count: Vec<u64>,
     hist: Vec<u32>,
+    /// Values of exactly 0 (or below) and exactly 1 (or above), per column.
+    zeros: Vec<u64>,
+    ones: Vec<u64>,
     bsum: Vec<f64>,
     bcount: Vec<u32>,
 }
@@ -259,6 +280,8 @@ impl StreamingSpread {
             sum: vec![0.0; ncols],
             count: vec![0; ncols],
             hist: vec![0; ncols * SPREAD_BINS],
+            zeros: vec![0; ncols],
+            ones: vec![0; ncols],
             bsum: vec![0.0; ncols * resamples],
             bcount: vec![0; ncols * resamples],
         }
@@ -272,8 +295,14 @@ impl StreamingSpread {
             if v.is_finite() {
                 self.sum[k] += v;
                 self.count[k] += 1;
-                let bin = ((v.clamp(0.0, 1.0) * SPREAD_BINS as f64) as usize).min(SPREAD_BINS - 1);
-                self.hist[k * SPREAD_BINS + bin] += 1;
+                if v <= 0.0 {
+                    self.zeros[k] += 1;
+                } else if v >= 1.0 {
+                    self.ones[k] += 1;
+                } else {
+                    let bin = ((v * SPREAD_BINS as f64) as usize).min(SPREAD_BINS - 1);
+                    self.hist[k * SPREAD_BINS + bin] += 1;
+                }
             }
         }
         for (b, &w) in weights.iter().enumerate().take(self.resamples) {
@@ -294,14 +323,23 @@ impl StreamingSpread {
         }
     }
 
-    /// Quantile of column k from its bins (values were clamped into [0, 1]).
+    /// Quantile of column k: exact 0 or 1 when it falls among those values, else from the
+    /// bins of the values in between.
     fn quantile(&self, k: usize, q: f64) -> f64 {
+        let n = self.count[k] as f64;
+        let target = q * n;
+        if target <= self.zeros[k] as f64 {
+            return 0.0;
+        }
+        if target > n - self.ones[k] as f64 {
+            return 1.0;
+        }
         binned_quantile(
             &self.hist[k * SPREAD_BINS..(k + 1) * SPREAD_BINS],
             0.0,
             1.0 / SPREAD_BINS as f64,
-            0.0,
-            self.count[k] as f64,
+            self.zeros[k] as f64,
+            n,
             q,
         )
     }
