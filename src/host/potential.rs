@@ -101,12 +101,8 @@ impl HostSnapshot {
     /// the unit vector u = x/r:
     /// u.H.u = (G M_d / 2) [ -(3/2) q^(-5/2) (u.grad q)^2 + q^(-3/2) (2 u_x^2 + 2 u_y^2 + q_zz u_z^2) ],
     /// q_zz = 2 [z^2/zeta^2 + (a + zeta) b^2 / zeta^3].
-    #[inline]
-    pub fn d2phi_dr2(&self, x: [f64; 3]) -> f64 {
-        self.tidal_terms(x).1
-    }
-
-    /// The spherical mass inside |x| (halo, disc by Gauss's theorem, bulge; Msun) and
+    ///
+    /// Returns the spherical mass inside |x| (halo, disc by Gauss's theorem, bulge; Msun) and
     /// d^2 Phi / dr^2 along x (Gyr^-2), sharing the work: what stripping needs once per step.
     #[inline]
     pub fn tidal_terms(&self, x: [f64; 3]) -> (f64, f64) {

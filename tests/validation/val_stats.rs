@@ -142,6 +142,14 @@ fn val_synthetic_infall_recovers_analytic_probability() {
     assert!(res.hosts_too_few.is_empty());
 }
 
+/// Per-host values of one synthetic run of the coverage tests: 60 hosts, each the mean of
+/// three uniforms scaled to [0, 0.6] (mean 0.3).
+fn coverage_hosts(rng: &mut ChaCha8Rng) -> Vec<f64> {
+    (0..60)
+        .map(|_| 0.2 * (rng.random::<f64>() + rng.random::<f64>() + rng.random::<f64>()))
+        .collect()
+}
+
 /// Bootstrap intervals cover the true mean at the stated rate: 400 synthetic runs of 60 hosts
 /// whose per-host probabilities are Beta-like draws with known mean 0.3; the 16–84% percentile
 /// interval of the bootstrap mean (500 resamples) should contain 0.3 in 68% of runs. Binomial
@@ -152,10 +160,7 @@ fn val_bootstrap_coverage() {
     let runs = 400;
     let mut covered = 0;
     for _ in 0..runs {
-        // mean of 3 uniforms scaled: values in [0, 0.6], mean 0.3
-        let v: Vec<f64> = (0..60)
-            .map(|_| 0.2 * (rng.random::<f64>() + rng.random::<f64>() + rng.random::<f64>()))
-            .collect();
+        let v = coverage_hosts(&mut rng);
         let s = spread(&v, 500, &mut rng);
         if s.boot16 <= 0.3 && 0.3 <= s.boot84 {
             covered += 1;
@@ -176,9 +181,7 @@ fn val_streaming_bootstrap_coverage() {
     let runs = 400;
     let mut covered = 0;
     for _ in 0..runs {
-        let v: Vec<f64> = (0..60)
-            .map(|_| 0.2 * (rng.random::<f64>() + rng.random::<f64>() + rng.random::<f64>()))
-            .collect();
+        let v = coverage_hosts(&mut rng);
         let mut acc = StreamingSpread::new(1, 500);
         for &x in &v {
             let w: Vec<u32> = (0..500).map(|_| poisson1(&mut rng)).collect();
