@@ -148,13 +148,12 @@ impl Dopri5 {
             // error estimate: RMS over components, each position component scaled by the
             // length of the position vector and each velocity component by the speed, so the
             // control does not depend on the orientation of the axes
+            // (sqrt is monotone and correctly rounded: one root of the larger square)
             let mag = |a: usize| {
-                let m0 = (y[a] * y[a] + y[a + 1] * y[a + 1] + y[a + 2] * y[a + 2]).sqrt();
-                let m1 = (y_new[a] * y_new[a]
-                    + y_new[a + 1] * y_new[a + 1]
-                    + y_new[a + 2] * y_new[a + 2])
-                    .sqrt();
-                m0.max(m1)
+                let m0 = y[a] * y[a] + y[a + 1] * y[a + 1] + y[a + 2] * y[a + 2];
+                let m1 =
+                    y_new[a] * y_new[a] + y_new[a + 1] * y_new[a + 1] + y_new[a + 2] * y_new[a + 2];
+                m0.max(m1).sqrt()
             };
             let sc_pos = self.tol.atol_pos_kpc + self.tol.rtol * mag(0);
             let sc_vel = self.tol.atol_vel_kpc_gyr + self.tol.rtol * mag(3);
