@@ -67,7 +67,14 @@ fn main() {
         ..Default::default()
     };
     let t0 = std::time::Instant::now();
-    let res = run_tests(&lt, &GalaxyOptions::default(), &c, &opts, Some(&sample), 1);
+    let res = run_tests(
+        std::slice::from_ref(&lt),
+        &GalaxyOptions::default(),
+        &c,
+        &opts,
+        Some(&sample),
+        1,
+    );
     let el = t0.elapsed().as_secs_f64();
     println!(
         "stats battery: 1000 hosts x 150 selected satellites, {} threads: {el:.2} s (all-of-N at z = 1: {:.4})",

@@ -240,18 +240,19 @@ fn compute(
     let cfg = &grid.config;
     // stream the store in chunks of hosts, test each chunk and fold it into running summaries:
     // memory stays flat in the number of hosts
-    let lt = &grid.theories[0];
+    // each host is read on its own cosmology's clock (the store's hosts carry its index)
+    let cosmos: Vec<&retinue::Cosmology> = grid.theories.iter().map(|t| t.cosmology()).collect();
     let mut merger = Merger::new(&cfg.file.tests, cfg.file.run.master_seed, false);
     let fig = retinue::stats::compact::for_each_chunk(
         store,
         &cfg.file.tests,
         sample,
-        lt.cosmology(),
+        &cosmos,
         &cfg.file.galaxies,
         64,
         &mut |cat| {
             merger.add(run_tests_raw(
-                lt,
+                &grid.theories,
                 &cfg.file.galaxies,
                 &cat,
                 &cfg.file.tests,
@@ -293,9 +294,8 @@ fn analyse(
     );
     let files = write_tables(&dir, &res, &cfg.file.tests, sample, &summary)
         .map_err(|e| CliError::Failed(e.into()))?;
-    let figs =
-        retinue::report::figures::write_figures(&dir, &res, &fig, grid.theories[0].cosmology())
-            .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
+    let figs = retinue::report::figures::write_figures(&dir, &res, &fig, &grid.theories)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
     eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
     println!("store:   {}", store.display());
     println!("report:  {}", dir.join("report.md").display());
@@ -484,9 +484,8 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
-    let figs =
-        retinue::report::figures::write_figures(&dir, &res, &fig, grid.theories[0].cosmology())
-            .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
+    let figs = retinue::report::figures::write_figures(&dir, &res, &fig, &grid.theories)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
     for f in figs {
         println!("{}", f.display());
     }

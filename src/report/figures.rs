@@ -219,13 +219,24 @@ fn cumulative_plot(
     Ok(())
 }
 
-/// Write every figure into `dir`; returns the files written.
+/// Write every figure into `dir`; returns the files written. `theories`: the run's
+/// cosmologies; the lookback axis of the curves over redshift uses the first (and says so
+/// when there are several: a pooled curve over z has no single lookback axis).
 pub fn write_figures(
     dir: &Path,
     res: &AnalysisResults,
     fig: &FigureData,
-    cosmo: &crate::cosmology::Cosmology,
+    theories: &[crate::linear::LinearTheory],
 ) -> Result<Vec<PathBuf>, String> {
+    let cosmo = theories
+        .first()
+        .ok_or("no cosmology to draw a lookback axis with")?
+        .cosmology();
+    let lookback_label = if theories.len() > 1 {
+        "lookback time in the first cosmology (Gyr)"
+    } else {
+        "lookback time (Gyr)"
+    };
     ensure_font()?;
     let mut out = Vec::new();
     let mut go = |name: &str, r: Res| -> Result<(), String> {
@@ -264,7 +275,7 @@ pub fn write_figures(
         curve_plot(
             &dir.join("all_of_n_vs_lookback.png"),
             &format!("P(all {} fell in earlier than a lookback time)", res.n_draw),
-            "lookback time (Gyr)",
+            lookback_label,
             &by_t,
         ),
     )?;

@@ -77,13 +77,43 @@ impl ClockTimes {
     }
 }
 
+/// The cosmology of host h: hosts carry the index of their cosmology in the run's grid, and
+/// `cosmos` lists the grid's cosmologies in that order. Cosmic times of a host are on its own
+/// cosmology's clock, so every conversion between time and redshift goes through it.
+pub fn host_cosmology<'a>(cosmos: &[&'a Cosmology], c: &Catalog, h: usize) -> &'a Cosmology {
+    let ci = c.host_cosmology[h] as usize;
+    cosmos.get(ci).copied().unwrap_or_else(|| {
+        panic!(
+            "host {} belongs to cosmology {ci}, but the run has {} (check_cosmology_indices first)",
+            c.host_id[h],
+            cosmos.len()
+        )
+    })
+}
+
+/// An error naming the first host whose cosmology index lies outside the run's list of
+/// `n_cosmologies` (a store written by another configuration).
+pub fn check_cosmology_indices(c: &Catalog, n_cosmologies: usize) -> Result<(), String> {
+    match (0..c.n_hosts()).find(|&h| c.host_cosmology[h] as usize >= n_cosmologies) {
+        None => Ok(()),
+        Some(h) => Err(format!(
+            "host {} belongs to cosmology index {}, but the configuration lists {} cosmologies \
+             (index 0..{})",
+            c.host_id[h],
+            c.host_cosmology[h],
+            n_cosmologies,
+            n_cosmologies.saturating_sub(1)
+        )),
+    }
+}
+
 /// Compute every clock for every row. The pre-processing walk follows each subhalo up the
 /// chain of haloes it fell into (its own merger, then its parent's, ...) and returns the first
 /// merger into a halo at or above the threshold; the last link is the merger into the host's
-/// main branch.
+/// main branch. `cosmos`: the run's cosmologies, indexed by the hosts' cosmology index.
 pub fn clock_times(
     c: &Catalog,
-    cosmo: &Cosmology,
+    cosmos: &[&Cosmology],
     galaxies: &GalaxyOptions,
     threshold: &PreprocessingThreshold,
 ) -> ClockTimes {
@@ -96,14 +126,15 @@ pub fn clock_times(
         };
     }
     let mut pre = vec![f64::NAN; n];
-    let thr = |t: f64| -> f64 {
-        match (threshold.halo_mass_msun, threshold.stellar_mass_msun) {
-            (Some(m), _) => m,
-            (None, Some(ms)) => halo_mass_for_mstar(cosmo, galaxies, ms, cosmo.z_at_age(t)),
-            (None, None) => 0.0,
-        }
-    };
     for h in 0..c.n_hosts() {
+        let cosmo = host_cosmology(cosmos, c, h);
+        let thr = |t: f64| -> f64 {
+            match (threshold.halo_mass_msun, threshold.stellar_mass_msun) {
+                (Some(m), _) => m,
+                (None, Some(ms)) => halo_mass_for_mstar(cosmo, galaxies, ms, cosmo.z_at_age(t)),
+                (None, None) => 0.0,
+            }
+        };
         let rows = c.rows(h);
         let by_branch: HashMap<u32, usize> = rows.clone().map(|i| (c.branch[i], i)).collect();
         for i in rows {

@@ -7,7 +7,7 @@
 use std::path::Path;
 
 use super::catalog::Catalog;
-use super::clocks::clock_times;
+use super::clocks::{check_cosmology_indices, clock_times};
 use super::sample::ObservedSample;
 use super::tests::TestOptions;
 use crate::cosmology::Cosmology;
@@ -71,7 +71,7 @@ pub fn compact_from_store(
     path: &Path,
     options: &TestOptions,
     sample: Option<&ObservedSample>,
-    cosmo: &Cosmology,
+    cosmos: &[&Cosmology],
     galaxies: &GalaxyOptions,
     chunk: usize,
 ) -> Result<(Catalog, FigureData), IoError> {
@@ -79,7 +79,7 @@ pub fn compact_from_store(
         offset: vec![0],
         ..Default::default()
     };
-    let fig = for_each_chunk(path, options, sample, cosmo, galaxies, chunk, &mut |c| {
+    let fig = for_each_chunk(path, options, sample, cosmos, galaxies, chunk, &mut |c| {
         let base = all.branch.len();
         all.host_id.extend(&c.host_id);
         all.host_cosmology.extend(&c.host_cosmology);
@@ -96,12 +96,14 @@ pub fn compact_from_store(
 }
 
 /// Stream a store chunk by chunk: each chunk's compact catalogue is handed to `f` and
-/// dropped; returns the figure distributions of every host. Memory: one chunk.
+/// dropped; returns the figure distributions of every host. Memory: one chunk. `cosmos`:
+/// the run's cosmologies, indexed by the hosts' cosmology index (a host outside the list is
+/// an error).
 pub fn for_each_chunk(
     path: &Path,
     options: &TestOptions,
     sample: Option<&ObservedSample>,
-    cosmo: &Cosmology,
+    cosmos: &[&Cosmology],
     galaxies: &GalaxyOptions,
     chunk: usize,
     f: &mut dyn FnMut(Catalog),
@@ -118,7 +120,11 @@ pub fn for_each_chunk(
             ..Default::default()
         };
         let c = read_catalog_range(path, h0, h1)?;
-        let clocks = clock_times(&c, cosmo, galaxies, &options.preprocessing);
+        check_cosmology_indices(&c, cosmos.len()).map_err(|reason| IoError::Format {
+            path: path.display().to_string(),
+            reason,
+        })?;
+        let clocks = clock_times(&c, cosmos, galaxies, &options.preprocessing);
         for h in 0..c.n_hosts() {
             out.host_id.push(c.host_id[h]);
             out.host_cosmology.push(c.host_cosmology[h]);

@@ -10,7 +10,9 @@ pub mod sample;
 pub mod tests;
 
 pub use catalog::Catalog;
-pub use clocks::{clock_times, Clock, ClockTimes, PreprocessingThreshold};
+pub use clocks::{
+    check_cosmology_indices, clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold,
+};
 pub use intervals::{spread, Spread};
 pub use sample::{ObservedObject, ObservedSample};
 pub use selection::{Selection, Survival};

@@ -28,11 +28,12 @@ use serde::{Deserialize, Serialize};
 
 use super::backsplash::BacksplashOptions;
 use super::catalog::Catalog;
-use super::clocks::{clock_times, Clock, ClockTimes, PreprocessingThreshold};
+use super::clocks::{clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold};
 use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
 use super::intervals::{poisson1, spread, Binned, Spread, StreamingSpread};
 use super::sample::ObservedSample;
 use super::selection::Selection;
+use crate::cosmology::Cosmology;
 use crate::error::InvalidValue;
 use crate::galaxies::GalaxyOptions;
 use crate::linear::LinearTheory;
@@ -440,7 +441,7 @@ pub fn merge_partials(
 /// Run every test. `sample` supplies N (its size), the quenching times and the objects to
 /// match; without it, tests 3 and 4 are skipped and N = `n_draw` (default 11).
 pub fn run_tests(
-    lt: &LinearTheory,
+    theories: &[LinearTheory],
     galaxies: &GalaxyOptions,
     cat: &Catalog,
     options: &TestOptions,
@@ -450,7 +451,7 @@ pub fn run_tests(
     // summaries and bootstrap intervals exactly as for a chunked run, keeping the rows
     let mut merger = Merger::new(options, master_seed, true);
     merger.add(run_tests_raw(
-        lt,
+        theories,
         galaxies,
         cat,
         options,
@@ -461,22 +462,33 @@ pub fn run_tests(
 }
 
 /// The per-host results of every test on `cat`, without the summaries over hosts (those
-/// come from `Merger`, which folds chunks of hosts).
+/// come from `Merger`, which folds chunks of hosts). `theories`: the run's cosmologies, in
+/// the order of the hosts' cosmology index; each host's times are read on its own
+/// cosmology's clock (redshift grid, lookback times) and its field count uses its own
+/// linear theory.
 pub fn run_tests_raw(
-    lt: &LinearTheory,
+    theories: &[LinearTheory],
     galaxies: &GalaxyOptions,
     cat: &Catalog,
     options: &TestOptions,
     sample: Option<&ObservedSample>,
     master_seed: u64,
 ) -> AnalysisResults {
-    let cosmo = lt.cosmology();
-    let t0 = cosmo.age0_gyr();
+    let cosmos: Vec<&Cosmology> = theories.iter().map(|lt| lt.cosmology()).collect();
+    let ci = |h: usize| cat.host_cosmology[h] as usize;
+    // each host's present age, and the redshift grid on each cosmology's clock
+    let t0: Vec<f64> = (0..cat.n_hosts())
+        .map(|h| host_cosmology(&cosmos, cat, h).age0_gyr())
+        .collect();
+    let t_grids: Vec<Vec<f64>> = cosmos
+        .iter()
+        .map(|c| options.z_grid.iter().map(|&z| c.age_gyr(z)).collect())
+        .collect();
     let n_draw = options
         .n_draw
         .or(sample.map(|s| s.objects.len()))
         .unwrap_or(11);
-    let clocks: ClockTimes = clock_times(cat, cosmo, galaxies, &options.preprocessing);
+    let clocks: ClockTimes = clock_times(cat, &cosmos, galaxies, &options.preprocessing);
     let n_hosts = cat.n_hosts();
     let selected: Vec<Vec<usize>> = (0..n_hosts)
         .into_par_iter()
@@ -488,7 +500,6 @@ pub fn run_tests_raw(
         .filter(|&h| candidates[h] < n_draw)
         .map(|h| cat.host_id[h])
         .collect();
-    let t_grid: Vec<f64> = options.z_grid.iter().map(|&z| cosmo.age_gyr(z)).collect();
     let ids = |hs: &[usize]| -> Vec<u64> { hs.iter().map(|&h| cat.host_id[h]).collect() };
 
     let mut all_mc = Vec::new();
@@ -512,14 +523,20 @@ pub fn run_tests_raw(
                     },
                     Stream::Statistics,
                 );
-                p_all_mc(&host_times(h), n_draw, options.draws, &t_grid, &mut rng)
+                p_all_mc(
+                    &host_times(h),
+                    n_draw,
+                    options.draws,
+                    &t_grids[ci(h)],
+                    &mut rng,
+                )
             })
             .collect();
         let ex: Vec<Vec<f64>> = usable
             .iter()
             .map(|&h| {
                 let ts = host_times(h);
-                t_grid
+                t_grids[ci(h)]
                     .iter()
                     .map(|&tz| {
                         let k = ts.iter().filter(|&&t| t < tz).count() as u64;
@@ -554,7 +571,7 @@ pub fn run_tests_raw(
                 .iter()
                 .map(|&h| {
                     let ts = host_times(h);
-                    t_grid
+                    t_grids[ci(h)]
                         .iter()
                         .map(|&tz| {
                             let k = ts.iter().filter(|&&t| t < tz).count() as u64;
@@ -590,7 +607,7 @@ pub fn run_tests_raw(
                         },
                         Stream::Statistics,
                     );
-                    let lb: Vec<f64> = host_times(h).iter().map(|&t| t0 - t).collect();
+                    let lb: Vec<f64> = host_times(h).iter().map(|&t| t0[h] - t).collect();
                     let draws = options.draws;
                     let mut idx: Vec<usize> = (0..lb.len()).collect();
                     let mut tau_star = Vec::with_capacity(draws);
@@ -629,8 +646,10 @@ pub fn run_tests_raw(
             ));
         }
         let mut pooled = lookback_bins();
-        for &i in selected.iter().flatten() {
-            pooled.add(t0 - times[i]);
+        for (h, rows) in selected.iter().enumerate() {
+            for &i in rows {
+                pooled.add(t0[h] - times[i]);
+            }
         }
         infall_lookbacks.push((clock, pooled));
     }
@@ -645,7 +664,7 @@ pub fn run_tests_raw(
                 let times = clocks.get(clock);
                 let mut pooled = Vec::new();
                 let mut per_host = Vec::new();
-                for h in 0..n_hosts {
+                for (h, &t0_h) in t0.iter().enumerate() {
                     let (mut k, mut early) = (0usize, 0usize);
                     for i in cat.rows(h) {
                         let sel = &options.selection;
@@ -660,7 +679,7 @@ pub fn run_tests_raw(
                                 <= w.dlog_mstar
                             && times[i].is_finite()
                         {
-                            let lb = t0 - times[i];
+                            let lb = t0_h - times[i];
                             pooled.push(lb);
                             k += 1;
                             early += (lb >= o.t_quench_lookback_gyr) as usize;
@@ -684,7 +703,7 @@ pub fn run_tests_raw(
     let mut field = 0.0;
     for h in 0..n_hosts {
         let rv = cat.host_r_vir_kpc[h];
-        let f_exp = b.field_count(lt, rv);
+        let f_exp = b.field_count(&theories[ci(h)], rv);
         field += f_exp;
         let n_bs = if cat.host_backsplash_count.len() == n_hosts {
             cat.host_backsplash_count[h]
@@ -710,7 +729,7 @@ pub fn run_tests_raw(
     }
     let mut field_per_host = Vec::with_capacity(n_hosts);
     for h in 0..n_hosts {
-        field_per_host.push(b.field_count(lt, cat.host_r_vir_kpc[h]));
+        field_per_host.push(b.field_count(&theories[ci(h)], cat.host_r_vir_kpc[h]));
     }
     let nh = n_hosts.max(1) as f64;
 
@@ -728,6 +747,7 @@ pub fn run_tests_raw(
             let hosts: Vec<usize> = (0..n_hosts)
                 .filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi)
                 .collect();
+            let cosmo = cosmos[ci as usize];
             let mut zs = redshift_bins();
             for &i in hosts.iter().flat_map(|&h| selected[h].iter()) {
                 if clocks.first[i].is_finite() {

@@ -417,6 +417,22 @@ fn damaged_store_and_bad_sample() {
     let (code, _, err) = run_cli(&["infall", not_store.to_str().unwrap()]);
     assert_ne!(code, 0);
     assert!(err.contains("not.h5"), "{err}");
+    // a store whose hosts name a cosmology its configuration does not have
+    let odd = d.path().join("odd.h5");
+    std::fs::write(&odd, &bytes).unwrap();
+    {
+        let f = hdf5::File::open_rw(&odd).unwrap();
+        let ds = f.dataset("hosts/cosmology_index").unwrap();
+        let v: Vec<f64> = ds.read_raw().unwrap();
+        ds.write_raw(&vec![7.0f64; v.len()]).unwrap();
+    }
+    let (code, _, err) = run_cli(&["infall", odd.to_str().unwrap()]);
+    assert!(code == 1 || code == 2, "{err}");
+    assert!(
+        err.contains("odd.h5") && err.contains("cosmology index 7"),
+        "{err}"
+    );
+    assert!(!err.contains("panicked"), "{err}");
     for (text, want) in [
         ("id,mstar_msun\nA,1\n", "missing column"),
         ("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e5,60,0,99,1\n", "t_quench_lookback_gyr = 99"),

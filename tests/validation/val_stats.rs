@@ -108,7 +108,14 @@ fn val_synthetic_infall_recovers_analytic_probability() {
         selection: Selection::default(),
         ..Default::default()
     };
-    let res = run_tests(&lt, &GalaxyOptions::default(), &cat, &opts, None, 7);
+    let res = run_tests(
+        std::slice::from_ref(&lt),
+        &GalaxyOptions::default(),
+        &cat,
+        &opts,
+        None,
+        7,
+    );
     let (_, curve) = res
         .all_of_n_mc
         .iter()
@@ -243,7 +250,7 @@ fn quench_comparison_known_answer() {
         ..Default::default()
     };
     let res = run_tests(
-        &lt,
+        std::slice::from_ref(&lt),
         &GalaxyOptions::default(),
         &cat,
         &opts,
@@ -276,7 +283,14 @@ fn hosts_with_too_few_candidates_are_reported() {
         n_range: [2, 4],
         ..Default::default()
     };
-    let res = run_tests(&lt, &GalaxyOptions::default(), &cat, &opts, None, 1);
+    let res = run_tests(
+        std::slice::from_ref(&lt),
+        &GalaxyOptions::default(),
+        &cat,
+        &opts,
+        None,
+        1,
+    );
     assert_eq!(res.hosts_too_few, vec![0, 1, 2, 3, 4]);
     assert!(res.all_of_n_mc[0].1.per_host.is_empty());
 }
@@ -341,7 +355,7 @@ fn chunked_tests_merge_to_the_whole() {
         ..Default::default()
     };
     let whole = run_tests(
-        &lt,
+        std::slice::from_ref(&lt),
         &GalaxyOptions::default(),
         &cat,
         &opts,
@@ -352,7 +366,7 @@ fn chunked_tests_merge_to_the_whole() {
         .iter()
         .map(|&(a, b)| {
             retinue::stats::tests::run_tests_raw(
-                &lt,
+                std::slice::from_ref(&lt),
                 &GalaxyOptions::default(),
                 &cat.slice_hosts(a, b),
                 &opts,
@@ -384,4 +398,95 @@ fn chunked_tests_merge_to_the_whole() {
         )
     };
     assert_eq!(key(&whole), key(&merged));
+}
+
+/// In a cosmology sweep each host's cosmic times are on its own cosmology's clock. Two hosts,
+/// one in Planck 2018 and one in a cosmology with a very different clock (Omega_m = 0.6,
+/// h = 0.9: age 8.5 Gyr against 13.8, and z = 2 at 1.79 Gyr against 3.28), each with 11
+/// satellites that fell in at z = 2.2 and 9 at z = 1.8 on their own clock. Known answers: on
+/// the grid point z = 2 both hosts have K = 11 of N = 20 early, so both get the exact
+/// hypergeometric P(all 5 early) = C(11,5)/C(20,5); each cell's median first-infall redshift
+/// is 2.2 (bins of 0.002); and the pooled lookback times are each host's own lookbacks to
+/// z = 2.2 and 1.8 (bins of 0.05 Gyr). Read on the first cosmology's clock, the second host
+/// would have all 20 early (P = 1) and redshifts near 3.
+#[test]
+fn val_each_host_reads_its_own_cosmology_clock() {
+    let a = planck18();
+    let mut p = a.cosmology().params.clone();
+    p.omega_m = 0.6;
+    p.h = 0.9;
+    let b = LinearTheory::new(Cosmology::new(p).unwrap(), LinearOptions::default()).unwrap();
+    let theories = [a, b];
+    let mut cat = synthetic(2, 20, 1.0, 2.0, 5);
+    for h in 0..2 {
+        cat.host_cosmology[h] = h as u16;
+        let c = theories[h].cosmology();
+        for (j, i) in cat.rows(h).enumerate() {
+            let t = c.age_gyr(if j < 11 { 2.2 } else { 1.8 });
+            cat.t_infall_gyr[i] = t;
+            cat.t_first_host_infall_gyr[i] = t;
+            cat.t_last_host_infall_gyr[i] = t;
+        }
+    }
+    let (age_a, age_b) = (
+        theories[0].cosmology().age0_gyr(),
+        theories[1].cosmology().age0_gyr(),
+    );
+    assert!(age_a - age_b > 5.0, "ages today {age_a} and {age_b} Gyr");
+    // the second cosmology's satellites all fell in before z = 2 on the first one's clock
+    assert!(theories[1].cosmology().age_gyr(1.8) < theories[0].cosmology().age_gyr(2.0));
+    let opts = TestOptions {
+        n_draw: Some(5),
+        draws: 200,
+        z_grid: vec![2.0],
+        bootstrap: 20,
+        n_range: [5, 5],
+        ..Default::default()
+    };
+    let res = run_tests(&theories, &GalaxyOptions::default(), &cat, &opts, None, 3);
+    // C(11,5)/C(20,5) = 462/15504
+    let want = 462.0 / 15504.0;
+    let (_, ex) = res
+        .all_of_n_exact
+        .iter()
+        .find(|(c, _)| *c == Clock::FirstHostInfall)
+        .unwrap();
+    assert_eq!(ex.per_host.len(), 2);
+    for (h, row) in ex.per_host.iter().enumerate() {
+        assert!(
+            (row[0] - want).abs() < 1e-12,
+            "host {h}: {} vs {want}",
+            row[0]
+        );
+    }
+    assert_eq!(res.dependence.len(), 2);
+    for d in &res.dependence {
+        assert!(
+            (d.4 - 2.2).abs() < 0.003,
+            "cell {:?}: median z {}",
+            (d.0, d.1),
+            d.4
+        );
+    }
+    let (_, pooled) = res
+        .infall_lookbacks
+        .iter()
+        .find(|(c, _)| *c == Clock::FirstHostInfall)
+        .unwrap();
+    // the pooled lookbacks: 11 + 9 per host at the four known values (bins of 0.05 Gyr)
+    let mut want_lb: Vec<f64> = Vec::new();
+    for lt in &theories {
+        let c = lt.cosmology();
+        want_lb.extend(std::iter::repeat_n(c.lookback_gyr(2.2), 11));
+        want_lb.extend(std::iter::repeat_n(c.lookback_gyr(1.8), 9));
+    }
+    want_lb.sort_by(|x, y| x.partial_cmp(y).unwrap());
+    for q in [0.1, 0.3, 0.6, 0.9] {
+        let got = pooled.quantile(q);
+        let exact = want_lb[((q * 40.0) as usize).min(39)];
+        assert!(
+            (got - exact).abs() <= 0.05 + 1e-9,
+            "q={q}: {got} vs {exact}"
+        );
+    }
 }

@@ -193,7 +193,7 @@ fn clocks_are_consistent_on_mock_hosts() {
         halo_mass_msun: Some(1e10),
         stellar_mass_msun: None,
     };
-    let c = clock_times(&cat, lt.cosmology(), &GalaxyOptions::default(), &thr);
+    let c = clock_times(&cat, &[lt.cosmology()], &GalaxyOptions::default(), &thr);
     let mut pre_processed = 0;
     for i in 0..cat.n_subhaloes() {
         assert!(c.first[i] <= c.last[i] + 1e-9, "row {i}");
