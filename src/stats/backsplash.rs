@@ -78,15 +78,57 @@ impl BacksplashOptions {
     /// Expected number of field haloes in the shell (comoving; z = 0) around a host of virial
     /// radius r_vir_kpc.
     pub fn field_count(&self, lt: &LinearTheory, r_vir_kpc: f64) -> f64 {
+        self.field_density_mpc3(lt) * self.shell_volume_mpc3(r_vir_kpc)
+    }
+
+    /// Mean number density (comoving Mpc^-3) of field haloes in the peak-mass range inside
+    /// the region, from the Mo & White 1996 mass function of the region. The same for every
+    /// host of a cosmology: compute it once and scale by `shell_volume_mpc3`.
+    pub fn field_density_mpc3(&self, lt: &LinearTheory) -> f64 {
         let delta = self.region_delta(lt).max(-0.99);
         let region = Region::new(lt, self.region_radius_mpc, delta, 0.0);
         let n = region.n_between(self.m_peak_msun[0], self.m_peak_msun[1]);
         let v_region = 4.0 * std::f64::consts::PI / 3.0 * self.region_radius_mpc.powi(3);
+        n / v_region
+    }
+
+    /// Volume (comoving Mpc^3) of the shell around a host of virial radius r_vir_kpc, cut at
+    /// the region's radius.
+    pub fn shell_volume_mpc3(&self, r_vir_kpc: f64) -> f64 {
         let (r1, r2) = (
             self.shell_over_rvir[0] * r_vir_kpc * 1e-3,
             (self.shell_over_rvir[1] * r_vir_kpc * 1e-3).min(self.region_radius_mpc),
         );
-        let v_shell = 4.0 * std::f64::consts::PI / 3.0 * (r2.powi(3) - r1.powi(3)).max(0.0);
-        n * v_shell / v_region
+        4.0 * std::f64::consts::PI / 3.0 * (r2.powi(3) - r1.powi(3)).max(0.0)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::{Cosmology, LinearOptions};
+
+    /// The expected field count is the region's Mo & White 1996 count (validated against the
+    /// unconditional mass function in tests/validation) per unit volume times the shell's
+    /// volume: 4 pi/3 (r2^3 - r1^3) with r = shell x R_vir, cut at the region's radius.
+    #[test]
+    fn field_count_is_density_times_shell_volume() {
+        let lt = LinearTheory::new(
+            Cosmology::from_preset("planck18").unwrap(),
+            LinearOptions::default(),
+        )
+        .unwrap();
+        let b = BacksplashOptions::default(); // shell 1-3 R_vir, region 1.5 Mpc of 5e12 Msun
+        let region = Region::new(&lt, 1.5, b.region_delta(&lt), 0.0);
+        let n = region.n_between(1e8, 1e10);
+        let v_region = 4.0 * std::f64::consts::PI / 3.0 * 1.5f64.powi(3);
+        // R_vir = 250 kpc: shell from 0.25 to 0.75 Mpc
+        let v_shell = 4.0 * std::f64::consts::PI / 3.0 * (0.75f64.powi(3) - 0.25f64.powi(3));
+        let want = n / v_region * v_shell;
+        assert!(want > 0.0);
+        assert!((b.field_count(&lt, 250.0) / want - 1.0).abs() < 1e-12);
+        // R_vir = 600 kpc: the outer edge (1.8 Mpc) is cut at the region's 1.5 Mpc
+        let v_cut = 4.0 * std::f64::consts::PI / 3.0 * (1.5f64.powi(3) - 0.6f64.powi(3));
+        assert!((b.field_count(&lt, 600.0) / (n / v_region * v_cut) - 1.0).abs() < 1e-12);
     }
 }

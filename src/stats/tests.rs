@@ -701,9 +701,13 @@ pub fn run_tests_raw(
     let mut fr = Vec::new();
     let mut counts = Vec::new();
     let mut field = 0.0;
-    for h in 0..n_hosts {
+    // the field density depends only on the cosmology (one Mo-White integral each)
+    let field_density: Vec<f64> = theories.iter().map(|lt| b.field_density_mpc3(lt)).collect();
+    let field_per_host: Vec<f64> = (0..n_hosts)
+        .map(|h| field_density[ci(h)] * b.shell_volume_mpc3(cat.host_r_vir_kpc[h]))
+        .collect();
+    for (h, &f_exp) in field_per_host.iter().enumerate() {
         let rv = cat.host_r_vir_kpc[h];
-        let f_exp = b.field_count(&theories[ci(h)], rv);
         field += f_exp;
         let n_bs = if cat.host_backsplash_count.len() == n_hosts {
             cat.host_backsplash_count[h]
@@ -726,10 +730,6 @@ pub fn run_tests_raw(
         } else {
             f64::NAN
         });
-    }
-    let mut field_per_host = Vec::with_capacity(n_hosts);
-    for h in 0..n_hosts {
-        field_per_host.push(b.field_count(&theories[ci(h)], cat.host_r_vir_kpc[h]));
     }
     let nh = n_hosts.max(1) as f64;
 
