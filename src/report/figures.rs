@@ -63,8 +63,36 @@ where
     ch.configure_mesh()
         .x_desc(xlabel)
         .y_desc(ylabel)
+        .x_label_formatter(&|v| tick(*v))
+        .y_label_formatter(&|v| tick(*v))
         .label_style(("sans-serif", 16))
         .draw()
+}
+
+/// A short tick label: at most four significant digits, trailing zeros dropped, and
+/// scientific notation outside [1e-3, 1e4) (log axes put ticks at values like 9.99...e-5,
+/// whose full digits overlap).
+fn tick(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    let trim = |s: &str| s.trim_end_matches('0').trim_end_matches('.').to_string();
+    let a = v.abs();
+    if !(1e-3..1e4).contains(&a) {
+        let s = format!("{v:.3e}");
+        let (m, e) = s
+            .split_once('e')
+            .expect("scientific notation has an exponent");
+        format!("{}e{e}", trim(m))
+    } else {
+        let digits = (3 - a.log10().floor() as i32).max(0) as usize;
+        let s = format!("{v:.digits$}");
+        if s.contains('.') {
+            trim(&s)
+        } else {
+            s
+        }
+    }
 }
 
 /// The legend box shared by the multi-series figures.
@@ -295,13 +323,14 @@ pub fn write_figures(
         ),
     )?;
     // pericentres of surviving luminous satellites (fixed bins)
-    let w = fig.peri_max_kpc / fig.peri_counts.len() as f64;
-    let tot: f64 = fig.peri_counts.iter().sum::<f64>().max(1.0);
-    let px: Vec<f64> = (0..fig.peri_counts.len())
-        .flat_map(|k| [k as f64 * w, (k + 1) as f64 * w])
+    let peri = &fig.peri_kpc;
+    let w = peri.width();
+    let tot: f64 = peri.counts.iter().sum::<f64>().max(1.0);
+    let px: Vec<f64> = (0..peri.counts.len())
+        .flat_map(|k| [peri.lo + k as f64 * w, peri.lo + (k + 1) as f64 * w])
         .collect();
-    let py: Vec<f64> = fig
-        .peri_counts
+    let py: Vec<f64> = peri
+        .counts
         .iter()
         .flat_map(|&c| [c / (tot * w), c / (tot * w)])
         .collect();
@@ -322,9 +351,10 @@ pub fn write_figures(
     let mut psi = Vec::new();
     let mut ncum = Vec::new();
     let mut acc = 0.0;
-    for k in (0..fig.psi_counts.len()).rev() {
-        acc += fig.psi_counts[k];
-        psi.push(10f64.powf(-7.0 + 0.1 * k as f64));
+    let lm = &fig.log_mass_ratio;
+    for k in (0..lm.counts.len()).rev() {
+        acc += lm.counts[k];
+        psi.push(10f64.powf(lm.lo + lm.width() * k as f64));
         ncum.push(acc / nh);
     }
     go(
@@ -339,13 +369,14 @@ pub fn write_figures(
             true,
         ),
     )?;
-    let totr: f64 = fig.radial_counts.iter().sum::<f64>().max(1.0);
-    let mut x = vec![0.0];
+    let rad = &fig.r_over_rvir;
+    let totr: f64 = rad.counts.iter().sum::<f64>().max(1.0);
+    let mut x = vec![rad.lo];
     let mut f = vec![0.0];
     let mut acc = 0.0;
-    for (k, c) in fig.radial_counts.iter().enumerate() {
+    for (k, c) in rad.counts.iter().enumerate() {
         acc += c;
-        x.push((k + 1) as f64 / fig.radial_counts.len() as f64);
+        x.push(rad.lo + (k + 1) as f64 * rad.width());
         f.push(acc / totr);
     }
     go(
@@ -375,4 +406,30 @@ pub fn write_figures(
         ),
     )?;
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::tick;
+
+    #[test]
+    fn tick_labels_are_short() {
+        for (v, want) in [
+            (9.999_999_999_999e-5, "1e-4"),
+            (1e-7, "1e-7"),
+            (2.5e-7, "2.5e-7"),
+            (0.001, "0.001"),
+            (0.015, "0.015"),
+            (0.1, "0.1"),
+            (1.0, "1"),
+            (12.5, "12.5"),
+            (300.0, "300"),
+            (1000.0, "1000"),
+            (2.0e4, "2e4"),
+            (0.0, "0"),
+            (-0.25, "-0.25"),
+        ] {
+            assert_eq!(tick(v), want, "{v}");
+        }
+    }
 }

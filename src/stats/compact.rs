@@ -8,6 +8,7 @@ use std::path::Path;
 
 use super::catalog::Catalog;
 use super::clocks::{check_cosmology_indices, clock_times};
+use super::intervals::Binned;
 use super::sample::ObservedSample;
 use super::tests::TestOptions;
 use crate::cosmology::Cosmology;
@@ -19,22 +20,21 @@ use crate::io::IoError;
 #[derive(Debug, Clone)]
 pub struct FigureData {
     /// Smallest pericentres of surviving luminous satellites: 60 bins over 0–300 kpc.
-    pub peri_counts: Vec<f64>,
-    pub peri_max_kpc: f64,
-    /// Surviving subhaloes inside R_vir per bin of log10(m_bound/M_host) over [-7, 0].
-    pub psi_counts: Vec<f64>,
-    /// Luminous survivors inside R_vir per bin of r/R_vir over [0, 1] (50 bins).
-    pub radial_counts: Vec<f64>,
+    pub peri_kpc: Binned,
+    /// Surviving subhaloes inside R_vir per bin of log10(m_bound/M_host): 70 bins over
+    /// [-7, 0].
+    pub log_mass_ratio: Binned,
+    /// Luminous survivors inside R_vir per bin of r/R_vir: 50 bins over [0, 1].
+    pub r_over_rvir: Binned,
     pub n_hosts: usize,
 }
 
 impl Default for FigureData {
     fn default() -> Self {
         Self {
-            peri_counts: vec![0.0; 60],
-            peri_max_kpc: 300.0,
-            psi_counts: vec![0.0; 70],
-            radial_counts: vec![0.0; 50],
+            peri_kpc: Binned::new(0.0, 300.0, 60),
+            log_mass_ratio: Binned::new(-7.0, 0.0, 70),
+            r_over_rvir: Binned::new(0.0, 1.0, 50),
             n_hosts: 0,
         }
     }
@@ -48,19 +48,13 @@ impl FigureData {
         let rv = c.host_r_vir_kpc[h];
         let inside = c.r_kpc[i] < rv;
         if inside {
-            let l = (c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10();
-            if (-7.0..0.0).contains(&l) {
-                self.psi_counts[((l + 7.0) * 10.0) as usize] += 1.0;
-            }
+            self.log_mass_ratio
+                .add((c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10());
         }
         if c.occupied[i] {
-            let p = c.r_peri_min_kpc[i];
-            if p.is_finite() && p < self.peri_max_kpc {
-                self.peri_counts[(p / self.peri_max_kpc * 60.0) as usize] += 1.0;
-            }
+            self.peri_kpc.add(c.r_peri_min_kpc[i]);
             if inside {
-                let x = c.r_kpc[i] / rv;
-                self.radial_counts[((x * 50.0) as usize).min(49)] += 1.0;
+                self.r_over_rvir.add(c.r_kpc[i] / rv);
             }
         }
     }
