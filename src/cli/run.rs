@@ -70,7 +70,8 @@ pub struct MergeArgs {
 pub struct InfallArgs {
     /// A run store.
     pub store: PathBuf,
-    /// Observed sample (CSV or TOML).
+    /// Observed sample (CSV or TOML); default: the run's sample, looked for next to the store
+    /// (or the one named by --config).
     #[arg(long)]
     pub sample: Option<PathBuf>,
     /// Configuration whose [tests] table to use.
@@ -466,17 +467,59 @@ pub struct PlotArgs {
     /// Directory for the PNG files (default: NAME-report next to the store).
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Observed sample (CSV or TOML), for the sample's N.
+    /// Observed sample (CSV or TOML), for the sample's N; default: the run's sample, looked
+    /// for next to the store.
     #[arg(long)]
     pub sample: Option<PathBuf>,
 }
 
+/// The configuration stored in a run's store, and the run's observed sample if it can still
+/// be found. The stored `run.sample` is relative to the run's configuration file, which the
+/// store does not record; it is looked for next to the store (where `retinue demo` puts it).
+/// When it is not there the tests that need a sample are skipped, with a note saying so.
+fn stored_config(text: &str, store: &Path) -> Result<(RunConfig, Option<PathBuf>), CliError> {
+    let dir = store
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let mut table: toml::Table = text.parse().map_err(|e| {
+        usage(format!(
+            "{}: the stored configuration is not valid TOML: {e}",
+            store.display()
+        ))
+    })?;
+    let stored_sample = table
+        .get_mut("run")
+        .and_then(|r| r.as_table_mut())
+        .and_then(|r| r.remove("sample"))
+        .and_then(|v| v.as_str().map(PathBuf::from));
+    let cfg = RunConfig::parse_str(&table.to_string(), Some(dir)).map_err(usage)?;
+    let sample = stored_sample.and_then(|rel| {
+        let p = if rel.is_relative() {
+            dir.join(&rel)
+        } else {
+            rel.clone()
+        };
+        if p.is_file() {
+            Some(p)
+        } else {
+            eprintln!(
+                "note: the run's observed sample ({}) is not at {}; the tests that need a sample \
+                 are skipped (give it with --sample)",
+                rel.display(),
+                p.display()
+            );
+            None
+        }
+    });
+    Ok((cfg, sample))
+}
+
 pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let mut cfg = RunConfig::parse_str(&meta.config_toml, Some(Path::new("."))).map_err(usage)?;
-    cfg.file.run.sample = None;
-    let sample = match &a.sample {
-        Some(p) => Some(ObservedSample::from_file(p).map_err(usage)?),
+    let (cfg, run_sample) = stored_config(&meta.config_toml, &a.store)?;
+    let sample = match a.sample.clone().or(run_sample) {
+        Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
         None => None,
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
@@ -494,23 +537,18 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
 
 pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let text = match &a.config {
+    let (cfg, run_sample) = match &a.config {
         Some(p) => {
-            std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?
+            let text =
+                std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
+            let cfg =
+                RunConfig::parse_str(&text, p.parent().or(Some(Path::new(".")))).map_err(usage)?;
+            let sp = cfg.sample_path();
+            (cfg, sp)
         }
-        None => meta.config_toml.clone(),
+        None => stored_config(&meta.config_toml, &a.store)?,
     };
-    let base = a
-        .config
-        .as_ref()
-        .and_then(|p| p.parent().map(|d| d.to_path_buf()));
-    let mut cfg =
-        RunConfig::parse_str(&text, base.as_deref().or(Some(Path::new(".")))).map_err(usage)?;
-    if a.config.is_none() {
-        // the stored configuration's relative sample path no longer applies
-        cfg.file.run.sample = None;
-    }
-    let sample = match a.sample.clone().or(cfg.sample_path()) {
+    let sample = match a.sample.clone().or(run_sample) {
         Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
         None => None,
     };

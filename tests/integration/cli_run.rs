@@ -460,3 +460,53 @@ fn shipped_configs_are_valid() {
         assert!(out.contains("valid"), "{out}");
     }
 }
+
+/// `infall` and `plot` on a store read the run's observed sample from next to the store,
+/// whatever the working directory; when it is not there they say so and skip the tests that
+/// need it (they used to stop with "run.sample ... file not found" unless started from the
+/// right directory).
+#[test]
+fn retest_a_store_from_anywhere() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg_text = TINY.replace("[run]\n", "[run]\nsample = \"sample.csv\"\n");
+    let cfg = write(d.path(), "tiny.toml", &cfg_text);
+    write(
+        d.path(),
+        "sample.csv",
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n\
+         A,3e5,60,10,11,1\nB,1e6,90,-20,10,1\nC,2e5,120,5,12,0.5\n",
+    );
+    let store = d.path().join("out.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    // the working directory of the tests is the crate, not the store's directory
+    let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("largest quenching delay"), "{out}");
+    assert!(!err.contains("note: the run's observed sample"), "{err}");
+    let figs = d.path().join("figs");
+    let (code, out, err) = run_cli(&[
+        "plot",
+        store.to_str().unwrap(),
+        "--out",
+        figs.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("all_of_n_vs_redshift.png"), "{out}");
+    // moved away from its sample: a note, and the sample tests are skipped
+    let elsewhere = d.path().join("elsewhere");
+    std::fs::create_dir_all(&elsewhere).unwrap();
+    let moved = elsewhere.join("out.h5");
+    std::fs::copy(&store, &moved).unwrap();
+    let (code, out, err) = run_cli(&["infall", moved.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        err.contains("note: the run's observed sample (sample.csv) is not at"),
+        "{err}"
+    );
+    assert!(!out.contains("largest quenching delay"), "{out}");
+}
