@@ -194,10 +194,8 @@ fn execute(
     let grid = Grid::new(cfg).map_err(run_err)?;
     let (lo, hi) = shard.range(grid.n_hosts());
     eprintln!(
-        "retinue run: {} cosmologies x {} host masses x {} hosts = {} hosts{}; writing {}",
-        grid.config.cosmologies.len(),
-        grid.config.mass_bins.len(),
-        grid.config.file.run.hosts_per_cell,
+        "retinue run: {} = {} hosts{}; writing {}",
+        grid_shape(&grid.config),
         grid.n_hosts(),
         if shard.count > 1 {
             format!(
@@ -441,14 +439,23 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
         ObservedSample::from_file(&p).map_err(usage)?;
     }
     println!(
-        "{}: valid ({} cosmologies x {} host masses x {} hosts = {} hosts)",
+        "{}: valid ({} = {} hosts)",
         a.config.display(),
-        cfg.cosmologies.len(),
-        cfg.mass_bins.len(),
-        cfg.file.run.hosts_per_cell,
+        grid_shape(&cfg),
         cfg.n_hosts()
     );
     Ok(())
+}
+
+/// "2 cosmologies x 1 host mass x 150 hosts" (the grid of a run).
+fn grid_shape(cfg: &RunConfig) -> String {
+    let n = |k: usize, one: &str, many: &str| format!("{k} {}", if k == 1 { one } else { many });
+    format!(
+        "{} x {} x {}",
+        n(cfg.cosmologies.len(), "cosmology", "cosmologies"),
+        n(cfg.mass_bins.len(), "host mass", "host masses"),
+        n(cfg.file.run.hosts_per_cell, "host", "hosts")
+    )
 }
 
 pub fn merge(a: MergeArgs) -> Result<(), CliError> {
