@@ -5,6 +5,7 @@
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
+use super::short_number;
 use plotters::coord::ranged1d::ValueFormatter;
 use plotters::prelude::*;
 
@@ -63,36 +64,10 @@ where
     ch.configure_mesh()
         .x_desc(xlabel)
         .y_desc(ylabel)
-        .x_label_formatter(&|v| tick(*v))
-        .y_label_formatter(&|v| tick(*v))
+        .x_label_formatter(&|v| short_number(*v))
+        .y_label_formatter(&|v| short_number(*v))
         .label_style(("sans-serif", 16))
         .draw()
-}
-
-/// A short tick label: at most four significant digits, trailing zeros dropped, and
-/// scientific notation outside [1e-3, 1e4) (log axes put ticks at values like 9.99...e-5,
-/// whose full digits overlap).
-fn tick(v: f64) -> String {
-    if v == 0.0 || !v.is_finite() {
-        return format!("{v}");
-    }
-    let trim = |s: &str| s.trim_end_matches('0').trim_end_matches('.').to_string();
-    let a = v.abs();
-    if !(1e-3..1e4).contains(&a) {
-        let s = format!("{v:.3e}");
-        let (m, e) = s
-            .split_once('e')
-            .expect("scientific notation has an exponent");
-        format!("{}e{e}", trim(m))
-    } else {
-        let digits = (3 - a.log10().floor() as i32).max(0) as usize;
-        let s = format!("{v:.digits$}");
-        if s.contains('.') {
-            trim(&s)
-        } else {
-            s
-        }
-    }
 }
 
 /// The legend box shared by the multi-series figures.
@@ -410,7 +385,7 @@ pub fn write_figures(
 
 #[cfg(test)]
 mod tests {
-    use super::tick;
+    use crate::report::short_number as tick;
 
     #[test]
     fn tick_labels_are_short() {

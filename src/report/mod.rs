@@ -150,10 +150,12 @@ pub fn markdown(
     let _ = writeln!(m, "## Selection: {}\n", sel.name);
     let _ = writeln!(
         m,
-        "Mock satellites with peak mass {:.3e}–{:.3e} Msun, stellar mass {:.3e}–{:.3e} Msun, M_V between {} and {}, \
+        "Mock satellites with peak mass {}–{} Msun, stellar mass {}–{} Msun, M_V between {} and {}, \
          at {}–{} R_vir today, hosting a galaxy, surviving tidal stripping{}{}.",
-        sel.m_peak_msun[0], sel.m_peak_msun[1], sel.mstar_msun[0], sel.mstar_msun[1], sel.m_v[0], sel.m_v[1],
-        sel.r_over_rvir[0], sel.r_over_rvir[1],
+        short_number(sel.m_peak_msun[0]), short_number(sel.m_peak_msun[1]),
+        short_number(sel.mstar_msun[0]), short_number(sel.mstar_msun[1]),
+        short_number(sel.m_v[0]), short_number(sel.m_v[1]),
+        short_number(sel.r_over_rvir[0]), short_number(sel.r_over_rvir[1]),
         if sel.survival == crate::stats::Survival::Pericentre { " and never passing a pericentre inside the disc cut" } else { "" },
         if sel.observable_only { ", and detectable by the configured survey" } else { "" }
     );
@@ -357,6 +359,32 @@ pub fn write_analysis(
     set_num_attr(&bg, "backsplash_per_host", res.backsplash_count_mean)?;
     set_num_attr(&bg, "field_expected_per_host", res.field_count_expected)?;
     Ok(())
+}
+
+/// A number for a figure's tick or a line of the report: at most four significant digits,
+/// trailing zeros dropped, and scientific notation outside [1e-3, 1e4) (log axes put ticks
+/// at values like 9.99...e-5, whose full digits overlap).
+pub(crate) fn short_number(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    let trim = |s: &str| s.trim_end_matches('0').trim_end_matches('.').to_string();
+    let a = v.abs();
+    if !(1e-3..1e4).contains(&a) {
+        let s = format!("{v:.3e}");
+        let (m, e) = s
+            .split_once('e')
+            .expect("scientific notation has an exponent");
+        format!("{}e{e}", trim(m))
+    } else {
+        let digits = (3 - a.log10().floor() as i32).max(0) as usize;
+        let s = format!("{v:.digits$}");
+        if s.contains('.') {
+            trim(&s)
+        } else {
+            s
+        }
+    }
 }
 
 /// Write the analysis into an existing store atomically (copy, write, rename over).
