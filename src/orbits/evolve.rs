@@ -644,12 +644,19 @@ fn integrate_subhalo(
             let x_b = m / structure.m_acc;
             if x_b < options.disrupt_bound_fraction
                 || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc
-                || (fr && r < options.central_merge_kpc)
             {
                 res.t_disrupt_physical_gyr = cur.t;
                 physical_end = true;
                 break;
             }
+        }
+        // sunk by friction to the centre: merged with the central galaxy (with or without
+        // stripping; without this check a subhalo that keeps its mass would circle the
+        // centre on ever shorter orbits)
+        if fr && norm(pos(&cur.y)) < options.central_merge_kpc {
+            res.t_disrupt_physical_gyr = cur.t;
+            physical_end = true;
+            break;
         }
     }
     // remaining children leave at the end of the parent's life (if it was disrupted)

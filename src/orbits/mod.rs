@@ -108,6 +108,16 @@ impl OrbitOptions {
             (0.0..=50.0).contains(&self.central_merge_kpc),
             "must be in [0, 50] kpc",
         );
+        // without stripping and without a central merger, a subhalo sunk by friction keeps its
+        // mass and circles the centre on ever shorter orbits until the end: the run would
+        // crawl
+        ck.num(
+            "central_merge_kpc",
+            self.central_merge_kpc,
+            !(self.friction && !self.stripping && self.central_merge_kpc == 0.0),
+            "must be > 0 when friction = true and stripping = false (nothing else ends a \
+             subhalo that sinks to the centre)",
+        );
         ck.problems
     }
 }

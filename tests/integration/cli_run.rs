@@ -298,6 +298,13 @@ fn malformed_configs_are_reported() {
             "orbits.pericentre_cut_kpc",
         ),
         (
+            base.replace(
+                "[tests]",
+                "[orbits]\nstripping = false\ncentral_merge_kpc = 0\n\n[tests]",
+            ),
+            "orbits.central_merge_kpc = 0 is not allowed: must be > 0 when friction",
+        ),
+        (
             base.replace("[tests]", "[orbits]\nfriction = \"yes\"\n\n[tests]"),
             "friction",
         ),

@@ -306,3 +306,50 @@ fn val_dynamical_friction_sinking_time() {
         "orbit {t_orbit:.3} Gyr vs classical {t_classical:.3} Gyr"
     );
 }
+
+/// A subhalo massive enough to feel friction, with stripping switched off, keeps its mass,
+/// sinks and is merged with the central galaxy once inside `central_merge_kpc` (the check
+/// used to sit inside the stripping step, so without stripping such a subhalo circled the
+/// centre on ever shorter orbits and the run seemed to hang). 3e11 Msun falling into the
+/// 1.2e12 Msun fixture halo with its disc and bulge 10 Gyr before the end (with this seed it
+/// reaches 1 kpc after about 8 Gyr; 1e11 Msun on its wide orbit does not sink in 10 Gyr).
+#[test]
+fn friction_without_stripping_merges_at_the_centre() {
+    use retinue::orbits::{evolve_subhalo, OrbitOptions, SubhaloStatus};
+    use retinue::rng::{host_rng, HostId, Stream};
+    use retinue::trees::Accretion;
+    use retinue::{Cosmology, LinearOptions, LinearTheory};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let host = EvolvingHost::fixed(snapshot(true));
+    let t0 = lt.cosmology().age0_gyr();
+    let t_in = t0 - 10.0;
+    let z_in = lt.cosmology().z_at_age(t_in);
+    let a = Accretion {
+        branch: 1,
+        order: 1,
+        into_branch: 0,
+        t_infall_gyr: t_in,
+        z_infall: z_in,
+        m_infall_msun: 3e11,
+        m_host_at_infall_msun: host.snapshot(t_in).m_vir,
+        m_peak_msun: 3e11,
+        t_peak_gyr: t_in,
+        group: 1,
+        t_host_infall_gyr: t_in,
+        z_host_infall: z_in,
+    };
+    let opts = OrbitOptions {
+        stripping: false,
+        ..OrbitOptions::default()
+    };
+    let mut rng = host_rng(1, HostId::new(0, 0, 0), Stream::Orbits);
+    let res = evolve_subhalo(&lt, &host, &opts, &a, t0, &mut rng);
+    assert_eq!(res.status, SubhaloStatus::DisruptedPhysical);
+    assert!(res.t_disrupt_physical_gyr > t_in && res.t_disrupt_physical_gyr < t0);
+    assert!(res.r_kpc < opts.central_merge_kpc, "{}", res.r_kpc);
+    assert_eq!(res.m_bound_msun, 3e11);
+}
