@@ -193,6 +193,22 @@ impl Grid {
             build_info: format!("{} {}", std::env::consts::OS, std::env::consts::ARCH),
             n_hosts_total: self.n_hosts(),
             shard: (shard.index, shard.count),
+            config_dir: self
+                .config
+                .base_dir
+                .as_ref()
+                .map(|d| {
+                    let d = if d.as_os_str().is_empty() {
+                        Path::new(".")
+                    } else {
+                        d.as_path()
+                    };
+                    d.canonicalize()
+                        .unwrap_or_else(|_| d.to_path_buf())
+                        .display()
+                        .to_string()
+                })
+                .unwrap_or_default(),
         }
     }
 }

@@ -8,7 +8,7 @@ use clap::Args;
 
 use super::CliError;
 use retinue::config::RunConfig;
-use retinue::io::store::read_meta;
+use retinue::io::store::{read_meta, StoreMeta};
 use retinue::report::{write_analysis_to_store, write_tables};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
 use retinue::stats::tests::{run_tests_raw, Merger};
@@ -481,15 +481,24 @@ pub struct PlotArgs {
 }
 
 /// The configuration stored in a run's store, and the run's observed sample if it can still
-/// be found. The stored `run.sample` is relative to the run's configuration file, which the
-/// store does not record; it is looked for next to the store (where `retinue demo` puts it).
-/// When it is not there the tests that need a sample are skipped, with a note saying so.
-fn stored_config(text: &str, store: &Path) -> Result<(RunConfig, Option<PathBuf>), CliError> {
-    let dir = store
+/// be found. Relative paths in the stored configuration are relative to the directory of the
+/// configuration file the run started from; the store records that directory, and they are
+/// resolved there first, then next to the store, then in the working directory. A sample
+/// found anywhere but its original place is named in a note; one found nowhere is reported
+/// and the tests that need it are skipped.
+fn stored_config(meta: &StoreMeta, store: &Path) -> Result<(RunConfig, Option<PathBuf>), CliError> {
+    let store_dir = store
         .parent()
         .filter(|d| !d.as_os_str().is_empty())
         .unwrap_or(Path::new("."));
-    let mut table: toml::Table = text.parse().map_err(|e| {
+    let recorded = Some(PathBuf::from(&meta.config_dir)).filter(|d| d.is_dir());
+    let mut bases: Vec<PathBuf> = recorded.iter().cloned().collect();
+    for d in [store_dir, Path::new(".")] {
+        if !bases.iter().any(|b| b == d) {
+            bases.push(d.to_path_buf());
+        }
+    }
+    let mut table: toml::Table = meta.config_toml.parse().map_err(|e| {
         usage(format!(
             "{}: the stored configuration is not valid TOML: {e}",
             store.display()
@@ -500,23 +509,60 @@ fn stored_config(text: &str, store: &Path) -> Result<(RunConfig, Option<PathBuf>
         .and_then(|r| r.as_table_mut())
         .and_then(|r| r.remove("sample"))
         .and_then(|v| v.as_str().map(PathBuf::from));
-    let cfg = RunConfig::parse_str(&table.to_string(), Some(dir)).map_err(usage)?;
+    let text = table.to_string();
+    let mut first_err = None;
+    let mut cfg = None;
+    for base in &bases {
+        match RunConfig::parse_str(&text, Some(base)) {
+            Ok(c) => {
+                cfg = Some(c);
+                break;
+            }
+            Err(e) => {
+                first_err.get_or_insert(e);
+            }
+        }
+    }
+    let cfg = match (cfg, first_err) {
+        (Some(c), _) => c,
+        (None, Some(e)) => return Err(usage(e)),
+        (None, None) => unreachable!("there is always a base to try"),
+    };
     let sample = stored_sample.and_then(|rel| {
-        let p = if rel.is_relative() {
-            dir.join(&rel)
+        let places: Vec<PathBuf> = if rel.is_relative() {
+            bases.iter().map(|b| b.join(&rel)).collect()
         } else {
-            rel.clone()
+            vec![rel.clone()]
         };
-        if p.is_file() {
-            Some(p)
-        } else {
-            eprintln!(
-                "note: the run's observed sample ({}) is not at {}; the tests that need a sample \
-                 are skipped (give it with --sample)",
-                rel.display(),
-                p.display()
-            );
-            None
+        match places.iter().position(|p| p.is_file()) {
+            Some(k) => {
+                if k > 0 || recorded.is_none() {
+                    eprintln!(
+                        "note: using the observed sample {} (the run's `run.sample = {}`; the \
+                         run's configuration directory is {})",
+                        places[k].display(),
+                        rel.display(),
+                        recorded.as_ref().map_or_else(
+                            || "not recorded in this store".to_string(),
+                            |d| d.display().to_string()
+                        )
+                    );
+                }
+                Some(places[k].clone())
+            }
+            None => {
+                eprintln!(
+                    "note: the run's observed sample ({}) is not at {}; the tests that need a \
+                     sample are skipped (give it with --sample)",
+                    rel.display(),
+                    places
+                        .iter()
+                        .map(|p| p.display().to_string())
+                        .collect::<Vec<_>>()
+                        .join(" or ")
+                );
+                None
+            }
         }
     });
     Ok((cfg, sample))
@@ -524,7 +570,7 @@ fn stored_config(text: &str, store: &Path) -> Result<(RunConfig, Option<PathBuf>
 
 pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let (cfg, run_sample) = stored_config(&meta.config_toml, &a.store)?;
+    let (cfg, run_sample) = stored_config(&meta, &a.store)?;
     let sample = match a.sample.clone().or(run_sample) {
         Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
         None => None,
@@ -544,17 +590,18 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
 
 pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let (cfg, run_sample) = match &a.config {
-        Some(p) => {
-            let text =
-                std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
-            let cfg =
-                RunConfig::parse_str(&text, p.parent().or(Some(Path::new(".")))).map_err(usage)?;
-            let sp = cfg.sample_path();
-            (cfg, sp)
-        }
-        None => stored_config(&meta.config_toml, &a.store)?,
-    };
+    let (mut cfg, mut run_sample) = stored_config(&meta, &a.store)?;
+    if let Some(p) = &a.config {
+        // only the [tests] and [galaxies] tables (and the sample) come from --config: the
+        // cosmologies and everything else that made the store stay those of the run
+        let text =
+            std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
+        let other =
+            RunConfig::parse_str(&text, p.parent().or(Some(Path::new(".")))).map_err(usage)?;
+        cfg.file.tests = other.file.tests.clone();
+        cfg.file.galaxies = other.file.galaxies;
+        run_sample = other.sample_path();
+    }
     let sample = match a.sample.clone().or(run_sample) {
         Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
         None => None,

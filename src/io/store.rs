@@ -30,6 +30,9 @@ pub struct StoreMeta {
     pub n_hosts_total: u64,
     /// Shard k of n (0 of 1 for an unsplit run).
     pub shard: (u32, u32),
+    /// Absolute directory of the configuration file the run was started from (relative
+    /// paths in `config_toml` are relative to it); empty if unknown (older stores).
+    pub config_dir: String,
 }
 
 /// One column of values.
@@ -386,6 +389,7 @@ impl StoreWriter {
         set_num_attr(&f, "n_hosts_total", meta.n_hosts_total)?;
         set_num_attr(&f, "shard_index", meta.shard.0)?;
         set_num_attr(&f, "shard_count", meta.shard.1)?;
+        set_str_attr(&f, "config_dir", &meta.config_dir)?;
         let h = f.create_group("hosts")?;
         let s = f.create_group("subhalos")?;
         let templ_h = host_cols(&[], 0, 0);
@@ -587,6 +591,8 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
                 .and_then(|a| a.read_scalar())
                 .map_err(e)?,
         ),
+        // absent from stores written before it was recorded
+        config_dir: get_str_attr(&f, "config_dir").unwrap_or_default(),
     })
 }
 

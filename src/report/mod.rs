@@ -365,7 +365,10 @@ pub fn write_analysis(
 /// trailing zeros dropped, and scientific notation outside [1e-3, 1e4) (log axes put ticks
 /// at values like 9.99...e-5, whose full digits overlap).
 pub(crate) fn short_number(v: f64) -> String {
-    if v == 0.0 || !v.is_finite() {
+    if v == 0.0 {
+        return "0".into(); // also -0
+    }
+    if !v.is_finite() {
         return format!("{v}");
     }
     let trim = |s: &str| s.trim_end_matches('0').trim_end_matches('.').to_string();

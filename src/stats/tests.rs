@@ -701,8 +701,19 @@ pub fn run_tests_raw(
     let mut fr = Vec::new();
     let mut counts = Vec::new();
     let mut field = 0.0;
-    // the field density depends only on the cosmology (one Mo-White integral each)
-    let field_density: Vec<f64> = theories.iter().map(|lt| b.field_density_mpc3(lt)).collect();
+    // the field density depends only on the cosmology (one Mo-White integral for each
+    // cosmology that has hosts here)
+    let field_density: Vec<f64> = theories
+        .iter()
+        .enumerate()
+        .map(|(k, lt)| {
+            if (0..n_hosts).any(|h| ci(h) == k) {
+                b.field_density_mpc3(lt)
+            } else {
+                f64::NAN
+            }
+        })
+        .collect();
     let field_per_host: Vec<f64> = (0..n_hosts)
         .map(|h| field_density[ci(h)] * b.shell_volume_mpc3(cat.host_r_vir_kpc[h]))
         .collect();

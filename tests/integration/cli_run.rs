@@ -468,33 +468,33 @@ fn shipped_configs_are_valid() {
     }
 }
 
-/// `infall` and `plot` on a store read the run's observed sample from next to the store,
-/// whatever the working directory; when it is not there they say so and skip the tests that
-/// need it (they used to stop with "run.sample ... file not found" unless started from the
-/// right directory).
+/// `infall` and `plot` on a store find the run's observed sample from any working directory:
+/// the store records the directory of the run's configuration, against which the stored
+/// relative paths are resolved (they used to stop with "run.sample ... file not found"
+/// unless started from that directory). A sample found only next to the store is used with a
+/// note naming it; one found nowhere is reported and the tests that need it are skipped.
 #[test]
 fn retest_a_store_from_anywhere() {
     let d = tempfile::tempdir().unwrap();
     let cfg_text = TINY.replace("[run]\n", "[run]\nsample = \"sample.csv\"\n");
     let cfg = write(d.path(), "tiny.toml", &cfg_text);
-    write(
-        d.path(),
-        "sample.csv",
-        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n\
-         A,3e5,60,10,11,1\nB,1e6,90,-20,10,1\nC,2e5,120,5,12,0.5\n",
-    );
-    let store = d.path().join("out.h5");
+    let sample_text = "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n\
+                       A,3e5,60,10,11,1\nB,1e6,90,-20,10,1\nC,2e5,120,5,12,0.5\n";
+    let sample = write(d.path(), "sample.csv", sample_text);
+    let runs = d.path().join("runs");
+    std::fs::create_dir_all(&runs).unwrap();
+    let store = runs.join("out.h5");
     run_ok(&[
         "run",
         cfg.to_str().unwrap(),
         "--out",
         store.to_str().unwrap(),
     ]);
-    // the working directory of the tests is the crate, not the store's directory
+    // the working directory of the tests is the crate, neither the store's nor the config's
     let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("largest quenching delay"), "{out}");
-    assert!(!err.contains("note: the run's observed sample"), "{err}");
+    assert!(!err.contains("note:"), "{err}");
     let figs = d.path().join("figs");
     let (code, out, err) = run_cli(&[
         "plot",
@@ -504,16 +504,57 @@ fn retest_a_store_from_anywhere() {
     ]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("all_of_n_vs_redshift.png"), "{out}");
-    // moved away from its sample: a note, and the sample tests are skipped
-    let elsewhere = d.path().join("elsewhere");
-    std::fs::create_dir_all(&elsewhere).unwrap();
-    let moved = elsewhere.join("out.h5");
-    std::fs::copy(&store, &moved).unwrap();
-    let (code, out, err) = run_cli(&["infall", moved.to_str().unwrap()]);
+    // the sample moved next to the store: used, with a note naming it
+    std::fs::rename(&sample, runs.join("sample.csv")).unwrap();
+    let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(err.contains("note: using the observed sample"), "{err}");
+    assert!(err.contains("runs"), "{err}");
+    assert!(out.contains("largest quenching delay"), "{out}");
+    // and gone: a note, and the sample tests are skipped
+    std::fs::remove_file(runs.join("sample.csv")).unwrap();
+    let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
     assert!(
         err.contains("note: the run's observed sample (sample.csv) is not at"),
         "{err}"
     );
     assert!(!out.contains("largest quenching delay"), "{out}");
+}
+
+/// `infall --config` takes only the [tests] and [galaxies] tables from the new file: the
+/// cosmologies stay those the store was made with, so a sweep store can be re-tested with a
+/// configuration that lists a single cosmology (it used to stop with "host 2 belongs to
+/// cosmology index 1").
+#[test]
+fn retest_a_sweep_with_other_tests() {
+    let d = tempfile::tempdir().unwrap();
+    let sweep = TINY
+        .replace(
+            "[cosmology]\npreset = \"planck18\"",
+            "[[cosmology]]\npreset = \"planck18\"\n\n[[cosmology]]\npreset = \"wmap9\"",
+        )
+        .replace("hosts_per_cell = 3", "hosts_per_cell = 2")
+        .replace("mass_msun = [8e11, 1.2e12]", "mass_msun = 1.2e12");
+    let cfg = write(d.path(), "sweep.toml", &sweep);
+    let store = d.path().join("sweep.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let other = write(
+        d.path(),
+        "other.toml",
+        &TINY.replace("n_draw = 3", "n_draw = 2"),
+    );
+    let (code, out, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        other.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("P(all 2 fell in before z)"), "{out}");
 }
