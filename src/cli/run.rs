@@ -485,8 +485,13 @@ pub struct PlotArgs {
 /// configuration file the run started from; the store records that directory, and they are
 /// resolved there first, then next to the store, then in the working directory. A sample
 /// found anywhere but its original place is named in a note; one found nowhere is reported
-/// and the tests that need it are skipped.
-fn stored_config(meta: &StoreMeta, store: &Path) -> Result<(RunConfig, Option<PathBuf>), CliError> {
+/// and the tests that need it are skipped. With `want_sample` false (the caller has its own
+/// sample) the stored one is not looked for.
+fn stored_config(
+    meta: &StoreMeta,
+    store: &Path,
+    want_sample: bool,
+) -> Result<(RunConfig, Option<PathBuf>), CliError> {
     let store_dir = store
         .parent()
         .filter(|d| !d.as_os_str().is_empty())
@@ -528,7 +533,7 @@ fn stored_config(meta: &StoreMeta, store: &Path) -> Result<(RunConfig, Option<Pa
         (None, Some(e)) => return Err(usage(e)),
         (None, None) => unreachable!("there is always a base to try"),
     };
-    let sample = stored_sample.and_then(|rel| {
+    let sample = stored_sample.filter(|_| want_sample).and_then(|rel| {
         let places: Vec<PathBuf> = if rel.is_relative() {
             bases.iter().map(|b| b.join(&rel)).collect()
         } else {
@@ -570,7 +575,7 @@ fn stored_config(meta: &StoreMeta, store: &Path) -> Result<(RunConfig, Option<Pa
 
 pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let (cfg, run_sample) = stored_config(&meta, &a.store)?;
+    let (cfg, run_sample) = stored_config(&meta, &a.store, a.sample.is_none())?;
     let sample = match a.sample.clone().or(run_sample) {
         Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
         None => None,
@@ -590,7 +595,8 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
 
 pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let (mut cfg, mut run_sample) = stored_config(&meta, &a.store)?;
+    let (mut cfg, mut run_sample) =
+        stored_config(&meta, &a.store, a.sample.is_none() && a.config.is_none())?;
     if let Some(p) = &a.config {
         // only the [tests] and [galaxies] tables (and the sample) come from --config: the
         // cosmologies and everything else that made the store stay those of the run

@@ -520,6 +520,17 @@ fn retest_a_store_from_anywhere() {
         "{err}"
     );
     assert!(!out.contains("largest quenching delay"), "{out}");
+    // a sample given on the command line: no note about the run's own
+    let mine = write(d.path(), "mine.csv", sample_text);
+    let (code, out, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--sample",
+        mine.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(!err.contains("note:"), "{err}");
+    assert!(out.contains("largest quenching delay"), "{out}");
 }
 
 /// `infall --config` takes only the [tests] and [galaxies] tables from the new file: the
