@@ -1,14 +1,16 @@
 //! A whole run: the grid of (cosmology × host mass × hosts per cell), hosts synthesised in
-//! parallel batches, each batch written to a crash-safe part file while the next batch is
-//! synthesised, the parts joined into the store, then the tests and the report. Host g of the grid is
+//! parallel in order, each batch of hosts written to a crash-safe part file as soon as it is
+//! complete (while the next hosts are synthesised), the parts joined into the store, then the tests and the report. Host g of the grid is
 //! (cosmology c, mass bin m, k) with g = (c * n_mass + m) * hosts_per_cell + k; its random
 //! streams depend only on (master seed, c, m, k), so threads, shards and resumes never change
 //! a host's output.
 
 use std::path::{Path, PathBuf};
 
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Condvar, Mutex};
+
 use rand::Rng;
-use rayon::prelude::*;
 
 use crate::config::{MassBin, RunConfig};
 use crate::cosmology::Cosmology;
@@ -254,40 +256,135 @@ pub fn synthesize_to_store(
         let a = lo + k as u64 * batch;
         (a, (a + batch).min(hi))
     };
-    let synth_batch = |k: usize| -> Result<Vec<(u64, HostRecord)>, RunError> {
-        let (a, b) = bounds(k);
-        let recs: Vec<Result<(u64, HostRecord), RunError>> = (a..b)
-            .into_par_iter()
-            .map_init(
-                || TreeBuilder::new(grid.config.pch08).expect("validated"),
-                |builder, g| grid.synthesize(g, builder).map(|r| (g, r)),
-            )
-            .collect();
-        recs.into_iter().collect()
+    // Every worker takes the next host in order, keeps its record until the host's batch is
+    // complete, and the worker that completes a batch writes the batch's part file. Hosts of at
+    // most WINDOW batches are in memory at once: a worker that would start a host further
+    // ahead waits until the oldest batch in memory has been written. There is no barrier
+    // between batches, so no thread waits for the slowest host of a batch.
+    const WINDOW: usize = 3;
+    let todo: Vec<usize> = (0..n_parts)
+        .filter(|&k| !part_path(&dir, k).exists())
+        .collect();
+    let size = |b: usize| {
+        let (a, e) = bounds(todo[b]);
+        (e - a) as usize
     };
-    let write = |k: usize, recs: &[(u64, HostRecord)]| -> Result<(), RunError> {
-        let refs: Vec<(u64, &HostRecord)> = recs.iter().map(|(g, r)| (*g, r)).collect();
-        write_part(&part_path(&dir, k), &meta, &refs)?;
-        Ok(())
-    };
-    // the part of batch k - 1 is written while batch k is synthesised (two batches in memory)
-    let mut done = 0u64;
-    let mut pending: Option<(usize, Vec<(u64, HostRecord)>)> = None;
-    for k in 0..n_parts {
-        let (a, b) = bounds(k);
-        if !part_path(&dir, k).exists() {
-            let (written, recs) = rayon::join(
-                || pending.take().map_or(Ok(()), |(pk, r)| write(pk, &r)),
-                || synth_batch(k),
-            );
-            written?;
-            pending = Some((k, recs?));
-        }
-        done += b - a;
-        progress(done, hi - lo);
+    let n_todo: u64 = (0..todo.len()).map(|b| size(b) as u64).sum();
+    let total = hi - lo;
+    let done = AtomicU64::new(total - n_todo);
+    progress(done.load(Ordering::Relaxed), total);
+    struct State {
+        /// The next host to start: offset `i` in batch `b` of `todo`.
+        b: usize,
+        i: usize,
+        /// Records of each batch of `todo` (by offset; allocated when the batch starts, freed
+        /// when it is written).
+        slots: Vec<Vec<Option<HostRecord>>>,
+        filled: Vec<usize>,
+        written: Vec<bool>,
+        /// First batch of `todo` not yet written.
+        low: usize,
+        error: Option<RunError>,
     }
-    if let Some((pk, r)) = pending.take() {
-        write(pk, &r)?;
+    let state = Mutex::new(State {
+        b: 0,
+        i: 0,
+        slots: todo.iter().map(|_| Vec::new()).collect(),
+        filled: vec![0; todo.len()],
+        written: vec![false; todo.len()],
+        low: 0,
+        error: None,
+    });
+    let wake = Condvar::new();
+    let fail = |st: &mut State, e: RunError| {
+        if st.error.is_none() {
+            st.error = Some(e);
+        }
+        wake.notify_all();
+    };
+    let worker = || {
+        let mut builder = TreeBuilder::new(grid.config.pch08).expect("validated");
+        loop {
+            let (b, i) = {
+                let mut st = state.lock().expect("no worker panics holding the lock");
+                loop {
+                    if st.error.is_some() || st.b >= todo.len() {
+                        return;
+                    }
+                    if st.b < st.low + WINDOW {
+                        break;
+                    }
+                    st = wake.wait(st).expect("no worker panics holding the lock");
+                }
+                let (b, i) = (st.b, st.i);
+                if i == 0 {
+                    st.slots[b] = (0..size(b)).map(|_| None).collect();
+                }
+                st.i += 1;
+                if st.i == size(b) {
+                    st.b += 1;
+                    st.i = 0;
+                }
+                (b, i)
+            };
+            let k = todo[b];
+            let g = bounds(k).0 + i as u64;
+            // a panic would leave its batch incomplete and the other workers waiting for it:
+            // it ends the run with an error instead
+            let synth = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                grid.synthesize(g, &mut builder)
+            }));
+            let rec = match synth {
+                Ok(Ok(r)) => r,
+                Ok(Err(e)) => return fail(&mut state.lock().expect("lock"), e),
+                Err(_) => {
+                    let e = RunError::Other(format!(
+                        "host {g}: internal error (panic) while synthesising it; please report \
+                         it with the configuration and the master seed"
+                    ));
+                    return fail(&mut state.lock().expect("lock"), e);
+                }
+            };
+            let full = {
+                let mut st = state.lock().expect("lock");
+                st.slots[b][i] = Some(rec);
+                st.filled[b] += 1;
+                if st.filled[b] == st.slots[b].len() {
+                    Some(std::mem::take(&mut st.slots[b]))
+                } else {
+                    None
+                }
+            };
+            progress(done.fetch_add(1, Ordering::Relaxed) + 1, total);
+            if let Some(recs) = full {
+                let a = bounds(k).0;
+                let refs: Vec<(u64, &HostRecord)> = recs
+                    .iter()
+                    .enumerate()
+                    .map(|(i, r)| (a + i as u64, r.as_ref().expect("a full batch")))
+                    .collect();
+                let result = write_part(&part_path(&dir, k), &meta, &refs);
+                drop(refs);
+                drop(recs);
+                let mut st = state.lock().expect("lock");
+                if let Err(e) = result {
+                    return fail(&mut st, e.into());
+                }
+                st.written[b] = true;
+                while st.low < todo.len() && st.written[st.low] {
+                    st.low += 1;
+                }
+                wake.notify_all();
+            }
+        }
+    };
+    rayon::scope(|s| {
+        for _ in 0..rayon::current_num_threads() {
+            s.spawn(|_| worker());
+        }
+    });
+    if let Some(e) = state.into_inner().expect("lock").error {
+        return Err(e);
     }
     // join the parts
     let atomic = AtomicPath::new(out);

@@ -124,6 +124,8 @@ struct Reporter {
     bar: Option<indicatif::ProgressBar>,
     start: Instant,
     last: std::sync::Mutex<f64>,
+    /// Hosts already done when the run started (a resumed run): not counted in the rate.
+    base: std::sync::OnceLock<u64>,
 }
 
 impl Reporter {
@@ -144,19 +146,28 @@ impl Reporter {
             bar,
             start: Instant::now(),
             last: std::sync::Mutex::new(-1e9),
+            base: std::sync::OnceLock::new(),
         }
     }
 
     fn update(&self, done: u64, total: u64) {
+        let mut first = false;
+        let base = *self.base.get_or_init(|| {
+            first = true;
+            done
+        });
         if let Some(b) = &self.bar {
             b.set_position(done);
+            if first {
+                b.reset_eta();
+            }
             return;
         }
         let el = self.start.elapsed().as_secs_f64();
         let mut last = self.last.lock().unwrap();
         if done == total || el - *last >= 10.0 {
             *last = el;
-            let rate = done as f64 / el.max(1e-9);
+            let rate = done.saturating_sub(base) as f64 / el.max(1e-9);
             let eta = (total - done) as f64 / rate.max(1e-9);
             eprintln!("hosts {done}/{total}  {rate:.2} hosts/s  ETA {eta:.0} s");
         }
@@ -216,10 +227,17 @@ fn execute(
         .map_err(run_err)?;
     rep.finish();
     let el = t0.elapsed().as_secs_f64();
+    // a resumed run counts only the hosts it synthesised itself
+    let before = rep.base.get().copied().unwrap_or(0);
+    let fresh = (hi - lo) - before;
     eprintln!(
-        "synthesised {} hosts in {el:.1} s ({:.2} hosts/s)",
-        hi - lo,
-        (hi - lo) as f64 / el.max(1e-9)
+        "synthesised {fresh} hosts in {el:.1} s ({:.2} hosts/s){}",
+        fresh as f64 / el.max(1e-9),
+        if before > 0 {
+            format!("; {before} were done by the interrupted run")
+        } else {
+            String::new()
+        }
     );
     if shard.count > 1 {
         eprintln!("shard written to {}; when every shard is done: retinue merge <shards...> --out FILE, then retinue infall FILE", path.display());

@@ -103,10 +103,24 @@ fn coulomb_log_at(host: &EvolvingHost, t: f64, y: &State, m: f64) -> f64 {
     friction::coulomb_log(s.mass_enclosed(norm(pos(y))), m)
 }
 
+/// Cost accounting for `examples/orbit_cost.rs` (feature `orbit-profile`): right-hand sides
+/// evaluated on this thread, and each subhalo's share with its result.
+#[cfg(feature = "orbit-profile")]
+pub mod profile {
+    use std::cell::{Cell, RefCell};
+    thread_local! {
+        pub static RHS_COUNT: Cell<u64> = const { Cell::new(0) };
+        pub static PER_SUBHALO: RefCell<Vec<(u64, super::SubhaloResult)>> =
+            const { RefCell::new(Vec::new()) };
+    }
+}
+
 /// Right-hand side: host gravity plus friction on mass m with Coulomb logarithm `ll`
 /// (friction off when `ll` <= 0).
 #[inline]
 fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
+    #[cfg(feature = "orbit-profile")]
+    profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
     let s = host.snapshot(t);
     let x = pos(y);
     let mut a = s.accel(x);
@@ -493,6 +507,8 @@ pub fn evolve_host_subhaloes<R: Rng>(
                     if a.order > 1 {
                         res.t_release_gyr = rel.path.borrow().recs[rel.idx].t;
                     }
+                    #[cfg(feature = "orbit-profile")]
+                    let rhs_before = profile::RHS_COUNT.with(|c| c.get());
                     let released = integrate_subhalo(
                         host,
                         options,
@@ -505,6 +521,11 @@ pub fn evolve_host_subhaloes<R: Rng>(
                     );
                     for (k, r) in released {
                         release[k] = Some(r);
+                    }
+                    #[cfg(feature = "orbit-profile")]
+                    {
+                        let n = profile::RHS_COUNT.with(|c| c.get()) - rhs_before;
+                        profile::PER_SUBHALO.with(|p| p.borrow_mut().push((n, res.clone())));
                     }
                 }
             }
