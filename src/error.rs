@@ -18,6 +18,9 @@ impl std::fmt::Display for InvalidValue {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         if self.value == MISSING {
             write!(f, "{} is missing: {}", self.key, self.allowed)
+        } else if self.value.is_empty() {
+            // a problem with no single value (a file that cannot be parsed at all)
+            write!(f, "{}: {}", self.key, self.allowed)
         } else {
             write!(
                 f,

@@ -41,6 +41,10 @@ pub enum RunError {
         seed: u64,
         reason: String,
     },
+    /// A problem with what the user gave (a configuration, shards, an interrupted run's
+    /// directory): the command line exits with code 2.
+    #[error("{0}")]
+    Input(String),
     #[error("{0}")]
     Other(String),
 }
@@ -75,8 +79,8 @@ impl Grid {
             .cosmologies
             .iter()
             .map(|(p, o)| {
-                let c = Cosmology::new(p.clone()).map_err(|e| RunError::Other(e.to_string()))?;
-                LinearTheory::new(c, o.clone()).map_err(|e| RunError::Other(e.to_string()))
+                let c = Cosmology::new(p.clone()).map_err(|e| RunError::Input(e.to_string()))?;
+                LinearTheory::new(c, o.clone()).map_err(|e| RunError::Input(e.to_string()))
             })
             .collect::<Result<Vec<_>, _>>()?;
         Ok(Self { config, theories })
@@ -231,7 +235,7 @@ pub fn synthesize_to_store(
     let batch = grid.config.file.run.batch_hosts as u64;
     let dir = parts_dir(out);
     if dir.exists() && !resume {
-        return Err(RunError::Other(format!(
+        return Err(RunError::Input(format!(
             "{} holds parts of an interrupted run; add --resume to continue it, or delete the directory",
             dir.display()
         )));
@@ -242,7 +246,7 @@ pub fn synthesize_to_store(
     if stamp.exists() {
         let old = std::fs::read_to_string(&stamp).map_err(|e| IoError::fs(&stamp, e))?;
         if old != config_text {
-            return Err(RunError::Other(format!(
+            return Err(RunError::Input(format!(
                 "--resume: the configuration differs from the one of the interrupted run in {}",
                 dir.display()
             )));
@@ -411,12 +415,12 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     }
     let first = metas
         .first()
-        .ok_or_else(|| RunError::Other("no stores to merge".into()))?
+        .ok_or_else(|| RunError::Input("no stores to merge".into()))?
         .0
         .clone();
     for (m, p) in &metas {
         if m.config_toml != first.config_toml || m.master_seed != first.master_seed {
-            return Err(RunError::Other(format!(
+            return Err(RunError::Input(format!(
                 "{}: a different configuration or seed than {}",
                 p.display(),
                 metas[0].1.display()
@@ -426,10 +430,30 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     metas.sort_by_key(|(m, _)| m.shard.0);
     let count = first.shard.1;
     let have: Vec<u32> = metas.iter().map(|(m, _)| m.shard.0).collect();
-    let missing: Vec<u32> = (0..count).filter(|k| !have.contains(k)).collect();
-    if !missing.is_empty() || metas.iter().any(|(m, _)| m.shard.1 != count) {
-        return Err(RunError::Other(format!(
-            "shards of a {count}-way split are missing: {missing:?} (run them with --shard K/{count}, then merge again)"
+    // shards are numbered from 1 on the command line (--shard K/N) and from 0 in the store
+    let missing: Vec<String> = (0..count)
+        .filter(|k| !have.contains(k))
+        .map(|k| format!("{}/{count}", k + 1))
+        .collect();
+    if metas.iter().any(|(m, _)| m.shard.1 != count) {
+        return Err(RunError::Input(format!(
+            "the stores come from splits into different numbers of shards ({})",
+            metas
+                .iter()
+                .map(|(m, p)| format!("{}: shard {}/{}", p.display(), m.shard.0 + 1, m.shard.1))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )));
+    }
+    if !missing.is_empty() {
+        let (what, verb) = if missing.len() == 1 {
+            ("shard", "is")
+        } else {
+            ("shards", "are")
+        };
+        return Err(RunError::Input(format!(
+            "{what} {} of the {count}-way split {verb} missing (run with --shard K/{count}, then merge again)",
+            missing.join(", ")
         )));
     }
     let mut meta = first.clone();

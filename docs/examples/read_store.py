@@ -7,18 +7,27 @@ import sys
 import h5py
 import numpy as np
 
+MSTAR_MIN = 1e5  # Msun: the example's stellar-mass floor (occupied haloes go down to ~10 Msun)
+
 with h5py.File(sys.argv[1], "r") as f:
     hosts = {k: f["hosts"][k][:] for k in f["hosts"]}
     subs = {k: f["subhalos"][k][:] for k in f["subhalos"]}
     units = {k: f["subhalos"][k].attrs["units"] for k in f["subhalos"]}
 
-# satellites of the first host that survive and host a galaxy, inside R_vir
+# Satellites of the first host that survive as the report's default selection requires
+# (survival = "pericentre": not disrupted by stripping, i.e. status != 1, and no pericentre
+# inside the disc cut) and lie inside R_vir today; of these, those with M* >= MSTAR_MIN and
+# those the configured survey would detect (any M*).
 h = 0
 rows = slice(hosts["sub_offset"][h], hosts["sub_offset"][h] + hosts["sub_count"][h])
-alive = (subs["status"][rows] == 0) & (subs["occupied"][rows] == 1)
-inside = subs["r_kpc"][rows] < hosts["r_vir_kpc"][h]
+s = {k: v[rows] for k, v in subs.items()}
+sat = ((s["status"] != 1) & np.isnan(s["t_disrupt_pericentre_gyr"])
+       & (s["r_kpc"] < hosts["r_vir_kpc"][h]))
+massive = sat & (s["mstar_msun"] >= MSTAR_MIN)
+seen = sat & (s["observable"] == 1)
 print(f"{len(hosts['host_index'])} hosts, {len(subs['branch'])} subhaloes")
-print(f"host 0: M_vir = {hosts['m_vir_msun'][h]:.3e} Msun, "
-      f"{np.count_nonzero(alive & inside)} luminous satellites inside R_vir")
-print("first-infall times [{}] of the first five: {}".format(
-    units["t_first_host_infall_gyr"], subs["t_first_host_infall_gyr"][rows][:5]))
+print(f"host 0: M_vir = {hosts['m_vir_msun'][h]:.3e} Msun, R_vir = {hosts['r_vir_kpc'][h]:.0f} kpc; "
+      f"surviving satellites inside R_vir: {np.count_nonzero(massive)} with "
+      f"M* >= {MSTAR_MIN:.0e} Msun, {np.count_nonzero(seen)} observable by the configured survey")
+print("first-infall times [{}] of the first five with M* >= {:.0e} Msun: {}".format(
+    units["t_first_host_infall_gyr"], MSTAR_MIN, s["t_first_host_infall_gyr"][massive][:5]))

@@ -85,7 +85,7 @@ fn usage(e: impl std::fmt::Display) -> CliError {
 
 fn run_err(e: RunError) -> CliError {
     match e {
-        RunError::Invalid(_) => CliError::Usage(e.to_string()),
+        RunError::Invalid(_) | RunError::Input(_) => CliError::Usage(e.to_string()),
         other => CliError::Failed(anyhow::anyhow!(other.to_string())),
     }
 }
@@ -115,7 +115,8 @@ fn load(path: &Path) -> Result<(RunConfig, String), CliError> {
             path.display()
         ))
     })?;
-    let cfg = RunConfig::parse_str(&text, path.parent()).map_err(usage)?;
+    let cfg =
+        RunConfig::parse_named(&text, path.parent(), &path.display().to_string()).map_err(usage)?;
     Ok((cfg, text))
 }
 
@@ -456,6 +457,8 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
     if let Some(p) = cfg.sample_path() {
         ObservedSample::from_file(&p).map_err(usage)?;
     }
+    // the linear theory of every cosmology (reads transfer tables): what a run needs first
+    Grid::new(cfg.clone()).map_err(run_err)?;
     println!(
         "{}: valid ({} = {} hosts)",
         a.config.display(),
@@ -496,6 +499,30 @@ pub struct PlotArgs {
     /// for next to the store.
     #[arg(long)]
     pub sample: Option<PathBuf>,
+}
+
+/// What `infall --config FILE` takes from FILE; the other tables of a whole configuration
+/// are accepted and ignored (a table name that is not one of them is an error).
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+#[allow(dead_code)]
+struct RetestTables {
+    tests: Option<retinue::stats::tests::TestOptions>,
+    galaxies: Option<retinue::galaxies::GalaxyOptions>,
+    run: Option<RetestRun>,
+    cosmology: Option<toml::Value>,
+    host: Option<toml::Value>,
+    trees: Option<toml::Value>,
+    orbits: Option<toml::Value>,
+    survey: Option<toml::Value>,
+}
+
+#[derive(serde::Deserialize)]
+struct RetestRun {
+    sample: Option<PathBuf>,
+    /// The run's other keys (ignored here).
+    #[serde(flatten)]
+    _other: toml::Table,
 }
 
 /// The configuration stored in a run's store, and the run's observed sample if it can still
@@ -565,10 +592,11 @@ fn stored_config(
                          run's configuration directory is {})",
                         places[k].display(),
                         rel.display(),
-                        recorded.as_ref().map_or_else(
-                            || "not recorded in this store".to_string(),
-                            |d| d.display().to_string()
-                        )
+                        match (&recorded, meta.config_dir.is_empty()) {
+                            (Some(d), _) => d.display().to_string(),
+                            (None, true) => "not recorded in this store".to_string(),
+                            (None, false) => format!("{}, which no longer exists", meta.config_dir),
+                        }
                     );
                 }
                 Some(places[k].clone())
@@ -576,7 +604,8 @@ fn stored_config(
             None => {
                 eprintln!(
                     "note: the run's observed sample ({}) is not at {}; the tests that need a \
-                     sample are skipped (give it with --sample)",
+                     sample are skipped, and all-of-N uses tests.n_draw or else N = 11 instead \
+                     of the sample's size (give the sample with --sample)",
                     rel.display(),
                     places
                         .iter()
@@ -616,15 +645,43 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let (mut cfg, mut run_sample) =
         stored_config(&meta, &a.store, a.sample.is_none() && a.config.is_none())?;
     if let Some(p) = &a.config {
-        // only the [tests] and [galaxies] tables (and the sample) come from --config: the
-        // cosmologies and everything else that made the store stay those of the run
+        // only the [tests] and [galaxies] tables (and run.sample) come from --config: the
+        // cosmologies and everything else that made the store stay those of the run. The file
+        // may hold just those tables, or be a whole configuration whose other tables are
+        // ignored.
         let text =
             std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
-        let other =
-            RunConfig::parse_str(&text, p.parent().or(Some(Path::new(".")))).map_err(usage)?;
-        cfg.file.tests = other.file.tests.clone();
-        cfg.file.galaxies = other.file.galaxies;
-        run_sample = other.sample_path();
+        let (retest, mut problems) =
+            retinue::config::parse_collecting::<RetestTables>(&text, &p.display().to_string());
+        let Some(retest) = retest else {
+            return Err(usage(retinue::config::ConfigProblems(problems)));
+        };
+        if let Some(t) = retest.tests {
+            cfg.file.tests = t;
+        }
+        if let Some(g) = retest.galaxies {
+            cfg.file.galaxies = g;
+        }
+        problems.extend(cfg.file.tests.problems("tests."));
+        problems.extend(cfg.file.galaxies.problems("galaxies."));
+        if let Some(sp) = retest.run.and_then(|r| r.sample) {
+            let sp = if sp.is_relative() {
+                p.parent().unwrap_or(Path::new(".")).join(sp)
+            } else {
+                sp
+            };
+            if !sp.is_file() {
+                problems.push(retinue::error::InvalidValue::new(
+                    "run.sample",
+                    sp.display(),
+                    format!("file not found (named in {})", p.display()),
+                ));
+            }
+            run_sample = Some(sp);
+        }
+        if !problems.is_empty() {
+            return Err(usage(retinue::config::ConfigProblems(problems)));
+        }
     }
     let sample = match a.sample.clone().or(run_sample) {
         Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),

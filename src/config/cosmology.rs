@@ -144,6 +144,18 @@ impl CosmologySection {
                 )),
             }
         }
+        if let (Some(p), true) = (
+            &options.transfer_table,
+            options.transfer == TransferKind::Table,
+        ) {
+            if !p.is_file() {
+                problems.push(InvalidValue::new(
+                    format!("{prefix}transfer_table"),
+                    p.display(),
+                    "file not found (a relative path is relative to the configuration file)",
+                ));
+            }
+        }
         if let (Some(t), false) = (
             &self.transfer_table,
             options.transfer == TransferKind::Table,

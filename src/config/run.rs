@@ -15,7 +15,7 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use super::cosmology::CosmologySection;
-use super::{one_line, ConfigProblems};
+use super::ConfigProblems;
 use crate::cosmology::CosmologyParams;
 use crate::error::InvalidValue;
 use crate::galaxies::observability::SurveyOptions;
@@ -30,11 +30,50 @@ use crate::trees::Pch08Params;
 use std::path::PathBuf;
 
 /// One value or a list of values.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum OneOrMany<T> {
     One(T),
     Many(Vec<T>),
+}
+
+/// A list is `Many`, anything else is `One`. Written out (instead of serde's untagged
+/// enum) so that a problem inside the value (an unknown key, a wrong type) is reported as
+/// itself, not as "did not match any variant".
+impl<'de, T: Deserialize<'de>> Deserialize<'de> for OneOrMany<T> {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        use serde::de::value::{MapAccessDeserializer, SeqAccessDeserializer};
+        use serde::de::{IntoDeserializer, MapAccess, SeqAccess, Visitor};
+        struct V<T>(std::marker::PhantomData<T>);
+        impl<'de, T: Deserialize<'de>> Visitor<'de> for V<T> {
+            type Value = OneOrMany<T>;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("one value or a list of values")
+            }
+            fn visit_seq<A: SeqAccess<'de>>(self, a: A) -> Result<Self::Value, A::Error> {
+                Vec::<T>::deserialize(SeqAccessDeserializer::new(a)).map(OneOrMany::Many)
+            }
+            fn visit_map<A: MapAccess<'de>>(self, a: A) -> Result<Self::Value, A::Error> {
+                T::deserialize(MapAccessDeserializer::new(a)).map(OneOrMany::One)
+            }
+            fn visit_f64<E: serde::de::Error>(self, v: f64) -> Result<Self::Value, E> {
+                T::deserialize(v.into_deserializer()).map(OneOrMany::One)
+            }
+            fn visit_i64<E: serde::de::Error>(self, v: i64) -> Result<Self::Value, E> {
+                T::deserialize(v.into_deserializer()).map(OneOrMany::One)
+            }
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<Self::Value, E> {
+                T::deserialize(v.into_deserializer()).map(OneOrMany::One)
+            }
+            fn visit_bool<E: serde::de::Error>(self, v: bool) -> Result<Self::Value, E> {
+                T::deserialize(v.into_deserializer()).map(OneOrMany::One)
+            }
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<Self::Value, E> {
+                T::deserialize(v.into_deserializer()).map(OneOrMany::One)
+            }
+        }
+        d.deserialize_any(V(std::marker::PhantomData))
+    }
 }
 
 impl<T: Clone> OneOrMany<T> {
@@ -50,8 +89,9 @@ impl<T: Clone> OneOrMany<T> {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
 pub struct HostSection {
-    /// Host mass at z_final, Msun, in `mass_definition`: one value or a list (a sweep).
-    pub mass_msun: OneOrMany<f64>,
+    /// Host mass at z_final, Msun, in `mass_definition`: one value or a list (a sweep);
+    /// 1.2e12 when neither this nor `mass_log_uniform_msun` is given.
+    pub mass_msun: Option<OneOrMany<f64>>,
     /// Instead of fixed masses: draw each host's mass log-uniformly in [lo, hi] Msun.
     pub mass_log_uniform_msun: Option<[f64; 2]>,
     pub mass_definition: String,
@@ -71,7 +111,7 @@ impl Default for HostSection {
     fn default() -> Self {
         let b = DiscBulgeParams::default();
         Self {
-            mass_msun: OneOrMany::One(1.2e12),
+            mass_msun: None,
             mass_log_uniform_msun: None,
             mass_definition: "vir".into(),
             z_final: 0.0,
@@ -196,15 +236,29 @@ pub struct RunConfig {
 impl RunConfig {
     /// Parse and validate TOML text; `base_dir` resolves relative paths.
     pub fn parse_str(text: &str, base_dir: Option<&Path>) -> Result<Self, ConfigProblems> {
-        let file: RunConfigFile = toml::from_str(text).map_err(|e| {
-            let e: toml::de::Error = e;
-            ConfigProblems(vec![InvalidValue::new(
-                "config",
-                "(file)",
-                one_line(&e.to_string()),
-            )])
-        })?;
-        Self::validate(file, base_dir)
+        Self::parse_named(text, base_dir, "(the configuration)")
+    }
+
+    /// As `parse_str`, naming the file `source` in messages. Every unknown key and every
+    /// value of the wrong type is reported, together with every out-of-range value of what
+    /// could be read.
+    pub fn parse_named(
+        text: &str,
+        base_dir: Option<&Path>,
+        source: &str,
+    ) -> Result<Self, ConfigProblems> {
+        let (file, mut problems) = super::parse_collecting::<RunConfigFile>(text, source);
+        let Some(file) = file else {
+            return Err(ConfigProblems(problems));
+        };
+        match Self::validate(file, base_dir) {
+            Ok(cfg) if problems.is_empty() => Ok(cfg),
+            Ok(_) => Err(ConfigProblems(problems)),
+            Err(ConfigProblems(more)) => {
+                problems.extend(more);
+                Err(ConfigProblems(problems))
+            }
+        }
     }
 
     pub fn from_file(path: &Path) -> Result<Self, ConfigProblems> {
@@ -215,7 +269,7 @@ impl RunConfig {
                 format!("cannot be read: {e}"),
             )])
         })?;
-        Self::parse_str(&text, path.parent())
+        Self::parse_named(&text, path.parent(), &path.display().to_string())
     }
 
     /// Check every table; all problems at once.
@@ -242,8 +296,22 @@ impl RunConfig {
             }
         }
         let h = &file.host;
-        let masses = h.mass_msun.to_vec();
+        // without either key: one host mass, the Milky-Way-mass default
+        let masses = h
+            .mass_msun
+            .as_ref()
+            .map_or_else(|| vec![1.2e12], OneOrMany::to_vec);
         let mut mass_bins = Vec::new();
+        if let (Some(m), Some(lu)) = (&h.mass_msun, h.mass_log_uniform_msun) {
+            problems.push(InvalidValue::new(
+                "host.mass_msun",
+                format!("{:?}", m.to_vec()),
+                format!(
+                    "give either mass_msun or mass_log_uniform_msun (here [{}, {}]), not both",
+                    lu[0], lu[1]
+                ),
+            ));
+        }
         if let Some([lo, hi]) = h.mass_log_uniform_msun {
             if !(lo >= 1e8 && lo < hi && hi <= 1e16) {
                 problems.push(InvalidValue::new(

@@ -167,7 +167,10 @@ fn hermite_extremum(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
         .next()
 }
 
-/// Events and state of one orbit while it is integrated.
+/// Events and state of one orbit while it is integrated. A subhalo released from its parent
+/// starts with a copy of its parent's tracker: the pericentres and crossings it made inside
+/// its parent are its own too.
+#[derive(Debug, Clone, Copy)]
 struct Tracker {
     n_peri: u32,
     t_peri_first: f64,
@@ -180,9 +183,13 @@ struct Tracker {
     n_cross: u32,
     been_inside: bool,
     t_disrupt_peri: f64,
+    /// The next step is the first after the infall at the virial radius.
+    at_start: bool,
 }
 
 impl Tracker {
+    /// At the infall through the host's virial radius at `t_start`: that is the first
+    /// crossing (counted here, not left to the round-off of r - R_vir = 0 at the start).
     fn new(t_start: f64) -> Self {
         Self {
             n_peri: 0,
@@ -193,9 +200,10 @@ impl Tracker {
             r_peri_last: f64::NAN,
             r_apo_last: f64::NAN,
             t_last_infall: t_start,
-            n_cross: 0,
+            n_cross: 1,
             been_inside: false,
             t_disrupt_peri: f64::NAN,
+            at_start: true,
         }
     }
 
@@ -235,6 +243,13 @@ impl Tracker {
             }
         }
         let (d0, d1) = (r0 - rv0, r1 - rv1);
+        if std::mem::take(&mut self.at_start) {
+            // leaving the infall point: its crossing is already counted
+            if d1 < 0.0 {
+                self.been_inside = true;
+            }
+            return;
+        }
         if d1 < 0.0 || d0 < 0.0 {
             self.been_inside = true;
         }
@@ -378,8 +393,8 @@ impl Path {
 struct Release {
     path: PathRef,
     idx: usize,
-    /// The carrier's last inward crossing of the host's virial radius so far.
-    t_last_infall: f64,
+    /// The carrier's events so far (the released subhalo was inside it for all of them).
+    tracker: Tracker,
 }
 
 /// Evolve every accretion of a host. `rng` is the host's orbit stream; results come in the
@@ -485,20 +500,33 @@ pub fn evolve_host_subhaloes<R: Rng>(
                 Some(Release {
                     path: Path::start(Record::at(host, t_acc, y0, true), tol),
                     idx: 0,
-                    t_last_infall: t_acc,
+                    tracker: Tracker::new(t_acc),
                 })
             } else {
                 release[i].take()
             };
             match start {
                 None => {
-                    // never left its parent: it sits where the parent ended
+                    // never left its parent: it sits where the parent ended, and it was
+                    // inside the parent at every pericentre and crossing of the parent's
+                    // orbit (a subhalo falls into its parent before the parent falls into the
+                    // host), so those events are its own, the pericentre model's verdict
+                    // included
                     if let Some(p) = parent[i].and_then(|p| out[p].as_ref()) {
                         res.pos_kpc = p.pos_kpc;
                         res.vel_kms = p.vel_kms;
                         res.r_kpc = p.r_kpc;
                         res.backsplash = p.backsplash;
                         res.t_last_host_infall_gyr = p.t_last_host_infall_gyr;
+                        res.n_pericentres = p.n_pericentres;
+                        res.t_peri_first_gyr = p.t_peri_first_gyr;
+                        res.r_peri_first_kpc = p.r_peri_first_kpc;
+                        res.r_peri_min_kpc = p.r_peri_min_kpc;
+                        res.t_peri_last_gyr = p.t_peri_last_gyr;
+                        res.r_peri_last_kpc = p.r_peri_last_kpc;
+                        res.r_apo_last_kpc = p.r_apo_last_kpc;
+                        res.n_host_crossings = p.n_host_crossings;
+                        res.t_disrupt_pericentre_gyr = p.t_disrupt_pericentre_gyr;
                     }
                     res.status = SubhaloStatus::InParent;
                     // its children stay inside it too
@@ -583,7 +611,7 @@ fn integrate_subhalo(
     let mut r_t = f64::INFINITY;
     let mut prof_m = m;
     let mut prof = structure.profile(m);
-    let mut tracker = Tracker::new(start.t_last_infall);
+    let mut tracker = start.tracker;
     let mut physical_end = false;
     // tidal mass and stripping rate at the end of the previous step
     let mut prev_tide: Option<(f64, f64)> = None;
@@ -654,7 +682,7 @@ fn integrate_subhalo(
                         Release {
                             path: path.clone(),
                             idx,
-                            t_last_infall: tracker.t_last_infall,
+                            tracker,
                         },
                     ));
                     false
@@ -688,7 +716,7 @@ fn integrate_subhalo(
                 Release {
                     path: path.clone(),
                     idx,
-                    t_last_infall: tracker.t_last_infall,
+                    tracker,
                 },
             ));
         }

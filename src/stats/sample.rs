@@ -36,6 +36,15 @@ const COLUMNS: [&str; 6] = [
     "t_quench_err_gyr",
 ];
 
+/// Every line of a problem list, prefixed with the file.
+fn prefix_lines(path: &Path, problems: &str) -> String {
+    problems
+        .lines()
+        .map(|l| format!("{}: {l}", path.display()))
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
 impl ObservedSample {
     pub fn from_file(path: &Path) -> Result<Self, String> {
         let text = std::fs::read_to_string(path).map_err(|e| format!("{}: {e}", path.display()))?;
@@ -49,104 +58,149 @@ impl ObservedSample {
                 )
             })?
         } else {
-            Self::parse_csv(&text).map_err(|e| format!("{}: {e}", path.display()))?
+            // parse_csv checks the ranges too
+            return Self::parse_csv(&text).map_err(|e| prefix_lines(path, &e));
         };
-        s.check().map_err(|e| format!("{}: {e}", path.display()))?;
+        s.check().map_err(|e| prefix_lines(path, &e))?;
         Ok(s)
     }
 
-    /// Parse the CSV form.
+    /// Parse the CSV form and check it. Every problem is reported, one per line.
     pub fn parse_csv(text: &str) -> Result<Self, String> {
+        let (s, mut problems) = Self::read_csv(text)?;
+        if let Err(e) = s.check() {
+            problems.extend(e.lines().map(str::to_string));
+        }
+        if problems.is_empty() {
+            Ok(s)
+        } else {
+            Err(problems.join("\n"))
+        }
+    }
+
+    /// The objects of the CSV form, and the problems of the lines that could not be read
+    /// (a header that cannot be read is an error at once).
+    fn read_csv(text: &str) -> Result<(Self, Vec<String>), String> {
         let mut lines = text
             .lines()
             .enumerate()
             .filter(|(_, l)| !l.trim().is_empty() && !l.trim_start().starts_with('#'));
         let (_, header) = lines.next().ok_or("the file is empty")?;
         let cols: Vec<String> = header.split(',').map(|s| s.trim().to_string()).collect();
+        let mut problems = Vec::new();
         for c in &cols {
             if !COLUMNS.contains(&c.as_str()) {
-                return Err(format!(
+                problems.push(format!(
                     "unknown column `{c}`; expected {}",
                     COLUMNS.join(",")
                 ));
             }
         }
-        let pos = |name: &str| -> Result<usize, String> {
-            cols.iter().position(|c| c == name).ok_or(format!(
-                "missing column `{name}`; expected {}",
-                COLUMNS.join(",")
-            ))
-        };
-        let p: Vec<usize> = COLUMNS.iter().map(|c| pos(c)).collect::<Result<_, _>>()?;
+        for name in COLUMNS {
+            if !cols.iter().any(|c| c == name) {
+                problems.push(format!(
+                    "missing column `{name}`; expected {}",
+                    COLUMNS.join(",")
+                ));
+            }
+        }
+        if !problems.is_empty() {
+            return Err(problems.join("\n"));
+        }
+        let p: Vec<usize> = COLUMNS
+            .iter()
+            .map(|name| cols.iter().position(|c| c == name).expect("checked above"))
+            .collect();
         let mut objects = Vec::new();
         for (lineno, line) in lines {
             let f: Vec<&str> = line.split(',').map(|s| s.trim()).collect();
             if f.len() != cols.len() {
-                return Err(format!(
+                problems.push(format!(
                     "line {}: {} fields, the header has {}",
                     lineno + 1,
                     f.len(),
                     cols.len()
                 ));
+                continue;
             }
-            let num = |k: usize| -> Result<f64, String> {
-                f[p[k]].parse::<f64>().map_err(|_| {
-                    format!(
+            let mut num = |k: usize| -> f64 {
+                f[p[k]].parse::<f64>().unwrap_or_else(|_| {
+                    problems.push(format!(
                         "line {}: {} = `{}` is not a number",
                         lineno + 1,
                         COLUMNS[k],
                         f[p[k]]
-                    )
+                    ));
+                    f64::NAN
                 })
+            };
+            let o = ObservedObject {
+                id: String::new(),
+                mstar_msun: num(1),
+                r_gc_kpc: num(2),
+                v_r_kms: num(3),
+                t_quench_lookback_gyr: num(4),
+                t_quench_err_gyr: num(5),
             };
             objects.push(ObservedObject {
                 id: f[p[0]].to_string(),
-                mstar_msun: num(1)?,
-                r_gc_kpc: num(2)?,
-                v_r_kms: num(3)?,
-                t_quench_lookback_gyr: num(4)?,
-                t_quench_err_gyr: num(5)?,
+                ..o
             });
         }
-        Ok(Self { objects })
+        Ok((Self { objects }, problems))
     }
 
-    /// Range checks, naming the object and field.
+    /// Range checks, naming the object and field; every problem, one per line. (A value
+    /// that was not a number is reported by the parser, not again here.)
     pub fn check(&self) -> Result<(), String> {
         if self.objects.is_empty() {
             return Err("the sample has no objects".into());
         }
+        let mut problems = Vec::new();
         for o in &self.objects {
-            let bad = |k: &str, v: f64, allowed: &str| {
-                Err(format!(
-                    "object `{}`: {k} = {v} is not allowed: {allowed}",
-                    o.id
-                ))
+            let mut bad = |k: &str, v: f64, ok: bool, allowed: &str| {
+                if !ok && !v.is_nan() {
+                    problems.push(format!(
+                        "object `{}`: {k} = {v} is not allowed: {allowed}",
+                        o.id
+                    ));
+                }
             };
-            if !(o.mstar_msun > 0.0 && o.mstar_msun < 1e13) {
-                return bad("mstar_msun", o.mstar_msun, "must be in (0, 1e13) Msun");
-            }
-            if !(o.r_gc_kpc >= 0.0 && o.r_gc_kpc < 5000.0) {
-                return bad("r_gc_kpc", o.r_gc_kpc, "must be in [0, 5000) kpc");
-            }
-            if !(o.v_r_kms > -2000.0 && o.v_r_kms < 2000.0) {
-                return bad("v_r_kms", o.v_r_kms, "must be in (-2000, 2000) km/s");
-            }
-            if !(o.t_quench_lookback_gyr >= 0.0 && o.t_quench_lookback_gyr <= 14.0) {
-                return bad(
-                    "t_quench_lookback_gyr",
-                    o.t_quench_lookback_gyr,
-                    "must be in [0, 14] Gyr",
-                );
-            }
-            if !(o.t_quench_err_gyr >= 0.0 && o.t_quench_err_gyr <= 10.0) {
-                return bad(
-                    "t_quench_err_gyr",
-                    o.t_quench_err_gyr,
-                    "must be in [0, 10] Gyr",
-                );
-            }
+            bad(
+                "mstar_msun",
+                o.mstar_msun,
+                o.mstar_msun > 0.0 && o.mstar_msun < 1e13,
+                "must be in (0, 1e13) Msun",
+            );
+            bad(
+                "r_gc_kpc",
+                o.r_gc_kpc,
+                o.r_gc_kpc >= 0.0 && o.r_gc_kpc < 5000.0,
+                "must be in [0, 5000) kpc",
+            );
+            bad(
+                "v_r_kms",
+                o.v_r_kms,
+                o.v_r_kms > -2000.0 && o.v_r_kms < 2000.0,
+                "must be in (-2000, 2000) km/s",
+            );
+            bad(
+                "t_quench_lookback_gyr",
+                o.t_quench_lookback_gyr,
+                o.t_quench_lookback_gyr >= 0.0 && o.t_quench_lookback_gyr <= 14.0,
+                "must be in [0, 14] Gyr",
+            );
+            bad(
+                "t_quench_err_gyr",
+                o.t_quench_err_gyr,
+                o.t_quench_err_gyr >= 0.0 && o.t_quench_err_gyr <= 10.0,
+                "must be in [0, 10] Gyr",
+            );
         }
-        Ok(())
+        if problems.is_empty() {
+            Ok(())
+        } else {
+            Err(problems.join("\n"))
+        }
     }
 }

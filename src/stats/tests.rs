@@ -108,6 +108,32 @@ impl Default for TestOptions {
 impl TestOptions {
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
         let mut out = self.selection.problems(&format!("{prefix}selection."));
+        let pre = &self.preprocessing;
+        if let Some(h) = pre.halo_mass_msun.filter(|h| !(*h >= 1e6 && *h <= 1e16)) {
+            out.push(InvalidValue::new(
+                format!("{prefix}preprocessing.halo_mass_msun"),
+                h,
+                "must be in [1e6, 1e16] Msun",
+            ));
+        }
+        if let Some(m) = pre.stellar_mass_msun.filter(|m| !(*m >= 1.0 && *m <= 1e13)) {
+            out.push(InvalidValue::new(
+                format!("{prefix}preprocessing.stellar_mass_msun"),
+                m,
+                "must be in [1, 1e13] Msun",
+            ));
+        }
+        if let PreprocessingThreshold {
+            halo_mass_msun: Some(h),
+            stellar_mass_msun: Some(m),
+        } = self.preprocessing
+        {
+            out.push(InvalidValue::new(
+                format!("{prefix}preprocessing.stellar_mass_msun"),
+                m,
+                format!("give either halo_mass_msun (here {h}) or stellar_mass_msun, not both"),
+            ));
+        }
         out.extend(self.backsplash.problems(&format!("{prefix}backsplash.")));
         if self.z_grid.is_empty() || self.z_grid.iter().any(|z| !(*z >= 0.0 && *z <= 20.0)) {
             out.push(InvalidValue::new(

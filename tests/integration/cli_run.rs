@@ -99,8 +99,12 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
     );
     // a missing shard is named
     let (code, _, err) = run_cli(&["merge", &o("s1.h5"), &o("s3.h5"), "--out", &o("bad.h5")]);
-    assert_ne!(code, 0);
-    assert!(err.contains("[1]") && err.contains("missing"), "{err}");
+    assert_eq!(code, 2, "{err}");
+    // numbered as on the command line (--shard 2/3), not from 0
+    assert!(
+        err.contains("shard 2/3") && err.contains("missing"),
+        "{err}"
+    );
     // the tests run on the merged store without re-synthesising
     let out = run_ok(&["infall", &o("merged.h5")]);
     assert!(out.contains("P(all 3 fell in before z)"), "{out}");
@@ -359,6 +363,30 @@ fn malformed_configs_are_reported() {
         ),
         ("[run\nhosts_per_cell = 3".to_string(), "TOML"),
         ("".to_string(), "cosmology"),
+        // a unit written after a number
+        (
+            base.replace("resolution_msun = 1e9", "resolution_msun = 1e9 Msun"),
+            "trees.resolution_msun = 1e9 Msun is not allowed: a number with a unit",
+        ),
+        // a misspelt table
+        (format!("{base}\n[orbit]\nrtol = 1e-6\n"), "orbit = (table)"),
+        // either/or keys given together
+        (
+            format!("{base}\n[tests.preprocessing]\nhalo_mass_msun = 1e10\nstellar_mass_msun = 1e6\n"),
+            "tests.preprocessing.stellar_mass_msun",
+        ),
+        (
+            base.replace("[host]", "[host]\nmass_log_uniform_msun = [1e12, 2e12]"),
+            "not both",
+        ),
+        // a transfer table that is not there
+        (
+            base.replace(
+                "preset = \"planck18\"",
+                "preset = \"planck18\"\ntransfer = \"table\"\ntransfer_table = \"no-such-table.txt\"",
+            ),
+            "cosmology.transfer_table",
+        ),
     ];
     assert!(cases.len() >= 30);
     for (i, (text, key)) in cases.iter().enumerate() {
@@ -375,16 +403,30 @@ fn malformed_configs_are_reported() {
         ]);
         assert_eq!(code, 2, "run case {i}: {err}");
     }
-    // all problems at once, one line each
+    // all problems at once, one line each: out-of-range values, unknown keys and values of
+    // the wrong type, in several tables
     let many = base
         .replace("draws = 500", "draws = 5")
-        .replace("bootstrap = 50", "bootstrap = 1");
+        .replace("bootstrap = 50", "bootstrap = 1")
+        .replace("master_seed = 11", "master_seed = 11\nthreds = 2")
+        .replace("z_max = 10.0", "z_max = \"ten\"")
+        .replace(
+            "preset = \"planck18\"",
+            "preset = \"planck18\"\nsigma_8 = 0.8",
+        );
     let p = write(d.path(), "many.toml", &many);
-    let (_, _, err) = run_cli(&["check", p.to_str().unwrap()]);
-    assert!(
-        err.contains("tests.draws") && err.contains("tests.bootstrap"),
-        "{err}"
-    );
+    let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    for key in [
+        "tests.draws",
+        "tests.bootstrap",
+        "run.threds = 2 is not allowed: unknown key",
+        "trees.z_max",
+        "cosmology.sigma_8",
+    ] {
+        assert!(err.contains(key), "{key}: {err}");
+    }
+    assert_eq!(err.lines().count(), 5, "{err}");
     assert!(!d.path().join("never.h5").exists());
     let leftovers: Vec<_> = std::fs::read_dir(d.path())
         .unwrap()
@@ -568,4 +610,35 @@ fn retest_a_sweep_with_other_tests() {
     ]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("P(all 2 fell in before z)"), "{out}");
+    // a file with nothing but the [tests] table will do
+    let tests_only = write(
+        d.path(),
+        "tests-only.toml",
+        "[tests]\nn_draw = 4\ndraws = 500\nbootstrap = 50\nn_range = [3, 4]\nz_grid = [0.0, 1.0]\n",
+    );
+    let (code, out, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        tests_only.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("P(all 4 fell in before z)"), "{out}");
+    // and its problems are named (a misspelt table, a value out of range)
+    let bad = write(
+        d.path(),
+        "bad-tests.toml",
+        "[test]\nn_draw = 4\n[tests]\ndraws = 5\n",
+    );
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        bad.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("test = (table)") && err.contains("tests.draws"),
+        "{err}"
+    );
 }

@@ -320,15 +320,22 @@ fn observed_sample_parsing() {
         let e = ObservedSample::parse_csv(text).unwrap_err();
         assert!(e.contains(want), "{text:?}: {e}");
     }
-    let bad = ObservedSample::parse_csv(
-        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,20,1\n",
+    // every problem at once: a value that is not a number, a short line and values out of
+    // range on other lines
+    let e = ObservedSample::parse_csv(
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,20,1\nB,1e6,x,10,2,1\nC,1e6,50,10,2,-1\nD,1\n",
     )
-    .unwrap();
-    let e = bad.check().unwrap_err();
-    assert!(
-        e.contains("t_quench_lookback_gyr = 20") && e.contains("`A`"),
-        "{e}"
-    );
+    .unwrap_err();
+    for want in [
+        "t_quench_lookback_gyr = 20",
+        "`A`",
+        "r_gc_kpc = `x` is not a number",
+        "`C`: t_quench_err_gyr = -1",
+        "line 5: 2 fields",
+    ] {
+        assert!(e.contains(want), "{want}: {e}");
+    }
+    assert_eq!(e.lines().count(), 4, "{e}");
 }
 
 /// Testing hosts in chunks and merging gives exactly the results of testing them all at once

@@ -156,6 +156,46 @@ fn subhalo_bookkeeping_and_reproducibility() {
             n_released > 0,
             "some higher-order subhaloes leave their parents"
         );
+        // A subhalo was inside its parent at every pericentre and crossing the parent made
+        // before letting it go: those events are its own. One still inside its parent at the
+        // end has exactly the parent's; one released has at least as many as the parent had
+        // then, and if the parent's pericentre came inside the disc cut before the release,
+        // the pericentre model removes the subhalo too.
+        let by_branch: std::collections::HashMap<u32, &SubhaloResult> =
+            res.iter().map(|r| (r.branch, r)).collect();
+        let (mut n_in_parent, mut n_inherited_cut) = (0, 0);
+        for r in res.iter().filter(|r| r.order > 1) {
+            let Some(p) = by_branch.get(&r.parent_branch) else {
+                continue;
+            };
+            if r.status == SubhaloStatus::InParent {
+                n_in_parent += 1;
+                assert_eq!(r.n_pericentres, p.n_pericentres, "{r:?}\n{p:?}");
+                assert_eq!(r.n_host_crossings, p.n_host_crossings);
+                assert_eq!(
+                    r.t_disrupt_pericentre_gyr.to_bits(),
+                    p.t_disrupt_pericentre_gyr.to_bits()
+                );
+            } else if r.t_release_gyr.is_finite() {
+                if p.t_peri_first_gyr < r.t_release_gyr {
+                    assert!(r.n_pericentres >= 1, "{r:?}\n{p:?}");
+                    assert!(r.t_peri_first_gyr.to_bits() == p.t_peri_first_gyr.to_bits());
+                }
+                if p.t_disrupt_pericentre_gyr < r.t_release_gyr {
+                    n_inherited_cut += 1;
+                    assert_eq!(
+                        r.t_disrupt_pericentre_gyr.to_bits(),
+                        p.t_disrupt_pericentre_gyr.to_bits()
+                    );
+                }
+            }
+        }
+        assert!(n_in_parent > 0 && n_inherited_cut > 0);
+        // the infall at the virial radius is the first crossing: a first-order subhalo inside
+        // R_vir at the end has crossed an odd number of times
+        for r in res.iter().filter(|r| r.order == 1) {
+            assert!(r.n_host_crossings >= 1, "{r:?}");
+        }
     }
 }
 
