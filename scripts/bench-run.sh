@@ -11,7 +11,7 @@ dir="$(mktemp -d)"
 sed -e "s/^hosts_per_cell = .*/hosts_per_cell = $n/" -e "s/^output = .*/output = \"bench.h5\"/" configs/milky-way.toml > "$dir/bench.toml"
 grep -q '^\[run\]' "$dir/bench.toml" || printf '[run]\nhosts_per_cell = %s\nmaster_seed = 5\n\n%s' "$n" "$(cat "$dir/bench.toml")" > "$dir/b2.toml" && mv "$dir/b2.toml" "$dir/bench.toml" 2>/dev/null || true
 start=$(date +%s.%N)
-/usr/bin/time -v ./target/release/retinue run "$dir/bench.toml" --out "$dir/bench.h5" --threads "$threads" > "$dir/out.txt" 2> "$dir/err.txt"
+/usr/bin/time -v "${CARGO_TARGET_DIR:-target}/release/retinue" run "$dir/bench.toml" --out "$dir/bench.h5" --threads "$threads" > "$dir/out.txt" 2> "$dir/err.txt"
 end=$(date +%s.%N)
 rss=$(grep "Maximum resident set size" "$dir/err.txt" | awk '{print $6}')
 el=$(echo "$end - $start" | bc -l)

@@ -46,7 +46,8 @@ pub struct TreeArgs {
     /// Follow branches back to this redshift.
     #[arg(long = "z-max", default_value_t = 20.0, allow_negative_numbers = true)]
     pub z_max: f64,
-    /// Number of output times, uniform in ln a between z-final and z-max.
+    /// Number of steps between z-final and z-max, uniform in ln a (steps + 1 output times,
+    /// both ends included).
     #[arg(long, default_value_t = 64, conflicts_with = "output_redshifts")]
     pub outputs: usize,
     /// Output redshifts instead of --outputs (comma-separated).

@@ -559,6 +559,7 @@ impl StoreWriter {
 /// Metadata of an existing store.
 pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     let e = |x| IoError::hdf5(path, x);
+    IoError::check_hdf5(path)?;
     let f = hdf5::File::open(path).map_err(e)?;
     let fmt = get_str_attr(&f, "format").map_err(|_| IoError::Format {
         path: path.display().to_string(),

@@ -26,6 +26,10 @@ pub fn write_tree(
     hist: &HostHistory,
     meta: &TreeMeta,
 ) -> Result<PathBuf, IoError> {
+    // like `retinue run`, create the directory the file goes to
+    if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
+        std::fs::create_dir_all(dir).map_err(|e| IoError::fs(dir, e))?;
+    }
     let atomic = AtomicPath::new(path);
     let r = write_inner(&atomic.temp_path, tree, hist, meta)
         .map_err(|e| IoError::hdf5(&atomic.temp_path, e));

@@ -222,6 +222,51 @@ fn cumulative_plot(
     Ok(())
 }
 
+/// The median first-infall redshift of the selected satellites in each grid cell against the
+/// cell's median host mass: one line per cosmology, a marker per cell. (The all-of-N
+/// probability at a fixed redshift, the other column of `dependence.csv`, is often 0 in every
+/// cell and would show nothing.)
+fn cell_plot(path: &Path, cells: &[(u16, u16, usize, f64, f64, f64)]) -> Res {
+    let pts: Vec<(u16, f64, f64)> = cells
+        .iter()
+        .filter(|d| d.3 > 0.0 && d.4.is_finite())
+        .map(|d| (d.0, d.3, d.4))
+        .collect();
+    if pts.is_empty() {
+        return Ok(());
+    }
+    let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
+    root.fill(&WHITE)?;
+    let (m0, m1) = pts.iter().fold((f64::INFINITY, 0.0f64), |a, p| (a.0.min(p.1), a.1.max(p.1)));
+    let z1 = pts.iter().fold(0.0f64, |a, p| a.max(p.2));
+    let title = if pts.len() == 1 {
+        "median first-infall z of the selected satellites (one grid cell)"
+    } else {
+        "median first-infall z of the selected satellites by grid cell"
+    };
+    let mut ch = chart(&root, title, 70)
+        .build_cartesian_2d((m0 / 1.5..m1 * 1.5).log_scale(), 0.0..(z1 * 1.15).max(1.0))?;
+    draw_axes(&mut ch, "median host mass (Msun)", "median first-infall redshift")?;
+    let mut cosmos: Vec<u16> = pts.iter().map(|p| p.0).collect();
+    cosmos.sort_unstable();
+    cosmos.dedup();
+    for (k, c) in cosmos.iter().enumerate() {
+        let col = COLORS[k % COLORS.len()];
+        let mut line: Vec<(f64, f64)> =
+            pts.iter().filter(|p| p.0 == *c).map(|p| (p.1, p.2)).collect();
+        line.sort_by(|a, b| a.0.total_cmp(&b.0));
+        ch.draw_series(line.iter().map(|&p| Circle::new(p, 5, col.filled())))?
+            .label(format!("cosmology {c}"))
+            .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
+        ch.draw_series(LineSeries::new(line, col.stroke_width(2)))?;
+    }
+    if cosmos.len() > 1 {
+        draw_legend(&mut ch)?;
+    }
+    root.present()?;
+    Ok(())
+}
+
 /// Write every figure into `dir`; returns the files written. `theories`: the run's
 /// cosmologies; the lookback axis of the curves over redshift uses the first (and says so
 /// when there are several: a pooled curve over z has no single lookback axis).
@@ -297,7 +342,7 @@ pub fn write_figures(
             10,
         ),
     )?;
-    // pericentres of surviving luminous satellites (fixed bins)
+    // pericentres of the selected satellites (fixed bins)
     let peri = &fig.peri_kpc;
     let w = peri.width();
     let tot: f64 = peri.counts.iter().sum::<f64>().max(1.0);
@@ -313,7 +358,7 @@ pub fn write_figures(
         "pericentres.png",
         cumulative_plot(
             &dir.join("pericentres.png"),
-            "smallest pericentre of surviving luminous satellites",
+            "smallest pericentre of the selected satellites",
             "r_peri (kpc)",
             "probability density (1/kpc)",
             &px,
@@ -358,7 +403,7 @@ pub fn write_figures(
         "radial_distribution.png",
         cumulative_plot(
             &dir.join("radial_distribution.png"),
-            "luminous satellites inside R_vir",
+            "radial distribution of the selected satellites",
             "r / R_vir",
             "N(< r) / N",
             &x,
@@ -366,19 +411,9 @@ pub fn write_figures(
             false,
         ),
     )?;
-    let dm: Vec<f64> = res.dependence.iter().map(|d| d.3).collect();
-    let dp: Vec<f64> = res.dependence.iter().map(|d| d.5).collect();
     go(
         "dependence_on_host_mass.png",
-        cumulative_plot(
-            &dir.join("dependence_on_host_mass.png"),
-            "all-of-N probability at z = 2 (first infall) by grid cell",
-            "median host mass (Msun)",
-            "mean P",
-            &dm,
-            &dp,
-            false,
-        ),
+        cell_plot(&dir.join("dependence_on_host_mass.png"), &res.dependence),
     )?;
     Ok(out)
 }

@@ -10,6 +10,7 @@ use super::catalog::Catalog;
 use super::clocks::{check_cosmology_indices, clock_times};
 use super::intervals::Binned;
 use super::sample::ObservedSample;
+use super::selection::Selection;
 use super::tests::TestOptions;
 use crate::cosmology::Cosmology;
 use crate::galaxies::GalaxyOptions;
@@ -19,12 +20,13 @@ use crate::io::IoError;
 /// Fixed-bin distributions for the figures.
 #[derive(Debug, Clone)]
 pub struct FigureData {
-    /// Smallest pericentres of surviving luminous satellites: 60 bins over 0–300 kpc.
+    /// Smallest pericentres of the satellites the tests select (`[tests.selection]`, its
+    /// survival model included): 60 bins over 0–300 kpc.
     pub peri_kpc: Binned,
     /// Surviving subhaloes inside R_vir per bin of log10(m_bound/M_host): 70 bins over
     /// [-7, 0].
     pub log_mass_ratio: Binned,
-    /// Luminous survivors inside R_vir per bin of r/R_vir: 50 bins over [0, 1].
+    /// The selected satellites per bin of r/R_vir: 50 bins over [0, 1].
     pub r_over_rvir: Binned,
     pub n_hosts: usize,
 }
@@ -41,21 +43,18 @@ impl Default for FigureData {
 }
 
 impl FigureData {
-    fn add(&mut self, c: &Catalog, h: usize, i: usize) {
+    fn add(&mut self, c: &Catalog, h: usize, i: usize, selection: &Selection) {
         if c.disrupted_physical(i) {
             return;
         }
         let rv = c.host_r_vir_kpc[h];
-        let inside = c.r_kpc[i] < rv;
-        if inside {
+        if c.r_kpc[i] < rv {
             self.log_mass_ratio
                 .add((c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10());
         }
-        if c.occupied[i] {
+        if selection.passes(c, h, i) {
             self.peri_kpc.add(c.r_peri_min_kpc[i]);
-            if inside {
-                self.r_over_rvir.add(c.r_kpc[i] / rv);
-            }
+            self.r_over_rvir.add(c.r_kpc[i] / rv);
         }
     }
 }
@@ -128,7 +127,7 @@ pub fn for_each_chunk(
             let rv = c.host_r_vir_kpc[h];
             let mut n_bs = 0.0;
             for i in c.rows(h) {
-                fig.add(&c, h, i);
+                fig.add(&c, h, i, &options.selection);
                 let x = c.r_kpc[i] / rv;
                 if c.backsplash[i]
                     && !c.disrupted_physical(i)
