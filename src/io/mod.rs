@@ -14,10 +14,7 @@ pub enum IoError {
     #[error("{path}: {cause}")]
     Hdf5 { path: String, cause: hdf5::Error },
     #[error("{path}: {cause}")]
-    Fs {
-        path: String,
-        cause: std::io::Error,
-    },
+    Fs { path: String, cause: std::io::Error },
     #[error("{path}: {reason}")]
     Format { path: String, reason: String },
 }
@@ -34,7 +31,9 @@ impl IoError {
         let mut at = 0u64;
         while at + 8 <= len {
             let mut buf = [0u8; 8];
-            if f.seek(SeekFrom::Start(at)).is_ok() && f.read_exact(&mut buf).is_ok() && buf == SIGNATURE
+            if f.seek(SeekFrom::Start(at)).is_ok()
+                && f.read_exact(&mut buf).is_ok()
+                && buf == SIGNATURE
             {
                 return Ok(());
             }
@@ -42,8 +41,9 @@ impl IoError {
         }
         Err(IoError::Format {
             path: path.display().to_string(),
-            reason: "not an HDF5 file (stores are written by `retinue run`, trees by `retinue tree`)"
-                .into(),
+            reason:
+                "not an HDF5 file (stores are written by `retinue run`, trees by `retinue tree`)"
+                    .into(),
         })
     }
 

@@ -237,7 +237,9 @@ fn cell_plot(path: &Path, cells: &[(u16, u16, usize, f64, f64, f64)]) -> Res {
     }
     let root = BitMapBackend::new(path, (900, 600)).into_drawing_area();
     root.fill(&WHITE)?;
-    let (m0, m1) = pts.iter().fold((f64::INFINITY, 0.0f64), |a, p| (a.0.min(p.1), a.1.max(p.1)));
+    let (m0, m1) = pts
+        .iter()
+        .fold((f64::INFINITY, 0.0f64), |a, p| (a.0.min(p.1), a.1.max(p.1)));
     let z1 = pts.iter().fold(0.0f64, |a, p| a.max(p.2));
     let title = if pts.len() == 1 {
         "median first-infall z of the selected satellites (one grid cell)"
@@ -246,14 +248,21 @@ fn cell_plot(path: &Path, cells: &[(u16, u16, usize, f64, f64, f64)]) -> Res {
     };
     let mut ch = chart(&root, title, 70)
         .build_cartesian_2d((m0 / 1.5..m1 * 1.5).log_scale(), 0.0..(z1 * 1.15).max(1.0))?;
-    draw_axes(&mut ch, "median host mass (Msun)", "median first-infall redshift")?;
+    draw_axes(
+        &mut ch,
+        "median host mass (Msun)",
+        "median first-infall redshift",
+    )?;
     let mut cosmos: Vec<u16> = pts.iter().map(|p| p.0).collect();
     cosmos.sort_unstable();
     cosmos.dedup();
     for (k, c) in cosmos.iter().enumerate() {
         let col = COLORS[k % COLORS.len()];
-        let mut line: Vec<(f64, f64)> =
-            pts.iter().filter(|p| p.0 == *c).map(|p| (p.1, p.2)).collect();
+        let mut line: Vec<(f64, f64)> = pts
+            .iter()
+            .filter(|p| p.0 == *c)
+            .map(|p| (p.1, p.2))
+            .collect();
         line.sort_by(|a, b| a.0.total_cmp(&b.0));
         ch.draw_series(line.iter().map(|&p| Circle::new(p, 5, col.filled())))?
             .label(format!("cosmology {c}"))

@@ -245,6 +245,7 @@ pub fn markdown(
     let _ = writeln!(m, "\n## Caveats\n");
     let _ = writeln!(m, "- The draws treat the observed satellites as a random subset of the selection; bright and nearby satellites are not a random subset in infall time, so match the selection (stellar mass, distance, survey) to how the sample was chosen.");
     let _ = writeln!(m, "- Infall times come from extended Press–Schechter trees (Parkinson, Cole & Helly 2008) and semi-analytic orbits; disruption by the disc is modelled by a pericentre cut or tidal stripping, not simulated.");
+    let _ = writeln!(m, "- Outside the host's virial radius the potential is still the host's own (untruncated NFW halo, disc and bulge), without the Hubble flow or neighbouring haloes, and the few subhaloes that entered faster than the escape speed (the tail of the infall-velocity distribution) leave for good: positions beyond about 3 R_vir are rough. The backsplash count uses the shell set in `[tests.backsplash]` (1-3 R_vir by default).");
     let _ = writeln!(m, "- Host-to-host scatter is large; the bootstrap interval describes the uncertainty of the host-averaged value, the 16–84% range the spread of single hosts like the Milky Way.");
     m
 }
