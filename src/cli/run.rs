@@ -164,6 +164,10 @@ impl Reporter {
             }
             return;
         }
+        if done == base && done < total {
+            // nothing synthesised yet by this process: no rate to show
+            return;
+        }
         let el = self.start.elapsed().as_secs_f64();
         let mut last = self.last.lock().unwrap();
         if done == total || el - *last >= 10.0 {
