@@ -300,6 +300,8 @@ pub fn synthesize_to_store(
         error: None,
     });
     let wake = Condvar::new();
+    // a worker that panics is caught below; the state stays usable
+    let lock = || state.lock().unwrap_or_else(|p| p.into_inner());
     let fail = |st: &mut State, e: RunError| {
         if st.error.is_none() {
             st.error = Some(e);
@@ -310,7 +312,7 @@ pub fn synthesize_to_store(
         let mut builder = TreeBuilder::new(grid.config.pch08).expect("validated");
         loop {
             let (b, i) = {
-                let mut st = state.lock().expect("no worker panics holding the lock");
+                let mut st = lock();
                 loop {
                     if st.error.is_some() || st.b >= todo.len() {
                         return;
@@ -318,7 +320,7 @@ pub fn synthesize_to_store(
                     if st.b < st.low + WINDOW {
                         break;
                     }
-                    st = wake.wait(st).expect("no worker panics holding the lock");
+                    st = wake.wait(st).unwrap_or_else(|p| p.into_inner());
                 }
                 let (b, i) = (st.b, st.i);
                 if i == 0 {
@@ -340,17 +342,17 @@ pub fn synthesize_to_store(
             }));
             let rec = match synth {
                 Ok(Ok(r)) => r,
-                Ok(Err(e)) => return fail(&mut state.lock().expect("lock"), e),
+                Ok(Err(e)) => return fail(&mut lock(), e),
                 Err(_) => {
                     let e = RunError::Other(format!(
                         "host {g}: internal error (panic) while synthesising it; please report \
                          it with the configuration and the master seed"
                     ));
-                    return fail(&mut state.lock().expect("lock"), e);
+                    return fail(&mut lock(), e);
                 }
             };
             let full = {
-                let mut st = state.lock().expect("lock");
+                let mut st = lock();
                 st.slots[b][i] = Some(rec);
                 st.filled[b] += 1;
                 if st.filled[b] == st.slots[b].len() {
@@ -370,7 +372,7 @@ pub fn synthesize_to_store(
                 let result = write_part(&part_path(&dir, k), &meta, &refs);
                 drop(refs);
                 drop(recs);
-                let mut st = state.lock().expect("lock");
+                let mut st = lock();
                 if let Err(e) = result {
                     return fail(&mut st, e.into());
                 }
@@ -384,10 +386,23 @@ pub fn synthesize_to_store(
     };
     rayon::scope(|s| {
         for _ in 0..rayon::current_num_threads() {
-            s.spawn(|_| worker());
+            s.spawn(|_| {
+                // a panic anywhere in a worker (writing a part, reporting progress) would
+                // leave its batch unwritten and the others waiting: it ends the run instead
+                if std::panic::catch_unwind(std::panic::AssertUnwindSafe(&worker)).is_err() {
+                    fail(
+                        &mut lock(),
+                        RunError::Other(
+                            "internal error (panic) in a worker thread; please report it with \
+                             the configuration and the master seed"
+                                .into(),
+                        ),
+                    );
+                }
+            });
         }
     });
-    if let Some(e) = state.into_inner().expect("lock").error {
+    if let Some(e) = state.into_inner().unwrap_or_else(|p| p.into_inner()).error {
         return Err(e);
     }
     // join the parts
@@ -428,6 +443,17 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
         }
     }
     metas.sort_by_key(|(m, _)| m.shard.0);
+    for w in metas.windows(2) {
+        if w[0].0.shard == w[1].0.shard {
+            return Err(RunError::Input(format!(
+                "shard {}/{} is given twice ({} and {})",
+                w[0].0.shard.0 + 1,
+                w[0].0.shard.1,
+                w[0].1.display(),
+                w[1].1.display()
+            )));
+        }
+    }
     let count = first.shard.1;
     let have: Vec<u32> = metas.iter().map(|(m, _)| m.shard.0).collect();
     // shards are numbered from 1 on the command line (--shard K/N) and from 0 in the store

@@ -668,7 +668,12 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
         }
         problems.extend(cfg.file.tests.problems("tests."));
         problems.extend(cfg.file.galaxies.problems("galaxies."));
-        if let Some(sp) = retest.run.and_then(|r| r.sample) {
+        // (a sample given with --sample replaces FILE's: FILE's need not exist then)
+        if let Some(sp) = retest
+            .run
+            .and_then(|r| r.sample)
+            .filter(|_| a.sample.is_none())
+        {
             let sp = if sp.is_relative() {
                 p.parent().unwrap_or(Path::new(".")).join(sp)
             } else {

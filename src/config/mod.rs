@@ -80,6 +80,16 @@ pub fn parse_collecting<T: serde::de::DeserializeOwned>(
                     .count()
             })
             .filter(|&i| i < lines.len());
+        // a required key or table that is absent: no line to blame, and nothing more can be
+        // read without it
+        if let Some(f) = missing_field(err.message()) {
+            problems.push(InvalidValue::new(
+                f,
+                MISSING,
+                format!("required in {source}"),
+            ));
+            return (None, problems);
+        }
         // an unknown table: its header and its keys are set aside together
         if let Some(i) = line_no.filter(|i| !set_aside.contains(i)) {
             let head = lines[i].trim();
@@ -96,41 +106,112 @@ pub fn parse_collecting<T: serde::de::DeserializeOwned>(
                 ));
                 set_aside.insert(i);
                 lines[i] = String::new();
-                for l in lines.iter_mut().skip(i + 1) {
-                    if l.trim_start().starts_with('[') {
-                        break;
+                // its entries up to the next header (a value may run over several lines)
+                let mut j = i + 1;
+                while j < lines.len() && !lines[j].trim_start().starts_with('[') {
+                    let end = value_end(&lines, j);
+                    for l in &mut lines[j..=end] {
+                        *l = String::new();
                     }
-                    *l = String::new();
+                    j = end + 1;
                 }
                 continue;
             }
         }
-        let keyed = line_no.and_then(|i| key_value_of(&lines, i).map(|kv| (i, kv)));
+        // the statement the error points into (a line inside a multi-line value belongs to
+        // the key above it)
+        let start = line_no.map(|i| {
+            (0..=i)
+                .rev()
+                .find(|&j| {
+                    !lines[j].trim().is_empty()
+                        && key_value_of(&lines, j).is_some()
+                        && value_end(&lines, j) >= i
+                })
+                .unwrap_or(i)
+        });
+        let keyed = start.and_then(|i| key_value_of(&lines, i).map(|kv| (i, kv)));
         match keyed {
-            Some((i, (key, value))) if !set_aside.contains(&i) => {
+            Some((i, (key, mut value))) if !set_aside.contains(&i) => {
+                // the whole value, if it runs over several lines
+                let end = value_end(&lines, i);
+                if end > i {
+                    for l in &lines[i + 1..=end] {
+                        value.push(' ');
+                        value.push_str(l.trim());
+                    }
+                    if value.chars().count() > 60 {
+                        value = value.chars().take(57).collect::<String>() + "...";
+                    }
+                }
                 let why = explain(err.message(), &value);
                 problems.push(InvalidValue::new(key, value, why));
                 set_aside.insert(i);
-                lines[i] = String::new();
+                for l in &mut lines[i..=end] {
+                    *l = String::new();
+                }
             }
             _ => {
                 let at = line_no
                     .map(|i| format!(" (line {})", i + 1))
                     .unwrap_or_default();
                 let msg = explain(err.message(), "");
-                problems.push(match missing_field(err.message()) {
-                    Some(f) => InvalidValue::new(f, MISSING, format!("required in {source}")),
-                    None => InvalidValue::new(
-                        format!("{source}{at}"),
-                        "",
-                        format!("not valid TOML: {msg}"),
-                    ),
-                });
+                problems.push(InvalidValue::new(
+                    format!("{source}{at}"),
+                    "",
+                    format!("not valid TOML: {msg}"),
+                ));
                 return (None, problems);
             }
         }
     }
     (None, problems)
+}
+
+/// The last line of the statement that starts on line i: a `key = value` whose value opens
+/// brackets or a triple-quoted string runs on until they close (strings are skipped when
+/// counting brackets); anything else ends on its own line.
+fn value_end(lines: &[String], i: usize) -> usize {
+    let Some((_, v)) = lines[i].split_once('=') else {
+        return i;
+    };
+    let v = v.trim_start();
+    for delim in ["\"\"\"", "'''"] {
+        if let Some(rest) = v.strip_prefix(delim) {
+            if rest.contains(delim) {
+                return i;
+            }
+            return (i + 1..lines.len())
+                .find(|&j| lines[j].contains(delim))
+                .unwrap_or(lines.len() - 1);
+        }
+    }
+    let mut depth = 0i32;
+    let mut j = i;
+    let mut text = v.to_string();
+    loop {
+        let mut quote: Option<char> = None;
+        let mut chars = text.chars();
+        while let Some(c) = chars.next() {
+            match (quote, c) {
+                (Some('"'), '\\') => {
+                    chars.next();
+                }
+                (Some(q), c) if c == q => quote = None,
+                (Some(_), _) => {}
+                (None, '"' | '\'') => quote = Some(c),
+                (None, '#') => break,
+                (None, '[' | '{') => depth += 1,
+                (None, ']' | '}') => depth -= 1,
+                _ => {}
+            }
+        }
+        if depth <= 0 || j + 1 >= lines.len() {
+            return j;
+        }
+        j += 1;
+        text = lines[j].clone();
+    }
 }
 
 /// The dotted key and the value text of line i if it is a `key = value` line, with the
@@ -226,4 +307,59 @@ pub fn one_line(s: &str) -> String {
         .filter(|l| !l.is_empty())
         .collect::<Vec<_>>()
         .join(" ")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::config::RunConfigFile;
+
+    fn problems(text: &str) -> Vec<String> {
+        let (_, p) = parse_collecting::<RunConfigFile>(text, "t.toml");
+        p.iter().map(|p| p.to_string()).collect()
+    }
+
+    #[test]
+    fn a_missing_table_blames_no_key() {
+        let p = problems("run.master_seed = 1\n");
+        assert_eq!(p, vec!["cosmology is missing: required in t.toml"]);
+    }
+
+    #[test]
+    fn multi_line_values_are_set_aside_whole() {
+        let text = "[run]\nmaster_seed = [\n1,\n2,\n]\nthreds = 1\n[cosmology]\npreset = \"planck18\"\n\
+                    [host]\nmass_msun = [\n1e12,\n\"2e12\",\n]\n[bogus]\nx = [\n[1, 2],\n]\ny = 1\n";
+        let p = problems(text);
+        assert_eq!(p.len(), 4, "{p:#?}");
+        for want in [
+            "run.master_seed = [ 1, 2, ] is not allowed: wrong type",
+            "run.threds = 1 is not allowed: unknown key",
+            "host.mass_msun = [ 1e12, \"2e12\", ] is not allowed: wrong type",
+            "bogus = (table) is not allowed: unknown table",
+        ] {
+            assert!(p.iter().any(|l| l.starts_with(want)), "{want}: {p:#?}");
+        }
+    }
+
+    #[test]
+    fn keys_of_arrays_of_tables_are_numbered() {
+        let p = problems("[[cosmology]]\npreset = \"planck18\"\n[[cosmology]]\npreset = \"wmap9\"\nsigma_8 = 0.8\n");
+        assert_eq!(p.len(), 1, "{p:?}");
+        assert!(p[0].starts_with("cosmology[1].sigma_8 = 0.8"), "{p:?}");
+    }
+
+    #[test]
+    fn value_end_skips_brackets_in_strings_and_comments() {
+        let lines: Vec<String> = ["a = [\"]\", # ]", "1]", "b = 2"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+        assert_eq!(value_end(&lines, 0), 1);
+        assert_eq!(value_end(&lines, 2), 2);
+        let triple: Vec<String> = ["s = \"\"\"x", "y", "z\"\"\"", "t = 1"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+        assert_eq!(value_end(&triple, 0), 2);
+    }
 }

@@ -244,9 +244,12 @@ impl Tracker {
         }
         let (d0, d1) = (r0 - rv0, r1 - rv1);
         if std::mem::take(&mut self.at_start) {
-            // leaving the infall point: its crossing is already counted
+            // leaving the infall point: its crossing is already counted, unless the first
+            // step ends outside again (the virial radius was only touched)
             if d1 < 0.0 {
                 self.been_inside = true;
+            } else {
+                self.n_cross = 0;
             }
             return;
         }

@@ -399,7 +399,8 @@ pub fn write_figures(
         ),
     )?;
     let rad = &fig.r_over_rvir;
-    let totr: f64 = rad.counts.iter().sum::<f64>().max(1.0);
+    // every selected satellite counts in N (one exactly on the outer edge is `above`)
+    let totr: f64 = (rad.counts.iter().sum::<f64>() + rad.above).max(1.0);
     let mut x = vec![rad.lo];
     let mut f = vec![0.0];
     let mut acc = 0.0;

@@ -26,7 +26,8 @@ pub struct FigureData {
     /// Surviving subhaloes inside R_vir per bin of log10(m_bound/M_host): 70 bins over
     /// [-7, 0].
     pub log_mass_ratio: Binned,
-    /// The selected satellites per bin of r/R_vir: 50 bins over [0, 1].
+    /// The selected satellites per bin of r/R_vir: 50 bins over [0, 1], or over the
+    /// selection's radius range when that reaches beyond R_vir (`for_selection`).
     pub r_over_rvir: Binned,
     pub n_hosts: usize,
 }
@@ -43,6 +44,15 @@ impl Default for FigureData {
 }
 
 impl FigureData {
+    /// Bins for the satellites `selection` picks: the radial bins reach its outer radius.
+    pub fn for_selection(selection: &Selection) -> Self {
+        let hi = selection.r_over_rvir[1].clamp(1.0, 100.0);
+        Self {
+            r_over_rvir: Binned::new(0.0, hi, 50),
+            ..Self::default()
+        }
+    }
+
     fn add(&mut self, c: &Catalog, h: usize, i: usize, selection: &Selection) {
         if c.disrupted_physical(i) {
             return;
@@ -102,7 +112,7 @@ pub fn for_each_chunk(
     f: &mut dyn FnMut(Catalog),
 ) -> Result<FigureData, IoError> {
     let n = n_hosts_in(path)?;
-    let mut fig = FigureData::default();
+    let mut fig = FigureData::for_selection(&options.selection);
     let w = options.match_windows;
     let b = &options.backsplash;
     let mut h0 = 0;

@@ -68,8 +68,11 @@ impl ObservedSample {
     /// Parse the CSV form and check it. Every problem is reported, one per line.
     pub fn parse_csv(text: &str) -> Result<Self, String> {
         let (s, mut problems) = Self::read_csv(text)?;
-        if let Err(e) = s.check() {
-            problems.extend(e.lines().map(str::to_string));
+        // (no objects because every line was unreadable: those lines are the problems)
+        if !s.objects.is_empty() || problems.is_empty() {
+            if let Err(e) = s.check() {
+                problems.extend(e.lines().map(str::to_string));
+            }
         }
         if problems.is_empty() {
             Ok(s)
@@ -123,6 +126,7 @@ impl ObservedSample {
                 ));
                 continue;
             }
+            let mut unreadable = false;
             let mut num = |k: usize| -> f64 {
                 f[p[k]].parse::<f64>().unwrap_or_else(|_| {
                     problems.push(format!(
@@ -131,6 +135,7 @@ impl ObservedSample {
                         COLUMNS[k],
                         f[p[k]]
                     ));
+                    unreadable = true;
                     f64::NAN
                 })
             };
@@ -142,16 +147,19 @@ impl ObservedSample {
                 t_quench_lookback_gyr: num(4),
                 t_quench_err_gyr: num(5),
             };
-            objects.push(ObservedObject {
-                id: f[p[0]].to_string(),
-                ..o
-            });
+            // a line with a value that could not be read is reported above, not range-checked
+            if !unreadable {
+                objects.push(ObservedObject {
+                    id: f[p[0]].to_string(),
+                    ..o
+                });
+            }
         }
         Ok((Self { objects }, problems))
     }
 
-    /// Range checks, naming the object and field; every problem, one per line. (A value
-    /// that was not a number is reported by the parser, not again here.)
+    /// Range checks, naming the object and field; every problem, one per line (NaN, which
+    /// CSV and TOML both accept as a number, is out of every range).
     pub fn check(&self) -> Result<(), String> {
         if self.objects.is_empty() {
             return Err("the sample has no objects".into());
@@ -159,7 +167,7 @@ impl ObservedSample {
         let mut problems = Vec::new();
         for o in &self.objects {
             let mut bad = |k: &str, v: f64, ok: bool, allowed: &str| {
-                if !ok && !v.is_nan() {
+                if !ok {
                     problems.push(format!(
                         "object `{}`: {k} = {v} is not allowed: {allowed}",
                         o.id

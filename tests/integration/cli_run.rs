@@ -105,6 +105,18 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
         err.contains("shard 2/3") && err.contains("missing"),
         "{err}"
     );
+    // a shard given twice
+    let (code, _, err) = run_cli(&[
+        "merge",
+        &o("s1.h5"),
+        &o("s1.h5"),
+        &o("s2.h5"),
+        &o("s3.h5"),
+        "--out",
+        &o("bad.h5"),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("shard 1/3 is given twice"), "{err}");
     // the tests run on the merged store without re-synthesising
     let out = run_ok(&["infall", &o("merged.h5")]);
     assert!(out.contains("P(all 3 fell in before z)"), "{out}");
@@ -641,4 +653,32 @@ fn retest_a_sweep_with_other_tests() {
         err.contains("test = (table)") && err.contains("tests.draws"),
         "{err}"
     );
+    // a sample given with --sample replaces the file's, which then need not exist
+    let gone = write(
+        d.path(),
+        "gone-sample.toml",
+        "[run]\nsample = \"nowhere.csv\"\n[tests]\nn_draw = 2\ndraws = 500\nbootstrap = 50\nn_range = [3, 4]\nz_grid = [0.0, 1.0]\n",
+    );
+    let sample = write(
+        d.path(),
+        "s.csv",
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,8,1\nB,1e6,80,-20,10,1\n",
+    );
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        gone.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("run.sample"), "{err}");
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        gone.to_str().unwrap(),
+        "--sample",
+        sample.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
 }

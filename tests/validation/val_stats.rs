@@ -336,6 +336,12 @@ fn observed_sample_parsing() {
         assert!(e.contains(want), "{want}: {e}");
     }
     assert_eq!(e.lines().count(), 4, "{e}");
+    // NaN reads as a number in CSV and TOML, and is out of every range
+    let e = ObservedSample::parse_csv(
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,nan,10,2,1\n",
+    )
+    .unwrap_err();
+    assert!(e.contains("`A`: r_gc_kpc = NaN"), "{e}");
 }
 
 /// Testing hosts in chunks and merging gives exactly the results of testing them all at once
