@@ -266,8 +266,9 @@ pub fn write_analysis(
         let d = g.new_dataset_builder().with_data(v).create(name)?;
         set_str_attr(&d, "units", units)
     };
+    // the grid's units: a redshift is dimensionless, a delay is in Gyr
     let write_curve = |g: &hdf5::Group, c: &Curve, xname: &str| -> hdf5::Result<()> {
-        col(g, xname, &c.x, "")?;
+        col(g, xname, &c.x, if xname.ends_with("_gyr") { "Gyr" } else { "" })?;
         col(
             g,
             "mean",
@@ -350,9 +351,11 @@ pub fn write_analysis(
         .create("hosts_too_few")?;
     set_str_attr(&hosts_too_few, "units", "index")?;
     let cand: Vec<u64> = res.candidates.iter().map(|&c| c as u64).collect();
-    a.new_dataset_builder()
+    let cand = a
+        .new_dataset_builder()
         .with_data(&cand)
         .create("candidates_per_host")?;
+    set_str_attr(&cand, "units", "count")?;
     let bg = a.create_group("backsplash")?;
     set_num_attr(&bg, "fraction_mean", res.backsplash_fraction.mean)?;
     set_num_attr(&bg, "fraction_boot16", res.backsplash_fraction.boot16)?;
