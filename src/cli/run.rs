@@ -56,9 +56,10 @@ pub struct CheckArgs {
 
 #[derive(Debug, Args)]
 pub struct MergeArgs {
-    /// Shard stores to join.
+    /// Shard stores to join (any order; each shard of the split exactly once).
     #[arg(required = true)]
     pub shards: Vec<PathBuf>,
+    /// The joined store (written under a temporary name, renamed when complete).
     #[arg(long)]
     pub out: PathBuf,
 }
@@ -70,11 +71,13 @@ pub struct MergeArgs {
 pub struct InfallArgs {
     /// A run store.
     pub store: PathBuf,
-    /// Observed sample (CSV or TOML); default: the run's sample, looked for next to the store
-    /// (or the one named by --config).
+    /// Observed sample (CSV or TOML); default: the one named by --config's run.sample, else
+    /// the run's own (looked for in the run's configuration directory, next to the store,
+    /// then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
-    /// Configuration whose [tests] table to use.
+    /// A file with [tests] and/or [galaxies] tables (or a whole configuration): those tables
+    /// and its run.sample replace the stored ones; everything else stays the run's.
     #[arg(long)]
     pub config: Option<PathBuf>,
 }
@@ -499,8 +502,8 @@ pub struct PlotArgs {
     /// Directory for the PNG files (default: NAME-report next to the store).
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Observed sample (CSV or TOML), for the sample's N; default: the run's sample, looked
-    /// for next to the store.
+    /// Observed sample (CSV or TOML), for the sample's N; default: the run's sample (looked
+    /// for in the run's configuration directory, next to the store, then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
 }

@@ -268,7 +268,12 @@ pub fn write_analysis(
     };
     // the grid's units: a redshift is dimensionless, a delay is in Gyr
     let write_curve = |g: &hdf5::Group, c: &Curve, xname: &str| -> hdf5::Result<()> {
-        col(g, xname, &c.x, if xname.ends_with("_gyr") { "Gyr" } else { "" })?;
+        col(
+            g,
+            xname,
+            &c.x,
+            if xname.ends_with("_gyr") { "Gyr" } else { "" },
+        )?;
         col(
             g,
             "mean",
