@@ -76,8 +76,10 @@ pub struct InfallArgs {
     /// then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
-    /// A file with [tests] and/or [galaxies] tables (or a whole configuration): those tables
-    /// and its run.sample replace the stored ones; everything else stays the run's.
+    /// A file with a [tests] table (or a whole configuration): its [tests], [galaxies] and
+    /// run.sample replace the stored ones; everything else stays the run's. (Galaxies are
+    /// painted when a store is written: [galaxies] here only converts a stellar-mass
+    /// pre-processing threshold.)
     #[arg(long)]
     pub config: Option<PathBuf>,
 }
