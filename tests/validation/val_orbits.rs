@@ -224,12 +224,23 @@ fn val_energy_conservation_static() {
         ([300.0, 0.0, 0.0], [-100.0, 20.0, 0.0]),
         ([30.0, 0.0, 0.0], [0.0, 0.0, 150.0]),
     ] {
-        let (tr, _, _) = integrate_test_particle(&host, x, v, 0.0, 10.0, 10.0, tol);
         let e = |y: &[f64; 6]| {
             s.phi([y[0], y[1], y[2]]) / (KMS * KMS)
                 + 0.5 * (y[3] * y[3] + y[4] * y[4] + y[5] * y[5])
         };
-        let drift = (e(&tr.last().unwrap().1) / e(&tr[0].1) - 1.0).abs();
+        let drift_at = |tol: Tolerances| {
+            let (tr, _, _) = integrate_test_particle(&host, x, v, 0.0, 10.0, 10.0, tol);
+            (e(&tr.last().unwrap().1) / e(&tr[0].1) - 1.0).abs()
+        };
+        let drift = drift_at(tol);
+        // the production tolerance (orbits.rtol = 1e-5, absolute 10 rtol as in the subhalo
+        // orbits): reported in docs/validation.md, not asserted
+        let production = drift_at(Tolerances {
+            rtol: 1e-5,
+            atol_pos_kpc: 1e-4,
+            atol_vel_kpc_gyr: 1e-4,
+        });
+        eprintln!("{x:?} {v:?}: drift {drift:.1e} at rtol 1e-8, {production:.1e} at rtol 1e-5");
         assert!(drift < 1e-6, "{x:?}: drift {drift:e}");
     }
 }
