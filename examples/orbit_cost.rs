@@ -9,14 +9,13 @@
 //! Run: `cargo run --release --features orbit-profile --example orbit_cost [N_HOSTS]`
 //! (default 4 hosts, the same as `examples/orbit_tolerance.rs`).
 
+#[path = "common/hosts.rs"]
+mod hosts;
+
 use std::collections::BTreeMap;
 
-use retinue::host::{EvolvingHost, HostOptions};
 use retinue::orbits::evolve::profile::PER_SUBHALO;
 use retinue::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult};
-use retinue::rng::{host_rng, HostId, Stream};
-use retinue::trees::{HostHistory, TreeBuilder, TreeSpec};
-use retinue::{Cosmology, LinearOptions, LinearTheory};
 
 fn radius_bin(r: f64) -> &'static str {
     match r {
@@ -34,24 +33,12 @@ fn main() {
         .nth(1)
         .and_then(|s| s.parse().ok())
         .unwrap_or(4);
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").expect("preset"),
-        LinearOptions::default(),
-    )
-    .expect("linear theory");
-    let spec = TreeSpec {
-        m_resolution_msun: 10f64.powf(7.5),
-        ..TreeSpec::milky_way_default()
-    };
-    let mut builder = TreeBuilder::new(spec.pch08).expect("tree builder");
+    let (lt, hosts) = hosts::milky_way_hosts(n_hosts);
     let t0 = lt.cosmology().age0_gyr();
     let opts = OrbitOptions::default();
-    for h in 0..n_hosts {
-        let mut rng = host_rng(3, HostId::new(0, 0, h), Stream::Tree);
-        let hist = HostHistory::from_tree(builder.build(&lt, &spec, &mut rng).expect("tree"));
-        let host = EvolvingHost::from_history(&lt, &hist, &HostOptions::default(), 0.5);
-        let mut rng = host_rng(5, HostId::new(0, 0, h), Stream::Orbits);
-        evolve_host_subhaloes(&lt, &hist, &host, &opts, t0, &mut rng);
+    for (h, (hist, host)) in hosts.iter().enumerate() {
+        let mut rng = hosts::orbit_rng(h as u32);
+        evolve_host_subhaloes(&lt, hist, host, &opts, t0, &mut rng);
     }
     let subs = PER_SUBHALO.with(|p| p.take());
     let total: u64 = subs.iter().map(|p| p.0).sum();

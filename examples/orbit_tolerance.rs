@@ -6,11 +6,10 @@
 //! Run: `cargo run --release --example orbit_tolerance [N_HOSTS] [RTOL,RTOL,...]`
 //! (default: 4 hosts; 1e-8,1e-6,1e-5,1e-4; the first tolerance is the reference).
 
-use retinue::host::{EvolvingHost, HostOptions};
+#[path = "common/hosts.rs"]
+mod hosts;
+
 use retinue::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult, SubhaloStatus};
-use retinue::rng::{host_rng, HostId, Stream};
-use retinue::trees::{HostHistory, TreeBuilder, TreeSpec};
-use retinue::{Cosmology, LinearOptions, LinearTheory};
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
@@ -19,25 +18,8 @@ fn main() {
         .get(2)
         .map(|s| s.split(',').filter_map(|x| x.parse().ok()).collect())
         .unwrap_or_else(|| vec![1e-8, 1e-6, 1e-5, 1e-4]);
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").expect("preset"),
-        LinearOptions::default(),
-    )
-    .expect("linear theory");
-    let spec = TreeSpec {
-        m_resolution_msun: 10f64.powf(7.5),
-        ..TreeSpec::milky_way_default()
-    };
-    let mut builder = TreeBuilder::new(spec.pch08).expect("tree builder");
+    let (lt, hosts) = hosts::milky_way_hosts(n_hosts);
     let t0 = lt.cosmology().age0_gyr();
-    let hosts: Vec<(HostHistory, EvolvingHost)> = (0..n_hosts)
-        .map(|h| {
-            let mut rng = host_rng(3, HostId::new(0, 0, h), Stream::Tree);
-            let hist = HostHistory::from_tree(builder.build(&lt, &spec, &mut rng).expect("tree"));
-            let host = EvolvingHost::from_history(&lt, &hist, &HostOptions::default(), 0.5);
-            (hist, host)
-        })
-        .collect();
     let mut reference: Option<Vec<SubhaloResult>> = None;
     println!("rtol      s/host  survivors  mean log10 m_bound  mean first r_peri (kpc)  vs reference: lost  gained  mean dlog m  median dlog m");
     for rtol in rtols {
@@ -48,7 +30,7 @@ fn main() {
         let start = std::time::Instant::now();
         let mut all = Vec::new();
         for (h, (hist, host)) in hosts.iter().enumerate() {
-            let mut rng = host_rng(5, HostId::new(0, 0, h as u32), Stream::Orbits);
+            let mut rng = hosts::orbit_rng(h as u32);
             all.extend(evolve_host_subhaloes(&lt, hist, host, &opts, t0, &mut rng));
         }
         let secs = start.elapsed().as_secs_f64() / n_hosts as f64;
