@@ -180,8 +180,11 @@ pub fn markdown(
         o.preprocessing.halo_mass_msun,
         o.preprocessing.stellar_mass_msun,
     ) {
-        (Some(h), _) => format!("a halo of at least {h:.3e} Msun"),
-        (None, Some(s)) => format!("a halo whose median galaxy has at least {s:.3e} Msun of stars"),
+        (Some(h), _) => format!("a halo of at least {} Msun", short_number(h)),
+        (None, Some(s)) => format!(
+            "a halo whose median galaxy has at least {} Msun of stars",
+            short_number(s)
+        ),
         _ => "any halo".into(),
     };
     let _ = writeln!(
@@ -240,8 +243,8 @@ pub fn markdown(
         }
     }
     let b = &o.backsplash;
-    let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {:.2e}–{:.2e} Msun at {}–{} R_vir today, the fraction that were once inside the host: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from the Mo & White 1996 mass function of a region of {:.2e} Msun within {} Mpc (linear theory, haloes spread uniformly over the region; an estimate, not a prediction of the infall-region profile).",
-        b.m_peak_msun[0], b.m_peak_msun[1], b.shell_over_rvir[0], b.shell_over_rvir[1], res.backsplash_fraction.mean, res.backsplash_fraction.p16, res.backsplash_fraction.p84, res.backsplash_count_mean, res.field_count_expected, b.region_mass_msun, b.region_radius_mpc);
+    let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {}–{} Msun at {}–{} R_vir today, the fraction that were once inside the host: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from the Mo & White 1996 mass function of a region of {} Msun within {} Mpc (linear theory, haloes spread uniformly over the region; an estimate, not a prediction of the infall-region profile).",
+        short_number(b.m_peak_msun[0]), short_number(b.m_peak_msun[1]), b.shell_over_rvir[0], b.shell_over_rvir[1], res.backsplash_fraction.mean, res.backsplash_fraction.p16, res.backsplash_fraction.p84, res.backsplash_count_mean, res.field_count_expected, short_number(b.region_mass_msun), b.region_radius_mpc);
     let _ = writeln!(m, "\n## Caveats\n");
     let _ = writeln!(m, "- The draws treat the observed satellites as a random subset of the selection; bright and nearby satellites are not a random subset in infall time, so match the selection (stellar mass, distance, survey) to how the sample was chosen.");
     let _ = writeln!(m, "- Infall times come from extended Press–Schechter trees (Parkinson, Cole & Helly 2008) and semi-analytic orbits; disruption by the disc is modelled by a pericentre cut or tidal stripping, not simulated.");
