@@ -83,11 +83,17 @@ pub fn parse_collecting<T: serde::de::DeserializeOwned>(
         // a required key or table that is absent: no line to blame, and nothing more can be
         // read without it
         if let Some(f) = missing_field(err.message()) {
-            problems.push(InvalidValue::new(
-                f,
-                MISSING,
-                format!("required in {source}"),
-            ));
+            // (unless it went missing because its line was set aside: that is reported)
+            let set_aside_key = problems
+                .iter()
+                .any(|p| p.key.rsplit('.').next() == Some(f.as_str()));
+            if !set_aside_key {
+                problems.push(InvalidValue::new(
+                    f,
+                    MISSING,
+                    format!("required in {source}"),
+                ));
+            }
             return (None, problems);
         }
         // an unknown table: its header and its keys are set aside together
@@ -339,6 +345,27 @@ mod tests {
         ] {
             assert!(p.iter().any(|l| l.starts_with(want)), "{want}: {p:#?}");
         }
+    }
+
+    #[test]
+    fn a_required_key_set_aside_is_not_reported_twice() {
+        #[derive(serde::Deserialize)]
+        #[allow(dead_code)]
+        struct Needs {
+            mass: f64,
+        }
+        let (v, p) = parse_collecting::<Needs>("mass = \"big\"\n", "t.toml");
+        assert!(v.is_none());
+        assert_eq!(p.len(), 1, "{p:?}");
+        assert!(p[0]
+            .to_string()
+            .starts_with("mass = \"big\" is not allowed: wrong type"));
+        // and a key that was never there is named
+        let (_, p) = parse_collecting::<Needs>("other = 1\n", "t.toml");
+        assert_eq!(
+            p.last().unwrap().to_string(),
+            "mass is missing: required in t.toml"
+        );
     }
 
     #[test]

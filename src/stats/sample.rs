@@ -49,20 +49,24 @@ impl ObservedSample {
     pub fn from_file(path: &Path) -> Result<Self, String> {
         let text = std::fs::read_to_string(path).map_err(|e| format!("{}: {e}", path.display()))?;
         let is_toml = path.extension().map(|e| e == "toml").unwrap_or(false);
-        let s = if is_toml {
-            toml::from_str::<ObservedSample>(&text).map_err(|e| {
-                format!(
-                    "{}: {}",
-                    path.display(),
-                    crate::config::one_line(&e.to_string())
-                )
-            })?
-        } else {
+        if !is_toml {
             // parse_csv checks the ranges too
             return Self::parse_csv(&text).map_err(|e| prefix_lines(path, &e));
-        };
-        s.check().map_err(|e| prefix_lines(path, &e))?;
-        Ok(s)
+        }
+        // the TOML form through the configuration's parser: every bad key at once, then the
+        // ranges of what could be read
+        let (s, problems) =
+            crate::config::parse_collecting::<ObservedSample>(&text, &path.display().to_string());
+        let mut lines: Vec<String> = problems.iter().map(|p| p.to_string()).collect();
+        if let Some(s) = &s {
+            if let Err(e) = s.check() {
+                lines.extend(e.lines().map(str::to_string));
+            }
+        }
+        match s {
+            Some(s) if lines.is_empty() => Ok(s),
+            _ => Err(prefix_lines(path, &lines.join("\n"))),
+        }
     }
 
     /// Parse the CSV form and check it. Every problem is reported, one per line.

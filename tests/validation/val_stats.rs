@@ -342,6 +342,23 @@ fn observed_sample_parsing() {
     )
     .unwrap_err();
     assert!(e.contains("`A`: r_gc_kpc = NaN"), "{e}");
+    // the TOML form names every bad key at once, each with the file
+    let d = tempfile::tempdir().unwrap();
+    let f = d.path().join("s.toml");
+    std::fs::write(
+        &f,
+        "[[object]]\nid = \"A\"\nmstar_msun = 1e6\nr_gc_kpc = 5\nv_r_kms = 10\n\
+         t_quench_lookback_gyr = 8\nt_quench_err_gyr = 1\ncolour = 3\n\n[[object]]\nid = \"B\"\n\
+         mstar_msun = \"big\"\nr_gc_kpc = 50\nv_r_kms = 10\nt_quench_lookback_gyr = 8\n\
+         t_quench_err_gyr = 1\n",
+    )
+    .unwrap();
+    let e = ObservedSample::from_file(&f).unwrap_err();
+    assert!(
+        e.contains("object[0].colour = 3") && e.contains("object[1].mstar_msun"),
+        "{e}"
+    );
+    assert_eq!(e.lines().count(), 2, "{e}");
 }
 
 /// Testing hosts in chunks and merging gives exactly the results of testing them all at once
