@@ -11,7 +11,7 @@ use rand::Rng;
 
 use super::friction;
 use super::initial::{initial_state, Li20};
-use super::integrate::{Dopri5, State, Tolerances};
+use super::integrate::{Dopri5, Rkn6, State, Tolerances, Vec3};
 use super::stripping::{Stripping, SubhaloStructure};
 use super::OrbitOptions;
 use crate::constants::{G_KPC3_PER_MSUN_GYR2 as G, KMS_IN_KPC_PER_GYR as KMS};
@@ -134,6 +134,14 @@ fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
         a[2] += af[2];
     }
     [y[3], y[4], y[5], a[0], a[1], a[2]]
+}
+
+/// The host's acceleration alone (the right-hand side of a test particle for `Rkn6`).
+#[inline]
+fn accel_free(host: &EvolvingHost, t: f64, x: &Vec3) -> Vec3 {
+    #[cfg(feature = "orbit-profile")]
+    profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
+    host.snapshot(t).accel(*x)
 }
 
 /// Cubic Hermite interpolation of r(s), s in [0, 1], from end values and derivatives
@@ -314,8 +322,11 @@ impl Record {
 #[derive(Debug)]
 struct Path {
     recs: Vec<Record>,
+    /// Steps with friction (the acceleration depends on the velocity).
     dopri: Dopri5,
-    /// The integrator's stored derivative belongs to the friction-free right-hand side.
+    /// Steps without friction.
+    rkn: Rkn6,
+    /// The last step was taken without friction (by `rkn`).
     k1_free: bool,
     /// Mass and Coulomb logarithm of the last friction step.
     last_m: f64,
@@ -331,6 +342,7 @@ impl Path {
         Rc::new(RefCell::new(Self {
             recs: vec![Record { free: true, ..rec }],
             dopri: Dopri5::new(tol, 1e-3, 0.1),
+            rkn: Rkn6::new(tol, 1e-3, 0.1),
             k1_free: false,
             last_m: f64::NAN,
             last_ll: f64::NAN,
@@ -367,16 +379,28 @@ impl Path {
             }
         };
         if stale {
-            // the right-hand side changed: the stored first-stage derivative is stale
-            self.dopri.reset_derivative();
+            // the right-hand side changed, or the other integrator took the last step: the
+            // stored first-stage derivative is stale; the step size carries over
+            match friction {
+                None => {
+                    self.rkn.reset_derivative();
+                    if self.recs.len() > 1 {
+                        self.rkn.h = self.dopri.h;
+                    }
+                }
+                Some(_) => {
+                    self.dopri.reset_derivative();
+                    if self.k1_free && self.recs.len() > 1 {
+                        self.dopri.h = self.rkn.h;
+                    }
+                }
+            }
         }
         let last = *self.recs.last().expect("a path has a first record");
-        // two instances of the integrator: the friction-free one has the friction term
-        // folded away at compile time
         let (t1, y1) = match friction {
             None => {
-                let mut f = |tt: f64, yy: &State| rhs(host, 0.0, 0.0, tt, yy);
-                self.dopri.step(&mut f, last.t, &last.y, t_end)
+                let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
+                self.rkn.step(&mut f, last.t, &last.y, t_end)
             }
             Some(_) => {
                 let (ll, m) = (self.last_ll, self.last_m);
@@ -795,15 +819,15 @@ pub fn integrate_point_mass(
     let to_kms = |y: &State| [y[0], y[1], y[2], y[3] / KMS, y[4] / KMS, y[5] / KMS];
     let mut out = vec![(t, to_kms(&y))];
     let (mut peri, mut apo) = (Vec::new(), Vec::new());
+    // a test particle takes the Nystrom integrator of the subhalo orbits, a satellite with
+    // friction (velocity-dependent) the general one
     let mut dopri = Dopri5::new(tol, 1e-4, dt_out.max(1e-6));
+    let mut rkn = Rkn6::new(tol, 1e-4, dt_out.max(1e-6));
     let mut f = |tt: f64, yy: &State| {
-        let ll = if m_msun > 0.0 {
-            coulomb_log_at(host, tt, yy, m_msun)
-        } else {
-            0.0
-        };
+        let ll = coulomb_log_at(host, tt, yy, m_msun);
         rhs(host, ll, m_msun, tt, yy)
     };
+    let mut g = |tt: f64, x: &Vec3| accel_free(host, tt, x);
     let n_out = ((t1 - t0) / dt_out).round().max(1.0) as usize;
     for k in 1..=n_out {
         let t_next = if k == n_out {
@@ -812,7 +836,11 @@ pub fn integrate_point_mass(
             t0 + dt_out * k as f64
         };
         while t < t_next {
-            let (tn, yn) = dopri.step(&mut f, t, &y, t_next);
+            let (tn, yn) = if m_msun > 0.0 {
+                dopri.step(&mut f, t, &y, t_next)
+            } else {
+                rkn.step(&mut g, t, &y, t_next)
+            };
             let h = tn - t;
             let (x0, x1) = (pos(&y), pos(&yn));
             let (r0, r1) = (norm(x0), norm(x1));
