@@ -1,9 +1,12 @@
 //! Where the orbit integration's work goes: every accretion of a few Milky-Way-mass hosts
 //! (1.2e12 Msun, resolution 10^7.5 Msun, Planck 2018, default orbit options) evolved with the
 //! integrator's right-hand sides counted per subhalo, then the counts split by order, fate,
-//! pericentre, number of pericentres, remaining bound fraction and infall time. A right-hand
-//! side that extends an orbit shared by several subhaloes is charged to the one that
-//! extended it; subhaloes never released from their parent cost nothing and are not listed.
+//! pericentre, number of pericentres, remaining bound fraction and infall time; and the
+//! integrator's steps split by where they were taken (distance from the centre, at the disc
+//! plane or not, with friction), with the right-hand sides per accepted step (rejected
+//! attempts included). A right-hand side that extends an orbit shared by several subhaloes
+//! is charged to the one that extended it; subhaloes never released from their parent cost
+//! nothing and are not listed.
 //! The numbers are quoted in docs/performance.md.
 //!
 //! Run: `cargo run --release --features orbit-profile --example orbit_cost [N_HOSTS]`
@@ -14,7 +17,7 @@ mod hosts;
 
 use std::collections::BTreeMap;
 
-use retinue::orbits::evolve::profile::PER_SUBHALO;
+use retinue::orbits::evolve::profile::{BY_STEP, PER_SUBHALO, STEP_KINDS};
 use retinue::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult};
 
 fn radius_bin(r: f64) -> &'static str {
@@ -41,6 +44,23 @@ fn main() {
         evolve_host_subhaloes(&lt, hist, host, &opts, t0, &mut rng);
     }
     let subs = PER_SUBHALO.with(|p| p.take());
+    let by_step = BY_STEP.with(|w| *w.borrow());
+    let all_rhs: u64 = by_step.iter().map(|x| x.0).sum();
+    println!(
+        "{:<32} {:>8} {:>10} {:>9} {:>12}",
+        "steps", "work", "steps/host", "rhs/step", "mean h (Gyr)"
+    );
+    for (name, (rhs, steps, len)) in STEP_KINDS.iter().zip(by_step) {
+        let per = |x: f64| x / steps.max(1) as f64;
+        println!(
+            "{name:<32} {:>7.1}% {:>10.0} {:>9.2} {:>12.2e}",
+            100.0 * rhs as f64 / all_rhs as f64,
+            steps as f64 / n_hosts as f64,
+            per(rhs as f64),
+            per(len)
+        );
+    }
+    println!();
     let total: u64 = subs.iter().map(|p| p.0).sum();
     println!(
         "{} subhaloes in {n_hosts} hosts; {:.3e} right-hand sides per host",

@@ -108,10 +108,36 @@ fn coulomb_log_at(host: &EvolvingHost, t: f64, y: &State, m: f64) -> f64 {
 #[cfg(feature = "orbit-profile")]
 pub mod profile {
     use std::cell::{Cell, RefCell};
+    /// Kinds of step, by the smaller distance from the host's centre at its two ends and by
+    /// whether it crossed the disc plane or ended within 0.5 kpc of it.
+    pub const STEP_KINDS: [&str; 7] = [
+        "r < 10 kpc, at the disc plane",
+        "r < 10 kpc, away from it",
+        "10-30 kpc, at the disc plane",
+        "10-30 kpc, away from it",
+        "30-100 kpc",
+        ">= 100 kpc",
+        "with friction",
+    ];
+    /// The kind of a step from y0 to y1 (`STEP_KINDS`).
+    pub fn step_kind(y0: &super::State, y1: &super::State, friction: bool) -> usize {
+        let r = super::norm(super::pos(y0)).min(super::norm(super::pos(y1)));
+        let plane = (y0[2] < 0.0) != (y1[2] < 0.0) || y0[2].abs().min(y1[2].abs()) < 0.5;
+        match () {
+            _ if friction => 6,
+            _ if r < 10.0 => usize::from(!plane),
+            _ if r < 30.0 => 2 + usize::from(!plane),
+            _ if r < 100.0 => 4,
+            _ => 5,
+        }
+    }
     thread_local! {
         pub static RHS_COUNT: Cell<u64> = const { Cell::new(0) };
         pub static PER_SUBHALO: RefCell<Vec<(u64, super::SubhaloResult)>> =
             const { RefCell::new(Vec::new()) };
+        /// Per kind of step (`STEP_KINDS`): right-hand sides, accepted steps, summed length.
+        pub static BY_STEP: RefCell<[(u64, u64, f64); 7]> =
+            const { RefCell::new([(0, 0, 0.0); 7]) };
     }
 }
 
@@ -338,11 +364,12 @@ struct Path {
 type PathRef = Rc<RefCell<Path>>;
 
 impl Path {
-    fn start(rec: Record, tol: Tolerances) -> PathRef {
+    /// A path from `rec`, with tolerances `tol` and steps of at most `h_max` (Gyr).
+    fn start(rec: Record, tol: Tolerances, h_max: f64) -> PathRef {
         Rc::new(RefCell::new(Self {
             recs: vec![Record { free: true, ..rec }],
-            dopri: Dopri5::new(tol, 1e-3, 0.1),
-            rkn: Rkn6::new(tol, 1e-3, 0.1),
+            dopri: Dopri5::new(tol, 1e-3, h_max),
+            rkn: Rkn6::new(tol, 1e-3, h_max),
             k1_free: false,
             last_m: f64::NAN,
             last_ll: f64::NAN,
@@ -355,7 +382,7 @@ impl Path {
         if let Some((_, b)) = self.branches.iter().find(|(i, _)| *i == idx) {
             return b.clone();
         }
-        let b = Self::start(self.recs[idx], self.dopri.tol);
+        let b = Self::start(self.recs[idx], self.dopri.tol, self.dopri.h_max);
         self.branches.push((idx, b.clone()));
         b
     }
@@ -397,6 +424,8 @@ impl Path {
             }
         }
         let last = *self.recs.last().expect("a path has a first record");
+        #[cfg(feature = "orbit-profile")]
+        let before = profile::RHS_COUNT.with(|c| c.get());
         let (t1, y1) = match friction {
             None => {
                 let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
@@ -408,6 +437,14 @@ impl Path {
                 self.dopri.step(&mut f, last.t, &last.y, t_end)
             }
         };
+        #[cfg(feature = "orbit-profile")]
+        profile::BY_STEP.with(|w| {
+            let n = profile::RHS_COUNT.with(|c| c.get()) - before;
+            let e = &mut w.borrow_mut()[profile::step_kind(&last.y, &y1, friction.is_some())];
+            e.0 += n;
+            e.1 += 1;
+            e.2 += t1 - last.t;
+        });
         self.k1_free = friction.is_none();
         let rec = Record::at(host, t1, y1, friction.is_none());
         self.recs.push(rec);
@@ -525,7 +562,7 @@ pub fn evolve_host_subhaloes<R: Rng>(
                 let (u, x) = li.sample(nu, zeta, rng);
                 let y0 = initial_state(s.r_vir, v_vir, u, x, rng);
                 Some(Release {
-                    path: Path::start(Record::at(host, t_acc, y0, true), tol),
+                    path: Path::start(Record::at(host, t_acc, y0, true), tol, options.max_step_gyr),
                     idx: 0,
                     tracker: Tracker::new(t_acc),
                 })
@@ -651,8 +688,11 @@ fn integrate_subhalo(
             let ll = friction::coulomb_log(cur.m_enc, m);
             if idx + 1 < path.borrow().recs.len() {
                 // others walk on from here without friction: continue on a private path
-                let tol = path.borrow().dopri.tol;
-                path = Path::start(cur, tol);
+                let (tol, h_max) = {
+                    let p = path.borrow();
+                    (p.dopri.tol, p.dopri.h_max)
+                };
+                path = Path::start(cur, tol, h_max);
                 idx = 0;
             }
             let rec = path.borrow_mut().extend(host, Some((m, ll)), t_end);

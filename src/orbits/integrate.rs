@@ -78,6 +78,18 @@ fn axpy<const N: usize>(y: &State, h: f64, c: [f64; N], k: [&State; N]) -> State
     out
 }
 
+/// (|x1|/|v1|) / (|x0|/|v0|) from squared lengths; 1 where it is not defined (a particle at
+/// the origin or at rest).
+#[inline(always)]
+fn time_scale_ratio(x0_sq: f64, v0_sq: f64, x1_sq: f64, v1_sq: f64) -> f64 {
+    let q = (x1_sq * v0_sq) / (x0_sq * v1_sq);
+    if q.is_finite() && q > 0.0 {
+        q.sqrt()
+    } else {
+        1.0
+    }
+}
+
 /// An adaptive integrator that advances one accepted step at a time.
 #[derive(Debug, Clone)]
 pub struct Dopri5 {
@@ -171,8 +183,18 @@ impl Dopri5 {
                 // PI control: damp growth after a large error on the previous step
                 // no growth right after a rejection (Hairer's DOPRI5)
                 let fac_max = if rejected_here { 1.0 } else { 5.0 };
-                let fac =
-                    (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp()).clamp(0.1, fac_max);
+                // The proposal is scaled by the change of the local time-scale |x|/|v| over
+                // the step: on the way in to pericentre the error grows quickly, and a
+                // proposal from the last error alone is rejected about one time in four.
+                // This anticipates it, as integrating in a time rescaled by |x|/|v| would
+                // (Sundman 1912); the error is still controlled on every step.
+                let m0x = y[0] * y[0] + y[1] * y[1] + y[2] * y[2];
+                let m1x = y_new[0] * y_new[0] + y_new[1] * y_new[1] + y_new[2] * y_new[2];
+                let m0v = y[3] * y[3] + y[4] * y[4] + y[5] * y[5];
+                let m1v = y_new[3] * y_new[3] + y_new[4] * y_new[4] + y_new[5] * y_new[5];
+                let tau_ratio = time_scale_ratio(m0x, m0v, m1x, m1v);
+                let fac = (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp() * tau_ratio)
+                    .clamp(0.1, fac_max);
                 self.ln_err_old = ln_err.max(LN_1EM4);
                 if !last {
                     self.h = h * fac;
@@ -372,8 +394,12 @@ impl Rkn6 {
                             + N_BP6 * k6[i]);
                 }
                 let fac_max = if rejected_here { 1.0 } else { 5.0 };
-                let fac =
-                    (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp()).clamp(0.1, fac_max);
+                let m1v = y_new[3] * y_new[3] + y_new[4] * y_new[4] + y_new[5] * y_new[5];
+                // the next step scaled by the change of the orbit's local time-scale |x|/|v|
+                // over this one (see `Dopri5::step`)
+                let tau_ratio = time_scale_ratio(m0x, m0v, m1x, m1v);
+                let fac = (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp() * tau_ratio)
+                    .clamp(0.1, fac_max);
                 self.ln_err_old = ln_err.max(LN_1EM4);
                 if !last {
                     self.h = h * fac;

@@ -24,6 +24,9 @@ pub use integrate::Tolerances;
 pub struct OrbitOptions {
     /// Relative tolerance of the orbit integrator.
     pub rtol: f64,
+    /// Longest step of the orbit integrator (Gyr): it also sets how often stripping, tidal
+    /// radii and releases are updated far from the host's centre.
+    pub max_step_gyr: f64,
     /// Dynamical friction on/off.
     pub friction: bool,
     /// Tidal stripping on/off.
@@ -50,7 +53,8 @@ pub struct OrbitOptions {
 impl Default for OrbitOptions {
     fn default() -> Self {
         Self {
-            rtol: 1e-5,
+            rtol: 1e-4,
+            max_step_gyr: 0.2,
             friction: true,
             stripping: true,
             stripping_alpha: 0.55,
@@ -71,6 +75,12 @@ impl OrbitOptions {
             self.rtol,
             self.rtol >= 1e-12 && self.rtol <= 1e-2,
             "must be in [1e-12, 1e-2]",
+        );
+        ck.num(
+            "max_step_gyr",
+            self.max_step_gyr,
+            self.max_step_gyr >= 1e-4 && self.max_step_gyr <= 1.0,
+            "must be in [1e-4, 1] Gyr",
         );
         ck.num(
             "stripping_alpha",

@@ -206,7 +206,7 @@ fn val_orbits_vs_galpy() {
 
 /// The integrator in a static potential (halo + disc + bulge): relative energy drift over
 /// 10 Gyr below 1e-6 for five orbits at rtol = 1e-8 (the requirement for validating
-/// the integrator; production runs use orbits.rtol, default 1e-5, whose drift is reported in
+/// the integrator; production runs use orbits.rtol, default 1e-4, whose drift is reported in
 /// docs/validation.md).
 #[test]
 fn val_energy_conservation_static() {
@@ -233,14 +233,14 @@ fn val_energy_conservation_static() {
             (e(&tr.last().unwrap().1) / e(&tr[0].1) - 1.0).abs()
         };
         let drift = drift_at(tol);
-        // the production tolerance (orbits.rtol = 1e-5, absolute 10 rtol as in the subhalo
+        // the production tolerance (orbits.rtol = 1e-4, absolute 10 rtol as in the subhalo
         // orbits): reported in docs/validation.md, not asserted
         let production = drift_at(Tolerances {
-            rtol: 1e-5,
-            atol_pos_kpc: 1e-4,
-            atol_vel_kpc_gyr: 1e-4,
+            rtol: 1e-4,
+            atol_pos_kpc: 1e-3,
+            atol_vel_kpc_gyr: 1e-3,
         });
-        eprintln!("{x:?} {v:?}: drift {drift:.1e} at rtol 1e-8, {production:.1e} at rtol 1e-5");
+        eprintln!("{x:?} {v:?}: drift {drift:.1e} at rtol 1e-8, {production:.1e} at rtol 1e-4");
         assert!(drift < 1e-6, "{x:?}: drift {drift:e}");
     }
 }
