@@ -145,21 +145,28 @@ pub mod profile {
 /// (friction off when `ll` <= 0).
 #[inline]
 fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
+    rhs_parts(host, ll, m, t, y).0
+}
+
+/// `rhs` and its friction part.
+#[inline]
+fn rhs_parts(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> (State, Vec3) {
     #[cfg(feature = "orbit-profile")]
     profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
     let s = host.snapshot(t);
     let x = pos(y);
     let mut a = s.accel(x);
+    let mut af = [0.0; 3];
     if ll > 0.0 && m > 0.0 {
         let r = norm(x);
         let rho = s.friction_density(r);
         let sig = host.sigma(r, t);
-        let af = friction::acceleration(vel(y), rho, sig, m, ll);
+        af = friction::acceleration(vel(y), rho, sig, m, ll);
         a[0] += af[0];
         a[1] += af[1];
         a[2] += af[2];
     }
-    [y[3], y[4], y[5], a[0], a[1], a[2]]
+    ([y[3], y[4], y[5], a[0], a[1], a[2]], af)
 }
 
 /// The host's acceleration alone (the right-hand side of a test particle for `Rkn6`).
@@ -357,6 +364,8 @@ struct Path {
     /// Mass and Coulomb logarithm of the last friction step.
     last_m: f64,
     last_ll: f64,
+    /// The friction part of the integrator's stored derivative.
+    last_friction: Vec3,
     /// Friction-free continuations branched off at a record whose next step had friction.
     branches: Vec<(usize, PathRef)>,
 }
@@ -373,6 +382,7 @@ impl Path {
             k1_free: false,
             last_m: f64::NAN,
             last_ll: f64::NAN,
+            last_friction: [0.0; 3],
             branches: Vec::new(),
         }))
     }
@@ -394,15 +404,28 @@ impl Path {
         let stale = match friction {
             None => !self.k1_free,
             Some((m, ll)) => {
-                let changed = self.k1_free
-                    || self.last_m.is_nan()
+                let fresh = self.k1_free || self.last_m.is_nan();
+                let changed = fresh
                     || (m / self.last_m - 1.0).abs() > 1e-3
                     || (ll / self.last_ll - 1.0).abs() > 1e-3;
+                let mut stale = fresh;
+                if changed && !fresh {
+                    // the friction force is proportional to m ln(Lambda): the stored
+                    // derivative is brought to the new values by rescaling its friction part
+                    // (no new evaluation)
+                    let factor = (m * ll) / (self.last_m * self.last_ll);
+                    stale = !self
+                        .dopri
+                        .add_to_derivative(3, &self.last_friction, factor - 1.0);
+                    for a in &mut self.last_friction {
+                        *a *= factor;
+                    }
+                }
                 if changed {
                     self.last_m = m;
                     self.last_ll = ll;
                 }
-                changed
+                stale
             }
         };
         if stale {
@@ -433,8 +456,16 @@ impl Path {
             }
             Some(_) => {
                 let (ll, m) = (self.last_ll, self.last_m);
-                let mut f = |tt: f64, yy: &State| rhs(host, ll, m, tt, yy);
-                self.dopri.step(&mut f, last.t, &last.y, t_end)
+                // the friction part of the last evaluation, that of the new point
+                let mut fric = [0.0; 3];
+                let mut f = |tt: f64, yy: &State| {
+                    let (d, a_f) = rhs_parts(host, ll, m, tt, yy);
+                    fric = a_f;
+                    d
+                };
+                let out = self.dopri.step(&mut f, last.t, &last.y, t_end);
+                self.last_friction = fric;
+                out
             }
         };
         #[cfg(feature = "orbit-profile")]

@@ -125,6 +125,20 @@ impl Dopri5 {
         self.k1 = None;
     }
 
+    /// Add `factor` times `part` to components `first..first + 3` of the stored derivative
+    /// (for a right-hand side that changed by a known amount). False if none is stored.
+    pub fn add_to_derivative(&mut self, first: usize, part: &[f64; 3], factor: f64) -> bool {
+        match &mut self.k1 {
+            Some(k) => {
+                for i in 0..3 {
+                    k[first + i] += factor * part[i];
+                }
+                true
+            }
+            None => false,
+        }
+    }
+
     /// Take one accepted step from (t, y), at most to `t_stop`. Returns the new (t, y).
     pub fn step<F: FnMut(f64, &State) -> State>(
         &mut self,
@@ -517,5 +531,46 @@ mod tests {
         let p_d = order(err_dopri(80), err_dopri(160));
         assert!((p_n - 6.0).abs() < 0.3, "Nystrom order {p_n}");
         assert!((p_d - 5.0).abs() < 0.3, "Dormand-Prince order {p_d}");
+    }
+
+    /// A stored derivative brought to a changed right-hand side by `add_to_derivative` gives
+    /// the step a fresh evaluation would: x'' = -x - c v with c changed from 0.1 to 0.3
+    /// between two steps.
+    #[test]
+    fn rescaled_derivative_matches_a_fresh_one() {
+        let tol = Tolerances {
+            rtol: 1e-8,
+            atol_pos_kpc: 1e-10,
+            atol_vel_kpc_gyr: 1e-10,
+        };
+        let rhs = |c: f64| {
+            move |_t: f64, y: &State| {
+                [
+                    y[3],
+                    y[4],
+                    y[5],
+                    -y[0] - c * y[3],
+                    -y[1] - c * y[4],
+                    -y[2] - c * y[5],
+                ]
+            }
+        };
+        let y0 = [1.0, 0.0, 0.5, 0.0, 1.0, 0.0];
+        let mut a = Dopri5::new(tol, 0.05, 1.0);
+        let (t1, y1) = a.step(&mut rhs(0.1), 0.0, &y0, 10.0);
+        // the damping part of the stored derivative, per unit c, at the new point
+        let part = [-y1[3], -y1[4], -y1[5]];
+        let mut b = a.clone();
+        b.reset_derivative();
+        assert!(a.add_to_derivative(3, &part, 0.3 - 0.1));
+        let (ta, ya) = a.step(&mut rhs(0.3), t1, &y1, 10.0);
+        let (tb, yb) = b.step(&mut rhs(0.3), t1, &y1, 10.0);
+        assert_eq!(ta, tb);
+        for i in 0..6 {
+            assert!((ya[i] - yb[i]).abs() < 1e-14, "{i}: {} vs {}", ya[i], yb[i]);
+        }
+        // nothing stored: nothing to correct
+        let mut c = Dopri5::new(tol, 0.05, 1.0);
+        assert!(!c.add_to_derivative(3, &part, 1.0));
     }
 }
