@@ -183,6 +183,8 @@ fn val_satellite_counts_in_literature_band() {
     bright.sort();
     massive.sort();
     let (mb, mm) = (bright[bright.len() / 2], massive[massive.len() / 2]);
+    // the values docs/validation.md quotes (shown with --nocapture)
+    eprintln!("median N(M_V < -8) = {mb} {bright:?}; median N(M* > 1e5) = {mm} {massive:?}");
     assert!(
         (8..=45).contains(&mb),
         "median N(M_V < -8) = {mb}: {bright:?}"

@@ -312,6 +312,8 @@ fn val_dynamical_friction_sinking_time() {
         .find(|(_, y)| (y[0] * y[0] + y[1] * y[1] + y[2] * y[2]).sqrt() < 10.0)
         .map(|(t, _)| *t)
         .expect("the satellite sinks");
+    // the values docs/validation.md quotes (shown with --nocapture)
+    eprintln!("sinking 60 -> 10 kpc: orbit {t_orbit:.3} Gyr, classical {t_classical:.3} Gyr");
     assert!(
         (t_orbit / t_classical - 1.0).abs() < 0.15,
         "orbit {t_orbit:.3} Gyr vs classical {t_classical:.3} Gyr"

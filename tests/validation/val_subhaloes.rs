@@ -59,6 +59,12 @@ fn val_evolved_subhalo_mass_function() {
         }
     }
     let k = hs.len() as f64;
+    // the value docs/validation.md quotes (shown with --nocapture)
+    eprintln!(
+        "N(>1e-4 M0) = {:.1}, N(>1e-3 M0) = {:.1} per host",
+        n4 / k,
+        n3 / k
+    );
     assert!(
         (n4 / k / 207.96 - 1.0).abs() < 0.30,
         "N(>1e-4) = {}",
@@ -96,6 +102,12 @@ fn val_radial_distribution() {
         }
     }
     assert!(total > 500.0, "{total}");
+    eprintln!(
+        "fractions inside 0.25, 0.5, 0.75 R_vir: {:.3}, {:.3}, {:.3} (N = {total})",
+        inside[0] / total,
+        inside[1] / total,
+        inside[2] / total
+    );
     for k in 0..3 {
         let f = inside[k] / total;
         let tol = 4.0 * (want[k] * (1.0 - want[k]) / total).sqrt();
