@@ -14,8 +14,15 @@ use crate::error::{InvalidValue, MISSING};
 #[error("{}", .0.iter().map(|p| p.to_string()).collect::<Vec<_>>().join("\n"))]
 pub struct ConfigProblems(pub Vec<InvalidValue>);
 
-/// Read the `[cosmology]` table of a run-config file, ignoring the other tables.
+/// Read the `[cosmology]` table of a run-config file, ignoring the other tables (the first
+/// one of a sweep's `[[cosmology]]` list). Every bad key or value of the table is reported at
+/// once, as for a run configuration.
 pub fn cosmology_from_file(path: &std::path::Path) -> Result<CosmologySection, ConfigProblems> {
+    /// Only the cosmology: other tables are not looked at.
+    #[derive(serde::Deserialize)]
+    struct CosmologyOnly {
+        cosmology: Option<OneOrMany<CosmologySection>>,
+    }
     let text = std::fs::read_to_string(path).map_err(|e| {
         ConfigProblems(vec![InvalidValue::new(
             "config file",
@@ -23,32 +30,29 @@ pub fn cosmology_from_file(path: &std::path::Path) -> Result<CosmologySection, C
             format!("cannot be read: {e}"),
         )])
     })?;
-    let value: toml::Table = toml::from_str(&text).map_err(|e| {
-        ConfigProblems(vec![InvalidValue::new(
-            "config file",
-            path.display(),
-            format!("is not valid TOML: {}", one_line(&e.to_string())),
-        )])
-    })?;
-    let section = value.get("cosmology").cloned().ok_or_else(|| {
-        ConfigProblems(vec![InvalidValue::new(
-            "cosmology",
-            crate::error::MISSING,
-            format!("{} has no [cosmology] table", path.display()),
-        )])
-    })?;
-    // a sweep has an array of [[cosmology]] tables: take the first
-    let section = match section {
-        toml::Value::Array(a) if !a.is_empty() => a[0].clone(),
-        other => other,
-    };
-    section.try_into::<CosmologySection>().map_err(|e| {
-        ConfigProblems(vec![InvalidValue::new(
-            "cosmology",
-            "(table)",
-            one_line(&e.to_string()),
-        )])
-    })
+    let (parsed, mut problems) =
+        parse_collecting::<CosmologyOnly>(&text, &path.display().to_string());
+    match parsed.and_then(|c| c.cosmology) {
+        Some(c) if problems.is_empty() => match c.to_vec().into_iter().next() {
+            Some(first) => Ok(first),
+            None => Err(ConfigProblems(vec![InvalidValue::new(
+                "cosmology",
+                "[]",
+                format!("{} has an empty list of cosmologies", path.display()),
+            )])),
+        },
+        Some(_) => Err(ConfigProblems(problems)),
+        None => {
+            if problems.is_empty() {
+                problems.push(InvalidValue::new(
+                    "cosmology",
+                    crate::error::MISSING,
+                    format!("{} has no [cosmology] table", path.display()),
+                ));
+            }
+            Err(ConfigProblems(problems))
+        }
+    }
 }
 
 /// Deserialize a TOML document and report every bad line, not only the first. The TOML

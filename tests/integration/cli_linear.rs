@@ -125,6 +125,46 @@ fn config_file_cosmology_table() {
     ]);
     assert_eq!(code, 2);
     assert!(err.contains("sigma_8"), "{err}");
+
+    // every bad key of the table at once, one line each
+    std::fs::write(
+        &p,
+        "[run]\nhosts_per_cell = 2\n\n[cosmology]\npreset = \"planck18\"\nsigma_8 = 0.75\n\
+         omega_m = \"0.3\"\nh = 0.7 km\n",
+    )
+    .unwrap();
+    let (code, _, err) = run_cli(&[
+        "linear",
+        "sigma",
+        "--config",
+        p.to_str().unwrap(),
+        "--masses",
+        "1e12",
+    ]);
+    assert_eq!(code, 2);
+    for key in ["cosmology.sigma_8", "cosmology.omega_m", "cosmology.h"] {
+        assert_eq!(
+            err.lines().filter(|l| l.contains(key)).count(),
+            1,
+            "{key}: {err}"
+        );
+    }
+    // a sweep's list of cosmologies: the first one is used
+    std::fs::write(
+        &p,
+        "[[cosmology]]\npreset = \"planck18\"\nsigma8 = 0.75\n\n[[cosmology]]\npreset = \"wmap9\"\n",
+    )
+    .unwrap();
+    let (code, out, err) = run_cli(&[
+        "linear",
+        "sigma",
+        "--config",
+        p.to_str().unwrap(),
+        "--masses",
+        "1e12",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert_rel("first of a sweep", rows(&out)[0][2], s_mod, 1e-12);
 }
 
 /// Each bad input: exit code 2, and an error line that names the flag and the allowed range.
