@@ -310,6 +310,10 @@ fn malformed_configs_are_reported() {
             "orbits.rtol",
         ),
         (
+            base.replace("[tests]", "[orbits]\nmax_step_gyr = 0\n\n[tests]"),
+            "orbits.max_step_gyr",
+        ),
+        (
             base.replace("[tests]", "[orbits]\npericentre_cut_kpc = -1\n\n[tests]"),
             "orbits.pericentre_cut_kpc",
         ),
