@@ -1,7 +1,11 @@
 //! Adaptive Runge–Kutta integration with error control: the Dormand & Prince 1980 (J. Comput.
-//! Appl. Math. 6, 19) 5(4) pair, first-same-as-last, with the standard step-size controller
-//! (Hairer, Norsett & Wanner 1993, Solving ODEs I, sec. II.4; factor 0.9, limits 0.2–5).
-//! Fixed-size state, no allocation.
+//! Appl. Math. 6, 19) 5(4) pair, first-same-as-last, for any right-hand side (orbits with
+//! dynamical friction), and the Runge–Kutta–Nyström 6(4) pair of Dormand, El-Mikkawy & Prince
+//! 1987 (IMA J. Numer. Anal. 7, 235) for accelerations that depend on time and position only.
+//! Both use the step-size controller of Hairer, Norsett & Wanner 1993 (Solving ODEs I,
+//! sec. II.4; factor 0.9, limits 0.2–5) with the PI stabilisation of Gustafsson 1991, and
+//! scale each proposal by the change of |x|/|v| over the step. Fixed-size state, no
+//! allocation.
 
 /// State of an orbit: position (kpc) and velocity (kpc/Gyr).
 pub type State = [f64; 6];
