@@ -354,7 +354,16 @@ pub fn write_figures(
     // pericentres of the selected satellites (fixed bins)
     let peri = &fig.peri_kpc;
     let w = peri.width();
-    let tot: f64 = peri.counts.iter().sum::<f64>().max(1.0);
+    // normalised over every selected satellite, so the density integrates to the fraction
+    // with a pericentre inside the range; the title gives the rest
+    let all = peri.total() + peri.missing;
+    let tot: f64 = all.max(1.0);
+    let peri_title = format!(
+        "smallest pericentre of the selected satellites ({:.0}% with none yet, {:.0}% beyond {} kpc)",
+        100.0 * peri.missing / tot,
+        100.0 * peri.above / tot,
+        peri.hi
+    );
     let px: Vec<f64> = (0..peri.counts.len())
         .flat_map(|k| [peri.lo + k as f64 * w, peri.lo + (k + 1) as f64 * w])
         .collect();
@@ -367,7 +376,7 @@ pub fn write_figures(
         "pericentres.png",
         cumulative_plot(
             &dir.join("pericentres.png"),
-            "smallest pericentre of the selected satellites",
+            &peri_title,
             "r_peri (kpc)",
             "probability density (1/kpc)",
             &px,

@@ -86,6 +86,8 @@ pub struct Binned {
     pub counts: Vec<f64>,
     pub below: f64,
     pub above: f64,
+    /// NaN values (not counted in `total`).
+    pub missing: f64,
 }
 
 impl Binned {
@@ -96,6 +98,7 @@ impl Binned {
             counts: vec![0.0; bins.max(1)],
             below: 0.0,
             above: 0.0,
+            missing: 0.0,
         }
     }
 
@@ -104,9 +107,10 @@ impl Binned {
         (self.hi - self.lo) / self.counts.len() as f64
     }
 
-    /// Count one value (NaN is ignored).
+    /// Count one value (a NaN only in `missing`).
     pub fn add(&mut self, x: f64) {
         if x.is_nan() {
+            self.missing += 1.0;
             return;
         }
         if x < self.lo {
@@ -127,6 +131,7 @@ impl Binned {
         }
         self.below += other.below;
         self.above += other.above;
+        self.missing += other.missing;
     }
 
     /// Number of values counted (in range or not).
@@ -221,6 +226,11 @@ mod binned_tests {
         a.add(-1.0);
         a.add(1e3);
         assert_eq!((a.below, a.above), (1.0, 1.0));
+        // NaN (e.g. no pericentre yet) is counted apart, and merged
+        a.add(f64::NAN);
+        b.add(f64::NAN);
+        a.merge(&b);
+        assert_eq!(a.missing, 2.0);
     }
 }
 
