@@ -146,7 +146,8 @@ impl HostSnapshot {
         let r = r2.sqrt().max(1e-12);
         let m_sph = self.m_s * mu(r / self.r_s)
             + self.m_bulge * r2 / ((r + self.a_bulge) * (r + self.a_bulge));
-        let gs = -G * m_sph / (r2 * r);
+        // (floored like r: finite at the centre itself, where the force is zero)
+        let gs = -G * m_sph / (r2.max(1e-24) * r);
         let big_r2 = x[0] * x[0] + x[1] * x[1];
         let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
         let az = self.a_disc + zeta;
@@ -315,6 +316,14 @@ mod tests {
     }
 
     /// Acceleration = -grad Phi by central differences, at points off every symmetry plane.
+    #[test]
+    fn force_is_finite_at_the_centre() {
+        // at the centre itself the force vanishes by symmetry (it was 0 * inf = NaN)
+        let (a, m) = mw().accel_and_spherical_mass([0.0; 3]);
+        assert!(a.iter().all(|v| *v == 0.0), "{a:?}");
+        assert!(m.is_finite() && m >= 0.0);
+    }
+
     #[test]
     fn force_is_minus_gradient() {
         let p = mw();

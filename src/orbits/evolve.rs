@@ -414,9 +414,11 @@ impl Path {
                     // derivative is brought to the new values by rescaling its friction part
                     // (no new evaluation)
                     let factor = (m * ll) / (self.last_m * self.last_ll);
-                    stale = !self
-                        .dopri
-                        .add_to_derivative(3, &self.last_friction, factor - 1.0);
+                    // (a reset if the old values were degenerate)
+                    stale = !(factor.is_finite()
+                        && self
+                            .dopri
+                            .add_to_derivative(3, &self.last_friction, factor - 1.0));
                     for a in &mut self.last_friction {
                         *a *= factor;
                     }

@@ -82,6 +82,19 @@ fn axpy<const N: usize>(y: &State, h: f64, c: [f64; N], k: [&State; N]) -> State
     out
 }
 
+/// The next attempt after a step whose error is not finite (a right-hand side that returned
+/// NaN or infinity somewhere along it): a fifth of the step, down to the smallest step; a
+/// non-finite error at the smallest step is a bug in the right-hand side and stops the run
+/// with a message instead of looping.
+fn shrink_after_non_finite(h: f64, h_min: f64, t: f64) -> f64 {
+    assert!(
+        h > h_min,
+        "orbit integration: the right-hand side is not finite near t = {t} Gyr even at the \
+         smallest step {h_min:e} Gyr"
+    );
+    (0.2 * h).max(h_min)
+}
+
 /// (|x1|/|v1|) / (|x0|/|v0|) from squared lengths; 1 where it is not defined (a particle at
 /// the origin or at rest).
 #[inline(always)]
@@ -94,7 +107,8 @@ fn time_scale_ratio(x0_sq: f64, v0_sq: f64, x1_sq: f64, v1_sq: f64) -> f64 {
     }
 }
 
-/// An adaptive integrator that advances one accepted step at a time.
+/// An adaptive integrator that advances one accepted step at a time. The state is an orbit's
+/// position and velocity: the error norm and the step proposals use their lengths.
 #[derive(Debug, Clone)]
 pub struct Dopri5 {
     pub tol: Tolerances,
@@ -195,6 +209,12 @@ impl Dopri5 {
                 err2 += (e / sc) * (e / sc);
             }
             let err = (err2 / 6.0).sqrt();
+            if !err.is_finite() {
+                self.rejected += 1;
+                rejected_here = true;
+                self.h = shrink_after_non_finite(h, self.h_min, t);
+                continue;
+            }
             // ln err: err^(-0.17) is the proportional part of the controller
             let ln_err = err.max(1e-10).ln();
             if err <= 1.0 || h <= self.h_min {
@@ -292,8 +312,8 @@ fn nystrom_stage<const N: usize>(y: &State, c: f64, h: f64, a: [f64; N], k: [&Ve
 
 /// An adaptive Runge–Kutta–Nyström integrator for accelerations that depend on time and
 /// position only (no friction): five accelerations per accepted step, four per rejected one,
-/// sixth order with a fourth-order error estimate. Same error norm and step-size controller
-/// as `Dopri5`.
+/// sixth order with a fourth-order error estimate. The error norm and step-size controller of
+/// `Dopri5` (velocities measured against their speed at the start of the step).
 #[derive(Debug, Clone)]
 pub struct Rkn6 {
     pub tol: Tolerances,
@@ -385,8 +405,9 @@ impl Rkn6 {
                 err_x[i] = h2 * ex;
                 err_v[i] = h * ev;
             }
-            // the error norm of `Dopri5`, with the new velocity estimated to first order
-            // (only its length enters the scale)
+            // the error norm of `Dopri5`, except that velocities are measured against |v| at
+            // the start of the step only (the new velocity is computed once the step is
+            // accepted): slightly stricter on the way in to pericentre
             let m0x = y[0] * y[0] + y[1] * y[1] + y[2] * y[2];
             let m1x = y_new[0] * y_new[0] + y_new[1] * y_new[1] + y_new[2] * y_new[2];
             let m0v = y[3] * y[3] + y[4] * y[4] + y[5] * y[5];
@@ -398,6 +419,12 @@ impl Rkn6 {
                     + (err_v[i] / sc_vel) * (err_v[i] / sc_vel);
             }
             let err = (err2 / 6.0).sqrt();
+            if !err.is_finite() {
+                self.rejected += 1;
+                rejected_here = true;
+                self.h = shrink_after_non_finite(h, self.h_min, t);
+                continue;
+            }
             let ln_err = err.max(1e-10).ln();
             if err <= 1.0 || h <= self.h_min {
                 let t_new = if last { t_stop } else { t + h };
@@ -576,5 +603,37 @@ mod tests {
         // nothing stored: nothing to correct
         let mut c = Dopri5::new(tol, 0.05, 1.0);
         assert!(!c.add_to_derivative(3, &part, 1.0));
+    }
+
+    /// A right-hand side that is not finite stops both integrators with a message (it used to
+    /// loop for ever), after trying smaller steps; one that is not finite only over a long
+    /// step is stepped through with shorter ones.
+    #[test]
+    fn non_finite_right_hand_sides() {
+        let tol = Tolerances::default();
+        let nan = std::panic::catch_unwind(|| {
+            let mut d = Dopri5::new(tol, 0.1, 1.0);
+            d.step(&mut |_t: f64, _y: &State| [f64::NAN; 6], 0.0, &[1.0; 6], 1.0)
+        });
+        let msg = nan.unwrap_err();
+        let text = msg.downcast_ref::<String>().cloned().unwrap_or_default();
+        assert!(text.contains("not finite"), "{text}");
+        let nan = std::panic::catch_unwind(|| {
+            let mut d = Rkn6::new(tol, 0.1, 1.0);
+            d.step(&mut |_t: f64, _x: &Vec3| [f64::NAN; 3], 0.0, &[1.0; 6], 1.0)
+        });
+        assert!(nan.is_err());
+        // NaN beyond t = 0.05 only: a first attempt of 0.1 fails, shorter ones go through
+        let mut d = Rkn6::new(tol, 0.1, 1.0);
+        let mut f = |t: f64, x: &Vec3| {
+            if t > 0.05 {
+                [f64::NAN; 3]
+            } else {
+                [-x[0], -x[1], -x[2]]
+            }
+        };
+        let (t1, y1) = d.step(&mut f, 0.0, &[1.0, 0.0, 0.0, 0.0, 1.0, 0.0], 1.0);
+        assert!(t1 > 0.0 && t1 <= 0.05 && y1.iter().all(|v| v.is_finite()));
+        assert!(d.rejected >= 1);
     }
 }
