@@ -392,7 +392,7 @@ impl Path {
         if let Some((_, b)) = self.branches.iter().find(|(i, _)| *i == idx) {
             return b.clone();
         }
-        let b = Self::start(self.recs[idx], self.dopri.tol, self.dopri.h_max);
+        let b = Self::start(self.recs[idx], self.dopri.ctl.tol, self.dopri.ctl.h_max);
         self.branches.push((idx, b.clone()));
         b
     }
@@ -437,13 +437,13 @@ impl Path {
                 None => {
                     self.rkn.reset_derivative();
                     if self.recs.len() > 1 {
-                        self.rkn.h = self.dopri.h;
+                        self.rkn.ctl.h = self.dopri.ctl.h;
                     }
                 }
                 Some(_) => {
                     self.dopri.reset_derivative();
                     if self.k1_free && self.recs.len() > 1 {
-                        self.dopri.h = self.rkn.h;
+                        self.dopri.ctl.h = self.rkn.ctl.h;
                     }
                 }
             }
@@ -723,7 +723,7 @@ fn integrate_subhalo(
                 // others walk on from here without friction: continue on a private path
                 let (tol, h_max) = {
                     let p = path.borrow();
-                    (p.dopri.tol, p.dopri.h_max)
+                    (p.dopri.ctl.tol, p.dopri.ctl.h_max)
                 };
                 path = Path::start(cur, tol, h_max);
                 idx = 0;

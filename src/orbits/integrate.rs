@@ -107,34 +107,111 @@ fn time_scale_ratio(x0_sq: f64, v0_sq: f64, x1_sq: f64, v1_sq: f64) -> f64 {
     }
 }
 
-/// An adaptive integrator that advances one accepted step at a time. The state is an orbit's
-/// position and velocity: the error norm and the step proposals use their lengths.
+/// Step-size control shared by both integrators: the step limits, the current proposal, the
+/// PI controller's memory and the counts of accepted and rejected attempts.
 #[derive(Debug, Clone)]
-pub struct Dopri5 {
+pub struct StepControl {
     pub tol: Tolerances,
     /// Current step proposal (Gyr).
     pub h: f64,
     pub h_min: f64,
     pub h_max: f64,
-    /// Derivative at the current point (first-same-as-last), if known.
-    k1: Option<State>,
     /// ln of the error norm of the last accepted step (PI controller), at least ln 1e-4.
     ln_err_old: f64,
     pub rejected: u64,
     pub accepted: u64,
 }
 
-impl Dopri5 {
-    pub fn new(tol: Tolerances, h0: f64, h_max: f64) -> Self {
+impl StepControl {
+    fn new(tol: Tolerances, h0: f64, h_max: f64) -> Self {
         Self {
             tol,
             h: h0,
             h_min: 1e-12,
             h_max,
-            k1: None,
             ln_err_old: LN_1EM4,
             rejected: 0,
             accepted: 0,
+        }
+    }
+
+    /// The step to attempt from t, and whether it ends at `t_stop`.
+    #[inline(always)]
+    fn attempt(&self, t: f64, t_stop: f64) -> (f64, bool) {
+        let h = self.h.min(self.h_max).max(self.h_min);
+        if t + h >= t_stop {
+            (t_stop - t, true)
+        } else {
+            (h, false)
+        }
+    }
+
+    /// Judge an attempt of step h from t with error norm `err`: true if it is accepted. On a
+    /// rejection the next proposal is set; on an acceptance `accepted` must follow.
+    #[inline(always)]
+    fn judge(&mut self, err: f64, h: f64, t: f64) -> Option<f64> {
+        if !err.is_finite() {
+            self.rejected += 1;
+            self.h = shrink_after_non_finite(h, self.h_min, t);
+            return None;
+        }
+        // ln err: err^(-0.17) is the proportional part of the controller
+        let ln_err = err.max(1e-10).ln();
+        if err <= 1.0 || h <= self.h_min {
+            return Some(ln_err);
+        }
+        self.rejected += 1;
+        self.h = h * (SAFETY * (-EXPO_P * ln_err).exp()).clamp(0.2, 1.0);
+        None
+    }
+
+    /// After an accepted step of size h from y to y_new with ln error `ln_err`: the next
+    /// proposal. PI control damps growth after a large error on the previous step, and there
+    /// is no growth right after a rejection (Hairer's DOPRI5). The proposal is also scaled by
+    /// the change of the local time-scale |x|/|v| over the step: on the way in to pericentre
+    /// the error grows quickly, and a proposal from the last error alone is rejected about
+    /// one time in four. This anticipates it, as integrating in a time rescaled by |x|/|v|
+    /// would (Sundman 1912); the error is still controlled on every step.
+    #[inline(always)]
+    fn accepted(
+        &mut self,
+        h: f64,
+        ln_err: f64,
+        rejected_here: bool,
+        last: bool,
+        y: &State,
+        y_new: &State,
+    ) {
+        let fac_max = if rejected_here { 1.0 } else { 5.0 };
+        let m0x = y[0] * y[0] + y[1] * y[1] + y[2] * y[2];
+        let m1x = y_new[0] * y_new[0] + y_new[1] * y_new[1] + y_new[2] * y_new[2];
+        let m0v = y[3] * y[3] + y[4] * y[4] + y[5] * y[5];
+        let m1v = y_new[3] * y_new[3] + y_new[4] * y_new[4] + y_new[5] * y_new[5];
+        let tau_ratio = time_scale_ratio(m0x, m0v, m1x, m1v);
+        let fac = (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp() * tau_ratio)
+            .clamp(0.1, fac_max);
+        self.ln_err_old = ln_err.max(LN_1EM4);
+        if !last {
+            self.h = h * fac;
+        }
+        self.accepted += 1;
+    }
+}
+
+/// An adaptive integrator that advances one accepted step at a time. The state is an orbit's
+/// position and velocity: the error norm and the step proposals use their lengths.
+#[derive(Debug, Clone)]
+pub struct Dopri5 {
+    pub ctl: StepControl,
+    /// Derivative at the current point (first-same-as-last), if known.
+    k1: Option<State>,
+}
+
+impl Dopri5 {
+    pub fn new(tol: Tolerances, h0: f64, h_max: f64) -> Self {
+        Self {
+            ctl: StepControl::new(tol, h0, h_max),
+            k1: None,
         }
     }
 
@@ -171,11 +248,7 @@ impl Dopri5 {
         };
         let mut rejected_here = false;
         loop {
-            let mut h = self.h.min(self.h_max).max(self.h_min);
-            let last = t + h >= t_stop;
-            if last {
-                h = t_stop - t;
-            }
+            let (h, last) = self.ctl.attempt(t, t_stop);
             let k2 = f(t + C2 * h, &axpy(y, h, [A21], [&k1]));
             let k3 = f(t + C3 * h, &axpy(y, h, [A31, A32], [&k1, &k2]));
             let k4 = f(t + C4 * h, &axpy(y, h, [A41, A42, A43], [&k1, &k2, &k3]));
@@ -199,8 +272,8 @@ impl Dopri5 {
                     y_new[a] * y_new[a] + y_new[a + 1] * y_new[a + 1] + y_new[a + 2] * y_new[a + 2];
                 m0.max(m1).sqrt()
             };
-            let sc_pos = self.tol.atol_pos_kpc + self.tol.rtol * mag(0);
-            let sc_vel = self.tol.atol_vel_kpc_gyr + self.tol.rtol * mag(3);
+            let sc_pos = self.ctl.tol.atol_pos_kpc + self.ctl.tol.rtol * mag(0);
+            let sc_vel = self.ctl.tol.atol_vel_kpc_gyr + self.ctl.tol.rtol * mag(3);
             let mut err2 = 0.0;
             for i in 0..6 {
                 let e = h
@@ -209,41 +282,14 @@ impl Dopri5 {
                 err2 += (e / sc) * (e / sc);
             }
             let err = (err2 / 6.0).sqrt();
-            if !err.is_finite() {
-                self.rejected += 1;
-                rejected_here = true;
-                self.h = shrink_after_non_finite(h, self.h_min, t);
-                continue;
-            }
-            // ln err: err^(-0.17) is the proportional part of the controller
-            let ln_err = err.max(1e-10).ln();
-            if err <= 1.0 || h <= self.h_min {
-                // PI control: damp growth after a large error on the previous step
-                // no growth right after a rejection (Hairer's DOPRI5)
-                let fac_max = if rejected_here { 1.0 } else { 5.0 };
-                // The proposal is scaled by the change of the local time-scale |x|/|v| over
-                // the step: on the way in to pericentre the error grows quickly, and a
-                // proposal from the last error alone is rejected about one time in four.
-                // This anticipates it, as integrating in a time rescaled by |x|/|v| would
-                // (Sundman 1912); the error is still controlled on every step.
-                let m0x = y[0] * y[0] + y[1] * y[1] + y[2] * y[2];
-                let m1x = y_new[0] * y_new[0] + y_new[1] * y_new[1] + y_new[2] * y_new[2];
-                let m0v = y[3] * y[3] + y[4] * y[4] + y[5] * y[5];
-                let m1v = y_new[3] * y_new[3] + y_new[4] * y_new[4] + y_new[5] * y_new[5];
-                let tau_ratio = time_scale_ratio(m0x, m0v, m1x, m1v);
-                let fac = (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp() * tau_ratio)
-                    .clamp(0.1, fac_max);
-                self.ln_err_old = ln_err.max(LN_1EM4);
-                if !last {
-                    self.h = h * fac;
+            match self.ctl.judge(err, h, t) {
+                Some(ln_err) => {
+                    self.ctl.accepted(h, ln_err, rejected_here, last, y, &y_new);
+                    self.k1 = Some(k7);
+                    return (if last { t_stop } else { t + h }, y_new);
                 }
-                self.k1 = Some(k7);
-                self.accepted += 1;
-                return (if last { t_stop } else { t + h }, y_new);
+                None => rejected_here = true,
             }
-            self.rejected += 1;
-            rejected_here = true;
-            self.h = h * (SAFETY * (-EXPO_P * ln_err).exp()).clamp(0.2, 1.0);
         }
     }
 }
@@ -316,29 +362,16 @@ fn nystrom_stage<const N: usize>(y: &State, c: f64, h: f64, a: [f64; N], k: [&Ve
 /// `Dopri5` (velocities measured against their speed at the start of the step).
 #[derive(Debug, Clone)]
 pub struct Rkn6 {
-    pub tol: Tolerances,
-    /// Current step proposal (Gyr).
-    pub h: f64,
-    pub h_min: f64,
-    pub h_max: f64,
+    pub ctl: StepControl,
     /// Acceleration at the current point (first-same-as-last), if known.
     k1: Option<Vec3>,
-    ln_err_old: f64,
-    pub rejected: u64,
-    pub accepted: u64,
 }
 
 impl Rkn6 {
     pub fn new(tol: Tolerances, h0: f64, h_max: f64) -> Self {
         Self {
-            tol,
-            h: h0,
-            h_min: 1e-12,
-            h_max,
+            ctl: StepControl::new(tol, h0, h_max),
             k1: None,
-            ln_err_old: LN_1EM4,
-            rejected: 0,
-            accepted: 0,
         }
     }
 
@@ -361,11 +394,7 @@ impl Rkn6 {
         };
         let mut rejected_here = false;
         loop {
-            let mut h = self.h.min(self.h_max).max(self.h_min);
-            let last = t + h >= t_stop;
-            if last {
-                h = t_stop - t;
-            }
+            let (h, last) = self.ctl.attempt(t, t_stop);
             let k2 = f(t + N_C2 * h, &nystrom_stage(y, N_C2, h, [N_A21], [&k1]));
             let k3 = f(
                 t + N_C3 * h,
@@ -411,51 +440,33 @@ impl Rkn6 {
             let m0x = y[0] * y[0] + y[1] * y[1] + y[2] * y[2];
             let m1x = y_new[0] * y_new[0] + y_new[1] * y_new[1] + y_new[2] * y_new[2];
             let m0v = y[3] * y[3] + y[4] * y[4] + y[5] * y[5];
-            let sc_pos = self.tol.atol_pos_kpc + self.tol.rtol * m0x.max(m1x).sqrt();
-            let sc_vel = self.tol.atol_vel_kpc_gyr + self.tol.rtol * m0v.sqrt();
+            let sc_pos = self.ctl.tol.atol_pos_kpc + self.ctl.tol.rtol * m0x.max(m1x).sqrt();
+            let sc_vel = self.ctl.tol.atol_vel_kpc_gyr + self.ctl.tol.rtol * m0v.sqrt();
             let mut err2 = 0.0;
             for i in 0..3 {
                 err2 += (err_x[i] / sc_pos) * (err_x[i] / sc_pos)
                     + (err_v[i] / sc_vel) * (err_v[i] / sc_vel);
             }
             let err = (err2 / 6.0).sqrt();
-            if !err.is_finite() {
-                self.rejected += 1;
-                rejected_here = true;
-                self.h = shrink_after_non_finite(h, self.h_min, t);
-                continue;
-            }
-            let ln_err = err.max(1e-10).ln();
-            if err <= 1.0 || h <= self.h_min {
-                let t_new = if last { t_stop } else { t + h };
-                let k6 = f(t_new, &[y_new[0], y_new[1], y_new[2]]);
-                for i in 0..3 {
-                    y_new[i + 3] = y[i + 3]
-                        + h * (N_BP1 * k1[i]
-                            + N_BP2 * k2[i]
-                            + N_BP3 * k3[i]
-                            + N_BP4 * k4[i]
-                            + N_BP5 * k5[i]
-                            + N_BP6 * k6[i]);
+            match self.ctl.judge(err, h, t) {
+                Some(ln_err) => {
+                    let t_new = if last { t_stop } else { t + h };
+                    let k6 = f(t_new, &[y_new[0], y_new[1], y_new[2]]);
+                    for i in 0..3 {
+                        y_new[i + 3] = y[i + 3]
+                            + h * (N_BP1 * k1[i]
+                                + N_BP2 * k2[i]
+                                + N_BP3 * k3[i]
+                                + N_BP4 * k4[i]
+                                + N_BP5 * k5[i]
+                                + N_BP6 * k6[i]);
+                    }
+                    self.ctl.accepted(h, ln_err, rejected_here, last, y, &y_new);
+                    self.k1 = Some(k6);
+                    return (t_new, y_new);
                 }
-                let fac_max = if rejected_here { 1.0 } else { 5.0 };
-                let m1v = y_new[3] * y_new[3] + y_new[4] * y_new[4] + y_new[5] * y_new[5];
-                // the next step scaled by the change of the orbit's local time-scale |x|/|v|
-                // over this one (see `Dopri5::step`)
-                let tau_ratio = time_scale_ratio(m0x, m0v, m1x, m1v);
-                let fac = (SAFETY * (BETA * self.ln_err_old - EXPO_P * ln_err).exp() * tau_ratio)
-                    .clamp(0.1, fac_max);
-                self.ln_err_old = ln_err.max(LN_1EM4);
-                if !last {
-                    self.h = h * fac;
-                }
-                self.k1 = Some(k6);
-                self.accepted += 1;
-                return (t_new, y_new);
+                None => rejected_here = true,
             }
-            self.rejected += 1;
-            rejected_here = true;
-            self.h = h * (SAFETY * (-EXPO_P * ln_err).exp()).clamp(0.2, 1.0);
         }
     }
 }
@@ -533,7 +544,7 @@ mod tests {
         let err_nystrom = |n: usize| {
             let h = t_end / n as f64;
             let mut d = Rkn6::new(loose, h, h);
-            d.h_min = h;
+            d.ctl.h_min = h;
             let mut f = |_t: f64, x: &Vec3| accel(x);
             let (mut t, mut y) = (0.0, y0);
             while t < t_end {
@@ -544,7 +555,7 @@ mod tests {
         let err_dopri = |n: usize| {
             let h = t_end / n as f64;
             let mut d = Dopri5::new(loose, h, h);
-            d.h_min = h;
+            d.ctl.h_min = h;
             let mut f = |_t: f64, y: &State| {
                 let a = accel(&[y[0], y[1], y[2]]);
                 [y[3], y[4], y[5], a[0], a[1], a[2]]
@@ -613,7 +624,12 @@ mod tests {
         let tol = Tolerances::default();
         let nan = std::panic::catch_unwind(|| {
             let mut d = Dopri5::new(tol, 0.1, 1.0);
-            d.step(&mut |_t: f64, _y: &State| [f64::NAN; 6], 0.0, &[1.0; 6], 1.0)
+            d.step(
+                &mut |_t: f64, _y: &State| [f64::NAN; 6],
+                0.0,
+                &[1.0; 6],
+                1.0,
+            )
         });
         let msg = nan.unwrap_err();
         let text = msg.downcast_ref::<String>().cloned().unwrap_or_default();
@@ -634,6 +650,6 @@ mod tests {
         };
         let (t1, y1) = d.step(&mut f, 0.0, &[1.0, 0.0, 0.0, 0.0, 1.0, 0.0], 1.0);
         assert!(t1 > 0.0 && t1 <= 0.05 && y1.iter().all(|v| v.is_finite()));
-        assert!(d.rejected >= 1);
+        assert!(d.ctl.rejected >= 1);
     }
 }

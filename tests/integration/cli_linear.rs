@@ -92,19 +92,22 @@ fn flags_give_the_same_as_the_preset() {
 fn config_file_cosmology_table() {
     let dir = tempfile::tempdir().unwrap();
     let p = dir.path().join("run.toml");
+    let sigma_of = |p: &std::path::Path| {
+        run_cli(&[
+            "linear",
+            "sigma",
+            "--config",
+            p.to_str().unwrap(),
+            "--masses",
+            "1e12",
+        ])
+    };
     std::fs::write(
         &p,
         "[cosmology]\npreset = \"planck18\"\nsigma8 = 0.75\n\n[other]\nanything = 1\n",
     )
     .unwrap();
-    let (code, out, err) = run_cli(&[
-        "linear",
-        "sigma",
-        "--config",
-        p.to_str().unwrap(),
-        "--masses",
-        "1e12",
-    ]);
+    let (code, out, err) = sigma_of(&p);
     assert_eq!(code, 0, "{err}");
     let (_, base, _) = run_cli(&[
         "linear", "sigma", "--preset", "planck18", "--masses", "1e12",
@@ -115,14 +118,7 @@ fn config_file_cosmology_table() {
     assert_rel("sigma ratio", s_mod / s_base, 0.75 / 0.8102, 1e-6);
 
     std::fs::write(&p, "[cosmology]\npreset = \"planck18\"\nsigma_8 = 0.75\n").unwrap();
-    let (code, _, err) = run_cli(&[
-        "linear",
-        "sigma",
-        "--config",
-        p.to_str().unwrap(),
-        "--masses",
-        "1e12",
-    ]);
+    let (code, _, err) = sigma_of(&p);
     assert_eq!(code, 2);
     assert!(err.contains("sigma_8"), "{err}");
 
@@ -133,14 +129,7 @@ fn config_file_cosmology_table() {
          omega_m = \"0.3\"\nh = 0.7 km\n",
     )
     .unwrap();
-    let (code, _, err) = run_cli(&[
-        "linear",
-        "sigma",
-        "--config",
-        p.to_str().unwrap(),
-        "--masses",
-        "1e12",
-    ]);
+    let (code, _, err) = sigma_of(&p);
     assert_eq!(code, 2);
     for key in ["cosmology.sigma_8", "cosmology.omega_m", "cosmology.h"] {
         assert_eq!(
@@ -155,14 +144,7 @@ fn config_file_cosmology_table() {
         "[[cosmology]]\npreset = \"planck18\"\nsigma8 = 0.75\n\n[[cosmology]]\npreset = \"wmap9\"\n",
     )
     .unwrap();
-    let (code, out, err) = run_cli(&[
-        "linear",
-        "sigma",
-        "--config",
-        p.to_str().unwrap(),
-        "--masses",
-        "1e12",
-    ]);
+    let (code, out, err) = sigma_of(&p);
     assert_eq!(code, 0, "{err}");
     assert_rel("first of a sweep", rows(&out)[0][2], s_mod, 1e-12);
 }
