@@ -416,6 +416,7 @@ impl Rkn6 {
             );
             let ks = [&k1, &k2, &k3, &k4, &k5];
             let b = [N_B1, N_B2, N_B3, N_B4, N_B5];
+            let bp = [N_BP1, N_BP2, N_BP3, N_BP4, N_BP5];
             let h2 = h * h;
             let mut y_new = *y;
             let mut err_x = [0.0; 3];
@@ -426,7 +427,6 @@ impl Rkn6 {
                     s += b[j] * ks[j][i];
                     ex += (b[j] - N_BH[j]) * ks[j][i];
                 }
-                let bp = [N_BP1, N_BP2, N_BP3, N_BP4, N_BP5];
                 for j in 0..5 {
                     ev += (bp[j] - N_BPH[j]) * ks[j][i];
                 }
