@@ -9,7 +9,7 @@ use rand_distr::{Distribution, StandardNormal};
 use super::observability::SurveyOptions;
 use super::{absolute_mv, GalaxyOptions};
 use crate::cosmology::Cosmology;
-use crate::orbits::{SubhaloResult, SubhaloStatus};
+use crate::orbits::SubhaloResult;
 
 /// A galaxy on one subhalo.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -50,7 +50,7 @@ pub fn paint<R: Rng>(
             } else {
                 f64::NAN
             };
-            let alive = s.status != SubhaloStatus::DisruptedPhysical && s.pos_kpc[0].is_finite();
+            let alive = s.status.alive() && s.pos_kpc[0].is_finite();
             let d = if alive {
                 survey.helio(s.pos_kpc).0
             } else {

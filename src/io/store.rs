@@ -182,6 +182,16 @@ pub const SUB_COLUMNS: &[Spec] = &[
         "first pericentre inside the disc cut (NaN: none)",
     ),
     (
+        "t_merge_gyr",
+        "Gyr",
+        "merger with the centre of the halo it orbited (status 3, 4; NaN otherwise)",
+    ),
+    (
+        "bound_to_branch",
+        "index",
+        "branch of the halo it orbits at the end or merged with (0: the host)",
+    ),
+    (
         "x_kpc",
         "kpc",
         "position today (host frame, disc in the x-y plane)",
@@ -204,7 +214,8 @@ pub const SUB_COLUMNS: &[Spec] = &[
     (
         "status",
         "code",
-        "0 surviving, 1 disrupted by stripping, 2 still inside its parent",
+        "0 in the host, 1 disrupted by stripping, 2 inside another subhalo, 3 merged with \
+         its parent's centre, 4 merged with the central galaxy",
     ),
     ("occupied", "flag", "1: hosts a galaxy"),
     ("mstar_msun", "Msun", "stellar mass (0 if dark)"),
@@ -292,6 +303,8 @@ fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
         Col::U32(rows.iter().map(|x| x.2.n_host_crossings).collect()),
         f(&|s| s.t_disrupt_physical_gyr),
         f(&|s| s.t_disrupt_pericentre_gyr),
+        f(&|s| s.t_merge_gyr),
+        Col::U32(rows.iter().map(|x| x.2.bound_to_branch).collect()),
         f(&|s| s.pos_kpc[0]),
         f(&|s| s.pos_kpc[1]),
         f(&|s| s.pos_kpc[2]),
@@ -380,7 +393,7 @@ impl StoreWriter {
     /// Create a new store file with its tables.
     pub fn create(path: &Path, meta: &StoreMeta) -> hdf5::Result<Self> {
         let f = hdf5::File::create(path)?;
-        set_str_attr(&f, "format", "retinue run store, version 1")?;
+        set_str_attr(&f, "format", STORE_FORMAT)?;
         set_str_attr(&f, "config", &meta.config_toml)?;
         set_num_attr(&f, "master_seed", meta.master_seed)?;
         set_str_attr(&f, "generator", &meta.generator)?;
@@ -556,6 +569,11 @@ impl StoreWriter {
     }
 }
 
+/// The `format` attribute of the stores this version writes. Version 2: satellites of
+/// satellites evolve inside their parents, with status codes 0-4 and the columns
+/// `t_merge_gyr` and `bound_to_branch`.
+pub const STORE_FORMAT: &str = "retinue run store, version 2";
+
 /// Metadata of an existing store.
 pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     let e = |x| IoError::hdf5(path, x);
@@ -569,6 +587,16 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
         return Err(IoError::Format {
             path: path.display().to_string(),
             reason: format!("not a retinue run store (format `{fmt}`)"),
+        });
+    }
+    if fmt != STORE_FORMAT {
+        return Err(IoError::Format {
+            path: path.display().to_string(),
+            reason: format!(
+                "written by another version of retinue (`{fmt}`; this version reads \
+                 `{STORE_FORMAT}`, in which satellites of satellites evolve inside their \
+                 parents and the status codes differ); run `retinue run` again to rebuild it"
+            ),
         });
     }
     Ok(StoreMeta {

@@ -1,36 +1,69 @@
-//! Evolving every accreted subhalo of one host: initial orbit at the host's virial radius,
-//! integration with dynamical friction and tidal stripping, disruption under two models, and
-//! the events along the orbit. Higher-order subhaloes ride with their parent until the
-//! parent's tidal radius shrinks inside their orbit (or the parent is disrupted); then they
-//! orbit the host from the parent's position and velocity.
-
-use std::cell::RefCell;
-use std::rc::Rc;
+//! Evolving every accreted subhalo of one host, of every order: its infall orbit, its
+//! integration with dynamical friction and tidal stripping in the halo it orbits (the host,
+//! or its parent: `in_parent`), disruption, mergers with its parent's centre or with the
+//! central galaxy, release from its parent, and the events of its orbit in the host
+//! (`events`).
+//!
+//! Order of work: each first-order subhalo is followed from its infall to the end, then each
+//! of its children (depth first, lowest branch first), so that every halo a subhalo orbits is
+//! complete before the subhalo is followed; a subhalo's trajectory is kept (as the dense
+//! output its children are integrated against) only while its group is being followed.
+//! Random numbers: every accretion's infall orbit is drawn first, in branch order, from the
+//! host's orbit stream.
 
 use rand::Rng;
 
+use super::events::{hermite_extremum, Tracker};
 use super::friction;
+use super::in_parent::{dot, Body, Chain, FieldPoint, Frame, Point};
 use super::initial::{initial_state, Li20};
 use super::integrate::{Dopri5, Rkn6, State, Tolerances, Vec3};
 use super::stripping::{Stripping, SubhaloStructure};
 use super::OrbitOptions;
 use crate::constants::{G_KPC3_PER_MSUN_GYR2 as G, KMS_IN_KPC_PER_GYR as KMS};
 use crate::halo::concentration::{c_of_m, ConcentrationModel};
+use crate::halo::nfw::mu;
 use crate::halo::MassDefinition;
 use crate::host::{EvolvingHost, Potential};
 use crate::linear::LinearTheory;
-use crate::trees::HostHistory;
+use crate::trees::{Accretion, HostHistory};
 
 /// What became of a subhalo by the end of the run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[repr(u8)]
 pub enum SubhaloStatus {
-    /// Bound and orbiting the host (or outside it as a backsplash object).
-    Surviving = 0,
-    /// Bound fraction (or tidal radius) fell below the physical threshold.
-    DisruptedPhysical = 1,
-    /// Still inside its parent subhalo at the end (never released).
-    InParent = 2,
+    /// Bound, orbiting the host on its own (inside R_vir, or outside it as a backsplash
+    /// object).
+    InHost = 0,
+    /// Stripped below the physical threshold (bound fraction, or tidal radius).
+    Disrupted = 1,
+    /// Bound, inside another subhalo (a satellite of a satellite), at its own position.
+    InSubhalo = 2,
+    /// Sank under friction into the core of the subhalo it orbited (inside its scale radius)
+    /// and was dissolved there, or until that subhalo's centre lay inside its own bound body:
+    /// merged with it.
+    MergedWithParent = 3,
+    /// Sank to the host's centre and merged with the central galaxy.
+    MergedWithCentral = 4,
+}
+
+impl SubhaloStatus {
+    /// Still a distinct bound object at the end (in the host or inside another subhalo).
+    pub fn alive(self) -> bool {
+        matches!(self, SubhaloStatus::InHost | SubhaloStatus::InSubhalo)
+    }
+
+    /// The status with this code (None for an unknown code).
+    pub fn from_code(code: u8) -> Option<Self> {
+        Some(match code {
+            0 => SubhaloStatus::InHost,
+            1 => SubhaloStatus::Disrupted,
+            2 => SubhaloStatus::InSubhalo,
+            3 => SubhaloStatus::MergedWithParent,
+            4 => SubhaloStatus::MergedWithCentral,
+            _ => return None,
+        })
+    }
 }
 
 /// One subhalo's history and final state.
@@ -50,9 +83,9 @@ pub struct SubhaloResult {
     pub m_host_at_infall_msun: f64,
     /// First crossing of the host's virial radius (its group's merger with the main branch).
     pub t_first_host_infall_gyr: f64,
-    /// Last inward crossing of the evolving virial radius.
+    /// Last crossing of the host's evolving virial radius made while moving inward.
     pub t_last_host_infall_gyr: f64,
-    /// When it left its parent to orbit the host (NaN for order 1 or if never).
+    /// When it left its parent (NaN for order 1, or if it never did).
     pub t_release_gyr: f64,
     pub n_pericentres: u32,
     pub t_peri_first_gyr: f64,
@@ -64,6 +97,11 @@ pub struct SubhaloResult {
     pub n_host_crossings: u32,
     pub t_disrupt_physical_gyr: f64,
     pub t_disrupt_pericentre_gyr: f64,
+    /// When it merged with the centre of the subhalo it orbited or with the central galaxy
+    /// (NaN unless status 3 or 4).
+    pub t_merge_gyr: f64,
+    /// The branch of the halo it orbits at the end, or merged with (0: the host).
+    pub bound_to_branch: u32,
     pub pos_kpc: [f64; 3],
     pub vel_kms: [f64; 3],
     pub r_kpc: f64,
@@ -81,11 +119,6 @@ fn norm(a: [f64; 3]) -> f64 {
 }
 
 #[inline]
-fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
-    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
-}
-
-#[inline]
 fn pos(y: &State) -> [f64; 3] {
     [y[0], y[1], y[2]]
 }
@@ -93,6 +126,15 @@ fn pos(y: &State) -> [f64; 3] {
 #[inline]
 fn vel(y: &State) -> [f64; 3] {
     [y[3], y[4], y[5]]
+}
+
+#[inline]
+fn add6(a: &State, b: &State) -> State {
+    let mut o = *a;
+    for i in 0..6 {
+        o[i] += b[i];
+    }
+    o
 }
 
 /// Coulomb logarithm at the satellite's position (held fixed over one integrator step: it
@@ -108,19 +150,28 @@ fn coulomb_log_at(host: &EvolvingHost, t: f64, y: &State, m: f64) -> f64 {
 #[cfg(feature = "orbit-profile")]
 pub mod profile {
     use std::cell::{Cell, RefCell};
-    /// Kinds of step, by the smaller distance from the host's centre at its two ends and by
-    /// whether it crossed the disc plane or ended within 0.5 kpc of it.
-    pub const STEP_KINDS: [&str; 7] = [
+    /// Kinds of step: by the smaller distance from the host's centre at the two ends and by
+    /// whether it crossed the disc plane or ended within 0.5 kpc of it, for subhaloes of the
+    /// host; steps inside another subhalo apart.
+    pub const STEP_KINDS: [&str; 11] = [
         "r < 10 kpc, at the disc plane",
         "r < 10 kpc, away from it",
         "10-30 kpc, at the disc plane",
         "10-30 kpc, away from it",
         "30-100 kpc",
         ">= 100 kpc",
-        "with friction",
+        "in the host, with friction",
+        "in a field subhalo, no friction",
+        "in a field subhalo, with friction",
+        "in a subhalo in the host, no friction",
+        "in a subhalo in the host, with friction",
     ];
-    /// The kind of a step from y0 to y1 (`STEP_KINDS`).
-    pub fn step_kind(y0: &super::State, y1: &super::State, friction: bool) -> usize {
+    /// The kind of a step from y0 to y1 (`STEP_KINDS`); `in_sub`: inside a subhalo (0: no, 1:
+    /// its group outside the host, 2: inside the host).
+    pub fn step_kind(y0: &super::State, y1: &super::State, friction: bool, in_sub: u8) -> usize {
+        if in_sub > 0 {
+            return 5 + 2 * in_sub as usize + usize::from(friction);
+        }
         let r = super::norm(super::pos(y0)).min(super::norm(super::pos(y1)));
         let plane = (y0[2] < 0.0) != (y1[2] < 0.0) || y0[2].abs().min(y1[2].abs()) < 0.5;
         match () {
@@ -136,13 +187,19 @@ pub mod profile {
         pub static PER_SUBHALO: RefCell<Vec<(u64, super::SubhaloResult)>> =
             const { RefCell::new(Vec::new()) };
         /// Per kind of step (`STEP_KINDS`): right-hand sides, accepted steps, summed length.
-        pub static BY_STEP: RefCell<[(u64, u64, f64); 7]> =
-            const { RefCell::new([(0, 0, 0.0); 7]) };
+        pub static BY_STEP: RefCell<[(u64, u64, f64); 11]> =
+            const { RefCell::new([(0, 0, 0.0); 11]) };
     }
 }
 
-/// Right-hand side: host gravity plus friction on mass m with Coulomb logarithm `ll`
-/// (friction off when `ll` <= 0).
+#[inline(always)]
+fn count_rhs() {
+    #[cfg(feature = "orbit-profile")]
+    profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
+}
+
+/// Right-hand side in the host: host gravity plus friction on mass m with Coulomb logarithm
+/// `ll` (friction off when `ll` <= 0).
 #[inline]
 fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
     rhs_parts(host, ll, m, t, y).0
@@ -151,8 +208,7 @@ fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
 /// `rhs` and its friction part.
 #[inline]
 fn rhs_parts(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> (State, Vec3) {
-    #[cfg(feature = "orbit-profile")]
-    profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
+    count_rhs();
     let s = host.snapshot(t);
     let x = pos(y);
     let mut a = s.accel(x);
@@ -172,192 +228,16 @@ fn rhs_parts(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> (State,
 /// The host's acceleration alone (the right-hand side of a test particle for `Rkn6`).
 #[inline]
 fn accel_free(host: &EvolvingHost, t: f64, x: &Vec3) -> Vec3 {
-    #[cfg(feature = "orbit-profile")]
-    profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
+    count_rhs();
     host.snapshot(t).accel(*x)
 }
 
-/// Cubic Hermite interpolation of r(s), s in [0, 1], from end values and derivatives
-/// (dr/ds = h v_r); returns the extremum inside (s, r) if there is one.
-fn hermite_extremum(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
-    // r(s) = a s^3 + b s^2 + c s + d
-    let a = 2.0 * r0 - 2.0 * r1 + d0 + d1;
-    let b = -3.0 * r0 + 3.0 * r1 - 2.0 * d0 - d1;
-    let c = d0;
-    let eval = |s: f64| ((a * s + b) * s + c) * s + r0;
-    // r'(s) = 3a s^2 + 2b s + c = 0
-    let roots: Vec<f64> = if a.abs() < 1e-14 * (b.abs() + c.abs()) {
-        if b.abs() > 0.0 {
-            vec![-c / (2.0 * b)]
-        } else {
-            vec![]
-        }
-    } else {
-        let disc = 4.0 * b * b - 12.0 * a * c;
-        if disc < 0.0 {
-            vec![]
-        } else {
-            let q = disc.sqrt();
-            vec![(-2.0 * b - q) / (6.0 * a), (-2.0 * b + q) / (6.0 * a)]
-        }
-    };
-    roots
-        .into_iter()
-        .filter(|s| (0.0..=1.0).contains(s))
-        .map(|s| (s, eval(s)))
-        .next()
-}
-
-/// Events and state of one orbit while it is integrated. A subhalo released from its parent
-/// starts with a copy of its parent's tracker: the pericentres and crossings it made inside
-/// its parent are its own too.
-#[derive(Debug, Clone, Copy)]
-struct Tracker {
-    n_peri: u32,
-    t_peri_first: f64,
-    r_peri_first: f64,
-    r_peri_min: f64,
-    t_peri_last: f64,
-    r_peri_last: f64,
-    r_apo_last: f64,
-    t_last_infall: f64,
-    n_cross: u32,
-    been_inside: bool,
-    t_disrupt_peri: f64,
-    /// The next step is the first after the infall at the virial radius.
-    at_start: bool,
-}
-
-impl Tracker {
-    /// At the infall through the host's virial radius at `t_start`: that is the first
-    /// crossing (counted here, not left to the round-off of r - R_vir = 0 at the start).
-    fn new(t_start: f64) -> Self {
-        Self {
-            n_peri: 0,
-            t_peri_first: f64::NAN,
-            r_peri_first: f64::NAN,
-            r_peri_min: f64::NAN,
-            t_peri_last: f64::NAN,
-            r_peri_last: f64::NAN,
-            r_apo_last: f64::NAN,
-            t_last_infall: t_start,
-            n_cross: 1,
-            been_inside: false,
-            t_disrupt_peri: f64::NAN,
-            at_start: true,
-        }
-    }
-
-    /// Look for events between two accepted steps (rv0, rv1: the host's R_vir at t0 and t1).
-    #[allow(clippy::too_many_arguments)]
-    fn step(&mut self, t0: f64, y0: &State, t1: f64, y1: &State, rv0: f64, rv1: f64, r_cut: f64) {
-        let h = t1 - t0;
-        let (x0, x1) = (pos(y0), pos(y1));
-        let (r0, r1) = (norm(x0), norm(x1));
-        let vr0 = dot(x0, vel(y0)) / r0;
-        let vr1 = dot(x1, vel(y1)) / r1;
-        if (vr0 < 0.0 && vr1 >= 0.0) || (vr0 > 0.0 && vr1 <= 0.0) {
-            let (s, r) = hermite_extremum(r0, r1, vr0 * h, vr1 * h).unwrap_or(if r0 < r1 {
-                (0.0, r0)
-            } else {
-                (1.0, r1)
-            });
-            let t = t0 + s * h;
-            if vr0 < 0.0 {
-                self.n_peri += 1;
-                if self.n_peri == 1 {
-                    self.t_peri_first = t;
-                    self.r_peri_first = r;
-                }
-                self.r_peri_min = if self.r_peri_min.is_nan() {
-                    r
-                } else {
-                    self.r_peri_min.min(r)
-                };
-                self.t_peri_last = t;
-                self.r_peri_last = r;
-                if r < r_cut && self.t_disrupt_peri.is_nan() {
-                    self.t_disrupt_peri = t;
-                }
-            } else {
-                self.r_apo_last = r;
-            }
-        }
-        let (d0, d1) = (r0 - rv0, r1 - rv1);
-        if std::mem::take(&mut self.at_start) {
-            // leaving the infall point: its crossing is already counted, unless the first
-            // step ends outside again (the virial radius was only touched)
-            if d1 < 0.0 {
-                self.been_inside = true;
-            } else {
-                self.n_cross = 0;
-            }
-            return;
-        }
-        if d1 < 0.0 || d0 < 0.0 {
-            self.been_inside = true;
-        }
-        if d0 >= 0.0 && d1 < 0.0 {
-            // inward crossing: linear interpolation of r - R_vir
-            self.n_cross += 1;
-            self.t_last_infall = t0 + h * d0 / (d0 - d1);
-        } else if d0 < 0.0 && d1 >= 0.0 {
-            self.n_cross += 1;
-        }
-    }
-}
-
-/// One accepted point of an orbit and the host quantities there, computed once and shared by
-/// every subhalo that follows this orbit.
-#[derive(Debug, Clone, Copy)]
-struct Record {
-    t: f64,
-    y: State,
-    r_vir: f64,
-    m_vir: f64,
-    /// The host's spherical mass inside |x| (Msun).
-    m_enc: f64,
-    /// Omega^2 - d^2 Phi/dr^2 (Gyr^-2), the denominator of the tidal radius.
-    denom: f64,
-    /// The step that ended here was taken without dynamical friction.
-    free: bool,
-}
-
-impl Record {
-    fn at(host: &EvolvingHost, t: f64, y: State, free: bool) -> Self {
-        let s = host.snapshot(t);
-        let x = pos(&y);
-        let v = vel(&y);
-        let (m_enc, d2phi) = s.tidal_terms(x);
-        let r2 = dot(x, x).max(1e-300);
-        let l = [
-            x[1] * v[2] - x[2] * v[1],
-            x[2] * v[0] - x[0] * v[2],
-            x[0] * v[1] - x[1] * v[0],
-        ];
-        Self {
-            t,
-            y,
-            r_vir: s.r_vir,
-            m_vir: s.m_vir,
-            m_enc,
-            denom: dot(l, l) / (r2 * r2) - d2phi,
-            free,
-        }
-    }
-}
-
-/// An orbit through the host as a list of accepted integrator steps. A sub-subhalo leaves its
-/// parent at the parent's position and velocity, so while neither feels dynamical friction
-/// their orbits are the same test-particle orbit: it is integrated once and every member of
-/// the group walks it, each with its own stripping, disruption and events. A member that feels
-/// friction leaves the shared orbit and integrates its own.
+/// The two integrators of one orbit and what their stored derivatives were computed with:
+/// steps without friction take the Runge–Kutta–Nyström pair, steps with friction (the force
+/// depends on the velocity) Dormand–Prince.
 #[derive(Debug)]
-struct Path {
-    recs: Vec<Record>,
-    /// Steps with friction (the acceleration depends on the velocity).
+struct Mover {
     dopri: Dopri5,
-    /// Steps without friction.
     rkn: Rkn6,
     /// The last step was taken without friction (by `rkn`).
     k1_free: bool,
@@ -366,41 +246,37 @@ struct Path {
     last_ll: f64,
     /// The friction part of the integrator's stored derivative.
     last_friction: Vec3,
-    /// Friction-free continuations branched off at a record whose next step had friction.
-    branches: Vec<(usize, PathRef)>,
+    /// A step has been taken since the last reset.
+    stepped: bool,
 }
 
-type PathRef = Rc<RefCell<Path>>;
-
-impl Path {
-    /// A path from `rec`, with tolerances `tol` and steps of at most `h_max` (Gyr).
-    fn start(rec: Record, tol: Tolerances, h_max: f64) -> PathRef {
-        Rc::new(RefCell::new(Self {
-            recs: vec![Record { free: true, ..rec }],
+impl Mover {
+    fn new(tol: Tolerances, h_max: f64) -> Self {
+        Self {
             dopri: Dopri5::new(tol, 1e-3, h_max),
             rkn: Rkn6::new(tol, 1e-3, h_max),
             k1_free: false,
             last_m: f64::NAN,
             last_ll: f64::NAN,
             last_friction: [0.0; 3],
-            branches: Vec::new(),
-        }))
-    }
-
-    /// The friction-free continuation from record `idx` (created on first use).
-    fn branch_at(&mut self, idx: usize) -> PathRef {
-        if let Some((_, b)) = self.branches.iter().find(|(i, _)| *i == idx) {
-            return b.clone();
+            stepped: false,
         }
-        let b = Self::start(self.recs[idx], self.dopri.ctl.tol, self.dopri.ctl.h_max);
-        self.branches.push((idx, b.clone()));
-        b
     }
 
-    /// Append one step, without friction (`None`) or with friction on mass m and Coulomb
-    /// logarithm ll (`Some((m, ll))`).
-    #[inline(always)]
-    fn extend(&mut self, host: &EvolvingHost, friction: Option<(f64, f64)>, t_end: f64) -> Record {
+    /// Forget the stored derivatives (the right-hand side changed discontinuously: a new
+    /// frame, or a change in the haloes around the container); new tolerances.
+    fn reset(&mut self, tol: Tolerances) {
+        self.dopri.reset_derivative();
+        self.rkn.reset_derivative();
+        self.dopri.ctl.tol = tol;
+        self.rkn.ctl.tol = tol;
+        self.last_m = f64::NAN;
+        self.last_ll = f64::NAN;
+    }
+
+    /// Prepare the stored derivative for a step without friction (`None`) or with friction on
+    /// mass m and Coulomb logarithm ll (`Some((m, ll))`).
+    fn prepare(&mut self, friction: Option<(f64, f64)>) {
         let stale = match friction {
             None => !self.k1_free,
             Some((m, ll)) => {
@@ -436,69 +312,182 @@ impl Path {
             match friction {
                 None => {
                     self.rkn.reset_derivative();
-                    if self.recs.len() > 1 {
+                    if self.stepped {
                         self.rkn.ctl.h = self.dopri.ctl.h;
                     }
                 }
                 Some(_) => {
                     self.dopri.reset_derivative();
-                    if self.k1_free && self.recs.len() > 1 {
+                    if self.k1_free && self.stepped {
                         self.dopri.ctl.h = self.rkn.ctl.h;
                     }
                 }
             }
         }
-        let last = *self.recs.last().expect("a path has a first record");
-        #[cfg(feature = "orbit-profile")]
-        let before = profile::RHS_COUNT.with(|c| c.get());
-        let (t1, y1) = match friction {
-            None => {
-                let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
-                self.rkn.step(&mut f, last.t, &last.y, t_end)
-            }
-            Some(_) => {
-                let (ll, m) = (self.last_ll, self.last_m);
-                // the friction part of the last evaluation, that of the new point
-                let mut fric = [0.0; 3];
-                let mut f = |tt: f64, yy: &State| {
-                    let (d, a_f) = rhs_parts(host, ll, m, tt, yy);
-                    fric = a_f;
-                    d
-                };
-                let out = self.dopri.step(&mut f, last.t, &last.y, t_end);
-                self.last_friction = fric;
-                out
-            }
+    }
+
+    /// One step without friction, acceleration `f`.
+    fn step_free<F: FnMut(f64, &Vec3) -> Vec3>(
+        &mut self,
+        f: &mut F,
+        t: f64,
+        y: &State,
+        t_stop: f64,
+    ) -> (f64, State) {
+        self.prepare(None);
+        let out = self.rkn.step(f, t, y, t_stop);
+        self.k1_free = true;
+        self.stepped = true;
+        out
+    }
+
+    /// One step with friction on mass m (Coulomb logarithm ll); `f` returns the derivative and
+    /// its friction part.
+    fn step_friction<F: FnMut(f64, &State, f64, f64) -> (State, Vec3)>(
+        &mut self,
+        f: &mut F,
+        m: f64,
+        ll: f64,
+        t: f64,
+        y: &State,
+        t_stop: f64,
+    ) -> (f64, State) {
+        self.prepare(Some((m, ll)));
+        let (ll, m) = (self.last_ll, self.last_m);
+        let mut fric = [0.0; 3];
+        let mut g = |tt: f64, yy: &State| {
+            let (d, a_f) = f(tt, yy, m, ll);
+            fric = a_f;
+            d
         };
-        #[cfg(feature = "orbit-profile")]
-        profile::BY_STEP.with(|w| {
-            let n = profile::RHS_COUNT.with(|c| c.get()) - before;
-            let e = &mut w.borrow_mut()[profile::step_kind(&last.y, &y1, friction.is_some())];
-            e.0 += n;
-            e.1 += 1;
-            e.2 += t1 - last.t;
-        });
-        self.k1_free = friction.is_none();
-        let rec = Record::at(host, t1, y1, friction.is_none());
-        self.recs.push(rec);
-        rec
+        let out = self.dopri.step(&mut g, t, y, t_stop);
+        self.last_friction = fric;
+        self.k1_free = false;
+        self.stepped = true;
+        out
+    }
+
+    /// The acceleration at the end of the last step (the integrator's stored derivative).
+    fn acceleration(&self) -> Option<Vec3> {
+        if self.k1_free {
+            self.rkn.derivative()
+        } else {
+            self.dopri.derivative().map(|d| [d[3], d[4], d[5]])
+        }
     }
 }
 
-/// Where a sub-subhalo starts when it leaves its parent: a record of the parent's path.
-#[derive(Debug, Clone)]
-struct Release {
-    path: PathRef,
-    idx: usize,
-    /// The carrier's events so far (the released subhalo was inside it for all of them).
-    tracker: Tracker,
+/// Where and how an accretion starts: its container, its infall time and state relative to
+/// the container, and the container's virial radius (kpc) and speed (kpc/Gyr) then.
+#[derive(Debug, Clone, Copy)]
+struct Start {
+    frame: Frame,
+    t: f64,
+    y: State,
+    scale: (f64, f64),
+}
+
+/// Integrator tolerances in a frame of virial radius r_vir (kpc) and speed v_vir (kpc/Gyr):
+/// the absolute tolerances are rtol x 10 kpc and 10 kpc/Gyr in the host (a Milky-Way-mass host:
+/// R_vir/30 and V_vir/13) and scale with the container's size inside a subhalo.
+fn tolerances(rtol: f64, frame: Frame, scale: (f64, f64)) -> Tolerances {
+    match frame {
+        Frame::Host => Tolerances {
+            rtol,
+            atol_pos_kpc: rtol * 10.0,
+            atol_vel_kpc_gyr: rtol * 10.0,
+        },
+        Frame::Sub(_) => Tolerances {
+            rtol,
+            atol_pos_kpc: rtol * scale.0 / 30.0,
+            atol_vel_kpc_gyr: rtol * scale.1 / 13.0,
+        },
+    }
+}
+
+/// Settings shared by every subhalo of a host.
+struct Ctx<'a> {
+    host: &'a EvolvingHost,
+    options: &'a OrbitOptions,
+    strip: Stripping,
+    t_end: f64,
+}
+
+/// A result with the accretion's own quantities and nothing evolved yet.
+fn new_result(a: &Accretion, structure: &SubhaloStructure) -> SubhaloResult {
+    SubhaloResult {
+        branch: a.branch,
+        order: a.order,
+        group: a.group,
+        parent_branch: a.into_branch,
+        m_infall_msun: a.m_infall_msun,
+        m_peak_msun: a.m_peak_msun,
+        t_peak_gyr: a.t_peak_gyr,
+        t_infall_gyr: a.t_infall_gyr,
+        m_host_at_infall_msun: a.m_host_at_infall_msun,
+        t_first_host_infall_gyr: a.t_host_infall_gyr,
+        t_last_host_infall_gyr: a.t_host_infall_gyr,
+        t_release_gyr: f64::NAN,
+        n_pericentres: 0,
+        t_peri_first_gyr: f64::NAN,
+        r_peri_first_kpc: f64::NAN,
+        r_peri_min_kpc: f64::NAN,
+        t_peri_last_gyr: f64::NAN,
+        r_peri_last_kpc: f64::NAN,
+        r_apo_last_kpc: f64::NAN,
+        n_host_crossings: 0,
+        t_disrupt_physical_gyr: f64::NAN,
+        t_disrupt_pericentre_gyr: f64::NAN,
+        t_merge_gyr: f64::NAN,
+        bound_to_branch: 0,
+        pos_kpc: [f64::NAN; 3],
+        vel_kms: [f64::NAN; 3],
+        r_kpc: f64::NAN,
+        m_bound_msun: a.m_infall_msun,
+        vmax_kms: structure.vmax_acc / KMS,
+        rmax_kpc: structure.rmax_acc,
+        vmax_infall_kms: structure.vmax_acc / KMS,
+        backsplash: false,
+        status: SubhaloStatus::InHost,
+    }
+}
+
+/// The field profile of a halo with children, at the times they fell in and at its own
+/// infall: virial mass from the tree (the mass each child merged into, and its own infall
+/// mass; non-decreasing), Bryan & Norman R_vir and the Dutton & Maccio 2014 concentration.
+fn field_profile(lt: &LinearTheory, own: &Accretion, kids: &[&Accretion]) -> Vec<FieldPoint> {
+    let cosmo = lt.cosmology();
+    let mut pts: Vec<(f64, f64, f64)> = kids
+        .iter()
+        .map(|k| (k.t_infall_gyr, k.z_infall, k.m_host_at_infall_msun))
+        .collect();
+    pts.push((own.t_infall_gyr, own.z_infall, own.m_infall_msun));
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut m_run = 0.0f64;
+    pts.into_iter()
+        .map(|(t, z, m)| {
+            m_run = m_run.max(m);
+            let r_vir = MassDefinition::Vir.radius_kpc(cosmo, m_run, z);
+            let c = c_of_m(
+                ConcentrationModel::DuttonMaccio14,
+                cosmo,
+                m_run,
+                z,
+                MassDefinition::Vir,
+            );
+            FieldPoint {
+                t,
+                m_vir: m_run,
+                r_vir,
+                m_s: m_run / mu(c),
+                r_s: r_vir / c,
+            }
+        })
+        .collect()
 }
 
 /// Evolve every accretion of a host. `rng` is the host's orbit stream; results come in the
-/// order of `hist.accretions` (branch order), so they are reproducible bit for bit. Each
-/// first-order subhalo is followed by all its descendants (depth first), so the orbits they
-/// share are freed as soon as the group is done; only first-order subhaloes draw random
-/// numbers, and they do so in branch order.
+/// order of `hist.accretions` (branch order), so they are reproducible bit for bit.
 pub fn evolve_host_subhaloes<R: Rng>(
     lt: &LinearTheory,
     hist: &HostHistory,
@@ -511,153 +500,108 @@ pub fn evolve_host_subhaloes<R: Rng>(
     let accs = &hist.accretions;
     let n = accs.len();
     let li = Li20::default();
-    let strip = Stripping {
-        alpha: options.stripping_alpha,
-    };
-    let tol = Tolerances {
-        rtol: options.rtol,
-        atol_pos_kpc: options.rtol * 10.0,
-        atol_vel_kpc_gyr: options.rtol * 10.0,
-    };
-    // children of each accretion (by index) and their orbit radius inside the parent
-    let mut children: Vec<Vec<(usize, f64)>> = vec![Vec::new(); n];
+    // parent of each accretion and the children of each
     let mut parent: Vec<Option<usize>> = vec![None; n];
+    let mut children: Vec<Vec<usize>> = vec![Vec::new(); n];
     for (i, a) in accs.iter().enumerate() {
         if a.order > 1 {
-            if let Some(pi) = hist.accretion_index(a.into_branch) {
-                let r_vir_p =
-                    MassDefinition::Vir.radius_kpc(cosmo, a.m_host_at_infall_msun, a.z_infall);
-                children[pi].push((i, options.suborbit_fraction * r_vir_p));
-                parent[i] = Some(pi);
+            if let Some(p) = hist.accretion_index(a.into_branch) {
+                parent[i] = Some(p);
+                children[p].push(i);
             }
         }
     }
-    let mut release: Vec<Option<Release>> = vec![None; n];
+    // infall orbits, drawn in branch order: relative to the host for first-order subhaloes,
+    // to the parent (its virial quantities from the tree at the child's infall) for the rest
+    let starts: Vec<Start> = accs
+        .iter()
+        .enumerate()
+        .map(|(i, a)| {
+            let z = a.z_infall;
+            let (m_c, r_c, frame) = match parent[i] {
+                None => {
+                    let s = host.snapshot(a.t_infall_gyr);
+                    (s.m_vir, s.r_vir, Frame::Host)
+                }
+                Some(p) => {
+                    let m = a.m_host_at_infall_msun;
+                    (m, MassDefinition::Vir.radius_kpc(cosmo, m, z), Frame::Sub(p))
+                }
+            };
+            let v_c = (G * m_c / r_c).sqrt();
+            let nu = lt.delta_c(z) / lt.sigma(m_c, z);
+            let (u, x) = li.sample(nu, a.m_infall_msun / m_c, rng);
+            Start {
+                frame,
+                t: a.t_infall_gyr,
+                y: initial_state(r_c, v_c, u, x, rng),
+                scale: (r_c, v_c),
+            }
+        })
+        .collect();
+    let ctx = Ctx {
+        host,
+        options,
+        strip: Stripping {
+            alpha: options.stripping_alpha,
+        },
+        t_end,
+    };
+    let branch_of: Vec<u32> = accs.iter().map(|a| a.branch).collect();
+    let mut bodies: Vec<Option<Body>> = vec![None; n];
     let mut out: Vec<Option<SubhaloResult>> = vec![None; n];
     let mut stack: Vec<usize> = Vec::new();
+    let mut group: Vec<usize> = Vec::new();
     for root in 0..n {
-        if accs[root].order > 1 && parent[root].is_some() {
-            continue; // visited from its parent
+        if parent[root].is_some() {
+            continue; // followed with its group
         }
         stack.push(root);
         while let Some(i) = stack.pop() {
+            group.push(i);
             let a = &accs[i];
-            let z_acc = a.z_infall;
             let c_acc = c_of_m(
                 ConcentrationModel::DuttonMaccio14,
                 cosmo,
                 a.m_infall_msun,
-                z_acc,
+                a.z_infall,
                 MassDefinition::Vir,
             );
-            let r_vir_acc = MassDefinition::Vir.radius_kpc(cosmo, a.m_infall_msun, z_acc);
+            let r_vir_acc = MassDefinition::Vir.radius_kpc(cosmo, a.m_infall_msun, a.z_infall);
             let structure = SubhaloStructure::nfw(a.m_infall_msun, r_vir_acc, c_acc);
-            let mut res = SubhaloResult {
-                branch: a.branch,
-                order: a.order,
-                group: a.group,
-                parent_branch: a.into_branch,
-                m_infall_msun: a.m_infall_msun,
-                m_peak_msun: a.m_peak_msun,
-                t_peak_gyr: a.t_peak_gyr,
-                t_infall_gyr: a.t_infall_gyr,
-                m_host_at_infall_msun: a.m_host_at_infall_msun,
-                t_first_host_infall_gyr: a.t_host_infall_gyr,
-                t_last_host_infall_gyr: a.t_host_infall_gyr,
-                t_release_gyr: f64::NAN,
-                n_pericentres: 0,
-                t_peri_first_gyr: f64::NAN,
-                r_peri_first_kpc: f64::NAN,
-                r_peri_min_kpc: f64::NAN,
-                t_peri_last_gyr: f64::NAN,
-                r_peri_last_kpc: f64::NAN,
-                r_apo_last_kpc: f64::NAN,
-                n_host_crossings: 0,
-                t_disrupt_physical_gyr: f64::NAN,
-                t_disrupt_pericentre_gyr: f64::NAN,
-                pos_kpc: [f64::NAN; 3],
-                vel_kms: [f64::NAN; 3],
-                r_kpc: f64::NAN,
-                m_bound_msun: a.m_infall_msun,
-                vmax_kms: structure.vmax_acc / KMS,
-                rmax_kpc: structure.rmax_acc,
-                vmax_infall_kms: structure.vmax_acc / KMS,
-                backsplash: false,
-                status: SubhaloStatus::Surviving,
-            };
-            // starting point
-            let start = if a.order == 1 {
-                let t_acc = a.t_infall_gyr;
-                let s = host.snapshot(t_acc);
-                let v_vir = (G * s.m_vir / s.r_vir).sqrt();
-                let nu = lt.delta_c(z_acc) / lt.sigma(s.m_vir, z_acc);
-                let zeta = a.m_infall_msun / s.m_vir;
-                let (u, x) = li.sample(nu, zeta, rng);
-                let y0 = initial_state(s.r_vir, v_vir, u, x, rng);
-                Some(Release {
-                    path: Path::start(Record::at(host, t_acc, y0, true), tol, options.max_step_gyr),
-                    idx: 0,
-                    tracker: Tracker::new(t_acc),
-                })
-            } else {
-                release[i].take()
-            };
-            match start {
-                None => {
-                    // never left its parent: it sits where the parent ended, and it was
-                    // inside the parent at every pericentre and crossing of the parent's
-                    // orbit (a subhalo falls into its parent before the parent falls into the
-                    // host), so those events are its own, the pericentre model's verdict
-                    // included
-                    if let Some(p) = parent[i].and_then(|p| out[p].as_ref()) {
-                        res.pos_kpc = p.pos_kpc;
-                        res.vel_kms = p.vel_kms;
-                        res.r_kpc = p.r_kpc;
-                        res.backsplash = p.backsplash;
-                        res.t_last_host_infall_gyr = p.t_last_host_infall_gyr;
-                        res.n_pericentres = p.n_pericentres;
-                        res.t_peri_first_gyr = p.t_peri_first_gyr;
-                        res.r_peri_first_kpc = p.r_peri_first_kpc;
-                        res.r_peri_min_kpc = p.r_peri_min_kpc;
-                        res.t_peri_last_gyr = p.t_peri_last_gyr;
-                        res.r_peri_last_kpc = p.r_peri_last_kpc;
-                        res.r_apo_last_kpc = p.r_apo_last_kpc;
-                        res.n_host_crossings = p.n_host_crossings;
-                        res.t_disrupt_pericentre_gyr = p.t_disrupt_pericentre_gyr;
-                    }
-                    res.status = SubhaloStatus::InParent;
-                    // its children stay inside it too
-                }
-                Some(rel) => {
-                    if a.order > 1 {
-                        res.t_release_gyr = rel.path.borrow().recs[rel.idx].t;
-                    }
-                    #[cfg(feature = "orbit-profile")]
-                    let rhs_before = profile::RHS_COUNT.with(|c| c.get());
-                    let released = integrate_subhalo(
-                        host,
-                        options,
-                        &strip,
-                        &structure,
-                        rel,
-                        t_end,
-                        &children[i],
-                        &mut res,
-                    );
-                    for (k, r) in released {
-                        release[k] = Some(r);
-                    }
-                    #[cfg(feature = "orbit-profile")]
-                    {
-                        let n = profile::RHS_COUNT.with(|c| c.get()) - rhs_before;
-                        profile::PER_SUBHALO.with(|p| p.borrow_mut().push((n, res.clone())));
-                    }
-                }
+            let mut res = new_result(a, &structure);
+            let keep = !children[i].is_empty();
+            #[cfg(feature = "orbit-profile")]
+            let rhs_before = profile::RHS_COUNT.with(|c| c.get());
+            let traj = follow(
+                &ctx,
+                &bodies,
+                &branch_of,
+                &structure,
+                &starts[i],
+                keep,
+                a.order == 1,
+                &mut res,
+            );
+            #[cfg(feature = "orbit-profile")]
+            {
+                let n = profile::RHS_COUNT.with(|c| c.get()) - rhs_before;
+                profile::PER_SUBHALO.with(|p| p.borrow_mut().push((n, res.clone())));
+            }
+            if let Some(mut body) = traj {
+                let kids: Vec<&Accretion> = children[i].iter().map(|&k| &accs[k]).collect();
+                body.field = field_profile(lt, a, &kids);
+                bodies[i] = Some(body);
             }
             out[i] = Some(res);
             // children next, lowest index first
-            stack.extend(children[i].iter().rev().map(|&(k, _)| k));
+            stack.extend(children[i].iter().rev());
         }
+        // the group is done: its trajectories are no longer needed
+        for &i in &group {
+            bodies[i] = None;
+        }
+        group.clear();
     }
     out.into_iter()
         .map(|r| r.expect("every accretion is visited once"))
@@ -669,7 +613,7 @@ pub fn evolve_subhalo<R: Rng>(
     lt: &LinearTheory,
     host: &EvolvingHost,
     options: &OrbitOptions,
-    a: &crate::trees::Accretion,
+    a: &Accretion,
     t_end: f64,
     rng: &mut R,
 ) -> SubhaloResult {
@@ -686,168 +630,421 @@ pub fn evolve_subhalo<R: Rng>(
         .expect("one result")
 }
 
-/// Follow one subhalo from its release to t_end along its (possibly shared) path; fill `res`;
-/// return the releases of its children (accretion index, where they start).
+/// The container's mass that sets the friction threshold: the host's virial mass (given), a field
+/// halo's virial mass, or a subhalo's bound mass.
+fn container_mass(m_vir_host: f64, bodies: &[Option<Body>], chain: &Option<Chain>, t: f64) -> f64 {
+    match chain {
+        None => m_vir_host,
+        Some(c) => {
+            let b = bodies[c.container()].as_ref().expect("followed");
+            if c.container_inside() {
+                c.container_profile(bodies, t).m_cap
+            } else {
+                b.field_virial(t).0
+            }
+        }
+    }
+}
+
+/// The host's tide (host at one instant) on a subhalo at host-centred state y: (Omega^2 - d^2 Phi/dr^2, host mass
+/// inside |x|).
+#[inline]
+fn host_tide(snap: &crate::host::HostSnapshot, y: &State) -> (f64, f64) {
+    let x = pos(y);
+    let v = vel(y);
+    let (m_enc, d2phi) = snap.tidal_terms(x);
+    let r2 = dot(x, x).max(1e-300);
+    let l = super::in_parent::cross(x, v);
+    (dot(l, l) / (r2 * r2) - d2phi, m_enc)
+}
+
+/// Follow one subhalo from its infall to the end (or its death): fill `res`; return its
+/// trajectory if `keep` (it has children).
 #[allow(clippy::too_many_arguments)]
-fn integrate_subhalo(
-    host: &EvolvingHost,
-    options: &OrbitOptions,
-    strip: &Stripping,
+fn follow(
+    ctx: &Ctx,
+    bodies: &[Option<Body>],
+    branch_of: &[u32],
     structure: &SubhaloStructure,
-    start: Release,
-    t_end: f64,
-    kids: &[(usize, f64)],
+    start: &Start,
+    keep: bool,
+    first_order: bool,
     res: &mut SubhaloResult,
-) -> Vec<(usize, Release)> {
-    let mut released = Vec::new();
-    let mut pending: Vec<(usize, f64)> = kids.to_vec();
-    let mut path = start.path;
-    let mut idx = start.idx;
-    let mut cur = path.borrow().recs[idx];
+) -> Option<Body> {
+    let host = ctx.host;
+    let options = ctx.options;
+    let t_end = ctx.t_end;
+    let mut frame = start.frame;
+    let mut scale = start.scale;
+    let mut t = start.t;
+    let mut y = start.y;
     let mut m = res.m_infall_msun;
     let mut r_t = f64::INFINITY;
     let mut prof_m = m;
     let mut prof = structure.profile(m);
-    let mut tracker = start.tracker;
-    let mut physical_end = false;
-    // tidal mass and stripping rate at the end of the previous step
-    let mut prev_tide: Option<(f64, f64)> = None;
-    while cur.t < t_end {
-        // Friction is negligible for m < 1e-4 M_vir (sinking times > 1e3 host dynamical times;
-        // physics reference sheet sec. 9: negligible below 1e-3 within a Hubble time); below
-        // that the subhalo is a test particle and can share its orbit.
-        let fr = options.friction && m > 1e-4 * cur.m_vir;
-        let next = if fr {
-            let ll = friction::coulomb_log(cur.m_enc, m);
-            if idx + 1 < path.borrow().recs.len() {
-                // others walk on from here without friction: continue on a private path
-                let (tol, h_max) = {
-                    let p = path.borrow();
-                    (p.dopri.ctl.tol, p.dopri.ctl.h_max)
-                };
-                path = Path::start(cur, tol, h_max);
-                idx = 0;
-            }
-            let rec = path.borrow_mut().extend(host, Some((m, ll)), t_end);
-            rec
-        } else {
-            let mut p = path.borrow_mut();
-            if idx + 1 == p.recs.len() {
-                p.extend(host, None, t_end)
-            } else if p.recs[idx + 1].free {
-                p.recs[idx + 1]
+    let mut mover = Mover::new(
+        tolerances(options.rtol, frame, scale),
+        options.max_step_gyr,
+    );
+    let mut chain: Option<Chain> = match frame {
+        Frame::Host => None,
+        Frame::Sub(c) => Some(Chain::build(bodies, c, t)),
+    };
+    // the host-centred state now (None while the group is outside the host)
+    let in_host = |chain: &Option<Chain>, t: f64, y: &State| -> Option<State> {
+        match chain {
+            None => Some(*y),
+            Some(c) => c.container_in_host(bodies, t).map(|s| add6(&s, y)),
+        }
+    };
+    let mut abs = in_host(&chain, t, &y);
+    // the host's virial radius and mass at the current time
+    let snap0 = host.snapshot(t);
+    let (mut cur_rv, mut cur_mvir) = (snap0.r_vir, snap0.m_vir);
+    let mut tracker: Option<Tracker> = if first_order {
+        Some(Tracker::at_infall(t))
+    } else {
+        abs.map(|s| Tracker::with_group(t, norm(pos(&s)), cur_rv))
+    };
+    let mut segs: Vec<super::in_parent::Segment> = Vec::new();
+    // the acceleration at a point where the integrator has none stored (a segment's start)
+    let gravity = |chain: &Option<Chain>, t: f64, y: &State| -> Vec3 {
+        match chain {
+            None => host.snapshot(t).accel(pos(y)),
+            Some(c) => c.accel(bodies, host, t, pos(y)),
+        }
+    };
+    let push_point =
+        |segs: &mut Vec<super::in_parent::Segment>, frame: Frame, p: Point, new_seg: bool| {
+            if new_seg || segs.is_empty() {
+                segs.push(super::in_parent::Segment {
+                    frame,
+                    pts: vec![p],
+                });
             } else {
-                // the path's owner felt friction after this point: take the shared
-                // friction-free branch
-                let b = p.branch_at(idx);
-                drop(p);
-                path = b;
-                idx = 0;
-                continue;
+                segs.last_mut().expect("a segment").pts.push(p);
             }
         };
-        idx += 1;
-        tracker.step(
-            cur.t,
-            &cur.y,
-            next.t,
-            &next.y,
-            cur.r_vir,
-            next.r_vir,
-            options.pericentre_cut_kpc,
-        );
-        let h = next.t - cur.t;
-        cur = next;
-        if options.stripping {
-            let r = norm(pos(&cur.y));
-            if m != prof_m {
-                prof = structure.profile(m);
-                prof_m = m;
+    let point = |t: f64, y: State, a: Vec3, m: f64, prof: (f64, f64), r_t: f64| Point {
+        t,
+        y,
+        a,
+        m,
+        m_s: prof.0,
+        r_s: prof.1,
+        r_t,
+    };
+    if keep {
+        let a0 = gravity(&chain, t, &y);
+        push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
+    }
+    let mut ended: Option<SubhaloStatus> = None;
+    // tidal mass and stripping rate at the end of the previous step
+    let mut prev_tide: Option<(f64, f64)> = None;
+    // the friction force needs the container's mass inside r: the host's, from the last point
+    let mut m_enc_cont = match &chain {
+        None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
+        Some(c) => c.container_profile(bodies, t).mass(norm(pos(&y))),
+    };
+    while t < t_end && ended.is_none() {
+        // the haloes around the container changed (an infall, a release or an end): rebuild
+        // the chain; if the container itself has ended, leave it
+        if chain.as_ref().is_some_and(|c| t >= c.valid_until) {
+            loop {
+                let Frame::Sub(ci) = frame else { break };
+                let cb = bodies[ci].as_ref().expect("followed");
+                if !(cb.dead && t >= cb.t_last()) {
+                    break;
+                }
+                // the container was disrupted or merged: continue in the frame it was in
+                let last_seg = cb.segs.last().expect("a trajectory");
+                let p = last_seg.pts.last().expect("a point");
+                y = add6(&y, &p.y);
+                frame = last_seg.frame;
+                if let Frame::Sub(d) = frame {
+                    scale = bodies[d]
+                        .as_ref()
+                        .map(|b| b.field_virial(t))
+                        .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
+                        .unwrap_or(scale);
+                }
+                if res.t_release_gyr.is_nan() && res.order > 1 {
+                    res.t_release_gyr = t;
+                }
             }
-            let (rt, m_t) = structure.tidal_radius_and_mass(prof, m, cur.denom, r_t);
-            r_t = rt;
-            let rate = 1.0 / Stripping::t_dyn(r, cur.m_enc);
+            chain = match frame {
+                Frame::Host => None,
+                Frame::Sub(c) => Some(Chain::build(bodies, c, t)),
+            };
+            mover.reset(tolerances(options.rtol, frame, scale));
+            abs = in_host(&chain, t, &y);
+            if tracker.is_none() {
+                tracker = abs.map(|s| Tracker::with_group(t, norm(pos(&s)), cur_rv));
+            }
+            if keep && segs.last().is_some_and(|s| s.frame != frame) {
+                // a new frame: a new segment (the chain around the same container changing
+                // needs none)
+                let a0 = gravity(&chain, t, &y);
+                push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
+            }
+            prev_tide = None;
+            m_enc_cont = match &chain {
+                None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
+                Some(c) => c.container_profile(bodies, t).mass(norm(pos(&y))),
+            };
+        }
+        let mut t_stop = t_end;
+        if let Some(c) = &chain {
+            t_stop = t_stop.min(c.valid_until);
+            if c.host {
+                // inside the host, steps end at the container's points, so that the events of
+                // the host-centred orbit (the container's pericentres) are resolved
+                t_stop = t_stop.min(c.container_next_point(bodies, t));
+            }
+            if t_stop <= t {
+                // (coincident boundaries: never a step of zero length)
+                t_stop = t_end.min(c.container_next_point(bodies, t)).max(t + 1e-9);
+            }
+        }
+        // Friction is negligible for m < 1e-4 of the container's mass (sinking times > 1e3
+        // dynamical times; physics reference sheet sec. 9: negligible below 1e-3 within a
+        // Hubble time).
+        let fr = options.friction && m > 1e-4 * container_mass(cur_mvir, bodies, &chain, t);
+        #[cfg(feature = "orbit-profile")]
+        let before = profile::RHS_COUNT.with(|c| c.get());
+        let (t1, y1) = match (&chain, fr) {
+            (None, false) => {
+                let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
+                mover.step_free(&mut f, t, &y, t_stop)
+            }
+            (None, true) => {
+                let ll = friction::coulomb_log(m_enc_cont, m);
+                let mut f = |tt: f64, yy: &State, mm: f64, l: f64| rhs_parts(host, l, mm, tt, yy);
+                mover.step_friction(&mut f, m, ll, t, &y, t_stop)
+            }
+            (Some(c), false) => {
+                let mut f = |tt: f64, x: &Vec3| {
+                    count_rhs();
+                    c.accel(bodies, host, tt, *x)
+                };
+                mover.step_free(&mut f, t, &y, t_stop)
+            }
+            (Some(c), true) => {
+                let ll = friction::coulomb_log(m_enc_cont, m);
+                let mut f = |tt: f64, yy: &State, mm: f64, l: f64| {
+                    count_rhs();
+                    c.derivative(bodies, host, tt, yy, mm, l)
+                };
+                mover.step_friction(&mut f, m, ll, t, &y, t_stop)
+            }
+        };
+        #[cfg(feature = "orbit-profile")]
+        profile::BY_STEP.with(|w| {
+            let n = profile::RHS_COUNT.with(|c| c.get()) - before;
+            let (a0, a1) = match (&abs, &chain) {
+                (Some(a0), None) => (*a0, y1),
+                _ => (y, y1),
+            };
+            let in_sub = match &chain {
+                None => 0,
+                Some(c) => 1 + u8::from(c.host),
+            };
+            let e = &mut w.borrow_mut()[profile::step_kind(&a0, &a1, fr, in_sub)];
+            e.0 += n;
+            e.1 += 1;
+            e.2 += t1 - t;
+        });
+        let h = t1 - t;
+        let snap1 = host.snapshot(t1);
+        let abs1 = in_host(&chain, t1, &y1);
+        // the strongest tide and the container's mass inside r
+        let (denom, r_tide, m_tide) = match &chain {
+            None => {
+                let (d, m_enc) = host_tide(&snap1, &y1);
+                m_enc_cont = m_enc;
+                (d, norm(pos(&y1)), m_enc)
+            }
+            Some(c) => {
+                let tide = c.strongest_tide(bodies, t1, &y1);
+                m_enc_cont = tide.m_container;
+                let mut best = (tide.denom, tide.r, tide.m_enc);
+                if let Some(a1) = &abs1 {
+                    let (d, m_enc) = host_tide(&snap1, a1);
+                    if d > best.0 {
+                        best = (d, norm(pos(a1)), m_enc);
+                    }
+                }
+                best
+            }
+        };
+        // the tidal radius (also without stripping: it decides mergers with a parent)
+        if m != prof_m {
+            prof = structure.profile(m);
+            prof_m = m;
+        }
+        let (rt, m_t) = structure.tidal_radius_and_mass(prof, m, denom, r_t);
+        r_t = rt;
+        if options.stripping {
+            let rate = 1.0 / Stripping::t_dyn(r_tide, m_tide);
             // trapezoid rule over the step for the tidal mass and the rate (second order in h)
             let (m_t_step, rate_step) = match prev_tide {
                 Some((m_t0, rate0)) => (0.5 * (m_t0 + m_t), 0.5 * (rate0 + rate)),
                 None => (m_t, rate),
             };
             prev_tide = Some((m_t, rate));
-            m = strip.step(m, m_t_step, h, 1.0 / rate_step);
-            // release children whose orbit now lies outside the tidal radius
-            pending.retain(|&(k, r_orb)| {
-                if r_orb > r_t {
-                    released.push((
-                        k,
-                        Release {
-                            path: path.clone(),
-                            idx,
-                            tracker,
-                        },
-                    ));
-                    false
-                } else {
-                    true
-                }
-            });
-            let x_b = m / structure.m_acc;
-            if x_b < options.disrupt_bound_fraction
-                || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc
-            {
-                res.t_disrupt_physical_gyr = cur.t;
-                physical_end = true;
-                break;
+            m = ctx.strip.step(m, m_t_step, h, 1.0 / rate_step);
+        }
+        // events in the host
+        if let (Some(a0), Some(a1)) = (&abs, &abs1) {
+            let tr =
+                tracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(a0)), cur_rv));
+            tr.step(
+                t,
+                a0,
+                t1,
+                a1,
+                cur_rv,
+                snap1.r_vir,
+                options.pericentre_cut_kpc,
+            );
+        } else if tracker.is_none() {
+            if let Some(a1) = &abs1 {
+                tracker = Some(Tracker::with_group(t1, norm(pos(a1)), snap1.r_vir));
             }
         }
-        // sunk by friction to the centre: merged with the central galaxy (with or without
-        // stripping; without this check a subhalo that keeps its mass would circle the
-        // centre on ever shorter orbits)
-        if fr && norm(pos(&cur.y)) < options.central_merge_kpc {
-            res.t_disrupt_physical_gyr = cur.t;
-            physical_end = true;
+        cur_rv = snap1.r_vir;
+        cur_mvir = snap1.m_vir;
+        t = t1;
+        y = y1;
+        abs = abs1;
+        if keep {
+            if m != prof_m {
+                prof = structure.profile(m);
+                prof_m = m;
+            }
+            let a1 = mover.acceleration().unwrap_or_else(|| gravity(&chain, t, &y));
+            push_point(&mut segs, frame, point(t, y, a1, m, prof, r_t), false);
+        }
+        // the end of the subhalo: stripped below the thresholds, or merged
+        let x_b = m / structure.m_acc;
+        if options.stripping
+            && (x_b < options.disrupt_bound_fraction
+                || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc)
+        {
+            // dissolved by tides: a merger with the container if friction had sunk it into
+            // the container's core (inside its scale radius), a disruption otherwise
+            let sunk = fr
+                && chain
+                    .as_ref()
+                    .is_some_and(|c| norm(pos(&y)) < c.container_profile(bodies, t).r_s);
+            if sunk {
+                res.t_merge_gyr = t;
+                ended = Some(SubhaloStatus::MergedWithParent);
+            } else {
+                res.t_disrupt_physical_gyr = t;
+                ended = Some(SubhaloStatus::Disrupted);
+            }
             break;
         }
-    }
-    // remaining children leave at the end of the parent's life (if it was disrupted)
-    if physical_end {
-        for (k, _) in pending.drain(..) {
-            released.push((
-                k,
-                Release {
-                    path: path.clone(),
-                    idx,
-                    tracker,
-                },
-            ));
+        let r_rel = norm(pos(&y));
+        let mut release: Option<(State, Frame)> = None;
+        match &chain {
+            None => {
+                // sunk by friction to the centre: merged with the central galaxy (with or
+                // without stripping; without this check a subhalo that keeps its mass would
+                // circle the centre on ever shorter orbits)
+                if fr && r_rel < options.central_merge_kpc {
+                    res.t_merge_gyr = t;
+                    ended = Some(SubhaloStatus::MergedWithCentral);
+                    break;
+                }
+            }
+            Some(c) => {
+                // sunk by friction until the container's centre lies inside its bound body
+                if fr && r_rel < r_t {
+                    res.t_merge_gyr = t;
+                    ended = Some(SubhaloStatus::MergedWithParent);
+                    break;
+                }
+                // beyond the container's tidal radius (once the container is inside another
+                // halo): it leaves for the halo the container orbits
+                if c.container_inside() && r_rel > c.container_profile(bodies, t).r_t {
+                    release = c.container_state(bodies, t);
+                }
+            }
+        }
+        if let Some((yc, f)) = release {
+            y = add6(&y, &yc);
+            frame = f;
+            if let Frame::Sub(d) = frame {
+                scale = bodies[d]
+                    .as_ref()
+                    .map(|b| b.field_virial(t))
+                    .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
+                    .unwrap_or(scale);
+            }
+            if res.t_release_gyr.is_nan() && res.order > 1 {
+                res.t_release_gyr = t;
+            }
+            chain = match frame {
+                Frame::Host => None,
+                Frame::Sub(ci) => Some(Chain::build(bodies, ci, t)),
+            };
+            mover.reset(tolerances(options.rtol, frame, scale));
+            abs = in_host(&chain, t, &y);
+            prev_tide = None;
+            m_enc_cont = match &chain {
+                None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
+                Some(c) => c.container_profile(bodies, t).mass(norm(pos(&y))),
+            };
+            if keep {
+                let a0 = gravity(&chain, t, &y);
+                push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
+            }
         }
     }
-    let x = pos(&cur.y);
-    let v = vel(&cur.y);
-    let r = norm(x);
+    // the end state
+    let status = ended.unwrap_or(match frame {
+        Frame::Host => SubhaloStatus::InHost,
+        Frame::Sub(_) => SubhaloStatus::InSubhalo,
+    });
+    res.status = status;
+    res.bound_to_branch = match frame {
+        Frame::Host => 0,
+        Frame::Sub(c) => branch_of[c],
+    };
+    if let Some(tr) = &tracker {
+        res.n_pericentres = tr.n_peri;
+        res.t_peri_first_gyr = tr.t_peri_first;
+        res.r_peri_first_kpc = tr.r_peri_first;
+        res.r_peri_min_kpc = tr.r_peri_min;
+        res.t_peri_last_gyr = tr.t_peri_last;
+        res.r_peri_last_kpc = tr.r_peri_last;
+        res.r_apo_last_kpc = tr.r_apo_last;
+        res.n_host_crossings = tr.n_cross;
+        res.t_last_host_infall_gyr = tr.t_last_infall.max(res.t_first_host_infall_gyr);
+        res.t_disrupt_pericentre_gyr = tr.t_disrupt_peri;
+    }
     let (vmax, rmax) = structure.vmax_rmax(m);
-    res.n_pericentres = tracker.n_peri;
-    res.t_peri_first_gyr = tracker.t_peri_first;
-    res.r_peri_first_kpc = tracker.r_peri_first;
-    res.r_peri_min_kpc = tracker.r_peri_min;
-    res.t_peri_last_gyr = tracker.t_peri_last;
-    res.r_peri_last_kpc = tracker.r_peri_last;
-    res.r_apo_last_kpc = tracker.r_apo_last;
-    res.n_host_crossings = tracker.n_cross;
-    res.t_last_host_infall_gyr = tracker.t_last_infall.max(res.t_first_host_infall_gyr);
-    res.t_disrupt_pericentre_gyr = tracker.t_disrupt_peri;
-    res.pos_kpc = x;
-    res.vel_kms = [v[0] / KMS, v[1] / KMS, v[2] / KMS];
-    res.r_kpc = r;
     res.m_bound_msun = m;
     res.vmax_kms = vmax / KMS;
     res.rmax_kpc = rmax;
-    res.backsplash = !physical_end && tracker.been_inside && r > cur.r_vir;
-    res.status = if physical_end {
-        SubhaloStatus::DisruptedPhysical
-    } else {
-        SubhaloStatus::Surviving
-    };
-    released
+    if let Some(a) = abs {
+        let x = pos(&a);
+        let v = vel(&a);
+        res.pos_kpc = x;
+        res.vel_kms = [v[0] / KMS, v[1] / KMS, v[2] / KMS];
+        res.r_kpc = norm(x);
+        res.backsplash = status.alive()
+            && tracker.is_some_and(|tr| tr.been_inside)
+            && res.r_kpc > cur_rv;
+    }
+    keep.then(|| Body {
+        field: Vec::new(),
+        t_start: start.t,
+        segs,
+        dead: ended.is_some(),
+    })
 }
 
 /// A test particle (no friction, no stripping) in the host from `t0` to `t1`; returns the
@@ -934,4 +1131,92 @@ pub fn integrate_point_mass(
         out.push((t, to_kms(&y)));
     }
     (out, peri, apo)
+}
+
+/// A subhalo in an isolated (field) halo that does not change: the parent's virial mass
+/// (Msun), radius (kpc) and concentration; the child's infall mass (Msun), virial radius (kpc)
+/// and concentration; its state relative to the parent at `t0` (kpc, km/s). Followed to `t1`
+/// with the options' friction, stripping and merger rules (no host: for checks of the
+/// parent–child dynamics against published merging times).
+#[allow(clippy::too_many_arguments)]
+pub fn evolve_in_isolated_halo(
+    options: &OrbitOptions,
+    parent: (f64, f64, f64),
+    child: (f64, f64, f64),
+    x0_kpc: [f64; 3],
+    v0_kms: [f64; 3],
+    t0: f64,
+    t1: f64,
+) -> SubhaloResult {
+    use crate::host::{DiscBulgeParams, HostSnapshot};
+    let (m_p, r_p, c_p) = parent;
+    let fp = |t: f64| FieldPoint {
+        t,
+        m_vir: m_p,
+        r_vir: r_p,
+        m_s: m_p / mu(c_p),
+        r_s: r_p / c_p,
+    };
+    let body = Body {
+        field: vec![fp(t0), fp(t1)],
+        // never falls into anything
+        t_start: f64::INFINITY,
+        segs: Vec::new(),
+        dead: false,
+    };
+    let bodies = vec![Some(body), None];
+    // a host far away that plays no part (the chain never reaches it)
+    let b0 = DiscBulgeParams::none();
+    let host = EvolvingHost::fixed(HostSnapshot {
+        m_s: m_p,
+        r_s: r_p,
+        r_vir: 10.0 * r_p,
+        m_vir: m_p,
+        m_disc: b0.disc_mass_msun,
+        a_disc: b0.disc_a_kpc,
+        b_disc: b0.disc_b_kpc,
+        m_bulge: b0.bulge_mass_msun,
+        a_bulge: b0.bulge_a_kpc,
+    });
+    let (m_c, r_c, c_c) = child;
+    let structure = SubhaloStructure::nfw(m_c, r_c, c_c);
+    let a = Accretion {
+        branch: 2,
+        order: 2,
+        into_branch: 1,
+        t_infall_gyr: t0,
+        z_infall: f64::NAN,
+        m_infall_msun: m_c,
+        m_host_at_infall_msun: m_p,
+        m_peak_msun: m_c,
+        t_peak_gyr: t0,
+        group: 1,
+        t_host_infall_gyr: t1,
+        z_host_infall: f64::NAN,
+    };
+    let mut res = new_result(&a, &structure);
+    let ctx = Ctx {
+        host: &host,
+        options,
+        strip: Stripping {
+            alpha: options.stripping_alpha,
+        },
+        t_end: t1,
+    };
+    let v_vir = (G * m_p / r_p).sqrt();
+    let start = Start {
+        frame: Frame::Sub(0),
+        t: t0,
+        y: [
+            x0_kpc[0],
+            x0_kpc[1],
+            x0_kpc[2],
+            v0_kms[0] * KMS,
+            v0_kms[1] * KMS,
+            v0_kms[2] * KMS,
+        ],
+        scale: (r_p, v_vir),
+    };
+    follow(&ctx, &bodies, &[1, 2], &structure, &start, false, false, &mut res);
+    res
 }

@@ -220,6 +220,11 @@ impl Dopri5 {
         self.k1 = None;
     }
 
+    /// The stored derivative at the current point (after a step: at its end), if any.
+    pub fn derivative(&self) -> Option<State> {
+        self.k1
+    }
+
     /// Add `factor` times `part` to components `first..first + 3` of the stored derivative
     /// (for a right-hand side that changed by a known amount). False if none is stored.
     pub fn add_to_derivative(&mut self, first: usize, part: &[f64; 3], factor: f64) -> bool {
@@ -378,6 +383,11 @@ impl Rkn6 {
     /// Forget the stored acceleration.
     pub fn reset_derivative(&mut self) {
         self.k1 = None;
+    }
+
+    /// The stored acceleration at the current point (after a step: at its end), if any.
+    pub fn derivative(&self) -> Option<Vec3> {
+        self.k1
     }
 
     /// Take one accepted step from (t, y) (y = position and velocity), at most to `t_stop`.

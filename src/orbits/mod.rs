@@ -1,8 +1,11 @@
-//! Subhalo dynamics: infall orbits, integration in the evolving host with dynamical friction
-//! and tidal stripping, disruption, and the events along every orbit.
+//! Subhalo dynamics: infall orbits, integration in the evolving host (or, for satellites of
+//! satellites, in their parent) with dynamical friction and tidal stripping, disruption,
+//! mergers, and the events along every orbit.
 
+pub mod events;
 pub mod evolve;
 pub mod friction;
+pub mod in_parent;
 pub mod initial;
 pub mod integrate;
 pub mod stripping;
@@ -13,7 +16,8 @@ use serde::{Deserialize, Serialize};
 use crate::error::InvalidValue;
 
 pub use evolve::{
-    evolve_host_subhaloes, evolve_subhalo, integrate_point_mass, integrate_test_particle,
+    evolve_host_subhaloes, evolve_in_isolated_halo, evolve_subhalo, integrate_point_mass,
+    integrate_test_particle,
     SubhaloResult, SubhaloStatus,
 };
 pub use integrate::Tolerances;
@@ -41,10 +45,6 @@ pub struct OrbitOptions {
     /// Pericentre model: a subhalo whose pericentre comes inside this radius (kpc) is
     /// counted as destroyed by the disc at that pericentre.
     pub pericentre_cut_kpc: f64,
-    /// A subhalo of a subhalo orbits its parent at this fraction of the parent's virial
-    /// radius (at the time it fell in) and is released when the parent's tidal radius
-    /// shrinks inside that.
-    pub suborbit_fraction: f64,
     /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) that sinks inside this radius
     /// (kpc) has merged with the central galaxy and is removed (0 = never).
     pub central_merge_kpc: f64,
@@ -61,7 +61,6 @@ impl Default for OrbitOptions {
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            suborbit_fraction: 0.5,
             central_merge_kpc: 1.0,
         }
     }
@@ -105,12 +104,6 @@ impl OrbitOptions {
             self.pericentre_cut_kpc,
             (0.0..=200.0).contains(&self.pericentre_cut_kpc),
             "must be in [0, 200] kpc",
-        );
-        ck.num(
-            "suborbit_fraction",
-            self.suborbit_fraction,
-            self.suborbit_fraction > 0.0 && self.suborbit_fraction <= 1.0,
-            "must be in (0, 1]",
         );
         ck.num(
             "central_merge_kpc",

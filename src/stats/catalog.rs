@@ -155,8 +155,14 @@ impl Catalog {
         c
     }
 
-    /// Whether row i is physically disrupted.
-    pub fn disrupted_physical(&self, i: usize) -> bool {
-        self.status[i] == SubhaloStatus::DisruptedPhysical as u8
+    /// Whether row i is still a distinct bound object at the end: orbiting the host, or inside
+    /// another subhalo (not disrupted, not merged).
+    pub fn alive(&self, i: usize) -> bool {
+        SubhaloStatus::from_code(self.status[i]).is_some_and(|s| s.alive())
+    }
+
+    /// Whether row i is a satellite of a satellite at the end (inside another subhalo).
+    pub fn in_subhalo(&self, i: usize) -> bool {
+        self.status[i] == SubhaloStatus::InSubhalo as u8
     }
 }

@@ -54,7 +54,7 @@ impl FigureData {
     }
 
     fn add(&mut self, c: &Catalog, h: usize, i: usize, selection: &Selection) {
-        if c.disrupted_physical(i) {
+        if !c.alive(i) {
             return;
         }
         let rv = c.host_r_vir_kpc[h];
@@ -140,7 +140,7 @@ pub fn for_each_chunk(
                 fig.add(&c, h, i, &options.selection);
                 let x = c.r_kpc[i] / rv;
                 if c.backsplash[i]
-                    && !c.disrupted_physical(i)
+                    && c.alive(i)
                     && x >= b.shell_over_rvir[0]
                     && x <= b.shell_over_rvir[1]
                     && c.m_peak_msun[i] >= b.m_peak_msun[0]
@@ -150,7 +150,7 @@ pub fn for_each_chunk(
                 }
                 let keep = options.selection.passes(&c, h, i)
                     || sample.is_some_and(|s| {
-                        !c.disrupted_physical(i)
+                        options.selection.counts_status(&c, i)
                             && c.occupied[i]
                             && s.objects.iter().any(|o| {
                                 (c.r_kpc[i] - o.r_gc_kpc).abs() <= w.dr_kpc

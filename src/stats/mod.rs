@@ -2,6 +2,7 @@
 
 pub mod backsplash;
 pub mod catalog;
+pub mod census;
 pub mod clocks;
 pub mod compact;
 pub mod draws;
@@ -10,6 +11,7 @@ pub mod sample;
 pub mod tests;
 
 pub use catalog::Catalog;
+pub use census::{census, HostCensus};
 pub use clocks::{
     check_cosmology_indices, clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold,
 };

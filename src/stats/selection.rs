@@ -33,6 +33,10 @@ pub struct Selection {
     pub survival: Survival,
     /// Keep only satellites the configured survey would detect.
     pub observable_only: bool,
+    /// Count satellites of satellites (bound to another subhalo at the end) that lie inside
+    /// the radius range as the host's satellites, as observers count the companions of a
+    /// large satellite (default); false keeps only those orbiting the host on their own.
+    pub include_satellites_of_satellites: bool,
 }
 
 impl Default for Selection {
@@ -45,6 +49,7 @@ impl Default for Selection {
             r_over_rvir: [0.0, 1.0],
             survival: Survival::Pericentre,
             observable_only: false,
+            include_satellites_of_satellites: true,
         }
     }
 }
@@ -68,9 +73,15 @@ impl Selection {
         out
     }
 
+    /// Whether row i is a bound object this selection counts: alive at the end (in the host,
+    /// or inside another subhalo unless `include_satellites_of_satellites` is off).
+    pub fn counts_status(&self, c: &Catalog, i: usize) -> bool {
+        c.alive(i) && (self.include_satellites_of_satellites || !c.in_subhalo(i))
+    }
+
     /// Whether row i passes (needs the host index for R_vir).
     pub fn passes(&self, c: &Catalog, h: usize, i: usize) -> bool {
-        if c.disrupted_physical(i) || !c.occupied[i] {
+        if !self.counts_status(c, i) || !c.occupied[i] {
             return false;
         }
         if self.survival == Survival::Pericentre && c.t_disrupt_pericentre_gyr[i].is_finite() {

@@ -694,7 +694,7 @@ pub fn run_tests_raw(
                     let (mut k, mut early) = (0usize, 0usize);
                     for i in cat.rows(h) {
                         let sel = &options.selection;
-                        let alive = !cat.disrupted_physical(i)
+                        let alive = sel.counts_status(cat, i)
                             && cat.occupied[i]
                             && (sel.survival == super::selection::Survival::Physical
                                 || !cat.t_disrupt_pericentre_gyr[i].is_finite());
@@ -753,7 +753,7 @@ pub fn run_tests_raw(
                 .filter(|&i| {
                     let x = cat.r_kpc[i] / rv;
                     cat.backsplash[i]
-                        && !cat.disrupted_physical(i)
+                        && cat.alive(i)
                         && x >= b.shell_over_rvir[0]
                         && x <= b.shell_over_rvir[1]
                         && cat.m_peak_msun[i] >= b.m_peak_msun[0]

@@ -1,0 +1,118 @@
+//! The satellite population of Milky-Way-mass hosts (1.2e12 Msun, resolution 10^7.5 Msun,
+//! Planck 2018, default options, master seed 5): the census numbers that docs/validation.md
+//! quotes and `tests/validation/val_subhaloes.rs` checks, as medians (or sums) over hosts.
+//!
+//! Run: `cargo run --release --example population [N_HOSTS]` (default 32).
+
+use rayon::prelude::*;
+
+use retinue::rng::HostId;
+use retinue::stats::census::{census, HostCensus, SHMF_PSI};
+use retinue::synth::{synthesize_host, SynthOptions};
+use retinue::trees::{TreeBuilder, TreeSpec};
+use retinue::{Cosmology, LinearOptions, LinearTheory};
+
+fn median(mut v: Vec<f64>) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
+    }
+}
+
+fn main() {
+    let n_hosts: u32 = std::env::args()
+        .nth(1)
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(32);
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").expect("preset"),
+        LinearOptions::default(),
+    )
+    .expect("linear theory");
+    let opts = SynthOptions {
+        tree: TreeSpec::milky_way_default(),
+        host: Default::default(),
+        orbits: Default::default(),
+        galaxies: Default::default(),
+        survey: Default::default(),
+    };
+    let t6 = lt.cosmology().age_gyr(6.0);
+    let t0 = lt.cosmology().age0_gyr();
+    let start = std::time::Instant::now();
+    let cs: Vec<(HostCensus, f64)> = (0..n_hosts)
+        .into_par_iter()
+        .map_init(
+            || TreeBuilder::new(opts.tree.pch08).expect("builder"),
+            |b, i| {
+                let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, i), b).expect("host");
+                (census(&rec, t6), rec.summary.m_vir_msun)
+            },
+        )
+        .collect();
+    let secs = start.elapsed().as_secs_f64();
+    let med = |f: &dyn Fn(&HostCensus) -> f64| median(cs.iter().map(|(c, _)| f(c)).collect());
+    let sum = |f: &dyn Fn(&HostCensus) -> usize| cs.iter().map(|(c, _)| f(c)).sum::<usize>() as f64;
+    println!("{n_hosts} hosts in {secs:.1} s ({:.2} s per host on this machine's threads)", secs / n_hosts as f64);
+    println!(
+        "faint satellites (5e3 < M* < 1e7 inside R_vir), median per host: {} (order >= 2: {}, inside another subhalo: {}, first order: {})",
+        med(&|c| c.faint as f64),
+        med(&|c| c.faint_higher_order as f64),
+        med(&|c| c.faint_in_subhalo as f64),
+        med(&|c| c.faint_first_order as f64)
+    );
+    println!(
+        "M_V < 0 within 300 kpc: median {}; M_V < -8 within 300 kpc: {}, inside R_vir: {}",
+        med(&|c| c.mv0_within_300kpc as f64),
+        med(&|c| c.mv8_within_300kpc as f64),
+        med(&|c| c.mv8_inside_rvir as f64)
+    );
+    let mut all: Vec<f64> = cs.iter().map(|(c, _)| c.mv0_within_300kpc as f64).collect();
+    all.sort_by(f64::total_cmp);
+    println!("  M_V < 0 per host: {all:?}");
+    println!(
+        "stacked faint satellites: {:.4} of all; pre-processed (M* < 1e6): {:.3}; in a halo at z > 6: {:.3}",
+        sum(&|c| c.faint_stacked) / sum(&|c| c.faint),
+        sum(&|c| c.faint_dwarfs_preprocessed) / sum(&|c| c.faint_dwarfs),
+        sum(&|c| c.faint_dwarfs_in_halo_at_z6) / sum(&|c| c.faint_dwarfs)
+    );
+    println!(
+        "first-order faint satellites that fell back in: {:.3}; with >= 2 pericentres whose last is larger than the smallest: {:.3} (of {})",
+        sum(&|c| c.faint_refallen) / sum(&|c| c.faint_first_order),
+        sum(&|c| c.faint_last_peri_larger) / sum(&|c| c.faint_multi_peri),
+        sum(&|c| c.faint_multi_peri)
+    );
+    let k = cs.len() as f64;
+    for (j, psi) in SHMF_PSI.iter().enumerate() {
+        println!(
+            "N(m_bound > {psi:e} M_vir) inside R_vir, mean per host: all {:.1}, first order {:.1}",
+            cs.iter().map(|(c, _)| c.shmf_all[j] as f64).sum::<f64>() / k,
+            cs.iter().map(|(c, _)| c.shmf_first[j] as f64).sum::<f64>() / k
+        );
+    }
+    let comp: Vec<f64> = cs.iter().flat_map(|(c, _)| c.companions.iter().map(|x| x.1 as f64)).collect();
+    let recent: Vec<f64> = cs
+        .iter()
+        .flat_map(|(c, _)| c.companions.iter().filter(|x| x.0 > t0 - 4.0).map(|x| x.1 as f64))
+        .collect();
+    println!(
+        "companions of 1-3e11 first-order haloes (M* > 1e4, alive): median {} over {} haloes; fell in within 4 Gyr: median {} over {}",
+        median(comp.clone()),
+        comp.len(),
+        median(recent.clone()),
+        recent.len()
+    );
+    let names = ["in host", "disrupted", "in subhalo", "merged w/ parent", "merged w/ central"];
+    for (kk, name) in names.iter().enumerate() {
+        println!(
+            "status {kk} ({name}): first order {:.1}, higher order {:.1} per host",
+            cs.iter().map(|(c, _)| c.status_first[kk] as f64).sum::<f64>() / k,
+            cs.iter().map(|(c, _)| c.status_higher[kk] as f64).sum::<f64>() / k
+        );
+    }
+}

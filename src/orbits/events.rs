@@ -1,0 +1,224 @@
+//! Events along an orbit in the host, measured on the subhalo's position relative to the
+//! host's centre (its own orbit for a subhalo of the host, its parent's orbit plus its own
+//! offset for a satellite of a satellite): pericentres and apocentres (cubic Hermite
+//! interpolation of r(t) between accepted steps), crossings of the host's evolving virial
+//! radius, the last infall (the last crossing of R_vir made while moving inward, v_r < 0: the
+//! virial radius growing outward past a subhalo is not an infall), and the first pericentre
+//! inside the disc cut of the pericentre model.
+
+use super::integrate::State;
+
+#[inline]
+fn norm(a: [f64; 3]) -> f64 {
+    (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt()
+}
+
+#[inline]
+fn radial_velocity(y: &State) -> f64 {
+    let r = norm([y[0], y[1], y[2]]);
+    (y[0] * y[3] + y[1] * y[4] + y[2] * y[5]) / r
+}
+
+/// Cubic Hermite interpolation of r(s), s in [0, 1], from end values and derivatives
+/// (dr/ds = h v_r); returns the extremum inside (s, r) if there is one.
+pub(crate) fn hermite_extremum(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
+    // r(s) = a s^3 + b s^2 + c s + d
+    let a = 2.0 * r0 - 2.0 * r1 + d0 + d1;
+    let b = -3.0 * r0 + 3.0 * r1 - 2.0 * d0 - d1;
+    let c = d0;
+    let eval = |s: f64| ((a * s + b) * s + c) * s + r0;
+    // r'(s) = 3a s^2 + 2b s + c = 0
+    let roots: Vec<f64> = if a.abs() < 1e-14 * (b.abs() + c.abs()) {
+        if b.abs() > 0.0 {
+            vec![-c / (2.0 * b)]
+        } else {
+            vec![]
+        }
+    } else {
+        let disc = 4.0 * b * b - 12.0 * a * c;
+        if disc < 0.0 {
+            vec![]
+        } else {
+            let q = disc.sqrt();
+            vec![(-2.0 * b - q) / (6.0 * a), (-2.0 * b + q) / (6.0 * a)]
+        }
+    };
+    roots
+        .into_iter()
+        .filter(|s| (0.0..=1.0).contains(s))
+        .map(|s| (s, eval(s)))
+        .next()
+}
+
+/// Events of one subhalo in the host, from the time it (or its group) entered the host.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Tracker {
+    pub n_peri: u32,
+    pub t_peri_first: f64,
+    pub r_peri_first: f64,
+    pub r_peri_min: f64,
+    pub t_peri_last: f64,
+    pub r_peri_last: f64,
+    pub r_apo_last: f64,
+    /// Last crossing of R_vir made while moving inward (NaN: none yet).
+    pub t_last_infall: f64,
+    /// Crossings of R_vir in either direction, the entry counted as the first when the
+    /// subhalo starts inside: odd means inside at the end.
+    pub n_cross: u32,
+    pub been_inside: bool,
+    pub t_disrupt_peri: f64,
+    /// The next step is the first after the infall at the virial radius.
+    at_start: bool,
+}
+
+impl Tracker {
+    fn empty() -> Self {
+        Self {
+            n_peri: 0,
+            t_peri_first: f64::NAN,
+            r_peri_first: f64::NAN,
+            r_peri_min: f64::NAN,
+            t_peri_last: f64::NAN,
+            r_peri_last: f64::NAN,
+            r_apo_last: f64::NAN,
+            t_last_infall: f64::NAN,
+            n_cross: 0,
+            been_inside: false,
+            t_disrupt_peri: f64::NAN,
+            at_start: false,
+        }
+    }
+
+    /// A subhalo of the host at its infall through the host's virial radius at `t_start`,
+    /// moving inward: that is the first crossing (counted here, not left to the round-off of
+    /// r - R_vir = 0 at the start).
+    pub fn at_infall(t_start: f64) -> Self {
+        Self {
+            t_last_infall: t_start,
+            n_cross: 1,
+            at_start: true,
+            ..Self::empty()
+        }
+    }
+
+    /// A satellite of a satellite when its group enters the host at `t`, at distance `r` from
+    /// the host's centre (R_vir = `r_vir` then): inside, the group's entry is its first
+    /// crossing and infall; outside, it has not crossed yet.
+    pub fn with_group(t: f64, r: f64, r_vir: f64) -> Self {
+        if r < r_vir {
+            Self {
+                t_last_infall: t,
+                n_cross: 1,
+                been_inside: true,
+                ..Self::empty()
+            }
+        } else {
+            Self::empty()
+        }
+    }
+
+    /// Look for events between two accepted steps, from the host-centred states y0 at t0 and
+    /// y1 at t1 (rv0, rv1: the host's R_vir at t0 and t1; r_cut: the disc cut, kpc).
+    #[allow(clippy::too_many_arguments)]
+    pub fn step(&mut self, t0: f64, y0: &State, t1: f64, y1: &State, rv0: f64, rv1: f64, r_cut: f64) {
+        let h = t1 - t0;
+        let r0 = norm([y0[0], y0[1], y0[2]]);
+        let r1 = norm([y1[0], y1[1], y1[2]]);
+        let vr0 = radial_velocity(y0);
+        let vr1 = radial_velocity(y1);
+        if (vr0 < 0.0 && vr1 >= 0.0) || (vr0 > 0.0 && vr1 <= 0.0) {
+            let (s, r) = hermite_extremum(r0, r1, vr0 * h, vr1 * h).unwrap_or(if r0 < r1 {
+                (0.0, r0)
+            } else {
+                (1.0, r1)
+            });
+            let t = t0 + s * h;
+            if vr0 < 0.0 {
+                self.n_peri += 1;
+                if self.n_peri == 1 {
+                    self.t_peri_first = t;
+                    self.r_peri_first = r;
+                }
+                self.r_peri_min = if self.r_peri_min.is_nan() {
+                    r
+                } else {
+                    self.r_peri_min.min(r)
+                };
+                self.t_peri_last = t;
+                self.r_peri_last = r;
+                if r < r_cut && self.t_disrupt_peri.is_nan() {
+                    self.t_disrupt_peri = t;
+                }
+            } else {
+                self.r_apo_last = r;
+            }
+        }
+        let (d0, d1) = (r0 - rv0, r1 - rv1);
+        if std::mem::take(&mut self.at_start) {
+            // leaving the infall point: its crossing is already counted, unless the first
+            // step ends outside again (the virial radius was only touched)
+            if d1 < 0.0 {
+                self.been_inside = true;
+            } else {
+                self.n_cross = 0;
+            }
+            return;
+        }
+        if d1 < 0.0 || d0 < 0.0 {
+            self.been_inside = true;
+        }
+        if d0 >= 0.0 && d1 < 0.0 {
+            // inward crossing of R_vir (linear interpolation of r - R_vir); an infall only if
+            // the subhalo moved inward there (interpolated v_r < 0), not if R_vir grew past it
+            self.n_cross += 1;
+            let f = d0 / (d0 - d1);
+            if vr0 + f * (vr1 - vr0) < 0.0 {
+                self.t_last_infall = t0 + h * f;
+            }
+        } else if d0 < 0.0 && d1 >= 0.0 {
+            self.n_cross += 1;
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A subhalo just outside R_vir, still moving outward, while R_vir grows past it: a
+    /// crossing (the parity of the count stays right), not an infall.
+    #[test]
+    fn growing_virial_radius_is_not_an_infall() {
+        let mut tr = Tracker::at_infall(1.0);
+        // first step: inside (moving in)
+        let y0 = [99.0, 0.0, 0.0, -10.0, 0.0, 0.0];
+        let y1 = [95.0, 0.0, 0.0, -5.0, 0.0, 0.0];
+        tr.step(1.0, &y0, 1.1, &y1, 100.0, 100.0, 20.0);
+        // out through R_vir at apocentre-ish speed
+        let y2 = [105.0, 0.0, 0.0, 5.0, 0.0, 0.0];
+        tr.step(1.1, &y1, 1.3, &y2, 100.0, 100.0, 20.0);
+        assert_eq!(tr.n_cross, 2);
+        // still moving outward, but R_vir grows past it: crossing counted, infall unchanged
+        let y3 = [106.0, 0.0, 0.0, 1.0, 0.0, 0.0];
+        tr.step(1.3, &y2, 1.5, &y3, 100.0, 110.0, 20.0);
+        assert_eq!(tr.n_cross, 3);
+        assert_eq!(tr.t_last_infall, 1.0);
+        // out again, then a real infall: moving inward through a fixed R_vir
+        let y4 = [115.0, 0.0, 0.0, 1.0, 0.0, 0.0];
+        tr.step(1.5, &y3, 1.7, &y4, 110.0, 110.0, 20.0);
+        let y5 = [100.0, 0.0, 0.0, -20.0, 0.0, 0.0];
+        tr.step(1.7, &y4, 1.9, &y5, 110.0, 110.0, 20.0);
+        assert_eq!(tr.n_cross, 5);
+        assert!(tr.t_last_infall > 1.7 && tr.t_last_infall < 1.9);
+    }
+
+    #[test]
+    fn group_member_outside_has_not_crossed() {
+        let tr = Tracker::with_group(2.0, 320.0, 300.0);
+        assert_eq!(tr.n_cross, 0);
+        assert!(tr.t_last_infall.is_nan() && !tr.been_inside);
+        let tr = Tracker::with_group(2.0, 280.0, 300.0);
+        assert_eq!(tr.n_cross, 1);
+        assert_eq!(tr.t_last_infall, 2.0);
+    }
+}

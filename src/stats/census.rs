@@ -1,0 +1,163 @@
+//! A census of one synthesised host: the numbers that say whether its satellite population is
+//! believable, for comparison with published simulations and the Milky Way's satellites
+//! (tests in `tests/validation/val_subhaloes.rs`, `examples/population.rs`, docs/validation.md).
+//!
+//! Conventions: a *satellite* is an occupied subhalo alive at the end (in the host, or inside
+//! another subhalo: status 0 or 2) that never had a pericentre inside the disc cut
+//! (`t_disrupt_pericentre_gyr` NaN), at its own position relative to the host's centre.
+
+use crate::orbits::{SubhaloResult, SubhaloStatus};
+use crate::synth::HostRecord;
+
+/// Counts of one host.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct HostCensus {
+    /// Satellites with 5e3 < M* < 1e7 Msun inside R_vir (the demo's selection), and of them:
+    /// order >= 2, inside another subhalo at the end (status 2), order 1.
+    pub faint: usize,
+    pub faint_higher_order: usize,
+    pub faint_in_subhalo: usize,
+    pub faint_first_order: usize,
+    /// Satellites brighter than M_V = 0 within 300 kpc of the host's centre.
+    pub mv0_within_300kpc: usize,
+    /// Satellites brighter than M_V = -8 within 300 kpc, and inside R_vir.
+    pub mv8_within_300kpc: usize,
+    pub mv8_inside_rvir: usize,
+    /// Of the faint satellites: how many share their exact position with another satellite.
+    pub faint_stacked: usize,
+    /// Of the faint satellites with M* < 1e6 Msun: how many fell into a halo of at least
+    /// 1e10 Msun (at the time) before their group entered the host (pre-processed), and how
+    /// many were inside a halo other than the host at z > 6.
+    pub faint_dwarfs: usize,
+    pub faint_dwarfs_preprocessed: usize,
+    pub faint_dwarfs_in_halo_at_z6: usize,
+    /// Of the faint satellites of first order: how many have a last host infall later than
+    /// the first (they left R_vir and fell back).
+    pub faint_refallen: usize,
+    /// Of the faint satellites with two or more pericentres: how many have their last
+    /// pericentre larger than their smallest.
+    pub faint_multi_peri: usize,
+    pub faint_last_peri_larger: usize,
+    /// Bound objects alive inside R_vir, all orders and first order, with bound mass above
+    /// each of `SHMF_PSI` x M_vir (host's virial mass at the end).
+    pub shmf_all: [usize; 5],
+    pub shmf_first: [usize; 5],
+    /// For each first-order subhalo with 1e11 <= m_peak < 3e11 Msun: (cosmic time it fell in,
+    /// number of members of its group alive at the end with M* > 1e4 Msun).
+    pub companions: Vec<(f64, usize)>,
+    /// Statuses of every subhalo (counts by code 0-4), first order and higher order.
+    pub status_first: [usize; 5],
+    pub status_higher: [usize; 5],
+}
+
+/// The bound-mass thresholds of the cumulative mass functions, in units of the host's M_vir.
+pub const SHMF_PSI: [f64; 5] = [1e-5, 3e-5, 1e-4, 3e-4, 1e-3];
+
+fn is_satellite(s: &SubhaloResult, occupied: bool) -> bool {
+    occupied && s.status.alive() && s.t_disrupt_pericentre_gyr.is_nan() && s.r_kpc.is_finite()
+}
+
+/// The census of one host; `t_z6_gyr` is the cosmic time at z = 6 in the host's cosmology.
+pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
+    let rv = rec.summary.r_vir_kpc;
+    let m_vir = rec.summary.m_vir_msun;
+    let subs = &rec.subhaloes;
+    let gals = &rec.galaxies;
+    let mut c = HostCensus::default();
+    // branch -> row, for the chain of haloes each object fell into
+    let row_of: std::collections::HashMap<u32, usize> =
+        subs.iter().enumerate().map(|(i, s)| (s.branch, i)).collect();
+    let mut faint_pos: Vec<[u64; 3]> = Vec::new();
+    for (s, g) in subs.iter().zip(gals) {
+        let code = s.status as usize;
+        if s.order == 1 {
+            c.status_first[code] += 1;
+        } else {
+            c.status_higher[code] += 1;
+        }
+        if s.status.alive() && s.r_kpc < rv {
+            for (k, &psi) in SHMF_PSI.iter().enumerate() {
+                if s.m_bound_msun > psi * m_vir {
+                    c.shmf_all[k] += 1;
+                    if s.order == 1 {
+                        c.shmf_first[k] += 1;
+                    }
+                }
+            }
+        }
+        if !is_satellite(s, g.occupied) {
+            continue;
+        }
+        if s.r_kpc < 300.0 && g.m_v < 0.0 {
+            c.mv0_within_300kpc += 1;
+        }
+        if g.m_v < -8.0 {
+            c.mv8_within_300kpc += (s.r_kpc < 300.0) as usize;
+            c.mv8_inside_rvir += (s.r_kpc < rv) as usize;
+        }
+        if !(s.r_kpc < rv && g.mstar_msun > 5e3 && g.mstar_msun < 1e7) {
+            continue;
+        }
+        c.faint += 1;
+        if s.order == 1 {
+            c.faint_first_order += 1;
+            if s.t_last_host_infall_gyr > s.t_first_host_infall_gyr + 1e-9 {
+                c.faint_refallen += 1;
+            }
+        } else {
+            c.faint_higher_order += 1;
+        }
+        if s.status == SubhaloStatus::InSubhalo {
+            c.faint_in_subhalo += 1;
+        }
+        if s.n_pericentres >= 2 {
+            c.faint_multi_peri += 1;
+            if s.r_peri_last_kpc > s.r_peri_min_kpc * (1.0 + 1e-9) {
+                c.faint_last_peri_larger += 1;
+            }
+        }
+        faint_pos.push(s.pos_kpc.map(f64::to_bits));
+        if g.mstar_msun < 1e6 {
+            c.faint_dwarfs += 1;
+            if s.order > 1 && s.t_infall_gyr < t_z6_gyr {
+                c.faint_dwarfs_in_halo_at_z6 += 1;
+            }
+            // the chain of haloes it fell into before its group reached the host
+            let mut cur = s;
+            let mut pre = false;
+            while cur.order > 1 {
+                if cur.m_host_at_infall_msun >= 1e10 {
+                    pre = true;
+                    break;
+                }
+                match row_of.get(&cur.parent_branch) {
+                    Some(&p) => cur = &subs[p],
+                    None => break,
+                }
+            }
+            c.faint_dwarfs_preprocessed += pre as usize;
+        }
+    }
+    let mut sorted = faint_pos.clone();
+    sorted.sort_unstable();
+    for p in &faint_pos {
+        let lo = sorted.partition_point(|q| q < p);
+        let hi = sorted.partition_point(|q| q <= p);
+        if hi - lo > 1 {
+            c.faint_stacked += 1;
+        }
+    }
+    for s in subs.iter().filter(|s| {
+        s.order == 1 && s.m_peak_msun >= 1e11 && s.m_peak_msun < 3e11
+    }) {
+        let n = subs
+            .iter()
+            .zip(gals)
+            .filter(|(o, g)| {
+                o.group == s.branch && o.order > 1 && o.status.alive() && g.mstar_msun > 1e4
+            })
+            .count();
+        c.companions.push((s.t_infall_gyr, n));
+    }
+    c
+}
