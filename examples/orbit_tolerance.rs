@@ -10,7 +10,7 @@
 #[path = "common/hosts.rs"]
 mod hosts;
 
-use retinue::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult, SubhaloStatus};
+use retinue::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult};
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
@@ -47,10 +47,7 @@ fn main() {
             all.extend(evolve_host_subhaloes(&lt, hist, host, &opts, t0, &mut rng));
         }
         let secs = start.elapsed().as_secs_f64() / n_hosts as f64;
-        let alive: Vec<&SubhaloResult> = all
-            .iter()
-            .filter(|s| s.status == SubhaloStatus::Surviving)
-            .collect();
+        let alive: Vec<&SubhaloResult> = all.iter().filter(|s| s.status.alive()).collect();
         let mean_lm =
             alive.iter().map(|s| s.m_bound_msun.log10()).sum::<f64>() / alive.len() as f64;
         let peri: Vec<f64> = all
@@ -73,10 +70,7 @@ fn main() {
                 let (mut lost, mut gained) = (0, 0);
                 let mut dl = Vec::new();
                 for (a, b) in r.iter().zip(&all) {
-                    let (sa, sb) = (
-                        a.status == SubhaloStatus::Surviving,
-                        b.status == SubhaloStatus::Surviving,
-                    );
+                    let (sa, sb) = (a.status.alive(), b.status.alive());
                     lost += (sa && !sb) as usize;
                     gained += (!sa && sb) as usize;
                     if sa && sb {

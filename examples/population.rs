@@ -2,7 +2,8 @@
 //! Planck 2018, default options, master seed 5): the census numbers that docs/validation.md
 //! quotes and `tests/validation/val_subhaloes.rs` checks, as medians (or sums) over hosts.
 //!
-//! Run: `cargo run --release --example population [N_HOSTS]` (default 32).
+//! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO]` (default 32
+//! hosts and the default tolerance).
 
 use rayon::prelude::*;
 
@@ -35,10 +36,14 @@ fn main() {
         LinearOptions::default(),
     )
     .expect("linear theory");
+    let mut orbits = retinue::orbits::OrbitOptions::default();
+    if let Some(r) = std::env::args().nth(2).and_then(|s| s.parse().ok()) {
+        orbits.rtol_in_subhalo = r;
+    }
     let opts = SynthOptions {
         tree: TreeSpec::milky_way_default(),
         host: Default::default(),
-        orbits: Default::default(),
+        orbits,
         galaxies: Default::default(),
         survey: Default::default(),
     };
@@ -58,7 +63,10 @@ fn main() {
     let secs = start.elapsed().as_secs_f64();
     let med = |f: &dyn Fn(&HostCensus) -> f64| median(cs.iter().map(|(c, _)| f(c)).collect());
     let sum = |f: &dyn Fn(&HostCensus) -> usize| cs.iter().map(|(c, _)| f(c)).sum::<usize>() as f64;
-    println!("{n_hosts} hosts in {secs:.1} s ({:.2} s per host on this machine's threads)", secs / n_hosts as f64);
+    println!(
+        "{n_hosts} hosts in {secs:.1} s ({:.2} s per host on this machine's threads)",
+        secs / n_hosts as f64
+    );
     println!(
         "faint satellites (5e3 < M* < 1e7 inside R_vir), median per host: {} (order >= 2: {}, inside another subhalo: {}, first order: {})",
         med(&|c| c.faint as f64),
@@ -95,10 +103,18 @@ fn main() {
             cs.iter().map(|(c, _)| c.shmf_first[j] as f64).sum::<f64>() / k
         );
     }
-    let comp: Vec<f64> = cs.iter().flat_map(|(c, _)| c.companions.iter().map(|x| x.1 as f64)).collect();
+    let comp: Vec<f64> = cs
+        .iter()
+        .flat_map(|(c, _)| c.companions.iter().map(|x| x.1 as f64))
+        .collect();
     let recent: Vec<f64> = cs
         .iter()
-        .flat_map(|(c, _)| c.companions.iter().filter(|x| x.0 > t0 - 4.0).map(|x| x.1 as f64))
+        .flat_map(|(c, _)| {
+            c.companions
+                .iter()
+                .filter(|x| x.0 > t0 - 4.0)
+                .map(|x| x.1 as f64)
+        })
         .collect();
     println!(
         "companions of 1-3e11 first-order haloes (M* > 1e4, alive): median {} over {} haloes; fell in within 4 Gyr: median {} over {}",
@@ -107,12 +123,24 @@ fn main() {
         median(recent.clone()),
         recent.len()
     );
-    let names = ["in host", "disrupted", "in subhalo", "merged w/ parent", "merged w/ central"];
+    let names = [
+        "in host",
+        "disrupted",
+        "in subhalo",
+        "merged w/ parent",
+        "merged w/ central",
+    ];
     for (kk, name) in names.iter().enumerate() {
         println!(
             "status {kk} ({name}): first order {:.1}, higher order {:.1} per host",
-            cs.iter().map(|(c, _)| c.status_first[kk] as f64).sum::<f64>() / k,
-            cs.iter().map(|(c, _)| c.status_higher[kk] as f64).sum::<f64>() / k
+            cs.iter()
+                .map(|(c, _)| c.status_first[kk] as f64)
+                .sum::<f64>()
+                / k,
+            cs.iter()
+                .map(|(c, _)| c.status_higher[kk] as f64)
+                .sum::<f64>()
+                / k
         );
     }
 }

@@ -120,7 +120,16 @@ impl Tracker {
     /// Look for events between two accepted steps, from the host-centred states y0 at t0 and
     /// y1 at t1 (rv0, rv1: the host's R_vir at t0 and t1; r_cut: the disc cut, kpc).
     #[allow(clippy::too_many_arguments)]
-    pub fn step(&mut self, t0: f64, y0: &State, t1: f64, y1: &State, rv0: f64, rv1: f64, r_cut: f64) {
+    pub fn step(
+        &mut self,
+        t0: f64,
+        y0: &State,
+        t1: f64,
+        y1: &State,
+        rv0: f64,
+        rv1: f64,
+        r_cut: f64,
+    ) {
         let h = t1 - t0;
         let r0 = norm([y0[0], y0[1], y0[2]]);
         let r1 = norm([y1[0], y1[1], y1[2]]);

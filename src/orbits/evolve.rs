@@ -199,30 +199,28 @@ fn count_rhs() {
 }
 
 /// Right-hand side in the host: host gravity plus friction on mass m with Coulomb logarithm
-/// `ll` (friction off when `ll` <= 0).
+/// `ll` (friction off when `ll` <= 0); for `integrate_point_mass`.
 #[inline]
 fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
-    rhs_parts(host, ll, m, t, y).0
+    count_rhs();
+    let mut a = host.snapshot(t).accel(pos(y));
+    let af = host_friction(host, t, y, m, ll);
+    for i in 0..3 {
+        a[i] += af[i];
+    }
+    [y[3], y[4], y[5], a[0], a[1], a[2]]
 }
 
-/// `rhs` and its friction part.
+/// Dynamical friction of the host's halo on mass m with Coulomb logarithm `ll` (zero when
+/// `ll` <= 0).
 #[inline]
-fn rhs_parts(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> (State, Vec3) {
-    count_rhs();
-    let s = host.snapshot(t);
-    let x = pos(y);
-    let mut a = s.accel(x);
-    let mut af = [0.0; 3];
-    if ll > 0.0 && m > 0.0 {
-        let r = norm(x);
-        let rho = s.friction_density(r);
-        let sig = host.sigma(r, t);
-        af = friction::acceleration(vel(y), rho, sig, m, ll);
-        a[0] += af[0];
-        a[1] += af[1];
-        a[2] += af[2];
+fn host_friction(host: &EvolvingHost, t: f64, y: &State, m: f64, ll: f64) -> Vec3 {
+    if ll <= 0.0 || m <= 0.0 {
+        return [0.0; 3];
     }
-    ([y[3], y[4], y[5], a[0], a[1], a[2]], af)
+    let r = norm(pos(y));
+    let rho = host.snapshot(t).friction_density(r);
+    friction::acceleration(vel(y), rho, host.sigma(r, t), m, ll)
 }
 
 /// The host's acceleration alone (the right-hand side of a test particle for `Rkn6`).
@@ -232,98 +230,32 @@ fn accel_free(host: &EvolvingHost, t: f64, x: &Vec3) -> Vec3 {
     host.snapshot(t).accel(*x)
 }
 
-/// The two integrators of one orbit and what their stored derivatives were computed with:
-/// steps without friction take the Runge–Kutta–Nyström pair, steps with friction (the force
-/// depends on the velocity) Dormand–Prince.
+/// The integrator of one orbit: the Runge–Kutta–Nyström pair for gravity (which depends on
+/// time and position only), with dynamical friction, when it acts, added by Strang splitting
+/// (half kicks at both ends of each step; `Rkn6::step_kicked`).
 #[derive(Debug)]
 struct Mover {
-    dopri: Dopri5,
     rkn: Rkn6,
-    /// The last step was taken without friction (by `rkn`).
-    k1_free: bool,
-    /// Mass and Coulomb logarithm of the last friction step.
-    last_m: f64,
-    last_ll: f64,
-    /// The friction part of the integrator's stored derivative.
-    last_friction: Vec3,
-    /// A step has been taken since the last reset.
-    stepped: bool,
+    /// Friction at the end of the last step, if it had friction, with the mass and Coulomb
+    /// logarithm it was computed for (the next step starts from it: the force is
+    /// proportional to m ln Lambda, so a change of either rescales it).
+    kick: Option<(Vec3, f64, f64)>,
 }
 
 impl Mover {
     fn new(tol: Tolerances, h_max: f64) -> Self {
         Self {
-            dopri: Dopri5::new(tol, 1e-3, h_max),
             rkn: Rkn6::new(tol, 1e-3, h_max),
-            k1_free: false,
-            last_m: f64::NAN,
-            last_ll: f64::NAN,
-            last_friction: [0.0; 3],
-            stepped: false,
+            kick: None,
         }
     }
 
     /// Forget the stored derivatives (the right-hand side changed discontinuously: a new
     /// frame, or a change in the haloes around the container); new tolerances.
     fn reset(&mut self, tol: Tolerances) {
-        self.dopri.reset_derivative();
         self.rkn.reset_derivative();
-        self.dopri.ctl.tol = tol;
         self.rkn.ctl.tol = tol;
-        self.last_m = f64::NAN;
-        self.last_ll = f64::NAN;
-    }
-
-    /// Prepare the stored derivative for a step without friction (`None`) or with friction on
-    /// mass m and Coulomb logarithm ll (`Some((m, ll))`).
-    fn prepare(&mut self, friction: Option<(f64, f64)>) {
-        let stale = match friction {
-            None => !self.k1_free,
-            Some((m, ll)) => {
-                let fresh = self.k1_free || self.last_m.is_nan();
-                let changed = fresh
-                    || (m / self.last_m - 1.0).abs() > 1e-3
-                    || (ll / self.last_ll - 1.0).abs() > 1e-3;
-                let mut stale = fresh;
-                if changed && !fresh {
-                    // the friction force is proportional to m ln(Lambda): the stored
-                    // derivative is brought to the new values by rescaling its friction part
-                    // (no new evaluation)
-                    let factor = (m * ll) / (self.last_m * self.last_ll);
-                    // (a reset if the old values were degenerate)
-                    stale = !(factor.is_finite()
-                        && self
-                            .dopri
-                            .add_to_derivative(3, &self.last_friction, factor - 1.0));
-                    for a in &mut self.last_friction {
-                        *a *= factor;
-                    }
-                }
-                if changed {
-                    self.last_m = m;
-                    self.last_ll = ll;
-                }
-                stale
-            }
-        };
-        if stale {
-            // the right-hand side changed, or the other integrator took the last step: the
-            // stored first-stage derivative is stale; the step size carries over
-            match friction {
-                None => {
-                    self.rkn.reset_derivative();
-                    if self.stepped {
-                        self.rkn.ctl.h = self.dopri.ctl.h;
-                    }
-                }
-                Some(_) => {
-                    self.dopri.reset_derivative();
-                    if self.k1_free && self.stepped {
-                        self.dopri.ctl.h = self.rkn.ctl.h;
-                    }
-                }
-            }
-        }
+        self.kick = None;
     }
 
     /// One step without friction, acceleration `f`.
@@ -334,46 +266,49 @@ impl Mover {
         y: &State,
         t_stop: f64,
     ) -> (f64, State) {
-        self.prepare(None);
-        let out = self.rkn.step(f, t, y, t_stop);
-        self.k1_free = true;
-        self.stepped = true;
-        out
+        self.kick = None;
+        self.rkn.step(f, t, y, t_stop)
     }
 
-    /// One step with friction on mass m (Coulomb logarithm ll); `f` returns the derivative and
-    /// its friction part.
-    fn step_friction<F: FnMut(f64, &State, f64, f64) -> (State, Vec3)>(
+    /// One step with friction `fr(t, y, m, ll)` on mass m (Coulomb logarithm ll), gravity `f`.
+    #[allow(clippy::too_many_arguments)]
+    fn step_friction<F, K>(
         &mut self,
         f: &mut F,
+        fr: &mut K,
         m: f64,
         ll: f64,
         t: f64,
         y: &State,
         t_stop: f64,
-    ) -> (f64, State) {
-        self.prepare(Some((m, ll)));
-        let (ll, m) = (self.last_ll, self.last_m);
-        let mut fric = [0.0; 3];
-        let mut g = |tt: f64, yy: &State| {
-            let (d, a_f) = f(tt, yy, m, ll);
-            fric = a_f;
-            d
+    ) -> (f64, State)
+    where
+        F: FnMut(f64, &Vec3) -> Vec3,
+        K: FnMut(f64, &State, f64, f64) -> Vec3,
+    {
+        let k0 = match self.kick {
+            Some((k, m0, l0)) if m0 * l0 > 0.0 => {
+                let q = (m * ll) / (m0 * l0);
+                [k[0] * q, k[1] * q, k[2] * q]
+            }
+            _ => fr(t, y, m, ll),
         };
-        let out = self.dopri.step(&mut g, t, y, t_stop);
-        self.last_friction = fric;
-        self.k1_free = false;
-        self.stepped = true;
-        out
+        let mut kick = |tt: f64, yy: &State| {
+            count_rhs();
+            fr(tt, yy, m, ll)
+        };
+        let (t1, y1, k1) = self.rkn.step_kicked(f, &mut kick, k0, t, y, t_stop);
+        self.kick = Some((k1, m, ll));
+        (t1, y1)
     }
 
-    /// The acceleration at the end of the last step (the integrator's stored derivative).
+    /// The acceleration at the end of the last step (gravity and friction).
     fn acceleration(&self) -> Option<Vec3> {
-        if self.k1_free {
-            self.rkn.derivative()
-        } else {
-            self.dopri.derivative().map(|d| [d[3], d[4], d[5]])
-        }
+        let g = self.rkn.derivative()?;
+        Some(match self.kick {
+            Some((k, _, _)) => [g[0] + k[0], g[1] + k[1], g[2] + k[2]],
+            None => g,
+        })
     }
 }
 
@@ -388,20 +323,24 @@ struct Start {
 }
 
 /// Integrator tolerances in a frame of virial radius r_vir (kpc) and speed v_vir (kpc/Gyr):
-/// the absolute tolerances are rtol x 10 kpc and 10 kpc/Gyr in the host (a Milky-Way-mass host:
-/// R_vir/30 and V_vir/13) and scale with the container's size inside a subhalo.
-fn tolerances(rtol: f64, frame: Frame, scale: (f64, f64)) -> Tolerances {
+/// in the host, `rtol` with absolute tolerances rtol x 10 kpc and 10 kpc/Gyr (for a
+/// Milky-Way-mass host: R_vir/30 and V_vir/13); inside a subhalo, `rtol_in_subhalo` with
+/// absolute tolerances that scale in the same way with that subhalo's R_vir and V_vir.
+fn tolerances(options: &OrbitOptions, frame: Frame, scale: (f64, f64)) -> Tolerances {
     match frame {
         Frame::Host => Tolerances {
-            rtol,
-            atol_pos_kpc: rtol * 10.0,
-            atol_vel_kpc_gyr: rtol * 10.0,
+            rtol: options.rtol,
+            atol_pos_kpc: options.rtol * 10.0,
+            atol_vel_kpc_gyr: options.rtol * 10.0,
         },
-        Frame::Sub(_) => Tolerances {
-            rtol,
-            atol_pos_kpc: rtol * scale.0 / 30.0,
-            atol_vel_kpc_gyr: rtol * scale.1 / 13.0,
-        },
+        Frame::Sub(_) => {
+            let rtol = options.rtol_in_subhalo;
+            Tolerances {
+                rtol,
+                atol_pos_kpc: rtol * scale.0 / 30.0,
+                atol_vel_kpc_gyr: rtol * scale.1 / 13.0,
+            }
+        }
     }
 }
 
@@ -525,7 +464,11 @@ pub fn evolve_host_subhaloes<R: Rng>(
                 }
                 Some(p) => {
                     let m = a.m_host_at_infall_msun;
-                    (m, MassDefinition::Vir.radius_kpc(cosmo, m, z), Frame::Sub(p))
+                    (
+                        m,
+                        MassDefinition::Vir.radius_kpc(cosmo, m, z),
+                        Frame::Sub(p),
+                    )
                 }
             };
             let v_c = (G * m_c / r_c).sqrt();
@@ -552,8 +495,8 @@ pub fn evolve_host_subhaloes<R: Rng>(
     let mut out: Vec<Option<SubhaloResult>> = vec![None; n];
     let mut stack: Vec<usize> = Vec::new();
     let mut group: Vec<usize> = Vec::new();
-    for root in 0..n {
-        if parent[root].is_some() {
+    for (root, p) in parent.iter().enumerate() {
+        if p.is_some() {
             continue; // followed with its group
         }
         stack.push(root);
@@ -632,17 +575,10 @@ pub fn evolve_subhalo<R: Rng>(
 
 /// The container's mass that sets the friction threshold: the host's virial mass (given), a field
 /// halo's virial mass, or a subhalo's bound mass.
-fn container_mass(m_vir_host: f64, bodies: &[Option<Body>], chain: &Option<Chain>, t: f64) -> f64 {
+fn container_mass(m_vir_host: f64, chain: &Option<Chain>, t: f64) -> f64 {
     match chain {
         None => m_vir_host,
-        Some(c) => {
-            let b = bodies[c.container()].as_ref().expect("followed");
-            if c.container_inside() {
-                c.container_profile(bodies, t).m_cap
-            } else {
-                b.field_virial(t).0
-            }
-        }
+        Some(c) => c.container_mass(t),
     }
 }
 
@@ -682,10 +618,7 @@ fn follow(
     let mut r_t = f64::INFINITY;
     let mut prof_m = m;
     let mut prof = structure.profile(m);
-    let mut mover = Mover::new(
-        tolerances(options.rtol, frame, scale),
-        options.max_step_gyr,
-    );
+    let mut mover = Mover::new(tolerances(options, frame, scale), options.max_step_gyr);
     let mut chain: Option<Chain> = match frame {
         Frame::Host => None,
         Frame::Sub(c) => Some(Chain::build(bodies, c, t)),
@@ -694,7 +627,7 @@ fn follow(
     let in_host = |chain: &Option<Chain>, t: f64, y: &State| -> Option<State> {
         match chain {
             None => Some(*y),
-            Some(c) => c.container_in_host(bodies, t).map(|s| add6(&s, y)),
+            Some(c) => c.container_in_host(t).map(|s| add6(&s, y)),
         }
     };
     let mut abs = in_host(&chain, t, &y);
@@ -711,7 +644,7 @@ fn follow(
     let gravity = |chain: &Option<Chain>, t: f64, y: &State| -> Vec3 {
         match chain {
             None => host.snapshot(t).accel(pos(y)),
-            Some(c) => c.accel(bodies, host, t, pos(y)),
+            Some(c) => c.accel(host, t, pos(y)),
         }
     };
     let push_point =
@@ -744,14 +677,13 @@ fn follow(
     // the friction force needs the container's mass inside r: the host's, from the last point
     let mut m_enc_cont = match &chain {
         None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
-        Some(c) => c.container_profile(bodies, t).mass(norm(pos(&y))),
+        Some(c) => c.container_profile(t).mass(norm(pos(&y))),
     };
     while t < t_end && ended.is_none() {
         // the haloes around the container changed (an infall, a release or an end): rebuild
         // the chain; if the container itself has ended, leave it
         if chain.as_ref().is_some_and(|c| t >= c.valid_until) {
-            loop {
-                let Frame::Sub(ci) = frame else { break };
+            while let Frame::Sub(ci) = frame {
                 let cb = bodies[ci].as_ref().expect("followed");
                 if !(cb.dead && t >= cb.t_last()) {
                     break;
@@ -776,7 +708,7 @@ fn follow(
                 Frame::Host => None,
                 Frame::Sub(c) => Some(Chain::build(bodies, c, t)),
             };
-            mover.reset(tolerances(options.rtol, frame, scale));
+            mover.reset(tolerances(options, frame, scale));
             abs = in_host(&chain, t, &y);
             if tracker.is_none() {
                 tracker = abs.map(|s| Tracker::with_group(t, norm(pos(&s)), cur_rv));
@@ -790,7 +722,7 @@ fn follow(
             prev_tide = None;
             m_enc_cont = match &chain {
                 None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
-                Some(c) => c.container_profile(bodies, t).mass(norm(pos(&y))),
+                Some(c) => c.container_profile(t).mass(norm(pos(&y))),
             };
         }
         let mut t_stop = t_end;
@@ -799,17 +731,17 @@ fn follow(
             if c.host {
                 // inside the host, steps end at the container's points, so that the events of
                 // the host-centred orbit (the container's pericentres) are resolved
-                t_stop = t_stop.min(c.container_next_point(bodies, t));
+                t_stop = t_stop.min(c.container_next_point(t));
             }
             if t_stop <= t {
                 // (coincident boundaries: never a step of zero length)
-                t_stop = t_end.min(c.container_next_point(bodies, t)).max(t + 1e-9);
+                t_stop = t_end.min(c.container_next_point(t)).max(t + 1e-9);
             }
         }
         // Friction is negligible for m < 1e-4 of the container's mass (sinking times > 1e3
         // dynamical times; physics reference sheet sec. 9: negligible below 1e-3 within a
         // Hubble time).
-        let fr = options.friction && m > 1e-4 * container_mass(cur_mvir, bodies, &chain, t);
+        let fr = options.friction && m > 1e-4 * container_mass(cur_mvir, &chain, t);
         #[cfg(feature = "orbit-profile")]
         let before = profile::RHS_COUNT.with(|c| c.get());
         let (t1, y1) = match (&chain, fr) {
@@ -819,23 +751,26 @@ fn follow(
             }
             (None, true) => {
                 let ll = friction::coulomb_log(m_enc_cont, m);
-                let mut f = |tt: f64, yy: &State, mm: f64, l: f64| rhs_parts(host, l, mm, tt, yy);
-                mover.step_friction(&mut f, m, ll, t, &y, t_stop)
+                let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
+                let mut k =
+                    |tt: f64, yy: &State, mm: f64, l: f64| host_friction(host, tt, yy, mm, l);
+                mover.step_friction(&mut f, &mut k, m, ll, t, &y, t_stop)
             }
             (Some(c), false) => {
                 let mut f = |tt: f64, x: &Vec3| {
                     count_rhs();
-                    c.accel(bodies, host, tt, *x)
+                    c.accel(host, tt, *x)
                 };
                 mover.step_free(&mut f, t, &y, t_stop)
             }
             (Some(c), true) => {
                 let ll = friction::coulomb_log(m_enc_cont, m);
-                let mut f = |tt: f64, yy: &State, mm: f64, l: f64| {
+                let mut f = |tt: f64, x: &Vec3| {
                     count_rhs();
-                    c.derivative(bodies, host, tt, yy, mm, l)
+                    c.accel(host, tt, *x)
                 };
-                mover.step_friction(&mut f, m, ll, t, &y, t_stop)
+                let mut k = |tt: f64, yy: &State, mm: f64, l: f64| c.friction(tt, yy, mm, l);
+                mover.step_friction(&mut f, &mut k, m, ll, t, &y, t_stop)
             }
         };
         #[cfg(feature = "orbit-profile")]
@@ -855,8 +790,9 @@ fn follow(
             e.2 += t1 - t;
         });
         let h = t1 - t;
+        let mut y1 = y1;
         let snap1 = host.snapshot(t1);
-        let abs1 = in_host(&chain, t1, &y1);
+        let mut abs1 = in_host(&chain, t1, &y1);
         // the strongest tide and the container's mass inside r
         let (denom, r_tide, m_tide) = match &chain {
             None => {
@@ -865,7 +801,7 @@ fn follow(
                 (d, norm(pos(&y1)), m_enc)
             }
             Some(c) => {
-                let tide = c.strongest_tide(bodies, t1, &y1);
+                let tide = c.strongest_tide(t1, &y1);
                 m_enc_cont = tide.m_container;
                 let mut best = (tide.denom, tide.r, tide.m_enc);
                 if let Some(a1) = &abs1 {
@@ -894,10 +830,29 @@ fn follow(
             prev_tide = Some((m_t, rate));
             m = ctx.strip.step(m, m_t_step, h, 1.0 / rate_step);
         }
+        // the friction step's closing half kick was computed for the mass and Coulomb
+        // logarithm at the start of the step: bring it to those at the end (the force is
+        // proportional to m ln Lambda), so that each half kick uses the mass of its own end
+        // of the step (second order in the step also while the mass drops)
+        if fr {
+            if let Some((k1, m0, l0)) = mover.kick {
+                let ll1 = friction::coulomb_log(m_enc_cont, m);
+                let q = (m * ll1) / (m0 * l0) - 1.0;
+                if q != 0.0 && q.is_finite() {
+                    for i in 0..3 {
+                        let dv = 0.5 * h * q * k1[i];
+                        y1[i + 3] += dv;
+                        if let Some(a) = abs1.as_mut() {
+                            a[i + 3] += dv;
+                        }
+                    }
+                    mover.kick = Some((k1.map(|k| k * (1.0 + q)), m, ll1));
+                }
+            }
+        }
         // events in the host
         if let (Some(a0), Some(a1)) = (&abs, &abs1) {
-            let tr =
-                tracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(a0)), cur_rv));
+            let tr = tracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(a0)), cur_rv));
             tr.step(
                 t,
                 a0,
@@ -922,7 +877,9 @@ fn follow(
                 prof = structure.profile(m);
                 prof_m = m;
             }
-            let a1 = mover.acceleration().unwrap_or_else(|| gravity(&chain, t, &y));
+            let a1 = mover
+                .acceleration()
+                .unwrap_or_else(|| gravity(&chain, t, &y));
             push_point(&mut segs, frame, point(t, y, a1, m, prof, r_t), false);
         }
         // the end of the subhalo: stripped below the thresholds, or merged
@@ -936,7 +893,7 @@ fn follow(
             let sunk = fr
                 && chain
                     .as_ref()
-                    .is_some_and(|c| norm(pos(&y)) < c.container_profile(bodies, t).r_s);
+                    .is_some_and(|c| norm(pos(&y)) < c.container_profile(t).r_s);
             if sunk {
                 res.t_merge_gyr = t;
                 ended = Some(SubhaloStatus::MergedWithParent);
@@ -968,8 +925,8 @@ fn follow(
                 }
                 // beyond the container's tidal radius (once the container is inside another
                 // halo): it leaves for the halo the container orbits
-                if c.container_inside() && r_rel > c.container_profile(bodies, t).r_t {
-                    release = c.container_state(bodies, t);
+                if c.container_inside() && r_rel > c.container_profile(t).r_t {
+                    release = c.container_state(t);
                 }
             }
         }
@@ -990,12 +947,12 @@ fn follow(
                 Frame::Host => None,
                 Frame::Sub(ci) => Some(Chain::build(bodies, ci, t)),
             };
-            mover.reset(tolerances(options.rtol, frame, scale));
+            mover.reset(tolerances(options, frame, scale));
             abs = in_host(&chain, t, &y);
             prev_tide = None;
             m_enc_cont = match &chain {
                 None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
-                Some(c) => c.container_profile(bodies, t).mass(norm(pos(&y))),
+                Some(c) => c.container_profile(t).mass(norm(pos(&y))),
             };
             if keep {
                 let a0 = gravity(&chain, t, &y);
@@ -1035,9 +992,8 @@ fn follow(
         res.pos_kpc = x;
         res.vel_kms = [v[0] / KMS, v[1] / KMS, v[2] / KMS];
         res.r_kpc = norm(x);
-        res.backsplash = status.alive()
-            && tracker.is_some_and(|tr| tr.been_inside)
-            && res.r_kpc > cur_rv;
+        res.backsplash =
+            status.alive() && tracker.is_some_and(|tr| tr.been_inside) && res.r_kpc > cur_rv;
     }
     keep.then(|| Body {
         field: Vec::new(),
@@ -1217,6 +1173,98 @@ pub fn evolve_in_isolated_halo(
         ],
         scale: (r_p, v_vir),
     };
-    follow(&ctx, &bodies, &[1, 2], &structure, &start, false, false, &mut res);
+    follow(
+        &ctx,
+        &bodies,
+        &[1, 2],
+        &structure,
+        &start,
+        false,
+        false,
+        &mut res,
+    );
     res
+}
+
+/// A subhalo (the parent) and a satellite of it (the child) in a host, both starting at `t0`:
+/// the parent at `parent_state` in the host frame, the child at `child_state` relative to the
+/// parent (positions kpc, velocities km/s); structures as (infall mass Msun, virial radius kpc,
+/// concentration). Followed to `t1` with the options (for checks of the parent–child frames
+/// against a direct integration in the host frame). Returns (parent, child).
+#[allow(clippy::too_many_arguments)]
+pub fn evolve_pair_in_host(
+    options: &OrbitOptions,
+    host: &EvolvingHost,
+    parent: (f64, f64, f64),
+    parent_state: ([f64; 3], [f64; 3]),
+    child: (f64, f64, f64),
+    child_state: ([f64; 3], [f64; 3]),
+    t0: f64,
+    t1: f64,
+) -> (SubhaloResult, SubhaloResult) {
+    let ctx = Ctx {
+        host,
+        options,
+        strip: Stripping {
+            alpha: options.stripping_alpha,
+        },
+        t_end: t1,
+    };
+    let kms = |x: [f64; 3], v: [f64; 3]| -> State {
+        [x[0], x[1], x[2], v[0] * KMS, v[1] * KMS, v[2] * KMS]
+    };
+    let acc = |branch: u32, order: u16, into: u32, m: f64, m_host: f64| Accretion {
+        branch,
+        order,
+        into_branch: into,
+        t_infall_gyr: t0,
+        z_infall: f64::NAN,
+        m_infall_msun: m,
+        m_host_at_infall_msun: m_host,
+        m_peak_msun: m,
+        t_peak_gyr: t0,
+        group: 1,
+        t_host_infall_gyr: t0,
+        z_host_infall: f64::NAN,
+    };
+    let (m_p, r_p, c_p) = parent;
+    let s_p = SubhaloStructure::nfw(m_p, r_p, c_p);
+    let snap = host.snapshot(t0);
+    let mut res_p = new_result(&acc(1, 1, 0, m_p, snap.m_vir), &s_p);
+    let start_p = Start {
+        frame: Frame::Host,
+        t: t0,
+        y: kms(parent_state.0, parent_state.1),
+        scale: (snap.r_vir, (G * snap.m_vir / snap.r_vir).sqrt()),
+    };
+    let mut body =
+        follow(&ctx, &[], &[1], &s_p, &start_p, true, true, &mut res_p).expect("a kept trajectory");
+    body.field = vec![FieldPoint {
+        t: t0,
+        m_vir: m_p,
+        r_vir: r_p,
+        m_s: m_p / mu(c_p),
+        r_s: r_p / c_p,
+    }];
+    let bodies = vec![Some(body), None];
+    let (m_c, r_c, c_c) = child;
+    let s_c = SubhaloStructure::nfw(m_c, r_c, c_c);
+    let mut res_c = new_result(&acc(2, 2, 1, m_c, m_p), &s_c);
+    let start_c = Start {
+        frame: Frame::Sub(0),
+        t: t0,
+        y: kms(child_state.0, child_state.1),
+        scale: (r_p, (G * m_p / r_p).sqrt()),
+    };
+    follow(
+        &ctx,
+        &bodies,
+        &[1, 2],
+        &s_c,
+        &start_c,
+        false,
+        false,
+        &mut res_c,
+    );
+    (res_p, res_c)
 }

@@ -124,27 +124,6 @@ impl Profile {
         [g * x[0], g * x[1], g * x[2]]
     }
 
-    /// Acceleration at x and the density at |x| (zero beyond the cap) from one evaluation
-    /// of the enclosed mass; and |x|.
-    #[inline]
-    pub fn accel_and_density(&self, x: Vec3) -> (Vec3, f64, f64) {
-        let r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
-        let r = r2.sqrt().max(1e-12);
-        let xs = r / self.r_s;
-        let m_nfw = self.m_s * mu(xs);
-        let (m, rho) = if m_nfw >= self.m_cap {
-            (self.m_cap, 0.0)
-        } else {
-            (
-                m_nfw,
-                self.m_s / (4.0 * std::f64::consts::PI * self.r_s.powi(3))
-                    / (xs * (1.0 + xs) * (1.0 + xs)),
-            )
-        };
-        let g = -G * m / (r2.max(1e-24) * r);
-        ([g * x[0], g * x[1], g * x[2]], rho, r)
-    }
-
     /// Density at r (zero where the mass has reached the cap), Msun/kpc^3.
     #[inline]
     pub fn density(&self, r: f64) -> f64 {
@@ -167,8 +146,18 @@ impl Profile {
     pub fn tidal_terms(&self, x: Vec3, v: Vec3) -> (f64, f64) {
         let r2 = dot(x, x).max(1e-24);
         let r = r2.sqrt();
-        let m = self.mass(r);
-        let d2phi = 4.0 * std::f64::consts::PI * G * self.density(r) - 2.0 * G * m / (r2 * r);
+        // one evaluation of m(x) for the mass and the density (zero beyond the cap)
+        let xs = r / self.r_s;
+        let m_nfw = self.m_s * mu(xs);
+        let (m, four_pi_rho) = if m_nfw >= self.m_cap {
+            (self.m_cap, 0.0)
+        } else {
+            (
+                m_nfw,
+                self.m_s / (self.r_s.powi(3) * xs * (1.0 + xs) * (1.0 + xs)),
+            )
+        };
+        let d2phi = G * four_pi_rho - 2.0 * G * m / (r2 * r);
         let l = cross(x, v);
         (m, dot(l, l) / (r2 * r2) - d2phi)
     }
@@ -223,7 +212,8 @@ pub fn interpolate(p0: &Point, p1: &Point, t: f64) -> State {
         let (x0, v0, a0) = (p0.y[i], p0.y[i + 3], p0.a[i]);
         let (x1, v1, a1) = (p1.y[i], p1.y[i + 3], p1.a[i]);
         out[i] = h0 * x0 + h1 * h * v0 + h2 * hh * a0 + h5 * x1 + h4 * h * v1 + h3 * hh * a1;
-        out[i + 3] = (d0 * x0 + d1 * h * v0 + d2 * hh * a0 + d5 * x1 + d4 * h * v1 + d3 * hh * a1) / h;
+        out[i + 3] =
+            (d0 * x0 + d1 * h * v0 + d2 * hh * a0 + d5 * x1 + d4 * h * v1 + d3 * hh * a1) / h;
     }
     out
 }
@@ -245,14 +235,14 @@ pub fn interpolate_pos(p0: &Point, p1: &Point, t: f64) -> Vec3 {
     let h4 = -4.0 * s3 + 7.0 * s4 - 3.0 * s5;
     let h5 = 10.0 * s3 - 15.0 * s4 + 6.0 * s5;
     let hh = h * h;
-    let mut out = [0.0; 3];
-    for i in 0..3 {
-        out[i] = h0 * p0.y[i] + h1 * h * p0.y[i + 3] + h2 * hh * p0.a[i]
+    std::array::from_fn(|i| {
+        h0 * p0.y[i]
+            + h1 * h * p0.y[i + 3]
+            + h2 * hh * p0.a[i]
             + h5 * p1.y[i]
             + h4 * h * p1.y[i + 3]
-            + h3 * hh * p1.a[i];
-    }
-    out
+            + h3 * hh * p1.a[i]
+    })
 }
 
 impl Body {
@@ -280,7 +270,11 @@ impl Body {
             (f[f.len() - 1].m_s, f[f.len() - 1].r_s)
         } else {
             let (a, b) = (f[k - 1], f[k]);
-            let w = if b.t > a.t { (t - a.t) / (b.t - a.t) } else { 1.0 };
+            let w = if b.t > a.t {
+                (t - a.t) / (b.t - a.t)
+            } else {
+                1.0
+            };
             (a.m_s + w * (b.m_s - a.m_s), a.r_s + w * (b.r_s - a.r_s))
         };
         Profile {
@@ -303,7 +297,11 @@ impl Body {
             return (p.m_vir, p.r_vir);
         }
         let (a, b) = (f[k - 1], f[k]);
-        let w = if b.t > a.t { (t - a.t) / (b.t - a.t) } else { 1.0 };
+        let w = if b.t > a.t {
+            (t - a.t) / (b.t - a.t)
+        } else {
+            1.0
+        };
         (
             (a.m_vir.ln() + w * (b.m_vir.ln() - a.m_vir.ln())).exp(),
             a.r_vir + w * (b.r_vir - a.r_vir),
@@ -336,12 +334,14 @@ impl Body {
     }
 }
 
-/// One halo of a chain: a body, the segment of its trajectory in use (None: in the field),
-/// and the index of the point interval last used.
+/// One halo of a chain: a body, the points of the segment of its trajectory in use (None:
+/// in the field) and that segment's frame, and the index of the point interval (or field
+/// point) last used.
 #[derive(Debug)]
-struct Link {
-    body: usize,
-    seg: Option<usize>,
+struct Link<'a> {
+    index: usize,
+    body: &'a Body,
+    seg: Option<(&'a [Point], Frame)>,
     cursor: Cell<usize>,
 }
 
@@ -349,12 +349,15 @@ struct Link {
 /// the container; each link with a segment orbits the next; the last is in the field or
 /// orbits the host (`host`).
 #[derive(Debug)]
-pub struct Chain {
-    links: Vec<Link>,
+pub struct Chain<'a> {
+    links: Vec<Link<'a>>,
     pub host: bool,
     /// The chain is valid up to this time (the first change of frame, infall or end of one
     /// of its haloes).
     pub valid_until: f64,
+    /// The container's profile at the last time asked (the right-hand side and the per-step
+    /// work ask for the same time several times).
+    cache: Cell<(f64, Profile)>,
 }
 
 /// Locate the point interval of `pts` containing t from a cursor (amortised O(1) for
@@ -376,10 +379,10 @@ fn locate(pts: &[Point], cursor: &Cell<usize>, t: f64) -> usize {
     k
 }
 
-impl Chain {
+impl<'a> Chain<'a> {
     /// The chain of haloes around `container` at time t (bodies: every subhalo followed so
     /// far; the container and all haloes around it are complete).
-    pub fn build(bodies: &[Option<Body>], container: usize, t: f64) -> Self {
+    pub fn build(bodies: &'a [Option<Body>], container: usize, t: f64) -> Self {
         let mut links = Vec::with_capacity(4);
         let mut valid = f64::INFINITY;
         let mut cur = container;
@@ -392,7 +395,8 @@ impl Chain {
                 None => {
                     valid = valid.min(b.t_start);
                     links.push(Link {
-                        body: cur,
+                        index: cur,
+                        body: b,
                         seg: None,
                         cursor: Cell::new(0),
                     });
@@ -403,8 +407,9 @@ impl Chain {
                     valid = valid.min(seg.pts[seg.pts.len() - 1].t);
                     let c = seg.pts.partition_point(|p| p.t <= t).saturating_sub(1);
                     links.push(Link {
-                        body: cur,
-                        seg: Some(k),
+                        index: cur,
+                        body: b,
+                        seg: Some((&seg.pts, seg.frame)),
                         cursor: Cell::new(c),
                     });
                     match seg.frame {
@@ -417,16 +422,23 @@ impl Chain {
                 }
             }
         }
+        let nan = Profile {
+            m_s: f64::NAN,
+            r_s: f64::NAN,
+            m_cap: f64::NAN,
+            r_t: f64::NAN,
+        };
         Self {
             links,
             host,
             valid_until: valid,
+            cache: Cell::new((f64::NAN, nan)),
         }
     }
 
     /// The container's index.
     pub fn container(&self) -> usize {
-        self.links[0].body
+        self.links[0].index
     }
 
     /// The container is itself inside another halo (it has a tidal radius).
@@ -436,12 +448,11 @@ impl Chain {
 
     /// End of the container's point interval that contains t (children's steps stop there,
     /// so that they resolve the container's own orbit); infinite for a field container.
-    pub fn container_next_point(&self, bodies: &[Option<Body>], t: f64) -> f64 {
+    pub fn container_next_point(&self, t: f64) -> f64 {
         let l = &self.links[0];
         match l.seg {
             None => f64::INFINITY,
-            Some(k) => {
-                let pts = &body(bodies, l.body).segs[k].pts;
+            Some((pts, _)) => {
                 let i = locate(pts, &l.cursor, t);
                 if pts.len() < 2 {
                     return f64::INFINITY;
@@ -458,40 +469,49 @@ impl Chain {
 
     /// Profile of link j at time t.
     #[inline]
-    fn profile(&self, bodies: &[Option<Body>], j: usize, t: f64) -> Profile {
+    fn profile(&self, j: usize, t: f64) -> Profile {
+        if j == 0 {
+            let (tc, p) = self.cache.get();
+            if tc == t {
+                return p;
+            }
+        }
         let l = &self.links[j];
-        let b = body(bodies, l.body);
-        match l.seg {
-            None => b.field_profile_from(&l.cursor, t),
-            Some(k) => {
-                let pts = &b.segs[k].pts;
+        let p = match l.seg {
+            None => l.body.field_profile_from(&l.cursor, t),
+            Some((pts, _)) => {
                 let i = locate(pts, &l.cursor, t);
                 if pts.len() < 2 {
                     let p = pts[0];
-                    return Profile {
+                    Profile {
                         m_s: p.m_s,
                         r_s: p.r_s,
                         m_cap: p.m,
                         r_t: p.r_t,
-                    };
-                }
-                let (p0, p1) = (&pts[i], &pts[i + 1]);
-                let w = ((t - p0.t) / (p1.t - p0.t)).clamp(0.0, 1.0);
-                Profile {
-                    m_s: p0.m_s + w * (p1.m_s - p0.m_s),
-                    r_s: p0.r_s + w * (p1.r_s - p0.r_s),
-                    m_cap: p0.m + w * (p1.m - p0.m),
-                    r_t: p1.r_t,
+                    }
+                } else {
+                    let (p0, p1) = (&pts[i], &pts[i + 1]);
+                    let w = ((t - p0.t) / (p1.t - p0.t)).clamp(0.0, 1.0);
+                    Profile {
+                        m_s: p0.m_s + w * (p1.m_s - p0.m_s),
+                        r_s: p0.r_s + w * (p1.r_s - p0.r_s),
+                        m_cap: p0.m + w * (p1.m - p0.m),
+                        r_t: p1.r_t,
+                    }
                 }
             }
+        };
+        if j == 0 {
+            self.cache.set((t, p));
         }
+        p
     }
 
     /// Position of link j relative to link j+1 (or the host) at time t.
     #[inline]
-    fn rel_pos(&self, bodies: &[Option<Body>], j: usize, t: f64) -> Vec3 {
+    fn rel_pos(&self, j: usize, t: f64) -> Vec3 {
         let l = &self.links[j];
-        let pts = &body(bodies, l.body).segs[l.seg.expect("a link in a frame")].pts;
+        let pts = l.seg.expect("a link in a frame").0;
         let i = locate(pts, &l.cursor, t);
         if pts.len() < 2 {
             return [pts[0].y[0], pts[0].y[1], pts[0].y[2]];
@@ -501,9 +521,9 @@ impl Chain {
 
     /// State of link j relative to link j+1 (or the host) at time t.
     #[inline]
-    fn rel_state(&self, bodies: &[Option<Body>], j: usize, t: f64) -> State {
+    fn rel_state(&self, j: usize, t: f64) -> State {
         let l = &self.links[j];
-        let pts = &body(bodies, l.body).segs[l.seg.expect("a link in a frame")].pts;
+        let pts = l.seg.expect("a link in a frame").0;
         let i = locate(pts, &l.cursor, t);
         if pts.len() < 2 {
             return pts[0].y;
@@ -511,59 +531,70 @@ impl Chain {
         interpolate(&pts[i], &pts[i + 1], t)
     }
 
+    /// The container's mass at t: its virial mass in the field (interpolated linearly), its
+    /// bound mass inside another halo.
+    pub fn container_mass(&self, t: f64) -> f64 {
+        let l = &self.links[0];
+        match l.seg {
+            Some(_) => self.profile(0, t).m_cap,
+            None => {
+                let f = &l.body.field;
+                // the cursor is kept by `profile` (the first point after t)
+                let _ = self.profile(0, t);
+                let k = l.cursor.get();
+                if k == 0 {
+                    f[0].m_vir
+                } else if k >= f.len() {
+                    f[f.len() - 1].m_vir
+                } else {
+                    let (a, b) = (f[k - 1], f[k]);
+                    let w = if b.t > a.t {
+                        (t - a.t) / (b.t - a.t)
+                    } else {
+                        1.0
+                    };
+                    a.m_vir + w * (b.m_vir - a.m_vir)
+                }
+            }
+        }
+    }
+
     /// The container's profile at t.
-    pub fn container_profile(&self, bodies: &[Option<Body>], t: f64) -> Profile {
-        self.profile(bodies, 0, t)
+    pub fn container_profile(&self, t: f64) -> Profile {
+        self.profile(0, t)
     }
 
     /// Gravitational acceleration of a child at position x relative to the container at time
     /// t (container's pull plus the differential pull of every halo around it and the host).
-    pub fn accel(&self, bodies: &[Option<Body>], host: &EvolvingHost, t: f64, x: Vec3) -> Vec3 {
-        let a = self.profile(bodies, 0, t).accel(x);
-        self.add_tides(bodies, host, t, x, a)
+    pub fn accel(&self, host: &EvolvingHost, t: f64, x: Vec3) -> Vec3 {
+        let a = self.profile(0, t).accel(x);
+        self.add_tides(host, t, x, a)
     }
 
-    /// The derivative of a child's state y (relative to the container) at time t with
-    /// friction on mass m with Coulomb logarithm ll (off when ll <= 0), and its friction part.
+    /// Dynamical friction of the container's halo on a child of mass m at relative state y
+    /// (Coulomb logarithm ll; zero when ll <= 0 or beyond the container's truncation).
     #[inline]
-    pub fn derivative(
-        &self,
-        bodies: &[Option<Body>],
-        host: &EvolvingHost,
-        t: f64,
-        y: &State,
-        m: f64,
-        ll: f64,
-    ) -> (State, Vec3) {
-        let x = [y[0], y[1], y[2]];
-        let p = self.profile(bodies, 0, t);
-        let (mut a, rho, r) = p.accel_and_density(x);
-        let mut af = [0.0; 3];
-        if ll > 0.0 && m > 0.0 && rho > 0.0 {
-            af = friction::acceleration([y[3], y[4], y[5]], rho, p.sigma(r), m, ll);
-            for i in 0..3 {
-                a[i] += af[i];
-            }
+    pub fn friction(&self, t: f64, y: &State, m: f64, ll: f64) -> Vec3 {
+        if ll <= 0.0 || m <= 0.0 {
+            return [0.0; 3];
         }
-        let a = self.add_tides(bodies, host, t, x, a);
-        ([y[3], y[4], y[5], a[0], a[1], a[2]], af)
+        let p = self.profile(0, t);
+        let r = (y[0] * y[0] + y[1] * y[1] + y[2] * y[2]).sqrt();
+        let rho = p.density(r);
+        if rho <= 0.0 {
+            return [0.0; 3];
+        }
+        friction::acceleration([y[3], y[4], y[5]], rho, p.sigma(r), m, ll)
     }
 
     /// Add the differential pull of the haloes around the container and of the host.
     #[inline]
-    fn add_tides(
-        &self,
-        bodies: &[Option<Body>],
-        host: &EvolvingHost,
-        t: f64,
-        x: Vec3,
-        mut a: Vec3,
-    ) -> Vec3 {
+    fn add_tides(&self, host: &EvolvingHost, t: f64, x: Vec3, mut a: Vec3) -> Vec3 {
         let mut s = [0.0; 3];
         let n = self.links.len();
         for j in 1..n {
-            s = add(s, self.rel_pos(bodies, j - 1, t));
-            let p = self.profile(bodies, j, t);
+            s = add(s, self.rel_pos(j - 1, t));
+            let p = self.profile(j, t);
             let g1 = p.accel(add(x, s));
             let g0 = p.accel(s);
             for i in 0..3 {
@@ -571,7 +602,7 @@ impl Chain {
             }
         }
         if self.host {
-            s = add(s, self.rel_pos(bodies, n - 1, t));
+            s = add(s, self.rel_pos(n - 1, t));
             let snap = host.snapshot(t);
             let g1 = crate::host::Potential::accel(&snap, add(x, s));
             let g0 = crate::host::Potential::accel(&snap, s);
@@ -584,13 +615,13 @@ impl Chain {
 
     /// The container's state in the host frame at time t (None before the chain reaches the
     /// host), summed along the chain.
-    pub fn container_in_host(&self, bodies: &[Option<Body>], t: f64) -> Option<State> {
+    pub fn container_in_host(&self, t: f64) -> Option<State> {
         if !self.host {
             return None;
         }
         let mut s = [0.0; 6];
         for j in 0..self.links.len() {
-            let y = self.rel_state(bodies, j, t);
+            let y = self.rel_state(j, t);
             for i in 0..6 {
                 s[i] += y[i];
             }
@@ -600,21 +631,19 @@ impl Chain {
 
     /// The container's state relative to the halo it orbits at t (None in the field), and
     /// that halo.
-    pub fn container_state(&self, bodies: &[Option<Body>], t: f64) -> Option<(State, Frame)> {
-        let l = &self.links[0];
-        let k = l.seg?;
-        let frame = body(bodies, l.body).segs[k].frame;
-        Some((self.rel_state(bodies, 0, t), frame))
+    pub fn container_state(&self, t: f64) -> Option<(State, Frame)> {
+        let frame = self.links[0].seg?.1;
+        Some((self.rel_state(0, t), frame))
     }
 
     /// The strongest tide on a child at relative state y (position, velocity relative to the
     /// container) among the container and the haloes around it (the host is handled by the
     /// caller): (Omega^2 - d^2 Phi/dr^2, distance from that halo's centre, that halo's mass
     /// inside that distance), and the container's mass inside |x|.
-    pub fn strongest_tide(&self, bodies: &[Option<Body>], t: f64, y: &State) -> Tide {
+    pub fn strongest_tide(&self, t: f64, y: &State) -> Tide {
         let x = [y[0], y[1], y[2]];
         let v = [y[3], y[4], y[5]];
-        let p0 = self.profile(bodies, 0, t);
+        let p0 = self.profile(0, t);
         let (m0, d0) = p0.tidal_terms(x, v);
         let mut best = Tide {
             denom: d0,
@@ -624,13 +653,13 @@ impl Chain {
         };
         let mut s = [0.0; 6];
         for j in 1..self.links.len() {
-            let rel = self.rel_state(bodies, j - 1, t);
+            let rel = self.rel_state(j - 1, t);
             for i in 0..6 {
                 s[i] += rel[i];
             }
             let xs = [x[0] + s[0], x[1] + s[1], x[2] + s[2]];
             let vs = [v[0] + s[3], v[1] + s[4], v[2] + s[5]];
-            let (m, d) = self.profile(bodies, j, t).tidal_terms(xs, vs);
+            let (m, d) = self.profile(j, t).tidal_terms(xs, vs);
             if d > best.denom {
                 best.denom = d;
                 best.r = dot(xs, xs).sqrt();
@@ -650,13 +679,6 @@ pub struct Tide {
     pub m_container: f64,
 }
 
-#[inline]
-fn body(bodies: &[Option<Body>], i: usize) -> &Body {
-    bodies[i]
-        .as_ref()
-        .expect("a halo in a chain has been followed")
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -665,7 +687,9 @@ mod tests {
     /// position and velocity.
     #[test]
     fn quintic_hermite_is_exact_for_quintics() {
-        let x = |t: f64| 1.0 + 2.0 * t - 0.5 * t * t + 0.3 * t.powi(3) - 0.2 * t.powi(4) + 0.1 * t.powi(5);
+        let x = |t: f64| {
+            1.0 + 2.0 * t - 0.5 * t * t + 0.3 * t.powi(3) - 0.2 * t.powi(4) + 0.1 * t.powi(5)
+        };
         let v = |t: f64| 2.0 - t + 0.9 * t * t - 0.8 * t.powi(3) + 0.5 * t.powi(4);
         let a = |t: f64| -1.0 + 1.8 * t - 2.4 * t * t + 2.0 * t.powi(3);
         let pt = |t: f64| Point {

@@ -479,6 +479,115 @@ impl Rkn6 {
             }
         }
     }
+
+    /// One accepted step with a velocity-dependent acceleration `kick` (dynamical friction)
+    /// added by Strang splitting (Strang 1968, SIAM J. Numer. Anal. 5, 506): half a kick
+    /// v += (h/2) a_k at the start, the Nyström step under `f` (which sets and controls the
+    /// step), half a kick at the end. `kick0` is a_k at the start (the caller keeps the last
+    /// step's end value, first-same-as-last). Returns the new (t, y) and a_k at the end of the
+    /// step, evaluated before the last half kick. The splitting error of the friction part is
+    /// of relative order (h/T_orbit)^2 and h/t_sink per step; the error control measures the
+    /// gravitational drift only.
+    pub fn step_kicked<F, K>(
+        &mut self,
+        f: &mut F,
+        kick: &mut K,
+        kick0: Vec3,
+        t: f64,
+        y: &State,
+        t_stop: f64,
+    ) -> (f64, State, Vec3)
+    where
+        F: FnMut(f64, &Vec3) -> Vec3,
+        K: FnMut(f64, &State) -> Vec3,
+    {
+        let k1 = match self.k1 {
+            Some(k) => k,
+            None => f(t, &[y[0], y[1], y[2]]),
+        };
+        let mut rejected_here = false;
+        loop {
+            let (h, last) = self.ctl.attempt(t, t_stop);
+            let mut yh = *y;
+            for i in 0..3 {
+                yh[i + 3] += 0.5 * h * kick0[i];
+            }
+            let y = &yh;
+            let k2 = f(t + N_C2 * h, &nystrom_stage(y, N_C2, h, [N_A21], [&k1]));
+            let k3 = f(
+                t + N_C3 * h,
+                &nystrom_stage(y, N_C3, h, [N_A31, N_A32], [&k1, &k2]),
+            );
+            let k4 = f(
+                t + N_C4 * h,
+                &nystrom_stage(y, N_C4, h, [N_A41, N_A42, N_A43], [&k1, &k2, &k3]),
+            );
+            let k5 = f(
+                t + N_C5 * h,
+                &nystrom_stage(
+                    y,
+                    N_C5,
+                    h,
+                    [N_A51, N_A52, N_A53, N_A54],
+                    [&k1, &k2, &k3, &k4],
+                ),
+            );
+            let ks = [&k1, &k2, &k3, &k4, &k5];
+            let b = [N_B1, N_B2, N_B3, N_B4, N_B5];
+            let bp = [N_BP1, N_BP2, N_BP3, N_BP4, N_BP5];
+            let h2 = h * h;
+            let mut y_new = *y;
+            let mut err_x = [0.0; 3];
+            let mut err_v = [0.0; 3];
+            for i in 0..3 {
+                let (mut s, mut ex, mut ev) = (0.0, 0.0, 0.0);
+                for j in 0..5 {
+                    s += b[j] * ks[j][i];
+                    ex += (b[j] - N_BH[j]) * ks[j][i];
+                }
+                for j in 0..5 {
+                    ev += (bp[j] - N_BPH[j]) * ks[j][i];
+                }
+                y_new[i] = y[i] + h * y[i + 3] + h2 * s;
+                err_x[i] = h2 * ex;
+                err_v[i] = h * ev;
+            }
+            let m0x = y[0] * y[0] + y[1] * y[1] + y[2] * y[2];
+            let m1x = y_new[0] * y_new[0] + y_new[1] * y_new[1] + y_new[2] * y_new[2];
+            let m0v = y[3] * y[3] + y[4] * y[4] + y[5] * y[5];
+            let sc_pos = self.ctl.tol.atol_pos_kpc + self.ctl.tol.rtol * m0x.max(m1x).sqrt();
+            let sc_vel = self.ctl.tol.atol_vel_kpc_gyr + self.ctl.tol.rtol * m0v.sqrt();
+            let mut err2 = 0.0;
+            for i in 0..3 {
+                err2 += (err_x[i] / sc_pos) * (err_x[i] / sc_pos)
+                    + (err_v[i] / sc_vel) * (err_v[i] / sc_vel);
+            }
+            let err = (err2 / 6.0).sqrt();
+            match self.ctl.judge(err, h, t) {
+                Some(ln_err) => {
+                    let t_new = if last { t_stop } else { t + h };
+                    let k6 = f(t_new, &[y_new[0], y_new[1], y_new[2]]);
+                    for i in 0..3 {
+                        y_new[i + 3] = y[i + 3]
+                            + h * (N_BP1 * k1[i]
+                                + N_BP2 * k2[i]
+                                + N_BP3 * k3[i]
+                                + N_BP4 * k4[i]
+                                + N_BP5 * k5[i]
+                                + N_BP6 * k6[i]);
+                    }
+                    let kick1 = kick(t_new, &y_new);
+                    for i in 0..3 {
+                        y_new[i + 3] += 0.5 * h * kick1[i];
+                    }
+                    self.ctl.accepted(h, ln_err, rejected_here, last, y, &y_new);
+                    self.k1 = Some(k6);
+                    return (t_new, y_new, kick1);
+                }
+                None => rejected_here = true,
+            }
+        }
+    }
 }
 
 #[cfg(test)]

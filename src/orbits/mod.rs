@@ -16,9 +16,8 @@ use serde::{Deserialize, Serialize};
 use crate::error::InvalidValue;
 
 pub use evolve::{
-    evolve_host_subhaloes, evolve_in_isolated_halo, evolve_subhalo, integrate_point_mass,
-    integrate_test_particle,
-    SubhaloResult, SubhaloStatus,
+    evolve_host_subhaloes, evolve_in_isolated_halo, evolve_pair_in_host, evolve_subhalo,
+    integrate_point_mass, integrate_test_particle, SubhaloResult, SubhaloStatus,
 };
 pub use integrate::Tolerances;
 
@@ -26,8 +25,11 @@ pub use integrate::Tolerances;
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
 pub struct OrbitOptions {
-    /// Relative tolerance of the orbit integrator.
+    /// Relative tolerance of the orbit integrator for subhaloes orbiting the host.
     pub rtol: f64,
+    /// Relative tolerance for satellites of satellites orbiting inside another subhalo
+    /// (absolute tolerances scale with that subhalo's virial radius and speed).
+    pub rtol_in_subhalo: f64,
     /// Longest step of the orbit integrator (Gyr): it also sets how often stripping, tidal
     /// radii and releases are updated far from the host's centre.
     pub max_step_gyr: f64,
@@ -54,6 +56,7 @@ impl Default for OrbitOptions {
     fn default() -> Self {
         Self {
             rtol: 1e-4,
+            rtol_in_subhalo: 3e-4,
             max_step_gyr: 0.2,
             friction: true,
             stripping: true,
@@ -73,6 +76,12 @@ impl OrbitOptions {
             "rtol",
             self.rtol,
             self.rtol >= 1e-12 && self.rtol <= 1e-2,
+            "must be in [1e-12, 1e-2]",
+        );
+        ck.num(
+            "rtol_in_subhalo",
+            self.rtol_in_subhalo,
+            self.rtol_in_subhalo >= 1e-12 && self.rtol_in_subhalo <= 1e-2,
             "must be in [1e-12, 1e-2]",
         );
         ck.num(

@@ -65,8 +65,11 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
     let gals = &rec.galaxies;
     let mut c = HostCensus::default();
     // branch -> row, for the chain of haloes each object fell into
-    let row_of: std::collections::HashMap<u32, usize> =
-        subs.iter().enumerate().map(|(i, s)| (s.branch, i)).collect();
+    let row_of: std::collections::HashMap<u32, usize> = subs
+        .iter()
+        .enumerate()
+        .map(|(i, s)| (s.branch, i))
+        .collect();
     let mut faint_pos: Vec<[u64; 3]> = Vec::new();
     for (s, g) in subs.iter().zip(gals) {
         let code = s.status as usize;
@@ -147,9 +150,10 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             c.faint_stacked += 1;
         }
     }
-    for s in subs.iter().filter(|s| {
-        s.order == 1 && s.m_peak_msun >= 1e11 && s.m_peak_msun < 3e11
-    }) {
+    for s in subs
+        .iter()
+        .filter(|s| s.order == 1 && s.m_peak_msun >= 1e11 && s.m_peak_msun < 3e11)
+    {
         let n = subs
             .iter()
             .zip(gals)

@@ -75,6 +75,8 @@ fn fake_subhaloes(n: usize, m_peak: f64, t_peak: f64) -> Vec<SubhaloResult> {
         n_host_crossings: 1,
         t_disrupt_physical_gyr: f64::NAN,
         t_disrupt_pericentre_gyr: f64::NAN,
+        t_merge_gyr: f64::NAN,
+        bound_to_branch: 0,
         pos_kpc: [50.0, 0.0, 0.0],
         vel_kms: [0.0; 3],
         r_kpc: 50.0,
@@ -83,7 +85,7 @@ fn fake_subhaloes(n: usize, m_peak: f64, t_peak: f64) -> Vec<SubhaloResult> {
         rmax_kpc: 2.0,
         vmax_infall_kms: 20.0,
         backsplash: false,
-        status: SubhaloStatus::Surviving,
+        status: SubhaloStatus::InHost,
     };
     vec![proto; n]
 }
@@ -167,10 +169,7 @@ fn val_satellite_counts_in_literature_band() {
         let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, i), &mut b).unwrap();
         let rv = rec.summary.r_vir_kpc;
         let sel = rec.subhaloes.iter().zip(&rec.galaxies).filter(|(s, g)| {
-            s.status != SubhaloStatus::DisruptedPhysical
-                && s.r_kpc < rv
-                && s.t_disrupt_pericentre_gyr.is_nan()
-                && g.occupied
+            s.status.alive() && s.r_kpc < rv && s.t_disrupt_pericentre_gyr.is_nan() && g.occupied
         });
         let (mut n8, mut n5) = (0, 0);
         for (_, g) in sel {

@@ -37,40 +37,119 @@ fn hosts(n: u32, options: &OrbitOptions) -> Vec<(Vec<SubhaloResult>, f64)> {
         .collect()
 }
 
-/// Evolved subhalo mass function (bound mass today, inside R_vir, surviving) against the
-/// Jiang & van den Bosch 2016 evolved all-order fit dN/dln psi = g psi^-0.86 exp(-50 psi^4)
-/// with g = 0.065, giving N(>1e-4) = 207.96 and N(>1e-3) = 28.53 (physics reference sheet;
-/// g recalled with low confidence, and the paper's normalisation varies from host to host).
-/// 12 hosts (about 2,500 subhaloes above 1e-4): Poisson error 2% and 6%; tolerance 30%, set by
-/// the uncertainty of g rather than by sampling.
-#[test]
-fn val_evolved_subhalo_mass_function() {
-    let m0 = 1.2e12;
-    let hs = hosts(12, &OrbitOptions::default());
-    let mut n4 = 0.0;
-    let mut n3 = 0.0;
-    for (res, rv) in &hs {
-        for r in res
-            .iter()
-            .filter(|r| r.status == SubhaloStatus::Surviving && r.r_kpc < *rv)
-        {
-            n4 += (r.m_bound_msun > 1e-4 * m0) as u32 as f64;
-            n3 += (r.m_bound_msun > 1e-3 * m0) as u32 as f64;
-        }
+/// Censuses of `n` synthesised Milky-Way-mass hosts (1.2e12 Msun, Planck 2018, default
+/// options) at tree resolution `res_msun`, master seed 5, two threads; the cosmic time at
+/// z = 6 is the clock of the pre-processing check.
+fn censuses(n: u32, res_msun: f64) -> Vec<retinue::stats::HostCensus> {
+    use rayon::prelude::*;
+    use retinue::stats::census;
+    use retinue::synth::{synthesize_host, SynthOptions};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let opts = SynthOptions {
+        tree: TreeSpec {
+            m_resolution_msun: res_msun,
+            ..TreeSpec::milky_way_default()
+        },
+        host: Default::default(),
+        orbits: Default::default(),
+        galaxies: Default::default(),
+        survey: Default::default(),
+    };
+    let t6 = lt.cosmology().age_gyr(6.0);
+    (0..n)
+        .into_par_iter()
+        .map_init(
+            || TreeBuilder::new(opts.tree.pch08).unwrap(),
+            |b, i| {
+                let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, i), b).unwrap();
+                census(&rec, t6)
+            },
+        )
+        .collect()
+}
+
+fn median(mut v: Vec<f64>) -> f64 {
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
     }
-    let k = hs.len() as f64;
-    // the value docs/validation.md quotes (shown with --nocapture)
+}
+
+/// Evolved subhalo mass function of every bound object inside R_vir today (subhaloes of the
+/// host and satellites of satellites alike, bound mass m, psi = m/M_vir) against the fit of
+/// Springel et al. 2008 (MNRAS 391, 1685) to the Aquarius A-1 halo, dN/dM = a0 (M/m0)^-1.9
+/// inside r50, rescaled self-similarly to R_vir of a 1.2e12 Msun host with the paper's Einasto
+/// subhalo profile (fixture `population.json`, `scripts/make_population_fixtures.py`; the
+/// paper's values recalled, not re-read). Six hosts at a tree resolution of 3e6 Msun (2.5e-6
+/// of the host, so that N(> 1e-5) is complete). Band (issue): within a factor 1.5 at psi =
+/// 1e-5 ... 1e-3; sampling error at 1e-3 (12 objects a host) about 12%, host-to-host scatter
+/// of the fit's normalisation about 20% (common practice). Measured: 1.43, 1.34, 1.28, 1.19,
+/// 1.14 from 1e-5 to 1e-3 (printed with --nocapture); first order alone 0.73-0.77.
+#[test]
+fn val_evolved_mass_function_vs_springel08() {
+    let f = crate::common::fixture("population.json");
+    let psi = crate::common::floats(&f["springel08_rescaled"]["psi_over_m_vir"]);
+    let want = crate::common::floats(&f["springel08_rescaled"]["n_greater_inside_r_vir"]);
+    assert_eq!(psi, retinue::stats::census::SHMF_PSI.to_vec());
+    let cs = censuses(6, 3e6);
+    let k = cs.len() as f64;
+    for j in 0..psi.len() {
+        let all = cs.iter().map(|c| c.shmf_all[j] as f64).sum::<f64>() / k;
+        let first = cs.iter().map(|c| c.shmf_first[j] as f64).sum::<f64>() / k;
+        let ratio = all / want[j];
+        eprintln!(
+            "N(> {:e} M_vir) = {all:.1} (first order {first:.1}); Springel et al. 2008 \
+             rescaled: {:.1}; ratio {ratio:.2}",
+            psi[j], want[j]
+        );
+        assert!(
+            (1.0 / 1.5..=1.5).contains(&ratio),
+            "psi = {}: {all} against {}",
+            psi[j],
+            want[j]
+        );
+    }
+}
+
+/// The satellite population of the default Milky-Way-mass host (24 hosts at the default
+/// resolution of 10^7.5 Msun), against published numbers:
+/// * satellites brighter than M_V = -8 within 300 kpc: median in [8, 25] (the Milky Way has
+///   about 14, common practice: a count of the known satellites; host-to-host factors of 2 in
+///   simulations);
+/// * satellites with M* < 1e6 Msun inside R_vir that fell into a halo of at least 1e10 Msun
+///   before their group entered the host (pre-processed): fraction in [0.15, 0.6] (about a
+///   half for M* < 1e6 Msun in hosts of 1e10-1e12 Msun, Wetzel, Deason & Garrison-Kimmel 2015,
+///   ApJ 807, 49, abstract; about a third of all subhaloes accreted in groups, Li & Helmi 2008,
+///   MNRAS 385, 1365, abstract);
+/// * satellites sharing their exact position with another: below 1% (the issue's check: each
+///   satellite of a satellite has its own orbit).
+///
+/// Binomial error of the pooled fractions (about 2,300 dwarfs): 0.01.
+#[test]
+fn val_satellite_population_census() {
+    let cs = censuses(24, 10f64.powf(7.5));
+    let sum =
+        |f: &dyn Fn(&retinue::stats::HostCensus) -> usize| cs.iter().map(f).sum::<usize>() as f64;
+    let mv8 = median(cs.iter().map(|c| c.mv8_within_300kpc as f64).collect());
+    let pre = sum(&|c| c.faint_dwarfs_preprocessed) / sum(&|c| c.faint_dwarfs);
+    let stacked = sum(&|c| c.faint_stacked) / sum(&|c| c.faint);
     eprintln!(
-        "N(>1e-4 M0) = {:.1}, N(>1e-3 M0) = {:.1} per host",
-        n4 / k,
-        n3 / k
+        "median N(M_V < -8, < 300 kpc) = {mv8}; pre-processed {pre:.3}; stacked {stacked:.4}; \
+         median faint satellites {} (in another subhalo {}); median N(M_V < 0, < 300 kpc) {}",
+        median(cs.iter().map(|c| c.faint as f64).collect()),
+        median(cs.iter().map(|c| c.faint_in_subhalo as f64).collect()),
+        median(cs.iter().map(|c| c.mv0_within_300kpc as f64).collect()),
     );
-    assert!(
-        (n4 / k / 207.96 - 1.0).abs() < 0.30,
-        "N(>1e-4) = {}",
-        n4 / k
-    );
-    assert!((n3 / k / 28.53 - 1.0).abs() < 0.30, "N(>1e-3) = {}", n3 / k);
+    assert!((8.0..=25.0).contains(&mv8), "median N(M_V < -8) = {mv8}");
+    assert!((0.15..=0.6).contains(&pre), "pre-processed fraction {pre}");
+    assert!(stacked < 0.01, "stacked fraction {stacked}");
 }
 
 /// Radial distribution of surviving first-order subhaloes (bound mass > 1e-4 M0) inside
@@ -90,10 +169,7 @@ fn val_radial_distribution() {
     let mut total = 0.0;
     for (res, rv) in &hs {
         for r in res.iter().filter(|r| {
-            r.status == SubhaloStatus::Surviving
-                && r.order == 1
-                && r.m_bound_msun > 1e-4 * m0
-                && r.r_kpc < *rv
+            r.status.alive() && r.order == 1 && r.m_bound_msun > 1e-4 * m0 && r.r_kpc < *rv
         }) {
             total += 1.0;
             for k in 0..3 {
@@ -121,8 +197,9 @@ fn val_radial_distribution() {
 }
 
 /// Bookkeeping on every subhalo: infall clocks ordered (infall anywhere <= first infall into
-/// the host <= last infall), release after host infall, disruption within the run, bound mass
-/// never above the infall mass, pericentres inside apocentres, statuses consistent; and the
+/// the host <= last infall), a release after the infall into the parent, bound mass never
+/// above the infall mass, pericentres inside apocentres, statuses consistent with their times
+/// and the halo each is bound to, satellites of satellites at their own positions; and the
 /// results do not depend on anything but the seed (two runs identical).
 #[test]
 fn subhalo_bookkeeping_and_reproducibility() {
@@ -134,8 +211,12 @@ fn subhalo_bookkeeping_and_reproducibility() {
         assert!(format!("{ra:?}") == format!("{rb:?}"), "two runs differ");
     }
     for (res, _) in &a {
+        let by_branch: std::collections::HashMap<u32, &SubhaloResult> =
+            res.iter().map(|r| (r.branch, r)).collect();
+        let mut counts = [0usize; 5];
         let mut n_released = 0;
         for r in res {
+            counts[r.status as usize] += 1;
             let eps = 1e-9;
             assert!(r.t_infall_gyr <= r.t_first_host_infall_gyr + eps, "{r:?}");
             assert!(
@@ -147,15 +228,37 @@ fn subhalo_bookkeeping_and_reproducibility() {
                 assert!(r.t_release_gyr.is_nan());
             } else if !r.t_release_gyr.is_nan() {
                 n_released += 1;
-                assert!(r.t_release_gyr >= r.t_first_host_infall_gyr - eps);
+                assert!(r.t_release_gyr >= r.t_infall_gyr - eps, "{r:?}");
             }
             match r.status {
-                SubhaloStatus::DisruptedPhysical => assert!(r.t_disrupt_physical_gyr.is_finite()),
-                SubhaloStatus::Surviving => {
-                    assert!(r.t_disrupt_physical_gyr.is_nan());
+                SubhaloStatus::Disrupted => {
+                    assert!(r.t_disrupt_physical_gyr.is_finite() && r.t_merge_gyr.is_nan())
+                }
+                SubhaloStatus::MergedWithParent => {
+                    assert!(r.order > 1 && r.bound_to_branch != 0, "{r:?}");
+                    assert!(r.t_merge_gyr.is_finite() && r.t_merge_gyr >= r.t_infall_gyr);
+                }
+                SubhaloStatus::MergedWithCentral => {
+                    assert!(r.bound_to_branch == 0 && r.t_merge_gyr.is_finite(), "{r:?}");
+                }
+                SubhaloStatus::InHost => {
+                    assert!(r.t_disrupt_physical_gyr.is_nan() && r.t_merge_gyr.is_nan());
+                    assert!(r.bound_to_branch == 0);
                     assert!(r.pos_kpc.iter().all(|x| x.is_finite()));
                 }
-                SubhaloStatus::InParent => assert!(r.order > 1),
+                SubhaloStatus::InSubhalo => {
+                    assert!(r.order > 1 && r.bound_to_branch != 0, "{r:?}");
+                    assert!(r.pos_kpc.iter().all(|x| x.is_finite()));
+                    // at its own position, near (not on) the subhalo it is bound to, which
+                    // is alive at the end
+                    let c = by_branch[&r.bound_to_branch];
+                    assert!(c.status.alive(), "{r:?}\n{c:?}");
+                    let d = ((r.pos_kpc[0] - c.pos_kpc[0]).powi(2)
+                        + (r.pos_kpc[1] - c.pos_kpc[1]).powi(2)
+                        + (r.pos_kpc[2] - c.pos_kpc[2]).powi(2))
+                    .sqrt();
+                    assert!(d > 0.0 && d < 300.0, "{d} kpc from its container: {r:?}");
+                }
             }
             if r.n_pericentres > 0 && r.r_apo_last_kpc.is_finite() {
                 assert!(r.r_peri_min_kpc <= r.r_apo_last_kpc);
@@ -165,44 +268,9 @@ fn subhalo_bookkeeping_and_reproducibility() {
             }
         }
         assert!(
-            n_released > 0,
-            "some higher-order subhaloes leave their parents"
+            n_released > 0 && counts.iter().all(|&c| c > 0),
+            "every status occurs and some subhaloes leave their parents: {counts:?}"
         );
-        // A subhalo was inside its parent at every pericentre and crossing the parent made
-        // before letting it go: those events are its own. One still inside its parent at the
-        // end has exactly the parent's; one released has at least as many as the parent had
-        // then, and if the parent's pericentre came inside the disc cut before the release,
-        // the pericentre model removes the subhalo too.
-        let by_branch: std::collections::HashMap<u32, &SubhaloResult> =
-            res.iter().map(|r| (r.branch, r)).collect();
-        let (mut n_in_parent, mut n_inherited_cut) = (0, 0);
-        for r in res.iter().filter(|r| r.order > 1) {
-            let Some(p) = by_branch.get(&r.parent_branch) else {
-                continue;
-            };
-            if r.status == SubhaloStatus::InParent {
-                n_in_parent += 1;
-                assert_eq!(r.n_pericentres, p.n_pericentres, "{r:?}\n{p:?}");
-                assert_eq!(r.n_host_crossings, p.n_host_crossings);
-                assert_eq!(
-                    r.t_disrupt_pericentre_gyr.to_bits(),
-                    p.t_disrupt_pericentre_gyr.to_bits()
-                );
-            } else if r.t_release_gyr.is_finite() {
-                if p.t_peri_first_gyr < r.t_release_gyr {
-                    assert!(r.n_pericentres >= 1, "{r:?}\n{p:?}");
-                    assert!(r.t_peri_first_gyr.to_bits() == p.t_peri_first_gyr.to_bits());
-                }
-                if p.t_disrupt_pericentre_gyr < r.t_release_gyr {
-                    n_inherited_cut += 1;
-                    assert_eq!(
-                        r.t_disrupt_pericentre_gyr.to_bits(),
-                        p.t_disrupt_pericentre_gyr.to_bits()
-                    );
-                }
-            }
-        }
-        assert!(n_in_parent > 0 && n_inherited_cut > 0);
         // the infall at the virial radius is the first crossing: a first-order subhalo inside
         // R_vir at the end has crossed an odd number of times
         for r in res.iter().filter(|r| r.order == 1) {
