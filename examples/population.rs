@@ -2,8 +2,8 @@
 //! Planck 2018, default options, master seed 5): the census numbers that docs/validation.md
 //! quotes and `tests/validation/val_subhaloes.rs` checks, as medians (or sums) over hosts.
 //!
-//! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO]` (default 32
-//! hosts and the default tolerance).
+//! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO] [nodisc]`
+//! (default 32 hosts and the default tolerance; `nodisc`: a host without disc and bulge).
 
 use rayon::prelude::*;
 
@@ -40,9 +40,13 @@ fn main() {
     if let Some(r) = std::env::args().nth(2).and_then(|s| s.parse().ok()) {
         orbits.rtol_in_subhalo = r;
     }
+    let mut host = retinue::host::HostOptions::default();
+    if std::env::args().nth(3).as_deref() == Some("nodisc") {
+        host.baryons = retinue::host::DiscBulgeParams::none();
+    }
     let opts = SynthOptions {
         tree: TreeSpec::milky_way_default(),
-        host: Default::default(),
+        host,
         orbits,
         galaxies: Default::default(),
         survey: Default::default(),
@@ -90,10 +94,12 @@ fn main() {
         sum(&|c| c.faint_dwarfs_in_halo_at_z6) / sum(&|c| c.faint_dwarfs)
     );
     println!(
-        "first-order faint satellites that fell back in: {:.3}; with >= 2 pericentres whose last is larger than the smallest: {:.3} (of {})",
+        "first-order faint satellites that fell back in: {:.3}; with >= 2 pericentres whose last is larger than the smallest: {:.3} of {} (first order {:.3} of {})",
         sum(&|c| c.faint_refallen) / sum(&|c| c.faint_first_order),
         sum(&|c| c.faint_last_peri_larger) / sum(&|c| c.faint_multi_peri),
-        sum(&|c| c.faint_multi_peri)
+        sum(&|c| c.faint_multi_peri),
+        sum(&|c| c.faint_last_peri_larger_first) / sum(&|c| c.faint_multi_peri_first),
+        sum(&|c| c.faint_multi_peri_first)
     );
     let k = cs.len() as f64;
     for (j, psi) in SHMF_PSI.iter().enumerate() {
@@ -103,25 +109,22 @@ fn main() {
             cs.iter().map(|(c, _)| c.shmf_first[j] as f64).sum::<f64>() / k
         );
     }
-    let comp: Vec<f64> = cs
+    let comps: Vec<_> = cs
         .iter()
-        .flat_map(|(c, _)| c.companions.iter().map(|x| x.1 as f64))
+        .flat_map(|(c, _)| c.companions.iter().copied())
         .collect();
-    let recent: Vec<f64> = cs
+    let recent: Vec<_> = comps
         .iter()
-        .flat_map(|(c, _)| {
-            c.companions
-                .iter()
-                .filter(|x| x.0 > t0 - 4.0)
-                .map(|x| x.1 as f64)
-        })
+        .filter(|x| x.alive && x.t_infall_gyr > t0 - 4.0)
         .collect();
     println!(
-        "companions of 1-3e11 first-order haloes (M* > 1e4, alive): median {} over {} haloes; fell in within 4 Gyr: median {} over {}",
-        median(comp.clone()),
-        comp.len(),
-        median(recent.clone()),
-        recent.len()
+        "Magellanic-mass (1-3e11) first-order subhaloes: {} ({} alive); members with M* > 1e4 alive anywhere: median {}; of those alive that fell in within 4 Gyr ({}): bound to it {}, alive anywhere {}",
+        comps.len(),
+        comps.iter().filter(|x| x.alive).count(),
+        median(comps.iter().map(|x| x.alive_anywhere as f64).collect()),
+        recent.len(),
+        median(recent.iter().map(|x| x.bound as f64).collect()),
+        median(recent.iter().map(|x| x.alive_anywhere as f64).collect()),
     );
     let names = [
         "in host",

@@ -15,13 +15,13 @@ with h5py.File(sys.argv[1], "r") as f:
     units = {k: f["subhalos"][k].attrs["units"] for k in f["subhalos"]}
 
 # Satellites of the first host that survive as the report's default selection requires
-# (survival = "pericentre": not disrupted by stripping, i.e. status != 1, and no pericentre
-# inside the disc cut) and lie inside R_vir today; of these, those with M* >= MSTAR_MIN and
-# those the configured survey would detect (any M*).
+# (survival = "pericentre": still a bound object, i.e. status 0 in the host or 2 inside another
+# subhalo, and no pericentre inside the disc cut) and lie inside R_vir today; of these, those
+# with M* >= MSTAR_MIN and those the configured survey would detect (any M*).
 h = 0
 rows = slice(hosts["sub_offset"][h], hosts["sub_offset"][h] + hosts["sub_count"][h])
 s = {k: v[rows] for k, v in subs.items()}
-sat = ((s["status"] != 1) & np.isnan(s["t_disrupt_pericentre_gyr"])
+sat = (np.isin(s["status"], [0, 2]) & np.isnan(s["t_disrupt_pericentre_gyr"])
        & (s["r_kpc"] < hosts["r_vir_kpc"][h]))
 massive = sat & (s["mstar_msun"] >= MSTAR_MIN)
 seen = sat & (s["observable"] == 1)

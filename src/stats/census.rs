@@ -35,19 +35,35 @@ pub struct HostCensus {
     /// the first (they left R_vir and fell back).
     pub faint_refallen: usize,
     /// Of the faint satellites with two or more pericentres: how many have their last
-    /// pericentre larger than their smallest.
+    /// pericentre more than 5% larger than their smallest (beyond integration noise).
     pub faint_multi_peri: usize,
     pub faint_last_peri_larger: usize,
+    /// The same two counts for the faint satellites of first order.
+    pub faint_multi_peri_first: usize,
+    pub faint_last_peri_larger_first: usize,
     /// Bound objects alive inside R_vir, all orders and first order, with bound mass above
     /// each of `SHMF_PSI` x M_vir (host's virial mass at the end).
     pub shmf_all: [usize; 5],
     pub shmf_first: [usize; 5],
-    /// For each first-order subhalo with 1e11 <= m_peak < 3e11 Msun: (cosmic time it fell in,
-    /// number of members of its group alive at the end with M* > 1e4 Msun).
-    pub companions: Vec<(f64, usize)>,
+    /// Each first-order subhalo with 1e11 <= m_peak < 3e11 Msun (a Magellanic-mass one).
+    pub companions: Vec<Companions>,
     /// Statuses of every subhalo (counts by code 0-4), first order and higher order.
     pub status_first: [usize; 5],
     pub status_higher: [usize; 5],
+}
+
+/// The satellites that fell into the host with a Magellanic-mass subhalo (first order,
+/// 1e11 <= m_peak < 3e11 Msun) as members of its group, with M* > 1e4 Msun.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Companions {
+    /// When the subhalo fell into the host (Gyr) and whether it is still alive.
+    pub t_infall_gyr: f64,
+    pub alive: bool,
+    /// Members alive anywhere at the end (dispersed through the host or not).
+    pub alive_anywhere: usize,
+    /// Members still bound to it at the end (directly, or to one of its own satellites that is
+    /// bound to it): its associated satellites, as observers count them.
+    pub bound: usize,
 }
 
 /// The bound-mass thresholds of the cumulative mass functions, in units of the host's M_vir.
@@ -114,9 +130,12 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             c.faint_in_subhalo += 1;
         }
         if s.n_pericentres >= 2 {
+            let larger = s.r_peri_last_kpc > 1.05 * s.r_peri_min_kpc;
             c.faint_multi_peri += 1;
-            if s.r_peri_last_kpc > s.r_peri_min_kpc * (1.0 + 1e-9) {
-                c.faint_last_peri_larger += 1;
+            c.faint_last_peri_larger += larger as usize;
+            if s.order == 1 {
+                c.faint_multi_peri_first += 1;
+                c.faint_last_peri_larger_first += larger as usize;
             }
         }
         faint_pos.push(s.pos_kpc.map(f64::to_bits));
@@ -154,14 +173,29 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
         .iter()
         .filter(|s| s.order == 1 && s.m_peak_msun >= 1e11 && s.m_peak_msun < 3e11)
     {
-        let n = subs
-            .iter()
-            .zip(gals)
-            .filter(|(o, g)| {
-                o.group == s.branch && o.order > 1 && o.status.alive() && g.mstar_msun > 1e4
-            })
-            .count();
-        c.companions.push((s.t_infall_gyr, n));
+        let mut comp = Companions {
+            t_infall_gyr: s.t_infall_gyr,
+            alive: s.status.alive(),
+            ..Default::default()
+        };
+        for (o, g) in subs.iter().zip(gals) {
+            if !(o.group == s.branch && o.order > 1 && o.status.alive() && g.mstar_msun > 1e4) {
+                continue;
+            }
+            comp.alive_anywhere += 1;
+            // bound to it, or to a chain of its satellites that ends at it
+            let mut b = o.bound_to_branch;
+            let mut hops = 0;
+            while b != 0 && b != s.branch && hops < 64 {
+                b = row_of
+                    .get(&b)
+                    .map(|&k| subs[k].bound_to_branch)
+                    .unwrap_or(0);
+                hops += 1;
+            }
+            comp.bound += (b != 0 && b == s.branch) as usize;
+        }
+        c.companions.push(comp);
     }
     c
 }

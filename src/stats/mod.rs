@@ -11,7 +11,7 @@ pub mod sample;
 pub mod tests;
 
 pub use catalog::Catalog;
-pub use census::{census, HostCensus};
+pub use census::{census, Companions, HostCensus};
 pub use clocks::{
     check_cosmology_indices, clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold,
 };

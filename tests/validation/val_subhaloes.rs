@@ -118,7 +118,7 @@ fn val_evolved_mass_function_vs_springel08() {
     }
 }
 
-/// The satellite population of the default Milky-Way-mass host (24 hosts at the default
+/// The satellite population of the default Milky-Way-mass host (64 hosts at the default
 /// resolution of 10^7.5 Msun), against published numbers:
 /// * satellites brighter than M_V = -8 within 300 kpc: median in [8, 25] (the Milky Way has
 ///   about 14, common practice: a count of the known satellites; host-to-host factors of 2 in
@@ -129,12 +129,19 @@ fn val_evolved_mass_function_vs_springel08() {
 ///   ApJ 807, 49, abstract; about a third of all subhaloes accreted in groups, Li & Helmi 2008,
 ///   MNRAS 385, 1365, abstract);
 /// * satellites sharing their exact position with another: below 1% (the issue's check: each
-///   satellite of a satellite has its own orbit).
+///   satellite of a satellite has its own orbit);
+/// * companions of a Magellanic-mass subhalo (first order, 1e11-3e11 Msun, alive, fell in
+///   within the last 4 Gyr): members of its group with M* > 1e4 Msun still bound to it, median
+///   in [2, 20] (observed associations of the Large Magellanic Cloud: 4 long-term and 2
+///   recently captured, Patel et al. 2020, ApJ 893, 121; 6 ultra-faints and the SMC, Erkal &
+///   Belokurov 2020; predictions 4-8 with M* > 1e4 Msun within 50 kpc, Dooley et al. 2017,
+///   arXiv:1703.05321; all from the papers' abstracts).
 ///
-/// Binomial error of the pooled fractions (about 2,300 dwarfs): 0.01.
+/// Binomial error of the pooled fractions (about 6,000 dwarfs): 0.006; about 13 Magellanic
+/// analogues.
 #[test]
 fn val_satellite_population_census() {
-    let cs = censuses(24, 10f64.powf(7.5));
+    let cs = censuses(64, 10f64.powf(7.5));
     let sum =
         |f: &dyn Fn(&retinue::stats::HostCensus) -> usize| cs.iter().map(f).sum::<usize>() as f64;
     let mv8 = median(cs.iter().map(|c| c.mv8_within_300kpc as f64).collect());
@@ -147,6 +154,21 @@ fn val_satellite_population_census() {
         median(cs.iter().map(|c| c.faint_in_subhalo as f64).collect()),
         median(cs.iter().map(|c| c.mv0_within_300kpc as f64).collect()),
     );
+    let t0 = Cosmology::from_preset("planck18").unwrap().age0_gyr();
+    let recent: Vec<&retinue::stats::Companions> = cs
+        .iter()
+        .flat_map(|c| c.companions.iter())
+        .filter(|m| m.alive && m.t_infall_gyr > t0 - 4.0)
+        .collect();
+    let bound = median(recent.iter().map(|m| m.bound as f64).collect());
+    eprintln!(
+        "Magellanic analogues that fell in within 4 Gyr: {}; companions still bound: median \
+         {bound}; members alive anywhere: median {}",
+        recent.len(),
+        median(recent.iter().map(|m| m.alive_anywhere as f64).collect())
+    );
+    assert!(recent.len() >= 5, "{} analogues", recent.len());
+    assert!((2.0..=20.0).contains(&bound), "companions {bound}");
     assert!((8.0..=25.0).contains(&mv8), "median N(M_V < -8) = {mv8}");
     assert!((0.15..=0.6).contains(&pre), "pre-processed fraction {pre}");
     assert!(stacked < 0.01, "stacked fraction {stacked}");
