@@ -3,10 +3,9 @@
 //! integrator's right-hand sides counted per subhalo, then the counts split by order, fate,
 //! pericentre, number of pericentres, remaining bound fraction and infall time; and the
 //! integrator's steps split by where they were taken (distance from the centre, at the disc
-//! plane or not, with friction), with the right-hand sides per accepted step (rejected
-//! attempts included). A right-hand side that extends an orbit shared by several subhaloes
-//! is charged to the one that extended it; subhaloes never released from their parent cost
-//! nothing and are not listed.
+//! plane or not, with friction, inside a subhalo in the field or in the host), with the
+//! right-hand sides per accepted step (rejected attempts included; a friction kick counts as
+//! one).
 //! The numbers are quoted in docs/performance.md.
 //!
 //! Run: `cargo run --release --features orbit-profile --example orbit_cost [N_HOSTS]`
