@@ -4,11 +4,13 @@
 
 pub mod events;
 pub mod evolve;
+pub mod follow;
 pub mod friction;
 pub mod in_parent;
 pub mod initial;
 pub mod integrate;
 pub mod stripping;
+pub mod test_particle;
 pub mod tidal_track;
 
 use serde::{Deserialize, Serialize};

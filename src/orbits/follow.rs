@@ -1,0 +1,702 @@
+//! One subhalo, from its infall to its end: the integrator of its orbit (gravity by the
+//! Runge–Kutta–Nyström pair, dynamical friction by Strang splitting), stripping, the events of
+//! its orbit in the host (`events`), release from its parent and the frames it moves through
+//! (`in_parent`), disruption and mergers. `evolve` calls it for every accretion of a host.
+
+use super::events::Tracker;
+use super::evolve::{SubhaloResult, SubhaloStatus};
+use super::friction;
+use super::in_parent::{dot, Body, Chain, Frame, Point};
+use super::integrate::{Rkn6, State, Tolerances, Vec3};
+use super::stripping::{Stripping, SubhaloStructure};
+use super::OrbitOptions;
+use crate::constants::{G_KPC3_PER_MSUN_GYR2 as G, KMS_IN_KPC_PER_GYR as KMS};
+use crate::host::{EvolvingHost, Potential};
+use crate::trees::Accretion;
+
+#[inline]
+pub(crate) fn norm(a: [f64; 3]) -> f64 {
+    (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt()
+}
+
+#[inline]
+pub(crate) fn pos(y: &State) -> [f64; 3] {
+    [y[0], y[1], y[2]]
+}
+
+#[inline]
+pub(crate) fn vel(y: &State) -> [f64; 3] {
+    [y[3], y[4], y[5]]
+}
+
+#[inline]
+pub(crate) fn add6(a: &State, b: &State) -> State {
+    let mut o = *a;
+    for i in 0..6 {
+        o[i] += b[i];
+    }
+    o
+}
+
+/// Cost accounting for `examples/orbit_cost.rs` (feature `orbit-profile`): right-hand sides
+/// evaluated on this thread, and each subhalo's share with its result.
+#[cfg(feature = "orbit-profile")]
+pub mod profile {
+    use std::cell::{Cell, RefCell};
+    /// Kinds of step: by the smaller distance from the host's centre at the two ends and by
+    /// whether it crossed the disc plane or ended within 0.5 kpc of it, for subhaloes of the
+    /// host; steps inside another subhalo apart.
+    pub const STEP_KINDS: [&str; 11] = [
+        "r < 10 kpc, at the disc plane",
+        "r < 10 kpc, away from it",
+        "10-30 kpc, at the disc plane",
+        "10-30 kpc, away from it",
+        "30-100 kpc",
+        ">= 100 kpc",
+        "in the host, with friction",
+        "in a field subhalo, no friction",
+        "in a field subhalo, with friction",
+        "in a subhalo in the host, no friction",
+        "in a subhalo in the host, with friction",
+    ];
+    /// The kind of a step from y0 to y1 (`STEP_KINDS`); `in_sub`: inside a subhalo (0: no, 1:
+    /// its group outside the host, 2: inside the host).
+    pub fn step_kind(y0: &super::State, y1: &super::State, friction: bool, in_sub: u8) -> usize {
+        if in_sub > 0 {
+            return 5 + 2 * in_sub as usize + usize::from(friction);
+        }
+        let r = super::norm(super::pos(y0)).min(super::norm(super::pos(y1)));
+        let plane = (y0[2] < 0.0) != (y1[2] < 0.0) || y0[2].abs().min(y1[2].abs()) < 0.5;
+        match () {
+            _ if friction => 6,
+            _ if r < 10.0 => usize::from(!plane),
+            _ if r < 30.0 => 2 + usize::from(!plane),
+            _ if r < 100.0 => 4,
+            _ => 5,
+        }
+    }
+    thread_local! {
+        pub static RHS_COUNT: Cell<u64> = const { Cell::new(0) };
+        pub static PER_SUBHALO: RefCell<Vec<(u64, super::SubhaloResult)>> =
+            const { RefCell::new(Vec::new()) };
+        /// Per kind of step (`STEP_KINDS`): right-hand sides, accepted steps, summed length.
+        pub static BY_STEP: RefCell<[(u64, u64, f64); 11]> =
+            const { RefCell::new([(0, 0, 0.0); 11]) };
+    }
+}
+
+#[inline(always)]
+pub(crate) fn count_rhs() {
+    #[cfg(feature = "orbit-profile")]
+    profile::RHS_COUNT.with(|c| c.set(c.get() + 1));
+}
+
+/// Dynamical friction of the host's halo on mass m with Coulomb logarithm `ll` (zero when
+/// `ll` <= 0).
+#[inline]
+pub(crate) fn host_friction(host: &EvolvingHost, t: f64, y: &State, m: f64, ll: f64) -> Vec3 {
+    if ll <= 0.0 || m <= 0.0 {
+        return [0.0; 3];
+    }
+    let r = norm(pos(y));
+    let rho = host.snapshot(t).friction_density(r);
+    friction::acceleration(vel(y), rho, host.sigma(r, t), m, ll)
+}
+
+/// The host's acceleration alone (the right-hand side of a test particle for `Rkn6`).
+#[inline]
+pub(crate) fn accel_free(host: &EvolvingHost, t: f64, x: &Vec3) -> Vec3 {
+    count_rhs();
+    host.snapshot(t).accel(*x)
+}
+
+/// The integrator of one orbit: the Runge–Kutta–Nyström pair for gravity (which depends on
+/// time and position only), with dynamical friction, when it acts, added by Strang splitting
+/// (half kicks at both ends of each step; `Rkn6::step_kicked`).
+#[derive(Debug)]
+struct Mover {
+    rkn: Rkn6,
+    /// Friction at the end of the last step, if it had friction, with the mass and Coulomb
+    /// logarithm it was computed for (the next step starts from it: the force is
+    /// proportional to m ln Lambda, so a change of either rescales it).
+    kick: Option<(Vec3, f64, f64)>,
+}
+
+impl Mover {
+    fn new(tol: Tolerances, h_max: f64) -> Self {
+        Self {
+            rkn: Rkn6::new(tol, 1e-3, h_max),
+            kick: None,
+        }
+    }
+
+    /// Forget the stored derivatives (the right-hand side changed discontinuously: a new
+    /// frame, or a change in the haloes around the container); new tolerances.
+    fn reset(&mut self, tol: Tolerances) {
+        self.rkn.reset_derivative();
+        self.rkn.ctl.tol = tol;
+        self.kick = None;
+    }
+
+    /// One step without friction, acceleration `f`.
+    fn step_free<F: FnMut(f64, &Vec3) -> Vec3>(
+        &mut self,
+        f: &mut F,
+        t: f64,
+        y: &State,
+        t_stop: f64,
+    ) -> (f64, State) {
+        self.kick = None;
+        self.rkn.step(f, t, y, t_stop)
+    }
+
+    /// One step with friction `fr(t, y, m, ll)` on mass m (Coulomb logarithm ll), gravity `f`.
+    #[allow(clippy::too_many_arguments)]
+    fn step_friction<F, K>(
+        &mut self,
+        f: &mut F,
+        fr: &mut K,
+        m: f64,
+        ll: f64,
+        t: f64,
+        y: &State,
+        t_stop: f64,
+    ) -> (f64, State)
+    where
+        F: FnMut(f64, &Vec3) -> Vec3,
+        K: FnMut(f64, &State, f64, f64) -> Vec3,
+    {
+        let k0 = match self.kick {
+            Some((k, m0, l0)) if m0 * l0 > 0.0 => {
+                let q = (m * ll) / (m0 * l0);
+                [k[0] * q, k[1] * q, k[2] * q]
+            }
+            _ => fr(t, y, m, ll),
+        };
+        let mut kick = |tt: f64, yy: &State| {
+            count_rhs();
+            fr(tt, yy, m, ll)
+        };
+        let (t1, y1, k1) = self.rkn.step_kicked(f, &mut kick, k0, t, y, t_stop);
+        self.kick = Some((k1, m, ll));
+        (t1, y1)
+    }
+
+    /// The acceleration at the end of the last step (gravity and friction).
+    fn acceleration(&self) -> Option<Vec3> {
+        let g = self.rkn.derivative()?;
+        Some(match self.kick {
+            Some((k, _, _)) => [g[0] + k[0], g[1] + k[1], g[2] + k[2]],
+            None => g,
+        })
+    }
+}
+
+/// Where and how an accretion starts: its container, its infall time and state relative to
+/// the container, and the container's virial radius (kpc) and speed (kpc/Gyr) then.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Start {
+    pub frame: Frame,
+    pub t: f64,
+    pub y: State,
+    pub scale: (f64, f64),
+}
+
+/// Integrator tolerances in a frame of virial radius r_vir (kpc) and speed v_vir (kpc/Gyr):
+/// in the host, `rtol` with absolute tolerances rtol x 10 kpc and 10 kpc/Gyr (for a
+/// Milky-Way-mass host: R_vir/30 and V_vir/13); inside a subhalo, `rtol_in_subhalo` with
+/// absolute tolerances that scale in the same way with that subhalo's R_vir and V_vir.
+pub(crate) fn tolerances(options: &OrbitOptions, frame: Frame, scale: (f64, f64)) -> Tolerances {
+    match frame {
+        Frame::Host => Tolerances {
+            rtol: options.rtol,
+            atol_pos_kpc: options.rtol * 10.0,
+            atol_vel_kpc_gyr: options.rtol * 10.0,
+        },
+        Frame::Sub(_) => {
+            let rtol = options.rtol_in_subhalo;
+            Tolerances {
+                rtol,
+                atol_pos_kpc: rtol * scale.0 / 30.0,
+                atol_vel_kpc_gyr: rtol * scale.1 / 13.0,
+            }
+        }
+    }
+}
+
+/// Settings shared by every subhalo of a host.
+pub(crate) struct Ctx<'a> {
+    pub host: &'a EvolvingHost,
+    pub options: &'a OrbitOptions,
+    pub strip: Stripping,
+    pub t_end: f64,
+}
+
+/// A result with the accretion's own quantities and nothing evolved yet.
+pub(crate) fn new_result(a: &Accretion, structure: &SubhaloStructure) -> SubhaloResult {
+    SubhaloResult {
+        branch: a.branch,
+        order: a.order,
+        group: a.group,
+        parent_branch: a.into_branch,
+        m_infall_msun: a.m_infall_msun,
+        m_peak_msun: a.m_peak_msun,
+        t_peak_gyr: a.t_peak_gyr,
+        t_infall_gyr: a.t_infall_gyr,
+        m_host_at_infall_msun: a.m_host_at_infall_msun,
+        t_first_host_infall_gyr: a.t_host_infall_gyr,
+        t_last_host_infall_gyr: a.t_host_infall_gyr,
+        t_release_gyr: f64::NAN,
+        n_pericentres: 0,
+        t_peri_first_gyr: f64::NAN,
+        r_peri_first_kpc: f64::NAN,
+        r_peri_min_kpc: f64::NAN,
+        t_peri_last_gyr: f64::NAN,
+        r_peri_last_kpc: f64::NAN,
+        r_apo_last_kpc: f64::NAN,
+        n_host_crossings: 0,
+        t_disrupt_physical_gyr: f64::NAN,
+        t_disrupt_pericentre_gyr: f64::NAN,
+        t_merge_gyr: f64::NAN,
+        bound_to_branch: 0,
+        pos_kpc: [f64::NAN; 3],
+        vel_kms: [f64::NAN; 3],
+        r_kpc: f64::NAN,
+        m_bound_msun: a.m_infall_msun,
+        vmax_kms: structure.vmax_acc / KMS,
+        rmax_kpc: structure.rmax_acc,
+        vmax_infall_kms: structure.vmax_acc / KMS,
+        backsplash: false,
+        status: SubhaloStatus::InHost,
+    }
+}
+
+/// The container's mass that sets the friction threshold: the host's virial mass (given), a field
+/// halo's virial mass, or a subhalo's bound mass.
+fn container_mass(m_vir_host: f64, chain: &Option<Chain>, t: f64) -> f64 {
+    match chain {
+        None => m_vir_host,
+        Some(c) => c.container_mass(t),
+    }
+}
+
+/// The host's tide (host at one instant) on a subhalo at host-centred state y: (Omega^2 - d^2 Phi/dr^2, host mass
+/// inside |x|).
+#[inline]
+fn host_tide(snap: &crate::host::HostSnapshot, y: &State) -> (f64, f64) {
+    let x = pos(y);
+    let v = vel(y);
+    let (m_enc, d2phi) = snap.tidal_terms(x);
+    let r2 = dot(x, x).max(1e-300);
+    let l = super::in_parent::cross(x, v);
+    (dot(l, l) / (r2 * r2) - d2phi, m_enc)
+}
+
+/// Follow one subhalo from its infall to the end (or its death): fill `res`; return its
+/// trajectory if `keep` (it has children).
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn follow(
+    ctx: &Ctx,
+    bodies: &[Option<Body>],
+    branch_of: &[u32],
+    structure: &SubhaloStructure,
+    start: &Start,
+    keep: bool,
+    first_order: bool,
+    res: &mut SubhaloResult,
+) -> Option<Body> {
+    let host = ctx.host;
+    let options = ctx.options;
+    let t_end = ctx.t_end;
+    let mut frame = start.frame;
+    let mut scale = start.scale;
+    let mut t = start.t;
+    let mut y = start.y;
+    let mut m = res.m_infall_msun;
+    let mut r_t = f64::INFINITY;
+    let mut prof_m = m;
+    let mut prof = structure.profile(m);
+    let mut mover = Mover::new(tolerances(options, frame, scale), options.max_step_gyr);
+    let mut chain: Option<Chain> = match frame {
+        Frame::Host => None,
+        Frame::Sub(c) => Some(Chain::build(bodies, c, t)),
+    };
+    // the host-centred state now (None while the group is outside the host)
+    let in_host = |chain: &Option<Chain>, t: f64, y: &State| -> Option<State> {
+        match chain {
+            None => Some(*y),
+            Some(c) => c.container_in_host(t).map(|s| add6(&s, y)),
+        }
+    };
+    let mut abs = in_host(&chain, t, &y);
+    // the host's virial radius and mass at the current time
+    let snap0 = host.snapshot(t);
+    let (mut cur_rv, mut cur_mvir) = (snap0.r_vir, snap0.m_vir);
+    let mut tracker: Option<Tracker> = if first_order {
+        Some(Tracker::at_infall(t))
+    } else {
+        abs.map(|s| Tracker::with_group(t, norm(pos(&s)), cur_rv))
+    };
+    let mut segs: Vec<super::in_parent::Segment> = Vec::new();
+    // the acceleration at a point where the integrator has none stored (a segment's start)
+    let gravity = |chain: &Option<Chain>, t: f64, y: &State| -> Vec3 {
+        match chain {
+            None => host.snapshot(t).accel(pos(y)),
+            Some(c) => c.accel(host, t, pos(y)),
+        }
+    };
+    let push_point =
+        |segs: &mut Vec<super::in_parent::Segment>, frame: Frame, p: Point, new_seg: bool| {
+            if new_seg || segs.is_empty() {
+                segs.push(super::in_parent::Segment {
+                    frame,
+                    pts: vec![p],
+                });
+            } else {
+                segs.last_mut().expect("a segment").pts.push(p);
+            }
+        };
+    let point = |t: f64, y: State, a: Vec3, m: f64, prof: (f64, f64), r_t: f64| Point {
+        t,
+        y,
+        a,
+        m,
+        m_s: prof.0,
+        r_s: prof.1,
+        r_t,
+    };
+    if keep {
+        let a0 = gravity(&chain, t, &y);
+        push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
+    }
+    let mut ended: Option<SubhaloStatus> = None;
+    // tidal mass and stripping rate at the end of the previous step
+    let mut prev_tide: Option<(f64, f64)> = None;
+    // the friction force needs the container's mass inside r: the host's, from the last point
+    let mut m_enc_cont = match &chain {
+        None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
+        Some(c) => c.container_profile(t).mass(norm(pos(&y))),
+    };
+    while t < t_end && ended.is_none() {
+        // the haloes around the container changed (an infall, a release or an end): rebuild
+        // the chain; if the container itself has ended, leave it
+        if chain.as_ref().is_some_and(|c| t >= c.valid_until) {
+            while let Frame::Sub(ci) = frame {
+                let cb = bodies[ci].as_ref().expect("followed");
+                if !(cb.dead && t >= cb.t_last()) {
+                    break;
+                }
+                // the container was disrupted or merged: continue in the frame it was in
+                let last_seg = cb.segs.last().expect("a trajectory");
+                let p = last_seg.pts.last().expect("a point");
+                y = add6(&y, &p.y);
+                frame = last_seg.frame;
+                if let Frame::Sub(d) = frame {
+                    scale = bodies[d]
+                        .as_ref()
+                        .map(|b| b.field_virial(t))
+                        .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
+                        .unwrap_or(scale);
+                }
+                if res.t_release_gyr.is_nan() && res.order > 1 {
+                    res.t_release_gyr = t;
+                }
+            }
+            chain = match frame {
+                Frame::Host => None,
+                Frame::Sub(c) => Some(Chain::build(bodies, c, t)),
+            };
+            mover.reset(tolerances(options, frame, scale));
+            abs = in_host(&chain, t, &y);
+            if tracker.is_none() {
+                tracker = abs.map(|s| Tracker::with_group(t, norm(pos(&s)), cur_rv));
+            }
+            if keep && segs.last().is_some_and(|s| s.frame != frame) {
+                // a new frame: a new segment (the chain around the same container changing
+                // needs none)
+                let a0 = gravity(&chain, t, &y);
+                push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
+            }
+            prev_tide = None;
+            m_enc_cont = match &chain {
+                None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
+                Some(c) => c.container_profile(t).mass(norm(pos(&y))),
+            };
+        }
+        let mut t_stop = t_end;
+        if let Some(c) = &chain {
+            t_stop = t_stop.min(c.valid_until);
+            if c.host {
+                // inside the host, steps end at the container's points, so that the events of
+                // the host-centred orbit (the container's pericentres) are resolved
+                t_stop = t_stop.min(c.container_next_point(t));
+            }
+            if t_stop <= t {
+                // (coincident boundaries: never a step of zero length)
+                t_stop = t_end.min(c.container_next_point(t)).max(t + 1e-9);
+            }
+        }
+        // Friction is negligible for m < 1e-4 of the container's mass (sinking times > 1e3
+        // dynamical times; physics reference sheet sec. 9: negligible below 1e-3 within a
+        // Hubble time).
+        let fr = options.friction && m > 1e-4 * container_mass(cur_mvir, &chain, t);
+        #[cfg(feature = "orbit-profile")]
+        let before = profile::RHS_COUNT.with(|c| c.get());
+        let (t1, y1) = match (&chain, fr) {
+            (None, false) => {
+                let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
+                mover.step_free(&mut f, t, &y, t_stop)
+            }
+            (None, true) => {
+                let ll = friction::coulomb_log(m_enc_cont, m);
+                let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
+                let mut k =
+                    |tt: f64, yy: &State, mm: f64, l: f64| host_friction(host, tt, yy, mm, l);
+                mover.step_friction(&mut f, &mut k, m, ll, t, &y, t_stop)
+            }
+            (Some(c), false) => {
+                let mut f = |tt: f64, x: &Vec3| {
+                    count_rhs();
+                    c.accel(host, tt, *x)
+                };
+                mover.step_free(&mut f, t, &y, t_stop)
+            }
+            (Some(c), true) => {
+                let ll = friction::coulomb_log(m_enc_cont, m);
+                let mut f = |tt: f64, x: &Vec3| {
+                    count_rhs();
+                    c.accel(host, tt, *x)
+                };
+                let mut k = |tt: f64, yy: &State, mm: f64, l: f64| c.friction(tt, yy, mm, l);
+                mover.step_friction(&mut f, &mut k, m, ll, t, &y, t_stop)
+            }
+        };
+        #[cfg(feature = "orbit-profile")]
+        profile::BY_STEP.with(|w| {
+            let n = profile::RHS_COUNT.with(|c| c.get()) - before;
+            let (a0, a1) = match (&abs, &chain) {
+                (Some(a0), None) => (*a0, y1),
+                _ => (y, y1),
+            };
+            let in_sub = match &chain {
+                None => 0,
+                Some(c) => 1 + u8::from(c.host),
+            };
+            let e = &mut w.borrow_mut()[profile::step_kind(&a0, &a1, fr, in_sub)];
+            e.0 += n;
+            e.1 += 1;
+            e.2 += t1 - t;
+        });
+        let h = t1 - t;
+        let mut y1 = y1;
+        let snap1 = host.snapshot(t1);
+        let mut abs1 = in_host(&chain, t1, &y1);
+        // the strongest tide and the container's mass inside r
+        let (denom, r_tide, m_tide) = match &chain {
+            None => {
+                let (d, m_enc) = host_tide(&snap1, &y1);
+                m_enc_cont = m_enc;
+                (d, norm(pos(&y1)), m_enc)
+            }
+            Some(c) => {
+                let tide = c.strongest_tide(t1, &y1);
+                m_enc_cont = tide.m_container;
+                let mut best = (tide.denom, tide.r, tide.m_enc);
+                if let Some(a1) = &abs1 {
+                    let (d, m_enc) = host_tide(&snap1, a1);
+                    if d > best.0 {
+                        best = (d, norm(pos(a1)), m_enc);
+                    }
+                }
+                best
+            }
+        };
+        // the tidal radius (also without stripping: it decides mergers with a parent)
+        if m != prof_m {
+            prof = structure.profile(m);
+            prof_m = m;
+        }
+        let (rt, m_t) = structure.tidal_radius_and_mass(prof, m, denom, r_t);
+        r_t = rt;
+        if options.stripping {
+            let rate = 1.0 / Stripping::t_dyn(r_tide, m_tide);
+            // trapezoid rule over the step for the tidal mass and the rate (second order in h)
+            let (m_t_step, rate_step) = match prev_tide {
+                Some((m_t0, rate0)) => (0.5 * (m_t0 + m_t), 0.5 * (rate0 + rate)),
+                None => (m_t, rate),
+            };
+            prev_tide = Some((m_t, rate));
+            m = ctx.strip.step(m, m_t_step, h, 1.0 / rate_step);
+        }
+        // the friction step's closing half kick was computed for the mass and Coulomb
+        // logarithm at the start of the step: bring it to those at the end (the force is
+        // proportional to m ln Lambda), so that each half kick uses the mass of its own end
+        // of the step (second order in the step also while the mass drops)
+        if fr {
+            if let Some((k1, m0, l0)) = mover.kick {
+                let ll1 = friction::coulomb_log(m_enc_cont, m);
+                let q = (m * ll1) / (m0 * l0) - 1.0;
+                if q != 0.0 && q.is_finite() {
+                    for i in 0..3 {
+                        let dv = 0.5 * h * q * k1[i];
+                        y1[i + 3] += dv;
+                        if let Some(a) = abs1.as_mut() {
+                            a[i + 3] += dv;
+                        }
+                    }
+                    mover.kick = Some((k1.map(|k| k * (1.0 + q)), m, ll1));
+                }
+            }
+        }
+        // events in the host
+        if let (Some(a0), Some(a1)) = (&abs, &abs1) {
+            let tr = tracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(a0)), cur_rv));
+            tr.step(
+                t,
+                a0,
+                t1,
+                a1,
+                cur_rv,
+                snap1.r_vir,
+                options.pericentre_cut_kpc,
+            );
+        } else if tracker.is_none() {
+            if let Some(a1) = &abs1 {
+                tracker = Some(Tracker::with_group(t1, norm(pos(a1)), snap1.r_vir));
+            }
+        }
+        cur_rv = snap1.r_vir;
+        cur_mvir = snap1.m_vir;
+        t = t1;
+        y = y1;
+        abs = abs1;
+        if keep {
+            if m != prof_m {
+                prof = structure.profile(m);
+                prof_m = m;
+            }
+            let a1 = mover
+                .acceleration()
+                .unwrap_or_else(|| gravity(&chain, t, &y));
+            push_point(&mut segs, frame, point(t, y, a1, m, prof, r_t), false);
+        }
+        // the end of the subhalo: stripped below the thresholds, or merged
+        let x_b = m / structure.m_acc;
+        if options.stripping
+            && (x_b < options.disrupt_bound_fraction
+                || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc)
+        {
+            // dissolved by tides: a merger with the container if friction had sunk it into
+            // the container's core (inside its scale radius), a disruption otherwise
+            let sunk = fr
+                && chain
+                    .as_ref()
+                    .is_some_and(|c| norm(pos(&y)) < c.container_profile(t).r_s);
+            if sunk {
+                res.t_merge_gyr = t;
+                ended = Some(SubhaloStatus::MergedWithParent);
+            } else {
+                res.t_disrupt_physical_gyr = t;
+                ended = Some(SubhaloStatus::Disrupted);
+            }
+            break;
+        }
+        let r_rel = norm(pos(&y));
+        let mut release: Option<(State, Frame)> = None;
+        match &chain {
+            None => {
+                // sunk by friction to the centre: merged with the central galaxy (with or
+                // without stripping; without this check a subhalo that keeps its mass would
+                // circle the centre on ever shorter orbits)
+                if fr && r_rel < options.central_merge_kpc {
+                    res.t_merge_gyr = t;
+                    ended = Some(SubhaloStatus::MergedWithCentral);
+                    break;
+                }
+            }
+            Some(c) => {
+                // sunk by friction until the container's centre lies inside its bound body
+                if fr && r_rel < r_t {
+                    res.t_merge_gyr = t;
+                    ended = Some(SubhaloStatus::MergedWithParent);
+                    break;
+                }
+                // beyond the container's tidal radius (once the container is inside another
+                // halo): it leaves for the halo the container orbits
+                if c.container_inside() && r_rel > c.container_profile(t).r_t {
+                    release = c.container_state(t);
+                }
+            }
+        }
+        if let Some((yc, f)) = release {
+            y = add6(&y, &yc);
+            frame = f;
+            if let Frame::Sub(d) = frame {
+                scale = bodies[d]
+                    .as_ref()
+                    .map(|b| b.field_virial(t))
+                    .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
+                    .unwrap_or(scale);
+            }
+            if res.t_release_gyr.is_nan() && res.order > 1 {
+                res.t_release_gyr = t;
+            }
+            chain = match frame {
+                Frame::Host => None,
+                Frame::Sub(ci) => Some(Chain::build(bodies, ci, t)),
+            };
+            mover.reset(tolerances(options, frame, scale));
+            abs = in_host(&chain, t, &y);
+            prev_tide = None;
+            m_enc_cont = match &chain {
+                None => host.snapshot(t).mass_enclosed(norm(pos(&y))),
+                Some(c) => c.container_profile(t).mass(norm(pos(&y))),
+            };
+            if keep {
+                let a0 = gravity(&chain, t, &y);
+                push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
+            }
+        }
+    }
+    // the end state
+    let status = ended.unwrap_or(match frame {
+        Frame::Host => SubhaloStatus::InHost,
+        Frame::Sub(_) => SubhaloStatus::InSubhalo,
+    });
+    res.status = status;
+    res.bound_to_branch = match frame {
+        Frame::Host => 0,
+        Frame::Sub(c) => branch_of[c],
+    };
+    if let Some(tr) = &tracker {
+        res.n_pericentres = tr.n_peri;
+        res.t_peri_first_gyr = tr.t_peri_first;
+        res.r_peri_first_kpc = tr.r_peri_first;
+        res.r_peri_min_kpc = tr.r_peri_min;
+        res.t_peri_last_gyr = tr.t_peri_last;
+        res.r_peri_last_kpc = tr.r_peri_last;
+        res.r_apo_last_kpc = tr.r_apo_last;
+        res.n_host_crossings = tr.n_cross;
+        res.t_last_host_infall_gyr = tr.t_last_infall.max(res.t_first_host_infall_gyr);
+        res.t_disrupt_pericentre_gyr = tr.t_disrupt_peri;
+    }
+    let (vmax, rmax) = structure.vmax_rmax(m);
+    res.m_bound_msun = m;
+    res.vmax_kms = vmax / KMS;
+    res.rmax_kpc = rmax;
+    if let Some(a) = abs {
+        let x = pos(&a);
+        let v = vel(&a);
+        res.pos_kpc = x;
+        res.vel_kms = [v[0] / KMS, v[1] / KMS, v[2] / KMS];
+        res.r_kpc = norm(x);
+        res.backsplash =
+            status.alive() && tracker.is_some_and(|tr| tr.been_inside) && res.r_kpc > cur_rv;
+    }
+    keep.then(|| Body {
+        field: Vec::new(),
+        t_start: start.t,
+        segs,
+        dead: ended.is_some(),
+    })
+}
