@@ -213,6 +213,9 @@ fn execute(
         None => None,
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
+    if let Some(w) = resolution_warning(&grid) {
+        eprintln!("warning: {w}");
+    }
     let (lo, hi) = shard.range(grid.n_hosts());
     eprintln!(
         "retinue run: {} = {} hosts{}; writing {}",
@@ -312,13 +315,16 @@ fn analyse(
     let dir = report_dir(store);
     let n_sub =
         retinue::io::store::n_subhaloes_in(store).map_err(|e| CliError::Failed(e.into()))?;
-    let summary = format!(
+    let mut summary = format!(
         "Store `{}`: {} hosts, {} subhaloes; master seed {}.",
         store.display(),
         n_hosts,
         n_sub,
         cfg.file.run.master_seed
     );
+    if let Some(w) = resolution_warning(grid) {
+        summary.push_str(&format!("\n\n**Warning:** {w}."));
+    }
     let files = write_tables(&dir, &res, &cfg.file.tests, sample, &summary)
         .map_err(|e| CliError::Failed(e.into()))?;
     let figs = retinue::report::figures::write_figures(&dir, &res, &fig, &grid.theories)
@@ -467,7 +473,10 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
         ObservedSample::from_file(&p).map_err(usage)?;
     }
     // the linear theory of every cosmology (reads transfer tables): what a run needs first
-    Grid::new(cfg.clone()).map_err(run_err)?;
+    let grid = Grid::new(cfg.clone()).map_err(run_err)?;
+    if let Some(w) = resolution_warning(&grid) {
+        eprintln!("warning: {w}");
+    }
     println!(
         "{}: valid ({} = {} hosts)",
         a.config.display(),
@@ -475,6 +484,15 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
         cfg.n_hosts()
     );
     Ok(())
+}
+
+/// The galaxy model's warning about the trees' resolution (`GalaxyOptions::resolution_warning`,
+/// magnitudes in the first cosmology).
+fn resolution_warning(grid: &Grid) -> Option<String> {
+    let cfg = &grid.config;
+    cfg.file
+        .galaxies
+        .resolution_warning(grid.theories[0].cosmology(), cfg.file.trees.resolution_msun)
 }
 
 /// "2 cosmologies x 1 host mass x 150 hosts" (the grid of a run).

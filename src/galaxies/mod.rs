@@ -31,6 +31,14 @@ pub enum SmhmModel {
 impl SmhmModel {
     pub const NAMES: &'static [&'static str] = &["behroozi13", "moster13"];
 
+    /// The highest redshift the relation was fitted to.
+    pub fn z_max(self) -> f64 {
+        match self {
+            SmhmModel::Behroozi13 => 8.0,
+            SmhmModel::Moster13 => 4.0,
+        }
+    }
+
     pub fn parse(s: &str) -> Option<Self> {
         match s.trim().to_ascii_lowercase().as_str() {
             "behroozi13" => Some(Self::Behroozi13),
@@ -158,8 +166,14 @@ impl GalaxyOptions {
         ck.problems
     }
 
-    /// Median log10 M* of the published relation alone, for a virial peak mass at z.
+    /// Median log10 M* of the published relation alone, for a virial peak mass at z. Each
+    /// relation is evaluated within the redshifts it was fitted to: at min(z, z_max), with
+    /// z_max = 8 for Behroozi et al. 2013 (their data reach z = 8) and 4 for Moster et al. 2013
+    /// (stellar mass functions up to z = 4); beyond, the relation's own redshift terms are
+    /// extrapolations (at z = 8-10 Behroozi's gives about 1.2 dex more stellar mass for a
+    /// dwarf's peak mass).
     pub fn log10_mstar_relation(&self, cosmo: &Cosmology, m_vir_msun: f64, z: f64) -> f64 {
+        let z = z.min(self.smhm.z_max());
         match self.smhm {
             SmhmModel::Behroozi13 => behroozi13::log10_mstar(m_vir_msun, z),
             SmhmModel::Moster13 => {
@@ -216,6 +230,50 @@ impl GalaxyOptions {
         let u = (m_peak_msun.log10() - self.occupation_m50_msun.log10())
             / (std::f64::consts::SQRT_2 * self.occupation_sigma_dex);
         0.5 * (1.0 + crate::special::erf(u))
+    }
+
+    /// A warning when the merger trees' resolution cuts into the haloes that host galaxies:
+    /// when more than 2% of haloes at the resolution mass host one (two widths of the erf
+    /// occupation above its M50, or every halo with `occupation = "all"`), galaxies in the
+    /// unresolved haloes are missing and counts of the faintest satellites depend on the
+    /// resolution. Names the resolution, the occupied fraction there and the magnitude below
+    /// which satellites are incomplete (the median galaxy of a halo at the resolution today).
+    pub fn resolution_warning(&self, cosmo: &Cosmology, resolution_msun: f64) -> Option<String> {
+        let f = self.occupation_fraction(resolution_msun);
+        if f <= 0.02 {
+            return None;
+        }
+        let mv = absolute_mv(
+            10f64.powf(self.log10_mstar_median(cosmo, resolution_msun, 0.0)),
+            self.mass_to_light_v,
+        );
+        Some(format!(
+            "trees.resolution_msun = {resolution_msun:.3e} Msun: {:.0}% of haloes of that peak mass \
+             host a galaxy (galaxies.occupation), so galaxies in unresolved haloes are missing; \
+             satellites fainter than about M_V = {mv:.1} (the median galaxy of a halo at the \
+             resolution) are incomplete and their counts depend on the resolution (lower \
+             trees.resolution_msun below {:.1e} Msun, where 2% are occupied, to avoid it)",
+            100.0 * f,
+            self.resolution_for_occupation(0.02),
+        ))
+    }
+
+    /// The peak mass at which the occupied fraction is f (erf occupation; 0 for "all").
+    pub fn resolution_for_occupation(&self, f: f64) -> f64 {
+        if self.occupation == Occupation::All {
+            return 0.0;
+        }
+        // bisection in log M on the monotone erf
+        let (mut lo, mut hi) = (0.0f64, 16.0f64);
+        for _ in 0..100 {
+            let mid = 0.5 * (lo + hi);
+            if self.occupation_fraction(10f64.powf(mid)) < f {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        10f64.powf(0.5 * (lo + hi))
     }
 }
 

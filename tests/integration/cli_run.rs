@@ -686,3 +686,27 @@ fn retest_a_sweep_with_other_tests() {
     ]);
     assert_eq!(code, 0, "{err}");
 }
+
+/// `check` warns (on stderr, exit 0) when the trees' resolution cuts into the haloes that
+/// host galaxies, as the default Milky-Way configuration does, and not when it is well below.
+#[test]
+fn check_warns_about_unresolved_galaxies() {
+    let d = tempfile::tempdir().unwrap();
+    let base = std::fs::read_to_string(
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/milky-way.toml"),
+    )
+    .unwrap();
+    let p = write(d.path(), "mw.toml", &base);
+    let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        err.contains("warning: trees.resolution_msun") && err.contains("incomplete"),
+        "{err}"
+    );
+    let fine = base.replace("resolution_msun = 3.16e7", "resolution_msun = 5e6");
+    assert_ne!(fine, base);
+    let p = write(d.path(), "fine.toml", &fine);
+    let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(!err.contains("warning"), "{err}");
+}

@@ -193,3 +193,67 @@ fn val_satellite_counts_in_literature_band() {
         "median N(M* > 1e5) = {mm}: {massive:?}"
     );
 }
+
+/// Each stellar-mass–halo-mass relation is evaluated only within the redshifts it was fitted
+/// to (Behroozi et al. 2013 to z = 8, Moster et al. 2013 to z = 4): beyond, the value is the
+/// one at that limit, for the relation alone and with the dwarf extension; within, it follows
+/// the relation's own redshift dependence (Behroozi's log M* = 6.636 for 1e10 Msun at z = 2,
+/// physics reference sheet, 3 decimals).
+#[test]
+fn smhm_evaluated_within_its_redshift_range() {
+    use retinue::galaxies::{GalaxyOptions, SmhmModel};
+    let lt = planck18();
+    let co = lt.cosmology();
+    let b = GalaxyOptions::default();
+    assert!((b.log10_mstar_relation(co, 1e10, 2.0) - 6.636).abs() < 1.5e-3);
+    for (smhm, z_max) in [(SmhmModel::Behroozi13, 8.0), (SmhmModel::Moster13, 4.0)] {
+        let o = GalaxyOptions {
+            smhm,
+            ..GalaxyOptions::default()
+        };
+        for m in [1e8, 1e10, 1e12] {
+            let at_max = o.log10_mstar_relation(co, m, z_max);
+            for z in [z_max + 0.5, 10.0, 20.0] {
+                assert_eq!(
+                    o.log10_mstar_relation(co, m, z),
+                    at_max,
+                    "{smhm:?} {m:e} z={z}"
+                );
+                assert_eq!(
+                    o.log10_mstar_median(co, m, z),
+                    o.log10_mstar_median(co, m, z_max)
+                );
+            }
+            assert_ne!(o.log10_mstar_relation(co, m, z_max - 1.0), at_max);
+        }
+    }
+}
+
+/// The resolution warning: with the default erf occupation (M50 = 10^7.5 Msun, width 0.25
+/// dex) a tree resolution of 10^7.5 Msun leaves haloes unresolved where half host a galaxy
+/// (warned, naming the key and the faint limit); at 5e6 Msun, below the 2% point
+/// (10^(7.5 - 2.054 x 0.25) = 9.7e6 Msun: the erf occupation is the normal distribution
+/// function of (log M - log M50)/width, whose 2% quantile is -2.054), none; with every halo
+/// occupied, always.
+#[test]
+fn resolution_warning_when_galaxies_are_unresolved() {
+    use retinue::galaxies::{GalaxyOptions, Occupation};
+    let lt = planck18();
+    let co = lt.cosmology();
+    let o = GalaxyOptions::default();
+    let w = o
+        .resolution_warning(co, 10f64.powf(7.5))
+        .expect("a warning");
+    assert!(
+        w.contains("trees.resolution_msun") && w.contains("50%"),
+        "{w}"
+    );
+    assert!(o.resolution_warning(co, 5e6).is_none());
+    let m2 = o.resolution_for_occupation(0.02);
+    assert!((m2.log10() - (7.5 - 2.0537 * 0.25)).abs() < 1e-3, "{m2:e}");
+    let all = GalaxyOptions {
+        occupation: Occupation::All,
+        ..GalaxyOptions::default()
+    };
+    assert!(all.resolution_warning(co, 1e5).is_some());
+}
