@@ -236,4 +236,19 @@ impl Cosmology {
     pub fn age0_gyr(&self) -> f64 {
         self.background.age_gyr(0.0)
     }
+
+    /// The acceleration per unit distance that dark energy gives a test particle at distance r
+    /// from a bound system, a = k r (Gyr^-2, outward when positive): from the Newtonian limit
+    /// of the second Friedmann equation, a = -(4 pi G / 3)(rho_de + 3 p_de) r with p_de =
+    /// w rho_de, so k = -(1 + 3w)/2 H0^2 Omega_de (1+z)^(3(1+w)) (for a cosmological constant,
+    /// H0^2 Omega_Lambda: e.g. Peebles 1993, sec. 5; any textbook).
+    pub fn dark_energy_accel_per_kpc(&self, z: f64) -> f64 {
+        let h0 = 1.0 / self.background.hubble_time_gyr();
+        let w = self.params.w;
+        -(1.0 + 3.0 * w) / 2.0
+            * h0
+            * h0
+            * self.background.omega_de0()
+            * (1.0 + z).powf(3.0 * (1.0 + w))
+    }
 }

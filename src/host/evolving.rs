@@ -237,6 +237,7 @@ impl EvolvingHost {
                 b_disc: b0.disc_b_kpc * fr,
                 m_bulge: b0.bulge_mass_msun * fm,
                 a_bulge: b0.bulge_a_kpc * fr,
+                de_k: cosmo.dark_energy_accel_per_kpc(z),
             });
             conc.push(c);
         }

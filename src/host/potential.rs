@@ -39,6 +39,9 @@ pub struct HostSnapshot {
     /// Hernquist bulge mass (Msun) and scale length (kpc).
     pub m_bulge: f64,
     pub a_bulge: f64,
+    /// Dark energy's acceleration per unit distance, a = k x (Gyr^-2, outward when positive;
+    /// `Cosmology::dark_energy_accel_per_kpc`); zero for a static test host.
+    pub de_k: f64,
 }
 
 impl HostSnapshot {
@@ -56,6 +59,7 @@ impl HostSnapshot {
             b_disc: l(self.b_disc, other.b_disc),
             m_bulge: l(self.m_bulge, other.m_bulge),
             a_bulge: l(self.a_bulge, other.a_bulge),
+            de_k: l(self.de_k, other.de_k),
         }
     }
 
@@ -133,7 +137,11 @@ impl HostSnapshot {
         } else {
             0.0
         };
-        (m_halo + self.disc_mass_spherical(r) + m_bulge, sph + disc)
+        // dark energy: Phi = -k r^2/2, d^2 Phi/dr^2 = -k
+        (
+            m_halo + self.disc_mass_spherical(r) + m_bulge,
+            sph + disc - self.de_k,
+        )
     }
 }
 
@@ -154,11 +162,13 @@ impl HostSnapshot {
         let d2 = big_r2 + az * az;
         let d3 = d2 * d2.sqrt();
         let gd = -G * self.m_disc / d3;
+        // dark energy: a = k x
+        let k = self.de_k;
         (
             [
-                gs * x[0] + gd * x[0],
-                gs * x[1] + gd * x[1],
-                gs * x[2] + gd * x[2] * az / zeta,
+                gs * x[0] + gd * x[0] + k * x[0],
+                gs * x[1] + gd * x[1] + k * x[1],
+                gs * x[2] + gd * x[2] * az / zeta + k * x[2],
             ],
             m_sph,
         )
@@ -180,7 +190,7 @@ impl Potential for HostSnapshot {
         let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
         let disc = -G * self.m_disc / (big_r2 + (self.a_disc + zeta).powi(2)).sqrt();
         let bulge = -G * self.m_bulge / (r + self.a_bulge);
-        nfw + disc + bulge
+        nfw + disc + bulge - 0.5 * self.de_k * r2
     }
 
     #[inline]
@@ -312,6 +322,7 @@ mod tests {
             b_disc: 0.28,
             m_bulge: 1e10,
             a_bulge: 0.6,
+            de_k: 0.0048,
         }
     }
 
@@ -378,7 +389,9 @@ mod tests {
         }
     }
 
-    /// Poisson's equation for the NFW + bulge part: Laplacian of Phi = 4 pi G rho.
+    /// Poisson's equation for the NFW + bulge part and dark energy: Laplacian of Phi =
+    /// 4 pi G rho - 3 k (dark energy as a uniform background of density rho_de (1 + 3w),
+    /// Phi = -k r^2/2).
     #[test]
     fn laplacian_is_density_for_spherical_parts() {
         let mut p = mw();
@@ -395,7 +408,7 @@ mod tests {
                 xm[k] -= h;
                 lap += (p.phi(xp) - 2.0 * p.phi(x) + p.phi(xm)) / (h * h);
             }
-            let want = 4.0 * PI * G * p.halo_density(r);
+            let want = 4.0 * PI * G * p.halo_density(r) - 3.0 * p.de_k;
             assert!((lap / want - 1.0).abs() < 1e-4, "r={r}: {lap} vs {want}");
         }
     }

@@ -341,6 +341,7 @@ pub fn evolve_in_isolated_halo(
         b_disc: b0.disc_b_kpc,
         m_bulge: b0.bulge_mass_msun,
         a_bulge: b0.bulge_a_kpc,
+        de_k: 0.0,
     });
     let (m_c, r_c, c_c) = child;
     let structure = SubhaloStructure::nfw(m_c, r_c, c_c);

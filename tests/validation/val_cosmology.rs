@@ -262,3 +262,39 @@ fn bad_parameters_are_rejected() {
         .to_string()
         .contains("h = NaN"));
 }
+
+/// Dark energy's acceleration on orbits (`Cosmology::dark_energy_accel_per_kpc`, k in a = k x).
+/// (1) Planck 2018, z = 0: k = H0^2 Omega_Lambda with the physics reference sheet's 1/H0 =
+/// 14.45156 Gyr and colossus' Ode0 = 0.688809: 3.2981e-3 Gyr^-2 (1e-5, the sheet's digits).
+/// (2) For every cosmology of the fixtures (flat and open, w = -1 and -0.9), the Newtonian sum
+/// of accelerations per unit distance, k - H0^2 [Omega_m (1+z)^3 / 2 + Omega_r (1+z)^4] (the
+/// second Friedmann equation, matter pressureless and radiation with p = rho/3), equals a''/a
+/// from the expansion history that `val_expansion_rate` checks against colossus:
+/// H0^2 [E^2 - (1+z) E dE/dz], dE/dz by central differences (step 1e-4): 1e-6 of H0^2 at
+/// z = 0 ... 5 (curvature exerts no force).
+#[test]
+fn val_dark_energy_acceleration() {
+    let p18 = Cosmology::from_preset("planck18").unwrap();
+    let want = 0.688809 / (14.45156f64 * 14.45156);
+    assert_rel("k(z = 0)", p18.dark_energy_accel_per_kpc(0.0), want, 1e-5);
+    each_variant(|name, var, co, _| {
+        let h0 = 1.0 / co.background().hubble_time_gyr();
+        let om = co.params.omega_m;
+        let or = co.background().omega_r0();
+        for z in [0.0, 0.3, 1.0, 2.0, 5.0] {
+            let d = 1e-4;
+            // (E(z) is the closed form in (1+z), defined just below z = 0 too)
+            let dedz = (co.e_z(z + d) - co.e_z(z - d)) / (2.0 * d);
+            let e = co.e_z(z);
+            let addot = h0 * h0 * (e * e - (1.0 + z) * e * dedz);
+            let newton = co.dark_energy_accel_per_kpc(z)
+                - h0 * h0 * (0.5 * om * (1.0 + z).powi(3) + or * (1.0 + z).powi(4));
+            assert_abs(
+                &format!("{name}/{var} a''/a at z = {z}"),
+                newton,
+                addot,
+                1e-6 * h0 * h0,
+            );
+        }
+    });
+}

@@ -29,6 +29,8 @@ fn snapshot(with_baryons: bool) -> HostSnapshot {
             0.0
         },
         a_bulge: num(&c["bulge"]["a_kpc"]),
+        // galpy's potentials have no cosmology
+        de_k: 0.0,
     }
 }
 
