@@ -139,8 +139,11 @@ pub fn for_each_chunk(
             for i in c.rows(h) {
                 fig.add(&c, h, i, &options.selection);
                 let x = c.r_kpc[i] / rv;
+                // distinct haloes only (the field count counts distinct haloes): a satellite
+                // of a satellite still inside another subhalo is part of that subhalo
                 if c.backsplash[i]
                     && c.alive(i)
+                    && !c.in_subhalo(i)
                     && x >= b.shell_over_rvir[0]
                     && x <= b.shell_over_rvir[1]
                     && c.m_peak_msun[i] >= b.m_peak_msun[0]

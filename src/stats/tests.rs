@@ -754,6 +754,7 @@ pub fn run_tests_raw(
                     let x = cat.r_kpc[i] / rv;
                     cat.backsplash[i]
                         && cat.alive(i)
+                        && !cat.in_subhalo(i)
                         && x >= b.shell_over_rvir[0]
                         && x <= b.shell_over_rvir[1]
                         && cat.m_peak_msun[i] >= b.m_peak_msun[0]

@@ -520,3 +520,36 @@ fn val_each_host_reads_its_own_cosmology_clock() {
         );
     }
 }
+
+/// Backsplash counts count distinct haloes: in a host whose 40 satellites include 6 backsplash
+/// subhaloes of the host (status 0) and 4 backsplash satellites of satellites still inside
+/// another subhalo (status 2) at 2 R_vir, all of peak mass 1e9 Msun, the count is 6 (the field
+/// count it is compared with counts distinct haloes).
+#[test]
+fn backsplash_counts_distinct_haloes() {
+    let lt = planck18();
+    let mut cat = synthetic(1, 40, 1.0, 13.0, 3);
+    for i in 0..10 {
+        cat.backsplash[i] = true;
+        cat.r_kpc[i] = 2.0 * cat.host_r_vir_kpc[0];
+        cat.status[i] = if i < 6 { 0 } else { 2 };
+    }
+    let opts = TestOptions {
+        n_draw: Some(4),
+        draws: 100,
+        z_grid: vec![1.0],
+        bootstrap: 10,
+        n_range: [4, 4],
+        selection: Selection::default(),
+        ..Default::default()
+    };
+    let res = run_tests(
+        std::slice::from_ref(&lt),
+        &GalaxyOptions::default(),
+        &cat,
+        &opts,
+        None,
+        7,
+    );
+    assert_eq!(res.backsplash_count_mean, 6.0);
+}
