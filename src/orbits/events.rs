@@ -20,8 +20,24 @@ fn radial_velocity(y: &State) -> f64 {
 }
 
 /// Cubic Hermite interpolation of r(s), s in [0, 1], from end values and derivatives
-/// (dr/ds = h v_r); returns the extremum inside (s, r) if there is one.
+/// (dr/ds = h v_r); returns the extremum inside (s, r) if there is one, its radius kept within
+/// what an extremum between the two ends can be: a minimum in [0, min(r0, r1)], a maximum at
+/// least max(r0, r1). (With loose tolerances the cubic can dip below zero on a nearly radial
+/// orbit through the centre.)
 pub(crate) fn hermite_extremum(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
+    let (lo, hi) = (r0.min(r1), r0.max(r1));
+    hermite_extremum_raw(r0, r1, d0, d1).map(|(s, r)| {
+        // a minimum where dr/ds turns from negative to positive
+        if d0 < 0.0 {
+            (s, r.clamp(0.0, lo))
+        } else {
+            (s, r.max(hi))
+        }
+    })
+}
+
+/// The cubic's extremum itself.
+fn hermite_extremum_raw(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
     // r(s) = a s^3 + b s^2 + c s + d
     let a = 2.0 * r0 - 2.0 * r1 + d0 + d1;
     let b = -3.0 * r0 + 3.0 * r1 - 2.0 * d0 - d1;
@@ -219,6 +235,19 @@ mod tests {
         tr.step(1.7, &y4, 1.9, &y5, 110.0, 110.0, 20.0);
         assert_eq!(tr.n_cross, 5);
         assert!(tr.t_last_infall > 1.7 && tr.t_last_infall < 1.9);
+    }
+
+    /// A nearly radial passage through the centre with a coarse step: the cubic through the
+    /// ends dips below zero, the pericentre radius stays in [0, min(r0, r1)].
+    #[test]
+    fn pericentre_radius_is_never_negative() {
+        // r from 1 to 1 over a step in which it plunges: steep inward and outward slopes
+        let (s, r) = hermite_extremum(1.0, 1.0, -8.0, 8.0).expect("a minimum");
+        assert!((0.0..=1.0).contains(&s));
+        assert!(hermite_extremum_raw(1.0, 1.0, -8.0, 8.0).unwrap().1 < 0.0);
+        assert!((0.0..=1.0).contains(&r), "{r}");
+        let (_, r) = hermite_extremum(1.0, 2.0, 3.0, -1.0).expect("a maximum");
+        assert!(r >= 2.0);
     }
 
     #[test]

@@ -360,3 +360,245 @@ fn clocks_are_consistent_on_mock_hosts() {
         "some subhaloes are pre-processed ({pre_processed})"
     );
 }
+
+/// Every orbit key at the ends of its allowed range gives sane events (issue: negative
+/// pericentre radii at rtol = 1e-2): on a 1.2e12 Msun host at a coarse resolution of 3e9 Msun
+/// (a few dozen subhaloes of all orders), for each key set to its smallest and largest
+/// allowed value (the other keys at their defaults; the smallest tolerance 1e-9 rather than
+/// 1e-12 to keep the test short, which the first case covers at 1e-12 for the first two
+/// subhaloes): radii and masses non-negative and finite where set, pericentres inside
+/// apocentres, event times within [infall, end], bound mass at most the infall mass, alive
+/// subhaloes at finite positions.
+#[test]
+fn orbit_keys_give_sane_events_over_their_allowed_range() {
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let spec = TreeSpec {
+        m_resolution_msun: 3e9,
+        ..TreeSpec::milky_way_default()
+    };
+    let mut b = TreeBuilder::new(spec.pch08).unwrap();
+    let mut rng = host_rng(4, HostId::new(0, 0, 0), Stream::Tree);
+    let h = HostHistory::from_tree(b.build(&lt, &spec, &mut rng).unwrap());
+    let t_end = lt.cosmology().age0_gyr();
+    let host = EvolvingHost::from_history(&lt, &h, &HostOptions::default(), 0.5);
+    let d = OrbitOptions::default();
+    let cases: Vec<(&str, OrbitOptions)> = vec![
+        ("rtol = 1e-2", OrbitOptions { rtol: 1e-2, ..d }),
+        ("rtol = 1e-9", OrbitOptions { rtol: 1e-9, ..d }),
+        (
+            "rtol_in_subhalo = 1e-2",
+            OrbitOptions {
+                rtol_in_subhalo: 1e-2,
+                ..d
+            },
+        ),
+        (
+            "rtol_in_subhalo = 1e-9",
+            OrbitOptions {
+                rtol_in_subhalo: 1e-9,
+                ..d
+            },
+        ),
+        (
+            "both 1e-2",
+            OrbitOptions {
+                rtol: 1e-2,
+                rtol_in_subhalo: 1e-2,
+                ..d
+            },
+        ),
+        (
+            "max_step_gyr = 1e-3",
+            OrbitOptions {
+                max_step_gyr: 1e-3,
+                ..d
+            },
+        ),
+        (
+            "max_step_gyr = 1",
+            OrbitOptions {
+                max_step_gyr: 1.0,
+                ..d
+            },
+        ),
+        (
+            "stripping_alpha = 1e-3",
+            OrbitOptions {
+                stripping_alpha: 1e-3,
+                ..d
+            },
+        ),
+        (
+            "stripping_alpha = 20",
+            OrbitOptions {
+                stripping_alpha: 20.0,
+                ..d
+            },
+        ),
+        (
+            "disrupt_bound_fraction = 0",
+            OrbitOptions {
+                disrupt_bound_fraction: 0.0,
+                ..d
+            },
+        ),
+        (
+            "disrupt_bound_fraction = 0.99",
+            OrbitOptions {
+                disrupt_bound_fraction: 0.99,
+                ..d
+            },
+        ),
+        (
+            "disrupt_tidal_radius_over_rs = 9.9",
+            OrbitOptions {
+                disrupt_tidal_radius_over_rs: 9.9,
+                ..d
+            },
+        ),
+        (
+            "pericentre_cut_kpc = 0",
+            OrbitOptions {
+                pericentre_cut_kpc: 0.0,
+                ..d
+            },
+        ),
+        (
+            "pericentre_cut_kpc = 200",
+            OrbitOptions {
+                pericentre_cut_kpc: 200.0,
+                ..d
+            },
+        ),
+        (
+            "central_merge_kpc = 0",
+            OrbitOptions {
+                central_merge_kpc: 0.0,
+                ..d
+            },
+        ),
+        (
+            "central_merge_kpc = 50",
+            OrbitOptions {
+                central_merge_kpc: 50.0,
+                ..d
+            },
+        ),
+        (
+            "friction off",
+            OrbitOptions {
+                friction: false,
+                ..d
+            },
+        ),
+        (
+            "stripping off",
+            OrbitOptions {
+                stripping: false,
+                ..d
+            },
+        ),
+        (
+            "both off",
+            OrbitOptions {
+                friction: false,
+                stripping: false,
+                central_merge_kpc: 1.0,
+                ..d
+            },
+        ),
+    ];
+    assert!(
+        h.accretions.len() >= 20,
+        "{} accretions",
+        h.accretions.len()
+    );
+    for (name, o) in cases {
+        assert!(o.problems("orbits.").is_empty(), "{name} is allowed");
+        let mut orng = host_rng(4, HostId::new(0, 0, 0), Stream::Orbits);
+        let res = evolve_host_subhaloes(&lt, &h, &host, &o, t_end, &mut orng);
+        for r in &res {
+            let ctx = || format!("{name}: {r:?}");
+            let eps = 1e-9;
+            for x in [
+                r.r_peri_first_kpc,
+                r.r_peri_min_kpc,
+                r.r_peri_last_kpc,
+                r.r_apo_last_kpc,
+            ] {
+                assert!(x.is_nan() || (x.is_finite() && x >= 0.0), "{}", ctx());
+            }
+            if r.n_pericentres > 0 {
+                assert!(r.r_peri_min_kpc <= r.r_peri_first_kpc + eps, "{}", ctx());
+                assert!(r.r_peri_min_kpc <= r.r_peri_last_kpc + eps, "{}", ctx());
+            }
+            if r.n_pericentres > 0 && r.r_apo_last_kpc.is_finite() {
+                assert!(r.r_peri_min_kpc <= r.r_apo_last_kpc + eps, "{}", ctx());
+            }
+            for t in [
+                r.t_peri_first_gyr,
+                r.t_peri_last_gyr,
+                r.t_release_gyr,
+                r.t_merge_gyr,
+                r.t_disrupt_physical_gyr,
+                r.t_disrupt_pericentre_gyr,
+                r.t_last_host_infall_gyr,
+            ] {
+                assert!(
+                    t.is_nan() || (t >= r.t_infall_gyr - eps && t <= t_end + eps),
+                    "{}",
+                    ctx()
+                );
+            }
+            assert!(
+                r.m_bound_msun > 0.0 && r.m_bound_msun <= r.m_infall_msun * (1.0 + 1e-12),
+                "{}",
+                ctx()
+            );
+            if r.status.alive() {
+                assert!(r.pos_kpc.iter().all(|x| x.is_finite()), "{}", ctx());
+            }
+        }
+    }
+    // the regression: at rtol = 1e-2 this host (resolution 1e8 Msun, 1,271 subhaloes) had a
+    // pericentre at -0.02 kpc (a cubic through the step's ends dipping below zero)
+    let spec = TreeSpec {
+        m_resolution_msun: 1e8,
+        ..TreeSpec::milky_way_default()
+    };
+    let mut b = TreeBuilder::new(spec.pch08).unwrap();
+    let mut rng = host_rng(4, HostId::new(0, 0, 0), Stream::Tree);
+    let h1 = HostHistory::from_tree(b.build(&lt, &spec, &mut rng).unwrap());
+    let host1 = EvolvingHost::from_history(&lt, &h1, &HostOptions::default(), 0.5);
+    let o = OrbitOptions {
+        rtol: 1e-2,
+        rtol_in_subhalo: 1e-2,
+        ..d
+    };
+    let mut orng = host_rng(4, HostId::new(0, 0, 0), Stream::Orbits);
+    let res = evolve_host_subhaloes(&lt, &h1, &host1, &o, t_end, &mut orng);
+    assert!(res.len() > 1000);
+    for r in &res {
+        assert!(
+            r.r_peri_min_kpc.is_nan() || r.r_peri_min_kpc >= 0.0,
+            "{r:?}"
+        );
+    }
+    // the smallest tolerance of all, on the first two subhaloes
+    let mut h2 = h.clone();
+    h2.accretions.truncate(2);
+    let o = OrbitOptions {
+        rtol: 1e-12,
+        rtol_in_subhalo: 1e-12,
+        ..d
+    };
+    let mut orng = host_rng(4, HostId::new(0, 0, 0), Stream::Orbits);
+    for r in evolve_host_subhaloes(&lt, &h2, &host, &o, t_end, &mut orng) {
+        assert!(r.r_peri_min_kpc.is_nan() || r.r_peri_min_kpc >= 0.0);
+        assert!(r.m_bound_msun > 0.0);
+    }
+}
