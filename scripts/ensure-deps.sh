@@ -5,7 +5,7 @@
 set -euo pipefail
 
 if ! command -v cargo >/dev/null 2>&1; then
-  echo "retinue needs Rust (cargo 1.80 or newer); install it with rustup, then re-run." >&2
+  echo "retinue needs Rust (cargo 1.89 or newer: std file locks); install it with rustup, then re-run." >&2
   exit 1
 fi
 

@@ -423,10 +423,11 @@ pub fn synthesize_to_store(
 
 /// Join shard stores (in any order) into one store ordered by global host index.
 pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError> {
-    use crate::io::store::read_meta;
+    use crate::io::store::check_complete;
     let mut metas = Vec::new();
     for p in inputs {
-        metas.push((read_meta(p)?, p.clone()));
+        // every shard must hold each of its hosts exactly once
+        metas.push((check_complete(p)?, p.clone()));
     }
     let first = metas
         .first()

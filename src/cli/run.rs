@@ -216,6 +216,8 @@ fn execute(
     if let Some(w) = resolution_warning(&grid) {
         eprintln!("warning: {w}");
     }
+    // one writer per store: held through synthesis, tests and report
+    let _lock = writer_lock(&out, "retinue run")?;
     let (lo, hi) = shard.range(grid.n_hosts());
     eprintln!(
         "retinue run: {} = {} hosts{}; writing {}",
@@ -423,6 +425,7 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         let threads = a.threads.unwrap_or(1);
         let go = |s: Shard, p: PathBuf| execute(cfg.clone(), &text, p, threads, s, a.resume, None);
         let finish = |shards: &[PathBuf], out: &Path| -> Result<(), CliError> {
+            let _lock = writer_lock(out, "retinue run (merging MPI ranks)")?;
             let p = merge_stores(shards, out).map_err(run_err)?;
             for s in shards {
                 let _ = std::fs::remove_file(s);
@@ -486,6 +489,13 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
     Ok(())
 }
 
+/// The lock on a store for one writer (`io::lock`); a second writer fails at once, naming the
+/// holder.
+fn writer_lock(target: &Path, command: &str) -> Result<retinue::io::lock::WriterLock, CliError> {
+    retinue::io::lock::WriterLock::acquire(target, command)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))
+}
+
 /// The galaxy model's warning about the trees' resolution (`GalaxyOptions::resolution_warning`,
 /// magnitudes in the first cosmology).
 fn resolution_warning(grid: &Grid) -> Option<String> {
@@ -507,6 +517,7 @@ fn grid_shape(cfg: &RunConfig) -> String {
 }
 
 pub fn merge(a: MergeArgs) -> Result<(), CliError> {
+    let _lock = writer_lock(&a.out, "retinue merge")?;
     let p = merge_stores(&a.shards, &a.out).map_err(run_err)?;
     println!("merged {} shards into {}", a.shards.len(), p.display());
     Ok(())
@@ -720,5 +731,23 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
         None => None,
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
+    let _lock = writer_lock(&a.store, "retinue infall")?;
+    // the store must hold every host of its run (or of its shard) exactly once
+    retinue::io::store::check_complete(&a.store).map_err(usage)?;
+    if meta.shard.1 > 1 {
+        let (lo, hi) = Shard {
+            index: meta.shard.0,
+            count: meta.shard.1,
+        }
+        .range(meta.n_hosts_total);
+        eprintln!(
+            "warning: {} is shard {}/{} of a split run (hosts {lo}..{hi} of {}): the tests use \
+             only its hosts; merge the shards (`retinue merge`) to test the whole run",
+            a.store.display(),
+            meta.shard.0 + 1,
+            meta.shard.1,
+            meta.n_hosts_total
+        );
+    }
     analyse(&grid, &a.store, sample.as_ref()).map(|_| ())
 }

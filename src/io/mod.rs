@@ -1,6 +1,7 @@
 //! Files: the HDF5 writers and readers. Only this module touches files.
 
 pub mod h5;
+pub mod lock;
 pub mod store;
 pub mod tree_file;
 

@@ -625,6 +625,79 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     })
 }
 
+/// Check that a store holds every host of its run (or of its shard) exactly once: its
+/// `host_index` column is exactly the shard's block [lo, hi) of `n_hosts_total` (the split of
+/// `run::Shard::range`), in order. An error names how many hosts are there, how many should be,
+/// and the first missing and doubled indices. Returns the store's metadata.
+pub fn check_complete(path: &Path) -> Result<StoreMeta, IoError> {
+    let meta = read_meta(path)?;
+    let e = |x| IoError::hdf5(path, x);
+    let f = hdf5::File::open(path).map_err(e)?;
+    let idx: Vec<u64> = f
+        .dataset("hosts/host_index")
+        .and_then(|d| d.read_raw::<u64>())
+        .map_err(e)?;
+    let (k, n) = (meta.shard.0 as u64, meta.shard.1.max(1) as u64);
+    let total = meta.n_hosts_total;
+    let (lo, hi) = (total * k / n, total * (k + 1) / n);
+    if idx.iter().copied().eq(lo..hi) {
+        return Ok(meta);
+    }
+    let mut seen = std::collections::BTreeMap::<u64, u32>::new();
+    for &i in &idx {
+        *seen.entry(i).or_default() += 1;
+    }
+    let list = |v: Vec<u64>| -> String {
+        let more = if v.len() > 8 { ", ..." } else { "" };
+        let head: Vec<String> = v.iter().take(8).map(|i| i.to_string()).collect();
+        format!("{}{more}", head.join(", "))
+    };
+    let missing: Vec<u64> = (lo..hi).filter(|i| !seen.contains_key(i)).collect();
+    let doubled: Vec<u64> = seen
+        .iter()
+        .filter(|&(_, &c)| c > 1)
+        .map(|(&i, _)| i)
+        .collect();
+    let outside: Vec<u64> = seen
+        .keys()
+        .copied()
+        .filter(|&i| i < lo || i >= hi)
+        .collect();
+    let mut what = vec![format!(
+        "holds {} host rows where shard {}/{} of a {total}-host run has {} (hosts {lo}..{hi})",
+        idx.len(),
+        k + 1,
+        n,
+        hi - lo
+    )];
+    if !missing.is_empty() {
+        what.push(format!("missing: {}", list(missing)));
+    }
+    if !doubled.is_empty() {
+        what.push(format!("doubled: {}", list(doubled)));
+    }
+    if !outside.is_empty() {
+        what.push(format!("not of this shard: {}", list(outside)));
+    }
+    if only_out_of_order(&idx, lo, hi) {
+        what.push("hosts out of order".into());
+    }
+    Err(IoError::Format {
+        path: path.display().to_string(),
+        reason: format!(
+            "incomplete or damaged store: {}; run it again (or resume it) to complete it",
+            what.join("; ")
+        ),
+    })
+}
+
+/// Every index of [lo, hi) present once but not in order.
+fn only_out_of_order(idx: &[u64], lo: u64, hi: u64) -> bool {
+    let mut v = idx.to_vec();
+    v.sort_unstable();
+    v.iter().copied().eq(lo..hi)
+}
+
 /// Number of hosts in a store.
 pub fn n_hosts_in(path: &Path) -> Result<usize, IoError> {
     let e = |x| IoError::hdf5(path, x);

@@ -710,3 +710,98 @@ fn check_warns_about_unresolved_galaxies() {
     assert_eq!(code, 0, "{err}");
     assert!(!err.contains("warning"), "{err}");
 }
+
+/// One writer per store (issue: two `infall` runs on one store corrupted its analysis group;
+/// two `run --resume` on one output published a partial store). While another process holds
+/// a store's lock, `infall` on it and `run --resume` into it stop at once with a message that
+/// names the holder and change nothing; once the lock is released both work, and the lock
+/// file is gone.
+#[test]
+fn one_writer_per_store() {
+    use retinue::io::lock::{lock_path, WriterLock};
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let before = std::fs::read(&store).unwrap();
+    // another writer holds the store (this test process stands for it)
+    let held = WriterLock::acquire(&store, "retinue infall").unwrap();
+    let (code, _, err) = run_cli(&["infall", store.to_str().unwrap()]);
+    assert_ne!(code, 0, "{err}");
+    assert!(
+        err.contains("another process is writing it")
+            && err.contains(&format!("retinue infall, process {}", std::process::id())),
+        "{err}"
+    );
+    let (code, _, err) = run_cli(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+        "--resume",
+    ]);
+    assert_ne!(code, 0, "{err}");
+    assert!(err.contains("another process is writing it"), "{err}");
+    assert_eq!(std::fs::read(&store).unwrap(), before, "the store changed");
+    drop(held);
+    assert!(!lock_path(&store).exists());
+    run_ok(&["infall", store.to_str().unwrap()]);
+    assert!(
+        !lock_path(&store).exists(),
+        "a finished writer leaves no lock file"
+    );
+}
+
+/// Readers check that a store is complete (issue: a partial store whose `n_hosts_total` said 40
+/// while it held 16 hosts was accepted by `infall` and `merge`): a store that claims more hosts
+/// than it holds is refused by both, naming what is missing; the complete one is accepted.
+#[test]
+fn incomplete_stores_are_refused() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let n: u64 = {
+        let f = hdf5::File::open(&store).unwrap();
+        f.attr("n_hosts_total").unwrap().read_scalar().unwrap()
+    };
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.attr("n_hosts_total")
+            .unwrap()
+            .write_scalar(&(n + 3))
+            .unwrap();
+    }
+    let (code, _, err) = run_cli(&["infall", store.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("incomplete or damaged store")
+            && err.contains(&format!("missing: {}, {}, {}", n, n + 1, n + 2)),
+        "{err}"
+    );
+    let out = d.path().join("m.h5");
+    let (code, _, err) = run_cli(&[
+        "merge",
+        store.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_ne!(code, 0, "{err}");
+    assert!(err.contains("incomplete or damaged store"), "{err}");
+    assert!(!out.exists());
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.attr("n_hosts_total").unwrap().write_scalar(&n).unwrap();
+    }
+    run_ok(&["infall", store.to_str().unwrap()]);
+}
