@@ -254,6 +254,24 @@ pub fn synthesize_to_store(
     } else {
         std::fs::write(&stamp, config_text).map_err(|e| IoError::fs(&stamp, e))?;
     }
+    // ... and be the same shard: parts hold the hosts of the shard that wrote them
+    let shard_stamp = dir.join("shard");
+    let this = format!("{}/{}", shard.index + 1, shard.count);
+    if shard_stamp.exists() {
+        let old =
+            std::fs::read_to_string(&shard_stamp).map_err(|e| IoError::fs(&shard_stamp, e))?;
+        if old.trim() != this {
+            return Err(RunError::Input(format!(
+                "--resume: the parts in {} are of shard {}, not {this}; resume with --shard {}, \
+                 or delete the directory to start shard {this}",
+                dir.display(),
+                old.trim(),
+                old.trim()
+            )));
+        }
+    } else {
+        std::fs::write(&shard_stamp, &this).map_err(|e| IoError::fs(&shard_stamp, e))?;
+    }
     let meta = grid.meta(config_text, shard);
     let n_parts = (hi - lo).div_ceil(batch) as usize;
     let bounds = |k: usize| {

@@ -36,6 +36,9 @@ pub struct RunArgs {
     /// Continue an interrupted run (its finished parts are kept).
     #[arg(long)]
     pub resume: bool,
+    /// Replace an existing file at the output (a store of an earlier run, or any other file).
+    #[arg(long)]
+    pub overwrite: bool,
 }
 
 #[derive(Debug, Args)]
@@ -46,6 +49,9 @@ pub struct DemoArgs {
     /// Worker threads (0 = all cores).
     #[arg(long, default_value_t = 0)]
     pub threads: usize,
+    /// Replace files in the directory that the demo did not write (e.g. your own sample.csv).
+    #[arg(long)]
+    pub overwrite: bool,
 }
 
 #[derive(Debug, Args)]
@@ -62,6 +68,9 @@ pub struct MergeArgs {
     /// The joined store (written under a temporary name, renamed when complete).
     #[arg(long)]
     pub out: PathBuf,
+    /// Replace an existing file at --out.
+    #[arg(long)]
+    pub overwrite: bool,
 }
 
 #[derive(Debug, Args)]
@@ -419,6 +428,9 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         None => Shard::WHOLE,
     };
     let out = a.out.clone().unwrap_or_else(|| cfg.file.run.output.clone());
+    let mut inputs = vec![a.config.clone()];
+    inputs.extend(cfg.sample_path());
+    guard_output(&out, &inputs, a.overwrite, false)?;
     #[cfg(feature = "mpi")]
     if a.shard.is_none() {
         // under mpirun: one shard per rank; one thread per rank unless told otherwise
@@ -453,12 +465,26 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", a.out.display())))?;
     let cfg_path = a.out.join("demo.toml");
     let text = DEMO_CONFIG.replace("\"../demo-data/sample.csv\"", "\"sample.csv\"");
+    let sample_path = a.out.join("sample.csv");
+    // the demo's inputs replace only themselves (an earlier demo's), never a user's file of
+    // the same name, unless --overwrite
+    for (p, content) in [(&cfg_path, text.as_str()), (&sample_path, DEMO_SAMPLE)] {
+        if p.exists() && !a.overwrite && std::fs::read_to_string(p).ok().as_deref() != Some(content)
+        {
+            return Err(usage(format!(
+                "{} exists and is not the demo's: refusing to replace it (use another --out, \
+                 or add --overwrite)",
+                p.display()
+            )));
+        }
+    }
+    let out = a.out.join("demo.h5");
+    guard_output(&out, &[], a.overwrite, true)?;
     std::fs::write(&cfg_path, &text)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", cfg_path.display())))?;
-    std::fs::write(a.out.join("sample.csv"), DEMO_SAMPLE)
+    std::fs::write(&sample_path, DEMO_SAMPLE)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))?;
     let cfg = RunConfig::parse_str(&text, Some(&a.out)).map_err(usage)?;
-    let out = a.out.join("demo.h5");
     if out.exists() {
         std::fs::remove_file(&out)
             .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", out.display())))?;
@@ -486,6 +512,61 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
         grid_shape(&cfg),
         cfg.n_hosts()
     );
+    Ok(())
+}
+
+/// Whether two paths name the same file (the output need not exist yet: its directory is
+/// resolved and its name compared).
+fn same_file(a: &Path, b: &Path) -> bool {
+    let resolve = |p: &Path| -> Option<PathBuf> {
+        if let Ok(c) = p.canonicalize() {
+            return Some(c);
+        }
+        let parent = match p.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d.canonicalize().ok()?,
+            _ => std::env::current_dir().ok()?,
+        };
+        Some(parent.join(p.file_name()?))
+    };
+    matches!((resolve(a), resolve(b)), (Some(x), Some(y)) if x == y)
+}
+
+/// Before anything is written: the output is a file path (not a directory), is none of the
+/// inputs, and replaces an existing file only if allowed: a store of this tool when
+/// `replace_store` (the demo's own) or with `--overwrite`, any other file only with
+/// `--overwrite`.
+fn guard_output(
+    out: &Path,
+    inputs: &[PathBuf],
+    overwrite: bool,
+    replace_store: bool,
+) -> Result<(), CliError> {
+    let name = out.display();
+    if out.as_os_str().is_empty() || out.is_dir() || out.to_string_lossy().ends_with('/') {
+        return Err(usage(format!(
+            "output {name:?} is a directory, not a file: give a file name (e.g. run.h5)"
+        )));
+    }
+    if let Some(i) = inputs.iter().find(|i| same_file(out, i)) {
+        return Err(usage(format!(
+            "output {name} is one of the inputs ({}): choose another output",
+            i.display()
+        )));
+    }
+    if out.exists() && !overwrite {
+        if !retinue::io::store::is_run_store(out) {
+            return Err(usage(format!(
+                "{name} exists and is not a retinue store: refusing to replace it (add \
+                 --overwrite to replace it anyway)"
+            )));
+        }
+        if !replace_store {
+            return Err(usage(format!(
+                "{name} already exists (a store of an earlier run): add --overwrite to replace \
+                 it, give another --out, or re-test it with `retinue infall {name}`"
+            )));
+        }
+    }
     Ok(())
 }
 
@@ -517,6 +598,7 @@ fn grid_shape(cfg: &RunConfig) -> String {
 }
 
 pub fn merge(a: MergeArgs) -> Result<(), CliError> {
+    guard_output(&a.out, &a.shards, a.overwrite, false)?;
     let _lock = writer_lock(&a.out, "retinue merge")?;
     let p = merge_stores(&a.shards, &a.out).map_err(run_err)?;
     println!("merged {} shards into {}", a.shards.len(), p.display());

@@ -574,6 +574,16 @@ impl StoreWriter {
 /// `t_merge_gyr` and `bound_to_branch`.
 pub const STORE_FORMAT: &str = "retinue run store, version 2";
 
+/// Whether `path` is a run store of this tool, of any format version (for deciding what an
+/// output may replace).
+pub fn is_run_store(path: &Path) -> bool {
+    IoError::check_hdf5(path).is_ok()
+        && hdf5::File::open(path)
+            .ok()
+            .and_then(|f| get_str_attr(&f, "format").ok())
+            .is_some_and(|fmt| fmt.starts_with("retinue run store"))
+}
+
 /// Metadata of an existing store.
 pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     let e = |x| IoError::hdf5(path, x);

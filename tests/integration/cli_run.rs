@@ -218,6 +218,22 @@ fn killed_run_resumes_to_identical_tables() {
     let (code, _, err) = run_cli(&["run", c, "--out", out.to_str().unwrap()]);
     assert_ne!(code, 0);
     assert!(err.contains("--resume"), "{err}");
+    // resuming as another shard is refused: the parts hold shard 1/1's hosts (issue 18, item 3:
+    // a store labelled 2/2 once held hosts of the other shard)
+    let (code, _, err) = run_cli(&[
+        "run",
+        c,
+        "--resume",
+        "--shard",
+        "2/2",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("shard 1/1") && err.contains("not 2/2"),
+        "{err}"
+    );
     run_ok(&[
         "run",
         c,
@@ -738,15 +754,20 @@ fn one_writer_per_store() {
             && err.contains(&format!("retinue infall, process {}", std::process::id())),
         "{err}"
     );
+    // a second run into an output another process is writing (its parts included)
+    let other = d.path().join("t.h5");
+    let held_t = WriterLock::acquire(&other, "retinue run").unwrap();
     let (code, _, err) = run_cli(&[
         "run",
         cfg.to_str().unwrap(),
         "--out",
-        store.to_str().unwrap(),
+        other.to_str().unwrap(),
         "--resume",
     ]);
     assert_ne!(code, 0, "{err}");
     assert!(err.contains("another process is writing it"), "{err}");
+    assert!(!other.exists() && !d.path().join(".t.h5.parts").exists());
+    drop(held_t);
     assert_eq!(std::fs::read(&store).unwrap(), before, "the store changed");
     drop(held);
     assert!(!lock_path(&store).exists());
@@ -804,4 +825,109 @@ fn incomplete_stores_are_refused() {
         f.attr("n_hosts_total").unwrap().write_scalar(&n).unwrap();
     }
     run_ok(&["infall", store.to_str().unwrap()]);
+}
+
+/// Inputs are never overwritten (issue: `run --out` onto the run's own configuration or
+/// sample, `merge --out` onto a shard, `demo` over a user's sample.csv each replaced the file):
+/// an output that is one of the inputs is refused, an existing file that is not a store of this
+/// tool is replaced only with --overwrite, and an existing store only with --overwrite; the
+/// demo replaces only its own earlier files. Each refusal leaves the file as it was.
+#[test]
+fn outputs_never_replace_inputs_or_foreign_files() {
+    let d = tempfile::tempdir().unwrap();
+    let sample = write(d.path(), "sample.csv", "my own data\n");
+    let cfg_text = TINY.to_string();
+    let cfg = write(d.path(), "tiny.toml", &cfg_text);
+    let refuse = |args: &[&str], file: &Path, what: &str| {
+        let before = std::fs::read(file).unwrap();
+        let (code, _, err) = run_cli(args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(err.contains(what), "{args:?}: {err}");
+        assert_eq!(
+            std::fs::read(file).unwrap(),
+            before,
+            "{args:?} changed {file:?}"
+        );
+    };
+    // the run's own configuration as its output
+    refuse(
+        &["run", cfg.to_str().unwrap(), "--out", cfg.to_str().unwrap()],
+        &cfg,
+        "is one of the inputs",
+    );
+    // a file that is not a store
+    refuse(
+        &[
+            "run",
+            cfg.to_str().unwrap(),
+            "--out",
+            sample.to_str().unwrap(),
+        ],
+        &sample,
+        "exists and is not a retinue store",
+    );
+    // an existing store: only with --overwrite
+    let s1 = d.path().join("s1.h5");
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", s1.to_str().unwrap()]);
+    refuse(
+        &["run", cfg.to_str().unwrap(), "--out", s1.to_str().unwrap()],
+        &s1,
+        "already exists",
+    );
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        s1.to_str().unwrap(),
+        "--overwrite",
+    ]);
+    // a merge onto one of its shards
+    refuse(
+        &["merge", s1.to_str().unwrap(), "--out", s1.to_str().unwrap()],
+        &s1,
+        "is one of the inputs",
+    );
+    // the demo over a user's own sample.csv; its own earlier files are fine
+    let demo_dir = d.path().join("demo");
+    std::fs::create_dir(&demo_dir).unwrap();
+    let mine = write(&demo_dir, "sample.csv", "my own data\n");
+    refuse(
+        &["demo", "--out", demo_dir.to_str().unwrap()],
+        &mine,
+        "is not the demo's",
+    );
+    // an output that is a directory, empty, "." or ends in '/' is refused before the first host
+    // (issue 18, item 6: they failed after synthesis with raw OS errors, leaving hidden files)
+    let listing = || {
+        let mut v: Vec<String> = std::fs::read_dir(d.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    };
+    let before = listing();
+    let trailing = format!("{}/", d.path().join("newdir").display());
+    for bad in [d.path().to_str().unwrap(), ".", trailing.as_str()] {
+        let (code, _, err) = run_cli(&["run", cfg.to_str().unwrap(), "--out", bad]);
+        assert_eq!(code, 2, "{bad:?}: {err}");
+        assert!(err.contains("is a directory"), "{bad:?}: {err}");
+        assert_eq!(listing(), before, "{bad:?} left files behind");
+    }
+    // an empty run.output in the configuration (clap itself refuses an empty --out)
+    let sub = d.path().join("empty-output");
+    std::fs::create_dir(&sub).unwrap();
+    let c2 = write(
+        &sub,
+        "e.toml",
+        &cfg_text.replace("output = \"tiny.h5\"", "output = \"\""),
+    );
+    let (code, _, err) = run_cli(&["run", c2.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("output"), "{err}");
+    assert_eq!(
+        std::fs::read_dir(&sub).unwrap().count(),
+        1,
+        "files left behind"
+    );
 }
