@@ -11,6 +11,23 @@ pub struct InvalidValue {
     pub allowed: String,
 }
 
+/// A short, printable excerpt of text read from a user's file, for quoting in a message: at
+/// most 24 characters, control characters shown as `?`, "..." when cut. Messages never
+/// echo whole lines of a file, which may not be what the user meant to give (a file of
+/// secrets given by mistake).
+pub fn excerpt(text: &str) -> String {
+    const MAX: usize = 24;
+    let mut out: String = text
+        .chars()
+        .take(MAX)
+        .map(|c| if c.is_control() { '?' } else { c })
+        .collect();
+    if text.chars().count() > MAX {
+        out.push_str("...");
+    }
+    out
+}
+
 /// The value written for a key that was required but absent.
 pub const MISSING: &str = "(missing)";
 

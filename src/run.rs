@@ -83,7 +83,79 @@ impl Grid {
                 LinearTheory::new(c, o.clone()).map_err(|e| RunError::Input(e.to_string()))
             })
             .collect::<Result<Vec<_>, _>>()?;
-        Ok(Self { config, theories })
+        let grid = Self { config, theories };
+        grid.check_masses()?;
+        Ok(grid)
+    }
+
+    /// Every cell's tree resolution and host masses lie inside its cosmology's sigma(M) table
+    /// (what growing a tree needs): found here, before the first host, rather than by the
+    /// first tree of a run.
+    fn check_masses(&self) -> Result<(), RunError> {
+        let f = &self.config.file;
+        let res = f.trees.resolution_msun;
+        for (ci, lt) in self.theories.iter().enumerate() {
+            let (lo, hi) = lt.sigma_table().mass_range_msun();
+            let cell = if self.theories.len() > 1 {
+                format!(" of cosmology {} (the {}. [[cosmology]] table)", ci, ci + 1)
+            } else {
+                String::new()
+            };
+            if res < lo {
+                let why = if lt.m_half_mode_msun().is_some() {
+                    " (warm dark matter: sigma(M) flattens toward small masses and the table ends where it stops changing)"
+                } else {
+                    ""
+                };
+                return Err(RunError::Input(format!(
+                    "trees.resolution_msun = {res:.3e} Msun lies below the sigma(M) table{cell}, \
+                     which starts at {lo:.3e} Msun{why}: allowed [{lo:.3e}, {hi:.3e}] Msun; \
+                     raise trees.resolution_msun to at least {lo:.3e}"
+                )));
+            }
+            for (bi, bin) in self.config.mass_bins.iter().enumerate() {
+                let ends = match *bin {
+                    MassBin::Fixed(m) => [m, m],
+                    MassBin::LogUniform(a, b) => [a, b],
+                };
+                for m in ends {
+                    let m_vir = self.virial_mass(lt, m);
+                    if m_vir > hi || m_vir <= res {
+                        return Err(RunError::Input(format!(
+                            "host.mass_msun = {m:.3e} Msun (mass bin {bi}; {m_vir:.3e} Msun \
+                             virial) must lie above trees.resolution_msun = {res:.3e} Msun and \
+                             inside the sigma(M) table{cell}: allowed ({res:.3e}, {hi:.3e}] Msun"
+                        )));
+                    }
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Virial mass (Msun) of a host of mass m in the configured definition.
+    fn virial_mass(&self, lt: &LinearTheory, m: f64) -> f64 {
+        let cfg = &self.config;
+        let z = cfg.file.host.z_final;
+        if cfg.host_mass_definition == MassDefinition::Vir {
+            return m;
+        }
+        let c = c_of_m(
+            ConcentrationModel::DuttonMaccio14,
+            lt.cosmology(),
+            m,
+            z,
+            cfg.host_mass_definition,
+        );
+        convert_nfw(
+            lt.cosmology(),
+            m,
+            c,
+            z,
+            cfg.host_mass_definition,
+            MassDefinition::Vir,
+        )
+        .0
     }
 
     pub fn n_hosts(&self) -> u64 {
@@ -114,28 +186,8 @@ impl Grid {
         let cfg = &self.config;
         let lt = &self.theories[id.cosmology as usize];
         let f = &cfg.file;
-        let m = self.host_mass(id);
+        let m_vir = self.virial_mass(lt, self.host_mass(id));
         let z = f.host.z_final;
-        let m_vir = if cfg.host_mass_definition == MassDefinition::Vir {
-            m
-        } else {
-            let c = c_of_m(
-                ConcentrationModel::DuttonMaccio14,
-                lt.cosmology(),
-                m,
-                z,
-                cfg.host_mass_definition,
-            );
-            convert_nfw(
-                lt.cosmology(),
-                m,
-                c,
-                z,
-                cfg.host_mass_definition,
-                MassDefinition::Vir,
-            )
-            .0
-        };
         SynthOptions {
             tree: TreeSpec {
                 m_host_msun: m_vir,
@@ -236,7 +288,9 @@ pub fn synthesize_to_store(
     let dir = parts_dir(out);
     if dir.exists() && !resume {
         return Err(RunError::Input(format!(
-            "{} holds parts of an interrupted run; add --resume to continue it, or delete the directory",
+            "{} holds parts of an interrupted run; add --resume to continue it, or clear them \
+             with `rm -r {}`",
+            dir.display(),
             dir.display()
         )));
     }
@@ -247,7 +301,10 @@ pub fn synthesize_to_store(
         let old = std::fs::read_to_string(&stamp).map_err(|e| IoError::fs(&stamp, e))?;
         if old != config_text {
             return Err(RunError::Input(format!(
-                "--resume: the configuration differs from the one of the interrupted run in {}",
+                "--resume: the configuration differs from the one of the interrupted run in {} \
+                 (kept there as config.toml); resume with that configuration, or clear the \
+                 stale parts with `rm -r {}`",
+                dir.display(),
                 dir.display()
             )));
         }
@@ -263,10 +320,11 @@ pub fn synthesize_to_store(
         if old.trim() != this {
             return Err(RunError::Input(format!(
                 "--resume: the parts in {} are of shard {}, not {this}; resume with --shard {}, \
-                 or delete the directory to start shard {this}",
+                 or clear them with `rm -r {}` to start shard {this}",
                 dir.display(),
                 old.trim(),
-                old.trim()
+                old.trim(),
+                dir.display()
             )));
         }
     } else {
@@ -421,19 +479,18 @@ pub fn synthesize_to_store(
         }
     });
     if let Some(e) = state.into_inner().unwrap_or_else(|p| p.into_inner()).error {
+        // keep finished parts for --resume; a run that finished none (it failed on its first
+        // hosts, as on a configuration problem) leaves nothing that would block the next run
+        if (0..n_parts).all(|k| !part_path(&dir, k).exists()) {
+            let _ = std::fs::remove_dir_all(&dir);
+        }
         return Err(e);
     }
     // join the parts
     let atomic = AtomicPath::new(out);
     let _ = std::fs::remove_file(&atomic.temp_path);
-    {
-        let mut w = StoreWriter::create(&atomic.temp_path, &meta)
-            .map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
-        for k in 0..n_parts {
-            w.append_store(&part_path(&dir, k))?;
-        }
-        w.flush().map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
-    }
+    let parts: Vec<PathBuf> = (0..n_parts).map(|k| part_path(&dir, k)).collect();
+    join_stores(&atomic, &meta, &parts)?;
     let path = atomic.commit()?;
     let _ = std::fs::remove_dir_all(&dir);
     Ok(path)
@@ -445,7 +502,11 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     let mut metas = Vec::new();
     for p in inputs {
         // every shard must hold each of its hosts exactly once
-        metas.push((check_complete(p)?, p.clone()));
+        // (a shard that cannot be read is bad input, like any other file given)
+        metas.push((
+            check_complete(p).map_err(|e| RunError::Input(e.to_string()))?,
+            p.clone(),
+        ));
     }
     let first = metas
         .first()
@@ -504,13 +565,30 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     let mut meta = first.clone();
     meta.shard = (0, 1);
     let atomic = AtomicPath::new(out);
-    {
-        let mut w = StoreWriter::create(&atomic.temp_path, &meta)
-            .map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
-        for (_, p) in &metas {
-            w.append_store(p)?;
-        }
-        w.flush().map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
-    }
+    let shards: Vec<PathBuf> = metas.iter().map(|(_, p)| p.clone()).collect();
+    join_stores(&atomic, &meta, &shards)?;
     Ok(atomic.commit()?)
+}
+
+/// Append stores (parts or shards, in the given order) into the temporary file of `atomic`.
+/// On a full disk the error says about how much the joined store needs (the sum of the
+/// inputs); the temporary file goes with `atomic`.
+fn join_stores(atomic: &AtomicPath, meta: &StoreMeta, inputs: &[PathBuf]) -> Result<(), IoError> {
+    let needed: u64 = inputs
+        .iter()
+        .filter_map(|p| std::fs::metadata(p).ok())
+        .map(|m| m.len())
+        .sum();
+    let mut rows = (0, 0);
+    for p in inputs {
+        let (h, s) = crate::io::store::store_rows(p).map_err(|e| IoError::hdf5(p, e))?;
+        rows = (rows.0 + h, rows.1 + s);
+    }
+    let mut w = StoreWriter::create_for(&atomic.temp_path, meta, rows)
+        .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(needed))?;
+    for p in inputs {
+        w.append_store(p).map_err(|e| e.needing(needed))?;
+    }
+    w.flush()
+        .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(needed))
 }

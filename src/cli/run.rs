@@ -27,8 +27,8 @@ pub struct RunArgs {
     /// Output store (default: [run] output).
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Worker threads (default: [run] threads; 0 = all cores).
-    #[arg(long)]
+    /// Worker threads, 0 to 1024 (default: [run] threads; 0 = all cores).
+    #[arg(long, value_parser = parse_threads)]
     pub threads: Option<usize>,
     /// Run only shard K of N (1-based, e.g. 2/4): a contiguous block of hosts.
     #[arg(long, value_name = "K/N")]
@@ -46,8 +46,8 @@ pub struct DemoArgs {
     /// Directory for the demo's store, report and inputs.
     #[arg(long, default_value = "retinue-demo")]
     pub out: PathBuf,
-    /// Worker threads (0 = all cores).
-    #[arg(long, default_value_t = 0)]
+    /// Worker threads, 0 to 1024 (0 = all cores).
+    #[arg(long, default_value_t = 0, value_parser = parse_threads)]
     pub threads: usize,
     /// Replace files in the directory that the demo did not write (e.g. your own sample.csv).
     #[arg(long)]
@@ -199,6 +199,19 @@ impl Reporter {
     }
 }
 
+/// `--threads`: the range of `[run] threads`, [0, 1024] (0 = all cores).
+pub(crate) fn parse_threads(s: &str) -> Result<usize, String> {
+    let n: usize = s
+        .parse()
+        .map_err(|_| format!("`{s}` is not a whole number; allowed [0, 1024] (0 = all cores)"))?;
+    if n > 1024 {
+        return Err(format!(
+            "{n} is more than 1024; allowed [0, 1024] (0 = all cores)"
+        ));
+    }
+    Ok(n)
+}
+
 fn pool(threads: usize) -> Result<rayon::ThreadPool, CliError> {
     rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
@@ -225,6 +238,9 @@ fn execute(
     if let Some(w) = resolution_warning(&grid) {
         eprintln!("warning: {w}");
     }
+    if let Some(w) = grid.config.size_warning() {
+        eprintln!("warning: {w}");
+    }
     // one writer per store: held through synthesis, tests and report
     let _lock = writer_lock(&out, "retinue run")?;
     let (lo, hi) = shard.range(grid.n_hosts());
@@ -243,9 +259,34 @@ fn execute(
         },
         out.display()
     );
+    let pool = pool(threads)?;
+    // --resume on a store that was published but whose tests or report were interrupted:
+    // the hosts are all there, so only the tests and the report are run again
+    if resume && retinue::io::store::is_run_store(&out) {
+        let meta = retinue::io::store::check_complete(&out)
+            .map_err(|e| usage(format!("--resume: {e}")))?;
+        if meta.config_toml != text || meta.shard != (shard.index, shard.count) {
+            return Err(usage(format!(
+                "--resume: {} is a store of another configuration or shard (shard {}/{}); \
+                 give another --out, or add --overwrite to replace it",
+                out.display(),
+                meta.shard.0 + 1,
+                meta.shard.1
+            )));
+        }
+        eprintln!(
+            "{} already holds all {} hosts of this run: running only the tests and the report",
+            out.display(),
+            hi - lo
+        );
+        if shard.count > 1 {
+            return Ok(out);
+        }
+        pool.install(|| analyse(&grid, &out, sample.as_ref()))?;
+        return Ok(out);
+    }
     let t0 = Instant::now();
     let rep = Reporter::new(hi - lo);
-    let pool = pool(threads)?;
     let path = pool
         .install(|| synthesize_to_store(&grid, text, &out, shard, resume, &|d, t| rep.update(d, t)))
         .map_err(run_err)?;
@@ -430,7 +471,8 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
     let out = a.out.clone().unwrap_or_else(|| cfg.file.run.output.clone());
     let mut inputs = vec![a.config.clone()];
     inputs.extend(cfg.sample_path());
-    guard_output(&out, &inputs, a.overwrite, false)?;
+    // with --resume an existing store of this run is completed (tests and report), not replaced
+    guard_output(&out, &inputs, a.overwrite, a.resume)?;
     #[cfg(feature = "mpi")]
     if a.shard.is_none() {
         // under mpirun: one shard per rank; one thread per rank unless told otherwise
@@ -506,6 +548,9 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
     if let Some(w) = resolution_warning(&grid) {
         eprintln!("warning: {w}");
     }
+    if let Some(w) = cfg.size_warning() {
+        eprintln!("warning: {w}");
+    }
     println!(
         "{}: valid ({} = {} hosts)",
         a.config.display(),
@@ -563,7 +608,8 @@ fn guard_output(
         if !replace_store {
             return Err(usage(format!(
                 "{name} already exists (a store of an earlier run): add --overwrite to replace \
-                 it, give another --out, or re-test it with `retinue infall {name}`"
+                 it, give another --out, re-test it with `retinue infall {name}`, or add \
+                 --resume if its run stopped during the tests or the report"
             )));
         }
     }
@@ -748,6 +794,8 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
         None => None,
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
+    // whole tables, each host once (a shard is drawn as it is)
+    retinue::io::store::check_complete(&a.store).map_err(usage)?;
     let (res, fig, _) = compute(&grid, &a.store, sample.as_ref())?;
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)

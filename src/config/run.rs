@@ -255,7 +255,15 @@ impl RunConfig {
             Ok(cfg) if problems.is_empty() => Ok(cfg),
             Ok(_) => Err(ConfigProblems(problems)),
             Err(ConfigProblems(more)) => {
-                problems.extend(more);
+                // a key missing from a table that had a line set aside as unreadable is most
+                // likely that line's key (an unterminated string, a preset that could not be
+                // read): the set-aside line is the problem reported, not its consequences
+                let table = |key: &str| key.rsplit_once('.').map(|(t, _)| t.to_string());
+                let unreadable: Vec<Option<String>> =
+                    problems.iter().map(|p| table(&p.key)).collect();
+                problems.extend(more.into_iter().filter(|p| {
+                    p.value != crate::error::MISSING || !unreadable.contains(&table(&p.key))
+                }));
                 Err(ConfigProblems(problems))
             }
         }
@@ -458,6 +466,22 @@ impl RunConfig {
         problems.extend(file.orbits.problems("orbits."));
         problems.extend(file.galaxies.problems("galaxies."));
         problems.extend(file.survey.problems("survey."));
+        // the grid as a whole: a plain upper limit (a store of 1e8 Milky-Way-mass hosts at the
+        // default resolution would take about 100 TB; `size_warning` speaks below it)
+        let total = (sections.len() * mass_bins.len().max(1)) as u128 * r.hosts_per_cell as u128;
+        if total > MAX_HOSTS as u128 {
+            problems.push(InvalidValue::new(
+                "run.hosts_per_cell",
+                r.hosts_per_cell,
+                format!(
+                    "the grid would hold {total} hosts ({} cosmologies x {} host masses x \
+                     {} hosts per cell); at most {MAX_HOSTS:.0e} hosts in one run",
+                    sections.len(),
+                    mass_bins.len().max(1),
+                    r.hosts_per_cell
+                ),
+            ));
+        }
         if !problems.is_empty() {
             return Err(ConfigProblems(problems));
         }
@@ -492,4 +516,42 @@ impl RunConfig {
     pub fn n_hosts(&self) -> u64 {
         (self.cosmologies.len() * self.mass_bins.len() * self.file.run.hosts_per_cell) as u64
     }
+
+    /// Rough size of the run: (store bytes, CPU seconds), scaled from a measurement on this
+    /// project's machines (docs/performance.md): 1.12 MB and 0.25 CPU s per host of 1.2e12
+    /// Msun at trees.resolution_msun = 3.16e7 (100 hosts: 112 MB, 376,084 subhaloes; 1,000
+    /// hosts: 8 hosts/s on 2 threads). Both scale with the number of subhaloes, taken as
+    /// (host mass / resolution)^0.9 (the slope of the subhalo mass function, common practice).
+    pub fn size_estimate(&self) -> (f64, f64) {
+        let per_cell = self.file.run.hosts_per_cell as f64 * self.cosmologies.len() as f64;
+        let res = self.file.trees.resolution_msun;
+        let mut scale = 0.0;
+        for bin in &self.mass_bins {
+            let m = match *bin {
+                MassBin::Fixed(m) => m,
+                MassBin::LogUniform(lo, hi) => (lo * hi).sqrt(),
+            };
+            scale += ((m / res) / (1.2e12 / 3.16e7)).powf(0.9);
+        }
+        (per_cell * scale * 1.12e6, per_cell * scale * 0.25)
+    }
+
+    /// A warning for a run whose store would exceed 50 GB: its size and CPU time, so that a
+    /// mistyped host count is caught before the machine is busy for weeks.
+    pub fn size_warning(&self) -> Option<String> {
+        let (bytes, cpu_s) = self.size_estimate();
+        (bytes > 5e10).then(|| {
+            format!(
+                "this run has {} hosts: its store will take about {:.0} GB and about {:.0} \
+                 CPU-hours to synthesise (rough estimate; check run.hosts_per_cell, \
+                 host.mass_msun and trees.resolution_msun)",
+                self.n_hosts(),
+                bytes / 1e9,
+                cpu_s / 3600.0
+            )
+        })
+    }
 }
+
+/// The most hosts one run may hold (run.hosts_per_cell x cosmologies x host masses).
+pub const MAX_HOSTS: u64 = 100_000_000;

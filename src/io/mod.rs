@@ -18,6 +18,78 @@ pub enum IoError {
     Fs { path: String, cause: std::io::Error },
     #[error("{path}: {reason}")]
     Format { path: String, reason: String },
+    /// The disk (or quota) filled while writing: one line, with what is known of the space
+    /// needed; the temporary file is removed by its `AtomicPath`.
+    #[error("no space left on {device} while writing {path}; {}", match needed {
+        Some(n) => format!("about {} needed (free some space and run again)", human_bytes(*n)),
+        None => "free some space and run again (with --resume, a run keeps its finished parts)".into(),
+    })]
+    NoSpace {
+        device: String,
+        path: String,
+        needed: Option<u64>,
+    },
+}
+
+/// "53.2 MB (53,200,000 bytes)"-style sizes for messages.
+fn human_bytes(n: u64) -> String {
+    let (v, unit) = match n {
+        0..1_000_000 => (n as f64 / 1e3, "kB"),
+        1_000_000..1_000_000_000 => (n as f64 / 1e6, "MB"),
+        _ => (n as f64 / 1e9, "GB"),
+    };
+    format!("{v:.1} {unit} ({n} bytes)")
+}
+
+/// Whether an error message of the operating system or the HDF5 library says the device or
+/// the quota is full (ENOSPC, EDQUOT).
+fn says_no_space(text: &str) -> bool {
+    text.contains("No space left on device")
+        || text.contains("errno = 28,")
+        || text.contains("Disk quota exceeded")
+}
+
+/// The file a user knows: `.NAME.partial` is written for NAME.
+fn user_facing(path: &Path) -> PathBuf {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    match name
+        .strip_prefix('.')
+        .and_then(|n| n.strip_suffix(".partial"))
+    {
+        Some(final_name) => path.with_file_name(final_name),
+        None => path.to_path_buf(),
+    }
+}
+
+/// The device that holds `path`, for messages: "DEVICE (mounted on DIR)" from the mount
+/// table where there is one (Linux), else "the device of DIR".
+fn device_of(path: &Path) -> String {
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let dir = dir.canonicalize().unwrap_or_else(|_| dir.to_path_buf());
+    let best = std::fs::read_to_string("/proc/self/mounts")
+        .ok()
+        .and_then(|table| {
+            table
+                .lines()
+                .filter_map(|l| {
+                    let mut w = l.split_whitespace();
+                    let dev = w.next()?;
+                    // the mount table escapes spaces as \040
+                    let at = PathBuf::from(w.next()?.replace("\\040", " "));
+                    dir.starts_with(&at).then_some((dev.to_string(), at))
+                })
+                .max_by_key(|(_, at)| at.as_os_str().len())
+        });
+    match best {
+        Some((dev, at)) => format!("{dev} (mounted on {})", at.display()),
+        None => format!("the device of {}", dir.display()),
+    }
 }
 
 impl IoError {
@@ -49,6 +121,9 @@ impl IoError {
     }
 
     pub fn hdf5(path: &Path, source: hdf5::Error) -> Self {
+        if says_no_space(&source.to_string()) {
+            return Self::no_space(path);
+        }
         Self::Hdf5 {
             path: path.display().to_string(),
             cause: source,
@@ -56,9 +131,35 @@ impl IoError {
     }
 
     pub fn fs(path: &Path, source: std::io::Error) -> Self {
+        if source.kind() == std::io::ErrorKind::StorageFull
+            || source.kind() == std::io::ErrorKind::QuotaExceeded
+            || says_no_space(&source.to_string())
+        {
+            return Self::no_space(path);
+        }
         Self::Fs {
             path: path.display().to_string(),
             cause: source,
+        }
+    }
+
+    fn no_space(path: &Path) -> Self {
+        Self::NoSpace {
+            device: device_of(path),
+            path: user_facing(path).display().to_string(),
+            needed: None,
+        }
+    }
+
+    /// With the space the write needed, where the caller knows it (a no-space error only).
+    pub fn needing(self, bytes: u64) -> Self {
+        match self {
+            Self::NoSpace { device, path, .. } => Self::NoSpace {
+                device,
+                path,
+                needed: Some(bytes),
+            },
+            other => other,
         }
     }
 }
@@ -88,11 +189,21 @@ impl AtomicPath {
     pub fn commit(self) -> Result<PathBuf, IoError> {
         std::fs::rename(&self.temp_path, &self.final_path)
             .map_err(|e| IoError::fs(&self.final_path, e))?;
-        Ok(self.final_path)
+        Ok(self.final_path.clone())
     }
 
     /// Remove the temporary file (after a failure).
     pub fn discard(&self) {
         let _ = std::fs::remove_file(&self.temp_path);
+    }
+}
+
+/// A write that fails on any path (an error returned with `?`, a full disk) removes its
+/// temporary file; after `commit` there is none left to remove.
+impl Drop for AtomicPath {
+    fn drop(&mut self) {
+        if self.temp_path.exists() {
+            let _ = std::fs::remove_file(&self.temp_path);
+        }
     }
 }

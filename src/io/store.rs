@@ -326,12 +326,12 @@ fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
     ]
 }
 
-fn create_col(g: &Group, spec: &Spec, template: &Col) -> hdf5::Result<()> {
+fn create_col(g: &Group, spec: &Spec, template: &Col, chunk: usize) -> hdf5::Result<()> {
     macro_rules! mk {
         ($t:ty) => {{
             let ds = g
                 .new_dataset::<$t>()
-                .chunk(8192)
+                .chunk(chunk)
                 .shape(Extent::resizable(0))
                 .create(spec.0)?;
             set_str_attr(&ds, "units", spec.1)?;
@@ -384,14 +384,39 @@ fn read_col(g: &Group, name: &str) -> hdf5::Result<Col> {
 /// A store being written (one file).
 pub struct StoreWriter {
     file: hdf5::File,
+    path: PathBuf,
     n_hosts: u64,
     n_subs: u64,
     mah_len: Option<usize>,
+    /// Rows per chunk of the host histories.
+    hist_chunk: usize,
+}
+
+/// Rows per chunk of the columns of a large store.
+const CHUNK_ROWS: usize = 8192;
+
+/// Host and subhalo rows of a store (for sizing the chunks of a store that joins it).
+pub fn store_rows(path: &Path) -> hdf5::Result<(u64, u64)> {
+    let f = hdf5::File::open(path)?;
+    let n = |name: &str| -> hdf5::Result<u64> { Ok(f.dataset(name)?.shape()[0] as u64) };
+    Ok((
+        n("hosts/host_index")?,
+        n(&format!("subhalos/{}", SUB_COLUMNS[0].0))?,
+    ))
 }
 
 impl StoreWriter {
-    /// Create a new store file with its tables.
+    /// Create a new store file with its tables, chunked for a large store.
     pub fn create(path: &Path, meta: &StoreMeta) -> hdf5::Result<Self> {
+        Self::create_for(path, meta, (u64::MAX, u64::MAX))
+    }
+
+    /// Create a new store file for about `rows` = (hosts, subhaloes) rows: chunks are no
+    /// larger than the tables (each column of a part file would otherwise take a whole
+    /// 8192-row chunk, tripling the parts' size on disk).
+    pub fn create_for(path: &Path, meta: &StoreMeta, rows: (u64, u64)) -> hdf5::Result<Self> {
+        let fit = |n: u64, cap: usize| n.clamp(1, cap as u64) as usize;
+        let (chunk_h, chunk_s) = (fit(rows.0, CHUNK_ROWS), fit(rows.1, CHUNK_ROWS));
         let f = hdf5::File::create(path)?;
         set_str_attr(&f, "format", STORE_FORMAT)?;
         set_str_attr(&f, "config", &meta.config_toml)?;
@@ -407,19 +432,21 @@ impl StoreWriter {
         let s = f.create_group("subhalos")?;
         let templ_h = host_cols(&[], 0, 0);
         for (spec, c) in HOST_COLUMNS.iter().zip(&templ_h) {
-            create_col(&h, spec, c)?;
+            create_col(&h, spec, c, chunk_h)?;
         }
         let templ_s = sub_cols(&[], 0);
         for (spec, c) in SUB_COLUMNS.iter().zip(&templ_s) {
-            create_col(&s, spec, c)?;
+            create_col(&s, spec, c, chunk_s)?;
         }
         f.create_group("histories")?;
         f.create_group("analysis")?;
         Ok(Self {
             file: f,
+            path: path.to_path_buf(),
             n_hosts: 0,
             n_subs: 0,
             mah_len: None,
+            hist_chunk: fit(rows.0, 64),
         })
     }
 
@@ -447,7 +474,7 @@ impl StoreWriter {
         if self.mah_len.is_none() {
             let ds = hist
                 .new_dataset::<f64>()
-                .chunk((64, len))
+                .chunk((self.hist_chunk, len))
                 .shape((Extent::resizable(0), Extent::fixed(len)))
                 .create("mass_msun")?;
             set_str_attr(&ds, "units", "Msun")?;
@@ -507,7 +534,8 @@ impl StoreWriter {
                 *x += self.n_hosts;
             }
         }
-        let me = |x| IoError::hdf5(Path::new("(output)"), x);
+        let out = self.path.clone();
+        let me = |x| IoError::hdf5(&out, x);
         let hh = self.file.group("hosts").map_err(me)?;
         for (spec, c) in HOST_COLUMNS.iter().zip(&hcols) {
             append_col(&hh, spec.0, c).map_err(me)?;
@@ -526,7 +554,7 @@ impl StoreWriter {
             if self.mah_len.is_none() {
                 let d = mh
                     .new_dataset::<f64>()
-                    .chunk((64, len.max(1)))
+                    .chunk((self.hist_chunk, len.max(1)))
                     .shape((Extent::resizable(0), Extent::fixed(len)))
                     .create("mass_msun")
                     .map_err(me)?;
@@ -643,6 +671,7 @@ pub fn check_complete(path: &Path) -> Result<StoreMeta, IoError> {
     let meta = read_meta(path)?;
     let e = |x| IoError::hdf5(path, x);
     let f = hdf5::File::open(path).map_err(e)?;
+    check_tables(&f, path)?;
     let idx: Vec<u64> = f
         .dataset("hosts/host_index")
         .and_then(|d| d.read_raw::<u64>())
@@ -699,6 +728,89 @@ pub fn check_complete(path: &Path) -> Result<StoreMeta, IoError> {
             what.join("; ")
         ),
     })
+}
+
+/// The tables of a store are whole: every column is there with as many rows as its table,
+/// and the subhalo rows of each host are where `/hosts/sub_offset` and `sub_count` say (their
+/// `host_row` read in blocks, so memory stays flat). An error names the first problem.
+fn check_tables(f: &hdf5::File, path: &Path) -> Result<(), IoError> {
+    let damaged = |what: String| IoError::Format {
+        path: path.display().to_string(),
+        reason: format!("damaged store: {what}; run it again to rebuild it"),
+    };
+    let e = |x| IoError::hdf5(path, x);
+    let mut rows = [0usize; 2];
+    for (t, (table, cols)) in [("hosts", HOST_COLUMNS), ("subhalos", SUB_COLUMNS)]
+        .into_iter()
+        .enumerate()
+    {
+        let g = f
+            .group(table)
+            .map_err(|_| damaged(format!("the table /{table} is missing")))?;
+        for (i, (name, _, _)) in cols.iter().enumerate() {
+            let ds = g
+                .dataset(name)
+                .map_err(|_| damaged(format!("the column /{table}/{name} is missing")))?;
+            let n = ds.shape().first().copied().unwrap_or(0);
+            if i == 0 {
+                rows[t] = n;
+            } else if n != rows[t] {
+                return Err(damaged(format!(
+                    "the column /{table}/{name} has {n} rows where /{table}/{} has {}",
+                    cols[0].0, rows[t]
+                )));
+            }
+        }
+    }
+    let hosts = f.group("hosts").map_err(e)?;
+    let read = |name: &str| -> Result<Vec<u64>, IoError> {
+        hosts
+            .dataset(name)
+            .and_then(|d| d.read_raw::<u64>())
+            .map_err(e)
+    };
+    let (offset, count) = (read("sub_offset")?, read("sub_count")?);
+    let mut expect = 0u64;
+    for (row, (&o, &c)) in offset.iter().zip(&count).enumerate() {
+        if o != expect {
+            return Err(damaged(format!(
+                "host row {row}: sub_offset = {o} where the counts before it give {expect}"
+            )));
+        }
+        expect = expect.saturating_add(c);
+    }
+    if expect != rows[1] as u64 {
+        return Err(damaged(format!(
+            "the hosts' sub_count add up to {expect} subhalo rows where /subhalos has {}",
+            rows[1]
+        )));
+    }
+    // each host's rows point back at it
+    let host_row = f.dataset("subhalos/host_row").map_err(e)?;
+    const BLOCK: usize = 1 << 20;
+    let mut host = 0usize;
+    let mut start = 0usize;
+    while start < rows[1] {
+        let end = (start + BLOCK).min(rows[1]);
+        let block: Vec<u64> = host_row
+            .read_slice_1d::<u64, _>(start..end)
+            .map_err(e)?
+            .to_vec();
+        for (j, &hr) in block.iter().enumerate() {
+            let r = (start + j) as u64;
+            while host < offset.len() && r >= offset[host] + count[host] {
+                host += 1;
+            }
+            if hr != host as u64 {
+                return Err(damaged(format!(
+                    "subhalo row {r} belongs to host row {hr} but lies in the rows of host row \
+                     {host} (sub_offset/sub_count)"
+                )));
+            }
+        }
+        start = end;
+    }
+    Ok(())
 }
 
 /// Every index of [lo, hi) present once but not in order.
@@ -826,7 +938,9 @@ pub fn write_part(
 ) -> Result<(), IoError> {
     let atomic = AtomicPath::new(path);
     let r = (|| -> hdf5::Result<()> {
-        let mut w = StoreWriter::create(&atomic.temp_path, meta)?;
+        let n_subs: usize = recs.iter().map(|(_, r)| r.subhaloes.len()).sum();
+        let mut w =
+            StoreWriter::create_for(&atomic.temp_path, meta, (recs.len() as u64, n_subs as u64))?;
         w.append(recs)?;
         w.flush()
     })();

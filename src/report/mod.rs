@@ -416,7 +416,9 @@ pub fn write_analysis_to_store(
     options_toml: &str,
 ) -> Result<(), IoError> {
     let a = AtomicPath::new(store);
-    std::fs::copy(store, &a.temp_path).map_err(|e| IoError::fs(&a.temp_path, e))?;
+    // on a full disk: the copy needs about the store's size
+    let needed = std::fs::metadata(store).map(|m| m.len()).unwrap_or(0);
+    std::fs::copy(store, &a.temp_path).map_err(|e| IoError::fs(&a.temp_path, e).needing(needed))?;
     let r = (|| -> hdf5::Result<()> {
         let f = hdf5::File::open_rw(&a.temp_path)?;
         write_analysis(&f, res, options_toml)?;
@@ -426,7 +428,7 @@ pub fn write_analysis_to_store(
         Ok(()) => a.commit().map(|_| ()),
         Err(e) => {
             a.discard();
-            Err(IoError::hdf5(store, e))
+            Err(IoError::hdf5(store, e).needing(needed))
         }
     }
 }

@@ -95,10 +95,19 @@ impl ObservedSample {
         let (_, header) = lines.next().ok_or("the file is empty")?;
         let cols: Vec<String> = header.split(',').map(|s| s.trim().to_string()).collect();
         let mut problems = Vec::new();
+        if !cols.iter().any(|c| COLUMNS.contains(&c.as_str())) {
+            return Err(format!(
+                "the first line (`{}`) names none of the sample's columns: is this the observed \
+                 sample? expected a CSV file with the header {}",
+                crate::error::excerpt(header),
+                COLUMNS.join(",")
+            ));
+        }
         for c in &cols {
             if !COLUMNS.contains(&c.as_str()) {
                 problems.push(format!(
-                    "unknown column `{c}`; expected {}",
+                    "unknown column `{}`; expected {}",
+                    crate::error::excerpt(c),
                     COLUMNS.join(",")
                 ));
             }
@@ -137,7 +146,7 @@ impl ObservedSample {
                         "line {}: {} = `{}` is not a number",
                         lineno + 1,
                         COLUMNS[k],
-                        f[p[k]]
+                        crate::error::excerpt(f[p[k]])
                     ));
                     unreadable = true;
                     f64::NAN
@@ -174,7 +183,7 @@ impl ObservedSample {
                 if !ok {
                     problems.push(format!(
                         "object `{}`: {k} = {v} is not allowed: {allowed}",
-                        o.id
+                        crate::error::excerpt(&o.id)
                     ));
                 }
             };

@@ -234,6 +234,26 @@ fn killed_run_resumes_to_identical_tables() {
         err.contains("shard 1/1") && err.contains("not 2/2"),
         "{err}"
     );
+    // ... as is resuming with another configuration: the stale parts are named with the
+    // command that clears them
+    let other = write(
+        d.path(),
+        "other.toml",
+        &text.replace("master_seed = 11", "master_seed = 5"),
+    );
+    let (code, _, err) = run_cli(&[
+        "run",
+        other.to_str().unwrap(),
+        "--resume",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("configuration differs")
+            && err.contains(&format!("rm -r {}", parts.display())),
+        "{err}"
+    );
     run_ok(&[
         "run",
         c,
@@ -245,6 +265,55 @@ fn killed_run_resumes_to_identical_tables() {
     ]);
     assert_eq!(tables(&full), tables(&out));
     assert!(!parts.exists());
+}
+
+/// A run killed during its tests or report leaves a complete store without `/analysis`;
+/// `--resume` then runs only the tests and the report on it, with the same results as an
+/// uninterrupted run (issue 18, item 7: it re-synthesised every host).
+#[test]
+fn resume_after_the_hosts_runs_only_the_tests() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "r.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let out = d.path().join("r.h5");
+    run_ok(&["run", c, "--out", out.to_str().unwrap()]);
+    let full = tables(&out);
+    let read_analysis = |p: &Path| -> Vec<f64> {
+        let f = hdf5::File::open(p).unwrap();
+        f.dataset("analysis/all_of_n/last_host_infall/mean")
+            .unwrap()
+            .read_raw::<f64>()
+            .unwrap()
+    };
+    let analysis = read_analysis(&out);
+    // what a kill during the tests leaves: the hosts without /analysis, and no report
+    {
+        let f = hdf5::File::open_rw(&out).unwrap();
+        f.unlink("analysis").unwrap();
+    }
+    std::fs::remove_dir_all(d.path().join("r-report")).unwrap();
+    let (code, _, err) = run_cli(&["run", c, "--resume", "--out", out.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(err.contains("running only the tests"), "{err}");
+    assert!(!err.contains("synthesised"), "{err}");
+    assert_eq!(tables(&out), full);
+    assert_eq!(read_analysis(&out), analysis);
+    assert!(d.path().join("r-report/report.md").exists());
+    // a store of another configuration is not taken for this run's
+    let other = write(
+        d.path(),
+        "o.toml",
+        &TINY.replace("master_seed = 11", "master_seed = 12"),
+    );
+    let (code, _, err) = run_cli(&[
+        "run",
+        other.to_str().unwrap(),
+        "--resume",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("another configuration"), "{err}");
 }
 
 /// At least 30 malformed configurations and inputs: each gives exit code 2, a message that
@@ -411,6 +480,16 @@ fn malformed_configs_are_reported() {
             base.replace("[host]", "[host]\nmass_log_uniform_msun = [1e12, 2e12]"),
             "not both",
         ),
+        // a tree resolution below a warm-dark-matter sigma(M) table (issue 18, item 5: `check`
+        // passed it and `run` failed at its first tree, leaving parts that blocked the next run)
+        (
+            base.replace(
+                "preset = \"planck18\"",
+                "preset = \"planck18\"\nm_wdm_kev = 1.0\nfilter = \"sharp-k\"",
+            )
+            .replace("resolution_msun = 1e9", "resolution_msun = 3e7"),
+            "trees.resolution_msun = 3.000e7 Msun lies below the sigma(M) table",
+        ),
         // a transfer table that is not there
         (
             base.replace(
@@ -466,13 +545,156 @@ fn malformed_configs_are_reported() {
         .filter(|e| e.file_name().to_string_lossy().starts_with('.'))
         .collect();
     assert!(leftovers.is_empty(), "temporary files left: {leftovers:?}");
-    // bad shard specs
+    // an unterminated string: its line is the one problem reported (it gave five bogus
+    // "missing" lines after it)
+    let p = write(
+        d.path(),
+        "unterminated.toml",
+        &base.replace("preset = \"planck18\"", "preset = \"planck18"),
+    );
+    let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("cosmology.preset"), "{err}");
+    assert_eq!(err.lines().count(), 1, "{err}");
+    // more threads than the cap of run.threads
     let good = write(d.path(), "good.toml", TINY);
+    let (code, _, err) = run_cli(&["run", good.to_str().unwrap(), "--threads", "2000"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("1024"), "{err}");
+    // a grid of more than 1e8 hosts is refused; a large one is accepted with its size
+    let masses = format!("mass_msun = [{}]", vec!["1e12"; 20].join(", "));
+    let huge = write(
+        d.path(),
+        "huge.toml",
+        &base
+            .replace("hosts_per_cell = 3", "hosts_per_cell = 10000000")
+            .replace("mass_msun = [8e11, 1.2e12]", &masses),
+    );
+    let (code, _, err) = run_cli(&["check", huge.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("200000000 hosts") && err.contains("at most 1e8"),
+        "{err}"
+    );
+    let large = write(
+        d.path(),
+        "large.toml",
+        &base.replace("hosts_per_cell = 3", "hosts_per_cell = 10000000"),
+    );
+    let (code, _, err) = run_cli(&["check", large.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        err.contains("20000000 hosts: its store will take about"),
+        "{err}"
+    );
+    // bad shard specs
     for s in ["0/3", "4/3", "x/3", "3"] {
         let (code, _, err) = run_cli(&["run", good.to_str().unwrap(), "--shard", s]);
         assert_eq!(code, 2, "{s}");
         assert!(err.contains("--shard"), "{err}");
     }
+}
+
+/// A run that fails before finishing any part (here an injected fault on its first host)
+/// leaves nothing behind that would block the next run (issue 18, item 5); a run that
+/// finished some parts keeps them for --resume.
+#[test]
+fn failed_run_without_parts_leaves_nothing() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "f.toml", TINY);
+    let out = d.path().join("f.h5");
+    let fail_at = |host: &str| {
+        std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+            .args(["run", cfg.to_str().unwrap(), "--threads", "1"])
+            .args(["--out", out.to_str().unwrap()])
+            .env("RETINUE_FAULT_HOST", host)
+            .output()
+            .unwrap()
+    };
+    let o = fail_at("0");
+    assert_ne!(o.status.code(), Some(0));
+    let parts = d.path().join(".f.h5.parts");
+    assert!(
+        !parts.exists(),
+        "parts left after a failure on the first host"
+    );
+    // a failure after the first batch (2 hosts) keeps that batch
+    let o = fail_at("3");
+    assert_ne!(o.status.code(), Some(0));
+    assert!(
+        parts.join("part-00000.h5").exists(),
+        "the finished batch was not kept"
+    );
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--resume",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(out.exists() && !parts.exists());
+}
+
+/// A full disk (a 600 kB tmpfs, mounted where the test may mount: as root on Linux, as in CI;
+/// elsewhere it says so and checks nothing) gives one line naming the device and the file,
+/// exit code 1, and leaves no temporary file (issue 18, item 9: two raw HDF5 lines and a
+/// hidden `.partial` were left on the full disk).
+#[test]
+fn full_disk_gives_one_line_and_leaves_no_partial_file() {
+    let d = tempfile::tempdir().unwrap();
+    let mnt = d.path().join("small");
+    std::fs::create_dir(&mnt).unwrap();
+    let mounted = std::process::Command::new("mount")
+        .args([
+            "-t",
+            "tmpfs",
+            "-o",
+            "size=600k",
+            "tmpfs",
+            mnt.to_str().unwrap(),
+        ])
+        .stderr(std::process::Stdio::null())
+        .status()
+        .map(|s| s.success())
+        .unwrap_or(false);
+    if !mounted {
+        eprintln!("full-disk test skipped: cannot mount a tmpfs here (needs root on Linux)");
+        return;
+    }
+    struct Unmount(PathBuf);
+    impl Drop for Unmount {
+        fn drop(&mut self) {
+            let _ = std::process::Command::new("umount").arg(&self.0).status();
+        }
+    }
+    let _guard = Unmount(mnt.clone());
+    let cfg = write(d.path(), "d.toml", TINY);
+    let out = mnt.join("d.h5");
+    let (code, _, err) = run_cli(&["run", cfg.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(code, 1, "{err}");
+    let errors: Vec<&str> = err.lines().filter(|l| l.starts_with("error")).collect();
+    assert_eq!(errors.len(), 1, "{err}");
+    assert!(
+        errors[0].starts_with("error: no space left on tmpfs (mounted on ")
+            && errors[0].contains("while writing"),
+        "{err}"
+    );
+    assert!(!err.contains("H5F") && !err.contains("errno"), "{err}");
+    assert!(!out.exists());
+    // no temporary file anywhere on the full disk (finished parts may stay for --resume)
+    fn partials(dir: &Path, found: &mut Vec<PathBuf>) {
+        for e in std::fs::read_dir(dir).unwrap().flatten() {
+            let p = e.path();
+            if p.is_dir() {
+                partials(&p, found);
+            } else if p.to_string_lossy().ends_with(".partial") {
+                found.push(p);
+            }
+        }
+    }
+    let mut found = Vec::new();
+    partials(&mnt, &mut found);
+    assert!(found.is_empty(), "temporary files left: {found:?}");
 }
 
 /// A truncated store and malformed observed samples give clear errors.
@@ -514,6 +736,67 @@ fn damaged_store_and_bad_sample() {
         "{err}"
     );
     assert!(!err.contains("panicked"), "{err}");
+    // a deleted column and a corrupted sub_count are named, with exit code 2 (issue 18, item
+    // 10: a raw H5Dopen message with exit 1, and a silently ignored sub_count)
+    let damage = |name: &str, how: &dyn Fn(&hdf5::File)| -> PathBuf {
+        let p = d.path().join(name);
+        std::fs::write(&p, &bytes).unwrap();
+        how(&hdf5::File::open_rw(&p).unwrap());
+        p
+    };
+    let no_col = damage("nocol.h5", &|f| f.unlink("subhalos/vx_kms").unwrap());
+    let bad_count = damage("count.h5", &|f| {
+        let ds = f.dataset("hosts/sub_count").unwrap();
+        let mut v: Vec<u64> = ds.read_raw().unwrap();
+        v[0] += 1;
+        ds.write_raw(&v).unwrap();
+    });
+    for (p, want) in [
+        (&no_col, "the column /subhalos/vx_kms is missing"),
+        (&bad_count, "sub_offset"),
+    ] {
+        for cmd in ["infall", "plot"] {
+            let (code, _, err) = run_cli(&[cmd, p.to_str().unwrap()]);
+            assert_eq!(code, 2, "{cmd}: {err}");
+            assert!(
+                err.contains("damaged store") && err.contains(want),
+                "{cmd}: {err}"
+            );
+        }
+    }
+    // merge: a zero-byte or text shard is bad input (exit 2), as for infall
+    let empty = write(d.path(), "empty.h5", "");
+    for bad in [&empty, &not_store] {
+        let (code, _, err) = run_cli(&[
+            "merge",
+            store.to_str().unwrap(),
+            bad.to_str().unwrap(),
+            "--out",
+            d.path().join("m.h5").to_str().unwrap(),
+        ]);
+        assert_eq!(code, 2, "{err}");
+        assert!(
+            err.contains(bad.file_name().unwrap().to_str().unwrap()),
+            "{err}"
+        );
+    }
+    // a file that is not a sample: quoted only in a short excerpt (a whole line of a file
+    // given by mistake was echoed)
+    let secret = write(
+        d.path(),
+        "secret.txt",
+        "admin:x:0:0:a line that must not be echoed whole\n",
+    );
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--sample",
+        secret.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("names none of the sample's columns"), "{err}");
+    assert!(!err.contains("echoed whole"), "{err}");
+    assert_eq!(err.lines().count(), 1, "{err}");
     for (text, want) in [
         ("id,mstar_msun\nA,1\n", "missing column"),
         ("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e5,60,0,99,1\n", "t_quench_lookback_gyr = 99"),

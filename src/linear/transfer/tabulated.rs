@@ -85,7 +85,7 @@ impl TabulatedTransfer {
                         err(format!(
                             "line {}: k_unit `{}` not understood; expected `h/Mpc` or `1/Mpc`",
                             lineno + 1,
-                            v.trim()
+                            crate::error::excerpt(v.trim())
                         ))
                     })?;
                     if k_unit.is_none() {
@@ -100,7 +100,7 @@ impl TabulatedTransfer {
                             return Err(err(format!(
                                 "line {}: columns `{}` not understood; expected `k,T` or `k,P`",
                                 lineno + 1,
-                                v.trim()
+                                crate::error::excerpt(v.trim())
                             )))
                         }
                     };
@@ -113,13 +113,19 @@ impl TabulatedTransfer {
                 .collect();
             if fields.len() < 2 {
                 return Err(err(format!(
-                    "line {}: expected two numbers, found `{line}`",
-                    lineno + 1
+                    "line {}: expected two numbers, found `{}`",
+                    lineno + 1,
+                    crate::error::excerpt(line)
                 )));
             }
             let parse = |s: &str| -> Result<f64, LinearError> {
-                s.parse::<f64>()
-                    .map_err(|_| err(format!("line {}: `{s}` is not a number", lineno + 1)))
+                s.parse::<f64>().map_err(|_| {
+                    err(format!(
+                        "line {}: `{}` is not a number",
+                        lineno + 1,
+                        crate::error::excerpt(s)
+                    ))
+                })
             };
             let k = parse(fields[0])?;
             let v = parse(fields[1])?;
