@@ -2,8 +2,11 @@
 //! Planck 2018, default options, master seed 5): the census numbers that docs/validation.md
 //! quotes and `tests/validation/val_subhaloes.rs` checks, as medians (or sums) over hosts.
 //!
-//! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO] [nodisc]`
-//! (default 32 hosts and the default tolerance; `nodisc`: a host without disc and bulge).
+//! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO] [nodisc]
+//! [KEY=VALUE ...]` (default 32 hosts and the default tolerance; `nodisc`: a host without disc
+//! and bulge; `-` keeps a default). KEY=VALUE changes one option: `occupation=erf|all|reionization`,
+//! `resolution=MSUN`, `disc_tide_ratio=X`, `reionization_z=Z`, `sigma=DEX` (occupation width), `pericentre_cut=1` (the fixed
+//! 20 kpc cut on top).
 
 use rayon::prelude::*;
 
@@ -44,11 +47,31 @@ fn main() {
     if std::env::args().nth(3).as_deref() == Some("nodisc") {
         host.baryons = retinue::host::DiscBulgeParams::none();
     }
+    let mut galaxies = retinue::galaxies::GalaxyOptions::default();
+    let mut tree = TreeSpec::milky_way_default();
+    let mut cut = false;
+    for kv in std::env::args().skip(4) {
+        let (k, v) = kv.split_once('=').expect("KEY=VALUE");
+        let x = || v.parse::<f64>().expect("a number");
+        match k {
+            "occupation" => {
+                galaxies.occupation = serde_json::from_str(&format!("\"{v}\"")).expect("occupation")
+            }
+            "resolution" => tree.m_resolution_msun = x(),
+            "disc_tide_ratio" => orbits.disc_tide_ratio = x(),
+            "reionization_z" => galaxies.reionization_z = x(),
+            "sigma" => galaxies.reionization_sigma_dex = x(),
+            "v_filter" => galaxies.reionization_vmax_kms = x(),
+            "t_vir" => galaxies.reionization_t_vir_k = x(),
+            "pericentre_cut" => cut = x() > 0.0,
+            _ => panic!("unknown option {k}"),
+        }
+    }
     let opts = SynthOptions {
-        tree: TreeSpec::milky_way_default(),
+        tree,
         host,
         orbits,
-        galaxies: Default::default(),
+        galaxies,
         survey: Default::default(),
     };
     let t6 = lt.cosmology().age_gyr(6.0);
@@ -60,6 +83,16 @@ fn main() {
             || TreeBuilder::new(opts.tree.pch08).expect("builder"),
             |b, i| {
                 let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, i), b).expect("host");
+                let mut rec = rec;
+                if cut {
+                    // the fixed pericentre cut on top: those with a pericentre inside it count as
+                    // disrupted
+                    for s in &mut rec.subhaloes {
+                        if s.t_disrupt_pericentre_gyr.is_finite() && s.status.alive() {
+                            s.status = retinue::orbits::SubhaloStatus::Disrupted;
+                        }
+                    }
+                }
                 (census(&rec, t6), rec.summary.m_vir_msun)
             },
         )

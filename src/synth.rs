@@ -10,6 +10,7 @@ use crate::host::{EvolvingHost, HostOptions};
 use crate::linear::LinearTheory;
 use crate::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult};
 use crate::rng::{host_rng, HostId, Stream};
+use crate::trees::history::branch_mass_at_z;
 use crate::trees::{HostHistory, TreeBuilder, TreeSpec};
 
 /// Everything that defines how one host is synthesised.
@@ -32,7 +33,7 @@ pub struct HostSummary {
     pub z_half: f64,
     pub t_half_gyr: f64,
     pub t_04_gyr: f64,
-    /// Median stellar mass of the host's own galaxy, Msun.
+    /// Stellar mass of the host's own galaxy: its disc and bulge at the end, Msun.
     pub mstar_msun: f64,
     pub n_tree_nodes: u64,
     pub disc_mass_msun: f64,
@@ -70,7 +71,11 @@ pub fn synthesize_host(
         .fold(t_end - 1e-3, f64::min);
     let host = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
     let mut orng = host_rng(master_seed, id, Stream::Orbits);
-    let subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);
+    let mut subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);
+    // each branch's mass at reionisation (the `reionization` occupation; stored for all)
+    for s in &mut subhaloes {
+        s.m_reion_msun = branch_mass_at_z(tree, s.branch, options.galaxies.reionization_z);
+    }
     let mut grng = host_rng(master_seed, id, Stream::Galaxies);
     let galaxies = paint(
         cosmo,
@@ -88,11 +93,9 @@ pub fn synthesize_host(
         z_half: hist.z_half,
         t_half_gyr: hist.t_half_gyr,
         t_04_gyr: hist.t_04_gyr,
-        mstar_msun: 10f64.powf(options.galaxies.log10_mstar_median(
-            cosmo,
-            s.m_vir,
-            options.tree.z_final,
-        )),
+        // the host's galaxy is its disc and bulge, as in the potential its satellites orbit
+        // (one quantity: the stellar-mass-halo-mass relation paints only the satellites)
+        mstar_msun: s.m_disc + s.m_bulge,
         n_tree_nodes: n_nodes,
         disc_mass_msun: s.m_disc,
     };

@@ -5,6 +5,7 @@ pub mod behroozi13;
 pub mod moster13;
 pub mod observability;
 pub mod paint;
+pub mod reionization;
 
 use serde::{Deserialize, Serialize};
 
@@ -53,12 +54,17 @@ impl SmhmModel {
 pub enum Occupation {
     /// f = [1 + erf((log M_peak - log M_50)/(sqrt(2) sigma))]/2 (the form of Nadler et al.
     /// 2020, ApJ 893, 48).
-    #[default]
     #[serde(rename = "erf")]
     Erf,
     /// Every halo hosts a galaxy.
     #[serde(rename = "all")]
     All,
+    /// Judged at reionisation (`reionization`): the main progenitor had reached the
+    /// atomic-cooling mass by `reionization_z`, or the halo's V_max at infall exceeds
+    /// `reionization_vmax_kms`.
+    #[default]
+    #[serde(rename = "reionization")]
+    Reionization,
 }
 
 /// The stellar-mass–halo-mass model with its dwarf extension and scatter.
@@ -78,12 +84,23 @@ pub struct GalaxyOptions {
     pub scatter_growth: f64,
     /// Largest scatter allowed, dex.
     pub scatter_max_dex: f64,
-    /// Occupation: erf (Nadler et al. 2020 form) or all.
+    /// Occupation: reionization (default), erf (Nadler et al. 2020 form) or all.
     pub occupation: Occupation,
     /// Peak mass at which half the haloes host a galaxy, Msun.
     pub occupation_m50_msun: f64,
     /// Width of the occupation transition, dex.
     pub occupation_sigma_dex: f64,
+    /// Redshift of reionisation (the `reionization` occupation; the mass of every branch
+    /// then is stored as `m_reion_msun`).
+    pub reionization_z: f64,
+    /// Virial temperature (K) a halo must have reached by `reionization_z` to have cooled
+    /// gas by atomic hydrogen (mean molecular weight of neutral gas, 1.22).
+    pub reionization_t_vir_k: f64,
+    /// V_max (km/s) above which a halo keeps gas after reionisation.
+    pub reionization_vmax_kms: f64,
+    /// Width (dex in mass) of the atomic-cooling threshold (a third of it in log V_max for
+    /// the filtering velocity).
+    pub reionization_sigma_dex: f64,
     /// Stellar V-band mass-to-light ratio, Msun/Lsun.
     pub mass_to_light_v: f64,
 }
@@ -98,9 +115,13 @@ impl Default for GalaxyOptions {
             scatter_dex: 0.2,
             scatter_growth: 0.0,
             scatter_max_dex: 1.0,
-            occupation: Occupation::Erf,
+            occupation: Occupation::Reionization,
             occupation_m50_msun: 10f64.powf(7.5),
             occupation_sigma_dex: 0.25,
+            reionization_z: 7.7,
+            reionization_t_vir_k: 1e4,
+            reionization_vmax_kms: 25.0,
+            reionization_sigma_dex: 0.04,
             mass_to_light_v: 2.0,
         }
     }
@@ -156,6 +177,30 @@ impl GalaxyOptions {
             self.occupation_sigma_dex,
             self.occupation_sigma_dex > 0.0 && self.occupation_sigma_dex <= 2.0,
             "must be in (0, 2] dex",
+        );
+        ck.num(
+            "reionization_z",
+            self.reionization_z,
+            (3.0..=20.0).contains(&self.reionization_z),
+            "must be in [3, 20]",
+        );
+        ck.num(
+            "reionization_t_vir_k",
+            self.reionization_t_vir_k,
+            (1e3..=1e6).contains(&self.reionization_t_vir_k),
+            "must be in [1e3, 1e6] K",
+        );
+        ck.num(
+            "reionization_vmax_kms",
+            self.reionization_vmax_kms,
+            (1.0..=200.0).contains(&self.reionization_vmax_kms),
+            "must be in [1, 200] km/s",
+        );
+        ck.num(
+            "reionization_sigma_dex",
+            self.reionization_sigma_dex,
+            self.reionization_sigma_dex > 0.0 && self.reionization_sigma_dex <= 1.0,
+            "must be in (0, 1] dex",
         );
         ck.num(
             "mass_to_light_v",
@@ -222,7 +267,41 @@ impl GalaxyOptions {
         (self.scatter_dex + self.scatter_growth * below).min(self.scatter_max_dex)
     }
 
-    /// Fraction of haloes of this peak mass that host a galaxy.
+    /// The atomic-cooling mass (Msun) at `reionization_z` (`reionization`).
+    pub fn reionization_mass_msun(&self, cosmo: &Cosmology) -> f64 {
+        reionization::mass_for_virial_temperature(
+            cosmo,
+            self.reionization_t_vir_k,
+            self.reionization_z,
+            reionization::MU_NEUTRAL,
+        )
+    }
+
+    /// Probability that a halo hosts a galaxy: by its peak mass (erf, all), or by its main
+    /// progenitor's mass at reionisation and its V_max at infall (reionization; `m_cool` from
+    /// `reionization_mass_msun`).
+    pub fn occupied_probability(
+        &self,
+        m_peak_msun: f64,
+        m_reion_msun: f64,
+        vmax_kms: f64,
+        m_cool_msun: f64,
+    ) -> f64 {
+        match self.occupation {
+            Occupation::Reionization => reionization::occupied_probability(
+                m_reion_msun,
+                m_cool_msun,
+                vmax_kms,
+                self.reionization_vmax_kms,
+                self.reionization_sigma_dex,
+            ),
+            _ => self.occupation_fraction(m_peak_msun),
+        }
+    }
+
+    /// Fraction of haloes of this peak mass that host a galaxy (erf or all; for
+    /// `reionization` the erf with its mass threshold at peak mass is not used:
+    /// `occupied_probability`).
     pub fn occupation_fraction(&self, m_peak_msun: f64) -> f64 {
         if self.occupation == Occupation::All {
             return 1.0;
@@ -239,6 +318,26 @@ impl GalaxyOptions {
     /// resolution. Names the resolution, the occupied fraction there and the magnitude below
     /// which satellites are incomplete (the median galaxy of a halo at the resolution today).
     pub fn resolution_warning(&self, cosmo: &Cosmology, resolution_msun: f64) -> Option<String> {
+        if self.occupation == Occupation::Reionization {
+            // a branch below the resolution at the reionisation redshift is not in the tree
+            // then: its galaxy is missing if it would have reached the cooling mass
+            let m_cool = self.reionization_mass_msun(cosmo);
+            let f = self.occupied_probability(0.0, resolution_msun, 0.0, m_cool);
+            if f <= 0.02 {
+                return None;
+            }
+            let m_ok = m_cool * 10f64.powf(-2.054 * self.reionization_sigma_dex);
+            return Some(format!(
+                "trees.resolution_msun = {resolution_msun:.3e} Msun: {:.0}% of haloes of that \
+                 mass at the reionisation redshift z = {} host a galaxy (galaxies.occupation = \
+                 \"reionization\", atomic-cooling mass {m_cool:.2e} Msun), so galaxies of \
+                 haloes unresolved then are missing and the faintest counts depend on the \
+                 resolution (lower trees.resolution_msun below {m_ok:.1e} Msun, where 2% are \
+                 occupied, to avoid it)",
+                100.0 * f,
+                self.reionization_z
+            ));
+        }
         let f = self.occupation_fraction(resolution_msun);
         if f <= 0.02 {
             return None;

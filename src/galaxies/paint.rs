@@ -35,13 +35,19 @@ pub fn paint<R: Rng>(
     subhaloes: &[SubhaloResult],
     rng: &mut R,
 ) -> Vec<GalaxyRecord> {
+    let m_cool = options.reionization_mass_msun(cosmo);
     subhaloes
         .iter()
         .map(|s| {
             let g: f64 = StandardNormal.sample(rng);
             let u: f64 = rng.random();
             let z_peak = cosmo.z_at_age(s.t_peak_gyr);
-            let occupied = u < options.occupation_fraction(s.m_peak_msun);
+            let occupied = u < options.occupied_probability(
+                s.m_peak_msun,
+                s.m_reion_msun,
+                s.vmax_infall_kms,
+                m_cool,
+            );
             let log_ms = options.log10_mstar_median(cosmo, s.m_peak_msun, z_peak)
                 + options.scatter_at(s.m_peak_msun) * g;
             let mstar = if occupied { 10f64.powf(log_ms) } else { 0.0 };

@@ -120,28 +120,53 @@ impl HostSnapshot {
         let four_pi_g_rho = G * self.m_s / (r * self.r_s * self.r_s * (1.0 + xs) * (1.0 + xs))
             + 2.0 * G * self.m_bulge * self.a_bulge / (r * ab * ab * ab);
         let sph = -2.0 * G * (m_halo + m_bulge) / (r2 * r) + four_pi_g_rho;
-        let disc = if self.m_disc > 0.0 {
-            let u = [x[0] / r, x[1] / r, x[2] / r];
-            let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
-            let az = self.a_disc + zeta;
-            let q = x[0] * x[0] + x[1] * x[1] + az * az;
-            let gq = 2.0 * (x[0] * u[0] + x[1] * u[1] + az * x[2] / zeta * u[2]);
-            let qzz = 2.0
-                * (x[2] * x[2] / (zeta * zeta)
-                    + az * self.b_disc * self.b_disc / (zeta * zeta * zeta));
-            let q32 = q * q.sqrt();
-            0.5 * G
-                * self.m_disc
-                * (-1.5 * gq * gq / (q32 * q)
-                    + (2.0 * (u[0] * u[0] + u[1] * u[1]) + qzz * u[2] * u[2]) / q32)
-        } else {
-            0.0
-        };
+        let disc = self.disc_d2phi_radial(x, r);
         // dark energy: Phi = -k r^2/2, d^2 Phi/dr^2 = -k
         (
             m_halo + self.disc_mass_spherical(r) + m_bulge,
             sph + disc - self.de_k,
         )
+    }
+
+    /// The disc's d^2 Phi / dr^2 along x (|x| = r), Gyr^-2 (`tidal_terms`).
+    #[inline]
+    fn disc_d2phi_radial(&self, x: [f64; 3], r: f64) -> f64 {
+        if self.m_disc <= 0.0 {
+            return 0.0;
+        }
+        let u = [x[0] / r, x[1] / r, x[2] / r];
+        let zeta = (x[2] * x[2] + self.b_disc * self.b_disc).sqrt();
+        let az = self.a_disc + zeta;
+        let q = x[0] * x[0] + x[1] * x[1] + az * az;
+        let gq = 2.0 * (x[0] * u[0] + x[1] * u[1] + az * x[2] / zeta * u[2]);
+        let qzz = 2.0
+            * (x[2] * x[2] / (zeta * zeta) + az * self.b_disc * self.b_disc / (zeta * zeta * zeta));
+        let q32 = q * q.sqrt();
+        0.5 * G
+            * self.m_disc
+            * (-1.5 * gq * gq / (q32 * q)
+                + (2.0 * (u[0] * u[0] + u[1] * u[1]) + qzz * u[2] * u[2]) / q32)
+    }
+
+    /// The tide of the disc and bulge alone at x on a circular orbit through x:
+    /// G M_b(<r) / r^3 - d^2 Phi_b / dr^2 along x (Gyr^-2), with M_b the spherical baryonic
+    /// mass inside r (disc by Gauss's theorem, bulge exact) and Phi_b the disc's and bulge's
+    /// potential (the King 1962 denominator with the baryons' share of Omega^2). For a point
+    /// mass it is 3 G M / r^3. Zero without disc and bulge.
+    pub fn baryon_tide(&self, x: [f64; 3]) -> f64 {
+        let r2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
+        let r = r2.sqrt().max(1e-12);
+        let ab = r + self.a_bulge;
+        let m_bulge = self.m_bulge * r2 / (ab * ab);
+        // Hernquist: d^2 Phi/dr^2 = -2 G M(<r)/r^3 + 4 pi G rho
+        let bulge_d2 = if self.m_bulge > 0.0 {
+            -2.0 * G * m_bulge / (r2 * r)
+                + 2.0 * G * self.m_bulge * self.a_bulge / (r * ab * ab * ab)
+        } else {
+            0.0
+        };
+        let m_b = m_bulge + self.disc_mass_spherical(r);
+        G * m_b / (r2 * r) - bulge_d2 - self.disc_d2phi_radial(x, r)
     }
 }
 

@@ -99,7 +99,7 @@ pub const HOST_COLUMNS: &[Spec] = &[
     (
         "mstar_msun",
         "Msun",
-        "median stellar mass of the host's galaxy",
+        "stellar mass of the host's galaxy: its disc and bulge in the potential",
     ),
     ("disc_mass_msun", "Msun", "disc mass today"),
     ("n_tree_nodes", "", "nodes in the host's merger tree"),
@@ -174,7 +174,17 @@ pub const SUB_COLUMNS: &[Spec] = &[
     (
         "t_disrupt_physical_gyr",
         "Gyr",
-        "disruption by stripping (NaN: survived)",
+        "disruption by stripping or by the disc (NaN: survived)",
+    ),
+    (
+        "m_reion_msun",
+        "Msun",
+        "mass of its branch at galaxies.reionization_z (0: not yet resolved then)",
+    ),
+    (
+        "t_disrupt_disc_gyr",
+        "Gyr",
+        "pericentre at which the disc and bulge destroyed it (NaN: never)",
     ),
     (
         "t_disrupt_pericentre_gyr",
@@ -302,6 +312,8 @@ fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
         f(&|s| s.r_apo_last_kpc),
         Col::U32(rows.iter().map(|x| x.2.n_host_crossings).collect()),
         f(&|s| s.t_disrupt_physical_gyr),
+        f(&|s| s.m_reion_msun),
+        f(&|s| s.t_disrupt_disc_gyr),
         f(&|s| s.t_disrupt_pericentre_gyr),
         f(&|s| s.t_merge_gyr),
         Col::U32(rows.iter().map(|x| x.2.bound_to_branch).collect()),
@@ -600,7 +612,7 @@ impl StoreWriter {
 /// The `format` attribute of the stores this version writes. Version 2: satellites of
 /// satellites evolve inside their parents, with status codes 0-4 and the columns
 /// `t_merge_gyr` and `bound_to_branch`.
-pub const STORE_FORMAT: &str = "retinue run store, version 2";
+pub const STORE_FORMAT: &str = "retinue run store, version 3";
 
 /// Whether `path` is a run store of this tool, of any format version (for deciding what an
 /// output may replace).
@@ -632,8 +644,9 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
             path: path.display().to_string(),
             reason: format!(
                 "written by another version of retinue (`{fmt}`; this version reads \
-                 `{STORE_FORMAT}`, in which satellites of satellites evolve inside their \
-                 parents and the status codes differ); run `retinue run` again to rebuild it"
+                 `{STORE_FORMAT}`, in which the disc destroys subhaloes at pericentres and \
+                 galaxies are placed by reionisation, with columns that older stores lack); \
+                 run `retinue run` again to rebuild it"
             ),
         });
     }

@@ -98,6 +98,13 @@ pub struct SubhaloResult {
     pub r_apo_last_kpc: f64,
     pub n_host_crossings: u32,
     pub t_disrupt_physical_gyr: f64,
+    /// Mass of its branch (main progenitor) at the reionisation redshift
+    /// (`galaxies.reionization_z`), Msun; 0 if the branch was not yet resolved then. Set by
+    /// `synth` from the tree.
+    pub m_reion_msun: f64,
+    /// The pericentre at which the tide of the host's disc and bulge destroyed it (NaN: never;
+    /// `OrbitOptions::disc_tide_ratio`); `t_disrupt_physical_gyr` is then the same time.
+    pub t_disrupt_disc_gyr: f64,
     pub t_disrupt_pericentre_gyr: f64,
     /// When it merged with the centre of the subhalo it orbited or with the central galaxy
     /// (NaN unless status 3 or 4).

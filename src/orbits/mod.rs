@@ -49,6 +49,10 @@ pub struct OrbitOptions {
     /// Pericentre model: a subhalo whose pericentre comes inside this radius (kpc) is
     /// counted as destroyed by the disc at that pericentre.
     pub pericentre_cut_kpc: f64,
+    /// Disc-tide model of disruption: a subhalo is destroyed at a pericentre where the tide
+    /// of the host's disc and bulge exceeds this many times its own V_max^2 / R_max^2
+    /// (`follow::disc_destroys`); 0 = off.
+    pub disc_tide_ratio: f64,
     /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) that sinks inside this radius
     /// (kpc) has merged with the central galaxy and is removed (0 = never).
     pub central_merge_kpc: f64,
@@ -66,6 +70,7 @@ impl Default for OrbitOptions {
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
+            disc_tide_ratio: 0.75,
             central_merge_kpc: 1.0,
         }
     }
@@ -115,6 +120,12 @@ impl OrbitOptions {
             self.pericentre_cut_kpc,
             (0.0..=200.0).contains(&self.pericentre_cut_kpc),
             "must be in [0, 200] kpc",
+        );
+        ck.num(
+            "disc_tide_ratio",
+            self.disc_tide_ratio,
+            (0.0..=1e3).contains(&self.disc_tide_ratio),
+            "must be in [0, 1000] (0 = off)",
         );
         ck.num(
             "central_merge_kpc",

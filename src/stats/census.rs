@@ -70,7 +70,7 @@ pub struct Companions {
 pub const SHMF_PSI: [f64; 5] = [1e-5, 3e-5, 1e-4, 3e-4, 1e-3];
 
 fn is_satellite(s: &SubhaloResult, occupied: bool) -> bool {
-    occupied && s.status.alive() && s.t_disrupt_pericentre_gyr.is_nan() && s.r_kpc.is_finite()
+    occupied && s.status.alive() && s.r_kpc.is_finite()
 }
 
 /// The census of one host; `t_z6_gyr` is the cosmic time at z = 6 in the host's cosmology.

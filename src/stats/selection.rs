@@ -8,11 +8,14 @@ use crate::error::InvalidValue;
 /// Which disruption model decides survival.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
 pub enum Survival {
-    /// Survives tidal stripping (bound fraction threshold).
+    /// Alive at the end of its integration: not dissolved by tides, not destroyed by the
+    /// disc's tide at a pericentre (`orbits.disc_tide_ratio`), not merged.
+    #[default]
     #[serde(rename = "physical")]
     Physical,
-    /// Survives stripping and its pericentres never came inside the disc cut.
-    #[default]
+    /// Also no pericentre ever inside the fixed disc cut `orbits.pericentre_cut_kpc` (the
+    /// older model, for comparison; with `orbits.disc_tide_ratio = 0` it alone stands for
+    /// the disc).
     #[serde(rename = "pericentre")]
     Pericentre,
 }
@@ -47,7 +50,7 @@ impl Default for Selection {
             mstar_msun: [1e2, 1e13],
             m_v: [-30.0, 0.0],
             r_over_rvir: [0.0, 1.0],
-            survival: Survival::Pericentre,
+            survival: Survival::Physical,
             observable_only: false,
             include_satellites_of_satellites: true,
         }

@@ -175,6 +175,28 @@ impl HostHistory {
     }
 }
 
+/// Mass (Msun) of branch b at redshift z: its nodes walked back in time from its first (the
+/// one that merges), interpolated linearly in ln M against z between the two nodes around z;
+/// 0 if the branch does not reach back to z (it was below the resolution then), its first
+/// node's mass if z is after that node.
+pub fn branch_mass_at_z(tree: &MergerTree, b: u32, z: f64) -> f64 {
+    let mut prev: Option<usize> = None;
+    for n in tree.branch_nodes(b) {
+        let n = n as usize;
+        if tree.z[n] >= z {
+            return match prev {
+                None => tree.mass_msun[n],
+                Some(p) => {
+                    let f = (z - tree.z[p]) / (tree.z[n] - tree.z[p]);
+                    (tree.mass_msun[p].ln() * (1.0 - f) + tree.mass_msun[n].ln() * f).exp()
+                }
+            };
+        }
+        prev = Some(n);
+    }
+    0.0
+}
+
 /// Time (and redshift) at which the main branch, walked back from the root, first drops
 /// below `m`; interpolated linearly in ln M against cosmic time between the two nodes.
 fn crossing(tree: &MergerTree, main: &[u32], m: f64) -> (f64, f64) {

@@ -74,6 +74,8 @@ fn fake_subhaloes(n: usize, m_peak: f64, t_peak: f64) -> Vec<SubhaloResult> {
         r_apo_last_kpc: f64::NAN,
         n_host_crossings: 1,
         t_disrupt_physical_gyr: f64::NAN,
+        m_reion_msun: 0.0,
+        t_disrupt_disc_gyr: f64::NAN,
         t_disrupt_pericentre_gyr: f64::NAN,
         t_merge_gyr: f64::NAN,
         bound_to_branch: 0,
@@ -130,7 +132,10 @@ fn scatter_has_the_set_width() {
 #[test]
 fn occupation_fraction() {
     let c = Cosmology::from_preset("planck18").unwrap();
-    let o = GalaxyOptions::default();
+    let o = GalaxyOptions {
+        occupation: retinue::galaxies::Occupation::Erf,
+        ..Default::default()
+    };
     assert!((o.occupation_fraction(o.occupation_m50_msun) - 0.5).abs() < 1e-12);
     let n = 20_000;
     for m in [10f64.powf(7.2), 10f64.powf(7.5), 10f64.powf(7.9)] {
@@ -143,6 +148,57 @@ fn occupation_fraction() {
             (frac - p).abs() < 4.0 * (p * (1.0 - p) / n as f64).sqrt(),
             "M={m:e}: {frac} vs {p}"
         );
+    }
+}
+
+/// The reionisation occupation (the default): haloes whose main progenitor had reached the
+/// atomic-cooling mass by the reionisation redshift, or with V_max above the filtering
+/// velocity, host a galaxy. The cooling mass for T_vir = 1e4 K and neutral gas (mu = 1.22) at
+/// z = 7.7 in Planck 2018 against Barkana & Loeb 2001 eq. 26 (their 1.98e4 K normalisation,
+/// with the same Bryan & Norman Delta_c): within 1.5% (their constant is rounded to three
+/// digits, so 1.5% in mass); the Monte Carlo fraction of painted haloes matches the
+/// probability within 4 binomial errors at masses around the threshold and for a halo above
+/// the filtering velocity that formed late.
+#[test]
+fn reionization_occupation() {
+    let c = Cosmology::from_preset("planck18").unwrap();
+    let o = GalaxyOptions::default();
+    assert_eq!(o.occupation, retinue::galaxies::Occupation::Reionization);
+    let m_cool = o.reionization_mass_msun(&c);
+    let z = o.reionization_z;
+    let om_z = c.omega_m_z(z);
+    let d = om_z - 1.0;
+    let pi2 = std::f64::consts::PI.powi(2);
+    let delta_c = 18.0 * pi2 + 82.0 * d - 39.0 * d * d;
+    let bl = 1e8 / c.h()
+        * (1e4
+            / (1.98e4
+                * (1.22 / 0.6)
+                * (c.omega_m_z(0.0) / om_z * delta_c / (18.0 * pi2)).powf(1.0 / 3.0)
+                * ((1.0 + z) / 10.0)))
+            .powf(1.5);
+    assert!((m_cool / bl - 1.0).abs() < 0.015, "{m_cool:e} vs {bl:e}");
+    let n = 20_000;
+    for (m_re, vmax) in [
+        (0.9 * m_cool, 10.0),
+        (m_cool, 10.0),
+        (1.1 * m_cool, 10.0),
+        (0.0, 26.0),
+    ] {
+        let mut subs = fake_subhaloes(n, 1e9, 10.0);
+        for s in &mut subs {
+            s.m_reion_msun = m_re;
+            s.vmax_infall_kms = vmax;
+        }
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(6);
+        let g = paint(&c, &o, &Default::default(), &subs, &mut rng);
+        let frac = g.iter().filter(|x| x.occupied).count() as f64 / n as f64;
+        let p = o.occupied_probability(1e9, m_re, vmax, m_cool);
+        assert!(
+            (frac - p).abs() < 4.0 * (p * (1.0 - p) / n as f64).sqrt() + 1e-9,
+            "M_re={m_re:e}, vmax={vmax}: {frac} vs {p}"
+        );
+        assert!(p > 0.0 && p < 1.0 || m_re == 0.0);
     }
 }
 
@@ -229,18 +285,27 @@ fn smhm_evaluated_within_its_redshift_range() {
     }
 }
 
-/// The resolution warning: with the default erf occupation (M50 = 10^7.5 Msun, width 0.25
+/// The resolution warning: with the erf occupation (M50 = 10^7.5 Msun, width 0.25
 /// dex) a tree resolution of 10^7.5 Msun leaves haloes unresolved where half host a galaxy
 /// (warned, naming the key and the faint limit); at 5e6 Msun, below the 2% point
 /// (10^(7.5 - 2.054 x 0.25) = 9.7e6 Msun: the erf occupation is the normal distribution
 /// function of (log M - log M50)/width, whose 2% quantile is -2.054), none; with every halo
-/// occupied, always.
+/// occupied, always. With the default reionisation occupation the resolution is judged at the
+/// reionisation redshift against the atomic-cooling mass (4.0e7 Msun at z = 7.7, width 0.04
+/// dex: the 2% point is 3.3e7 Msun): none at the default 10^7.5 Msun, one at 3.5e7.
 #[test]
 fn resolution_warning_when_galaxies_are_unresolved() {
     use retinue::galaxies::{GalaxyOptions, Occupation};
     let lt = planck18();
     let co = lt.cosmology();
-    let o = GalaxyOptions::default();
+    let reion = GalaxyOptions::default();
+    assert!(reion.resolution_warning(co, 10f64.powf(7.5)).is_none());
+    let w = reion.resolution_warning(co, 3.5e7).expect("a warning");
+    assert!(w.contains("reionisation redshift"), "{w}");
+    let o = GalaxyOptions {
+        occupation: Occupation::Erf,
+        ..GalaxyOptions::default()
+    };
     let w = o
         .resolution_warning(co, 10f64.powf(7.5))
         .expect("a warning");
@@ -253,7 +318,7 @@ fn resolution_warning_when_galaxies_are_unresolved() {
     assert!((m2.log10() - (7.5 - 2.0537 * 0.25)).abs() < 1e-3, "{m2:e}");
     let all = GalaxyOptions {
         occupation: Occupation::All,
-        ..GalaxyOptions::default()
+        ..o
     };
     assert!(all.resolution_warning(co, 1e5).is_some());
 }
