@@ -4,6 +4,7 @@
 
 pub mod clock;
 pub mod collapse;
+pub mod correlation;
 pub mod power;
 pub mod transfer;
 pub mod variance;
@@ -14,6 +15,7 @@ use serde::{Deserialize, Serialize};
 
 pub use clock::Clock;
 pub use collapse::{delta_c, delta_c_nfw97, delta_vir_crit, DeltaCModel};
+pub use correlation::CorrelationTable;
 pub use power::PowerSpectrum;
 pub use transfer::{KUnit, Transfer, TransferKind, WarmDarkMatter};
 pub use variance::{Filter, SigmaTable};

@@ -5,6 +5,7 @@
 //! Convention: dn/dlnM = (rho_m0 / M) f(nu) |dln sigma / dln M|, number per comoving Mpc^3,
 //! nu = delta_c(z) / sigma(M, z), with delta_c from the `LinearTheory`'s model.
 
+pub mod bias;
 pub mod conditional;
 pub mod mo_white96;
 pub mod press_schechter;

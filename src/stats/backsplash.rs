@@ -2,26 +2,51 @@
 //! fraction that were once inside the host (Gill, Knebe & Gibson 2005 definition, with the
 //! host's evolving virial radius as the boundary).
 //!
-//! Backsplash counts come from the orbits (subhaloes outside R_vir today that were inside).
-//! Field counts come from the Mo & White 1996 mass function of the region around the host
-//! (comoving radius and non-linear overdensity configurable), spread uniformly over the
-//! region's volume and counted in the shell — a linear-theory estimate that ignores the
-//! host's own exclusion zone and the infall-region profile, reported as such.
+//! Backsplash counts come from the orbits (subhaloes outside R_vir today that were inside;
+//! distinct haloes only), per shell of distance. Field counts (haloes that were never inside)
+//! are not followed by the trees, which hold only the host's progenitors; they are expected
+//! numbers. By default (`field = "correlation"`) the mean density of haloes in the mass range
+//! (Sheth & Tormen 1999) weighted by the linear two-halo correlation with the host,
+//! 1 + b_host b_field xi_lin(r) (Tinker et al. 2010 bias; the matter correlation function of
+//! the run's own power spectrum): the density around the host is several times the mean.
+//! Linear theory underestimates the correlation inside about 1 Mpc, where the matter around a
+//! host is non-linear, so these counts are lower limits there and the backsplash fractions
+//! upper limits (reported as such). `field = "region"` keeps the earlier estimate: the Mo &
+//! White 1996 mass function of a Local-Group-like region spread uniformly over it.
 
 use serde::{Deserialize, Serialize};
 
+use super::catalog::Catalog;
 use crate::error::InvalidValue;
-use crate::linear::LinearTheory;
-use crate::massfunction::Region;
+use crate::linear::{CorrelationTable, LinearTheory};
+use crate::massfunction::bias::halo_bias;
+use crate::massfunction::{dn_dlnm_mpc3, Region, ShethTormen};
 
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+/// How the expected number of field haloes around a host is counted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum FieldModel {
+    /// The mean density of haloes (Sheth & Tormen 1999) weighted by the host–halo
+    /// correlation, n(r) = n_bar [1 + b_host b_field xi_lin(r)] (linear halo bias of Tinker
+    /// et al. 2010, linear matter correlation function).
+    #[default]
+    Correlation,
+    /// The Mo & White 1996 mass function of a region of given radius and mass, spread
+    /// uniformly over it (the earlier estimate).
+    Region,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
 pub struct BacksplashOptions {
     /// Peak-mass range of the haloes counted, Msun.
     pub m_peak_msun: [f64; 2],
-    /// Shell in units of the host's R_vir today.
-    pub shell_over_rvir: [f64; 2],
-    /// Radius (comoving Mpc) and non-linear matter overdensity of the region around the host
+    /// Edges of the shells in units of the host's R_vir today (increasing; each pair of
+    /// neighbours is one shell, and the whole range is reported too).
+    pub shells_over_rvir: Vec<f64>,
+    /// The field count: "correlation" (default) or "region".
+    pub field: FieldModel,
+    /// For `field = "region"`: radius (comoving Mpc) and mass of the region around the host
     /// (default: a Local-Group-like region, 5e12 Msun within 1.5 Mpc, our stated scenario).
     pub region_radius_mpc: f64,
     pub region_mass_msun: f64,
@@ -31,27 +56,42 @@ impl Default for BacksplashOptions {
     fn default() -> Self {
         Self {
             m_peak_msun: [1e8, 1e10],
-            shell_over_rvir: [1.0, 3.0],
+            shells_over_rvir: vec![1.0, 1.5, 2.0, 3.0],
+            field: FieldModel::Correlation,
             region_radius_mpc: 1.5,
             region_mass_msun: 5e12,
         }
     }
 }
 
+/// Largest number of shell edges.
+pub const MAX_SHELL_EDGES: usize = 21;
+
 impl BacksplashOptions {
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
         let mut out = Vec::new();
-        let mut pair = |k: &str, r: [f64; 2]| {
-            if !(r[0] > 0.0 && r[0] < r[1] && r[1].is_finite()) {
-                out.push(InvalidValue::new(
-                    format!("{prefix}{k}"),
-                    format!("[{}, {}]", r[0], r[1]),
-                    "must be an increasing pair of positive numbers",
-                ));
-            }
-        };
-        pair("m_peak_msun", self.m_peak_msun);
-        pair("shell_over_rvir", self.shell_over_rvir);
+        let m = self.m_peak_msun;
+        if !(m[0] > 0.0 && m[0] < m[1] && m[1].is_finite()) {
+            out.push(InvalidValue::new(
+                format!("{prefix}m_peak_msun"),
+                format!("[{}, {}]", m[0], m[1]),
+                "must be an increasing pair of positive masses in Msun",
+            ));
+        }
+        let e = &self.shells_over_rvir;
+        let ok = e.len() >= 2
+            && e.len() <= MAX_SHELL_EDGES
+            && e.iter().all(|x| x.is_finite() && *x > 0.0 && *x <= 100.0)
+            && e.windows(2).all(|w| w[0] < w[1]);
+        if !ok {
+            out.push(InvalidValue::new(
+                format!("{prefix}shells_over_rvir"),
+                format!("{e:?}"),
+                format!(
+                    "must be 2 to {MAX_SHELL_EDGES} increasing shell edges in (0, 100] R_vir, e.g. [1.0, 1.5, 2.0, 3.0]"
+                ),
+            ));
+        }
         if !(self.region_radius_mpc > 0.05 && self.region_radius_mpc <= 50.0) {
             out.push(InvalidValue::new(
                 format!("{prefix}region_radius_mpc"),
@@ -69,37 +109,151 @@ impl BacksplashOptions {
         out
     }
 
+    /// Number of shells (edges - 1).
+    pub fn n_shells(&self) -> usize {
+        self.shells_over_rvir.len().saturating_sub(1)
+    }
+
+    /// The whole range [first edge, last edge] in R_vir.
+    pub fn range_over_rvir(&self) -> [f64; 2] {
+        let e = &self.shells_over_rvir;
+        [e[0], e[e.len() - 1]]
+    }
+
+    /// Shell index of a distance x = r/R_vir (shells are [lo, hi), the last one closed).
+    pub fn shell_of(&self, x: f64) -> Option<usize> {
+        let e = &self.shells_over_rvir;
+        if !(x >= e[0] && x <= e[e.len() - 1]) {
+            return None;
+        }
+        Some(e.partition_point(|&edge| edge <= x).clamp(1, e.len() - 1) - 1)
+    }
+
+    /// The shell of row i of host h when it counts as a backsplash halo: alive, once inside
+    /// the host, a distinct halo today (a satellite of a satellite still inside another
+    /// subhalo is part of that subhalo, and the field count counts distinct haloes), peak mass
+    /// in range.
+    pub fn backsplash_shell(&self, cat: &Catalog, h: usize, i: usize) -> Option<usize> {
+        if cat.backsplash[i]
+            && cat.alive(i)
+            && !cat.in_subhalo(i)
+            && cat.m_peak_msun[i] >= self.m_peak_msun[0]
+            && cat.m_peak_msun[i] <= self.m_peak_msun[1]
+        {
+            self.shell_of(cat.r_kpc[i] / cat.host_r_vir_kpc[h])
+        } else {
+            None
+        }
+    }
+
     /// Non-linear overdensity of the region: M / (rho_m V) - 1.
     pub fn region_delta(&self, lt: &LinearTheory) -> f64 {
         let v = 4.0 * std::f64::consts::PI / 3.0 * self.region_radius_mpc.powi(3);
         self.region_mass_msun / (lt.rho_m0_msun_mpc3() * v) - 1.0
     }
 
-    /// Expected number of field haloes in the shell (comoving; z = 0) around a host of virial
-    /// radius r_vir_kpc.
-    pub fn field_count(&self, lt: &LinearTheory, r_vir_kpc: f64) -> f64 {
-        self.field_density_mpc3(lt) * self.shell_volume_mpc3(r_vir_kpc)
-    }
-
     /// Mean number density (comoving Mpc^-3) of field haloes in the peak-mass range inside
-    /// the region, from the Mo & White 1996 mass function of the region. The same for every
-    /// host of a cosmology: compute it once and scale by `shell_volume_mpc3`.
-    pub fn field_density_mpc3(&self, lt: &LinearTheory) -> f64 {
+    /// the region, from the Mo & White 1996 mass function of the region.
+    pub fn region_density_mpc3(&self, lt: &LinearTheory) -> f64 {
         let delta = self.region_delta(lt).max(-0.99);
         let region = Region::new(lt, self.region_radius_mpc, delta, 0.0);
         let n = region.n_between(self.m_peak_msun[0], self.m_peak_msun[1]);
         let v_region = 4.0 * std::f64::consts::PI / 3.0 * self.region_radius_mpc.powi(3);
         n / v_region
     }
+}
 
-    /// Volume (comoving Mpc^3) of the shell around a host of virial radius r_vir_kpc, cut at
-    /// the region's radius.
-    pub fn shell_volume_mpc3(&self, r_vir_kpc: f64) -> f64 {
-        let (r1, r2) = (
-            self.shell_over_rvir[0] * r_vir_kpc * 1e-3,
-            (self.shell_over_rvir[1] * r_vir_kpc * 1e-3).min(self.region_radius_mpc),
-        );
-        4.0 * std::f64::consts::PI / 3.0 * (r2.powi(3) - r1.powi(3)).max(0.0)
+/// Expected field counts around hosts of one cosmology (build once per cosmology).
+#[derive(Debug, Clone)]
+pub struct FieldCounter {
+    options: BacksplashOptions,
+    model: Model,
+}
+
+#[derive(Debug, Clone)]
+enum Model {
+    Correlation {
+        /// Mean comoving density of haloes in the mass range (Mpc^-3).
+        n_bar: f64,
+        /// Their number-weighted mean bias.
+        b_field: f64,
+        xi: CorrelationTable,
+    },
+    Region {
+        density: f64,
+    },
+}
+
+/// Simpson intervals in ln r per shell, and in ln m over the mass range.
+const SHELL_STEPS: usize = 32;
+const MASS_STEPS: usize = 64;
+
+impl FieldCounter {
+    pub fn new(options: &BacksplashOptions, lt: &LinearTheory) -> Self {
+        let model = match options.field {
+            FieldModel::Region => Model::Region {
+                density: options.region_density_mpc3(lt),
+            },
+            FieldModel::Correlation => {
+                let (l0, l1) = (options.m_peak_msun[0].ln(), options.m_peak_msun[1].ln());
+                let h = (l1 - l0) / MASS_STEPS as f64;
+                let w = crate::interp::simpson_weights(MASS_STEPS + 1, h);
+                let st = ShethTormen::default();
+                let (mut n, mut nb) = (0.0, 0.0);
+                for (j, wj) in w.iter().enumerate() {
+                    let m = (l0 + h * j as f64).exp();
+                    let dn = dn_dlnm_mpc3(lt, &st, m, 0.0);
+                    n += wj * dn;
+                    nb += wj * dn * halo_bias(lt, m, 0.0);
+                }
+                Model::Correlation {
+                    n_bar: n,
+                    b_field: nb / n,
+                    xi: CorrelationTable::new(lt.power()),
+                }
+            }
+        };
+        Self {
+            options: options.clone(),
+            model,
+        }
+    }
+
+    /// Expected field haloes (z = 0, comoving) in each shell around a host of virial mass
+    /// m_host_msun and radius r_vir_kpc. For `region` the shells are cut at the region's
+    /// radius.
+    pub fn counts(&self, lt: &LinearTheory, m_host_msun: f64, r_vir_kpc: f64) -> Vec<f64> {
+        let e = &self.options.shells_over_rvir;
+        let four_pi = 4.0 * std::f64::consts::PI;
+        let b_host = match &self.model {
+            Model::Correlation { .. } => halo_bias(lt, m_host_msun, 0.0),
+            Model::Region { .. } => 0.0,
+        };
+        e.windows(2)
+            .map(|w| {
+                let (r1, r2) = (w[0] * r_vir_kpc * 1e-3, w[1] * r_vir_kpc * 1e-3);
+                match &self.model {
+                    Model::Region { density } => {
+                        let r2 = r2.min(self.options.region_radius_mpc);
+                        density * four_pi / 3.0 * (r2.powi(3) - r1.powi(3)).max(0.0)
+                    }
+                    Model::Correlation { n_bar, b_field, xi } => {
+                        // n_bar \int 4 pi r^3 [1 + b_h b_f xi(r)] dln r
+                        let h = (r2 / r1).ln() / SHELL_STEPS as f64;
+                        let wt = crate::interp::simpson_weights(SHELL_STEPS + 1, h);
+                        let s: f64 = wt
+                            .iter()
+                            .enumerate()
+                            .map(|(j, wj)| {
+                                let r = r1 * (h * j as f64).exp();
+                                wj * r.powi(3) * (1.0 + b_host * b_field * xi.xi(r))
+                            })
+                            .sum();
+                        n_bar * four_pi * s
+                    }
+                }
+            })
+            .collect()
     }
 }
 
@@ -108,27 +262,108 @@ mod tests {
     use super::*;
     use crate::{Cosmology, LinearOptions};
 
-    /// The expected field count is the region's Mo & White 1996 count (validated against the
-    /// unconditional mass function in tests/validation) per unit volume times the shell's
-    /// volume: 4 pi/3 (r2^3 - r1^3) with r = shell x R_vir, cut at the region's radius.
-    #[test]
-    fn field_count_is_density_times_shell_volume() {
-        let lt = LinearTheory::new(
+    fn planck() -> LinearTheory {
+        LinearTheory::new(
             Cosmology::from_preset("planck18").unwrap(),
             LinearOptions::default(),
         )
-        .unwrap();
-        let b = BacksplashOptions::default(); // shell 1-3 R_vir, region 1.5 Mpc of 5e12 Msun
+        .unwrap()
+    }
+
+    /// The region model: the region's Mo & White 1996 count (validated against the
+    /// unconditional mass function in tests/validation) per unit volume times each shell's
+    /// volume 4 pi/3 (r2^3 - r1^3), r = edge x R_vir, cut at the region's radius.
+    #[test]
+    fn region_count_is_density_times_shell_volume() {
+        let lt = planck();
+        let b = BacksplashOptions {
+            field: FieldModel::Region,
+            shells_over_rvir: vec![1.0, 3.0, 4.0],
+            ..Default::default()
+        };
         let region = Region::new(&lt, 1.5, b.region_delta(&lt), 0.0);
         let n = region.n_between(1e8, 1e10);
         let v_region = 4.0 * std::f64::consts::PI / 3.0 * 1.5f64.powi(3);
-        // R_vir = 250 kpc: shell from 0.25 to 0.75 Mpc
-        let v_shell = 4.0 * std::f64::consts::PI / 3.0 * (0.75f64.powi(3) - 0.25f64.powi(3));
-        let want = n / v_region * v_shell;
-        assert!(want > 0.0);
-        assert!((b.field_count(&lt, 250.0) / want - 1.0).abs() < 1e-12);
-        // R_vir = 600 kpc: the outer edge (1.8 Mpc) is cut at the region's 1.5 Mpc
-        let v_cut = 4.0 * std::f64::consts::PI / 3.0 * (1.5f64.powi(3) - 0.6f64.powi(3));
-        assert!((b.field_count(&lt, 600.0) / (n / v_region * v_cut) - 1.0).abs() < 1e-12);
+        let vol = |a: f64, c: f64| 4.0 * std::f64::consts::PI / 3.0 * (c.powi(3) - a.powi(3));
+        let f = FieldCounter::new(&b, &lt);
+        // R_vir = 250 kpc: shells 0.25-0.75 and 0.75-1.0 Mpc
+        let c = f.counts(&lt, 1.2e12, 250.0);
+        assert!((c[0] / (n / v_region * vol(0.25, 0.75)) - 1.0).abs() < 1e-12);
+        assert!((c[1] / (n / v_region * vol(0.75, 1.0)) - 1.0).abs() < 1e-12);
+        // R_vir = 450 kpc: the second shell (1.35-1.8 Mpc) is cut at the region's 1.5 Mpc
+        let c = f.counts(&lt, 1.2e12, 450.0);
+        assert!((c[1] / (n / v_region * vol(1.35, 1.5)) - 1.0).abs() < 1e-12);
+    }
+
+    /// The correlation model: the mean density times the volume weighted by 1 + b_h b_f xi,
+    /// several times the mean near the host (xi_lin and the bias are checked against colossus
+    /// in tests/validation/val_linear.rs). Checked
+    /// against an independent quadrature (midpoint rule in r, 400 cells) of the same
+    /// integrand with the bias and xi evaluated directly; 1e-4.
+    #[test]
+    fn correlation_count_is_weighted_volume() {
+        let lt = planck();
+        let b = BacksplashOptions {
+            shells_over_rvir: vec![1.0, 2.0, 80.0, 100.0],
+            ..Default::default()
+        };
+        let f = FieldCounter::new(&b, &lt);
+        let c = f.counts(&lt, 1.2e12, 250.0);
+        let Model::Correlation { n_bar, b_field, .. } = f.model else {
+            panic!()
+        };
+        let bh = halo_bias(&lt, 1.2e12, 0.0);
+        let direct = |r1: f64, r2: f64| {
+            let n = 400;
+            let dr = (r2 - r1) / n as f64;
+            (0..n)
+                .map(|j| {
+                    let r = r1 + dr * (j as f64 + 0.5);
+                    4.0 * std::f64::consts::PI
+                        * r
+                        * r
+                        * dr
+                        * (1.0 + bh * b_field * lt.power().xi_lin(r))
+                })
+                .sum::<f64>()
+                * n_bar
+        };
+        let want = direct(0.25, 0.5);
+        assert!((c[0] / want - 1.0).abs() < 1e-4, "{} vs {want}", c[0]);
+        // 20-25 Mpc, where xi is small: the same quadrature
+        let want = direct(20.0, 25.0);
+        assert!((c[2] / want - 1.0).abs() < 1e-4, "{} vs {want}", c[2]);
+        // near the host the density is several times the mean
+        let vol0 = 4.0 * std::f64::consts::PI / 3.0 * (0.5f64.powi(3) - 0.25f64.powi(3));
+        assert!(c[0] / (n_bar * vol0) > 3.0);
+    }
+
+    #[test]
+    fn shells_and_their_validation() {
+        let b = BacksplashOptions::default();
+        assert_eq!(b.n_shells(), 3);
+        assert_eq!(b.shell_of(0.99), None);
+        assert_eq!(b.shell_of(1.0), Some(0));
+        assert_eq!(b.shell_of(1.49), Some(0));
+        assert_eq!(b.shell_of(1.5), Some(1));
+        assert_eq!(b.shell_of(2.5), Some(2));
+        assert_eq!(b.shell_of(3.0), Some(2));
+        assert_eq!(b.shell_of(3.01), None);
+        for bad in [
+            vec![1.0],
+            vec![2.0, 1.0],
+            vec![0.0, 1.0],
+            vec![1.0, f64::NAN],
+        ] {
+            let o = BacksplashOptions {
+                shells_over_rvir: bad.clone(),
+                ..Default::default()
+            };
+            let p = o.problems("tests.backsplash.");
+            assert_eq!(p.len(), 1, "{bad:?}");
+            assert!(p[0]
+                .to_string()
+                .contains("tests.backsplash.shells_over_rvir"));
+        }
     }
 }

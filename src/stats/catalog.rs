@@ -41,8 +41,9 @@ pub struct Catalog {
     /// Pre-processing infall times already computed (a compacted catalogue drops the rows the
     /// chain walk needs); empty = compute from the rows.
     pub t_pre_gyr: Vec<f64>,
-    /// Backsplash counts per host already computed (compacted catalogue); empty = count rows.
-    pub host_backsplash_count: Vec<f64>,
+    /// Backsplash counts per host and shell already computed (compacted catalogue); empty =
+    /// count rows.
+    pub host_backsplash_count: Vec<Vec<f64>>,
 }
 
 impl Catalog {
@@ -141,7 +142,8 @@ impl Catalog {
             c.host_m_vir_msun.push(self.host_m_vir_msun[h]);
             c.host_r_vir_kpc.push(self.host_r_vir_kpc[h]);
             if !self.host_backsplash_count.is_empty() {
-                c.host_backsplash_count.push(self.host_backsplash_count[h]);
+                c.host_backsplash_count
+                    .push(self.host_backsplash_count[h].clone());
             }
             for i in self.rows(h) {
                 let pre = self.t_pre_gyr.get(i).copied().unwrap_or(f64::NAN);

@@ -89,7 +89,8 @@ pub fn compact_from_store(
         all.host_mass_bin.extend(&c.host_mass_bin);
         all.host_m_vir_msun.extend(&c.host_m_vir_msun);
         all.host_r_vir_kpc.extend(&c.host_r_vir_kpc);
-        all.host_backsplash_count.extend(&c.host_backsplash_count);
+        all.host_backsplash_count
+            .extend(c.host_backsplash_count.iter().cloned());
         for i in 0..c.n_subhaloes() {
             all.push_row_from(&c, i, c.t_pre_gyr[i]);
         }
@@ -134,22 +135,11 @@ pub fn for_each_chunk(
             out.host_mass_bin.push(c.host_mass_bin[h]);
             out.host_m_vir_msun.push(c.host_m_vir_msun[h]);
             out.host_r_vir_kpc.push(c.host_r_vir_kpc[h]);
-            let rv = c.host_r_vir_kpc[h];
-            let mut n_bs = 0.0;
+            let mut n_bs = vec![0.0; b.n_shells()];
             for i in c.rows(h) {
                 fig.add(&c, h, i, &options.selection);
-                let x = c.r_kpc[i] / rv;
-                // distinct haloes only (the field count counts distinct haloes): a satellite
-                // of a satellite still inside another subhalo is part of that subhalo
-                if c.backsplash[i]
-                    && c.alive(i)
-                    && !c.in_subhalo(i)
-                    && x >= b.shell_over_rvir[0]
-                    && x <= b.shell_over_rvir[1]
-                    && c.m_peak_msun[i] >= b.m_peak_msun[0]
-                    && c.m_peak_msun[i] <= b.m_peak_msun[1]
-                {
-                    n_bs += 1.0;
+                if let Some(k) = b.backsplash_shell(&c, h, i) {
+                    n_bs[k] += 1.0;
                 }
                 let keep = options.selection.passes(&c, h, i)
                     || sample.is_some_and(|s| {

