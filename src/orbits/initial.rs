@@ -8,9 +8,13 @@
 //!   A = a1 nu + a2 zeta^c + a3 nu zeta^c,  B = b1 + b2 zeta^c,
 //!   (mu2, a0, a1, a2, a3, b1, b2, c) = (1.04, 0.89, 0.30, -3.33, 0.56, -1.44, 9.60, 0.43).
 //! The parameter values are a secondary transcription that has not been checked against the
-//! paper's tables; the form reproduces the paper's stated trends (more radial orbits for a
-//! larger mass ratio and a larger host peak height), which the tests check. Directions are
-//! isotropic; the satellite starts at R_vir moving inward.
+//! paper's tables (its text could not be read here); the form reproduces what the published
+//! abstracts state — speeds peaked near V_vir and most radial there (Li et al. 2020), more
+//! radial orbits for a larger mass ratio and a larger host peak height (Jiang et al. 2015; Li
+//! et al. 2020), most satellites "hotter" than V_vir with less angular momentum than
+//! R_vir V_vir (Wetzel 2011) — which `val_infall_orbits_vs_published_statements`
+//! (tests/validation/val_orbits.rs) checks. Directions are isotropic; the satellite starts at
+//! R_vir moving inward.
 
 use rand::Rng;
 use rand_distr::{Distribution, StandardNormal};
