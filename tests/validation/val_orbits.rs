@@ -589,6 +589,7 @@ fn val_merging_times_vs_boylan_kolchin08() {
 /// * Jiang et al. 2015 (MNRAS 448, 1674) and Li et al. 2020: a larger mass ratio and a more
 ///   massive host (larger nu) give more radial orbits: E[(v_r/v)^2] grows from zeta = 1e-3 to
 ///   0.1 and from nu = 0.9 to 2.5.
+///
 /// Sampling errors: the fractions and means carry errors of about 1e-3 (binomial, 2e5 draws),
 /// far below every margin; the mode is found on 0.02-wide bins (about 4,000 draws each).
 /// Measured values are printed; the published medians and widths are not checked (not read).
