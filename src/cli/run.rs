@@ -91,6 +91,10 @@ pub struct InfallArgs {
     /// pre-processing threshold.)
     #[arg(long)]
     pub config: Option<PathBuf>,
+    /// Test only some grid cells: `cosmology=LABEL`, `mass=MASS` or both, comma-separated;
+    /// repeat for several (default: every cell).
+    #[arg(long = "cell")]
+    pub cells: Vec<String>,
 }
 
 fn usage(e: impl std::fmt::Display) -> CliError {
@@ -282,7 +286,7 @@ fn execute(
         if shard.count > 1 {
             return Ok(out);
         }
-        pool.install(|| analyse(&grid, &out, sample.as_ref()))?;
+        pool.install(|| analyse(&grid, &out, sample.as_ref(), None))?;
         return Ok(out);
     }
     let t0 = Instant::now();
@@ -308,30 +312,47 @@ fn execute(
         eprintln!("shard written to {}; when every shard is done: retinue merge <shards...> --out FILE, then retinue infall FILE", path.display());
         return Ok(path);
     }
-    pool.install(|| analyse(&grid, &path, sample.as_ref()))?;
+    pool.install(|| analyse(&grid, &path, sample.as_ref(), None))?;
     Ok(path)
 }
 
-/// Run the tests on a store, streaming it in host chunks; returns the results, the figure
-/// data and the number of hosts.
+/// What a store's tests return: pooled results, per-cell results (empty for a one-cell
+/// grid), the figure data and the number of hosts tested.
+type Computed = (
+    AnalysisResults,
+    Vec<retinue::stats::cells::CellResults>,
+    retinue::stats::compact::FigureData,
+    usize,
+);
+
+/// Run the tests on a store, streaming it in host chunks, for the cells `cells` selects
+/// (None: all); with more than one cell in the grid, per cell as well as pooled.
 fn compute(
     grid: &Grid,
     store: &Path,
     sample: Option<&ObservedSample>,
-) -> Result<(AnalysisResults, retinue::stats::compact::FigureData, usize), CliError> {
+    cells: Option<&[(u16, u16)]>,
+) -> Result<Computed, CliError> {
     let cfg = &grid.config;
     // stream the store in chunks of hosts, test each chunk and fold it into running summaries:
     // memory stays flat in the number of hosts
     // each host is read on its own cosmology's clock (the store's hosts carry its index)
     let cosmos: Vec<&retinue::Cosmology> = grid.theories.iter().map(|t| t.cosmology()).collect();
     let mut merger = Merger::new(&cfg.file.tests, cfg.file.run.master_seed, false);
-    let fig = retinue::stats::compact::for_each_chunk(
+    let n_cells = cells
+        .map(|c| c.len())
+        .unwrap_or(cfg.cosmologies.len() * cfg.mass_bins.len());
+    let mut per_cell =
+        retinue::stats::cells::CellMergers::new(&cfg.file.tests, cfg.file.run.master_seed);
+    let keep = |c: u16, m: u16| cells.is_none_or(|s| s.contains(&(c, m)));
+    let fig = retinue::stats::compact::for_each_chunk_where(
         store,
         &cfg.file.tests,
         sample,
         &cosmos,
         &cfg.file.galaxies,
         64,
+        &keep,
         &mut |cat| {
             merger.add(run_tests_raw(
                 &grid.theories,
@@ -341,27 +362,103 @@ fn compute(
                 sample,
                 cfg.file.run.master_seed,
             ));
+            if n_cells > 1 {
+                per_cell.add(&grid.theories, &cfg.file.galaxies, &cat, sample);
+            }
         },
     )
     .map_err(|e| CliError::Failed(e.into()))?;
     let n_hosts = fig.n_hosts;
     let res = merger.finish().ok_or_else(|| {
         CliError::Failed(anyhow::anyhow!(
-            "{}: the store has no hosts",
-            store.display()
+            "{}: the store has no hosts{}",
+            store.display(),
+            if cells.is_some() {
+                " in the selected cells"
+            } else {
+                ""
+            }
         ))
     })?;
-    Ok((res, fig, n_hosts))
+    Ok((res, per_cell.finish(), fig, n_hosts))
+}
+
+/// Names of the grid's cells.
+fn cell_labels(grid: &Grid) -> retinue::report::CellLabels {
+    retinue::report::CellLabels {
+        cosmologies: grid.config.cosmology_labels.clone(),
+        masses: grid.config.mass_bins.iter().map(|m| m.label()).collect(),
+    }
+}
+
+/// The cells `--cell` selects: each spec is `cosmology=LABEL`, `mass=MASS` or both,
+/// comma-separated; a host mass matches a fixed mass within 1% or a range's label exactly.
+/// None: every cell.
+fn select_cells(grid: &Grid, specs: &[String]) -> Result<Option<Vec<(u16, u16)>>, CliError> {
+    if specs.is_empty() {
+        return Ok(None);
+    }
+    let labels = cell_labels(grid);
+    let mut out: Vec<(u16, u16)> = Vec::new();
+    for spec in specs {
+        let (mut cos, mut mass) = (None, None);
+        for part in spec.split(',') {
+            match part.split_once('=') {
+                Some(("cosmology", v)) if !v.trim().is_empty() => cos = Some(v.trim().to_string()),
+                Some(("mass", v)) if !v.trim().is_empty() => mass = Some(v.trim().to_string()),
+                _ => {
+                    return Err(usage(format!(
+                        "--cell {spec:?}: expected cosmology=LABEL, mass=MASS or both, comma-separated (e.g. --cell cosmology=planck18,mass=1.2e12)"
+                    )))
+                }
+            }
+        }
+        let mass_ok = |mi: usize| match &mass {
+            None => true,
+            Some(v) => {
+                labels.masses[mi] == *v
+                    || match (v.parse::<f64>(), grid.config.mass_bins[mi]) {
+                        (Ok(x), retinue::config::MassBin::Fixed(m)) => (x / m - 1.0).abs() < 0.01,
+                        _ => false,
+                    }
+            }
+        };
+        let before = out.len();
+        for (ci, cl) in labels.cosmologies.iter().enumerate() {
+            if cos.as_ref().is_some_and(|c| c != cl) {
+                continue;
+            }
+            for mi in 0..labels.masses.len() {
+                if mass_ok(mi) && !out.contains(&(ci as u16, mi as u16)) {
+                    out.push((ci as u16, mi as u16));
+                }
+            }
+        }
+        if out.len() == before {
+            return Err(usage(format!(
+                "--cell {spec:?} matches no cell of this run; cosmologies: {}; host masses: {}",
+                labels
+                    .cosmologies
+                    .iter()
+                    .map(|l| format!("{l:?}"))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                labels.masses.join(", ")
+            )));
+        }
+    }
+    Ok(Some(out))
 }
 
 fn analyse(
     grid: &Grid,
     store: &Path,
     sample: Option<&ObservedSample>,
+    cells: Option<&[(u16, u16)]>,
 ) -> Result<AnalysisResults, CliError> {
     let cfg = &grid.config;
     let t0 = Instant::now();
-    let (res, fig, n_hosts) = compute(grid, store, sample)?;
+    let (res, per_cell, fig, n_hosts) = compute(grid, store, sample, cells)?;
     let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
     write_analysis_to_store(store, &res, &tests_toml).map_err(|e| CliError::Failed(e.into()))?;
     let dir = report_dir(store);
@@ -377,8 +474,29 @@ fn analyse(
     if let Some(w) = resolution_warning(grid) {
         summary.push_str(&format!("\n\n**Warning:** {w}."));
     }
-    let files = write_tables(&dir, &res, &cfg.file.tests, sample, &summary)
-        .map_err(|e| CliError::Failed(e.into()))?;
+    if let Some(c) = cells {
+        let labels = cell_labels(grid);
+        summary.push_str(&format!(
+            "\n\nOnly the selected cells are tested (`--cell`): {}.",
+            c.iter()
+                .map(|&(ci, mi)| {
+                    let (a, b) = labels.of(ci, mi);
+                    format!("{a} at {b} Msun")
+                })
+                .collect::<Vec<_>>()
+                .join("; ")
+        ));
+    }
+    let files = write_tables(
+        &dir,
+        &res,
+        &per_cell,
+        &cell_labels(grid),
+        &cfg.file.tests,
+        sample,
+        &summary,
+    )
+    .map_err(|e| CliError::Failed(e.into()))?;
     let figs = retinue::report::figures::write_figures(&dir, &res, &fig, &grid.theories)
         .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
     eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
@@ -665,6 +783,10 @@ pub struct PlotArgs {
     /// for in the run's configuration directory, next to the store, then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
+    /// Draw only some grid cells: `cosmology=LABEL`, `mass=MASS` or both, comma-separated;
+    /// repeat for several (default: every cell).
+    #[arg(long = "cell")]
+    pub cells: Vec<String>,
 }
 
 /// What `infall --config FILE` takes from FILE; the other tables of a whole configuration
@@ -796,7 +918,8 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let grid = Grid::new(cfg).map_err(run_err)?;
     // whole tables, each host once (a shard is drawn as it is)
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
-    let (res, fig, _) = compute(&grid, &a.store, sample.as_ref())?;
+    let cells = select_cells(&grid, &a.cells)?;
+    let (res, _, fig, _) = compute(&grid, &a.store, sample.as_ref(), cells.as_deref())?;
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
@@ -879,5 +1002,6 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
             meta.n_hosts_total
         );
     }
-    analyse(&grid, &a.store, sample.as_ref()).map(|_| ())
+    let cells = select_cells(&grid, &a.cells)?;
+    analyse(&grid, &a.store, sample.as_ref(), cells.as_deref()).map(|_| ())
 }

@@ -22,6 +22,9 @@ use crate::linear::{DeltaCModel, Filter, KUnit, LinearOptions, TransferKind};
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct CosmologySection {
+    /// Name of the cell in reports, tables and figures (default: the preset and the keys
+    /// that override it, e.g. "planck18 m_wdm_kev=3 filter=sharp-k").
+    pub label: Option<String>,
     pub preset: Option<String>,
     pub h: Option<f64>,
     pub omega_m: Option<f64>,
@@ -43,6 +46,52 @@ pub struct CosmologySection {
 }
 
 impl CosmologySection {
+    /// The cell's name: `label` if given, else the preset (or "custom") followed by every
+    /// key set beside it, as key=value.
+    pub fn display_label(&self) -> String {
+        if let Some(l) = &self.label {
+            return l.clone();
+        }
+        let mut parts = vec![self.preset.clone().unwrap_or_else(|| "custom".into())];
+        let num = |k: &str, v: Option<f64>| v.map(|x| format!("{k}={x}"));
+        let text = |k: &str, v: &Option<String>| v.as_ref().map(|x| format!("{k}={x}"));
+        parts.extend(
+            [
+                num("h", self.h),
+                num("omega_m", self.omega_m),
+                num("omega_b", self.omega_b),
+                num("sigma8", self.sigma8),
+                num("n_s", self.n_s),
+                num("omega_k", self.omega_k),
+                num("w", self.w),
+                num("m_wdm_kev", self.m_wdm_kev),
+                text("transfer", &self.transfer),
+                text("filter", &self.filter),
+                text("delta_c", &self.delta_c),
+            ]
+            .into_iter()
+            .flatten(),
+        );
+        parts.join(" ")
+    }
+
+    /// Problems of the `label` key.
+    pub fn label_problems(&self, prefix: &str) -> Vec<InvalidValue> {
+        match &self.label {
+            Some(l)
+                if l.trim().is_empty()
+                    || l.chars().count() > 40
+                    || l.chars().any(|c| c.is_control() || c == ',') =>
+            {
+                vec![InvalidValue::new(
+                    format!("{prefix}label"),
+                    format!("{l:?}"),
+                    "must be 1 to 40 printable characters without commas",
+                )]
+            }
+            _ => Vec::new(),
+        }
+    }
     /// Resolve into validated parameters and options, or the full list of problems.
     /// `prefix` names the table in messages (e.g. `cosmology.`); `base_dir` resolves a
     /// relative `transfer_table` path.

@@ -193,6 +193,30 @@ pub enum MassBin {
     LogUniform(f64, f64),
 }
 
+impl MassBin {
+    /// The host mass (Msun) or range in reports, e.g. "1.2e12" or "8e11-2e12".
+    pub fn label(&self) -> String {
+        let f = |m: f64| {
+            let e = m.log10().floor();
+            let c = m / 10f64.powf(e);
+            let c = (c * 100.0).round() / 100.0;
+            format!("{c}e{e}")
+        };
+        match self {
+            MassBin::Fixed(m) => f(*m),
+            MassBin::LogUniform(lo, hi) => format!("{}-{}", f(*lo), f(*hi)),
+        }
+    }
+
+    /// A representative mass (Msun): the fixed mass, or the geometric mean of the range.
+    pub fn typical_msun(&self) -> f64 {
+        match self {
+            MassBin::Fixed(m) => *m,
+            MassBin::LogUniform(lo, hi) => (lo * hi).sqrt(),
+        }
+    }
+}
+
 /// The whole file.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -223,6 +247,8 @@ pub struct RunConfig {
     pub linear: LinearOptions,
     /// Every cosmology of the sweep.
     pub cosmologies: Vec<(CosmologyParams, LinearOptions)>,
+    /// Their names in reports (`label`, or the preset and its overrides), distinct.
+    pub cosmology_labels: Vec<String>,
     pub mass_bins: Vec<MassBin>,
     /// The first fixed host mass (commands that need one).
     pub host_mass_msun: f64,
@@ -298,9 +324,20 @@ impl RunConfig {
             } else {
                 format!("cosmology[{i}].")
             };
+            problems.extend(sec.label_problems(&prefix));
             match sec.resolve(&prefix, base_dir) {
                 Ok(v) => cosmologies.push(v),
                 Err(p) => problems.extend(p),
+            }
+        }
+        let cosmology_labels: Vec<String> = sections.iter().map(|s| s.display_label()).collect();
+        for (i, l) in cosmology_labels.iter().enumerate() {
+            if let Some(j) = cosmology_labels[..i].iter().position(|x| x == l) {
+                problems.push(InvalidValue::new(
+                    format!("cosmology[{i}].label"),
+                    format!("{l:?}"),
+                    format!("names the same cell as cosmology[{j}]; give each a distinct label"),
+                ));
             }
         }
         let h = &file.host;
@@ -489,6 +526,7 @@ impl RunConfig {
             cosmology: cosmologies[0].0.clone(),
             linear: cosmologies[0].1.clone(),
             cosmologies,
+            cosmology_labels,
             mass_bins,
             host_mass_msun: m_first,
             host_mass_definition: mdef.unwrap(),

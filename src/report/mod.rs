@@ -29,10 +29,134 @@ fn write_atomic(path: &Path, text: &str) -> Result<(), IoError> {
     a.commit().map(|_| ())
 }
 
-/// Write the CSV tables and the Markdown report into `dir`; returns the files written.
+/// Names of a grid cell in tables and the report.
+#[derive(Debug, Clone)]
+pub struct CellLabels {
+    /// Cosmology label per cosmology index.
+    pub cosmologies: Vec<String>,
+    /// Host mass (or range) label per mass bin.
+    pub masses: Vec<String>,
+}
+
+impl CellLabels {
+    /// (cosmology, host mass) of a cell; indices outside the lists get their number.
+    pub fn of(&self, cosmology: u16, mass_bin: u16) -> (String, String) {
+        (
+            self.cosmologies
+                .get(cosmology as usize)
+                .cloned()
+                .unwrap_or_else(|| format!("cosmology {cosmology}")),
+            self.masses
+                .get(mass_bin as usize)
+                .cloned()
+                .unwrap_or_else(|| format!("mass bin {mass_bin}")),
+        )
+    }
+
+    /// Number of cells of the grid.
+    pub fn n_cells(&self) -> usize {
+        self.cosmologies.len().max(1) * self.masses.len().max(1)
+    }
+}
+
+/// Rows of every table for one set of results, each row led by the cell's columns.
+fn table_rows(
+    res: &AnalysisResults,
+    options: &TestOptions,
+    options_backsplash: &crate::stats::backsplash::BacksplashOptions,
+    cell: &str,
+    out: &mut [String; 5],
+) {
+    for ((clock, mc), (_, ex)) in res.all_of_n_mc.iter().zip(&res.all_of_n_exact) {
+        for k in 0..mc.x.len() {
+            let _ = writeln!(
+                out[0],
+                "{cell},{},{},{},{},{:.6}",
+                clock.name(),
+                res.n_draw,
+                mc.x[k],
+                spread_row(&mc.spread[k]),
+                ex.spread[k].mean
+            );
+        }
+    }
+    for (clock, n, c) in &res.fraction_of_n {
+        for k in 0..c.x.len() {
+            let _ = writeln!(
+                out[1],
+                "{cell},{},{},{},{},{}",
+                clock.name(),
+                n,
+                options.fraction,
+                c.x[k],
+                spread_row(&c.spread[k])
+            );
+        }
+    }
+    for (clock, c, tau) in &res.quench {
+        for k in 0..c.x.len() {
+            let _ = writeln!(
+                out[2],
+                "{cell},{},{},{},{}",
+                clock.name(),
+                c.x[k],
+                spread_row(&c.spread[k]),
+                tau
+            );
+        }
+    }
+    for (id, clock, lbs, sp, n) in &res.matches {
+        let mut v = lbs.clone();
+        v.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        let med = crate::stats::intervals::percentile(&v, 0.5);
+        let _ = writeln!(
+            out[3],
+            "{cell},{},{},{},{:.4},{}",
+            id,
+            clock.name(),
+            n,
+            med,
+            spread_row(sp)
+        );
+    }
+    for sh in &res.backsplash_shells {
+        let _ = writeln!(
+            out[4],
+            "{cell},{},{},{:.3},{:.3},{}",
+            sh.lo_over_rvir,
+            sh.hi_over_rvir,
+            sh.count_mean,
+            sh.field_mean,
+            spread_row(&sh.fraction)
+        );
+    }
+    let [lo, hi] = options_backsplash.range_over_rvir();
+    let _ = writeln!(
+        out[4],
+        "{cell},{lo},{hi},{:.3},{:.3},{}",
+        res.backsplash_count_mean,
+        res.field_count_expected,
+        spread_row(&res.backsplash_fraction)
+    );
+}
+
+/// CSV field: quoted when it holds a comma or a quote.
+fn csv_field(s: &str) -> String {
+    if s.contains(',') || s.contains('"') {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+/// Write the CSV tables and the Markdown report into `dir`; returns the files written. Every
+/// table starts with the cell's columns (`cosmology`, `host_mass_msun`): with one cell, its
+/// names; with several, first the pooled rows (`all`, `all`), then each cell's rows.
 pub fn write_tables(
     dir: &Path,
     res: &AnalysisResults,
+    cells: &[crate::stats::cells::CellResults],
+    labels: &CellLabels,
     options: &TestOptions,
     sample: Option<&ObservedSample>,
     run_summary: &str,
@@ -45,106 +169,154 @@ pub fn write_tables(
         files.push(p);
         Ok(())
     };
-    // all of N
-    let mut t = format!("clock,n,z,{},exact_mean\n", spread_header());
-    for ((clock, mc), (_, ex)) in res.all_of_n_mc.iter().zip(&res.all_of_n_exact) {
-        for k in 0..mc.x.len() {
-            let _ = writeln!(
-                t,
-                "{},{},{},{},{:.6}",
-                clock.name(),
-                res.n_draw,
-                mc.x[k],
-                spread_row(&mc.spread[k]),
-                ex.spread[k].mean
-            );
+    let mut rows: [String; 5] = Default::default();
+    let pooled_cell = if cells.len() > 1 {
+        "all,all".to_string()
+    } else {
+        // the one cell tested (the dependence table has a row per cell)
+        let (c, m) = cells
+            .first()
+            .map(|c| labels.of(c.cosmology, c.mass_bin))
+            .or_else(|| res.dependence.first().map(|d| labels.of(d.0, d.1)))
+            .unwrap_or_else(|| labels.of(0, 0));
+        format!("{},{}", csv_field(&c), csv_field(&m))
+    };
+    table_rows(res, options, &options.backsplash, &pooled_cell, &mut rows);
+    if cells.len() > 1 {
+        for c in cells {
+            let (cl, ml) = labels.of(c.cosmology, c.mass_bin);
+            let cell = format!("{},{}", csv_field(&cl), csv_field(&ml));
+            table_rows(&c.results, options, &options.backsplash, &cell, &mut rows);
         }
     }
-    put("all_of_n.csv", t)?;
-    let mut t = format!("clock,n,fraction,z,{}\n", spread_header());
-    for (clock, n, c) in &res.fraction_of_n {
-        for k in 0..c.x.len() {
-            let _ = writeln!(
-                t,
-                "{},{},{},{},{}",
-                clock.name(),
-                n,
-                options.fraction,
-                c.x[k],
-                spread_row(&c.spread[k])
-            );
-        }
-    }
-    put("fraction_of_n.csv", t)?;
+    let [r0, r1, r2, r3, r4] = rows;
+    let head = "cosmology,host_mass_msun";
+    put(
+        "all_of_n.csv",
+        format!("{head},clock,n,z,{},exact_mean\n{r0}", spread_header()),
+    )?;
+    put(
+        "fraction_of_n.csv",
+        format!("{head},clock,n,fraction,z,{}\n{r1}", spread_header()),
+    )?;
     if !res.quench.is_empty() {
-        let mut t = format!(
-            "clock,delay_gyr,{},largest_delay_allowed_gyr\n",
-            spread_header()
-        );
-        for (clock, c, tau) in &res.quench {
-            for k in 0..c.x.len() {
-                let _ = writeln!(
-                    t,
-                    "{},{},{},{}",
-                    clock.name(),
-                    c.x[k],
-                    spread_row(&c.spread[k]),
-                    tau
-                );
-            }
-        }
-        put("quenching_delay.csv", t)?;
-        let mut t = format!(
-            "object,clock,n_matches,median_infall_lookback_gyr,p_infall_before_quench_{}\n",
-            spread_header().replace(',', ",p_")
-        );
-        for (id, clock, lbs, s, n) in &res.matches {
-            let mut v = lbs.clone();
-            v.sort_by(|a, b| a.partial_cmp(b).unwrap());
-            let med = crate::stats::intervals::percentile(&v, 0.5);
-            let _ = writeln!(
-                t,
-                "{},{},{},{:.4},{}",
-                id,
-                clock.name(),
-                n,
-                med,
-                spread_row(s)
-            );
-        }
-        put("phase_space_matches.csv", t)?;
+        put(
+            "quenching_delay.csv",
+            format!(
+                "{head},clock,delay_gyr,{},largest_delay_allowed_gyr\n{r2}",
+                spread_header()
+            ),
+        )?;
+        put(
+            "phase_space_matches.csv",
+            format!(
+                "{head},object,clock,n_matches,median_infall_lookback_gyr,p_infall_before_quench_{}\n{r3}",
+                spread_header().replace(',', ",p_")
+            ),
+        )?;
     }
-    let mut t = String::from("cosmology_index,mass_bin,n_hosts,median_host_mass_msun,median_first_infall_z,mean_p_all_at_z2\n");
+    let mut t =
+        format!("{head},n_hosts,median_host_mass_msun,median_first_infall_z,mean_p_all_at_z2\n");
     for (c, m, n, mm, z, p) in &res.dependence {
-        let _ = writeln!(t, "{c},{m},{n},{mm:.4e},{z:.4},{p:.6}");
-    }
-    put("dependence.csv", t)?;
-    let mut t = format!(
-        "shell_lo_over_rvir,shell_hi_over_rvir,backsplash_per_host,field_expected_per_host,{}\n",
-        spread_header()
-    );
-    for sh in &res.backsplash_shells {
+        let (cl, ml) = labels.of(*c, *m);
         let _ = writeln!(
             t,
-            "{},{},{:.3},{:.3},{}",
-            sh.lo_over_rvir,
-            sh.hi_over_rvir,
-            sh.count_mean,
-            sh.field_mean,
-            spread_row(&sh.fraction)
+            "{},{},{n},{mm:.4e},{z:.4},{p:.6}",
+            csv_field(&cl),
+            csv_field(&ml)
         );
     }
-    let [lo, hi] = options.backsplash.range_over_rvir();
-    let _ = writeln!(
-        t,
-        "{lo},{hi},{:.3},{:.3},{}",
-        res.backsplash_count_mean,
-        res.field_count_expected,
-        spread_row(&res.backsplash_fraction)
-    );
-    put("backsplash.csv", t)?;
-    put("report.md", markdown(res, options, sample, run_summary))?;
+    put("dependence.csv", t)?;
+    put(
+        "backsplash.csv",
+        format!(
+            "{head},shell_lo_over_rvir,shell_hi_over_rvir,backsplash_per_host,field_expected_per_host,{}\n{r4}",
+            spread_header()
+        ),
+    )?;
+    put(
+        "report.md",
+        markdown(res, cells, labels, options, sample, run_summary),
+    )?;
     Ok(files)
+}
+
+/// The comparison of grid cells: the headline numbers side by side.
+fn comparison(
+    m: &mut String,
+    cells: &[crate::stats::cells::CellResults],
+    labels: &CellLabels,
+    pooled: &AnalysisResults,
+) {
+    let n_hosts: usize = cells.iter().map(|c| c.n_hosts).sum();
+    let _ = writeln!(
+        m,
+        "## Comparison of the grid's cells\n\n{} cells, {n_hosts} hosts. Every test below and in the tables is computed per cell (rows with the cell's cosmology and host mass) as well as over all hosts (rows `all`); each host is read on its own cosmology's clock. P: all {} drawn satellites fell in before z (first host infall; mean over the cell's hosts, bootstrap 16–84%).\n",
+        cells.len(),
+        pooled.n_draw
+    );
+    let has_quench = !pooled.quench.is_empty();
+    let _ = writeln!(
+        m,
+        "| cosmology | host mass (Msun) | hosts | candidates (median) | P at z = 1 | P at z = 2 | P at z = 3 | median first-infall z |{} backsplash fraction |",
+        if has_quench { " largest delay τ (first infall) |" } else { "" }
+    );
+    let _ = writeln!(
+        m,
+        "|---|---|---|---|---|---|---|---|{}---|",
+        if has_quench { "---|" } else { "" }
+    );
+    for c in cells {
+        let r = &c.results;
+        let (cl, ml) = labels.of(c.cosmology, c.mass_bin);
+        let mut cand = r.candidates.clone();
+        cand.sort();
+        let first = r
+            .all_of_n_mc
+            .iter()
+            .find(|(k, _)| k.name() == "first_host_infall")
+            .map(|(_, cv)| cv);
+        let p = |z: f64| {
+            first
+                .and_then(|cv| at_z(cv, z))
+                .map(|s| format!("{:.3} [{:.3}, {:.3}]", s.mean, s.boot16, s.boot84))
+                .unwrap_or_else(|| "–".into())
+        };
+        let zmed = pooled
+            .dependence
+            .iter()
+            .find(|d| d.0 == c.cosmology && d.1 == c.mass_bin)
+            .map(|d| format!("{:.2}", d.4))
+            .unwrap_or_else(|| "–".into());
+        let tau = if has_quench {
+            let t = r
+                .quench
+                .iter()
+                .find(|(k, _, _)| k.name() == "first_host_infall")
+                .map(|(_, _, t)| *t)
+                .unwrap_or(f64::NAN);
+            if t.is_nan() {
+                " none |".to_string()
+            } else {
+                format!(" {t:.2} Gyr |")
+            }
+        } else {
+            String::new()
+        };
+        let _ = writeln!(
+            m,
+            "| {cl} | {ml} | {} | {} | {} | {} | {} | {zmed} |{tau} {:.3} [{:.3}, {:.3}] |",
+            c.n_hosts,
+            cand.get(cand.len() / 2).copied().unwrap_or(0),
+            p(1.0),
+            p(2.0),
+            p(3.0),
+            r.backsplash_fraction.mean,
+            r.backsplash_fraction.boot16,
+            r.backsplash_fraction.boot84
+        );
+    }
+    let _ = writeln!(m);
 }
 
 fn at_z(c: &Curve, z: f64) -> Option<&Spread> {
@@ -157,6 +329,8 @@ fn at_z(c: &Curve, z: f64) -> Option<&Spread> {
 /// numbers.
 pub fn markdown(
     res: &AnalysisResults,
+    cells: &[crate::stats::cells::CellResults],
+    labels: &CellLabels,
     o: &TestOptions,
     sample: Option<&ObservedSample>,
     run_summary: &str,
@@ -165,6 +339,9 @@ pub fn markdown(
     let sel = &res.selection;
     let _ = writeln!(m, "# Infall-time tests\n");
     let _ = writeln!(m, "{run_summary}\n");
+    if cells.len() > 1 {
+        comparison(&mut m, cells, labels, res);
+    }
     let _ = writeln!(m, "## Selection: {}\n", sel.name);
     let _ = writeln!(
         m,

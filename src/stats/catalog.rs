@@ -131,11 +131,16 @@ impl Catalog {
 
     /// Hosts [h0, h1) as a catalogue of their own.
     pub fn slice_hosts(&self, h0: usize, h1: usize) -> Catalog {
+        self.select_hosts(h0..h1)
+    }
+
+    /// The given hosts (in the order given) as a catalogue of their own.
+    pub fn select_hosts(&self, hosts: impl IntoIterator<Item = usize>) -> Catalog {
         let mut c = Catalog {
             offset: vec![0],
             ..Default::default()
         };
-        for h in h0..h1 {
+        for h in hosts {
             c.host_id.push(self.host_id[h]);
             c.host_cosmology.push(self.host_cosmology[h]);
             c.host_mass_bin.push(self.host_mass_bin[h]);

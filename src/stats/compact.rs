@@ -112,6 +112,31 @@ pub fn for_each_chunk(
     chunk: usize,
     f: &mut dyn FnMut(Catalog),
 ) -> Result<FigureData, IoError> {
+    for_each_chunk_where(
+        path,
+        options,
+        sample,
+        cosmos,
+        galaxies,
+        chunk,
+        &|_, _| true,
+        f,
+    )
+}
+
+/// As `for_each_chunk`, for the hosts of the grid cells `keep(cosmology, mass_bin)` accepts
+/// only (the others are neither tested nor drawn).
+#[allow(clippy::too_many_arguments)]
+pub fn for_each_chunk_where(
+    path: &Path,
+    options: &TestOptions,
+    sample: Option<&ObservedSample>,
+    cosmos: &[&Cosmology],
+    galaxies: &GalaxyOptions,
+    chunk: usize,
+    keep: &dyn Fn(u16, u16) -> bool,
+    f: &mut dyn FnMut(Catalog),
+) -> Result<FigureData, IoError> {
     let n = n_hosts_in(path)?;
     let mut fig = FigureData::for_selection(&options.selection);
     let w = options.match_windows;
@@ -130,6 +155,9 @@ pub fn for_each_chunk(
         })?;
         let clocks = clock_times(&c, cosmos, galaxies, &options.preprocessing);
         for h in 0..c.n_hosts() {
+            if !keep(c.host_cosmology[h], c.host_mass_bin[h]) {
+                continue;
+            }
             out.host_id.push(c.host_id[h]);
             out.host_cosmology.push(c.host_cosmology[h]);
             out.host_mass_bin.push(c.host_mass_bin[h]);
@@ -160,7 +188,9 @@ pub fn for_each_chunk(
             out.offset.push(out.branch.len());
             fig.n_hosts += 1;
         }
-        f(out);
+        if out.n_hosts() > 0 {
+            f(out);
+        }
         h0 = h1;
     }
     Ok(fig)

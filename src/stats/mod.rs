@@ -2,6 +2,7 @@
 
 pub mod backsplash;
 pub mod catalog;
+pub mod cells;
 pub mod census;
 pub mod clocks;
 pub mod compact;

@@ -1214,3 +1214,97 @@ fn outputs_never_replace_inputs_or_foreign_files() {
         "files left behind"
     );
 }
+
+/// A sweep answers per cell: two cosmologies (one labelled) x two host masses. Every table
+/// leads with the cell's columns and holds the pooled rows (`all,all`) and each cell's rows;
+/// the report compares the cells side by side; each cell's all-of-N equals a run of that cell
+/// alone; `--cell` tests a subset, and a spec that matches nothing names the cells there are.
+#[test]
+fn sweeps_answer_per_cell() {
+    let d = tempfile::tempdir().unwrap();
+    let sweep = TINY
+        .replace(
+            "[cosmology]\npreset = \"planck18\"",
+            "[[cosmology]]\npreset = \"planck18\"\n\n[[cosmology]]\nlabel = \"low s8\"\npreset = \"planck18\"\nsigma8 = 0.74",
+        )
+        .replace("hosts_per_cell = 3", "hosts_per_cell = 2");
+    let cfg = write(d.path(), "sweep.toml", &sweep);
+    let store = d.path().join("sweep.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let rep = d.path().join("sweep-report");
+    let all = std::fs::read_to_string(rep.join("all_of_n.csv")).unwrap();
+    let head = all.lines().next().unwrap();
+    assert!(
+        head.starts_with("cosmology,host_mass_msun,clock,n,z,"),
+        "{head}"
+    );
+    for cell in [
+        "all,all,",
+        "planck18,8e11,",
+        "planck18,1.2e12,",
+        "low s8,8e11,",
+        "low s8,1.2e12,",
+    ] {
+        assert!(
+            all.lines().any(|l| l.starts_with(cell)),
+            "{cell} missing:\n{all}"
+        );
+    }
+    for t in ["fraction_of_n.csv", "backsplash.csv", "dependence.csv"] {
+        let text = std::fs::read_to_string(rep.join(t)).unwrap();
+        assert!(text.starts_with("cosmology,host_mass_msun,"), "{t}: {text}");
+        assert!(text.contains("low s8,1.2e12,"), "{t}: {text}");
+    }
+    let md = std::fs::read_to_string(rep.join("report.md")).unwrap();
+    assert!(md.contains("## Comparison of the grid's cells"), "{md}");
+    assert!(md.contains("4 cells, 8 hosts"), "{md}");
+    assert!(md.contains("| low s8 | 8e11 | 2 |"), "{md}");
+    // the per-cell rows equal a test of that cell alone (first clock, exact mean column)
+    let row = |text: &str, cell: &str| -> Vec<String> {
+        text.lines()
+            .filter(|l| l.starts_with(cell))
+            .map(|l| l.splitn(3, ',').nth(2).unwrap().to_string())
+            .collect()
+    };
+    let per_cell = row(&all, "low s8,1.2e12,");
+    let (code, _, err) = crate::common::run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--cell",
+        "cosmology=low s8,mass=1.2e12",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let alone = std::fs::read_to_string(rep.join("all_of_n.csv")).unwrap();
+    assert_eq!(row(&alone, "low s8,1.2e12,"), per_cell, "{alone}");
+    assert!(
+        !alone.contains("all,all,"),
+        "one cell: no pooled rows\n{alone}"
+    );
+    let md = std::fs::read_to_string(rep.join("report.md")).unwrap();
+    assert!(md.contains("Only the selected cells are tested"), "{md}");
+    // two specs select a union; a spec matching nothing names what there is
+    run_ok(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--cell",
+        "mass=8e11",
+        "--cell",
+        "cosmology=planck18,mass=1.2e12",
+    ]);
+    let three = std::fs::read_to_string(rep.join("all_of_n.csv")).unwrap();
+    assert!(three.contains("planck18,1.2e12,") && three.contains("low s8,8e11,"));
+    assert!(!three.contains("low s8,1.2e12,"), "{three}");
+    let (code, _, err) =
+        crate::common::run_cli(&["infall", store.to_str().unwrap(), "--cell", "cosmology=wdm"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("\"low s8\"") && err.contains("1.2e12"),
+        "{err}"
+    );
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+}
