@@ -15,7 +15,7 @@ use rand::Rng;
 use crate::config::{MassBin, RunConfig};
 use crate::cosmology::Cosmology;
 use crate::error::InvalidValue;
-use crate::halo::concentration::{c_of_m, ConcentrationModel};
+use crate::halo::concentration::{concentration, ConcentrationModel};
 use crate::halo::definitions::convert_nfw;
 use crate::halo::MassDefinition;
 use crate::io::store::{part_path, parts_dir, write_part, StoreMeta, StoreWriter};
@@ -140,9 +140,9 @@ impl Grid {
         if cfg.host_mass_definition == MassDefinition::Vir {
             return m;
         }
-        let c = c_of_m(
+        let c = concentration(
+            lt,
             ConcentrationModel::DuttonMaccio14,
-            lt.cosmology(),
             m,
             z,
             cfg.host_mass_definition,

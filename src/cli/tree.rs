@@ -8,7 +8,7 @@ use clap::Args;
 use super::cosmo_args::CosmoArgs;
 use super::format::parse_list;
 use super::CliError;
-use retinue::halo::concentration::{c_of_m, ConcentrationModel};
+use retinue::halo::concentration::{concentration, ConcentrationModel};
 use retinue::halo::definitions::convert_nfw;
 use retinue::halo::MassDefinition;
 use retinue::io::tree_file::{write_tree, TreeMeta};
@@ -88,9 +88,9 @@ pub fn run(a: TreeArgs) -> Result<(), CliError> {
     let m_vir = if mdef == MassDefinition::Vir {
         a.mass
     } else {
-        let c = c_of_m(
+        let c = concentration(
+            &lt,
             ConcentrationModel::DuttonMaccio14,
-            lt.cosmology(),
             a.mass,
             a.z_final,
             mdef,

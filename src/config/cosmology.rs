@@ -8,6 +8,7 @@
 //! transfer = "eh98"          # eh98 | eh98-nowiggle | bbks | table
 //! filter = "top-hat"         # top-hat | sharp-k
 //! m_wdm_kev = 3.0            # omit for cold dark matter
+//! wdm_concentration = "bose16"  # bose16 | none; only with m_wdm_kev
 //! ```
 
 use std::path::PathBuf;
@@ -16,6 +17,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::cosmology::{preset, CosmologyParams, PRESET_NAMES};
 use crate::error::{InvalidValue, MISSING};
+use crate::halo::concentration::WdmConcentration;
 use crate::linear::{DeltaCModel, Filter, KUnit, LinearOptions, TransferKind};
 
 /// The `[cosmology]` table as written by the user; every key optional.
@@ -42,6 +44,7 @@ pub struct CosmologySection {
     pub filter: Option<String>,
     pub sharp_k_c: Option<f64>,
     pub m_wdm_kev: Option<f64>,
+    pub wdm_concentration: Option<String>,
     pub delta_c: Option<String>,
 }
 
@@ -229,6 +232,21 @@ impl CosmologySection {
             options.sharp_k_c = c;
         }
         options.m_wdm_kev = self.m_wdm_kev;
+        if let Some(w) = &self.wdm_concentration {
+            match WdmConcentration::parse(w) {
+                Some(k) if self.m_wdm_kev.is_some() => options.wdm_concentration = k,
+                Some(_) => problems.push(InvalidValue::new(
+                    format!("{prefix}wdm_concentration"),
+                    w,
+                    "is only used with warm dark matter; set m_wdm_kev too, or remove the key",
+                )),
+                None => problems.push(InvalidValue::new(
+                    format!("{prefix}wdm_concentration"),
+                    w,
+                    format!("expected one of {}", WdmConcentration::NAMES.join(", ")),
+                )),
+            }
+        }
         if let Some(d) = &self.delta_c {
             match DeltaCModel::parse(d) {
                 Some(k) => options.delta_c = k,
@@ -245,5 +263,48 @@ impl CosmologySection {
         } else {
             Err(problems)
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn section(wdm: Option<f64>, wc: Option<&str>) -> CosmologySection {
+        CosmologySection {
+            preset: Some("planck18".into()),
+            m_wdm_kev: wdm,
+            wdm_concentration: wc.map(str::to_string),
+            ..Default::default()
+        }
+    }
+
+    /// `wdm_concentration`: bose16 by default under WDM; an unknown value names the key, the
+    /// value and the allowed values; given without `m_wdm_kev` it is an error that says so.
+    #[test]
+    fn wdm_concentration_key() {
+        let (_, o) = section(Some(3.0), None)
+            .resolve("cosmology.", None)
+            .unwrap();
+        assert_eq!(o.wdm_concentration, WdmConcentration::Bose16);
+        let (_, o) = section(Some(3.0), Some("none"))
+            .resolve("cosmology.", None)
+            .unwrap();
+        assert_eq!(o.wdm_concentration, WdmConcentration::None);
+        let e = section(Some(3.0), Some("lovell14"))
+            .resolve("cosmology.", None)
+            .unwrap_err();
+        assert_eq!(
+            e[0].to_string(),
+            "cosmology.wdm_concentration = lovell14 is not allowed: expected one of bose16, none"
+        );
+        let e = section(None, Some("bose16"))
+            .resolve("cosmology.", None)
+            .unwrap_err();
+        assert_eq!(
+            e[0].to_string(),
+            "cosmology.wdm_concentration = bose16 is not allowed: is only used with warm dark \
+             matter; set m_wdm_kev too, or remove the key"
+        );
     }
 }

@@ -1,7 +1,11 @@
 //! The host through time. The halo follows the main branch of the host's own merger tree:
 //! virial mass M(t) interpolated in ln M along the tree's output grid, R_vir(t) from
 //! Delta_vir(z) rho_crit(z) (Bryan & Norman 1998), concentration from the same history (Zhao
-//! et al. 2009, t_0.04 read off the main branch) or from a c(M, z) relation.
+//! et al. 2009, t_0.04 read off the main branch) or from a c(M, z) relation. Under warm dark
+//! matter each of these is multiplied by the factor of Bose et al. 2016 (eq. 17,
+//! `halo::concentration::wdm_factor`). For zhao09 the history is already the WDM tree's, so
+//! the factor may count part of the effect twice; for a Milky-Way-mass host both are small
+//! (the factor is 0.98 for M_hm = 2e9 Msun, 2 keV, and 0.99 at 2.5 keV; docs/methods.md).
 //!
 //! Disc and bulge: present-day values default to the disc of the MWPotential2014 model of
 //! Bovy 2015 (ApJS 216, 29): Miyamoto–Nagai M_d = 6.8e10 Msun, a = 3 kpc, b = 0.28 kpc; its
@@ -22,7 +26,7 @@ use super::potential::{HostSnapshot, Potential};
 use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
 use crate::error::InvalidValue;
 use crate::galaxies::behroozi13;
-use crate::halo::concentration::{c_of_m, zhao09, ConcentrationModel};
+use crate::halo::concentration::{c_of_m, wdm_factor, zhao09, ConcentrationModel};
 use crate::halo::nfw::mu;
 use crate::halo::MassDefinition;
 use crate::linear::LinearTheory;
@@ -206,7 +210,7 @@ impl EvolvingHost {
             let z = cosmo.z_at_age(t);
             let m = ln_m_at(t).exp();
             let r_vir = MassDefinition::Vir.radius_kpc(cosmo, m, z);
-            let c = match options.concentration {
+            let c_cdm = match options.concentration {
                 ConcentrationModel::Zhao09 => match t_at_ln_m((0.04 * m).ln()) {
                     Some(t04) if t04 > 0.0 => zhao09::concentration(t, t04),
                     _ => c_of_m(
@@ -219,6 +223,8 @@ impl EvolvingHost {
                 },
                 other => c_of_m(other, cosmo, m, z, MassDefinition::Vir),
             };
+            // warm dark matter: every model times the Bose et al. 2016 factor (1 for CDM)
+            let c = c_cdm * wdm_factor(lt, m, c_cdm, z, MassDefinition::Vir);
             let r_s = r_vir / c;
             let m_s = m / mu(c);
             let (fm, fr) = if b0.grow {

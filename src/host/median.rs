@@ -2,7 +2,7 @@
 //! tree (for `retinue orbit`, where one smooth, typical host is wanted).
 
 use super::{EvolvingHost, HostOptions};
-use crate::halo::concentration::{c_of_m, ConcentrationModel};
+use crate::halo::concentration::{concentration, ConcentrationModel};
 use crate::halo::definitions::convert_nfw;
 use crate::halo::MassDefinition;
 use crate::linear::LinearTheory;
@@ -10,7 +10,7 @@ use crate::trees::correa15;
 
 /// Evolving host whose virial mass follows the Correa et al. 2015 median history ending at
 /// `m_msun` (definition `mdef`) at z_final; masses converted between definitions with an NFW
-/// profile and the Dutton & Maccio 2014 concentration.
+/// profile and the Dutton & Maccio 2014 concentration (with the cosmology's WDM factor).
 pub fn median_host(
     lt: &LinearTheory,
     m_msun: f64,
@@ -24,7 +24,7 @@ pub fn median_host(
         if from == to {
             return m;
         }
-        let cc = c_of_m(ConcentrationModel::DuttonMaccio14, c, m, z, from);
+        let cc = concentration(lt, ConcentrationModel::DuttonMaccio14, m, z, from);
         convert_nfw(c, m, cc, z, from, to).0
     };
     let m200 = conv(m_msun, z_final, mdef, MassDefinition::C200);

@@ -22,8 +22,10 @@ pub use variance::{Filter, SigmaTable};
 
 use crate::cosmology::Cosmology;
 use crate::error::{Error, InvalidValue, LinearError};
+use crate::halo::concentration::WdmConcentration;
 
-/// Choices for the linear power spectrum and sigma(M).
+/// Choices for the linear power spectrum and sigma(M), and how warm dark matter, if any,
+/// changes halo concentrations.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LinearOptions {
     pub transfer: TransferKind,
@@ -36,6 +38,8 @@ pub struct LinearOptions {
     pub sharp_k_c: f64,
     /// Thermal-relic warm dark matter particle mass (keV); None = cold dark matter.
     pub m_wdm_kev: Option<f64>,
+    /// Concentration suppression under warm dark matter (ignored for cold dark matter).
+    pub wdm_concentration: WdmConcentration,
     pub delta_c: DeltaCModel,
 }
 
@@ -48,6 +52,7 @@ impl Default for LinearOptions {
             filter: Filter::TopHat,
             sharp_k_c: 2.5,
             m_wdm_kev: None,
+            wdm_concentration: WdmConcentration::Bose16,
             delta_c: DeltaCModel::Constant,
         }
     }

@@ -19,7 +19,7 @@ use super::integrate::State;
 use super::stripping::{Stripping, SubhaloStructure};
 use super::OrbitOptions;
 use crate::constants::{G_KPC3_PER_MSUN_GYR2 as G, KMS_IN_KPC_PER_GYR as KMS};
-use crate::halo::concentration::{c_of_m, ConcentrationModel};
+use crate::halo::concentration::{concentration, ConcentrationModel};
 use crate::halo::nfw::mu;
 use crate::halo::MassDefinition;
 use crate::host::EvolvingHost;
@@ -124,7 +124,8 @@ pub struct SubhaloResult {
 
 /// The field profile of a halo with children, at the times they fell in and at its own
 /// infall: virial mass from the tree (the mass each child merged into, and its own infall
-/// mass; non-decreasing), Bryan & Norman R_vir and the Dutton & Maccio 2014 concentration.
+/// mass; non-decreasing), Bryan & Norman R_vir and the Dutton & Maccio 2014 concentration
+/// (times the warm-dark-matter factor of the cosmology, `halo::concentration::wdm_factor`).
 fn field_profile(lt: &LinearTheory, own: &Accretion, kids: &[&Accretion]) -> Vec<FieldPoint> {
     let cosmo = lt.cosmology();
     let mut pts: Vec<(f64, f64, f64)> = kids
@@ -138,9 +139,9 @@ fn field_profile(lt: &LinearTheory, own: &Accretion, kids: &[&Accretion]) -> Vec
         .map(|(t, z, m)| {
             m_run = m_run.max(m);
             let r_vir = MassDefinition::Vir.radius_kpc(cosmo, m_run, z);
-            let c = c_of_m(
+            let c = concentration(
+                lt,
                 ConcentrationModel::DuttonMaccio14,
-                cosmo,
                 m_run,
                 z,
                 MassDefinition::Vir,
@@ -234,9 +235,11 @@ pub fn evolve_host_subhaloes<R: Rng>(
         while let Some(i) = stack.pop() {
             group.push(i);
             let a = &accs[i];
-            let c_acc = c_of_m(
+            // Dutton & Maccio 2014 at infall, suppressed under warm dark matter (Bose et al.
+            // 2016, `halo::concentration::wdm_factor`)
+            let c_acc = concentration(
+                lt,
                 ConcentrationModel::DuttonMaccio14,
-                cosmo,
                 a.m_infall_msun,
                 a.z_infall,
                 MassDefinition::Vir,

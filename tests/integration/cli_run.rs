@@ -490,6 +490,21 @@ fn malformed_configs_are_reported() {
             .replace("resolution_msun = 1e9", "resolution_msun = 3e7"),
             "trees.resolution_msun = 3.000e7 Msun lies below the sigma(M) table",
         ),
+        // the warm-dark-matter concentration model: an unknown value, and the key without WDM
+        (
+            base.replace(
+                "preset = \"planck18\"",
+                "preset = \"planck18\"\nm_wdm_kev = 3.0\nfilter = \"sharp-k\"\nwdm_concentration = \"lovell14\"",
+            ),
+            "cosmology.wdm_concentration = lovell14 is not allowed: expected one of bose16, none",
+        ),
+        (
+            base.replace(
+                "preset = \"planck18\"",
+                "preset = \"planck18\"\nwdm_concentration = \"none\"",
+            ),
+            "cosmology.wdm_concentration = none is not allowed: is only used with warm dark matter",
+        ),
         // a transfer table that is not there
         (
             base.replace(

@@ -845,3 +845,213 @@ fn val_backsplash_shells() {
     assert!(frac[0] > frac[1] && frac[1] > frac[2], "{frac:?}");
     assert!(frac[2] < 0.5, "{frac:?}");
 }
+
+/// One synthesised host, reduced: its subhaloes, R_vir and concentration today.
+type Reduced = (Vec<SubhaloResult>, f64, f64);
+
+/// `n` default Milky-Way-mass hosts (1.2e12 Msun, resolution 10^7.5 Msun, master seed 5, the
+/// sharp-k filter) in Planck 2018 with cold dark matter (`m_wdm_kev = None`) or a thermal
+/// relic of that mass, with the given WDM concentration model.
+fn synthesised_dm(
+    n: u32,
+    m_wdm_kev: Option<f64>,
+    wdm_concentration: retinue::halo::concentration::WdmConcentration,
+) -> (LinearTheory, Vec<Reduced>) {
+    use rayon::prelude::*;
+    use retinue::synth::{synthesize_host, SynthOptions};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions {
+            m_wdm_kev,
+            wdm_concentration,
+            filter: retinue::linear::Filter::SharpK,
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    let opts = SynthOptions {
+        tree: TreeSpec::milky_way_default(),
+        host: HostOptions::default(),
+        orbits: Default::default(),
+        galaxies: Default::default(),
+        survey: Default::default(),
+    };
+    let out = (0..n)
+        .into_par_iter()
+        .map_init(
+            || TreeBuilder::new(opts.tree.pch08).unwrap(),
+            |b, i| {
+                let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, i), b).unwrap();
+                (
+                    rec.subhaloes,
+                    rec.summary.r_vir_kpc,
+                    rec.summary.concentration,
+                )
+            },
+        )
+        .collect();
+    (lt, out)
+}
+
+/// WDM-to-CDM count ratio in one mass bin, with the fit averaged over the bin.
+struct BinRatio {
+    n_cdm: f64,
+    n_wdm: f64,
+    ratio: f64,
+    /// Poisson error of the ratio, relative: sqrt(1/N_WDM + 1/N_CDM).
+    rel_poisson: f64,
+    /// Jackknife error of the ratio over host pairs (absolute).
+    jackknife: f64,
+    /// The fit averaged over the CDM objects of the bin, with our M_hm and with `m_hm_alt`.
+    fit: f64,
+    fit_alt: f64,
+}
+
+/// Ratio of the masses `pick` selects from each host in [lo, hi), WDM over CDM (hosts paired
+/// by index), against `fit(m, m_hm)`.
+fn bin_ratio(
+    cdm: &[Reduced],
+    wdm: &[Reduced],
+    pick: &dyn Fn(&Reduced) -> Vec<f64>,
+    (lo, hi): (f64, f64),
+    fit: &dyn Fn(f64, f64) -> f64,
+    m_hm: f64,
+    m_hm_alt: f64,
+) -> BinRatio {
+    let inbin =
+        |h: &Reduced| -> Vec<f64> { pick(h).into_iter().filter(|&m| m >= lo && m < hi).collect() };
+    let mc: Vec<Vec<f64>> = cdm.iter().map(inbin).collect();
+    let nc: Vec<f64> = mc.iter().map(|v| v.len() as f64).collect();
+    let nw: Vec<f64> = wdm.iter().map(|h| inbin(h).len() as f64).collect();
+    let (sc, sw) = (nc.iter().sum::<f64>(), nw.iter().sum::<f64>());
+    let avg = |m_hm: f64| mc.iter().flatten().map(|&m| fit(m, m_hm)).sum::<f64>() / sc;
+    let nh = nc.len() as f64;
+    let jk: Vec<f64> = (0..nc.len()).map(|i| (sw - nw[i]) / (sc - nc[i])).collect();
+    let jm = jk.iter().sum::<f64>() / nh;
+    let jackknife = ((nh - 1.0) / nh * jk.iter().map(|x| (x - jm) * (x - jm)).sum::<f64>()).sqrt();
+    BinRatio {
+        n_cdm: sc,
+        n_wdm: sw,
+        ratio: sw / sc,
+        rel_poisson: (1.0 / sw + 1.0 / sc).sqrt(),
+        jackknife,
+        fit: avg(m_hm),
+        fit_alt: avg(m_hm_alt),
+    }
+}
+
+/// Warm-dark-matter subhalo mass function against the fit of Lovell et al. 2014 (MNRAS 439,
+/// 300) to their Aquarius WDM haloes: n_WDM/n_CDM = (1 + gamma M_hm/M)^-beta, gamma = 2.7,
+/// beta = 0.99 (the numbers read in hmf 3.7.2, `hmf.alternatives.wdm.Lovell14`; that the fit
+/// is to the evolved z = 0 subhalo mass function is recalled, not re-read).
+/// Setup: a 2.5 keV thermal relic (M_hm = 9.0e8 Msun from our Viel et al. 2005 transfer
+/// function; the tree resolution 10^7.5 Msun is M_hm/28) against cold dark matter, both with
+/// the sharp-k filter (as trees for WDM must be), 64 Milky-Way-mass hosts each, same seeds.
+/// Evolved: bound subhaloes of every order inside R_vir today, by bound mass, in bins of
+/// +-0.15 dex around M_hm, 3 M_hm and 10 M_hm; the fit averaged over the CDM objects of each
+/// bin.
+/// Band: 2 sigma, sigma^2 = 1/N_WDM + 1/N_CDM (Poisson, relative; the two runs share seeds
+/// but not trees, so treating the counts as independent errs wide) + 0.2^2 (the scatter about
+/// such fits: about 20% in Lovell et al. 2020, ApJ 897, 147, abstract, for their later fits;
+/// taken for the 2014 fit).
+/// Met at 3 and 10 M_hm; NOT met at M_hm, where the mocks keep about twice the fit's
+/// fraction (0.5 against 0.27; docs/validation.md, "Not met yet"): the trees follow the
+/// sharp-k excursion set (its Press-Schechter ratio at M_hm is 0.53), which Lovell et al. 2020
+/// also find less steep than their simulations. At M_hm the test asserts only that the
+/// suppression is there (ratio below 1 by more than 3 Poisson errors, and below the ratio at
+/// 10 M_hm).
+/// Printed, not asserted: the unevolved ratio (every accretion by its mass at infall), a
+/// jackknife error over hosts, the fit with Lovell's own M_hm convention (hmf's `Bode01` with
+/// nu = 1: 1.45 times ours at 2.5 keV; fixture `wdm.json`), the evolved ratio without the
+/// concentration suppression (`wdm_concentration = "none"`, same trees and orbits), and the
+/// hosts' mean concentrations.
+#[test]
+fn val_wdm_subhalo_mass_function_vs_lovell14() {
+    use retinue::halo::concentration::WdmConcentration;
+    let n = 64;
+    let (_, cdm) = synthesised_dm(n, None, WdmConcentration::Bose16);
+    let (lt, wdm) = synthesised_dm(n, Some(2.5), WdmConcentration::Bose16);
+    let (_, wdm_cdm_c) = synthesised_dm(n, Some(2.5), WdmConcentration::None);
+    let m_hm = lt.m_half_mode_msun().unwrap();
+    let lovell14 = |m: f64, m_hm: f64| (1.0 + 2.7 * m_hm / m).powf(-0.99);
+    let f = crate::common::fixture("wdm.json");
+    let row = f["half_mode"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r["m_wdm_kev"].as_f64() == Some(2.5))
+        .unwrap()
+        .clone();
+    let m_hm_lovell = m_hm * row["m_hm_msun_h_bode01_nu1"].as_f64().unwrap()
+        / row["m_hm_msun_h"].as_f64().unwrap();
+    let mean_c = |hs: &[Reduced]| hs.iter().map(|h| h.2).sum::<f64>() / hs.len() as f64;
+    eprintln!(
+        "M_hm = {m_hm:.3e} Msun (2.5 keV; {m_hm_lovell:.3e} in Lovell's convention); hosts' mean \
+         c_vir today: CDM {:.3}, WDM {:.3}, WDM without the suppression {:.3}",
+        mean_c(&cdm),
+        mean_c(&wdm),
+        mean_c(&wdm_cdm_c)
+    );
+    let evolved = |h: &Reduced| -> Vec<f64> {
+        h.0.iter()
+            .filter(|x| x.status.alive() && x.r_kpc < h.1)
+            .map(|x| x.m_bound_msun)
+            .collect()
+    };
+    let infall = |h: &Reduced| -> Vec<f64> { h.0.iter().map(|x| x.m_infall_msun).collect() };
+    let mut ev = Vec::new();
+    for k in [1.0, 3.0, 10.0] {
+        let bin = (k * m_hm * 10f64.powf(-0.15), k * m_hm * 10f64.powf(0.15));
+        let e = bin_ratio(&cdm, &wdm, &evolved, bin, &lovell14, m_hm, m_hm_lovell);
+        let e_none = bin_ratio(
+            &cdm,
+            &wdm_cdm_c,
+            &evolved,
+            bin,
+            &lovell14,
+            m_hm,
+            m_hm_lovell,
+        );
+        let u = bin_ratio(&cdm, &wdm, &infall, bin, &lovell14, m_hm, m_hm_lovell);
+        let band = 2.0 * (e.rel_poisson.powi(2) + 0.2f64.powi(2)).sqrt();
+        eprintln!(
+            "{k} M_hm, evolved: N_CDM = {}, N_WDM = {}, ratio {:.3} +- {:.3} (Poisson; \
+             jackknife {:.3}); Lovell et al. 2014 {:.3} ({:.3} with their M_hm); measured/fit \
+             {:.2}, band +-{band:.2}; without the concentration suppression {:.3}",
+            e.n_cdm,
+            e.n_wdm,
+            e.ratio,
+            e.ratio * e.rel_poisson,
+            e.jackknife,
+            e.fit,
+            e.fit_alt,
+            e.ratio / e.fit,
+            e_none.ratio
+        );
+        eprintln!(
+            "{k} M_hm, unevolved (mass at infall): N_CDM = {}, N_WDM = {}, ratio {:.3} +- {:.3}; \
+             the fit {:.3}",
+            u.n_cdm,
+            u.n_wdm,
+            u.ratio,
+            u.ratio * u.rel_poisson,
+            u.fit
+        );
+        ev.push((k, e, band));
+    }
+    for (k, e, band) in &ev[1..] {
+        assert!(
+            (e.ratio / e.fit - 1.0).abs() <= *band,
+            "{k} M_hm: ratio {:.3} against the fit's {:.3} (band +-{band:.2})",
+            e.ratio,
+            e.fit
+        );
+    }
+    let at_hm = &ev[0].1;
+    assert!(
+        at_hm.ratio < 1.0 - 3.0 * at_hm.rel_poisson * at_hm.ratio,
+        "no suppression at M_hm: {:.3}",
+        at_hm.ratio
+    );
+    assert!(at_hm.ratio < ev[2].1.ratio);
+}
