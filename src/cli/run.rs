@@ -95,6 +95,16 @@ pub struct InfallArgs {
     /// repeat for several (default: every cell).
     #[arg(long = "cell")]
     pub cells: Vec<String>,
+    /// Name of this analysis in the store (`/analysis/NAME`; default: the sample file's name
+    /// and the time, e.g. `sample-20261203-101500`).
+    #[arg(long)]
+    pub name: Option<String>,
+    /// Report directory (default: STORE-NAME-report next to the store).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Replace an analysis of the same name.
+    #[arg(long)]
+    pub overwrite: bool,
 }
 
 fn usage(e: impl std::fmt::Display) -> CliError {
@@ -286,7 +296,16 @@ fn execute(
         if shard.count > 1 {
             return Ok(out);
         }
-        pool.install(|| analyse(&grid, &out, sample.as_ref(), None))?;
+        pool.install(|| {
+            analyse(
+                &grid,
+                &out,
+                sample.as_ref(),
+                sample_path.as_deref(),
+                None,
+                &Target::of_run(&out),
+            )
+        })?;
         return Ok(out);
     }
     let t0 = Instant::now();
@@ -312,7 +331,16 @@ fn execute(
         eprintln!("shard written to {}; when every shard is done: retinue merge <shards...> --out FILE, then retinue infall FILE", path.display());
         return Ok(path);
     }
-    pool.install(|| analyse(&grid, &path, sample.as_ref(), None))?;
+    pool.install(|| {
+        analyse(
+            &grid,
+            &path,
+            sample.as_ref(),
+            sample_path.as_deref(),
+            None,
+            &Target::of_run(&path),
+        )
+    })?;
     Ok(path)
 }
 
@@ -450,18 +478,108 @@ fn select_cells(grid: &Grid, specs: &[String]) -> Result<Option<Vec<(u16, u16)>>
     Ok(Some(out))
 }
 
+/// Where an analysis goes: its name in the store (`/analysis/NAME`) and its report directory.
+struct Target {
+    name: String,
+    dir: PathBuf,
+}
+
+impl Target {
+    /// The run's own analysis: `/analysis/run`, report in NAME-report next to the store.
+    fn of_run(store: &Path) -> Self {
+        Self {
+            name: "run".into(),
+            dir: report_dir(store),
+        }
+    }
+}
+
+/// `base` with the keys of `over` put in, recursively through tables (values of other types,
+/// arrays included, are replaced whole).
+fn merge_toml(base: &mut toml::Value, over: &toml::Value) {
+    match (base, over) {
+        (toml::Value::Table(b), toml::Value::Table(o)) => {
+            for (k, v) in o {
+                match b.get_mut(k) {
+                    Some(bv) => merge_toml(bv, v),
+                    None => {
+                        b.insert(k.clone(), v.clone());
+                    }
+                }
+            }
+        }
+        (b, o) => *b = o.clone(),
+    }
+}
+
+/// Settings `current` with the keys given in `over` replaced (see `merge_toml`).
+fn overlay<T>(current: &T, over: Option<&toml::Value>) -> Result<T, String>
+where
+    T: serde::Serialize + serde::de::DeserializeOwned,
+{
+    let mut v = toml::Value::try_from(current).map_err(|e| e.to_string())?;
+    if let Some(o) = over {
+        merge_toml(&mut v, o);
+    }
+    v.try_into().map_err(|e: toml::de::Error| e.to_string())
+}
+
+/// Seconds since 1970 as YYYYMMDD-HHMMSS (UTC; the civil-from-days algorithm of H. Hinnant,
+/// "chrono-Compatible Low-Level Date Algorithms").
+fn utc_stamp(secs: u64) -> String {
+    let days = (secs / 86_400) as i64;
+    let rem = secs % 86_400;
+    let z = days + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z - era * 146_097;
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = yoe + era * 400 + i64::from(m <= 2);
+    format!(
+        "{y:04}{m:02}{d:02}-{:02}{:02}{:02}",
+        rem / 3600,
+        (rem / 60) % 60,
+        rem % 60
+    )
+}
+
 fn analyse(
     grid: &Grid,
     store: &Path,
     sample: Option<&ObservedSample>,
+    sample_path: Option<&Path>,
     cells: Option<&[(u16, u16)]>,
+    target: &Target,
 ) -> Result<AnalysisResults, CliError> {
     let cfg = &grid.config;
     let t0 = Instant::now();
+    // N follows the sample unless the configuration sets it
+    let n_note = match (cfg.file.tests.n_draw, sample) {
+        (Some(n), Some(s)) if n != s.objects.len() => Some(format!(
+            "tests.n_draw = {n} is set in the configuration and differs from the sample's {} objects: the all-of-N and fraction-of-N tests draw {n}",
+            s.objects.len()
+        )),
+        _ => None,
+    };
+    if let Some(n) = &n_note {
+        eprintln!("note: {n}");
+    }
     let (res, per_cell, fig, n_hosts) = compute(grid, store, sample, cells)?;
     let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
-    write_analysis_to_store(store, &res, &tests_toml).map_err(|e| CliError::Failed(e.into()))?;
-    let dir = report_dir(store);
+    write_analysis_to_store(
+        store,
+        &res,
+        &retinue::report::AnalysisRecord {
+            name: &target.name,
+            tests_toml: &tests_toml,
+            sample: sample.zip(sample_path),
+        },
+    )
+    .map_err(|e| CliError::Failed(e.into()))?;
+    let dir = target.dir.clone();
     let n_sub =
         retinue::io::store::n_subhaloes_in(store).map_err(|e| CliError::Failed(e.into()))?;
     let mut summary = format!(
@@ -471,6 +589,18 @@ fn analyse(
         n_sub,
         cfg.file.run.master_seed
     );
+    summary.push_str(&format!(
+        "\n\nAnalysis `{}` (stored as `/analysis/{}`, with the settings below and the sample's rows): sample {}.",
+        target.name,
+        target.name,
+        match (sample, sample_path) {
+            (Some(s), Some(p)) => format!("`{}` ({} objects)", p.display(), s.objects.len()),
+            _ => "none (N = tests.n_draw; the quenching and matching tests are skipped)".into(),
+        }
+    ));
+    if let Some(n) = &n_note {
+        summary.push_str(&format!("\n\n**Note:** {n}."));
+    }
     if let Some(w) = resolution_warning(grid) {
         summary.push_str(&format!("\n\n**Warning:** {w}."));
     }
@@ -604,12 +734,22 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
             }
             eprintln!("merged {} rank shards into {}", shards.len(), p.display());
             let grid = Grid::new(cfg.clone()).map_err(run_err)?;
-            let sample = match cfg.sample_path() {
-                Some(sp) => Some(ObservedSample::from_file(&sp).map_err(usage)?),
+            let sample_path = cfg.sample_path();
+            let sample = match &sample_path {
+                Some(sp) => Some(ObservedSample::from_file(sp).map_err(usage)?),
                 None => None,
             };
             pool(0)?
-                .install(|| analyse(&grid, &p, sample.as_ref()))
+                .install(|| {
+                    analyse(
+                        &grid,
+                        &p,
+                        sample.as_ref(),
+                        sample_path.as_deref(),
+                        None,
+                        &Target::of_run(&p),
+                    )
+                })
                 .map(|_| ())
         };
         if let Some(r) = super::mpi_run::run_mpi(&go, &finish, &out) {
@@ -947,11 +1087,16 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
         let Some(retest) = retest else {
             return Err(usage(retinue::config::ConfigProblems(problems)));
         };
-        if let Some(t) = retest.tests {
-            cfg.file.tests = t;
+        // the keys FILE gives replace the stored ones, table by table and key by key; every
+        // other key keeps the run's value (a partial [tests.selection] changes only its keys)
+        let given: toml::Table = toml::from_str(&text).unwrap_or_default();
+        if retest.tests.is_some() {
+            cfg.file.tests = overlay(&cfg.file.tests, given.get("tests"))
+                .map_err(|e| usage(format!("{}: [tests]: {e}", p.display())))?;
         }
-        if let Some(g) = retest.galaxies {
-            cfg.file.galaxies = g;
+        if retest.galaxies.is_some() {
+            cfg.file.galaxies = overlay(&cfg.file.galaxies, given.get("galaxies"))
+                .map_err(|e| usage(format!("{}: [galaxies]: {e}", p.display())))?;
         }
         problems.extend(cfg.file.tests.problems("tests."));
         problems.extend(cfg.file.galaxies.problems("galaxies."));
@@ -979,12 +1124,81 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
             return Err(usage(retinue::config::ConfigProblems(problems)));
         }
     }
-    let sample = match a.sample.clone().or(run_sample) {
-        Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
+    let sample_path = a.sample.clone().or(run_sample);
+    let sample = match &sample_path {
+        Some(p) => Some(ObservedSample::from_file(p).map_err(usage)?),
         None => None,
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
     let _lock = writer_lock(&a.store, "retinue infall")?;
+    // each analysis under its own name: an earlier one is replaced only when asked
+    let name = match &a.name {
+        Some(n) => n.clone(),
+        None => {
+            let stem = sample_path
+                .as_ref()
+                .and_then(|p| p.file_stem())
+                .map(|s| {
+                    s.to_string_lossy()
+                        .chars()
+                        .map(|c| {
+                            if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                                c
+                            } else {
+                                '_'
+                            }
+                        })
+                        .collect::<String>()
+                })
+                .filter(|s| !s.is_empty())
+                .unwrap_or_else(|| "tests".into());
+            let secs = std::time::SystemTime::now()
+                .duration_since(std::time::UNIX_EPOCH)
+                .map(|d| d.as_secs())
+                .unwrap_or(0);
+            format!(
+                "{}-{}",
+                stem.chars().take(40).collect::<String>(),
+                utc_stamp(secs)
+            )
+        }
+    };
+    if let Some(p) = retinue::report::analysis_name_problem(&name) {
+        return Err(usage(p));
+    }
+    let (existing, _) = retinue::report::analyses_in(&a.store).map_err(|e| usage(e.to_string()))?;
+    // a name made here never replaces an earlier analysis: -2, -3, ... within one second
+    let name = if a.name.is_none() {
+        let mut k = 1;
+        let mut n = name.clone();
+        while existing.contains(&n) {
+            k += 1;
+            n = format!("{name}-{k}");
+        }
+        n
+    } else {
+        name
+    };
+    if existing.contains(&name) && !a.overwrite {
+        return Err(usage(format!(
+            "{} already holds an analysis named {name:?}: give another --name, or add --overwrite to replace it",
+            a.store.display()
+        )));
+    }
+    let dir = a.out.clone().unwrap_or_else(|| {
+        let stem = a
+            .store
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "run".into());
+        a.store.with_file_name(format!("{stem}-{name}-report"))
+    });
+    if dir.is_file() {
+        return Err(usage(format!(
+            "--out {}: a file of that name exists; the report needs a directory",
+            dir.display()
+        )));
+    }
     // the store must hold every host of its run (or of its shard) exactly once
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
     if meta.shard.1 > 1 {
@@ -1003,5 +1217,13 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
         );
     }
     let cells = select_cells(&grid, &a.cells)?;
-    analyse(&grid, &a.store, sample.as_ref(), cells.as_deref()).map(|_| ())
+    analyse(
+        &grid,
+        &a.store,
+        sample.as_ref(),
+        sample_path.as_deref(),
+        cells.as_deref(),
+        &Target { name, dir },
+    )
+    .map(|_| ())
 }

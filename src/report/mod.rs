@@ -475,16 +475,12 @@ pub fn markdown(
     m
 }
 
-/// Write the results into the store's `analysis` group (replacing any earlier one).
+/// Write the results into an analysis group `a` (`/analysis/NAME`).
 pub fn write_analysis(
-    file: &hdf5::File,
+    a: &hdf5::Group,
     res: &AnalysisResults,
     options_toml: &str,
 ) -> hdf5::Result<()> {
-    if file.link_exists("analysis") {
-        file.unlink("analysis")?;
-    }
-    let a = file.create_group("analysis")?;
     set_str_attr(&a, "tests", options_toml)?;
     set_num_attr(&a, "n_draw", res.n_draw as u64)?;
     let col = |g: &hdf5::Group, name: &str, v: &[f64], units: &str| -> hdf5::Result<()> {
@@ -638,11 +634,56 @@ pub(crate) fn short_number(v: f64) -> String {
     }
 }
 
-/// Write the analysis into an existing store atomically (copy, write, rename over).
+/// What an analysis records besides its results: its name, the tests' settings (TOML) and
+/// the observed sample with the file it came from.
+pub struct AnalysisRecord<'a> {
+    pub name: &'a str,
+    pub tests_toml: &'a str,
+    pub sample: Option<(&'a ObservedSample, &'a Path)>,
+}
+
+/// Characters allowed in an analysis name (it names an HDF5 group and a directory).
+pub fn analysis_name_problem(name: &str) -> Option<String> {
+    let ok = !name.is_empty()
+        && name.len() <= 64
+        && name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.'))
+        && !name.starts_with('.');
+    (!ok).then(|| {
+        format!(
+            "--name = {name:?} is not allowed: 1 to 64 characters of letters, digits, '-', '_' \
+             and '.', not starting with '.'"
+        )
+    })
+}
+
+/// Names of the analyses a store holds (sorted), and the latest one written.
+pub fn analyses_in(store: &Path) -> Result<(Vec<String>, Option<String>), IoError> {
+    let r = (|| -> hdf5::Result<(Vec<String>, Option<String>)> {
+        let f = hdf5::File::open(store)?;
+        if !f.link_exists("analysis") {
+            return Ok((Vec::new(), None));
+        }
+        let a = f.group("analysis")?;
+        let mut names: Vec<String> = a
+            .groups()?
+            .iter()
+            .map(|g| g.name().rsplit('/').next().unwrap_or("").to_string())
+            .collect();
+        names.sort();
+        let latest = crate::io::h5::get_str_attr(&a, "latest").ok();
+        Ok((names, latest))
+    })();
+    r.map_err(|e| IoError::hdf5(store, e))
+}
+
+/// Write an analysis into the store as `/analysis/NAME` (replacing one of that name only),
+/// through a copy renamed into place, and mark it as the latest.
 pub fn write_analysis_to_store(
     store: &Path,
     res: &AnalysisResults,
-    options_toml: &str,
+    record: &AnalysisRecord,
 ) -> Result<(), IoError> {
     let a = AtomicPath::new(store);
     // on a full disk: the copy needs about the store's size
@@ -650,7 +691,23 @@ pub fn write_analysis_to_store(
     std::fs::copy(store, &a.temp_path).map_err(|e| IoError::fs(&a.temp_path, e).needing(needed))?;
     let r = (|| -> hdf5::Result<()> {
         let f = hdf5::File::open_rw(&a.temp_path)?;
-        write_analysis(&f, res, options_toml)?;
+        let top = if f.link_exists("analysis") {
+            f.group("analysis")?
+        } else {
+            f.create_group("analysis")?
+        };
+        if top.link_exists(record.name) {
+            top.unlink(record.name)?;
+        }
+        let g = top.create_group(record.name)?;
+        write_analysis(&g, res, record.tests_toml)?;
+        if let Some((sample, path)) = record.sample {
+            write_sample(&g, sample, path)?;
+        }
+        if top.attr_names()?.iter().any(|n| n == "latest") {
+            top.delete_attr("latest")?;
+        }
+        set_str_attr(&top, "latest", record.name)?;
         f.flush()
     })();
     match r {
@@ -660,4 +717,29 @@ pub fn write_analysis_to_store(
             Err(IoError::hdf5(store, e).needing(needed))
         }
     }
+}
+
+/// The observed sample as the analysis used it: one row per object.
+fn write_sample(g: &hdf5::Group, sample: &ObservedSample, path: &Path) -> hdf5::Result<()> {
+    use hdf5::types::VarLenUnicode;
+    use std::str::FromStr;
+    let s = g.create_group("sample")?;
+    set_str_attr(&s, "file", &path.display().to_string())?;
+    let ids: Vec<VarLenUnicode> = sample
+        .objects
+        .iter()
+        .map(|o| VarLenUnicode::from_str(&o.id).unwrap_or_default())
+        .collect();
+    s.new_dataset_builder().with_data(&ids).create("id")?;
+    let col = |name: &str, units: &str, f: &dyn Fn(&crate::stats::ObservedObject) -> f64| {
+        let v: Vec<f64> = sample.objects.iter().map(f).collect();
+        let d = s.new_dataset_builder().with_data(&v).create(name)?;
+        set_str_attr(&d, "units", units)
+    };
+    col("mstar_msun", "Msun", &|o| o.mstar_msun)?;
+    col("r_gc_kpc", "kpc", &|o| o.r_gc_kpc)?;
+    col("v_r_kms", "km/s", &|o| o.v_r_kms)?;
+    col("t_quench_lookback_gyr", "Gyr", &|o| o.t_quench_lookback_gyr)?;
+    col("t_quench_err_gyr", "Gyr", &|o| o.t_quench_err_gyr)?;
+    Ok(())
 }

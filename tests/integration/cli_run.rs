@@ -118,9 +118,10 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("shard 1/3 is given twice"), "{err}");
     // the tests run on the merged store without re-synthesising
-    let out = run_ok(&["infall", &o("merged.h5")]);
+    let out = run_ok(&["infall", &o("merged.h5"), "--name", "check"]);
     assert!(out.contains("P(all 3 fell in before z)"), "{out}");
-    let report = std::fs::read_to_string(d.path().join("merged-report").join("report.md")).unwrap();
+    let report =
+        std::fs::read_to_string(d.path().join("merged-check-report").join("report.md")).unwrap();
     assert!(report.contains("## Clocks") && report.contains("## Caveats"));
     for fig in [
         "all_of_n_vs_redshift.png",
@@ -129,7 +130,7 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
         "subhalo_mass_function.png",
         "radial_distribution.png",
     ] {
-        let p = d.path().join("merged-report").join(fig);
+        let p = d.path().join("merged-check-report").join(fig);
         assert!(
             std::fs::metadata(&p)
                 .map(|m| m.len() > 1000)
@@ -160,7 +161,7 @@ fn store_schema_units_and_provenance() {
     assert!(cfg_text.contains("hosts_per_cell = 3"));
     let seed: u64 = f.attr("master_seed").unwrap().read_scalar().unwrap();
     assert_eq!(seed, 11);
-    assert!(f.group("analysis").unwrap().group("all_of_n").is_ok());
+    assert!(f.group("analysis/run").unwrap().group("all_of_n").is_ok());
     let n: Vec<u64> = f.dataset("hosts/host_index").unwrap().read_raw().unwrap();
     assert_eq!(n, vec![0, 1, 2, 3, 4, 5]);
     // nothing but the store and its report
@@ -280,7 +281,7 @@ fn resume_after_the_hosts_runs_only_the_tests() {
     let full = tables(&out);
     let read_analysis = |p: &Path| -> Vec<f64> {
         let f = hdf5::File::open(p).unwrap();
-        f.dataset("analysis/all_of_n/last_host_infall/mean")
+        f.dataset("analysis/run/all_of_n/last_host_infall/mean")
             .unwrap()
             .read_raw::<f64>()
             .unwrap()
@@ -1292,6 +1293,8 @@ fn sweeps_answer_per_cell() {
         store.to_str().unwrap(),
         "--cell",
         "cosmology=low s8,mass=1.2e12",
+        "--out",
+        rep.to_str().unwrap(),
     ]);
     assert_eq!(code, 0, "{err}");
     let alone = std::fs::read_to_string(rep.join("all_of_n.csv")).unwrap();
@@ -1310,6 +1313,8 @@ fn sweeps_answer_per_cell() {
         "mass=8e11",
         "--cell",
         "cosmology=planck18,mass=1.2e12",
+        "--out",
+        rep.to_str().unwrap(),
     ]);
     let three = std::fs::read_to_string(rep.join("all_of_n.csv")).unwrap();
     assert!(three.contains("planck18,1.2e12,") && three.contains("low s8,8e11,"));
@@ -1322,4 +1327,119 @@ fn sweeps_answer_per_cell() {
         "{err}"
     );
     assert_eq!(err.trim().lines().count(), 1, "{err}");
+}
+
+/// Re-testing never loses an earlier answer: each `infall` is stored under its own name
+/// (`/analysis/NAME`, with the sample's rows and the tests' settings) and reported in its own
+/// directory; a name is replaced only with --overwrite; `--out` chooses the directory; a set
+/// n_draw that differs from the sample is said on the terminal and in the report; and a
+/// partial [tests.selection] in --config changes only the keys it gives.
+#[test]
+fn retests_keep_every_analysis() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    let st = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", st]);
+    let sample = write(
+        d.path(),
+        "mine.csv",
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,8,1\nB,1e6,80,-20,10,1\n",
+    );
+    let sp = sample.to_str().unwrap();
+    let (code, _, err) = run_cli(&["infall", st, "--sample", sp, "--name", "first"]);
+    assert_eq!(code, 0, "{err}");
+    // n_draw = 3 is set and the sample has 2 objects
+    assert!(
+        err.contains("tests.n_draw = 3") && err.contains("2 objects"),
+        "{err}"
+    );
+    let rep1 = d.path().join("s-first-report");
+    let md = std::fs::read_to_string(rep1.join("report.md")).unwrap();
+    assert!(
+        md.contains("Analysis `first`") && md.contains("mine.csv") && md.contains("(2 objects)"),
+        "{md}"
+    );
+    assert!(md.contains("tests.n_draw = 3"), "{md}");
+    // the same name again: refused (exit 2, one line), then replaced with --overwrite
+    let (code, _, err) = run_cli(&["infall", st, "--sample", sp, "--name", "first"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("\"first\"") && err.contains("--overwrite"),
+        "{err}"
+    );
+    run_ok(&[
+        "infall",
+        st,
+        "--sample",
+        sp,
+        "--name",
+        "first",
+        "--overwrite",
+    ]);
+    // default names never collide; --out chooses the directory
+    let own = d.path().join("my-report");
+    run_ok(&["infall", st, "--sample", sp, "--out", own.to_str().unwrap()]);
+    assert!(own.join("report.md").is_file());
+    run_ok(&["infall", st, "--sample", sp]);
+    // a partial [tests.selection]: only its key changes; draws = 500 and n_draw = 3 stay
+    let part = write(
+        d.path(),
+        "part.toml",
+        "[tests.selection]\nr_over_rvir = [0.0, 0.5]\n",
+    );
+    let (code, out, err) = run_cli(&[
+        "infall",
+        st,
+        "--config",
+        part.to_str().unwrap(),
+        "--name",
+        "inner",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("P(all 3 fell in before z)"), "{out}");
+    let f = hdf5::File::open(&store).unwrap();
+    let a = f.group("analysis").unwrap();
+    let mut names: Vec<String> = a
+        .groups()
+        .unwrap()
+        .iter()
+        .map(|g| g.name().rsplit('/').next().unwrap().to_string())
+        .collect();
+    names.sort();
+    assert_eq!(names.len(), 5, "{names:?}");
+    assert!(names.contains(&"run".to_string()) && names.contains(&"first".to_string()));
+    assert_eq!(
+        names.iter().filter(|n| n.starts_with("mine-")).count(),
+        2,
+        "{names:?}"
+    );
+    let latest: hdf5::types::VarLenUnicode = a.attr("latest").unwrap().read_scalar().unwrap();
+    assert_eq!(latest.as_str(), "inner");
+    let ids: Vec<hdf5::types::VarLenUnicode> = f
+        .dataset("analysis/first/sample/id")
+        .unwrap()
+        .read_raw()
+        .unwrap();
+    assert_eq!(
+        ids.iter().map(|s| s.as_str()).collect::<Vec<_>>(),
+        ["A", "B"]
+    );
+    let tests: hdf5::types::VarLenUnicode = f
+        .group("analysis/inner")
+        .unwrap()
+        .attr("tests")
+        .unwrap()
+        .read_scalar()
+        .unwrap();
+    let t = tests.as_str();
+    assert!(
+        t.contains("draws = 500") && t.contains("r_over_rvir = [0.0, 0.5]"),
+        "{t}"
+    );
+    assert!(t.contains("n_draw = 3"), "{t}");
+    // a name that cannot name a group or a directory
+    let (code, _, err) = run_cli(&["infall", st, "--name", "../x"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--name"), "{err}");
 }
