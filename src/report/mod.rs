@@ -481,8 +481,8 @@ pub fn write_analysis(
     res: &AnalysisResults,
     options_toml: &str,
 ) -> hdf5::Result<()> {
-    set_str_attr(&a, "tests", options_toml)?;
-    set_num_attr(&a, "n_draw", res.n_draw as u64)?;
+    set_str_attr(a, "tests", options_toml)?;
+    set_num_attr(a, "n_draw", res.n_draw as u64)?;
     let col = |g: &hdf5::Group, name: &str, v: &[f64], units: &str| -> hdf5::Result<()> {
         let d = g.new_dataset_builder().with_data(v).create(name)?;
         set_str_attr(&d, "units", units)
