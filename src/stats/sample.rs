@@ -1064,18 +1064,32 @@ impl ObservedSample {
         }
     }
 
-    /// Range checks, naming the object and field; every problem, one per line (NaN, which
-    /// CSV and TOML both accept as a number, is out of every range).
+    /// The checks of a file's sample for one built in code: the ranges, naming the object
+    /// and field, and unique ids (objects counted from 1); every problem, one per line (NaN
+    /// is out of every range).
     pub fn check(&self) -> Result<(), String> {
         if self.objects.is_empty() {
             return Err("the sample has no objects".into());
         }
         let label = |k: &str| k.to_string();
-        let problems: Vec<String> = self
+        let mut problems: Vec<String> = self
             .objects
             .iter()
             .flat_map(|o| object_problems(o, &Derived::default(), &label))
             .collect();
+        let mut first: HashMap<&str, usize> = HashMap::new();
+        for (k, o) in self.objects.iter().enumerate() {
+            match first.get(o.id.as_str()) {
+                Some(j) => problems.push(format!(
+                    "id `{}` is given twice (objects {j} and {})",
+                    excerpt(&o.id),
+                    k + 1
+                )),
+                None => {
+                    first.insert(o.id.as_str(), k + 1);
+                }
+            }
+        }
         if problems.is_empty() {
             Ok(())
         } else {
@@ -1572,6 +1586,23 @@ mod tests {
                 assert!((o.r_gc_kpc - want).abs() < 5e-6, "{x}: {}", o.r_gc_kpc);
             }
         }
+    }
+
+    #[test]
+    fn check_of_a_sample_built_in_code() {
+        let text = format!("{HEAD}\nA,1e5,50,1,8,1\nB,1e5,50,1,8,1\n");
+        let mut s = csv(&text).unwrap().sample;
+        assert_eq!(s.check(), Ok(()));
+        s.objects[1].id = "A".into();
+        s.objects[0].r_gc_kpc = -1.0;
+        s.objects.push(s.objects[1].clone());
+        assert_eq!(
+            s.check().unwrap_err(),
+            "object `A`: r_gc_kpc = -1 is not allowed: must be in [0, 5000) kpc\n\
+             id `A` is given twice (objects 1 and 2)\n\
+             id `A` is given twice (objects 1 and 3)"
+        );
+        assert!(ObservedSample::default().check().is_err());
     }
 
     /// The demo's two forms hold the same objects.
