@@ -1,5 +1,6 @@
 //! `retinue run | demo | check | merge | infall`.
 
+use std::collections::BTreeMap;
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -12,7 +13,7 @@ use retinue::io::store::{read_meta, StoreMeta};
 use retinue::report::{write_analysis_to_store, write_tables};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
 use retinue::stats::tests::{run_tests_raw, Merger};
-use retinue::stats::{AnalysisResults, ObservedSample};
+use retinue::stats::{AnalysisResults, ObservedSample, SampleOptions};
 
 const DEMO_CONFIG: &str = include_str!("../../configs/demo.toml");
 const DEMO_SAMPLE: &str = include_str!("../../demo-data/sample.csv");
@@ -75,7 +76,7 @@ pub struct MergeArgs {
 
 #[derive(Debug, Args)]
 #[command(
-    after_help = "Example:\n  retinue infall run.h5 --sample my-satellites.csv --config tests.toml\n\nRe-runs the tests on an existing store with the [tests] (and [galaxies]) tables of --config\n(default: the configuration stored in the file)."
+    after_help = "Examples:\n  retinue infall run.h5 --sample my-satellites.csv --config tests.toml\n  retinue infall run.h5 --sample export.csv --columns id=name,mstar_msun=stellar_mass,r_gc_kpc=dist\n\nRe-runs the tests on an existing store with the [tests] (and [galaxies]) tables of --config\n(default: the configuration stored in the file)."
 )]
 pub struct InfallArgs {
     /// A run store.
@@ -85,10 +86,15 @@ pub struct InfallArgs {
     /// then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
-    /// A file with a [tests] table (or a whole configuration): its [tests], [galaxies] and
-    /// run.sample replace the stored ones; everything else stays the run's. (Galaxies are
-    /// painted when a store is written: [galaxies] here only converts a stellar-mass
-    /// pre-processing threshold.)
+    /// Read the sample's CSV columns under the sample's names: NAME=COLUMN pairs, e.g.
+    /// mstar_msun=stellar_mass,r_gc_kpc=dist. Replaces run.sample_columns; a sample given with
+    /// --sample is read with these only.
+    #[arg(long, value_name = "NAME=COLUMN,...", value_parser = parse_columns)]
+    pub columns: Option<BTreeMap<String, String>>,
+    /// A file with a [tests] table (or a whole configuration): its [tests], [galaxies],
+    /// run.sample and run.sample_columns replace the stored ones; everything else stays the
+    /// run's. (Galaxies are painted when a store is written: [galaxies] here only converts a
+    /// stellar-mass pre-processing threshold and a sample's m_v.)
     #[arg(long)]
     pub config: Option<PathBuf>,
     /// Test only some grid cells: `cosmology=LABEL`, `mass=MASS` or both, comma-separated;
@@ -105,6 +111,50 @@ pub struct InfallArgs {
     /// Replace an analysis of the same name.
     #[arg(long)]
     pub overwrite: bool,
+}
+
+/// `--columns NAME=COLUMN,...`
+fn parse_columns(s: &str) -> Result<BTreeMap<String, String>, String> {
+    retinue::stats::sample::parse_column_map(s)
+}
+
+/// Read an observed sample, its notes (columns ignored) on stderr.
+fn read_sample(path: &Path, opts: &SampleOptions) -> Result<ObservedSample, CliError> {
+    let r = ObservedSample::read(path, opts).map_err(usage)?;
+    for n in &r.notes {
+        eprintln!("note: {n}");
+    }
+    Ok(r.sample)
+}
+
+/// The sample a stored run is tested or drawn with. A sample given with --sample is read
+/// with --columns alone (a configuration's run.sample_columns describe its own run.sample);
+/// the run's sample (or --config's) with --columns if given, else with `run_columns`. Υ and
+/// the Sun's position come from `cfg`.
+fn retest_sample(
+    cfg: &RunConfig,
+    cli_sample: Option<&PathBuf>,
+    cli_columns: Option<&BTreeMap<String, String>>,
+    run_sample: Option<PathBuf>,
+    run_columns: BTreeMap<String, String>,
+) -> Result<Option<(ObservedSample, PathBuf)>, CliError> {
+    let base = SampleOptions::new(&cfg.file.galaxies, &cfg.file.survey);
+    let cli =
+        |b: SampleOptions| b.with_columns(cli_columns.cloned().unwrap_or_default(), "--columns");
+    let (path, opts) = match (cli_sample, run_sample) {
+        (Some(p), _) => (p.clone(), cli(base)),
+        (None, Some(p)) if cli_columns.is_some() => (p, cli(base)),
+        (None, Some(p)) => (p, base.with_columns(run_columns, "run.sample_columns")),
+        (None, None) => {
+            if cli_columns.is_some() {
+                return Err(usage(
+                    "--columns is given but there is no observed sample to read (give one with --sample)",
+                ));
+            }
+            return Ok(None);
+        }
+    };
+    read_sample(&path, &opts).map(|s| Some((s, path)))
 }
 
 fn usage(e: impl std::fmt::Display) -> CliError {
@@ -243,10 +293,16 @@ fn execute(
     resume: bool,
     sample_override: Option<PathBuf>,
 ) -> Result<PathBuf, CliError> {
-    let sample_path = sample_override.or(cfg.sample_path());
-    let sample = match &sample_path {
-        Some(p) => Some(ObservedSample::from_file(p).map_err(usage)?),
-        None => None,
+    // a sample given here is read without the configuration's column mapping (which
+    // describes run.sample)
+    let sample_path = sample_override.clone().or(cfg.sample_path());
+    let sample = match (sample_override, cfg.sample_path()) {
+        (Some(p), _) => Some(read_sample(
+            &p,
+            &SampleOptions::new(&cfg.file.galaxies, &cfg.file.survey),
+        )?),
+        (None, Some(p)) => Some(read_sample(&p, &cfg.sample_options())?),
+        (None, None) => None,
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
     if let Some(w) = resolution_warning(&grid) {
@@ -736,7 +792,7 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
             let grid = Grid::new(cfg.clone()).map_err(run_err)?;
             let sample_path = cfg.sample_path();
             let sample = match &sample_path {
-                Some(sp) => Some(ObservedSample::from_file(sp).map_err(usage)?),
+                Some(sp) => Some(read_sample(sp, &cfg.sample_options())?),
                 None => None,
             };
             pool(0)?
@@ -799,7 +855,7 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
 pub fn check(a: CheckArgs) -> Result<(), CliError> {
     let (cfg, _) = load(&a.config)?;
     if let Some(p) = cfg.sample_path() {
-        ObservedSample::from_file(&p).map_err(usage)?;
+        read_sample(&p, &cfg.sample_options())?;
     }
     // the linear theory of every cosmology (reads transfer tables): what a run needs first
     let grid = Grid::new(cfg.clone()).map_err(run_err)?;
@@ -927,6 +983,11 @@ pub struct PlotArgs {
     /// repeat for several (default: every cell).
     #[arg(long = "cell")]
     pub cells: Vec<String>,
+    /// Read the sample's CSV columns under the sample's names: NAME=COLUMN pairs, e.g.
+    /// mstar_msun=stellar_mass,r_gc_kpc=dist. Replaces run.sample_columns; a sample given with
+    /// --sample is read with these only.
+    #[arg(long, value_name = "NAME=COLUMN,...", value_parser = parse_columns)]
+    pub columns: Option<BTreeMap<String, String>>,
 }
 
 /// What `infall --config FILE` takes from FILE; the other tables of a whole configuration
@@ -948,6 +1009,7 @@ struct RetestTables {
 #[derive(serde::Deserialize)]
 struct RetestRun {
     sample: Option<PathBuf>,
+    sample_columns: Option<BTreeMap<String, String>>,
     /// The run's other keys (ignored here).
     #[serde(flatten)]
     _other: toml::Table,
@@ -1051,14 +1113,19 @@ fn stored_config(
 pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
     let (cfg, run_sample) = stored_config(&meta, &a.store, a.sample.is_none())?;
-    let sample = match a.sample.clone().or(run_sample) {
-        Some(p) => Some(ObservedSample::from_file(&p).map_err(usage)?),
-        None => None,
-    };
+    let run_columns = cfg.file.run.sample_columns.clone();
+    let sample = retest_sample(
+        &cfg,
+        a.sample.as_ref(),
+        a.columns.as_ref(),
+        run_sample,
+        run_columns,
+    )?;
     let grid = Grid::new(cfg).map_err(run_err)?;
     // whole tables, each host once (a shard is drawn as it is)
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
     let cells = select_cells(&grid, &a.cells)?;
+    let sample = sample.map(|(s, _)| s);
     let (res, _, fig, _) = compute(&grid, &a.store, sample.as_ref(), cells.as_deref())?;
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)
@@ -1075,11 +1142,12 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
     let (mut cfg, mut run_sample) =
         stored_config(&meta, &a.store, a.sample.is_none() && a.config.is_none())?;
+    let mut run_columns = cfg.file.run.sample_columns.clone();
     if let Some(p) = &a.config {
-        // only the [tests] and [galaxies] tables (and run.sample) come from --config: the
-        // cosmologies and everything else that made the store stay those of the run. The file
-        // may hold just those tables, or be a whole configuration whose other tables are
-        // ignored.
+        // only the [tests] and [galaxies] tables (and run.sample, run.sample_columns) come
+        // from --config: the cosmologies and everything else that made the store stay those
+        // of the run. The file may hold just those tables, or be a whole configuration whose
+        // other tables are ignored.
         let text =
             std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
         let (retest, mut problems) =
@@ -1100,12 +1168,24 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
         }
         problems.extend(cfg.file.tests.problems("tests."));
         problems.extend(cfg.file.galaxies.problems("galaxies."));
+        let (file_sample, file_columns) = match retest.run {
+            Some(r) => (r.sample, r.sample_columns),
+            None => (None, None),
+        };
+        for (name, col, why) in retinue::stats::sample::column_map_problems(
+            file_columns.as_ref().unwrap_or(&BTreeMap::new()),
+        ) {
+            problems.push(retinue::error::InvalidValue::new(
+                format!("run.sample_columns.{name}"),
+                format!("{col:?}"),
+                format!("{why} (in {})", p.display()),
+            ));
+        }
+        // FILE's mapping goes with FILE's sample (the run's own sample is not read with
+        // --config)
+        run_columns = file_columns.unwrap_or_default();
         // (a sample given with --sample replaces FILE's: FILE's need not exist then)
-        if let Some(sp) = retest
-            .run
-            .and_then(|r| r.sample)
-            .filter(|_| a.sample.is_none())
-        {
+        if let Some(sp) = file_sample.filter(|_| a.sample.is_none()) {
             let sp = if sp.is_relative() {
                 p.parent().unwrap_or(Path::new(".")).join(sp)
             } else {
@@ -1124,10 +1204,16 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
             return Err(usage(retinue::config::ConfigProblems(problems)));
         }
     }
-    let sample_path = a.sample.clone().or(run_sample);
-    let sample = match &sample_path {
-        Some(p) => Some(ObservedSample::from_file(p).map_err(usage)?),
-        None => None,
+    let read = retest_sample(
+        &cfg,
+        a.sample.as_ref(),
+        a.columns.as_ref(),
+        run_sample,
+        run_columns,
+    )?;
+    let (sample, sample_path) = match read {
+        Some((s, p)) => (Some(s), Some(p)),
+        None => (None, None),
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
     let _lock = writer_lock(&a.store, "retinue infall")?;

@@ -10,6 +10,7 @@
 //! [survey]      # observer position and survey completeness
 //! ```
 
+use std::collections::BTreeMap;
 use std::path::Path;
 
 use serde::{Deserialize, Serialize};
@@ -171,6 +172,9 @@ pub struct RunSection {
     pub output: PathBuf,
     /// Observed sample (CSV or TOML), relative to the config file.
     pub sample: Option<PathBuf>,
+    /// Columns of a CSV `sample` read as the sample's names: name -> the file's column, e.g.
+    /// `sample_columns = { mstar_msun = "stellar_mass", r_gc_kpc = "dist" }`.
+    pub sample_columns: BTreeMap<String, String>,
 }
 
 impl Default for RunSection {
@@ -182,6 +186,7 @@ impl Default for RunSection {
             batch_hosts: 16,
             output: PathBuf::from("retinue-run.h5"),
             sample: None,
+            sample_columns: BTreeMap::new(),
         }
     }
 }
@@ -434,6 +439,13 @@ impl RunConfig {
                 ));
             }
         }
+        for (name, col, why) in crate::stats::sample::column_map_problems(&r.sample_columns) {
+            problems.push(InvalidValue::new(
+                format!("run.sample_columns.{name}"),
+                format!("{col:?}"),
+                why,
+            ));
+        }
         problems.extend(file.tests.problems("tests."));
         let mdef = MassDefinition::parse(&h.mass_definition);
         if mdef.is_none() {
@@ -548,6 +560,13 @@ impl RunConfig {
             Some(d) if p.is_relative() => d.join(p),
             _ => p.clone(),
         })
+    }
+
+    /// How to read the configuration's sample: its column mapping (`run.sample_columns`), Υ
+    /// (`galaxies.mass_to_light_v`) and the Sun's position (`survey`).
+    pub fn sample_options(&self) -> crate::stats::SampleOptions {
+        crate::stats::SampleOptions::new(&self.file.galaxies, &self.file.survey)
+            .with_columns(self.file.run.sample_columns.clone(), "run.sample_columns")
     }
 
     /// Number of hosts in the whole grid.

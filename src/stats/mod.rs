@@ -17,7 +17,7 @@ pub use clocks::{
     check_cosmology_indices, clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold,
 };
 pub use intervals::{spread, Spread};
-pub use sample::{ObservedObject, ObservedSample};
+pub use sample::{ObservedObject, ObservedSample, SampleOptions, SampleRead};
 pub use selection::{Selection, Survival};
 pub use tests::{run_tests, AnalysisResults, TestOptions};
 

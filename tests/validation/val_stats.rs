@@ -7,7 +7,8 @@ use rand_chacha::ChaCha8Rng;
 use retinue::galaxies::GalaxyOptions;
 use retinue::stats::draws::{p_all_exact, p_all_mc, p_at_least_exact, p_at_least_mc};
 use retinue::stats::{
-    run_tests, spread, Catalog, Clock, ObservedObject, ObservedSample, Selection, TestOptions,
+    run_tests, spread, Catalog, Clock, ObservedObject, ObservedSample, SampleOptions, Selection,
+    TestOptions,
 };
 use retinue::{Cosmology, LinearOptions, LinearTheory};
 
@@ -295,54 +296,68 @@ fn hosts_with_too_few_candidates_are_reported() {
     assert!(res.all_of_n_mc[0].1.per_host.is_empty());
 }
 
-/// The observed-sample reader: CSV with named columns in any order and comments; clear errors.
+/// The observed-sample reader: CSV with named columns in any order and comments; clear errors,
+/// each naming the file and the line (src/stats/sample.rs has the detailed cases).
 #[test]
 fn observed_sample_parsing() {
+    let opts = SampleOptions::default();
+    let parse = |text: &str| ObservedSample::parse_csv(text, "s.csv", &opts);
     let ok = "# invented\nid,t_quench_lookback_gyr,t_quench_err_gyr,mstar_msun,r_gc_kpc,v_r_kms\nA,10.5,0.8,3e5,60,-40\n";
-    let s = ObservedSample::parse_csv(ok).unwrap();
-    assert_eq!(s.objects.len(), 1);
-    assert_eq!(s.objects[0].mstar_msun, 3e5);
+    let s = parse(ok).unwrap();
+    assert_eq!(s.sample.objects.len(), 1);
+    assert_eq!(s.sample.objects[0].mstar_msun, 3e5);
+    assert!(s.notes.is_empty());
+    // an unknown column is ignored with a note
+    let extra = ok
+        .replace("v_r_kms\n", "v_r_kms,colour\n")
+        .replace("-40\n", "-40,red\n");
+    assert_eq!(
+        parse(&extra).unwrap().notes,
+        vec!["s.csv: ignoring column colour".to_string()]
+    );
     for (text, want) in [
-        ("id,mass\nA,1\n", "unknown column `mass`"),
+        (
+            "id,mass\nA,1\n",
+            "s.csv: line 1 (header): missing column `mstar_msun`",
+        ),
         (
             "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr\nA,1,2,3,4\n",
-            "missing column `t_quench_err_gyr`",
+            "s.csv: line 1 (header): missing column `t_quench_err_gyr`",
         ),
         (
             "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1,2,x,4,1\n",
-            "v_r_kms = `x`",
+            "s.csv: line 2: v_r_kms = `x`",
         ),
         (
             "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1,2,3\n",
-            "4 fields",
+            "s.csv: line 2: 4 fields",
         ),
     ] {
-        let e = ObservedSample::parse_csv(text).unwrap_err();
+        let e = parse(text).unwrap_err();
         assert!(e.contains(want), "{text:?}: {e}");
     }
     // every problem at once: a value that is not a number, a short line and values out of
     // range on other lines
-    let e = ObservedSample::parse_csv(
+    let e = parse(
         "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,20,1\nB,1e6,x,10,2,1\nC,1e6,50,10,2,-1\nD,1\n",
     )
     .unwrap_err();
     for want in [
-        "t_quench_lookback_gyr = 20",
-        "`A`",
-        "r_gc_kpc = `x` is not a number",
-        "`C`: t_quench_err_gyr = -1",
-        "line 5: 2 fields",
+        "s.csv: line 2: object `A`: t_quench_lookback_gyr = 20",
+        "s.csv: line 3: r_gc_kpc = `x` is not a number",
+        "s.csv: line 4: object `C`: t_quench_err_gyr = -1",
+        "s.csv: line 5: 2 fields",
     ] {
         assert!(e.contains(want), "{want}: {e}");
     }
     assert_eq!(e.lines().count(), 4, "{e}");
     // NaN reads as a number in CSV and TOML, and is out of every range
-    let e = ObservedSample::parse_csv(
+    let e = parse(
         "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,nan,10,2,1\n",
     )
     .unwrap_err();
     assert!(e.contains("`A`: r_gc_kpc = NaN"), "{e}");
-    // the TOML form names every bad key at once, each with the file
+    // the TOML form names every bad key at once, each with the file and its line
     let d = tempfile::tempdir().unwrap();
     let f = d.path().join("s.toml");
     std::fs::write(
@@ -353,9 +368,11 @@ fn observed_sample_parsing() {
          t_quench_err_gyr = 1\n",
     )
     .unwrap();
-    let e = ObservedSample::from_file(&f).unwrap_err();
+    let e = ObservedSample::read(&f, &opts).unwrap_err();
+    let name = f.display().to_string();
     assert!(
-        e.contains("object[0].colour = 3") && e.contains("object[1].mstar_msun"),
+        e.contains(&format!("{name}: line 8: object[0].colour = 3"))
+            && e.contains(&format!("{name}: line 12: object[1].mstar_msun")),
         "{e}"
     );
     assert_eq!(e.lines().count(), 2, "{e}");
