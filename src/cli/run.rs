@@ -683,8 +683,7 @@ fn analyse(
         &summary,
     )
     .map_err(|e| CliError::Failed(e.into()))?;
-    let figs = retinue::report::figures::write_figures(&dir, &res, &fig, &grid.theories)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
+    let figs = figures(grid, &dir, &res, &fig, sample)?;
     eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
     println!("store:   {}", store.display());
     println!("report:  {}", dir.join("report.md").display());
@@ -697,15 +696,30 @@ fn analyse(
             .collect::<Vec<_>>()
             .join(", ")
     );
-    println!(
-        "figures: {}",
-        figs.iter()
-            .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
-            .collect::<Vec<_>>()
-            .join(", ")
-    );
+    println!("figures: {}", retinue::report::figures::listing(&figs));
     headline(&res);
     Ok(res)
+}
+
+/// Draw the figures of a run (PNG and SVG) with what they need from its configuration and
+/// sample; returns the files written.
+fn figures(
+    grid: &Grid,
+    dir: &Path,
+    res: &AnalysisResults,
+    fig: &retinue::stats::compact::FigureData,
+    sample: Option<&ObservedSample>,
+) -> Result<Vec<PathBuf>, CliError> {
+    let cfg = &grid.config.file;
+    let inputs = retinue::report::figures::FigureInputs {
+        theories: &grid.theories,
+        sample,
+        tests: &cfg.tests,
+        orbits: &cfg.orbits,
+        resolution_msun: cfg.trees.resolution_msun,
+    };
+    retinue::report::figures::write_figures(dir, res, fig, &inputs)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))
 }
 
 fn report_dir(store: &Path) -> PathBuf {
@@ -967,15 +981,16 @@ pub fn merge(a: MergeArgs) -> Result<(), CliError> {
 
 #[derive(Debug, Args)]
 #[command(
-    after_help = "Example:\n  retinue plot run.h5 --out figures/\n\nDraws the figures of a store (probability curves with bands, infall-time distributions,\npericentres, subhalo mass function, radial distribution, dependence on host mass) with the\nstored configuration."
+    after_help = "Example:\n  retinue plot run.h5 --out figures/\n\nDraws the figures of a store as PNG and SVG (probability curves with bands, fraction-of-N,\nquenching delay and phase-space matches against the sample, infall-time distributions,\npericentres, subhalo mass function, radial distribution, backsplash by shell, dependence on\nhost mass) with the stored configuration."
 )]
 pub struct PlotArgs {
     /// A run store.
     pub store: PathBuf,
-    /// Directory for the PNG files (default: NAME-report next to the store).
+    /// Directory for the PNG and SVG files (default: NAME-report next to the store).
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Observed sample (CSV or TOML), for the sample's N; default: the run's sample (looked
+    /// Observed sample (CSV or TOML), for the sample's N, its tests and its markers on the
+    /// figures; default: the run's sample (looked
     /// for in the run's configuration directory, next to the store, then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
@@ -1130,8 +1145,7 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
-    let figs = retinue::report::figures::write_figures(&dir, &res, &fig, &grid.theories)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))?;
+    let figs = figures(&grid, &dir, &res, &fig, sample.as_ref())?;
     for f in figs {
         println!("{}", f.display());
     }

@@ -30,6 +30,52 @@ pub struct FigureData {
     /// selection's radius range when that reaches beyond R_vir (`for_selection`).
     pub r_over_rvir: Binned,
     pub n_hosts: usize,
+    /// The hosts' virial masses (Msun) and radii (kpc) today: smallest, largest and the sum of
+    /// log10 (for the geometric mean), to put the tree resolution on the mass function and
+    /// the observed distances on the radial distribution.
+    pub host_m_vir_msun: HostRange,
+    pub host_r_vir_kpc: HostRange,
+}
+
+/// Smallest, largest and geometric mean of a positive quantity over hosts, accumulated one
+/// host at a time (memory does not grow with the number of hosts).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HostRange {
+    pub min: f64,
+    pub max: f64,
+    pub log10_sum: f64,
+    pub n: usize,
+}
+
+impl Default for HostRange {
+    fn default() -> Self {
+        Self {
+            min: f64::INFINITY,
+            max: f64::NEG_INFINITY,
+            log10_sum: 0.0,
+            n: 0,
+        }
+    }
+}
+
+impl HostRange {
+    pub fn add(&mut self, v: f64) {
+        if v > 0.0 && v.is_finite() {
+            self.min = self.min.min(v);
+            self.max = self.max.max(v);
+            self.log10_sum += v.log10();
+            self.n += 1;
+        }
+    }
+
+    /// The geometric mean; NaN without hosts.
+    pub fn geometric_mean(&self) -> f64 {
+        if self.n == 0 {
+            f64::NAN
+        } else {
+            10f64.powf(self.log10_sum / self.n as f64)
+        }
+    }
 }
 
 impl Default for FigureData {
@@ -39,6 +85,8 @@ impl Default for FigureData {
             log_mass_ratio: Binned::new(-7.0, 0.0, 70),
             r_over_rvir: Binned::new(0.0, 1.0, 50),
             n_hosts: 0,
+            host_m_vir_msun: HostRange::default(),
+            host_r_vir_kpc: HostRange::default(),
         }
     }
 }
@@ -187,6 +235,8 @@ pub fn for_each_chunk_where(
             out.host_backsplash_count.push(n_bs);
             out.offset.push(out.branch.len());
             fig.n_hosts += 1;
+            fig.host_m_vir_msun.add(c.host_m_vir_msun[h]);
+            fig.host_r_vir_kpc.add(c.host_r_vir_kpc[h]);
         }
         if out.n_hosts() > 0 {
             f(out);

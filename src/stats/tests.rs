@@ -67,7 +67,8 @@ impl Default for MatchWindows {
 pub struct TestOptions {
     pub selection: Selection,
     pub preprocessing: PreprocessingThreshold,
-    /// Redshift grid of the probability curves.
+    /// Redshift grid of the probability curves (default `default_z_grid`: fine at low z,
+    /// where a step in z is a long step in lookback time).
     pub z_grid: Vec<f64>,
     /// N of all-of-N (default: the observed sample's size, else 11).
     pub n_draw: Option<usize>,
@@ -86,12 +87,25 @@ pub struct TestOptions {
     pub backsplash: BacksplashOptions,
 }
 
+/// The default redshift grid of the probability curves: steps of 0.05 below z = 1, 0.1 up to
+/// z = 2 and 0.25 up to z = 6 (47 redshifts). A step of 0.05 near z = 0 is 0.7 Gyr of
+/// lookback time (the old grid's 0.25 was 3 Gyr, and drew the lookback curve as a straight
+/// line over its first 3 Gyr); the steps grow with z as the lookback time flattens. Each
+/// value is a ratio of integers, so 0.15 is the double nearest 0.15 and the tables print it
+/// as such; 1, 2, 3 and 4 (the report's redshifts) are on the grid.
+pub fn default_z_grid() -> Vec<f64> {
+    let fine = (0..20).map(|i| i as f64 / 20.0);
+    let mid = (10..20).map(|i| i as f64 / 10.0);
+    let coarse = (8..=24).map(|i| i as f64 / 4.0);
+    fine.chain(mid).chain(coarse).collect()
+}
+
 impl Default for TestOptions {
     fn default() -> Self {
         Self {
             selection: Selection::default(),
             preprocessing: PreprocessingThreshold::default(),
-            z_grid: (0..=24).map(|i| 0.25 * i as f64).collect(),
+            z_grid: default_z_grid(),
             n_draw: None,
             draws: 10_000,
             fraction: 0.75,
@@ -871,5 +885,41 @@ pub fn run_tests_raw(
         backsplash_counts: counts,
         field_per_host,
         dependence_raw,
+    }
+}
+
+#[cfg(test)]
+mod grid_tests {
+    use super::default_z_grid;
+
+    /// Fine near z = 0 (no step longer than 0.05 below z = 1, so no lookback step longer than
+    /// about 0.7 Gyr there), increasing, from 0 to 6, with the report's redshifts on it and
+    /// values that print as typed.
+    #[test]
+    fn default_z_grid_is_fine_at_low_z() {
+        let g = default_z_grid();
+        assert_eq!(g.len(), 47);
+        assert_eq!((g[0], *g.last().unwrap()), (0.0, 6.0));
+        assert!(g.windows(2).all(|w| w[1] > w[0]));
+        for w in g.windows(2) {
+            let step = w[1] - w[0];
+            let most = if w[0] < 1.0 - 1e-9 {
+                0.05
+            } else if w[0] < 2.0 - 1e-9 {
+                0.1
+            } else {
+                0.25
+            };
+            assert!(step <= most + 1e-12, "{w:?}");
+        }
+        for z in [0.5, 1.0, 2.0, 3.0, 4.0] {
+            assert!(g.contains(&z), "{z}");
+        }
+        let printed: Vec<String> = g.iter().map(|z| z.to_string()).collect();
+        assert!(printed.iter().all(|s| s.len() <= 4), "{printed:?}");
+        // lookback steps near z = 0 in Planck 2018: under 0.7 Gyr
+        let c = crate::cosmology::Cosmology::from_preset("planck18").unwrap();
+        let lb: Vec<f64> = g.iter().map(|&z| c.lookback_gyr(z)).collect();
+        assert!(lb.windows(2).take(20).all(|w| w[1] - w[0] < 0.7), "{lb:?}");
     }
 }

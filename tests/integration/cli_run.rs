@@ -1027,6 +1027,48 @@ fn shipped_configs_are_valid() {
     }
 }
 
+/// The figures on a run's `figures:` line ("a, b (each as .png and .svg)"): each exists in
+/// `dir` as a PNG and an SVG of more than a few kilobytes; the SVG is an `<svg>` document whose
+/// tags balance and whose text is SVG text (no font file needed to show it). Returns the
+/// names in order.
+fn check_listed_figures(out: &str, dir: &Path) -> Vec<String> {
+    let line = out
+        .lines()
+        .find_map(|l| l.strip_prefix("figures: "))
+        .unwrap_or_else(|| panic!("no figures line: {out}"));
+    let list = line
+        .strip_suffix(" (each as .png and .svg)")
+        .unwrap_or_else(|| panic!("{line}"));
+    let names: Vec<String> = list.split(", ").map(str::to_string).collect();
+    for n in &names {
+        let png = std::fs::read(dir.join(format!("{n}.png"))).unwrap();
+        assert!(png.starts_with(b"\x89PNG") && png.len() > 10_000, "{n}.png");
+        let svg = std::fs::read_to_string(dir.join(format!("{n}.svg"))).unwrap();
+        assert!(svg.len() > 3000, "{n}.svg: {} bytes", svg.len());
+        assert!(svg.trim_start().starts_with("<svg"), "{n}.svg");
+        assert!(svg.trim_end().ends_with("</svg>"), "{n}.svg");
+        assert!(svg.contains("<text"), "{n}.svg has no text");
+        // every element closed, in order (attribute values hold no '<' or '>')
+        let mut open: Vec<&str> = Vec::new();
+        let mut rest = svg.as_str();
+        while let Some(i) = rest.find('<') {
+            let j = rest[i..]
+                .find('>')
+                .unwrap_or_else(|| panic!("{n}.svg: unclosed tag"))
+                + i;
+            let tag = &rest[i + 1..j];
+            if let Some(name) = tag.strip_prefix('/') {
+                assert_eq!(open.pop(), Some(name.trim()), "{n}.svg");
+            } else if !tag.ends_with('/') && !tag.starts_with('?') && !tag.starts_with('!') {
+                open.push(tag.split_whitespace().next().unwrap_or(""));
+            }
+            rest = &rest[j + 1..];
+        }
+        assert!(open.is_empty(), "{n}.svg: unclosed {open:?}");
+    }
+    names
+}
+
 /// `infall` and `plot` on a store find the run's observed sample from any working directory:
 /// the store records the directory of the run's configuration, against which the stored
 /// relative paths are resolved (they used to stop with "run.sample ... file not found"
@@ -1043,12 +1085,31 @@ fn retest_a_store_from_anywhere() {
     let runs = d.path().join("runs");
     std::fs::create_dir_all(&runs).unwrap();
     let store = runs.join("out.h5");
-    run_ok(&[
+    let out = run_ok(&[
         "run",
         cfg.to_str().unwrap(),
         "--out",
         store.to_str().unwrap(),
     ]);
+    // with a sample every figure is drawn, each as PNG and SVG
+    let names = check_listed_figures(&out, &runs.join("out-report"));
+    assert_eq!(
+        names,
+        [
+            "all_of_n_vs_redshift",
+            "all_of_n_vs_lookback",
+            "fraction_of_n",
+            "quenching_delay",
+            "phase_space_matches",
+            "infall_times",
+            "pericentres",
+            "subhalo_mass_function",
+            "radial_distribution",
+            "backsplash_shells",
+            "dependence_on_host_mass",
+        ],
+        "{out}"
+    );
     // the working directory of the tests is the crate, neither the store's nor the config's
     let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
@@ -1068,6 +1129,18 @@ fn retest_a_store_from_anywhere() {
     ]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("all_of_n_vs_redshift.png"), "{out}");
+    // `plot` prints every file it wrote: both forms of each figure
+    for n in &names {
+        for ext in ["png", "svg"] {
+            let p = figs.join(format!("{n}.{ext}"));
+            assert!(out.lines().any(|l| Path::new(l) == p), "{n}.{ext}: {out}");
+            assert!(
+                std::fs::metadata(&p).unwrap().len() > 3000,
+                "{}",
+                p.display()
+            );
+        }
+    }
     // the sample moved next to the store: used, with a note naming it
     std::fs::rename(&sample, runs.join("sample.csv")).unwrap();
     let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
