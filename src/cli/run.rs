@@ -17,6 +17,8 @@ use retinue::stats::{AnalysisResults, ObservedSample, SampleOptions};
 
 const DEMO_CONFIG: &str = include_str!("../../configs/demo.toml");
 const DEMO_SAMPLE: &str = include_str!("../../demo-data/sample.csv");
+const DEMO_BRIGHT_SAMPLE: &str = include_str!("../../demo-data/bright-sample.csv");
+const DEMO_BRIGHT_TESTS: &str = include_str!("../../demo-data/bright-tests.toml");
 
 #[derive(Debug, Args)]
 #[command(
@@ -697,7 +699,7 @@ fn analyse(
             .join(", ")
     );
     println!("figures: {}", retinue::report::figures::listing(&figs));
-    headline(&res);
+    headline(&res, &cfg.file.tests);
     Ok(res)
 }
 
@@ -730,7 +732,7 @@ fn report_dir(store: &Path) -> PathBuf {
     store.with_file_name(format!("{stem}-report"))
 }
 
-fn headline(res: &AnalysisResults) {
+fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
     println!();
     println!(
         "P(all {} fell in before z), mean over hosts [bootstrap 16-84%]",
@@ -770,6 +772,13 @@ fn headline(res: &AnalysisResults) {
                 format!("{tau:.2} Gyr")
             }
         );
+    }
+    let lines = retinue::report::conclusion_lines(res, o);
+    if !lines.is_empty() {
+        println!("conclusion: environment by");
+        for l in lines {
+            println!("  - {l}");
+        }
     }
     if !res.hosts_too_few.is_empty() {
         println!(
@@ -836,9 +845,17 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
     let cfg_path = a.out.join("demo.toml");
     let text = DEMO_CONFIG.replace("\"../demo-data/sample.csv\"", "\"sample.csv\"");
     let sample_path = a.out.join("sample.csv");
+    let bright_path = a.out.join("bright-sample.csv");
+    let bright_tests = a.out.join("bright-tests.toml");
+    let inputs = [
+        (&cfg_path, text.as_str()),
+        (&sample_path, DEMO_SAMPLE),
+        (&bright_path, DEMO_BRIGHT_SAMPLE),
+        (&bright_tests, DEMO_BRIGHT_TESTS),
+    ];
     // the demo's inputs replace only themselves (an earlier demo's), never a user's file of
     // the same name, unless --overwrite
-    for (p, content) in [(&cfg_path, text.as_str()), (&sample_path, DEMO_SAMPLE)] {
+    for (p, content) in inputs {
         if p.exists() && !a.overwrite && std::fs::read_to_string(p).ok().as_deref() != Some(content)
         {
             return Err(usage(format!(
@@ -850,20 +867,37 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
     }
     let out = a.out.join("demo.h5");
     guard_output(&out, &[], a.overwrite, true)?;
-    std::fs::write(&cfg_path, &text)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", cfg_path.display())))?;
-    std::fs::write(&sample_path, DEMO_SAMPLE)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))?;
+    for (p, content) in inputs {
+        std::fs::write(p, content)
+            .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", p.display())))?;
+    }
     let cfg = RunConfig::parse_str(&text, Some(&a.out)).map_err(usage)?;
     if out.exists() {
         std::fs::remove_file(&out)
             .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", out.display())))?;
     }
     println!(
-        "demo: inputs in {} (demo.toml, sample.csv)",
+        "demo: inputs in {} (demo.toml, sample.csv, bright-sample.csv, bright-tests.toml)",
         a.out.display()
     );
-    execute(cfg, &text, out, a.threads, Shard::WHOLE, true, None).map(|_| ())
+    println!("\n== 1. twelve faint satellites that stopped forming stars 10.6-12.9 Gyr ago ==");
+    let out = execute(cfg, &text, out, a.threads, Shard::WHOLE, true, None)?;
+    // the same hosts against the second sample, as `retinue infall` would test them
+    println!(
+        "\n== 2. six brighter satellites that stopped forming stars 1.4-5.7 Gyr ago \
+         (retinue infall {} --sample bright-sample.csv --config bright-tests.toml) ==",
+        out.display()
+    );
+    infall(InfallArgs {
+        store: out,
+        sample: Some(bright_path),
+        columns: None,
+        config: Some(bright_tests),
+        cells: Vec::new(),
+        name: Some("bright".into()),
+        out: Some(a.out.join("demo-bright-report")),
+        overwrite: true,
+    })
 }
 
 pub fn check(a: CheckArgs) -> Result<(), CliError> {

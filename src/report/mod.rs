@@ -319,6 +319,39 @@ fn comparison(
     let _ = writeln!(m);
 }
 
+/// The answer in words, one line per clock, from the quenching-delay test (needs a sample):
+/// whether infall by that clock can explain every observed object's quenching, and with what
+/// delay at most.
+pub fn conclusion_lines(res: &AnalysisResults, o: &TestOptions) -> Vec<String> {
+    let floor = 1.0 - o.confidence;
+    res.quench
+        .iter()
+        .map(|(clock, _, tau)| {
+            let what = match clock.name() {
+                "first_host_infall" => "first infall into the host",
+                "last_host_infall" => "the last infall into the host",
+                _ => "infall into any massive halo",
+            };
+            if tau.is_nan() {
+                format!(
+                    "{} ({}): cannot explain the sample: even with no delay, fewer than {:.0}% of the draws have every object falling in before it stopped forming stars",
+                    what,
+                    clock.name(),
+                    100.0 * floor
+                )
+            } else {
+                format!(
+                    "{} ({}): can explain the sample with a quenching delay (from infall to the end of star formation) of up to {:.2} Gyr; longer delays leave fewer than {:.0}% of the draws",
+                    what,
+                    clock.name(),
+                    tau,
+                    100.0 * floor
+                )
+            }
+        })
+        .collect()
+}
+
 fn at_z(c: &Curve, z: f64) -> Option<&Spread> {
     c.x.iter()
         .position(|&x| (x - z).abs() < 1e-9)
@@ -339,6 +372,18 @@ pub fn markdown(
     let sel = &res.selection;
     let _ = writeln!(m, "# Infall-time tests\n");
     let _ = writeln!(m, "{run_summary}\n");
+    let lines = conclusion_lines(res, o);
+    if !lines.is_empty() {
+        let _ = writeln!(m, "## Conclusion\n");
+        for l in lines {
+            let _ = writeln!(m, "- Environment by {l}.");
+        }
+        let _ = writeln!(
+            m,
+            "\n(From the quenching-delay test below, confidence {:.2}; it pairs the observed objects at random with satellites drawn from one host at a time.)\n",
+            o.confidence
+        );
+    }
     if cells.len() > 1 {
         comparison(&mut m, cells, labels, res);
     }

@@ -1707,3 +1707,41 @@ fn retests_keep_every_analysis() {
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("--name"), "{err}");
 }
+
+/// The demo answers both ways (issue: a newcomer could not tell a working tool from a broken
+/// one when every answer was "none"): three host masses, the faint ancient sample cannot be
+/// explained by infall into the host, the bright recent one can with a delay of a few Gyr;
+/// both reports state their conclusion and the store keeps both analyses.
+#[test]
+fn demo_answers_both_ways() {
+    let d = tempfile::tempdir().unwrap();
+    let dir = d.path().join("demo");
+    let out = run_ok(&["demo", "--out", dir.to_str().unwrap(), "--threads", "2"]);
+    let (faint, bright) = out.split_once("== 2.").expect("two parts");
+    let first = |text: &str| -> String {
+        text.lines()
+            .find(|l| l.contains("(first_host_infall):") && l.contains("explain"))
+            .unwrap_or_default()
+            .to_string()
+    };
+    assert!(first(faint).contains("cannot explain"), "{faint}");
+    let b = first(bright);
+    assert!(b.contains("can explain") && b.contains("up to"), "{bright}");
+    // the delay found lies within the sample's quenching times (1.4-5.7 Gyr ago)
+    let tau: f64 = b
+        .split("up to ")
+        .nth(1)
+        .and_then(|r| r.split(' ').next())
+        .and_then(|x| x.parse().ok())
+        .unwrap();
+    assert!(tau > 0.0 && tau < 6.0, "{b}");
+    for rep in ["demo-report", "demo-bright-report"] {
+        let md = std::fs::read_to_string(dir.join(rep).join("report.md")).unwrap();
+        assert!(md.contains("## Conclusion"), "{rep}");
+        assert!(md.contains("## Comparison of the grid's cells"), "{rep}");
+        assert!(md.contains("3 cells, 144 hosts"), "{rep}");
+    }
+    let f = hdf5::File::open(dir.join("demo.h5")).unwrap();
+    assert!(f.group("analysis/run/sample").is_ok());
+    assert!(f.group("analysis/bright/sample").is_ok());
+}
