@@ -685,7 +685,7 @@ fn analyse(
         &summary,
     )
     .map_err(|e| CliError::Failed(e.into()))?;
-    let figs = figures(grid, &dir, &res, &fig, sample)?;
+    let figs = figures(grid, &dir, &res, &fig, sample, &per_cell)?;
     eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
     println!("store:   {}", store.display());
     println!("report:  {}", dir.join("report.md").display());
@@ -711,10 +711,14 @@ fn figures(
     res: &AnalysisResults,
     fig: &retinue::stats::compact::FigureData,
     sample: Option<&ObservedSample>,
+    cells: &[retinue::stats::cells::CellResults],
 ) -> Result<Vec<PathBuf>, CliError> {
     let cfg = &grid.config.file;
+    let labels = cell_labels(grid);
     let inputs = retinue::report::figures::FigureInputs {
         theories: &grid.theories,
+        cells,
+        labels: Some(&labels),
         sample,
         tests: &cfg.tests,
         orbits: &cfg.orbits,
@@ -1175,11 +1179,11 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
     let cells = select_cells(&grid, &a.cells)?;
     let sample = sample.map(|(s, _)| s);
-    let (res, _, fig, _) = compute(&grid, &a.store, sample.as_ref(), cells.as_deref())?;
+    let (res, per_cell, fig, _) = compute(&grid, &a.store, sample.as_ref(), cells.as_deref())?;
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
-    let figs = figures(&grid, &dir, &res, &fig, sample.as_ref())?;
+    let figs = figures(&grid, &dir, &res, &fig, sample.as_ref(), &per_cell)?;
     for f in figs {
         println!("{}", f.display());
     }

@@ -48,6 +48,43 @@ const COLORS: [RGBColor; 6] = [
     RGBColor(148, 103, 189),
     RGBColor(140, 86, 75),
 ];
+
+/// Ten distinct colours (matplotlib's "tab10"), for grid cells.
+const CELL_COLORS: [RGBColor; 10] = [
+    RGBColor(31, 119, 180),
+    RGBColor(214, 39, 40),
+    RGBColor(44, 160, 44),
+    RGBColor(255, 127, 14),
+    RGBColor(148, 103, 189),
+    RGBColor(140, 86, 75),
+    RGBColor(227, 119, 194),
+    RGBColor(127, 127, 127),
+    RGBColor(188, 189, 34),
+    RGBColor(23, 190, 207),
+];
+
+/// Colour i of n distinct ones: tab10 up to ten, else n hues evenly spaced around the colour
+/// wheel (saturation 0.65, lightness 0.45), so no two cells share a colour.
+pub fn cell_color(i: usize, n: usize) -> RGBColor {
+    if n <= CELL_COLORS.len() {
+        return CELL_COLORS[i % CELL_COLORS.len()];
+    }
+    let h = i as f64 / n as f64 * 360.0;
+    let (s, l) = (0.65, 0.45);
+    let c = (1.0 - (2.0 * l - 1.0f64).abs()) * s;
+    let x = c * (1.0 - ((h / 60.0) % 2.0 - 1.0).abs());
+    let m = l - c / 2.0;
+    let (r, g, b) = match (h / 60.0) as u32 {
+        0 => (c, x, 0.0),
+        1 => (x, c, 0.0),
+        2 => (0.0, c, x),
+        3 => (0.0, x, c),
+        4 => (x, 0.0, c),
+        _ => (c, 0.0, x),
+    };
+    let to = |v: f64| ((v + m) * 255.0).round().clamp(0.0, 255.0) as u8;
+    RGBColor(to(r), to(g), to(b))
+}
 const GREY: RGBColor = RGBColor(90, 90, 90);
 /// The observed sample's marks on the probability curves.
 const MARKS: RGBColor = RGBColor(148, 103, 189);
@@ -71,6 +108,9 @@ type Res = Result<(), Box<dyn Error>>;
 /// disruption).
 pub struct FigureInputs<'a> {
     pub theories: &'a [LinearTheory],
+    /// Per-cell results (empty for a one-cell grid) and the cells' names.
+    pub cells: &'a [crate::stats::cells::CellResults],
+    pub labels: Option<&'a crate::report::CellLabels>,
     pub sample: Option<&'a ObservedSample>,
     pub tests: &'a TestOptions,
     pub orbits: &'a OrbitOptions,
@@ -787,29 +827,71 @@ impl Figure for LineFig {
     }
 }
 
-/// The median first-infall redshift of the selected satellites in each grid cell against the
-/// cell's median host mass: one line per cosmology, a marker per cell. (The all-of-N
-/// probability at a fixed redshift, the other column of `dependence.csv`, is often 0 in every
-/// cell and would show nothing.)
-struct CellFig {
+/// The host-mass trend, a line per cosmology (named by its label) and a marker per grid
+/// cell: the median first-infall redshift of the selected satellites (left) and P(all N fell
+/// in before z = 1) on the first-infall clock with its bootstrap 16–84% interval as error bars
+/// (right; only with several cells).
+struct CellFig<'a> {
     /// (cosmology index, median host mass, median first-infall z) of cells with hosts.
     pts: Vec<(u16, f64, f64)>,
+    /// (cosmology index, median host mass, P at z = 1 with its spread) per cell.
+    probs: Vec<(u16, f64, Spread)>,
+    labels: Option<&'a crate::report::CellLabels>,
+    n_draw: usize,
 }
 
-impl CellFig {
-    fn new(cells: &[(u16, u16, usize, f64, f64, f64)]) -> Self {
+impl<'a> CellFig<'a> {
+    fn new(
+        res: &AnalysisResults,
+        cells: &[crate::stats::cells::CellResults],
+        labels: Option<&'a crate::report::CellLabels>,
+    ) -> Self {
+        let pts: Vec<(u16, f64, f64)> = res
+            .dependence
+            .iter()
+            .filter(|d| d.3 > 0.0 && d.4.is_finite())
+            .map(|d| (d.0, d.3, d.4))
+            .collect();
+        let probs = cells
+            .iter()
+            .filter_map(|c| {
+                let mass = res
+                    .dependence
+                    .iter()
+                    .find(|d| d.0 == c.cosmology && d.1 == c.mass_bin)
+                    .map(|d| d.3)?;
+                let (_, cv) = c
+                    .results
+                    .all_of_n_mc
+                    .iter()
+                    .find(|(k, _)| *k == Clock::FirstHostInfall)?;
+                let k = cv.x.iter().position(|&z| (z - 1.0).abs() < 1e-9)?;
+                Some((c.cosmology, mass, cv.spread[k]))
+            })
+            .filter(|p| p.1 > 0.0 && p.2.mean.is_finite())
+            .collect();
         Self {
-            pts: cells
-                .iter()
-                .filter(|d| d.3 > 0.0 && d.4.is_finite())
-                .map(|d| (d.0, d.3, d.4))
-                .collect(),
+            pts,
+            probs,
+            labels,
+            n_draw: res.n_draw,
         }
     }
-}
 
-impl Figure for CellFig {
-    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Res
+    fn name(&self, c: u16) -> String {
+        self.labels
+            .and_then(|l| l.cosmologies.get(c as usize).cloned())
+            .unwrap_or_else(|| format!("cosmology {c}"))
+    }
+
+    fn cosmologies(&self) -> Vec<u16> {
+        let mut v: Vec<u16> = self.pts.iter().map(|p| p.0).collect();
+        v.sort_unstable();
+        v.dedup();
+        v
+    }
+
+    fn draw_z<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Res
     where
         DB::ErrorType: 'static,
     {
@@ -819,9 +901,9 @@ impl Figure for CellFig {
             .fold((f64::INFINITY, 0.0f64), |a, p| (a.0.min(p.1), a.1.max(p.1)));
         let z1 = pts.iter().fold(0.0f64, |a, p| a.max(p.2));
         let title = if pts.len() == 1 {
-            "median first-infall z of the selected satellites (one grid cell)"
+            "median first-infall z (one grid cell)"
         } else {
-            "median first-infall z of the selected satellites by grid cell"
+            "median first-infall z by grid cell"
         };
         let mut ch = chart(root, title, 70)
             .build_cartesian_2d((m0 / 1.5..m1 * 1.5).log_scale(), 0.0..(z1 * 1.15).max(1.0))?;
@@ -830,11 +912,9 @@ impl Figure for CellFig {
             "median host mass (Msun)",
             "median first-infall redshift",
         )?;
-        let mut cosmos: Vec<u16> = pts.iter().map(|p| p.0).collect();
-        cosmos.sort_unstable();
-        cosmos.dedup();
+        let cosmos = self.cosmologies();
         for (k, c) in cosmos.iter().enumerate() {
-            let col = COLORS[k % COLORS.len()];
+            let col = cell_color(k, cosmos.len());
             let mut line: Vec<(f64, f64)> = pts
                 .iter()
                 .filter(|p| p.0 == *c)
@@ -842,7 +922,7 @@ impl Figure for CellFig {
                 .collect();
             line.sort_by(|a, b| a.0.total_cmp(&b.0));
             ch.draw_series(line.iter().map(|&p| Circle::new(p, 5, col.filled())))?
-                .label(format!("cosmology {c}"))
+                .label(self.name(*c))
                 .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
             ch.draw_series(LineSeries::new(line, col.stroke_width(2)))?;
         }
@@ -850,6 +930,92 @@ impl Figure for CellFig {
             draw_legend(&mut ch, SeriesLabelPosition::UpperRight)?;
         }
         Ok(())
+    }
+
+    fn draw_p<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Res
+    where
+        DB::ErrorType: 'static,
+    {
+        let (m0, m1) = self
+            .probs
+            .iter()
+            .fold((f64::INFINITY, 0.0f64), |a, p| (a.0.min(p.1), a.1.max(p.1)));
+        let top = self
+            .probs
+            .iter()
+            .fold(0.0f64, |a, p| a.max(p.2.boot84).max(p.2.mean));
+        let title = format!("P(all {} fell in before z = 1), first infall", self.n_draw);
+        let mut ch = chart(root, &title, 70).build_cartesian_2d(
+            (m0 / 1.5..m1 * 1.5).log_scale(),
+            0.0..(top * 1.2).clamp(1e-3, 1.0),
+        )?;
+        draw_axes(
+            &mut ch,
+            "median host mass (Msun)",
+            "mean over hosts, bootstrap 16–84% bars",
+        )?;
+        let cosmos = self.cosmologies();
+        for (k, c) in cosmos.iter().enumerate() {
+            let col = cell_color(k, cosmos.len());
+            let mut line: Vec<(f64, Spread)> = self
+                .probs
+                .iter()
+                .filter(|p| p.0 == *c)
+                .map(|p| (p.1, p.2))
+                .collect();
+            line.sort_by(|a, b| a.0.total_cmp(&b.0));
+            ch.draw_series(line.iter().map(|(m, sp)| {
+                ErrorBar::new_vertical(*m, sp.boot16, sp.mean, sp.boot84, col.filled(), 10)
+            }))?
+            .label(self.name(*c))
+            .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
+            ch.draw_series(LineSeries::new(
+                line.iter().map(|(m, sp)| (*m, sp.mean)),
+                col.stroke_width(2),
+            ))?;
+        }
+        if cosmos.len() > 1 {
+            draw_legend(&mut ch, SeriesLabelPosition::UpperRight)?;
+        }
+        Ok(())
+    }
+}
+
+impl Figure for CellFig<'_> {
+    fn size(&self) -> (u32, u32) {
+        if self.probs.len() > 1 {
+            (SIZE.0 * 2, SIZE.1)
+        } else {
+            SIZE
+        }
+    }
+
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Res
+    where
+        DB::ErrorType: 'static,
+    {
+        if self.probs.len() > 1 {
+            let (l, r) = root.split_horizontally(SIZE.0);
+            self.draw_z(&l)?;
+            self.draw_p(&r)
+        } else {
+            self.draw_z(root)
+        }
+    }
+}
+
+/// The all-of-N curve of every grid cell on the first-infall clock, each with its bootstrap
+/// band, named "cosmology, host mass" (only with several cells).
+struct CellCurves<'a> {
+    panel: ProbPanel<'a>,
+}
+
+impl Figure for CellCurves<'_> {
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Res
+    where
+        DB::ErrorType: 'static,
+    {
+        self.panel.draw_on(root)
     }
 }
 
@@ -1422,9 +1588,48 @@ pub fn write_figures(
         )?;
     }
 
-    let cells = CellFig::new(&res.dependence);
+    let cells = CellFig::new(res, inp.cells, inp.labels);
     if !cells.pts.is_empty() {
         save(dir, "dependence_on_host_mass", &cells, &mut out)?;
+    }
+    if inp.cells.len() > 1 {
+        let n = inp.cells.len();
+        let series: Vec<ProbSeries> = inp
+            .cells
+            .iter()
+            .enumerate()
+            .filter_map(|(i, c)| {
+                let (_, cv) = c
+                    .results
+                    .all_of_n_mc
+                    .iter()
+                    .find(|(k, _)| *k == Clock::FirstHostInfall)?;
+                let name = match inp.labels {
+                    Some(l) => {
+                        let (a, b) = l.of(c.cosmology, c.mass_bin);
+                        format!("{a}, {b} Msun")
+                    }
+                    None => format!("cell ({}, {})", c.cosmology, c.mass_bin),
+                };
+                Some(ProbSeries {
+                    name,
+                    color: cell_color(i, n),
+                    x: cv.x.clone(),
+                    spread: &cv.spread,
+                    hosts_band: false,
+                })
+            })
+            .collect();
+        let panel = prob_panel(
+            format!(
+                "P(all {} fell in before z) by grid cell, first infall",
+                res.n_draw
+            ),
+            "redshift z",
+            floor,
+            series,
+        );
+        save(dir, "all_of_n_by_cell", &CellCurves { panel }, &mut out)?;
     }
     Ok(out)
 }
@@ -1442,6 +1647,27 @@ pub fn listing(files: &[PathBuf]) -> String {
 
 #[cfg(test)]
 mod tests {
+
+    /// Every cell has its own colour: tab10 up to ten cells, hues around the wheel beyond
+    /// (a sweep of 5 cosmologies x 4 masses has 20 distinct colours).
+    #[test]
+    fn cell_colours_are_distinct() {
+        for n in [1, 3, 5, 10, 11, 20, 60] {
+            let c: Vec<(u8, u8, u8)> = (0..n)
+                .map(|i| {
+                    let RGBColor(r, g, b) = cell_color(i, n);
+                    (r, g, b)
+                })
+                .collect();
+            for i in 0..n {
+                for j in 0..i {
+                    assert_ne!(c[i], c[j], "n = {n}: cells {i} and {j}");
+                }
+            }
+        }
+        assert_eq!(cell_color(0, 3), CELL_COLORS[0]);
+    }
+
     use super::*;
     use crate::report::short_number as tick;
 

@@ -1542,6 +1542,11 @@ fn sweeps_answer_per_cell() {
     }
     let md = std::fs::read_to_string(rep.join("report.md")).unwrap();
     assert!(md.contains("## Comparison of the grid's cells"), "{md}");
+    // the cells overlaid in figures, named by their labels
+    for fig in ["all_of_n_by_cell.svg", "dependence_on_host_mass.svg"] {
+        let svg = std::fs::read_to_string(rep.join(fig)).unwrap();
+        assert!(svg.contains("low s8"), "{fig} does not name the cell");
+    }
     assert!(md.contains("4 cells, 8 hosts"), "{md}");
     assert!(md.contains("| low s8 | 8e11 | 2 |"), "{md}");
     // the per-cell rows equal a test of that cell alone (first clock, exact mean column)
