@@ -12,7 +12,7 @@ use retinue::config::RunConfig;
 use retinue::io::store::{read_meta, StoreMeta};
 use retinue::report::{write_analysis_to_store, write_tables};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
-use retinue::stats::tests::{run_tests_raw, Merger};
+use retinue::stats::battery::{run_tests_raw, Merger};
 use retinue::stats::{AnalysisResults, ObservedSample, SampleOptions};
 
 const DEMO_CONFIG: &str = include_str!("../../configs/demo.toml");
@@ -1049,7 +1049,7 @@ pub struct PlotArgs {
 #[serde(deny_unknown_fields)]
 #[allow(dead_code)]
 struct RetestTables {
-    tests: Option<retinue::stats::tests::TestOptions>,
+    tests: Option<retinue::stats::battery::TestOptions>,
     galaxies: Option<retinue::galaxies::GalaxyOptions>,
     run: Option<RetestRun>,
     cosmology: Option<toml::Value>,

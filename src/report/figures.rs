@@ -20,9 +20,9 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use crate::linear::LinearTheory;
 use crate::orbits::OrbitOptions;
+use crate::stats::battery::{ShellResult, TestOptions};
 use crate::stats::compact::FigureData;
 use crate::stats::intervals::{Binned, Spread};
-use crate::stats::tests::{ShellResult, TestOptions};
 use crate::stats::{AnalysisResults, Clock, ObservedSample, Survival};
 
 static FONT: OnceLock<Result<(), String>> = OnceLock::new();

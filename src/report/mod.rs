@@ -8,8 +8,8 @@ use std::path::{Path, PathBuf};
 use crate::io::h5::{set_num_attr, set_str_attr};
 use crate::io::{AtomicPath, IoError};
 use crate::stats::backsplash::FieldModel;
+use crate::stats::battery::Curve;
 use crate::stats::intervals::Spread;
-use crate::stats::tests::Curve;
 use crate::stats::{AnalysisResults, ObservedSample, TestOptions};
 
 fn spread_header() -> &'static str {
@@ -633,7 +633,7 @@ pub fn write_analysis(
     set_num_attr(&bg, "fraction_boot84", res.backsplash_fraction.boot84)?;
     set_num_attr(&bg, "backsplash_per_host", res.backsplash_count_mean)?;
     set_num_attr(&bg, "field_expected_per_host", res.field_count_expected)?;
-    let col = |f: &dyn Fn(&crate::stats::tests::ShellResult) -> f64| -> Vec<f64> {
+    let col = |f: &dyn Fn(&crate::stats::battery::ShellResult) -> f64| -> Vec<f64> {
         res.backsplash_shells.iter().map(f).collect()
     };
     for (name, v) in [

@@ -3,8 +3,8 @@
 //! cosmology and per host mass as well as over all hosts. Each host is read on its own
 //! cosmology's clock (as in the pooled tests).
 
+use super::battery::{run_tests_raw, Merger};
 use super::catalog::Catalog;
-use super::tests::{run_tests_raw, Merger};
 use super::{AnalysisResults, ObservedSample, TestOptions};
 use crate::galaxies::GalaxyOptions;
 use crate::linear::LinearTheory;

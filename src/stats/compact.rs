@@ -6,12 +6,12 @@
 
 use std::path::Path;
 
+use super::battery::TestOptions;
 use super::catalog::Catalog;
 use super::clocks::{check_cosmology_indices, clock_times};
 use super::intervals::Binned;
 use super::sample::ObservedSample;
 use super::selection::Selection;
-use super::tests::TestOptions;
 use crate::cosmology::Cosmology;
 use crate::galaxies::GalaxyOptions;
 use crate::io::store::{n_hosts_in, read_catalog_range};

@@ -1,6 +1,7 @@
 //! Infall statistics: the tests users run on the mock hosts. See `docs/methods.md`.
 
 pub mod backsplash;
+pub mod battery;
 pub mod catalog;
 pub mod cells;
 pub mod census;
@@ -9,8 +10,8 @@ pub mod compact;
 pub mod draws;
 pub mod intervals;
 pub mod sample;
-pub mod tests;
 
+pub use battery::{run_tests, AnalysisResults, TestOptions};
 pub use catalog::Catalog;
 pub use census::{census, Companions, HostCensus};
 pub use clocks::{
@@ -19,6 +20,5 @@ pub use clocks::{
 pub use intervals::{spread, Spread};
 pub use sample::{ObservedObject, ObservedSample, SampleOptions, SampleRead};
 pub use selection::{Selection, Survival};
-pub use tests::{run_tests, AnalysisResults, TestOptions};
 
 pub mod selection;

@@ -412,7 +412,7 @@ fn chunked_tests_merge_to_the_whole() {
     let parts: Vec<_> = [(0, 7), (7, 20), (20, 30)]
         .iter()
         .map(|&(a, b)| {
-            retinue::stats::tests::run_tests_raw(
+            retinue::stats::battery::run_tests_raw(
                 std::slice::from_ref(&lt),
                 &GalaxyOptions::default(),
                 &cat.slice_hosts(a, b),
@@ -422,7 +422,7 @@ fn chunked_tests_merge_to_the_whole() {
             )
         })
         .collect();
-    let merged = retinue::stats::tests::merge_partials(parts, &opts, 5).unwrap();
+    let merged = retinue::stats::battery::merge_partials(parts, &opts, 5).unwrap();
     let key = |r: &retinue::stats::AnalysisResults| {
         format!(
             "{:?} {:?} {:?} {:?} {:?} {:?} {:?}",
