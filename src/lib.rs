@@ -23,6 +23,7 @@
 //! `h` appears only in cosmological parameters and in conversions whose names say so.
 //! Redshift is for input and output.
 
+pub mod analysis;
 pub mod config;
 pub mod constants;
 pub mod cosmology;

@@ -8,11 +8,10 @@ use std::time::Instant;
 use clap::Args;
 
 use super::CliError;
+use retinue::analysis::{self, report_dir, resolution_warning, AnalysisError, Target};
 use retinue::config::RunConfig;
 use retinue::io::store::{read_meta, StoreMeta};
-use retinue::report::{write_analysis_to_store, write_tables};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
-use retinue::stats::battery::{run_tests_raw, Merger};
 use retinue::stats::{AnalysisResults, ObservedSample, SampleOptions};
 
 const DEMO_CONFIG: &str = include_str!("../../configs/demo.toml");
@@ -402,208 +401,28 @@ fn execute(
     Ok(path)
 }
 
-/// What a store's tests return: pooled results, per-cell results (empty for a one-cell
-/// grid), the figure data and the number of hosts tested.
-type Computed = (
-    AnalysisResults,
-    Vec<retinue::stats::cells::CellResults>,
-    retinue::stats::compact::FigureData,
-    usize,
-);
+fn analysis_err(e: AnalysisError) -> CliError {
+    match e {
+        AnalysisError::Input(m) => CliError::Usage(m),
+        AnalysisError::Failed(m) => CliError::Failed(anyhow::anyhow!(m)),
+    }
+}
 
-/// Run the tests on a store, streaming it in host chunks, for the cells `cells` selects
-/// (None: all); with more than one cell in the grid, per cell as well as pooled.
-fn compute(
-    grid: &Grid,
+/// The run's stored configuration and sample (`retinue::analysis::stored_config`), its notes
+/// printed.
+fn stored_config(
+    meta: &StoreMeta,
     store: &Path,
-    sample: Option<&ObservedSample>,
-    cells: Option<&[(u16, u16)]>,
-) -> Result<Computed, CliError> {
-    let cfg = &grid.config;
-    // stream the store in chunks of hosts, test each chunk and fold it into running summaries:
-    // memory stays flat in the number of hosts
-    // each host is read on its own cosmology's clock (the store's hosts carry its index)
-    let cosmos: Vec<&retinue::Cosmology> = grid.theories.iter().map(|t| t.cosmology()).collect();
-    let mut merger = Merger::new(&cfg.file.tests, cfg.file.run.master_seed, false);
-    let n_cells = cells
-        .map(|c| c.len())
-        .unwrap_or(cfg.cosmologies.len() * cfg.mass_bins.len());
-    let mut per_cell =
-        retinue::stats::cells::CellMergers::new(&cfg.file.tests, cfg.file.run.master_seed);
-    let keep = |c: u16, m: u16| cells.is_none_or(|s| s.contains(&(c, m)));
-    let fig = retinue::stats::compact::for_each_chunk_where(
-        store,
-        &cfg.file.tests,
-        sample,
-        &cosmos,
-        &cfg.file.galaxies,
-        64,
-        &keep,
-        &mut |cat| {
-            merger.add(run_tests_raw(
-                &grid.theories,
-                &cfg.file.galaxies,
-                &cat,
-                &cfg.file.tests,
-                sample,
-                cfg.file.run.master_seed,
-            ));
-            if n_cells > 1 {
-                per_cell.add(&grid.theories, &cfg.file.galaxies, &cat, sample);
-            }
-        },
-    )
-    .map_err(|e| CliError::Failed(e.into()))?;
-    let n_hosts = fig.n_hosts;
-    let res = merger.finish().ok_or_else(|| {
-        CliError::Failed(anyhow::anyhow!(
-            "{}: the store has no hosts{}",
-            store.display(),
-            if cells.is_some() {
-                " in the selected cells"
-            } else {
-                ""
-            }
-        ))
-    })?;
-    Ok((res, per_cell.finish(), fig, n_hosts))
-}
-
-/// Names of the grid's cells.
-fn cell_labels(grid: &Grid) -> retinue::report::CellLabels {
-    retinue::report::CellLabels {
-        cosmologies: grid.config.cosmology_labels.clone(),
-        masses: grid.config.mass_bins.iter().map(|m| m.label()).collect(),
+    want_sample: bool,
+) -> Result<(RunConfig, Option<PathBuf>), CliError> {
+    let s = analysis::stored_config(meta, store, want_sample).map_err(analysis_err)?;
+    for n in &s.notes {
+        eprintln!("note: {n}");
     }
+    Ok((s.config, s.sample))
 }
 
-/// The cells `--cell` selects: each spec is `cosmology=LABEL`, `mass=MASS` or both,
-/// comma-separated; a host mass matches a fixed mass within 1% or a range's label exactly.
-/// None: every cell.
-fn select_cells(grid: &Grid, specs: &[String]) -> Result<Option<Vec<(u16, u16)>>, CliError> {
-    if specs.is_empty() {
-        return Ok(None);
-    }
-    let labels = cell_labels(grid);
-    let mut out: Vec<(u16, u16)> = Vec::new();
-    for spec in specs {
-        let (mut cos, mut mass) = (None, None);
-        for part in spec.split(',') {
-            match part.split_once('=') {
-                Some(("cosmology", v)) if !v.trim().is_empty() => cos = Some(v.trim().to_string()),
-                Some(("mass", v)) if !v.trim().is_empty() => mass = Some(v.trim().to_string()),
-                _ => {
-                    return Err(usage(format!(
-                        "--cell {spec:?}: expected cosmology=LABEL, mass=MASS or both, comma-separated (e.g. --cell cosmology=planck18,mass=1.2e12)"
-                    )))
-                }
-            }
-        }
-        let mass_ok = |mi: usize| match &mass {
-            None => true,
-            Some(v) => {
-                labels.masses[mi] == *v
-                    || match (v.parse::<f64>(), grid.config.mass_bins[mi]) {
-                        (Ok(x), retinue::config::MassBin::Fixed(m)) => (x / m - 1.0).abs() < 0.01,
-                        _ => false,
-                    }
-            }
-        };
-        let before = out.len();
-        for (ci, cl) in labels.cosmologies.iter().enumerate() {
-            if cos.as_ref().is_some_and(|c| c != cl) {
-                continue;
-            }
-            for mi in 0..labels.masses.len() {
-                if mass_ok(mi) && !out.contains(&(ci as u16, mi as u16)) {
-                    out.push((ci as u16, mi as u16));
-                }
-            }
-        }
-        if out.len() == before {
-            return Err(usage(format!(
-                "--cell {spec:?} matches no cell of this run; cosmologies: {}; host masses: {}",
-                labels
-                    .cosmologies
-                    .iter()
-                    .map(|l| format!("{l:?}"))
-                    .collect::<Vec<_>>()
-                    .join(", "),
-                labels.masses.join(", ")
-            )));
-        }
-    }
-    Ok(Some(out))
-}
-
-/// Where an analysis goes: its name in the store (`/analysis/NAME`) and its report directory.
-struct Target {
-    name: String,
-    dir: PathBuf,
-}
-
-impl Target {
-    /// The run's own analysis: `/analysis/run`, report in NAME-report next to the store.
-    fn of_run(store: &Path) -> Self {
-        Self {
-            name: "run".into(),
-            dir: report_dir(store),
-        }
-    }
-}
-
-/// `base` with the keys of `over` put in, recursively through tables (values of other types,
-/// arrays included, are replaced whole).
-fn merge_toml(base: &mut toml::Value, over: &toml::Value) {
-    match (base, over) {
-        (toml::Value::Table(b), toml::Value::Table(o)) => {
-            for (k, v) in o {
-                match b.get_mut(k) {
-                    Some(bv) => merge_toml(bv, v),
-                    None => {
-                        b.insert(k.clone(), v.clone());
-                    }
-                }
-            }
-        }
-        (b, o) => *b = o.clone(),
-    }
-}
-
-/// Settings `current` with the keys given in `over` replaced (see `merge_toml`).
-fn overlay<T>(current: &T, over: Option<&toml::Value>) -> Result<T, String>
-where
-    T: serde::Serialize + serde::de::DeserializeOwned,
-{
-    let mut v = toml::Value::try_from(current).map_err(|e| e.to_string())?;
-    if let Some(o) = over {
-        merge_toml(&mut v, o);
-    }
-    v.try_into().map_err(|e: toml::de::Error| e.to_string())
-}
-
-/// Seconds since 1970 as YYYYMMDD-HHMMSS (UTC; the civil-from-days algorithm of H. Hinnant,
-/// "chrono-Compatible Low-Level Date Algorithms").
-fn utc_stamp(secs: u64) -> String {
-    let days = (secs / 86_400) as i64;
-    let rem = secs % 86_400;
-    let z = days + 719_468;
-    let era = z.div_euclid(146_097);
-    let doe = z - era * 146_097;
-    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-    let mp = (5 * doy + 2) / 153;
-    let d = doy - (153 * mp + 2) / 5 + 1;
-    let m = if mp < 10 { mp + 3 } else { mp - 9 };
-    let y = yoe + era * 400 + i64::from(m <= 2);
-    format!(
-        "{y:04}{m:02}{d:02}-{:02}{:02}{:02}",
-        rem / 3600,
-        (rem / 60) % 60,
-        rem % 60
-    )
-}
-
+/// Run an analysis (`retinue::analysis::analyse`) and print where it went and its headline.
 fn analyse(
     grid: &Grid,
     store: &Path,
@@ -612,128 +431,30 @@ fn analyse(
     cells: Option<&[(u16, u16)]>,
     target: &Target,
 ) -> Result<AnalysisResults, CliError> {
-    let cfg = &grid.config;
     let t0 = Instant::now();
-    // N follows the sample unless the configuration sets it
-    let n_note = match (cfg.file.tests.n_draw, sample) {
-        (Some(n), Some(s)) if n != s.objects.len() => Some(format!(
-            "tests.n_draw = {n} is set in the configuration and differs from the sample's {} objects: the all-of-N and fraction-of-N tests draw {n}",
-            s.objects.len()
-        )),
-        _ => None,
-    };
-    if let Some(n) = &n_note {
+    let out =
+        analysis::analyse(grid, store, sample, sample_path, cells, target).map_err(analysis_err)?;
+    for n in &out.notes {
         eprintln!("note: {n}");
     }
-    let (res, per_cell, fig, n_hosts) = compute(grid, store, sample, cells)?;
-    let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
-    write_analysis_to_store(
-        store,
-        &res,
-        &retinue::report::AnalysisRecord {
-            name: &target.name,
-            tests_toml: &tests_toml,
-            sample: sample.zip(sample_path),
-        },
-    )
-    .map_err(|e| CliError::Failed(e.into()))?;
-    let dir = target.dir.clone();
-    let n_sub =
-        retinue::io::store::n_subhaloes_in(store).map_err(|e| CliError::Failed(e.into()))?;
-    let mut summary = format!(
-        "Store `{}`: {} hosts, {} subhaloes; master seed {}.",
-        store.display(),
-        n_hosts,
-        n_sub,
-        cfg.file.run.master_seed
-    );
-    summary.push_str(&format!(
-        "\n\nAnalysis `{}` (stored as `/analysis/{}`, with the settings below and the sample's rows): sample {}.",
-        target.name,
-        target.name,
-        match (sample, sample_path) {
-            (Some(s), Some(p)) => format!("`{}` ({} objects)", p.display(), s.objects.len()),
-            _ => "none (N = tests.n_draw; the quenching and matching tests are skipped)".into(),
-        }
-    ));
-    if let Some(n) = &n_note {
-        summary.push_str(&format!("\n\n**Note:** {n}."));
-    }
-    if let Some(w) = resolution_warning(grid) {
-        summary.push_str(&format!("\n\n**Warning:** {w}."));
-    }
-    if let Some(c) = cells {
-        let labels = cell_labels(grid);
-        summary.push_str(&format!(
-            "\n\nOnly the selected cells are tested (`--cell`): {}.",
-            c.iter()
-                .map(|&(ci, mi)| {
-                    let (a, b) = labels.of(ci, mi);
-                    format!("{a} at {b} Msun")
-                })
-                .collect::<Vec<_>>()
-                .join("; ")
-        ));
-    }
-    let files = write_tables(
-        &dir,
-        &res,
-        &per_cell,
-        &cell_labels(grid),
-        &cfg.file.tests,
-        sample,
-        &summary,
-    )
-    .map_err(|e| CliError::Failed(e.into()))?;
-    let figs = figures(grid, &dir, &res, &fig, sample, &per_cell)?;
     eprintln!("tests done in {:.1} s", t0.elapsed().as_secs_f64());
     println!("store:   {}", store.display());
-    println!("report:  {}", dir.join("report.md").display());
+    println!("report:  {}", out.report_dir.join("report.md").display());
     println!(
         "tables:  {}",
-        files
+        out.files
             .iter()
             .filter(|p| p.extension().map(|e| e == "csv").unwrap_or(false))
             .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
             .collect::<Vec<_>>()
             .join(", ")
     );
-    println!("figures: {}", retinue::report::figures::listing(&figs));
-    headline(&res, &cfg.file.tests);
-    Ok(res)
-}
-
-/// Draw the figures of a run (PNG and SVG) with what they need from its configuration and
-/// sample; returns the files written.
-fn figures(
-    grid: &Grid,
-    dir: &Path,
-    res: &AnalysisResults,
-    fig: &retinue::stats::compact::FigureData,
-    sample: Option<&ObservedSample>,
-    cells: &[retinue::stats::cells::CellResults],
-) -> Result<Vec<PathBuf>, CliError> {
-    let cfg = &grid.config.file;
-    let labels = cell_labels(grid);
-    let inputs = retinue::report::figures::FigureInputs {
-        theories: &grid.theories,
-        cells,
-        labels: Some(&labels),
-        sample,
-        tests: &cfg.tests,
-        orbits: &cfg.orbits,
-        resolution_msun: cfg.trees.resolution_msun,
-    };
-    retinue::report::figures::write_figures(dir, res, fig, &inputs)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!(e)))
-}
-
-fn report_dir(store: &Path) -> PathBuf {
-    let stem = store
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "run".into());
-    store.with_file_name(format!("{stem}-report"))
+    println!(
+        "figures: {}",
+        retinue::report::figures::listing(&out.figures)
+    );
+    headline(&out.results, &grid.config.file.tests);
+    Ok(out.results)
 }
 
 fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
@@ -989,15 +710,6 @@ fn writer_lock(target: &Path, command: &str) -> Result<retinue::io::lock::Writer
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))
 }
 
-/// The galaxy model's warning about the trees' resolution (`GalaxyOptions::resolution_warning`,
-/// magnitudes in the first cosmology).
-fn resolution_warning(grid: &Grid) -> Option<String> {
-    let cfg = &grid.config;
-    cfg.file
-        .galaxies
-        .resolution_warning(grid.theories[0].cosmology(), cfg.file.trees.resolution_msun)
-}
-
 /// "2 cosmologies x 1 host mass x 150 hosts" (the grid of a run).
 fn grid_shape(cfg: &RunConfig) -> String {
     let n = |k: usize, one: &str, many: &str| format!("{k} {}", if k == 1 { one } else { many });
@@ -1043,126 +755,6 @@ pub struct PlotArgs {
     pub columns: Option<BTreeMap<String, String>>,
 }
 
-/// What `infall --config FILE` takes from FILE; the other tables of a whole configuration
-/// are accepted and ignored (a table name that is not one of them is an error).
-#[derive(serde::Deserialize)]
-#[serde(deny_unknown_fields)]
-#[allow(dead_code)]
-struct RetestTables {
-    tests: Option<retinue::stats::battery::TestOptions>,
-    galaxies: Option<retinue::galaxies::GalaxyOptions>,
-    run: Option<RetestRun>,
-    cosmology: Option<toml::Value>,
-    host: Option<toml::Value>,
-    trees: Option<toml::Value>,
-    orbits: Option<toml::Value>,
-    survey: Option<toml::Value>,
-}
-
-#[derive(serde::Deserialize)]
-struct RetestRun {
-    sample: Option<PathBuf>,
-    sample_columns: Option<BTreeMap<String, String>>,
-    /// The run's other keys (ignored here).
-    #[serde(flatten)]
-    _other: toml::Table,
-}
-
-/// The configuration stored in a run's store, and the run's observed sample if it can still
-/// be found. Relative paths in the stored configuration are relative to the directory of the
-/// configuration file the run started from; the store records that directory, and they are
-/// resolved there first, then next to the store, then in the working directory. A sample
-/// found anywhere but its original place is named in a note; one found nowhere is reported
-/// and the tests that need it are skipped. With `want_sample` false (the caller has its own
-/// sample) the stored one is not looked for.
-fn stored_config(
-    meta: &StoreMeta,
-    store: &Path,
-    want_sample: bool,
-) -> Result<(RunConfig, Option<PathBuf>), CliError> {
-    let store_dir = store
-        .parent()
-        .filter(|d| !d.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let recorded = Some(PathBuf::from(&meta.config_dir)).filter(|d| d.is_dir());
-    let mut bases: Vec<PathBuf> = recorded.iter().cloned().collect();
-    for d in [store_dir, Path::new(".")] {
-        if !bases.iter().any(|b| b == d) {
-            bases.push(d.to_path_buf());
-        }
-    }
-    let mut table: toml::Table = meta.config_toml.parse().map_err(|e| {
-        usage(format!(
-            "{}: the stored configuration is not valid TOML: {e}",
-            store.display()
-        ))
-    })?;
-    let stored_sample = table
-        .get_mut("run")
-        .and_then(|r| r.as_table_mut())
-        .and_then(|r| r.remove("sample"))
-        .and_then(|v| v.as_str().map(PathBuf::from));
-    let text = table.to_string();
-    let mut first_err = None;
-    let mut cfg = None;
-    for base in &bases {
-        match RunConfig::parse_str(&text, Some(base)) {
-            Ok(c) => {
-                cfg = Some(c);
-                break;
-            }
-            Err(e) => {
-                first_err.get_or_insert(e);
-            }
-        }
-    }
-    let cfg = match (cfg, first_err) {
-        (Some(c), _) => c,
-        (None, Some(e)) => return Err(usage(e)),
-        (None, None) => unreachable!("there is always a base to try"),
-    };
-    let sample = stored_sample.filter(|_| want_sample).and_then(|rel| {
-        let places: Vec<PathBuf> = if rel.is_relative() {
-            bases.iter().map(|b| b.join(&rel)).collect()
-        } else {
-            vec![rel.clone()]
-        };
-        match places.iter().position(|p| p.is_file()) {
-            Some(k) => {
-                if k > 0 || recorded.is_none() {
-                    eprintln!(
-                        "note: using the observed sample {} (the run's `run.sample = {}`; the \
-                         run's configuration directory is {})",
-                        places[k].display(),
-                        rel.display(),
-                        match (&recorded, meta.config_dir.is_empty()) {
-                            (Some(d), _) => d.display().to_string(),
-                            (None, true) => "not recorded in this store".to_string(),
-                            (None, false) => format!("{}, which no longer exists", meta.config_dir),
-                        }
-                    );
-                }
-                Some(places[k].clone())
-            }
-            None => {
-                eprintln!(
-                    "note: the run's observed sample ({}) is not at {}; the tests that need a \
-                     sample are skipped, and all-of-N uses tests.n_draw or else N = 11 instead \
-                     of the sample's size (give the sample with --sample)",
-                    rel.display(),
-                    places
-                        .iter()
-                        .map(|p| p.display().to_string())
-                        .collect::<Vec<_>>()
-                        .join(" or ")
-                );
-                None
-            }
-        }
-    });
-    Ok((cfg, sample))
-}
-
 pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
     let (cfg, run_sample) = stored_config(&meta, &a.store, a.sample.is_none())?;
@@ -1177,13 +769,22 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let grid = Grid::new(cfg).map_err(run_err)?;
     // whole tables, each host once (a shard is drawn as it is)
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
-    let cells = select_cells(&grid, &a.cells)?;
+    let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
     let sample = sample.map(|(s, _)| s);
-    let (res, per_cell, fig, _) = compute(&grid, &a.store, sample.as_ref(), cells.as_deref())?;
+    let c = analysis::compute(&grid, &a.store, sample.as_ref(), cells.as_deref())
+        .map_err(analysis_err)?;
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
     std::fs::create_dir_all(&dir)
         .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
-    let figs = figures(&grid, &dir, &res, &fig, sample.as_ref(), &per_cell)?;
+    let figs = analysis::figures(
+        &grid,
+        &dir,
+        &c.results,
+        &c.figure_data,
+        sample.as_ref(),
+        &c.cells,
+    )
+    .map_err(analysis_err)?;
     for f in figs {
         println!("{}", f.display());
     }
@@ -1197,63 +798,12 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let mut run_columns = cfg.file.run.sample_columns.clone();
     if let Some(p) = &a.config {
         // only the [tests] and [galaxies] tables (and run.sample, run.sample_columns) come
-        // from --config: the cosmologies and everything else that made the store stay those
-        // of the run. The file may hold just those tables, or be a whole configuration whose
-        // other tables are ignored.
-        let text =
-            std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
-        let (retest, mut problems) =
-            retinue::config::parse_collecting::<RetestTables>(&text, &p.display().to_string());
-        let Some(retest) = retest else {
-            return Err(usage(retinue::config::ConfigProblems(problems)));
-        };
-        // the keys FILE gives replace the stored ones, table by table and key by key; every
-        // other key keeps the run's value (a partial [tests.selection] changes only its keys)
-        let given: toml::Table = toml::from_str(&text).unwrap_or_default();
-        if retest.tests.is_some() {
-            cfg.file.tests = overlay(&cfg.file.tests, given.get("tests"))
-                .map_err(|e| usage(format!("{}: [tests]: {e}", p.display())))?;
-        }
-        if retest.galaxies.is_some() {
-            cfg.file.galaxies = overlay(&cfg.file.galaxies, given.get("galaxies"))
-                .map_err(|e| usage(format!("{}: [galaxies]: {e}", p.display())))?;
-        }
-        problems.extend(cfg.file.tests.problems("tests."));
-        problems.extend(cfg.file.galaxies.problems("galaxies."));
-        let (file_sample, file_columns) = match retest.run {
-            Some(r) => (r.sample, r.sample_columns),
-            None => (None, None),
-        };
-        for (name, col, why) in retinue::stats::sample::column_map_problems(
-            file_columns.as_ref().unwrap_or(&BTreeMap::new()),
-        ) {
-            problems.push(retinue::error::InvalidValue::new(
-                format!("run.sample_columns.{name}"),
-                format!("{col:?}"),
-                format!("{why} (in {})", p.display()),
-            ));
-        }
-        // FILE's mapping goes with FILE's sample (the run's own sample is not read with
-        // --config)
-        run_columns = file_columns.unwrap_or_default();
-        // (a sample given with --sample replaces FILE's: FILE's need not exist then)
-        if let Some(sp) = file_sample.filter(|_| a.sample.is_none()) {
-            let sp = if sp.is_relative() {
-                p.parent().unwrap_or(Path::new(".")).join(sp)
-            } else {
-                sp
-            };
-            if !sp.is_file() {
-                problems.push(retinue::error::InvalidValue::new(
-                    "run.sample",
-                    sp.display(),
-                    format!("file not found (named in {})", p.display()),
-                ));
-            }
-            run_sample = Some(sp);
-        }
-        if !problems.is_empty() {
-            return Err(usage(retinue::config::ConfigProblems(problems)));
+        // from --config, key by key; everything that made the store stays the run's
+        let r = analysis::retest_config(cfg, p, a.sample.is_some()).map_err(analysis_err)?;
+        cfg = r.config;
+        run_columns = r.sample_columns;
+        if r.sample.is_some() {
+            run_sample = r.sample;
         }
     }
     let read = retest_sample(
@@ -1297,7 +847,7 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
             format!(
                 "{}-{}",
                 stem.chars().take(40).collect::<String>(),
-                utc_stamp(secs)
+                analysis::utc_stamp(secs)
             )
         }
     };
@@ -1354,7 +904,7 @@ pub fn infall(a: InfallArgs) -> Result<(), CliError> {
             meta.n_hosts_total
         );
     }
-    let cells = select_cells(&grid, &a.cells)?;
+    let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
     analyse(
         &grid,
         &a.store,

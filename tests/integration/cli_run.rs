@@ -1107,6 +1107,8 @@ fn retest_a_store_from_anywhere() {
             "radial_distribution",
             "backsplash_shells",
             "dependence_on_host_mass",
+            // two host masses: the cells overlaid
+            "all_of_n_by_cell",
         ],
         "{out}"
     );

@@ -1,0 +1,601 @@
+//! Analyses of a store, for the command line and for library users alike: the tests run on
+//! a store's hosts (pooled and per grid cell), the analysis written into the store under its
+//! name with its settings and sample, the report's tables and figures; the run's
+//! configuration read back from a store; the selection of grid cells; and the overlay of
+//! re-test settings on the stored ones. Nothing here prints: notes are returned.
+
+use std::path::{Path, PathBuf};
+
+use crate::config::RunConfig;
+use crate::io::store::StoreMeta;
+use crate::report::{write_analysis_to_store, write_tables, AnalysisRecord, CellLabels};
+use crate::run::Grid;
+use crate::stats::battery::{run_tests_raw, Merger};
+use crate::stats::cells::{CellMergers, CellResults};
+use crate::stats::compact::{for_each_chunk_where, FigureData};
+use crate::stats::{AnalysisResults, ObservedSample};
+use crate::Cosmology;
+
+/// What can go wrong in an analysis: bad input (a selection, a stored configuration) or a
+/// failure reading or writing.
+#[derive(Debug, thiserror::Error)]
+pub enum AnalysisError {
+    #[error("{0}")]
+    Input(String),
+    #[error("{0}")]
+    Failed(String),
+}
+
+/// What an analysis produced: pooled and per-cell results, the report directory, the tables
+/// and figures written, and notes for the user (e.g. an n_draw that differs from the sample).
+pub struct Outcome {
+    pub results: AnalysisResults,
+    pub cells: Vec<CellResults>,
+    pub report_dir: PathBuf,
+    pub files: Vec<PathBuf>,
+    pub figures: Vec<PathBuf>,
+    pub notes: Vec<String>,
+}
+
+/// A run's configuration read back from its store, the run's sample if it can be found, and
+/// notes about where it was found.
+pub struct StoredConfig {
+    pub config: RunConfig,
+    pub sample: Option<PathBuf>,
+    pub notes: Vec<String>,
+}
+
+/// What a store's tests return: pooled results, per-cell results (empty for a one-cell
+/// grid), the figure data and the number of hosts tested.
+pub struct Computed {
+    pub results: AnalysisResults,
+    pub cells: Vec<CellResults>,
+    pub figure_data: FigureData,
+    pub n_hosts: usize,
+}
+
+/// Run the tests on a store, streaming it in host chunks, for the cells `cells` selects
+/// (None: all); with more than one cell in the grid, per cell as well as pooled.
+pub fn compute(
+    grid: &Grid,
+    store: &Path,
+    sample: Option<&ObservedSample>,
+    cells: Option<&[(u16, u16)]>,
+) -> Result<Computed, AnalysisError> {
+    let cfg = &grid.config;
+    // stream the store in chunks of hosts, test each chunk and fold it into running summaries:
+    // memory stays flat in the number of hosts
+    // each host is read on its own cosmology's clock (the store's hosts carry its index)
+    let cosmos: Vec<&Cosmology> = grid.theories.iter().map(|t| t.cosmology()).collect();
+    let mut merger = Merger::new(&cfg.file.tests, cfg.file.run.master_seed, false);
+    let n_cells = cells
+        .map(|c| c.len())
+        .unwrap_or(cfg.cosmologies.len() * cfg.mass_bins.len());
+    let mut per_cell = CellMergers::new(&cfg.file.tests, cfg.file.run.master_seed);
+    let keep = |c: u16, m: u16| cells.is_none_or(|s| s.contains(&(c, m)));
+    let fig = for_each_chunk_where(
+        store,
+        &cfg.file.tests,
+        sample,
+        &cosmos,
+        &cfg.file.galaxies,
+        64,
+        &keep,
+        &mut |cat| {
+            merger.add(run_tests_raw(
+                &grid.theories,
+                &cfg.file.galaxies,
+                &cat,
+                &cfg.file.tests,
+                sample,
+                cfg.file.run.master_seed,
+            ));
+            if n_cells > 1 {
+                per_cell.add(&grid.theories, &cfg.file.galaxies, &cat, sample);
+            }
+        },
+    )
+    .map_err(|e| AnalysisError::Failed(e.to_string()))?;
+    let n_hosts = fig.n_hosts;
+    let res = merger.finish().ok_or_else(|| {
+        AnalysisError::Failed(format!(
+            "{}: the store has no hosts{}",
+            store.display(),
+            if cells.is_some() {
+                " in the selected cells"
+            } else {
+                ""
+            }
+        ))
+    })?;
+    Ok(Computed {
+        results: res,
+        cells: per_cell.finish(),
+        figure_data: fig,
+        n_hosts,
+    })
+}
+
+/// Names of the grid's cells.
+pub fn cell_labels(grid: &Grid) -> CellLabels {
+    CellLabels {
+        cosmologies: grid.config.cosmology_labels.clone(),
+        masses: grid.config.mass_bins.iter().map(|m| m.label()).collect(),
+    }
+}
+
+/// The cells `--cell` selects: each spec is `cosmology=LABEL`, `mass=MASS` or both,
+/// comma-separated; a host mass matches a fixed mass within 1% or a range's label exactly.
+/// None: every cell.
+pub fn select_cells(
+    grid: &Grid,
+    specs: &[String],
+) -> Result<Option<Vec<(u16, u16)>>, AnalysisError> {
+    if specs.is_empty() {
+        return Ok(None);
+    }
+    let labels = cell_labels(grid);
+    let mut out: Vec<(u16, u16)> = Vec::new();
+    for spec in specs {
+        let (mut cos, mut mass) = (None, None);
+        for part in spec.split(',') {
+            match part.split_once('=') {
+                Some(("cosmology", v)) if !v.trim().is_empty() => cos = Some(v.trim().to_string()),
+                Some(("mass", v)) if !v.trim().is_empty() => mass = Some(v.trim().to_string()),
+                _ => {
+                    return Err(AnalysisError::Input(format!(
+                        "--cell {spec:?}: expected cosmology=LABEL, mass=MASS or both, comma-separated (e.g. --cell cosmology=planck18,mass=1.2e12)"
+                    )))
+                }
+            }
+        }
+        let mass_ok = |mi: usize| match &mass {
+            None => true,
+            Some(v) => {
+                labels.masses[mi] == *v
+                    || match (v.parse::<f64>(), grid.config.mass_bins[mi]) {
+                        (Ok(x), crate::config::MassBin::Fixed(m)) => (x / m - 1.0).abs() < 0.01,
+                        _ => false,
+                    }
+            }
+        };
+        let before = out.len();
+        for (ci, cl) in labels.cosmologies.iter().enumerate() {
+            if cos.as_ref().is_some_and(|c| c != cl) {
+                continue;
+            }
+            for mi in 0..labels.masses.len() {
+                if mass_ok(mi) && !out.contains(&(ci as u16, mi as u16)) {
+                    out.push((ci as u16, mi as u16));
+                }
+            }
+        }
+        if out.len() == before {
+            return Err(AnalysisError::Input(format!(
+                "--cell {spec:?} matches no cell of this run; cosmologies: {}; host masses: {}",
+                labels
+                    .cosmologies
+                    .iter()
+                    .map(|l| format!("{l:?}"))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                labels.masses.join(", ")
+            )));
+        }
+    }
+    Ok(Some(out))
+}
+
+/// Where an analysis goes: its name in the store (`/analysis/NAME`) and its report directory.
+pub struct Target {
+    pub name: String,
+    pub dir: PathBuf,
+}
+
+impl Target {
+    /// The run's own analysis: `/analysis/run`, report in NAME-report next to the store.
+    pub fn of_run(store: &Path) -> Self {
+        Self {
+            name: "run".into(),
+            dir: report_dir(store),
+        }
+    }
+}
+
+/// `base` with the keys of `over` put in, recursively through tables (values of other types,
+/// arrays included, are replaced whole).
+pub fn merge_toml(base: &mut toml::Value, over: &toml::Value) {
+    match (base, over) {
+        (toml::Value::Table(b), toml::Value::Table(o)) => {
+            for (k, v) in o {
+                match b.get_mut(k) {
+                    Some(bv) => merge_toml(bv, v),
+                    None => {
+                        b.insert(k.clone(), v.clone());
+                    }
+                }
+            }
+        }
+        (b, o) => *b = o.clone(),
+    }
+}
+
+/// Settings `current` with the keys given in `over` replaced (see `merge_toml`).
+pub fn overlay<T>(current: &T, over: Option<&toml::Value>) -> Result<T, String>
+where
+    T: serde::Serialize + serde::de::DeserializeOwned,
+{
+    let mut v = toml::Value::try_from(current).map_err(|e| e.to_string())?;
+    if let Some(o) = over {
+        merge_toml(&mut v, o);
+    }
+    v.try_into().map_err(|e: toml::de::Error| e.to_string())
+}
+
+/// Seconds since 1970 as YYYYMMDD-HHMMSS (UTC; the civil-from-days algorithm of H. Hinnant,
+/// "chrono-Compatible Low-Level Date Algorithms").
+pub fn utc_stamp(secs: u64) -> String {
+    let days = (secs / 86_400) as i64;
+    let rem = secs % 86_400;
+    let z = days + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z - era * 146_097;
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = yoe + era * 400 + i64::from(m <= 2);
+    format!(
+        "{y:04}{m:02}{d:02}-{:02}{:02}{:02}",
+        rem / 3600,
+        (rem / 60) % 60,
+        rem % 60
+    )
+}
+
+/// Run every test on a store (pooled and, for a grid of several cells, per cell), store the
+/// analysis as `/analysis/NAME`, and write the report's tables and figures into the target's
+/// directory.
+pub fn analyse(
+    grid: &Grid,
+    store: &Path,
+    sample: Option<&ObservedSample>,
+    sample_path: Option<&Path>,
+    cells: Option<&[(u16, u16)]>,
+    target: &Target,
+) -> Result<Outcome, AnalysisError> {
+    let cfg = &grid.config;
+    let mut notes = Vec::new();
+    // N follows the sample unless the configuration sets it
+    let n_note = match (cfg.file.tests.n_draw, sample) {
+        (Some(n), Some(s)) if n != s.objects.len() => Some(format!(
+            "tests.n_draw = {n} is set in the configuration and differs from the sample's {} objects: the all-of-N and fraction-of-N tests draw {n}",
+            s.objects.len()
+        )),
+        _ => None,
+    };
+    if let Some(n) = &n_note {
+        notes.push(n.clone());
+    }
+    let Computed {
+        results: res,
+        cells: per_cell,
+        figure_data: fig,
+        n_hosts,
+    } = compute(grid, store, sample, cells)?;
+    let tests_toml = toml::to_string(&cfg.file.tests).unwrap_or_default();
+    write_analysis_to_store(
+        store,
+        &res,
+        &AnalysisRecord {
+            name: &target.name,
+            tests_toml: &tests_toml,
+            sample: sample.zip(sample_path),
+        },
+    )
+    .map_err(|e| AnalysisError::Failed(e.to_string()))?;
+    let dir = target.dir.clone();
+    let n_sub = crate::io::store::n_subhaloes_in(store)
+        .map_err(|e| AnalysisError::Failed(e.to_string()))?;
+    let mut summary = format!(
+        "Store `{}`: {} hosts, {} subhaloes; master seed {}.",
+        store.display(),
+        n_hosts,
+        n_sub,
+        cfg.file.run.master_seed
+    );
+    summary.push_str(&format!(
+        "\n\nAnalysis `{}` (stored as `/analysis/{}`, with the settings below and the sample's rows): sample {}.",
+        target.name,
+        target.name,
+        match (sample, sample_path) {
+            (Some(s), Some(p)) => format!("`{}` ({} objects)", p.display(), s.objects.len()),
+            _ => "none (N = tests.n_draw; the quenching and matching tests are skipped)".into(),
+        }
+    ));
+    if let Some(n) = &n_note {
+        summary.push_str(&format!("\n\n**Note:** {n}."));
+    }
+    if let Some(w) = resolution_warning(grid) {
+        summary.push_str(&format!("\n\n**Warning:** {w}."));
+    }
+    if let Some(c) = cells {
+        let labels = cell_labels(grid);
+        summary.push_str(&format!(
+            "\n\nOnly the selected cells are tested (`--cell`): {}.",
+            c.iter()
+                .map(|&(ci, mi)| {
+                    let (a, b) = labels.of(ci, mi);
+                    format!("{a} at {b} Msun")
+                })
+                .collect::<Vec<_>>()
+                .join("; ")
+        ));
+    }
+    let files = write_tables(
+        &dir,
+        &res,
+        &per_cell,
+        &cell_labels(grid),
+        &cfg.file.tests,
+        sample,
+        &summary,
+    )
+    .map_err(|e| AnalysisError::Failed(e.to_string()))?;
+    let figures = figures(grid, &dir, &res, &fig, sample, &per_cell)?;
+    Ok(Outcome {
+        results: res,
+        cells: per_cell,
+        report_dir: dir,
+        files,
+        figures,
+        notes,
+    })
+}
+
+/// Draw the figures of a run (PNG and SVG) with what they need from its configuration and
+/// sample; returns the files written.
+pub fn figures(
+    grid: &Grid,
+    dir: &Path,
+    res: &AnalysisResults,
+    fig: &FigureData,
+    sample: Option<&ObservedSample>,
+    cells: &[CellResults],
+) -> Result<Vec<PathBuf>, AnalysisError> {
+    let cfg = &grid.config.file;
+    let labels = cell_labels(grid);
+    let inputs = crate::report::figures::FigureInputs {
+        theories: &grid.theories,
+        cells,
+        labels: Some(&labels),
+        sample,
+        tests: &cfg.tests,
+        orbits: &cfg.orbits,
+        resolution_msun: cfg.trees.resolution_msun,
+    };
+    crate::report::figures::write_figures(dir, res, fig, &inputs).map_err(AnalysisError::Failed)
+}
+
+/// The run's own report directory: NAME-report next to the store NAME.h5.
+pub fn report_dir(store: &Path) -> PathBuf {
+    let stem = store
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".into());
+    store.with_file_name(format!("{stem}-report"))
+}
+
+/// The galaxy model's warning about the trees' resolution (`GalaxyOptions::resolution_warning`,
+/// magnitudes in the first cosmology).
+pub fn resolution_warning(grid: &Grid) -> Option<String> {
+    let cfg = &grid.config;
+    cfg.file
+        .galaxies
+        .resolution_warning(grid.theories[0].cosmology(), cfg.file.trees.resolution_msun)
+}
+
+/// The configuration stored in a run's store, and the run's observed sample if it can still
+/// be found. Relative paths in the stored configuration are relative to the directory of the
+/// configuration file the run started from; the store records that directory, and they are
+/// resolved there first, then next to the store, then in the working directory. A sample
+/// found anywhere but its original place is named in a note; one found nowhere is reported
+/// and the tests that need it are skipped. With `want_sample` false (the caller has its own
+/// sample) the stored one is not looked for.
+pub fn stored_config(
+    meta: &StoreMeta,
+    store: &Path,
+    want_sample: bool,
+) -> Result<StoredConfig, AnalysisError> {
+    let mut notes = Vec::new();
+    let store_dir = store
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let recorded = Some(PathBuf::from(&meta.config_dir)).filter(|d| d.is_dir());
+    let mut bases: Vec<PathBuf> = recorded.iter().cloned().collect();
+    for d in [store_dir, Path::new(".")] {
+        if !bases.iter().any(|b| b == d) {
+            bases.push(d.to_path_buf());
+        }
+    }
+    let mut table: toml::Table = meta.config_toml.parse().map_err(|e| {
+        AnalysisError::Input(format!(
+            "{}: the stored configuration is not valid TOML: {e}",
+            store.display()
+        ))
+    })?;
+    let stored_sample = table
+        .get_mut("run")
+        .and_then(|r| r.as_table_mut())
+        .and_then(|r| r.remove("sample"))
+        .and_then(|v| v.as_str().map(PathBuf::from));
+    let text = table.to_string();
+    let mut first_err = None;
+    let mut cfg = None;
+    for base in &bases {
+        match RunConfig::parse_str(&text, Some(base)) {
+            Ok(c) => {
+                cfg = Some(c);
+                break;
+            }
+            Err(e) => {
+                first_err.get_or_insert(e);
+            }
+        }
+    }
+    let cfg = match (cfg, first_err) {
+        (Some(c), _) => c,
+        (None, Some(e)) => return Err(AnalysisError::Input(e.to_string())),
+        (None, None) => unreachable!("there is always a base to try"),
+    };
+    let sample = stored_sample.filter(|_| want_sample).and_then(|rel| {
+        let places: Vec<PathBuf> = if rel.is_relative() {
+            bases.iter().map(|b| b.join(&rel)).collect()
+        } else {
+            vec![rel.clone()]
+        };
+        match places.iter().position(|p| p.is_file()) {
+            Some(k) => {
+                if k > 0 || recorded.is_none() {
+                    notes.push(format!(
+                        "using the observed sample {} (the run's `run.sample = {}`; the \
+                         run's configuration directory is {})",
+                        places[k].display(),
+                        rel.display(),
+                        match (&recorded, meta.config_dir.is_empty()) {
+                            (Some(d), _) => d.display().to_string(),
+                            (None, true) => "not recorded in this store".to_string(),
+                            (None, false) => format!("{}, which no longer exists", meta.config_dir),
+                        }
+                    ));
+                }
+                Some(places[k].clone())
+            }
+            None => {
+                notes.push(format!(
+                    "the run's observed sample ({}) is not at {}; the tests that need a \
+                     sample are skipped, and all-of-N uses tests.n_draw or else N = 11 instead \
+                     of the sample's size (give the sample with --sample)",
+                    rel.display(),
+                    places
+                        .iter()
+                        .map(|p| p.display().to_string())
+                        .collect::<Vec<_>>()
+                        .join(" or ")
+                ));
+                None
+            }
+        }
+    });
+    Ok(StoredConfig {
+        config: cfg,
+        sample,
+        notes,
+    })
+}
+
+/// What `infall --config FILE` takes from FILE; the other tables of a whole configuration
+/// are accepted and ignored (a table name that is not one of them is an error).
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+#[allow(dead_code)]
+struct RetestTables {
+    tests: Option<crate::stats::battery::TestOptions>,
+    galaxies: Option<crate::galaxies::GalaxyOptions>,
+    run: Option<RetestRun>,
+    cosmology: Option<toml::Value>,
+    host: Option<toml::Value>,
+    trees: Option<toml::Value>,
+    orbits: Option<toml::Value>,
+    survey: Option<toml::Value>,
+}
+
+#[derive(serde::Deserialize)]
+struct RetestRun {
+    sample: Option<PathBuf>,
+    sample_columns: Option<std::collections::BTreeMap<String, String>>,
+    /// The run's other keys (ignored here).
+    #[serde(flatten)]
+    _other: toml::Table,
+}
+
+/// A stored configuration with re-test settings put in, and the sample FILE names.
+pub struct Retest {
+    pub config: RunConfig,
+    /// FILE's `run.sample` (relative to FILE), when `sample_given` is false.
+    pub sample: Option<PathBuf>,
+    /// FILE's `run.sample_columns` (empty if none): the mapping of FILE's sample.
+    pub sample_columns: std::collections::BTreeMap<String, String>,
+}
+
+/// Put the re-test settings of `file` into a run's stored configuration `cfg`: the keys of
+/// its [tests] and [galaxies] tables replace the stored ones key by key (a partial
+/// [tests.selection] changes only its keys), and its `run.sample` (unless the caller has a
+/// sample of its own, `sample_given`) and `run.sample_columns` are returned. Everything else
+/// that made the store stays the run's. Every problem is reported at once.
+pub fn retest_config(
+    mut cfg: RunConfig,
+    file: &Path,
+    sample_given: bool,
+) -> Result<Retest, AnalysisError> {
+    use crate::config::ConfigProblems;
+    use crate::error::InvalidValue;
+    let p = file;
+    let text = std::fs::read_to_string(p)
+        .map_err(|e| AnalysisError::Input(format!("{}: {e}", p.display())))?;
+    let (retest, mut problems) =
+        crate::config::parse_collecting::<RetestTables>(&text, &p.display().to_string());
+    let Some(retest) = retest else {
+        return Err(AnalysisError::Input(ConfigProblems(problems).to_string()));
+    };
+    let given: toml::Table = toml::from_str(&text).unwrap_or_default();
+    if retest.tests.is_some() {
+        cfg.file.tests = overlay(&cfg.file.tests, given.get("tests"))
+            .map_err(|e| AnalysisError::Input(format!("{}: [tests]: {e}", p.display())))?;
+    }
+    if retest.galaxies.is_some() {
+        cfg.file.galaxies = overlay(&cfg.file.galaxies, given.get("galaxies"))
+            .map_err(|e| AnalysisError::Input(format!("{}: [galaxies]: {e}", p.display())))?;
+    }
+    problems.extend(cfg.file.tests.problems("tests."));
+    problems.extend(cfg.file.galaxies.problems("galaxies."));
+    let (file_sample, file_columns) = match retest.run {
+        Some(r) => (r.sample, r.sample_columns),
+        None => (None, None),
+    };
+    let columns = file_columns.unwrap_or_default();
+    for (name, col, why) in crate::stats::sample::column_map_problems(&columns) {
+        problems.push(InvalidValue::new(
+            format!("run.sample_columns.{name}"),
+            format!("{col:?}"),
+            format!("{why} (in {})", p.display()),
+        ));
+    }
+    // (a sample given by the caller replaces FILE's: FILE's need not exist then)
+    let mut sample = None;
+    if let Some(sp) = file_sample.filter(|_| !sample_given) {
+        let sp = if sp.is_relative() {
+            p.parent().unwrap_or(Path::new(".")).join(sp)
+        } else {
+            sp
+        };
+        if !sp.is_file() {
+            problems.push(InvalidValue::new(
+                "run.sample",
+                sp.display(),
+                format!("file not found (named in {})", p.display()),
+            ));
+        }
+        sample = Some(sp);
+    }
+    if !problems.is_empty() {
+        return Err(AnalysisError::Input(ConfigProblems(problems).to_string()));
+    }
+    Ok(Retest {
+        config: cfg,
+        sample,
+        sample_columns: columns,
+    })
+}
