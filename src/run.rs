@@ -1,6 +1,7 @@
 //! A whole run: the grid of (cosmology × host mass × hosts per cell), hosts synthesised in
 //! parallel in order, each batch of hosts written to a crash-safe part file as soon as it is
-//! complete (while the next hosts are synthesised), the parts joined into the store, then the tests and the report. Host g of the grid is
+//! complete (while the next hosts are synthesised), the parts joined into the (compressed)
+//! store as they complete, then the tests and the report. Host g of the grid is
 //! (cosmology c, mass bin m, k) with g = (c * n_mass + m) * hosts_per_cell + k; its random
 //! streams depend only on (master seed, c, m, k), so threads, shards and resumes never change
 //! a host's output.
@@ -18,7 +19,7 @@ use crate::error::InvalidValue;
 use crate::halo::concentration::{concentration, ConcentrationModel};
 use crate::halo::definitions::convert_nfw;
 use crate::halo::MassDefinition;
-use crate::io::store::{part_path, parts_dir, write_part, StoreMeta, StoreWriter};
+use crate::io::store::{part_path, parts_dir, store_rows, write_part, StoreMeta, StoreWriter};
 use crate::io::{AtomicPath, IoError};
 use crate::linear::LinearTheory;
 use crate::rng::{host_rng, HostId, Stream, GENERATOR};
@@ -378,6 +379,42 @@ pub fn synthesize_to_store(
     let wake = Condvar::new();
     // a worker that panics is caught below; the state stays usable
     let lock = || state.lock().unwrap_or_else(|p| p.into_inner());
+    // The parts are joined into the store while hosts are still being synthesised: a worker
+    // that has written a part appends every part that now follows the joined ones without a
+    // gap (one worker at a time; the others go on synthesising). The join compresses the
+    // store (`io::store::col_filters`), which as one step after the last host would leave
+    // the other cores idle. What is left is joined after the last part.
+    let atomic = AtomicPath::new(out);
+    let _ = std::fs::remove_file(&atomic.temp_path);
+    let joiner: Mutex<(Option<StoreWriter>, usize)> = Mutex::new((None, 0));
+    let join_ready = |j: &mut (Option<StoreWriter>, usize)| -> Result<(), IoError> {
+        while j.1 < n_parts && part_path(&dir, j.1).exists() {
+            let p = part_path(&dir, j.1);
+            let w = match &mut j.0 {
+                Some(w) => w,
+                None => {
+                    // chunks sized for the whole store, from its first part
+                    let (_, s) = store_rows(&p).map_err(|e| IoError::hdf5(&p, e))?;
+                    let rows = (hi - lo, s.saturating_mul(n_parts as u64));
+                    let w = StoreWriter::create_for(&atomic.temp_path, &meta, rows, true)
+                        .map_err(|e| IoError::hdf5(&atomic.temp_path, e))?;
+                    j.0.insert(w)
+                }
+            };
+            w.append_store(&p)?;
+            j.1 += 1;
+        }
+        Ok(())
+    };
+    // the space a failed join needed: about the parts' size (the store is smaller)
+    let parts_bytes = || -> u64 {
+        let sizes: Vec<u64> = (0..n_parts)
+            .filter_map(|k| std::fs::metadata(part_path(&dir, k)).ok())
+            .map(|m| m.len())
+            .collect();
+        let per = sizes.iter().sum::<u64>() / (sizes.len().max(1) as u64);
+        per * n_parts as u64
+    };
     let fail = |st: &mut State, e: RunError| {
         if st.error.is_none() {
             st.error = Some(e);
@@ -457,6 +494,13 @@ pub fn synthesize_to_store(
                     st.low += 1;
                 }
                 wake.notify_all();
+                drop(st);
+                // join what is ready, unless another worker is at it
+                if let Ok(mut j) = joiner.try_lock() {
+                    if let Err(e) = join_ready(&mut j) {
+                        return fail(&mut lock(), e.needing(parts_bytes()).into());
+                    }
+                }
             }
         }
     };
@@ -486,11 +530,26 @@ pub fn synthesize_to_store(
         }
         return Err(e);
     }
-    // join the parts
-    let atomic = AtomicPath::new(out);
-    let _ = std::fs::remove_file(&atomic.temp_path);
-    let parts: Vec<PathBuf> = (0..n_parts).map(|k| part_path(&dir, k)).collect();
-    join_stores(&atomic, &meta, &parts)?;
+    // join the parts not joined yet
+    let mut j = joiner.into_inner().unwrap_or_else(|p| p.into_inner());
+    join_ready(&mut j).map_err(|e| e.needing(parts_bytes()))?;
+    let w = match j.0 {
+        Some(w) => w,
+        // no hosts (an empty shard): an empty store
+        None => StoreWriter::create_for(&atomic.temp_path, &meta, (0, 0), true)
+            .map_err(|e| IoError::hdf5(&atomic.temp_path, e))?,
+    };
+    if j.1 < n_parts {
+        return Err(RunError::Other(format!(
+            "part {} of {} is missing from {} after the run; run again with --resume",
+            j.1 + 1,
+            n_parts,
+            dir.display()
+        )));
+    }
+    w.flush()
+        .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(parts_bytes()))?;
+    drop(w);
     let path = atomic.commit()?;
     let _ = std::fs::remove_dir_all(&dir);
     Ok(path)
@@ -584,7 +643,7 @@ fn join_stores(atomic: &AtomicPath, meta: &StoreMeta, inputs: &[PathBuf]) -> Res
         let (h, s) = crate::io::store::store_rows(p).map_err(|e| IoError::hdf5(p, e))?;
         rows = (rows.0 + h, rows.1 + s);
     }
-    let mut w = StoreWriter::create_for(&atomic.temp_path, meta, rows)
+    let mut w = StoreWriter::create_for(&atomic.temp_path, meta, rows, true)
         .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(needed))?;
     for p in inputs {
         w.append_store(p).map_err(|e| e.needing(needed))?;

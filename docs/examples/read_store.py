@@ -14,10 +14,12 @@ with h5py.File(sys.argv[1], "r") as f:
     subs = {k: f["subhalos"][k][:] for k in f["subhalos"]}
     units = {k: f["subhalos"][k].attrs["units"] for k in f["subhalos"]}
 
-# Satellites of the first host that survive as the report's default selection requires
+# Satellites of the first host that survive as the pericentre survival model requires
 # (survival = "pericentre": still a bound object, i.e. status 0 in the host or 2 inside another
-# subhalo, and no pericentre inside the disc cut) and lie inside R_vir today; of these, those
-# with M* >= MSTAR_MIN and those the configured survey would detect (any M*).
+# subhalo, and no pericentre inside the disc cut; the default model, "physical", asks only the
+# first) and lie inside R_vir today; of these, those with M* >= MSTAR_MIN and those the
+# configured survey would detect (any M*). docs/examples/subhalos_pandas.py applies the run's
+# own selection with pandas.
 h = 0
 rows = slice(hosts["sub_offset"][h], hosts["sub_offset"][h] + hosts["sub_count"][h])
 s = {k: v[rows] for k, v in subs.items()}

@@ -36,7 +36,8 @@ pub enum Command {
     Run(run::RunArgs),
     /// Run the built-in demo (Milky-Way-mass hosts and an invented observed sample).
     Demo(run::DemoArgs),
-    /// Validate a configuration without running it.
+    /// Validate a configuration without running it, and print the run's rough size (CPU time,
+    /// wall time on this machine, store on disk).
     Check(run::CheckArgs),
     /// Join shard stores into one.
     Merge(run::MergeArgs),

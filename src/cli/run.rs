@@ -644,7 +644,69 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
         grid_shape(&cfg),
         cfg.n_hosts()
     );
+    println!("{}", size_lines(&cfg));
     Ok(())
+}
+
+/// What `check` says of a run's size: CPU time, wall time on this machine's threads, store and
+/// part files, with the rates they are scaled from.
+fn size_lines(cfg: &RunConfig) -> String {
+    use retinue::config::run::SizeEstimate as S;
+    let e = cfg.size_estimate();
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let (threads, whose) = match cfg.file.run.threads {
+        0 => (
+            cores,
+            "all cores of this machine, run.threads = 0".to_string(),
+        ),
+        t => (t, format!("run.threads; this machine has {cores} cores")),
+    };
+    let per = if (e.default_hosts / e.hosts.max(1) as f64 - 1.0).abs() < 0.005 {
+        String::new()
+    } else {
+        format!(
+            "; a host here counts as {:.2} default hosts, (host mass / resolution)^0.9",
+            e.default_hosts / e.hosts.max(1) as f64
+        )
+    };
+    format!(
+        "size (rough: scaled from the default host, 1.2e12 Msun at resolution 10^7.5 Msun, as \
+         measured on a 2-core development machine{per}):\n  \
+         CPU time   about {} ({} s of one core per default host)\n  \
+         wall time  about {} on {threads} threads ({whose}; --threads overrides)\n  \
+         store      about {} ({:.2} MB per default host, compressed); the part files take \
+         about {} more until the run ends",
+        duration(e.cpu_s),
+        S::CPU_S_PER_HOST,
+        duration(e.wall_s(threads)),
+        bytes(e.store_bytes),
+        S::STORE_BYTES_PER_HOST / 1e6,
+        bytes(e.parts_bytes),
+    )
+}
+
+/// "40 s", "12 min", "3.5 h", "2.1 days".
+fn duration(s: f64) -> String {
+    if s < 90.0 {
+        format!("{:.0} s", s.max(1.0))
+    } else if s < 5400.0 {
+        format!("{:.0} min", s / 60.0)
+    } else if s < 172_800.0 {
+        format!("{:.1} h", s / 3600.0)
+    } else {
+        format!("{:.1} days", s / 86400.0)
+    }
+}
+
+/// "86 MB", "1.2 GB", "3.4 TB".
+fn bytes(b: f64) -> String {
+    if b < 1e9 {
+        format!("{:.0} MB", (b / 1e6).max(1.0))
+    } else if b < 1e12 {
+        format!("{:.1} GB", b / 1e9)
+    } else {
+        format!("{:.1} TB", b / 1e12)
+    }
 }
 
 /// Whether two paths name the same file (the output need not exist yet: its directory is

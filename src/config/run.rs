@@ -574,41 +574,107 @@ impl RunConfig {
         (self.cosmologies.len() * self.mass_bins.len() * self.file.run.hosts_per_cell) as u64
     }
 
-    /// Rough size of the run: (store bytes, CPU seconds), scaled from a measurement on this
-    /// project's machines (docs/performance.md): 1.12 MB and 0.25 CPU s per host of 1.2e12
-    /// Msun at trees.resolution_msun = 3.16e7 (100 hosts: 112 MB, 376,084 subhaloes; 1,000
-    /// hosts: 8 hosts/s on 2 threads). Both scale with the number of subhaloes, taken as
-    /// (host mass / resolution)^0.9 (the slope of the subhalo mass function, common practice).
-    pub fn size_estimate(&self) -> (f64, f64) {
+    /// Rough size of the run, scaled from measurements of the default host (`SizeEstimate`).
+    pub fn size_estimate(&self) -> SizeEstimate {
         let per_cell = self.file.run.hosts_per_cell as f64 * self.cosmologies.len() as f64;
         let res = self.file.trees.resolution_msun;
-        let mut scale = 0.0;
-        for bin in &self.mass_bins {
-            let m = match *bin {
-                MassBin::Fixed(m) => m,
-                MassBin::LogUniform(lo, hi) => (lo * hi).sqrt(),
-            };
-            scale += ((m / res) / (1.2e12 / 3.16e7)).powf(0.9);
+        let scale: f64 = self
+            .mass_bins
+            .iter()
+            .map(|bin| ((bin.typical_msun() / res) / (1.2e12 / 10f64.powf(7.5))).powf(0.9))
+            .sum();
+        let default_hosts = per_cell * scale;
+        SizeEstimate {
+            hosts: self.n_hosts(),
+            default_hosts,
+            cpu_s: default_hosts * SizeEstimate::CPU_S_PER_HOST,
+            store_bytes: SizeEstimate::STORE_BYTES_FIXED
+                + default_hosts * SizeEstimate::STORE_BYTES_PER_HOST,
+            parts_bytes: default_hosts * SizeEstimate::PART_BYTES_PER_HOST,
         }
-        (per_cell * scale * 1.12e6, per_cell * scale * 0.25)
     }
 
     /// A warning for a run whose store would exceed 50 GB: its size and CPU time, so that a
     /// mistyped host count is caught before the machine is busy for weeks.
     pub fn size_warning(&self) -> Option<String> {
-        let (bytes, cpu_s) = self.size_estimate();
-        (bytes > 5e10).then(|| {
+        let e = self.size_estimate();
+        (e.store_bytes > 5e10).then(|| {
             format!(
                 "this run has {} hosts: its store will take about {:.0} GB and about {:.0} \
                  CPU-hours to synthesise (rough estimate; check run.hosts_per_cell, \
                  host.mass_msun and trees.resolution_msun)",
-                self.n_hosts(),
-                bytes / 1e9,
-                cpu_s / 3600.0
+                e.hosts,
+                e.store_bytes / 1e9,
+                e.cpu_s / 3600.0
             )
         })
     }
 }
 
+/// The rough size of a run, scaled from the default host (1.2e12 Msun at trees.resolution_msun
+/// = 10^7.5 Msun, Planck 2018) as measured on the project's 2-core development machine
+/// (docs/performance.md). Other hosts count as (host mass / resolution)^0.9 default hosts: the
+/// number of subhaloes, and with it the work and the rows, grows so (the slope of the subhalo
+/// mass function, common practice). Rough: the cost of a host scatters by tens of percent
+/// around its mean, and other machines are faster or slower.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SizeEstimate {
+    /// Hosts of the whole grid.
+    pub hosts: u64,
+    /// The same in default hosts.
+    pub default_hosts: f64,
+    /// CPU time, seconds of one core: synthesis, store, tests and report.
+    pub cpu_s: f64,
+    /// The store, bytes.
+    pub store_bytes: f64,
+    /// The part files (uncompressed) that are on disk beside the store until the run ends.
+    pub parts_bytes: f64,
+}
+
+impl SizeEstimate {
+    /// One core's time per default host, end to end (tests and store included): 0.18–0.23 s
+    /// measured (`scripts/bench-run.sh 100 2`, and `synth/host_end_to_end_mw` 0.23 s), rounded
+    /// up.
+    pub const CPU_S_PER_HOST: f64 = 0.25;
+    /// Store bytes per default host, compressed (`io::store::col_filters`): stores of 20 and
+    /// 100 default hosts took 18.9 and 85.9 MB, 0.84 MB per host and 2.2 MB fixed (the
+    /// analysis, and the last chunk of each uncompressed column).
+    pub const STORE_BYTES_PER_HOST: f64 = 0.84e6;
+    pub const STORE_BYTES_FIXED: f64 = 2.2e6;
+    /// Part-file bytes per default host (uncompressed: 100 hosts, 117 MB).
+    pub const PART_BYTES_PER_HOST: f64 = 1.17e6;
+
+    /// Wall time, seconds, on `threads` threads (hosts spread evenly over them).
+    pub fn wall_s(&self, threads: usize) -> f64 {
+        self.cpu_s / (threads.max(1) as f64).min(self.hosts.max(1) as f64)
+    }
+}
+
 /// The most hosts one run may hold (run.hosts_per_cell x cosmologies x host masses).
 pub const MAX_HOSTS: u64 = 100_000_000;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The default host is one default host; a sweep scales by (mass / resolution)^0.9; the
+    /// wall time divides the CPU time among the threads, never among more than the hosts.
+    #[test]
+    fn size_estimate_scales_from_the_default_host() {
+        let one = RunConfig::parse_str("[cosmology]\npreset = \"planck18\"\n", None).unwrap();
+        let e = one.size_estimate();
+        assert_eq!(e.hosts, 100);
+        assert!((e.default_hosts - 100.0).abs() < 1e-9, "{e:?}");
+        assert!((e.cpu_s - 25.0).abs() < 1e-9);
+        assert!((e.store_bytes - (2.2e6 + 84e6)).abs() < 1.0);
+        assert!((e.wall_s(2) - 12.5).abs() < 1e-9);
+        let text = "[run]\nhosts_per_cell = 3\n[cosmology]\npreset = \"planck18\"\n\
+                    [host]\nmass_msun = [1.2e12, 2.4e12]\n[trees]\nresolution_msun = 1e8\n";
+        let e = RunConfig::parse_str(text, None).unwrap().size_estimate();
+        let r = 1.2e12 / 10f64.powf(7.5);
+        let want = 3.0 * ((1.2e12 / 1e8 / r).powf(0.9) + (2.4e12 / 1e8 / r).powf(0.9));
+        assert_eq!(e.hosts, 6);
+        assert!((e.default_hosts - want).abs() < 1e-9, "{e:?}");
+        assert!((e.wall_s(64) - e.cpu_s / 6.0).abs() < 1e-9);
+    }
+}

@@ -4,9 +4,10 @@
 //!
 //! Crash safety: a run writes each batch of hosts to its own part file
 //! (`.NAME.parts/part-KKKKK.h5`), under a temporary name renamed when complete, so a killed run
-//! leaves only whole parts. `--resume` skips the parts that exist. When every host is done,
-//! the parts are joined (streaming, one part at a time) into `.NAME.partial`, which is renamed
-//! to NAME. Shards of a split run are complete stores of their host ranges; `merge` joins
+//! leaves only whole parts. `--resume` skips the parts that exist. The parts are joined in
+//! order (streaming, one part at a time) into `.NAME.partial` while the run goes on, and the
+//! store is renamed to NAME when every host is in it. Parts are written uncompressed; the
+//! joined store has its integer and mostly-NaN columns shuffled and deflated (`col_filters`). Shards of a split run are complete stores of their host ranges; `merge` joins
 //! stores in global host order with the same code.
 
 use std::path::{Path, PathBuf};
@@ -338,12 +339,54 @@ fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
     ]
 }
 
-fn create_col(g: &Group, spec: &Spec, template: &Col, chunk: usize) -> hdf5::Result<()> {
+/// Deflate (gzip) level of the store's compressed columns, after a byte shuffle.
+pub const DEFLATE_LEVEL: u8 = 1;
+
+/// Floating-point columns of `/subhalos` stored compressed: those NaN or zero for most rows
+/// (events most subhaloes never have, quantities of subhaloes outside the host or without a
+/// galaxy: 55-79% of the rows of the default run), and the first infall into the host (shared
+/// by the members of a group). On the default run they shrink to 28-56% of their size; the
+/// other floating-point columns only to 73-90%, at three quarters of the compression time of
+/// the whole store: they are stored as they are (docs/performance.md, "Store compression").
+const DEFLATED_F64: &[&str] = &[
+    "t_first_host_infall_gyr",
+    "t_release_gyr",
+    "r_apo_last_kpc",
+    "t_disrupt_physical_gyr",
+    "m_reion_msun",
+    "t_disrupt_disc_gyr",
+    "t_disrupt_pericentre_gyr",
+    "t_merge_gyr",
+    "d_helio_kpc",
+];
+
+/// Filters of a column: byte shuffle, then deflate at `DEFLATE_LEVEL`, for the integer columns
+/// and `DEFLATED_F64`, when `compressed` and the HDF5 library has zlib (else none; a reader
+/// needs nothing either way: HDF5 decompresses on reading).
+fn col_filters(name: &str, template: &Col, compressed: bool) -> Vec<hdf5::filters::Filter> {
+    use hdf5::filters::{deflate_available, Filter};
+    let wanted = !matches!(template, Col::F64(_)) || DEFLATED_F64.contains(&name);
+    if compressed && wanted && deflate_available() {
+        vec![Filter::Shuffle, Filter::Deflate(DEFLATE_LEVEL)]
+    } else {
+        Vec::new()
+    }
+}
+
+fn create_col(
+    g: &Group,
+    spec: &Spec,
+    template: &Col,
+    chunk: usize,
+    compressed: bool,
+) -> hdf5::Result<()> {
+    let filters = col_filters(spec.0, template, compressed);
     macro_rules! mk {
         ($t:ty) => {{
             let ds = g
                 .new_dataset::<$t>()
                 .chunk(chunk)
+                .set_filters(&filters)
                 .shape(Extent::resizable(0))
                 .create(spec.0)?;
             set_str_attr(&ds, "units", spec.1)?;
@@ -418,15 +461,23 @@ pub fn store_rows(path: &Path) -> hdf5::Result<(u64, u64)> {
 }
 
 impl StoreWriter {
-    /// Create a new store file with its tables, chunked for a large store.
+    /// Create a new store file with its tables, chunked for a large store, compressed.
     pub fn create(path: &Path, meta: &StoreMeta) -> hdf5::Result<Self> {
-        Self::create_for(path, meta, (u64::MAX, u64::MAX))
+        Self::create_for(path, meta, (u64::MAX, u64::MAX), true)
     }
 
     /// Create a new store file for about `rows` = (hosts, subhaloes) rows: chunks are no
     /// larger than the tables (each column of a part file would otherwise take a whole
-    /// 8192-row chunk, tripling the parts' size on disk).
-    pub fn create_for(path: &Path, meta: &StoreMeta, rows: (u64, u64)) -> hdf5::Result<Self> {
+    /// 8192-row chunk, tripling the parts' size on disk). `compressed`: the integer columns
+    /// and the mostly-NaN ones are shuffled and deflated (`col_filters`) — for stores that are
+    /// kept; part files, written once and read once by the join, are not, so that the run
+    /// compresses each value only once.
+    pub fn create_for(
+        path: &Path,
+        meta: &StoreMeta,
+        rows: (u64, u64),
+        compressed: bool,
+    ) -> hdf5::Result<Self> {
         let fit = |n: u64, cap: usize| n.clamp(1, cap as u64) as usize;
         let (chunk_h, chunk_s) = (fit(rows.0, CHUNK_ROWS), fit(rows.1, CHUNK_ROWS));
         let f = hdf5::File::create(path)?;
@@ -444,11 +495,11 @@ impl StoreWriter {
         let s = f.create_group("subhalos")?;
         let templ_h = host_cols(&[], 0, 0);
         for (spec, c) in HOST_COLUMNS.iter().zip(&templ_h) {
-            create_col(&h, spec, c, chunk_h)?;
+            create_col(&h, spec, c, chunk_h, compressed)?;
         }
         let templ_s = sub_cols(&[], 0);
         for (spec, c) in SUB_COLUMNS.iter().zip(&templ_s) {
-            create_col(&s, spec, c, chunk_s)?;
+            create_col(&s, spec, c, chunk_s, compressed)?;
         }
         f.create_group("histories")?;
         f.create_group("analysis")?;
@@ -952,8 +1003,8 @@ pub fn write_part(
     let atomic = AtomicPath::new(path);
     let r = (|| -> hdf5::Result<()> {
         let n_subs: usize = recs.iter().map(|(_, r)| r.subhaloes.len()).sum();
-        let mut w =
-            StoreWriter::create_for(&atomic.temp_path, meta, (recs.len() as u64, n_subs as u64))?;
+        let rows = (recs.len() as u64, n_subs as u64);
+        let mut w = StoreWriter::create_for(&atomic.temp_path, meta, rows, false)?;
         w.append(recs)?;
         w.flush()
     })();
@@ -963,5 +1014,39 @@ pub fn write_part(
             atomic.discard();
             Err(IoError::hdf5(path, e))
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use hdf5::filters::{deflate_available, Filter};
+
+    /// Kept stores: integer columns and the mostly-NaN floating-point ones are shuffled and
+    /// deflated, the other floating-point columns not; part files (`compressed` false): none.
+    #[test]
+    fn which_columns_are_compressed() {
+        let z = vec![Filter::Shuffle, Filter::Deflate(DEFLATE_LEVEL)];
+        let want = |on: bool| {
+            if on && deflate_available() {
+                z.clone()
+            } else {
+                vec![]
+            }
+        };
+        let templ = sub_cols(&[], 0);
+        let mut deflated_f64 = Vec::new();
+        for ((name, _, _), c) in SUB_COLUMNS.iter().zip(&templ) {
+            let int = !matches!(c, Col::F64(_));
+            let on = int || DEFLATED_F64.contains(name);
+            assert_eq!(col_filters(name, c, true), want(on), "{name}");
+            assert!(col_filters(name, c, false).is_empty(), "{name}");
+            if on && !int {
+                deflated_f64.push(*name);
+            }
+        }
+        // every listed name is a floating-point column of the table
+        assert_eq!(deflated_f64.len(), DEFLATED_F64.len(), "{deflated_f64:?}");
+        assert_eq!(col_filters("x_kpc", &Col::F64(vec![]), true), vec![]);
     }
 }

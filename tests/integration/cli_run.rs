@@ -164,6 +164,22 @@ fn store_schema_units_and_provenance() {
     assert!(f.group("analysis/run").unwrap().group("all_of_n").is_ok());
     let n: Vec<u64> = f.dataset("hosts/host_index").unwrap().read_raw().unwrap();
     assert_eq!(n, vec![0, 1, 2, 3, 4, 5]);
+    // compressed: integer and mostly-NaN columns shuffled and deflated, the others not
+    if hdf5::filters::deflate_available() {
+        use hdf5::filters::Filter;
+        let z = vec![Filter::Shuffle, Filter::Deflate(1)];
+        for c in [
+            "subhalos/branch",
+            "subhalos/status",
+            "subhalos/t_merge_gyr",
+            "hosts/k",
+        ] {
+            assert_eq!(f.dataset(c).unwrap().filters(), z, "{c}");
+        }
+        for c in ["subhalos/x_kpc", "subhalos/m_peak_msun", "hosts/m_vir_msun"] {
+            assert!(f.dataset(c).unwrap().filters().is_empty(), "{c}");
+        }
+    }
     // nothing but the store and its report
     let mut names: Vec<String> = std::fs::read_dir(d.path())
         .unwrap()
@@ -1024,6 +1040,164 @@ fn shipped_configs_are_valid() {
         let (code, out, err) = run_cli(&["check", p.to_str().unwrap()]);
         assert_eq!(code, 0, "{c}: {err}");
         assert!(out.contains("valid"), "{out}");
+        // and the run's rough size
+        for what in [
+            "size (rough",
+            "CPU time   about",
+            "wall time  about",
+            "store      about",
+        ] {
+            assert!(out.contains(what), "{c}: {out}");
+        }
+    }
+    // the default run: 100 default hosts, 25 CPU-seconds, 86 MB
+    let p = Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/milky-way.toml");
+    let out = run_ok(&["check", p.to_str().unwrap()]);
+    assert!(
+        out.contains("CPU time   about 25 s (0.25 s of one core per default host)")
+            && out.contains("store      about 86 MB (0.84 MB per default host, compressed)"),
+        "{out}"
+    );
+}
+
+/// Dotted key paths of a TOML table and their values (arrays and empty tables are leaves).
+fn flatten(prefix: &str, t: &toml::Table, out: &mut std::collections::BTreeMap<String, String>) {
+    for (k, v) in t {
+        let path = format!("{prefix}{k}");
+        match v {
+            toml::Value::Table(sub) if !sub.is_empty() => flatten(&format!("{path}."), sub, out),
+            _ => {
+                out.insert(path, v.to_string());
+            }
+        }
+    }
+}
+
+/// The keys a table of the run configuration accepts, as serde lists them when it meets an
+/// unknown one (`None`: the table takes any key, as `run.sample_columns` does).
+fn accepted_keys(table: &str) -> Option<Vec<String>> {
+    let probe = match table {
+        "" => "[cosmology]\npreset = \"planck18\"\n[zz_unknown]\nx = 1\n".to_string(),
+        "cosmology" => "[cosmology]\nzz_unknown = 1\n".to_string(),
+        t => format!("[cosmology]\npreset = \"planck18\"\n[{t}]\nzz_unknown = 1\n"),
+    };
+    let err = toml::from_str::<retinue::config::RunConfigFile>(&probe).unwrap_err();
+    let msg = err.message();
+    let rest = msg.strip_prefix("unknown field `zz_unknown`, expected")?;
+    Some(
+        rest.split('`')
+            .skip(1)
+            .step_by(2)
+            .map(str::to_string)
+            .collect(),
+    )
+}
+
+/// `configs/milky-way.toml` says it shows every key at its default, and it does: parsed, it
+/// equals the configuration of a file that gives only the preset (plus the host mass that an
+/// absent `host.mass_msun` stands for); every key each table accepts is in it, set or
+/// commented out in its table; and each commented-out key, uncommented alone, is a key of the
+/// right type. So a new key or a changed default cannot leave the file behind.
+#[test]
+fn milky_way_config_lists_every_default() {
+    use retinue::config::{OneOrMany, RunConfigFile};
+    use std::collections::BTreeMap;
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/milky-way.toml");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let file: RunConfigFile = toml::from_str(&text).unwrap();
+    let mut defaults: RunConfigFile =
+        toml::from_str("[cosmology]\npreset = \"planck18\"\n").unwrap();
+    defaults.host.mass_msun = Some(OneOrMany::One(1.2e12));
+    // the values, key by key (a readable message), then the whole
+    let flat = |c: &RunConfigFile| {
+        let t: toml::Table = toml::from_str(&toml::to_string(c).unwrap()).unwrap();
+        let mut m = BTreeMap::new();
+        flatten("", &t, &mut m);
+        m
+    };
+    let (got, want) = (flat(&file), flat(&defaults));
+    let differ: Vec<String> = want
+        .iter()
+        .filter(|(k, v)| got.get(*k) != Some(v))
+        .map(|(k, v)| format!("{k}: file {:?}, default {v}", got.get(k)))
+        .chain(
+            got.keys()
+                .filter(|k| !want.contains_key(*k))
+                .map(|k| format!("{k}: set in the file, no default")),
+        )
+        .collect();
+    assert!(
+        differ.is_empty(),
+        "milky-way.toml differs from the defaults:\n{}",
+        differ.join("\n")
+    );
+    assert_eq!(file, defaults);
+
+    // keys set or commented out, per table: `# key = value` lines belong to the table above
+    let parsed: toml::Table = toml::from_str(&text).unwrap();
+    let mut commented: Vec<(String, usize)> = Vec::new();
+    let mut table = String::new();
+    for (i, line) in text.lines().enumerate() {
+        let l = line.trim();
+        if let Some(h) = l.strip_prefix('[') {
+            table = h.split(']').next().unwrap().trim().to_string();
+        } else if let Some(c) = l.strip_prefix('#') {
+            let c = c.trim_start();
+            let key: String = c
+                .chars()
+                .take_while(|ch| ch.is_ascii_lowercase() || ch.is_ascii_digit() || *ch == '_')
+                .collect();
+            if !key.is_empty() && c[key.len()..].trim_start().starts_with('=') {
+                commented.push((format!("{table}.{key}"), i));
+            }
+        }
+    }
+    let has = |path: &str| {
+        let mut t = &parsed;
+        let parts: Vec<&str> = path.split('.').collect();
+        for (j, p) in parts.iter().enumerate() {
+            match t.get(*p) {
+                Some(toml::Value::Table(sub)) => t = sub,
+                Some(_) => return j + 1 == parts.len(),
+                None => return false,
+            }
+        }
+        true
+    };
+    let mut missing = Vec::new();
+    let mut tables = vec![String::new()];
+    while let Some(t) = tables.pop() {
+        let Some(keys) = accepted_keys(&t) else {
+            continue;
+        };
+        for k in keys {
+            let p = if t.is_empty() { k } else { format!("{t}.{k}") };
+            if !has(&p) && !commented.iter().any(|(c, _)| *c == p) {
+                missing.push(p.clone());
+            }
+            // a table of its own (a map such as run.sample_columns takes any key)
+            if want.keys().any(|w| w.starts_with(&format!("{p}."))) {
+                tables.push(p);
+            }
+        }
+    }
+    assert!(
+        missing.is_empty(),
+        "milky-way.toml lacks the keys {missing:?}"
+    );
+    assert!(commented.len() >= 20, "{commented:?}");
+    let lines: Vec<&str> = text.lines().collect();
+    for (key, i) in &commented {
+        let mut l = lines.clone();
+        let uncommented = l[*i].trim_start().trim_start_matches('#').to_string();
+        l[*i] = &uncommented;
+        let r = toml::from_str::<RunConfigFile>(&l.join("\n"));
+        assert!(
+            r.is_ok(),
+            "{key} (line {}), uncommented: {}",
+            i + 1,
+            r.unwrap_err()
+        );
     }
 }
 
@@ -1269,14 +1443,16 @@ fn retest_a_sweep_with_other_tests() {
 }
 
 /// `check` warns (on stderr, exit 0) when the trees' resolution cuts into the haloes that
-/// host galaxies, as the default Milky-Way configuration does, and not when it is well below.
+/// host galaxies, as the Milky-Way configuration does with the occupation by peak mass (erf),
+/// and not when it is well below.
 #[test]
 fn check_warns_about_unresolved_galaxies() {
     let d = tempfile::tempdir().unwrap();
     let base = std::fs::read_to_string(
         std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/milky-way.toml"),
     )
-    .unwrap();
+    .unwrap()
+    .replace("occupation = \"reionization\"", "occupation = \"erf\"");
     let p = write(d.path(), "mw.toml", &base);
     let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
@@ -1284,7 +1460,10 @@ fn check_warns_about_unresolved_galaxies() {
         err.contains("warning: trees.resolution_msun") && err.contains("incomplete"),
         "{err}"
     );
-    let fine = base.replace("resolution_msun = 3.16e7", "resolution_msun = 5e6");
+    let fine = base.replace(
+        "resolution_msun = 31622776.60168379",
+        "resolution_msun = 5e6",
+    );
     assert_ne!(fine, base);
     let p = write(d.path(), "fine.toml", &fine);
     let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
