@@ -45,6 +45,8 @@ pub enum Command {
     Infall(run::InfallArgs),
     /// Draw the figures of an existing store.
     Plot(run::PlotArgs),
+    /// Write a store's subhalo table, joined with its hosts, as one CSV file.
+    Export(run::ExportArgs),
 }
 
 /// A command failure with its exit code.
@@ -85,5 +87,6 @@ pub fn run(cli: Cli) -> Result<(), CliError> {
         Command::Merge(a) => run::merge(a),
         Command::Infall(a) => run::infall(a),
         Command::Plot(a) => run::plot(a),
+        Command::Export(a) => run::export(a),
     }
 }

@@ -1,5 +1,6 @@
 //! Files: the HDF5 writers and readers. Only this module touches files.
 
+pub mod export;
 pub mod h5;
 pub mod lock;
 pub mod store;
