@@ -11,10 +11,10 @@
 //! * After reionisation the photo-heated gas is kept out of small haloes: only haloes with
 //!   circular velocities above about 25 km/s keep half their baryons (Okamoto, Gao & Theuns
 //!   2008, MNRAS 390, 920: a characteristic mass that "corresponds to a circular velocity of
-//!   25 km/s"); Bullock, Kravtsov & Weinberg 2000 (ApJ 539, 517) take 30 km/s.
+//!   25 km/s"; recalled values in other studies reach 30 km/s).
 //! * So a halo hosts a galaxy if its main progenitor had reached the atomic-cooling mass by
 //!   the reionisation redshift, or if it later grew a V_max above the filtering velocity
-//!   (the model of Bullock, Kravtsov & Weinberg 2000 with these two thresholds). Each
+//!   (the filtering-mass picture of Gnedin 2000, ApJ 542, 535, with these two thresholds). Each
 //!   threshold is smoothed by an error function of width `occupation_sigma_dex` in log mass
 //!   (a third of it in log V_max, since M scales as V^3), for the scatter of real haloes about
 //!   them: P = 1 - (1 - P_mass)(1 - P_vmax).

@@ -11,8 +11,8 @@
 //! paper's tables (its text could not be read here); the form reproduces what the published
 //! abstracts state — speeds peaked near V_vir and most radial there (Li et al. 2020), more
 //! radial orbits for a larger mass ratio and a larger host peak height (Jiang et al. 2015; Li
-//! et al. 2020), most satellites "hotter" than V_vir with less angular momentum than
-//! R_vir V_vir (Wetzel 2011) — which `val_infall_orbits_vs_published_statements`
+//! et al. 2020), most satellites faster than V_vir with less angular momentum than
+//! R_vir V_vir (recalled from published infall-orbit studies) — which `val_infall_orbits_vs_published_statements`
 //! (tests/validation/val_orbits.rs) checks. Directions are isotropic; the satellite starts at
 //! R_vir moving inward.
 

@@ -502,20 +502,20 @@ fn satellite_of_satellite_frames_match_a_direct_integration() {
 /// 1e11 Msun (Dutton & Maccio 2014 concentrations for both, Planck 2018) from the parent's
 /// virial radius with the energy of a circular orbit there (r_c(E) = R_vir) and circularity
 /// eps = J/J_c(E), with friction, stripping and the default merger rules; the time to merge
-/// with the parent's centre, or to be dissolved, against the fit of Boylan-Kolchin, Ma &
-/// Quataert 2008 (MNRAS 383, 93; their eq. 5, coefficients recalled, not re-read):
+/// with the parent's centre, or to be dissolved, against the merging-time fit of N-body
+/// mergers of live NFW haloes that Villalobos et al. 2013 (arXiv:1303.2117) correct for
+/// redshift (the z = 0 form and its coefficients recalled, not re-read):
 /// t/tau_dyn = 0.216 (M/m)^1.3 / ln(1 + M/m) exp(1.9 eps) (r_c(E)/R_vir)^1.0, tau_dyn =
-/// R_vir/V_vir, calibrated on N-body mergers of live NFW haloes at 0.025 <= m/M <= 0.3.
+/// R_vir/V_vir, fitted at 0.025 <= m/M <= 0.3.
 /// M/m = 5, 10, 20 and eps = 0.3, 0.5, 0.7 at z = 0 and 3. Band at z = 0: a factor 1.5 either
-/// way (the fits of Boylan-Kolchin et al. 2008 and of Jiang et al. 2008, ApJ 675, 1095,
-/// differ by up to that much over this range). At z = 3 the published estimates spread
-/// further: Villalobos et al. 2013 (arXiv:1303.2117, abstract) find that such fits
-/// under-predict mergers at high redshift, where haloes are less concentrated, and multiply
-/// them by (1+z)^0.44 (1.84 at z = 3); the band runs from the fit / 1.5 to the corrected fit
-/// x 1.5. Measured (our time / the fit): 0.96-1.25 at z = 0; 1.14-2.2 at z = 3, longest for
+/// way (this fit and that of Jiang et al. 2008, ApJ 675, 1095, differ by up to that much over
+/// this range). At z = 3 the published estimates spread further: Villalobos et al. 2013
+/// (abstract) find that such fits under-predict merging times at high redshift, where haloes
+/// are less concentrated, and multiply them by (1+z)^0.44 (1.84 at z = 3); the band runs
+/// from the fit / 1.5 to the corrected fit x 1.5. Measured (our time / the fit): 0.96-1.25 at z = 0; 1.14-2.2 at z = 3, longest for
 /// the most radial orbits.
 #[test]
-fn val_merging_times_vs_boylan_kolchin08() {
+fn val_merging_times_vs_the_z0_fit() {
     use retinue::constants::G_KPC_KMS2_PER_MSUN as G;
     use retinue::halo::concentration::{c_of_m, ConcentrationModel};
     use retinue::halo::MassDefinition;
@@ -572,7 +572,7 @@ fn val_merging_times_vs_boylan_kolchin08() {
             }
         }
     }
-    eprintln!("merging time / BK08: {ratios:.2?}");
+    eprintln!("merging time / the z = 0 fit: {ratios:.2?}");
 }
 
 /// Infall orbits (`orbits::initial::Li20`, the form of Li et al. 2020, ApJ 905, 177, whose
@@ -583,9 +583,10 @@ fn val_merging_times_vs_boylan_kolchin08() {
 ///   virial velocity": the mode of u = v/V_vir in [0.9, 1.3] ("near": common practice);
 /// * Li et al. 2020: "the infall orbit is most radially biased when v ~ V_h": E[(v_r/v)^2 | u]
 ///   is largest for u in [0.8, 1.3];
-/// * Wetzel 2011 (MNRAS 412, 49): "most satellites infall with less specific angular
-///   momentum than the host halo virial value, but ... are 'hotter' than the host virial
-///   velocity": P(v_t < V_vir) > 0.5 and P(v > V_vir) > 0.5;
+/// * most satellites fall in with less specific angular momentum than R_vir V_vir but faster
+///   than V_vir (recalled from published infall-orbit studies, not re-read; consistent with
+///   Li et al. 2020's speed distribution peaked above V_vir): P(v_t < V_vir) > 0.5 and
+///   P(v > V_vir) > 0.5;
 /// * Jiang et al. 2015 (MNRAS 448, 1674) and Li et al. 2020: a larger mass ratio and a more
 ///   massive host (larger nu) give more radial orbits: E[(v_r/v)^2] grows from zeta = 1e-3 to
 ///   0.1 and from nu = 0.9 to 2.5.
