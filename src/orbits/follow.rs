@@ -202,6 +202,19 @@ pub(crate) struct Start {
     pub scale: (f64, f64),
 }
 
+/// The (R_vir, V_vir) scale of the frame an orbit continues in at time t: a subhalo's field
+/// virial radius and speed, or `current` in the host's frame (or for a body that is gone).
+fn frame_scale(bodies: &[Option<Body>], frame: Frame, t: f64, current: (f64, f64)) -> (f64, f64) {
+    match frame {
+        Frame::Sub(d) => bodies[d]
+            .as_ref()
+            .map(|b| b.field_virial(t))
+            .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
+            .unwrap_or(current),
+        Frame::Host => current,
+    }
+}
+
 /// Integrator tolerances in a frame of virial radius r_vir (kpc) and speed v_vir (kpc/Gyr):
 /// in the host, `rtol` with absolute tolerances rtol x 10 kpc and 10 kpc/Gyr (for a
 /// Milky-Way-mass host: R_vir/30 and V_vir/13); inside a subhalo, `rtol_in_subhalo` with
@@ -424,13 +437,7 @@ pub(crate) fn follow(
                 let p = last_seg.pts.last().expect("a point");
                 y = add6(&y, &p.y);
                 frame = last_seg.frame;
-                if let Frame::Sub(d) = frame {
-                    scale = bodies[d]
-                        .as_ref()
-                        .map(|b| b.field_virial(t))
-                        .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
-                        .unwrap_or(scale);
-                }
+                scale = frame_scale(bodies, frame, t, scale);
                 if res.t_release_gyr.is_nan() && res.order > 1 {
                     res.t_release_gyr = t;
                 }
@@ -687,13 +694,7 @@ pub(crate) fn follow(
         if let Some((yc, f)) = release {
             y = add6(&y, &yc);
             frame = f;
-            if let Frame::Sub(d) = frame {
-                scale = bodies[d]
-                    .as_ref()
-                    .map(|b| b.field_virial(t))
-                    .map(|(mv, rv)| (rv, (G * mv / rv).sqrt()))
-                    .unwrap_or(scale);
-            }
+            scale = frame_scale(bodies, frame, t, scale);
             if res.t_release_gyr.is_nan() && res.order > 1 {
                 res.t_release_gyr = t;
             }

@@ -39,16 +39,6 @@ fn ensure_font() -> Result<(), String> {
     .clone()
 }
 
-/// Line colours (the first six of matplotlib's "tab10").
-const COLORS: [RGBColor; 6] = [
-    RGBColor(31, 119, 180),
-    RGBColor(214, 39, 40),
-    RGBColor(44, 160, 44),
-    RGBColor(255, 127, 14),
-    RGBColor(148, 103, 189),
-    RGBColor(140, 86, 75),
-];
-
 /// Ten distinct colours (matplotlib's "tab10"), for grid cells.
 const CELL_COLORS: [RGBColor; 10] = [
     RGBColor(31, 119, 180),
@@ -61,6 +51,16 @@ const CELL_COLORS: [RGBColor; 10] = [
     RGBColor(127, 127, 127),
     RGBColor(188, 189, 34),
     RGBColor(23, 190, 207),
+];
+
+/// Line colours: the first six of `CELL_COLORS`.
+const COLORS: [RGBColor; 6] = [
+    CELL_COLORS[0],
+    CELL_COLORS[1],
+    CELL_COLORS[2],
+    CELL_COLORS[3],
+    CELL_COLORS[4],
+    CELL_COLORS[5],
 ];
 
 /// Colour i of n distinct ones: tab10 up to ten, else n hues evenly spaced around the colour
