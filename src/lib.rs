@@ -36,6 +36,7 @@ pub mod io;
 pub mod linear;
 pub mod massfunction;
 pub mod orbits;
+pub mod pair;
 pub mod report;
 pub mod rng;
 pub mod run;
