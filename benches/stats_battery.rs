@@ -23,7 +23,7 @@ fn main() {
     for h in 0..1000u64 {
         c.host_id.push(h);
         c.host_cosmology.push(0);
-        c.host_mass_bin.push((h % 4) as u16);
+        c.host_cell.push((h % 4) as u16);
         c.host_m_vir_msun.push(1.2e12);
         c.host_r_vir_kpc.push(280.0);
         for j in 0..150u32 {

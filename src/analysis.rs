@@ -70,7 +70,7 @@ pub fn compute(
     let mut merger = Merger::new(&cfg.file.tests, cfg.file.run.master_seed, false);
     let n_cells = cells
         .map(|c| c.len())
-        .unwrap_or(cfg.cosmologies.len() * cfg.mass_bins.len());
+        .unwrap_or_else(|| cell_labels(grid).n_cells());
     let mut per_cell = CellMergers::new(&cfg.file.tests, cfg.file.run.master_seed);
     let keep = |c: u16, m: u16| cells.is_none_or(|s| s.contains(&(c, m)));
     let fig = for_each_chunk_where(
@@ -121,12 +121,19 @@ pub fn cell_labels(grid: &Grid) -> CellLabels {
     CellLabels {
         cosmologies: grid.config.cosmology_labels.clone(),
         masses: grid.config.mass_bins.iter().map(|m| m.label()).collect(),
+        environments: grid
+            .config
+            .environments
+            .iter()
+            .map(|e| (e.label.clone(), e.pair.is_some()))
+            .collect(),
     }
 }
 
-/// The cells `--cell` selects: each spec is `cosmology=LABEL`, `mass=MASS` or both,
-/// comma-separated; a host mass matches a fixed mass within 1% or a range's label exactly.
-/// None: every cell.
+/// The cells `--cell` selects: each spec is `cosmology=LABEL`, `mass=MASS`, `env=LABEL` or
+/// several of them, comma-separated; a host mass matches a fixed mass within 1% or a range's
+/// label exactly; a pair environment selects its primaries and its partners. Cells are
+/// (cosmology, `stats::cells::cell_code`). None: every cell.
 pub fn select_cells(
     grid: &Grid,
     specs: &[String],
@@ -137,14 +144,15 @@ pub fn select_cells(
     let labels = cell_labels(grid);
     let mut out: Vec<(u16, u16)> = Vec::new();
     for spec in specs {
-        let (mut cos, mut mass) = (None, None);
+        let (mut cos, mut mass, mut env) = (None, None, None);
         for part in spec.split(',') {
             match part.split_once('=') {
                 Some(("cosmology", v)) if !v.trim().is_empty() => cos = Some(v.trim().to_string()),
                 Some(("mass", v)) if !v.trim().is_empty() => mass = Some(v.trim().to_string()),
+                Some(("env", v)) if !v.trim().is_empty() => env = Some(v.trim().to_string()),
                 _ => {
                     return Err(AnalysisError::Input(format!(
-                        "--cell {spec:?}: expected cosmology=LABEL, mass=MASS or both, comma-separated (e.g. --cell cosmology=planck18,mass=1.2e12)"
+                        "--cell {spec:?}: expected cosmology=LABEL, mass=MASS, env=LABEL or several, comma-separated (e.g. --cell cosmology=planck18,mass=1.2e12)"
                     )))
                 }
             }
@@ -165,21 +173,38 @@ pub fn select_cells(
                 continue;
             }
             for mi in 0..labels.masses.len() {
-                if mass_ok(mi) && !out.contains(&(ci as u16, mi as u16)) {
-                    out.push((ci as u16, mi as u16));
+                if !mass_ok(mi) {
+                    continue;
+                }
+                for (ei, e) in grid.config.environments.iter().enumerate() {
+                    if env.as_ref().is_some_and(|l| *l != e.label) {
+                        continue;
+                    }
+                    for member in 0..e.members() as u8 {
+                        let code = crate::stats::cells::cell_code(mi as u16, ei as u8, member);
+                        if !out.contains(&(ci as u16, code)) {
+                            out.push((ci as u16, code));
+                        }
+                    }
                 }
             }
         }
         if out.len() == before {
             return Err(AnalysisError::Input(format!(
-                "--cell {spec:?} matches no cell of this run; cosmologies: {}; host masses: {}",
+                "--cell {spec:?} matches no cell of this run; cosmologies: {}; host masses: {}; environments: {}",
                 labels
                     .cosmologies
                     .iter()
                     .map(|l| format!("{l:?}"))
                     .collect::<Vec<_>>()
                     .join(", "),
-                labels.masses.join(", ")
+                labels.masses.join(", "),
+                grid.config
+                    .environments
+                    .iter()
+                    .map(|e| format!("{:?}", e.label))
+                    .collect::<Vec<_>>()
+                    .join(", ")
             )));
         }
     }

@@ -24,33 +24,75 @@ pub enum Stream {
     Statistics = 5,
     /// Bootstrap weights of a host in the tests.
     Bootstrap = 6,
+    /// A pair's partner mass, separation, velocity and orientation (drawn on the stream of
+    /// the pair's primary).
+    PairDraw = 7,
 }
 
 /// Global identity of one host within a run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub struct HostId {
     pub cosmology: u16,
+    /// Host-mass bin (< 1024).
     pub mass_bin: u16,
+    /// Environment (`[[environment]]` table, < 32; 0 is the first, isolated by default).
+    pub environment: u8,
+    /// In a pair: 0 for the primary (the host of the cell's mass), 1 for its partner; 0 for
+    /// an isolated host.
+    pub member: u8,
+    /// Host (or pair) index within its cell.
     pub index: u32,
 }
 
 impl HostId {
+    /// An isolated host (environment 0).
     pub fn new(cosmology: u16, mass_bin: u16, index: u32) -> Self {
         Self {
             cosmology,
             mass_bin,
+            environment: 0,
+            member: 0,
             index,
         }
     }
 
-    /// 64-bit stream number: cosmology (16 bits) | mass bin (16 bits) | index (32 bits).
+    /// A host of environment `environment`, pair member `member` (0 when isolated).
+    pub fn in_environment(self, environment: u8, member: u8) -> Self {
+        Self {
+            environment,
+            member,
+            ..self
+        }
+    }
+
+    /// The other host of the same pair.
+    pub fn partner(self) -> Self {
+        Self {
+            member: 1 - self.member.min(1),
+            ..self
+        }
+    }
+
+    /// 64-bit stream number: cosmology (16 bits) | environment (5 bits) | member (1 bit) |
+    /// mass bin (10 bits) | index (32 bits). Isolated hosts of environment 0 keep the numbers
+    /// they had before environments existed (cosmology | mass bin | index).
     pub fn stream(self) -> u64 {
-        ((self.cosmology as u64) << 48) | ((self.mass_bin as u64) << 32) | self.index as u64
+        ((self.cosmology as u64) << 48)
+            | (((self.environment as u64) & 0x1f) << 43)
+            | (((self.member as u64) & 1) << 42)
+            | (((self.mass_bin as u64) & 0x3ff) << 32)
+            | self.index as u64
     }
 
     /// The host whose stream number (and global id in the store) is `s`.
     pub fn from_stream(s: u64) -> Self {
-        Self::new((s >> 48) as u16, (s >> 32) as u16, s as u32)
+        Self {
+            cosmology: (s >> 48) as u16,
+            mass_bin: ((s >> 32) & 0x3ff) as u16,
+            environment: ((s >> 43) & 0x1f) as u8,
+            member: ((s >> 42) & 1) as u8,
+            index: s as u32,
+        }
     }
 }
 
@@ -98,6 +140,22 @@ mod tests {
         assert_eq!(v, r2.random::<u64>());
         // recorded once from this implementation; a change means every output changes
         assert_eq!(v, REGRESS_FIRST_DRAW);
+    }
+
+    /// Environment and member bits round-trip and leave environment 0 as before.
+    #[test]
+    fn stream_numbers_round_trip() {
+        let a = HostId::new(3, 999, 77);
+        assert_eq!(a.stream(), (3u64 << 48) | (999u64 << 32) | 77);
+        for (e, m) in [(0u8, 0u8), (1, 0), (1, 1), (31, 1)] {
+            let id = a.in_environment(e, m);
+            assert_eq!(HostId::from_stream(id.stream()), id);
+            assert_eq!(id.partner().partner(), id);
+        }
+        assert_ne!(
+            a.in_environment(1, 0).stream(),
+            a.in_environment(1, 1).stream()
+        );
     }
 
     const REGRESS_FIRST_DRAW: u64 = 14_010_345_281_572_668_570;

@@ -22,8 +22,9 @@ use crate::halo::MassDefinition;
 use crate::io::store::{part_path, parts_dir, store_rows, write_part, StoreMeta, StoreWriter};
 use crate::io::{AtomicPath, IoError};
 use crate::linear::LinearTheory;
+use crate::pair::PairGeometry;
 use crate::rng::{host_rng, HostId, Stream, GENERATOR};
-use crate::synth::{synthesize_host, HostRecord, SynthOptions};
+use crate::synth::{synthesize_host, synthesize_pair_host, HostRecord, PairInput, SynthOptions};
 use crate::trees::{OutputTimes, TreeBuilder, TreeSpec};
 
 /// Errors of a run.
@@ -86,7 +87,53 @@ impl Grid {
             .collect::<Result<Vec<_>, _>>()?;
         let grid = Self { config, theories };
         grid.check_masses()?;
+        grid.check_pairs()?;
         Ok(grid)
+    }
+
+    /// Every pair's central separation lies beyond the sum of the two hosts' virial radii
+    /// today (at the central partner mass, for every cosmology and host mass of the grid).
+    fn check_pairs(&self) -> Result<(), RunError> {
+        let z = self.config.file.host.z_final;
+        for (ei, env) in self.config.environments.iter().enumerate() {
+            let Some(spec) = &env.pair else { continue };
+            let key = if self.config.environments.len() > 1 {
+                format!("environment[{ei}].separation_kpc")
+            } else {
+                "environment.separation_kpc".into()
+            };
+            for lt in &self.theories {
+                for bin in &self.config.mass_bins {
+                    let ends = match *bin {
+                        MassBin::Fixed(m) => [m, m],
+                        MassBin::LogUniform(a, b) => [a, b],
+                    };
+                    for m in ends {
+                        let mp = match spec.partner_mass {
+                            crate::config::PartnerMass::Msun(x) => x,
+                            crate::config::PartnerMass::Ratio(q) => q * m,
+                        };
+                        let r = |mm: f64| {
+                            MassDefinition::Vir.radius_kpc(
+                                lt.cosmology(),
+                                self.virial_mass(lt, mm),
+                                z,
+                            )
+                        };
+                        let sum = r(m) + r(mp);
+                        if spec.separation_kpc <= sum {
+                            return Err(RunError::Input(format!(
+                                "{key} = {} kpc: the two hosts would overlap (host {m:.3e} Msun \
+                                 and partner {mp:.3e} Msun have virial radii summing to \
+                                 {sum:.0} kpc); allowed: above {sum:.0} kpc",
+                                spec.separation_kpc
+                            )));
+                        }
+                    }
+                }
+            }
+        }
+        Ok(())
     }
 
     /// Every cell's tree resolution and host masses lie inside its cosmology's sigma(M) table
@@ -163,12 +210,23 @@ impl Grid {
         self.config.n_hosts()
     }
 
-    /// (cosmology, mass bin, k) of global host g.
+    /// The identity of global host g. Hosts are numbered cell by cell, cells in the order
+    /// (cosmology, host mass, environment); a cell holds `run.hosts_per_cell` hosts, or as many
+    /// pairs (two consecutive hosts each: the primary, then its partner).
     pub fn host_id(&self, g: u64) -> HostId {
         let per = self.config.file.run.hosts_per_cell as u64;
+        let envs = &self.config.environments;
+        let per_mass: u64 = envs.iter().map(|e| e.members() * per).sum();
         let nm = self.config.mass_bins.len() as u64;
-        let cell = g / per;
-        HostId::new((cell / nm) as u16, (cell % nm) as u16, (g % per) as u32)
+        let (c, rest) = (g / (nm * per_mass), g % (nm * per_mass));
+        let (m, mut k) = (rest / per_mass, rest % per_mass);
+        let mut e = 0;
+        while k >= envs[e].members() * per {
+            k -= envs[e].members() * per;
+            e += 1;
+        }
+        let n = envs[e].members();
+        HostId::new(c as u16, m as u16, (k / n) as u32).in_environment(e as u8, (k % n) as u8)
     }
 
     /// Host mass (Msun, config definition) of host id.
@@ -182,12 +240,40 @@ impl Grid {
         }
     }
 
-    /// Synthesis options of host id.
+    /// The draw of the pair of host id (None for an isolated host): on the stream of the
+    /// pair's primary, so both hosts of a pair draw the same.
+    pub fn pair_geometry(&self, id: HostId) -> Result<Option<PairGeometry>, String> {
+        let Some(spec) = &self.config.environments[id.environment as usize].pair else {
+            return Ok(None);
+        };
+        let primary = id.in_environment(id.environment, 0);
+        let lt = &self.theories[id.cosmology as usize];
+        let cosmo = lt.cosmology();
+        let z = self.config.file.host.z_final;
+        let m_primary = self.host_mass(primary);
+        let r_primary = MassDefinition::Vir.radius_kpc(cosmo, self.virial_mass(lt, m_primary), z);
+        let mut rng = host_rng(self.config.file.run.master_seed, primary, Stream::PairDraw);
+        let min_sep = |m_partner: f64| {
+            r_primary + MassDefinition::Vir.radius_kpc(cosmo, self.virial_mass(lt, m_partner), z)
+        };
+        PairGeometry::draw(spec, m_primary, min_sep, &mut rng).map(Some)
+    }
+
+    /// Synthesis options of host id (for a partner, `pair_geometry` gives its mass).
     pub fn options(&self, id: HostId) -> SynthOptions {
+        let mass = match self.pair_geometry(id) {
+            Ok(Some(g)) if id.member == 1 => g.partner_mass_msun,
+            _ => self.host_mass(id),
+        };
+        self.options_for_mass(id, mass)
+    }
+
+    /// Synthesis options of host id with host mass `mass` (config definition).
+    fn options_for_mass(&self, id: HostId, mass: f64) -> SynthOptions {
         let cfg = &self.config;
         let lt = &self.theories[id.cosmology as usize];
         let f = &cfg.file;
-        let m_vir = self.virial_mass(lt, self.host_mass(id));
+        let m_vir = self.virial_mass(lt, mass);
         let z = f.host.z_final;
         SynthOptions {
             tree: TreeSpec {
@@ -224,16 +310,45 @@ impl Grid {
                 reason: "injected fault (RETINUE_FAULT_HOST)".into(),
             });
         }
-        let opts = self.options(id);
         let seed = self.config.file.run.master_seed;
-        synthesize_host(
-            &self.theories[id.cosmology as usize],
-            &opts,
+        let lt = &self.theories[id.cosmology as usize];
+        let fail = |reason: String| RunError::Host {
+            index: g,
+            cosmology: id.cosmology,
+            mass_bin: id.mass_bin,
+            k: id.index,
             seed,
-            id,
-            builder,
-        )
-        .map_err(|e| RunError::Host {
+            reason,
+        };
+        let geometry = self.pair_geometry(id).map_err(fail)?;
+        let result = match geometry {
+            None => synthesize_host(lt, &self.options(id), seed, id, builder),
+            Some(geometry) => {
+                let primary_mass = self.host_mass(id.in_environment(id.environment, 0));
+                let (own, other) = if id.member == 0 {
+                    (primary_mass, geometry.partner_mass_msun)
+                } else {
+                    (geometry.partner_mass_msun, primary_mass)
+                };
+                let spec = self.config.environments[id.environment as usize]
+                    .pair
+                    .expect("a pair");
+                let pair = PairInput {
+                    partner_options: self.options_for_mass(id.partner(), other),
+                    geometry,
+                    region_radius_kpc: spec.region_radius_kpc,
+                };
+                synthesize_pair_host(
+                    lt,
+                    &self.options_for_mass(id, own),
+                    &pair,
+                    seed,
+                    id,
+                    builder,
+                )
+            }
+        };
+        result.map_err(|e| RunError::Host {
             index: g,
             cosmology: id.cosmology,
             mass_bin: id.mass_bin,

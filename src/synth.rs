@@ -39,10 +39,46 @@ pub struct HostSummary {
     pub disc_mass_msun: f64,
 }
 
+/// What a host of a pair records about its pair.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PairRecord {
+    /// The partner's host id (stream number).
+    pub partner_id: u64,
+    /// 0: the primary (the cell's host mass), 1: the partner.
+    pub member: u8,
+    /// The other host's virial mass today, Msun.
+    pub partner_m_vir_msun: f64,
+    /// Today's separation (kpc), relative radial velocity and tangential speed (km/s).
+    pub separation_kpc: f64,
+    pub radial_velocity_kms: f64,
+    pub tangential_velocity_kms: f64,
+    /// Separation at each z of `HostRecord::mah_z` (kpc; the earliest node of the mutual
+    /// orbit's integration for earlier times).
+    pub separation_history_kpc: Vec<f64>,
+    /// The smallest separation of the mutual orbit and its time (Gyr).
+    pub min_separation_kpc: f64,
+    pub t_min_separation_gyr: f64,
+    /// The region sphere's radius about the barycentre (kpc; `environment.region_radius_kpc`).
+    pub region_radius_kpc: f64,
+    /// The partner's position relative to this host today (kpc), and its virial radius (kpc).
+    pub partner_pos_kpc: [f64; 3],
+    pub partner_r_vir_kpc: f64,
+}
+
+/// A host of a pair: the partner's options (its tree's mass) and the pair's draw.
+#[derive(Debug, Clone)]
+pub struct PairInput {
+    pub partner_options: SynthOptions,
+    pub geometry: crate::pair::PairGeometry,
+    pub region_radius_kpc: f64,
+}
+
 /// One synthesised host.
 #[derive(Debug, Clone)]
 pub struct HostRecord {
     pub summary: HostSummary,
+    /// For a host of a pair (None: isolated).
+    pub pair: Option<PairRecord>,
     /// Main-branch mass on the tree's output grid (z in `mah_z`).
     pub mah_msun: Vec<f64>,
     pub mah_z: Vec<f64>,
@@ -58,18 +94,131 @@ pub fn synthesize_host(
     id: HostId,
     builder: &mut TreeBuilder,
 ) -> Result<HostRecord, InvalidValue> {
+    synthesize(lt, options, None, master_seed, id, builder)
+}
+
+/// Spacing of the mutual orbit's nodes, Gyr (cubic Hermite between them: position error of
+/// order (dt / T)^4 of the separation for an orbit of time scale T >= 1 Gyr, below 1e-6).
+const PAIR_NODE_GYR: f64 = 0.025;
+
+/// Synthesise host `id` of a pair: both hosts' trees are grown (the partner's on its own
+/// stream, `HostId::partner`), their mutual orbit is integrated backwards from today's draw,
+/// and this host's subhaloes orbit in its potential with the partner's pull added
+/// (`host::Partner`). Both hosts of a pair compute the same pair, so each is reproducible on
+/// its own (whatever the shard or thread).
+pub fn synthesize_pair_host(
+    lt: &LinearTheory,
+    options: &SynthOptions,
+    pair: &PairInput,
+    master_seed: u64,
+    id: HostId,
+    builder: &mut TreeBuilder,
+) -> Result<HostRecord, InvalidValue> {
+    synthesize(lt, options, Some(pair), master_seed, id, builder)
+}
+
+/// The mutual orbit of a pair, as the partner's position relative to the primary, from
+/// today back to `t_first`: each host's centre moves in the other's potential (halo, disc and
+/// bulge at that time, their masses following each main branch), with dark energy's term on
+/// the separation; mutual dynamical friction is not included.
+pub fn mutual_orbit(
+    primary: &EvolvingHost,
+    partner: &EvolvingHost,
+    geometry: &crate::pair::PairGeometry,
+    t_first: f64,
+    t_end: f64,
+) -> crate::pair::PairOrbit {
+    use crate::host::Potential;
+    let (x0, v0) = geometry.relative_state();
+    let accel = |t: f64, d: &[f64; 3]| -> [f64; 3] {
+        // the primary's pull on the partner (with dark energy's term k d) minus the
+        // partner's pull on the primary
+        let a = primary.snapshot(t).accel(*d);
+        let mut sb = partner.snapshot(t);
+        sb.de_k = 0.0;
+        let b = sb.accel([-d[0], -d[1], -d[2]]);
+        [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
+    };
+    let n = ((t_end - t_first) / PAIR_NODE_GYR).ceil().max(1.0) as usize + 1;
+    let tol = crate::orbits::integrate::Tolerances {
+        rtol: 1e-9,
+        atol_pos_kpc: 1e-6,
+        atol_vel_kpc_gyr: 1e-6,
+    };
+    crate::pair::PairOrbit::integrate_back(accel, t_end, x0, v0, t_first, n, tol)
+}
+
+fn synthesize(
+    lt: &LinearTheory,
+    options: &SynthOptions,
+    pair: Option<&PairInput>,
+    master_seed: u64,
+    id: HostId,
+    builder: &mut TreeBuilder,
+) -> Result<HostRecord, InvalidValue> {
     let cosmo = lt.cosmology();
+    let t_end = cosmo.age_gyr(options.tree.z_final);
+    let first_infall = |h: &HostHistory| {
+        h.accretions
+            .iter()
+            .map(|a| a.t_infall_gyr)
+            .fold(t_end - 1e-3, f64::min)
+    };
+    // the partner's tree first (the arena then holds this host's own tree)
+    let partner_hist = match pair {
+        Some(p) => {
+            let mut prng = host_rng(master_seed, id.partner(), Stream::Tree);
+            let tree = builder.build(lt, &p.partner_options.tree, &mut prng)?;
+            Some(HostHistory::from_tree(tree))
+        }
+        None => None,
+    };
     let mut trng = host_rng(master_seed, id, Stream::Tree);
     let tree = builder.build(lt, &options.tree, &mut trng)?;
     let n_nodes = tree.n_nodes() as u64;
     let hist = HostHistory::from_tree(tree);
-    let t_end = cosmo.age_gyr(options.tree.z_final);
-    let t_first = hist
-        .accretions
-        .iter()
-        .map(|a| a.t_infall_gyr)
-        .fold(t_end - 1e-3, f64::min);
-    let host = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
+    let mut t_first = first_infall(&hist);
+    if let Some(ph) = &partner_hist {
+        t_first = t_first.min(first_infall(ph));
+    }
+    let mut host = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
+    let mut pair_record = None;
+    if let (Some(p), Some(ph)) = (pair, &partner_hist) {
+        let other = EvolvingHost::from_history(lt, ph, &p.partner_options.host, t_first);
+        // the orbit is integrated in the primary's frame by both hosts (bit-identical)
+        let orbit = if id.member == 0 {
+            mutual_orbit(&host, &other, &p.geometry, t_first, t_end)
+        } else {
+            mutual_orbit(&other, &host, &p.geometry, t_first, t_end).reversed()
+        };
+        let (t_min, d_min) = orbit
+            .nodes()
+            .map(|(t, x, _)| (t, (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).sqrt()))
+            .fold(
+                (f64::NAN, f64::INFINITY),
+                |a, b| if b.1 < a.1 { b } else { a },
+            );
+        let so = other.snapshot(t_end);
+        pair_record = Some(PairRecord {
+            partner_id: id.partner().stream(),
+            member: id.member,
+            partner_m_vir_msun: so.m_vir,
+            separation_kpc: p.geometry.separation_kpc,
+            radial_velocity_kms: p.geometry.radial_velocity_kms,
+            tangential_velocity_kms: p.geometry.tangential_velocity_kms,
+            separation_history_kpc: hist
+                .output_z
+                .iter()
+                .map(|&z| orbit.separation(cosmo.age_gyr(z)))
+                .collect(),
+            min_separation_kpc: d_min,
+            t_min_separation_gyr: t_min,
+            region_radius_kpc: p.region_radius_kpc,
+            partner_pos_kpc: orbit.position(t_end),
+            partner_r_vir_kpc: so.r_vir,
+        });
+        host = host.with_partner(crate::host::Partner { host: other, orbit });
+    }
     let mut orng = host_rng(master_seed, id, Stream::Orbits);
     let mut subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);
     // each branch's mass at reionisation (the `reionization` occupation; stored for all)
@@ -101,6 +250,7 @@ pub fn synthesize_host(
     };
     Ok(HostRecord {
         summary,
+        pair: pair_record,
         mah_msun: hist.mah_msun,
         mah_z: hist.output_z,
         subhaloes,

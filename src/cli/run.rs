@@ -775,11 +775,31 @@ fn writer_lock(target: &Path, command: &str) -> Result<retinue::io::lock::Writer
 /// "2 cosmologies x 1 host mass x 150 hosts" (the grid of a run).
 fn grid_shape(cfg: &RunConfig) -> String {
     let n = |k: usize, one: &str, many: &str| format!("{k} {}", if k == 1 { one } else { many });
+    let envs = &cfg.environments;
+    if envs.len() == 1 && envs[0].pair.is_none() {
+        return format!(
+            "{} x {} x {}",
+            n(cfg.cosmologies.len(), "cosmology", "cosmologies"),
+            n(cfg.mass_bins.len(), "host mass", "host masses"),
+            n(cfg.file.run.hosts_per_cell, "host", "hosts")
+        );
+    }
+    // hosts per cell, or pairs (two hosts each) in a pair environment
+    let kinds: Vec<String> = envs
+        .iter()
+        .map(|e| {
+            let k = cfg.file.run.hosts_per_cell;
+            match e.pair {
+                None => format!("{} ({})", e.label, n(k, "host", "hosts")),
+                Some(_) => format!("{} ({}, {} hosts)", e.label, n(k, "pair", "pairs"), 2 * k),
+            }
+        })
+        .collect();
     format!(
-        "{} x {} x {}",
+        "{} x {} x [{}]",
         n(cfg.cosmologies.len(), "cosmology", "cosmologies"),
         n(cfg.mass_bins.len(), "host mass", "host masses"),
-        n(cfg.file.run.hosts_per_cell, "host", "hosts")
+        kinds.join(", ")
     )
 }
 
@@ -842,10 +862,8 @@ pub fn export(a: ExportArgs) -> Result<(), CliError> {
     guard_output(&a.out, std::slice::from_ref(&a.store), a.overwrite, false)?;
     let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
     let labels = analysis::cell_labels(&grid);
-    let names = retinue::io::export::CellNames {
-        cosmologies: labels.cosmologies,
-        masses: labels.masses,
-    };
+    let of = |c: u16, m: u16| labels.of(c, m);
+    let names = retinue::io::export::CellNames { of: &of };
     let keep = |c: u16, m: u16| cells.as_ref().is_none_or(|s| s.contains(&(c, m)));
     let rows = retinue::io::export::export_subhalos_csv(&a.store, &a.out, &names, &keep, 64)
         .map_err(|e| CliError::Failed(e.into()))?;

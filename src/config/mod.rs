@@ -2,9 +2,11 @@
 //! problem at once, each naming its key, the value and the allowed range.
 
 pub mod cosmology;
+pub mod environment;
 pub mod run;
 
 pub use cosmology::CosmologySection;
+pub use environment::{Environment, EnvironmentSection, PairSpec, PartnerMass};
 pub use run::{MassBin, OneOrMany, RunConfig, RunConfigFile, RunSection};
 
 use crate::error::{InvalidValue, MISSING};

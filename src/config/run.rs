@@ -16,6 +16,7 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use super::cosmology::CosmologySection;
+use super::environment::{Environment, EnvironmentSection, MAX_ENVIRONMENTS};
 use super::ConfigProblems;
 use crate::cosmology::CosmologyParams;
 use crate::error::InvalidValue;
@@ -241,6 +242,9 @@ pub struct RunConfigFile {
     pub survey: SurveyOptions,
     #[serde(default)]
     pub tests: TestOptions,
+    /// Where the hosts live: one table or a list (`[[environment]]`); isolated when absent.
+    #[serde(default)]
+    pub environment: Option<OneOrMany<EnvironmentSection>>,
 }
 
 /// A validated configuration.
@@ -255,6 +259,8 @@ pub struct RunConfig {
     /// Their names in reports (`label`, or the preset and its overrides), distinct.
     pub cosmology_labels: Vec<String>,
     pub mass_bins: Vec<MassBin>,
+    /// Every environment of the sweep (at least one; isolated when none is configured).
+    pub environments: Vec<Environment>,
     /// The first fixed host mass (commands that need one).
     pub host_mass_msun: f64,
     pub host_mass_definition: MassDefinition,
@@ -512,12 +518,57 @@ impl RunConfig {
                 "must be in [2, 10000]",
             ));
         }
+        let env_sections = file
+            .environment
+            .as_ref()
+            .map_or_else(|| vec![EnvironmentSection::default()], OneOrMany::to_vec);
+        let mut environments = Vec::new();
+        if env_sections.is_empty() {
+            problems.push(InvalidValue::new(
+                "environment",
+                "[]",
+                "give at least one environment (or leave the table out: isolated hosts)",
+            ));
+        }
+        if env_sections.len() > MAX_ENVIRONMENTS {
+            problems.push(InvalidValue::new(
+                "environment",
+                format!("{} tables", env_sections.len()),
+                format!("at most {MAX_ENVIRONMENTS} environments"),
+            ));
+        }
+        for (i, sec) in env_sections.iter().enumerate() {
+            let prefix = if env_sections.len() == 1 {
+                "environment.".to_string()
+            } else {
+                format!("environment[{i}].")
+            };
+            match sec.validate(&prefix) {
+                Ok(e) => {
+                    if let Some(j) = environments
+                        .iter()
+                        .position(|x: &Environment| x.label == e.label)
+                    {
+                        problems.push(InvalidValue::new(
+                            format!("{prefix}label"),
+                            format!("{:?}", e.label),
+                            format!("names the same cell as environment[{j}]; give each a distinct label"),
+                        ));
+                    }
+                    environments.push(e);
+                }
+                Err(p) => problems.extend(p),
+            }
+        }
         problems.extend(file.orbits.problems("orbits."));
         problems.extend(file.galaxies.problems("galaxies."));
         problems.extend(file.survey.problems("survey."));
         // the grid as a whole: a plain upper limit (a store of 1e8 Milky-Way-mass hosts at the
         // default resolution would take about 100 TB; `size_warning` speaks below it)
-        let total = (sections.len() * mass_bins.len().max(1)) as u128 * r.hosts_per_cell as u128;
+        let members: u128 = environments.iter().map(|e| e.members() as u128).sum();
+        let total = (sections.len() * mass_bins.len().max(1)) as u128
+            * members.max(1)
+            * r.hosts_per_cell as u128;
         if total > MAX_HOSTS as u128 {
             problems.push(InvalidValue::new(
                 "run.hosts_per_cell",
@@ -540,6 +591,7 @@ impl RunConfig {
             cosmologies,
             cosmology_labels,
             mass_bins,
+            environments,
             host_mass_msun: m_first,
             host_mass_definition: mdef.unwrap(),
             host: HostOptions {
@@ -569,14 +621,19 @@ impl RunConfig {
             .with_columns(self.file.run.sample_columns.clone(), "run.sample_columns")
     }
 
-    /// Number of hosts in the whole grid.
+    /// Number of hosts in the whole grid (a pair counts its two hosts).
     pub fn n_hosts(&self) -> u64 {
-        (self.cosmologies.len() * self.mass_bins.len() * self.file.run.hosts_per_cell) as u64
+        let members: u64 = self.environments.iter().map(Environment::members).sum();
+        (self.cosmologies.len() * self.mass_bins.len()) as u64
+            * members
+            * self.file.run.hosts_per_cell as u64
     }
 
     /// Rough size of the run, scaled from measurements of the default host (`SizeEstimate`).
     pub fn size_estimate(&self) -> SizeEstimate {
-        let per_cell = self.file.run.hosts_per_cell as f64 * self.cosmologies.len() as f64;
+        let members: u64 = self.environments.iter().map(Environment::members).sum();
+        let per_cell =
+            self.file.run.hosts_per_cell as f64 * self.cosmologies.len() as f64 * members as f64;
         let res = self.file.trees.resolution_msun;
         let scale: f64 = self
             .mass_bins

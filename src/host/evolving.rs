@@ -136,6 +136,8 @@ pub struct EvolvingHost {
     sigma_tab: Vec<f64>,
     /// Concentration at each node (for output).
     conc: Vec<f64>,
+    /// The partner halo of a pair (None: an isolated host).
+    partner: Option<std::sync::Arc<super::partner::Partner>>,
 }
 
 impl EvolvingHost {
@@ -257,6 +259,7 @@ impl EvolvingHost {
             snaps,
             sigma_tab,
             conc,
+            partner: None,
         }
     }
 
@@ -271,6 +274,7 @@ impl EvolvingHost {
             snaps: vec![s, s],
             sigma_tab,
             conc: vec![s.r_vir / s.r_s; 2],
+            partner: None,
         }
     }
 
@@ -313,6 +317,33 @@ impl EvolvingHost {
             row[j] + g * (row[j + 1] - row[j])
         };
         at(i) + f * (at(i + 1) - at(i))
+    }
+
+    /// This host with a partner in its field (a host of a pair).
+    pub fn with_partner(mut self, partner: super::partner::Partner) -> Self {
+        self.partner = Some(std::sync::Arc::new(partner));
+        self
+    }
+
+    /// The partner, for a host of a pair.
+    #[inline]
+    pub fn partner(&self) -> Option<&super::partner::Partner> {
+        self.partner.as_deref()
+    }
+
+    /// Gravitational acceleration at x (host frame, kpc) at time t, kpc/Gyr^2: the host's
+    /// own, plus for a host of a pair the partner's pull relative to the host's centre
+    /// (`Partner::accel`).
+    #[inline]
+    pub fn accel_at(&self, t: f64, x: [f64; 3]) -> [f64; 3] {
+        let a = self.snapshot(t).accel(x);
+        match &self.partner {
+            None => a,
+            Some(p) => {
+                let b = p.accel(t, x);
+                [a[0] + b[0], a[1] + b[1], a[2] + b[2]]
+            }
+        }
     }
 
     /// The snapshot nodes (for output).

@@ -3,7 +3,9 @@
 
 pub mod evolving;
 pub mod median;
+pub mod partner;
 pub mod potential;
 
 pub use evolving::{DiscBulgeParams, EvolvingHost, HostOptions};
+pub use partner::Partner;
 pub use potential::{HostSnapshot, Potential};

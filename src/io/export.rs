@@ -10,19 +10,21 @@ use super::store::{n_hosts_in, HOST_COLUMNS, SUB_COLUMNS};
 use super::{AtomicPath, IoError};
 
 /// Host columns copied onto every row (prefixed `host_` where the name is not already).
-const HOST_JOIN: [&str; 6] = [
+const HOST_JOIN: [&str; 8] = [
     "host_index",
     "cosmology_index",
     "mass_bin",
+    "environment",
+    "pair_member",
     "m_vir_msun",
     "r_vir_kpc",
     "concentration",
 ];
 
-/// Names of a cell: the cosmology's label and the host mass's, by index.
-pub struct CellNames {
-    pub cosmologies: Vec<String>,
-    pub masses: Vec<String>,
+/// Names of a cell: (cosmology label, host-mass label) of (cosmology index, cell code,
+/// `stats::cells::cell_code`).
+pub struct CellNames<'a> {
+    pub of: &'a dyn Fn(u16, u16) -> (String, String),
 }
 
 /// A CSV field: quoted when it holds a comma, a quote or a line break (RFC 4180).
@@ -46,7 +48,7 @@ fn number(x: f64) -> String {
     }
 }
 
-/// Write the subhalo rows of the hosts whose cell `keep(cosmology, mass_bin)` accepts to
+/// Write the subhalo rows of the hosts whose cell `keep(cosmology, cell code)` accepts to
 /// `out` as CSV: `cosmology`, `host_mass_msun` (the cell's names), the host's index, cell
 /// indices, virial mass and radius and concentration, then every column of /subhalos in the
 /// store's order (units in the names, as in the store). Returns the number of rows.
@@ -116,20 +118,17 @@ pub fn export_subhalos_csv(
             .map(|c| read(&s, c, s0..s1))
             .collect::<Result<_, _>>()?;
         for k in 0..(h1 - h0) {
-            let (ci, mi) = (hosts[1][k] as u16, hosts[2][k] as u16);
-            if !keep(ci, mi) {
+            let ci = hosts[1][k] as u16;
+            let code = crate::stats::cells::cell_code(
+                hosts[2][k] as u16,
+                hosts[3][k] as u8,
+                hosts[4][k] as u8,
+            );
+            if !keep(ci, code) {
                 continue;
             }
-            let cell = format!(
-                "{},{}",
-                field(
-                    names
-                        .cosmologies
-                        .get(ci as usize)
-                        .map_or("?", |s| s.as_str())
-                ),
-                field(names.masses.get(mi as usize).map_or("?", |s| s.as_str()))
-            );
+            let (cn, mn) = (names.of)(ci, code);
+            let cell = format!("{},{}", field(&cn), field(&mn));
             let host: Vec<String> = hosts.iter().map(|c| number(c[k])).collect();
             let host = host.join(",");
             let a = offs[k] as usize - s0;

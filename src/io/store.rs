@@ -66,7 +66,7 @@ pub const HOST_COLUMNS: &[Spec] = &[
     (
         "host_index",
         "index",
-        "global host index: (cosmology * n_mass_bins + mass_bin) * hosts_per_cell + k",
+        "global host index: hosts numbered cell by cell, cells in the order (cosmology, host mass, environment), hosts_per_cell hosts or pairs (primary, then partner) per cell",
     ),
     (
         "cosmology_index",
@@ -106,6 +106,68 @@ pub const HOST_COLUMNS: &[Spec] = &[
     ("n_tree_nodes", "", "nodes in the host's merger tree"),
     ("sub_offset", "index", "first row of this host in /subhalos"),
     ("sub_count", "", "number of rows of this host in /subhalos"),
+    (
+        "environment",
+        "index",
+        "position in the run's list of environments ([[environment]]; 0 when none is configured: isolated)",
+    ),
+    (
+        "pair_member",
+        "",
+        "0: an isolated host or the primary of a pair (the cell's host mass); 1: the partner of a pair",
+    ),
+    (
+        "partner_host_index",
+        "index",
+        "global host index of the other host of the pair (18446744073709551615: isolated)",
+    ),
+    (
+        "partner_m_vir_msun",
+        "Msun",
+        "the other host's virial mass today (NaN: isolated)",
+    ),
+    (
+        "pair_separation_kpc",
+        "kpc",
+        "separation of the pair today (drawn; NaN: isolated)",
+    ),
+    (
+        "pair_radial_velocity_kms",
+        "km/s",
+        "relative radial velocity of the pair today (negative: approaching)",
+    ),
+    (
+        "pair_tangential_velocity_kms",
+        "km/s",
+        "relative tangential speed of the pair today",
+    ),
+    (
+        "pair_min_separation_kpc",
+        "kpc",
+        "smallest separation of the mutual orbit since the earliest infall",
+    ),
+    (
+        "pair_t_min_separation_gyr",
+        "Gyr",
+        "cosmic time of that smallest separation",
+    ),
+    (
+        "partner_x_kpc",
+        "kpc",
+        "the partner's position relative to this host today, x (this host's frame)",
+    ),
+    ("partner_y_kpc", "kpc", "... y"),
+    ("partner_z_kpc", "kpc", "... z"),
+    (
+        "partner_r_vir_kpc",
+        "kpc",
+        "the other host's virial radius today",
+    ),
+    (
+        "pair_region_radius_kpc",
+        "kpc",
+        "radius of the pair region about the barycentre (environment.region_radius_kpc)",
+    ),
 ];
 
 /// Columns of the `subhalos` table.
@@ -237,10 +299,42 @@ pub const SUB_COLUMNS: &[Spec] = &[
         "flag",
         "1: the configured survey would detect it",
     ),
+    (
+        "t_first_partner_infall_gyr",
+        "Gyr",
+        "hosts of a pair: first inward crossing of the partner's virial radius (NaN: never inside it)",
+    ),
+    (
+        "n_partner_crossings",
+        "",
+        "hosts of a pair: crossings of the partner's virial radius (odd: inside it today)",
+    ),
+    (
+        "n_partner_pericentres",
+        "",
+        "hosts of a pair: pericentres about the partner",
+    ),
+    (
+        "r_peri_min_partner_kpc",
+        "kpc",
+        "hosts of a pair: smallest pericentre about the partner (NaN: none)",
+    ),
+    (
+        "r_partner_kpc",
+        "kpc",
+        "hosts of a pair: distance from the partner's centre today (NaN: isolated)",
+    ),
 ];
 
 fn host_cols(recs: &[(u64, &HostRecord)], first_row: u64, first_sub: u64) -> Vec<Col> {
     let f = |g: &dyn Fn(&HostRecord) -> f64| Col::F64(recs.iter().map(|(_, r)| g(r)).collect());
+    let pf = |g: &dyn Fn(&crate::synth::PairRecord) -> f64| {
+        Col::F64(
+            recs.iter()
+                .map(|(_, r)| r.pair.as_ref().map_or(f64::NAN, g))
+                .collect(),
+        )
+    };
     let mut offsets = Vec::with_capacity(recs.len());
     let mut off = first_sub;
     for (_, r) in recs {
@@ -264,6 +358,29 @@ fn host_cols(recs: &[(u64, &HostRecord)], first_row: u64, first_sub: u64) -> Vec
         Col::U64(recs.iter().map(|(_, r)| r.summary.n_tree_nodes).collect()),
         Col::U64(offsets),
         Col::U64(recs.iter().map(|(_, r)| r.subhaloes.len() as u64).collect()),
+        Col::U8(recs.iter().map(|(_, r)| r.summary.id.environment).collect()),
+        Col::U8(recs.iter().map(|(_, r)| r.summary.id.member).collect()),
+        // the other host of a pair is the next row (primary) or the previous (partner)
+        Col::U64(
+            recs.iter()
+                .map(|(g, r)| match &r.pair {
+                    None => u64::MAX,
+                    Some(p) if p.member == 0 => g + 1,
+                    Some(_) => g - 1,
+                })
+                .collect(),
+        ),
+        pf(&|p| p.partner_m_vir_msun),
+        pf(&|p| p.separation_kpc),
+        pf(&|p| p.radial_velocity_kms),
+        pf(&|p| p.tangential_velocity_kms),
+        pf(&|p| p.min_separation_kpc),
+        pf(&|p| p.t_min_separation_gyr),
+        pf(&|p| p.partner_pos_kpc[0]),
+        pf(&|p| p.partner_pos_kpc[1]),
+        pf(&|p| p.partner_pos_kpc[2]),
+        pf(&|p| p.partner_r_vir_kpc),
+        pf(&|p| p.region_radius_kpc),
     ]
 }
 
@@ -336,6 +453,11 @@ fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
         fg(&|g| g.m_v),
         fg(&|g| g.d_helio_kpc),
         Col::U8(rows.iter().map(|x| x.3.observable as u8).collect()),
+        f(&|s| s.t_first_partner_infall_gyr),
+        Col::U32(rows.iter().map(|x| x.2.n_partner_crossings).collect()),
+        Col::U32(rows.iter().map(|x| x.2.n_partner_pericentres).collect()),
+        f(&|s| s.r_peri_min_partner_kpc),
+        f(&|s| s.r_partner_kpc),
     ]
 }
 
@@ -358,6 +480,9 @@ const DEFLATED_F64: &[&str] = &[
     "t_disrupt_pericentre_gyr",
     "t_merge_gyr",
     "d_helio_kpc",
+    "t_first_partner_infall_gyr",
+    "r_peri_min_partner_kpc",
+    "r_partner_kpc",
 ];
 
 /// Filters of a column: byte shuffle, then deflate at `DEFLATE_LEVEL`, for the integer columns
@@ -531,39 +656,26 @@ impl StoreWriter {
         for (spec, c) in SUB_COLUMNS.iter().zip(cols) {
             append_col(&s, spec.0, &c)?;
         }
-        // histories: a 2-D table, one row per host, on the tree's output grid
-        let hist = self.file.group("histories")?;
+        // histories: 2-D tables, one row per host, on the tree's output grid
         let len = recs[0].1.mah_msun.len();
-        if self.mah_len.is_none() {
-            let ds = hist
-                .new_dataset::<f64>()
-                .chunk((self.hist_chunk, len))
-                .shape((Extent::resizable(0), Extent::fixed(len)))
-                .create("mass_msun")?;
-            set_str_attr(&ds, "units", "Msun")?;
-            set_str_attr(
-                &ds,
-                "description",
-                "main-branch virial mass, one row per host, columns at /histories/z",
-            )?;
-            let z = hist
-                .new_dataset_builder()
-                .with_data(&recs[0].1.mah_z)
-                .create("z")?;
-            set_str_attr(&z, "units", "")?;
-            set_str_attr(&z, "description", "redshifts of the history columns")?;
-            self.mah_len = Some(len);
-        }
-        let ds = hist.dataset("mass_msun")?;
-        let n = ds.shape()[0];
-        ds.resize((n + recs.len(), len))?;
-        let flat: Vec<f64> = recs
+        let mass: Vec<f64> = recs
             .iter()
             .flat_map(|(_, r)| r.mah_msun.iter().copied())
             .collect();
-        let arr = ndarray::Array2::from_shape_vec((recs.len(), len), flat)
-            .map_err(|e| hdf5::Error::from(e.to_string()))?;
-        ds.write_slice(&arr, (n..n + recs.len(), ..))?;
+        let sep: Vec<f64> = recs
+            .iter()
+            .flat_map(|(_, r)| match &r.pair {
+                Some(p) => p.separation_history_kpc.clone(),
+                None => vec![f64::NAN; len],
+            })
+            .collect();
+        let to2 = |v: Vec<f64>| {
+            ndarray::Array2::from_shape_vec((recs.len(), len), v)
+                .map_err(|e| hdf5::Error::from(e.to_string()))
+        };
+        let z = recs[0].1.mah_z.clone();
+        self.append_histories(&to2(mass)?, &to2(sep)?, &z)?;
+        self.mah_len = Some(len);
         self.n_hosts += recs.len() as u64;
         self.n_subs += n_new;
         Ok(())
@@ -611,39 +723,60 @@ impl StoreWriter {
         let hist = f.group("histories").map_err(e)?;
         if let Ok(ds) = hist.dataset("mass_msun") {
             let arr: ndarray::Array2<f64> = ds.read_2d().map_err(e)?;
+            let sep: ndarray::Array2<f64> = hist
+                .dataset("pair_separation_kpc")
+                .and_then(|d| d.read_2d())
+                .map_err(e)?;
             let z: Vec<f64> = hist.dataset("z").map_err(e)?.read_raw().map_err(e)?;
-            let mh = self.file.group("histories").map_err(me)?;
-            let len = arr.ncols();
-            if self.mah_len.is_none() {
-                let d = mh
-                    .new_dataset::<f64>()
-                    .chunk((self.hist_chunk, len.max(1)))
-                    .shape((Extent::resizable(0), Extent::fixed(len)))
-                    .create("mass_msun")
-                    .map_err(me)?;
-                set_str_attr(&d, "units", "Msun").map_err(me)?;
-                set_str_attr(
-                    &d,
-                    "description",
-                    "main-branch virial mass, one row per host, columns at /histories/z",
-                )
-                .map_err(me)?;
-                let zd = mh
-                    .new_dataset_builder()
-                    .with_data(&z)
-                    .create("z")
-                    .map_err(me)?;
-                set_str_attr(&zd, "units", "").map_err(me)?;
-                set_str_attr(&zd, "description", "redshifts of the history columns").map_err(me)?;
-                self.mah_len = Some(len);
-            }
-            let d = mh.dataset("mass_msun").map_err(me)?;
-            let n = d.shape()[0];
-            d.resize((n + arr.nrows(), len)).map_err(me)?;
-            d.write_slice(&arr, (n..n + arr.nrows(), ..)).map_err(me)?;
+            self.append_histories(&arr, &sep, &z).map_err(me)?;
+            self.mah_len = Some(arr.ncols());
         }
         self.n_hosts += nh;
         self.n_subs += ns;
+        Ok(())
+    }
+
+    /// Append rows to the history tables (created with the first rows): main-branch mass
+    /// and pair separation, columns at redshifts `z`.
+    fn append_histories(
+        &mut self,
+        mass: &ndarray::Array2<f64>,
+        sep: &ndarray::Array2<f64>,
+        z: &[f64],
+    ) -> hdf5::Result<()> {
+        let hist = self.file.group("histories")?;
+        let len = mass.ncols();
+        if self.mah_len.is_none() {
+            for (name, units, desc) in [
+                (
+                    "mass_msun",
+                    "Msun",
+                    "main-branch virial mass, one row per host, columns at /histories/z",
+                ),
+                (
+                    "pair_separation_kpc",
+                    "kpc",
+                    "hosts of a pair: separation from the partner, one row per host, columns at /histories/z (NaN: isolated)",
+                ),
+            ] {
+                let ds = hist
+                    .new_dataset::<f64>()
+                    .chunk((self.hist_chunk, len.max(1)))
+                    .shape((Extent::resizable(0), Extent::fixed(len)))
+                    .create(name)?;
+                set_str_attr(&ds, "units", units)?;
+                set_str_attr(&ds, "description", desc)?;
+            }
+            let zd = hist.new_dataset_builder().with_data(z).create("z")?;
+            set_str_attr(&zd, "units", "")?;
+            set_str_attr(&zd, "description", "redshifts of the history columns")?;
+        }
+        for (name, arr) in [("mass_msun", mass), ("pair_separation_kpc", sep)] {
+            let ds = hist.dataset(name)?;
+            let n = ds.shape()[0];
+            ds.resize((n + arr.nrows(), len))?;
+            ds.write_slice(arr, (n..n + arr.nrows(), ..))?;
+        }
         Ok(())
     }
 
@@ -663,7 +796,7 @@ impl StoreWriter {
 /// The `format` attribute of the stores this version writes. Version 2: satellites of
 /// satellites evolve inside their parents, with status codes 0-4 and the columns
 /// `t_merge_gyr` and `bound_to_branch`.
-pub const STORE_FORMAT: &str = "retinue run store, version 3";
+pub const STORE_FORMAT: &str = "retinue run store, version 4";
 
 /// Whether `path` is a run store of this tool, of any format version (for deciding what an
 /// output may replace).
@@ -695,8 +828,9 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
             path: path.display().to_string(),
             reason: format!(
                 "written by another version of retinue (`{fmt}`; this version reads \
-                 `{STORE_FORMAT}`, in which the disc destroys subhaloes at pericentres and \
-                 galaxies are placed by reionisation, with columns that older stores lack); \
+                 `{STORE_FORMAT}`, which adds paired hosts (environments) and their columns to \
+                 the disc destroying subhaloes at pericentres and galaxies placed by \
+                 reionisation: columns that older stores lack); \
                  run `retinue run` again to rebuild it"
             ),
         });
@@ -937,11 +1071,25 @@ pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, 
     let mut c = Catalog {
         host_id: sl(&h, "host_index", hr.clone()).map_err(e)?,
         host_cosmology: sl(&h, "cosmology_index", hr.clone()).map_err(e)?,
-        host_mass_bin: sl(&h, "mass_bin", hr.clone()).map_err(e)?,
+        host_cell: {
+            let m: Vec<u16> = sl(&h, "mass_bin", hr.clone()).map_err(e)?;
+            let env: Vec<u8> = sl(&h, "environment", hr.clone()).map_err(e)?;
+            let mem: Vec<u8> = sl(&h, "pair_member", hr.clone()).map_err(e)?;
+            (0..m.len())
+                .map(|k| crate::stats::cells::cell_code(m[k], env[k], mem[k]))
+                .collect()
+        },
         host_m_vir_msun: sl(&h, "m_vir_msun", hr.clone()).map_err(e)?,
         host_r_vir_kpc: sl(&h, "r_vir_kpc", hr.clone()).map_err(e)?,
         ..Default::default()
     };
+    c.host_pair_separation_kpc = sl(&h, "pair_separation_kpc", hr.clone()).map_err(e)?;
+    c.host_partner_r_vir_kpc = sl(&h, "partner_r_vir_kpc", hr.clone()).map_err(e)?;
+    c.host_region_radius_kpc = sl(&h, "pair_region_radius_kpc", hr.clone()).map_err(e)?;
+    let p_m: Vec<f64> = sl(&h, "partner_m_vir_msun", hr.clone()).map_err(e)?;
+    let p_x: Vec<f64> = sl(&h, "partner_x_kpc", hr.clone()).map_err(e)?;
+    let p_y: Vec<f64> = sl(&h, "partner_y_kpc", hr.clone()).map_err(e)?;
+    let p_z: Vec<f64> = sl(&h, "partner_z_kpc", hr.clone()).map_err(e)?;
     c.offset = offs.iter().map(|&o| o as usize - s0).collect();
     c.offset.push(s1 - s0);
     let rf = |n: &str| -> Result<Vec<f64>, IoError> { sl(&s, n, sr.clone()).map_err(e) };
@@ -971,6 +1119,24 @@ pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, 
     c.m_v = rf("m_v")?;
     let ob: Vec<u8> = sl(&s, "observable", sr.clone()).map_err(e)?;
     c.observable = ob.into_iter().map(|v| v != 0).collect();
+    c.r_partner_kpc = rf("r_partner_kpc")?;
+    c.once_in_partner = rf("t_first_partner_infall_gyr")?
+        .into_iter()
+        .map(f64::is_finite)
+        .collect();
+    // distance from the pair's barycentre (of the two virial masses), in the host's frame
+    c.r_bary_kpc = vec![f64::NAN; x.len()];
+    for k in 0..c.host_id.len() {
+        if !p_m[k].is_finite() {
+            continue;
+        }
+        let w = p_m[k] / (p_m[k] + c.host_m_vir_msun[k]);
+        let b = [w * p_x[k], w * p_y[k], w * p_z[k]];
+        for i in c.offset[k]..c.offset[k + 1] {
+            c.r_bary_kpc[i] =
+                ((x[i] - b[0]).powi(2) + (y[i] - b[1]).powi(2) + (z[i] - b[2]).powi(2)).sqrt();
+        }
+    }
     if c.offset.windows(2).any(|w| w[1] < w[0]) {
         return Err(IoError::Format {
             path: path.display().to_string(),

@@ -78,6 +78,8 @@ pub(crate) struct Tracker {
     pub r_apo_last: f64,
     /// Last crossing of R_vir made while moving inward (NaN: none yet).
     pub t_last_infall: f64,
+    /// The first such crossing (or the start, when it starts inside).
+    pub t_first_infall: f64,
     /// Crossings of R_vir in either direction, the entry counted as the first when the
     /// subhalo starts inside: odd means inside at the end.
     pub n_cross: u32,
@@ -98,6 +100,7 @@ impl Tracker {
             r_peri_last: f64::NAN,
             r_apo_last: f64::NAN,
             t_last_infall: f64::NAN,
+            t_first_infall: f64::NAN,
             n_cross: 0,
             been_inside: false,
             t_disrupt_peri: f64::NAN,
@@ -111,6 +114,7 @@ impl Tracker {
     pub fn at_infall(t_start: f64) -> Self {
         Self {
             t_last_infall: t_start,
+            t_first_infall: t_start,
             n_cross: 1,
             at_start: true,
             ..Self::empty()
@@ -124,6 +128,7 @@ impl Tracker {
         if r < r_vir {
             Self {
                 t_last_infall: t,
+                t_first_infall: t,
                 n_cross: 1,
                 been_inside: true,
                 ..Self::empty()
@@ -199,6 +204,9 @@ impl Tracker {
             let f = d0 / (d0 - d1);
             if vr0 + f * (vr1 - vr0) < 0.0 {
                 self.t_last_infall = t0 + h * f;
+                if self.t_first_infall.is_nan() {
+                    self.t_first_infall = self.t_last_infall;
+                }
             }
         } else if d0 < 0.0 && d1 >= 0.0 {
             self.n_cross += 1;

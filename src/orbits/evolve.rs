@@ -120,6 +120,18 @@ pub struct SubhaloResult {
     pub vmax_infall_kms: f64,
     pub backsplash: bool,
     pub status: SubhaloStatus,
+    /// For a host of a pair, its events about the partner (measured like those about the
+    /// host, on the position relative to the partner's centre; NaN / 0 for isolated hosts):
+    /// the first inward crossing of the partner's virial radius (NaN: never inside it),
+    pub t_first_partner_infall_gyr: f64,
+    /// crossings of the partner's virial radius in either direction (odd: inside it at the
+    /// end),
+    pub n_partner_crossings: u32,
+    /// pericentres about the partner and the smallest of them (kpc),
+    pub n_partner_pericentres: u32,
+    pub r_peri_min_partner_kpc: f64,
+    /// and the distance from the partner's centre at the end (kpc).
+    pub r_partner_kpc: f64,
 }
 
 /// The field profile of a halo with children, at the times they fell in and at its own

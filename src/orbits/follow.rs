@@ -100,14 +100,21 @@ pub(crate) fn host_friction(host: &EvolvingHost, t: f64, y: &State, m: f64, ll: 
     }
     let r = norm(pos(y));
     let rho = host.snapshot(t).friction_density(r);
-    friction::acceleration(vel(y), rho, host.sigma(r, t), m, ll)
+    let a = friction::acceleration(vel(y), rho, host.sigma(r, t), m, ll);
+    match host.partner() {
+        None => a,
+        Some(p) => {
+            let b = p.friction(t, y, m, ll);
+            [a[0] + b[0], a[1] + b[1], a[2] + b[2]]
+        }
+    }
 }
 
 /// The host's acceleration alone (the right-hand side of a test particle for `Rkn6`).
 #[inline]
 pub(crate) fn accel_free(host: &EvolvingHost, t: f64, x: &Vec3) -> Vec3 {
     count_rhs();
-    host.snapshot(t).accel(*x)
+    host.accel_at(t, *x)
 }
 
 /// The integrator of one orbit: the Runge–Kutta–Nyström pair for gravity (which depends on
@@ -283,6 +290,11 @@ pub(crate) fn new_result(a: &Accretion, structure: &SubhaloStructure) -> Subhalo
         vmax_infall_kms: structure.vmax_acc / KMS,
         backsplash: false,
         status: SubhaloStatus::InHost,
+        t_first_partner_infall_gyr: f64::NAN,
+        n_partner_crossings: 0,
+        n_partner_pericentres: 0,
+        r_peri_min_partner_kpc: f64::NAN,
+        r_partner_kpc: f64::NAN,
     }
 }
 
@@ -315,11 +327,10 @@ fn host_tide(snap: &crate::host::HostSnapshot, y: &State) -> (f64, f64) {
 /// density inside R_max, in units of 4 pi G / 3, along its tidal track). Our closure,
 /// calibrated on the depletion a disc causes in simulations (docs/methods.md).
 fn disc_destroys(
-    host: &EvolvingHost,
+    s: crate::host::HostSnapshot,
     options: &OrbitOptions,
     structure: &SubhaloStructure,
     m: f64,
-    t_p: f64,
     r_p: f64,
     y: &State,
 ) -> bool {
@@ -327,7 +338,6 @@ fn disc_destroys(
     if options.disc_tide_ratio <= 0.0 || !options.stripping || !r_p.is_finite() {
         return false;
     }
-    let s = host.snapshot(t_p);
     if s.m_disc <= 0.0 && s.m_bulge <= 0.0 {
         return false;
     }
@@ -387,7 +397,7 @@ pub(crate) fn follow(
     // the acceleration at a point where the integrator has none stored (a segment's start)
     let gravity = |chain: &Option<Chain>, t: f64, y: &State| -> Vec3 {
         match chain {
-            None => host.snapshot(t).accel(pos(y)),
+            None => host.accel_at(t, pos(y)),
             Some(c) => c.accel(host, t, pos(y)),
         }
     };
@@ -416,6 +426,8 @@ pub(crate) fn follow(
         push_point(&mut segs, frame, point(t, y, a0, m, prof, r_t), true);
     }
     let mut ended: Option<SubhaloStatus> = None;
+    // events about the partner, for a host of a pair (from the first step in the host)
+    let mut ptracker: Option<Tracker> = None;
     // tidal mass and stripping rate at the end of the previous step
     let mut prev_tide: Option<(f64, f64)> = None;
     // the friction force needs the container's mass inside r: the host's, from the last point
@@ -532,7 +544,7 @@ pub(crate) fn follow(
         let snap1 = host.snapshot(t1);
         let mut abs1 = in_host(&chain, t1, &y1);
         // the strongest tide and the container's mass inside r
-        let (denom, r_tide, m_tide) = match &chain {
+        let (mut denom, mut r_tide, mut m_tide) = match &chain {
             None => {
                 let (d, m_enc) = host_tide(&snap1, &y1);
                 m_enc_cont = m_enc;
@@ -551,6 +563,13 @@ pub(crate) fn follow(
                 best
             }
         };
+        // the partner's tide, for a host of a pair, where it is the stronger
+        if let (Some(p), Some(a1)) = (host.partner(), &abs1) {
+            let (d, r, m_enc) = p.tide(t1, a1);
+            if d > denom {
+                (denom, r_tide, m_tide) = (d, r, m_enc);
+            }
+        }
         // the tidal radius (also without stripping: it decides mergers with a parent)
         if m != prof_m {
             prof = structure.profile(m);
@@ -606,16 +625,37 @@ pub(crate) fn follow(
             // subhalo's own density (`disc_destroys`)
             if tr.n_peri > n_peri
                 && disc_destroys(
-                    host,
+                    host.snapshot(tr.t_peri_last),
                     options,
                     structure,
                     m,
-                    tr.t_peri_last,
                     tr.r_peri_last,
                     a1,
                 )
             {
                 disc_kill = Some(tr.t_peri_last);
+            }
+            // about the partner of a pair: its virial radius, its pericentres and its disc
+            if let Some(p) = host.partner() {
+                let (q0, q1) = (p.relative(t, a0), p.relative(t1, a1));
+                let (rv0, rv1) = (p.host.snapshot(t).r_vir, p.host.snapshot(t1).r_vir);
+                let ptr =
+                    ptracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(&q0)), rv0));
+                let n_peri = ptr.n_peri;
+                ptr.step(t, &q0, t1, &q1, rv0, rv1, options.pericentre_cut_kpc);
+                if ptr.n_peri > n_peri
+                    && disc_kill.is_none()
+                    && disc_destroys(
+                        p.snapshot(ptr.t_peri_last),
+                        options,
+                        structure,
+                        m,
+                        ptr.r_peri_last,
+                        &q1,
+                    )
+                {
+                    disc_kill = Some(ptr.t_peri_last);
+                }
             }
         } else if tracker.is_none() {
             if let Some(a1) = &abs1 {
@@ -737,6 +777,18 @@ pub(crate) fn follow(
         res.t_last_host_infall_gyr = tr.t_last_infall.max(res.t_first_host_infall_gyr);
         res.t_disrupt_pericentre_gyr = tr.t_disrupt_peri;
     }
+    if let Some(ptr) = &ptracker {
+        res.t_first_partner_infall_gyr = ptr.t_first_infall;
+        res.n_partner_crossings = ptr.n_cross;
+        res.n_partner_pericentres = ptr.n_peri;
+        res.r_peri_min_partner_kpc = ptr.r_peri_min;
+        // the hard pericentre cut applies about either galaxy
+        if ptr.t_disrupt_peri < res.t_disrupt_pericentre_gyr
+            || res.t_disrupt_pericentre_gyr.is_nan()
+        {
+            res.t_disrupt_pericentre_gyr = ptr.t_disrupt_peri;
+        }
+    }
     let (vmax, rmax) = structure.vmax_rmax(m);
     res.m_bound_msun = m;
     res.vmax_kms = vmax / KMS;
@@ -747,6 +799,9 @@ pub(crate) fn follow(
         res.pos_kpc = x;
         res.vel_kms = [v[0] / KMS, v[1] / KMS, v[2] / KMS];
         res.r_kpc = norm(x);
+        if let Some(p) = host.partner() {
+            res.r_partner_kpc = norm(pos(&p.relative(t, &a)));
+        }
         res.backsplash =
             status.alive() && tracker.is_some_and(|tr| tr.been_inside) && res.r_kpc > cur_rv;
     }

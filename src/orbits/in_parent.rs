@@ -603,9 +603,8 @@ impl<'a> Chain<'a> {
         }
         if self.host {
             s = add(s, self.rel_pos(n - 1, t));
-            let snap = host.snapshot(t);
-            let g1 = crate::host::Potential::accel(&snap, add(x, s));
-            let g0 = crate::host::Potential::accel(&snap, s);
+            let g1 = host.accel_at(t, add(x, s));
+            let g0 = host.accel_at(t, s);
             for i in 0..3 {
                 a[i] += g1[i] - g0[i];
             }

@@ -23,7 +23,7 @@ fn coulomb_log_at(host: &EvolvingHost, t: f64, y: &State, m: f64) -> f64 {
 #[inline]
 fn rhs(host: &EvolvingHost, ll: f64, m: f64, t: f64, y: &State) -> State {
     count_rhs();
-    let mut a = host.snapshot(t).accel(pos(y));
+    let mut a = host.accel_at(t, pos(y));
     let af = host_friction(host, t, y, m, ll);
     for i in 0..3 {
         a[i] += af[i];

@@ -3,6 +3,8 @@
 //! separation and velocity; `host::partner` adds the partner's pull, friction and tide to the
 //! orbits of every subhalo of a host of a pair.
 
+pub mod geometry;
 pub mod orbit;
 
+pub use geometry::PairGeometry;
 pub use orbit::PairOrbit;

@@ -105,6 +105,39 @@ impl PairOrbit {
         (x, v)
     }
 
+    /// Position (kpc) at time t (`state` without the velocity).
+    #[inline]
+    pub fn position(&self, t: f64) -> Vec3 {
+        let n = self.x.len();
+        let u = ((t - self.t0) / self.dt).clamp(0.0, (n - 1) as f64);
+        let i = (u as usize).min(n - 2);
+        let s = u - i as f64;
+        let h = self.dt;
+        let (x0, x1, v0, v1) = (self.x[i], self.x[i + 1], self.v[i], self.v[i + 1]);
+        let s2 = s * s;
+        let s3 = s2 * s;
+        let h00 = 2.0 * s3 - 3.0 * s2 + 1.0;
+        let h10 = (s3 - 2.0 * s2 + s) * h;
+        let h01 = -2.0 * s3 + 3.0 * s2;
+        let h11 = (s3 - s2) * h;
+        [
+            h00 * x0[0] + h10 * v0[0] + h01 * x1[0] + h11 * v1[0],
+            h00 * x0[1] + h10 * v0[1] + h01 * x1[1] + h11 * v1[1],
+            h00 * x0[2] + h10 * v0[2] + h01 * x1[2] + h11 * v1[2],
+        ]
+    }
+
+    /// The same orbit seen from the partner (the primary relative to the partner).
+    pub fn reversed(&self) -> Self {
+        let neg = |a: &Vec3| [-a[0], -a[1], -a[2]];
+        Self {
+            t0: self.t0,
+            dt: self.dt,
+            x: self.x.iter().map(neg).collect(),
+            v: self.v.iter().map(neg).collect(),
+        }
+    }
+
     /// Separation (kpc) at time t.
     pub fn separation(&self, t: f64) -> f64 {
         let (x, _) = self.state(t);

@@ -36,26 +36,52 @@ pub struct CellLabels {
     pub cosmologies: Vec<String>,
     /// Host mass (or range) label per mass bin.
     pub masses: Vec<String>,
+    /// Environment label per environment, and whether each is a pair (empty: isolated
+    /// hosts only).
+    pub environments: Vec<(String, bool)>,
 }
 
 impl CellLabels {
-    /// (cosmology, host mass) of a cell; indices outside the lists get their number.
-    pub fn of(&self, cosmology: u16, mass_bin: u16) -> (String, String) {
+    /// (cosmology, host mass) of a cell (`code`: `stats::cells::cell_code`); indices outside
+    /// the lists get their number. When the run has more than one environment or a pair, the
+    /// host-mass name carries the environment's label, and " partner" for the partners of a
+    /// pair: e.g. "1.2e12 pair partner".
+    pub fn of(&self, cosmology: u16, code: u16) -> (String, String) {
+        let (mass_bin, env, member) = crate::stats::cells::split_cell(code);
+        let mut mass = self
+            .masses
+            .get(mass_bin as usize)
+            .cloned()
+            .unwrap_or_else(|| format!("mass bin {mass_bin}"));
+        let named = self.environments.len() > 1 || self.environments.iter().any(|e| e.1);
+        if named || env > 0 {
+            let label = self
+                .environments
+                .get(env as usize)
+                .map(|e| e.0.clone())
+                .unwrap_or_else(|| format!("environment {env}"));
+            mass = format!("{mass} {label}");
+            if member == 1 {
+                mass.push_str(" partner");
+            }
+        }
         (
             self.cosmologies
                 .get(cosmology as usize)
                 .cloned()
                 .unwrap_or_else(|| format!("cosmology {cosmology}")),
-            self.masses
-                .get(mass_bin as usize)
-                .cloned()
-                .unwrap_or_else(|| format!("mass bin {mass_bin}")),
+            mass,
         )
     }
 
-    /// Number of cells of the grid.
+    /// Number of cells of the grid (the partners of a pair cell are a cell of their own).
     pub fn n_cells(&self) -> usize {
-        self.cosmologies.len().max(1) * self.masses.len().max(1)
+        let members: usize = self
+            .environments
+            .iter()
+            .map(|e| if e.1 { 2 } else { 1 })
+            .sum();
+        self.cosmologies.len().max(1) * self.masses.len().max(1) * members.max(1)
     }
 }
 

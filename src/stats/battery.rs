@@ -601,6 +601,9 @@ pub fn run_tests_raw(
                         cosmology: clock as u16,
                         mass_bin: 0,
                         index: cat.host_id[h] as u32,
+                        // (a pair's two hosts on streams of their own; isolated hosts as before)
+                        environment: HostId::from_stream(cat.host_id[h]).environment,
+                        member: HostId::from_stream(cat.host_id[h]).member,
                     },
                     Stream::Statistics,
                 );
@@ -685,6 +688,9 @@ pub fn run_tests_raw(
                             cosmology: 16 + clock as u16,
                             mass_bin: 0,
                             index: cat.host_id[h] as u32,
+                            // (a pair's two hosts on streams of their own; isolated hosts as before)
+                            environment: HostId::from_stream(cat.host_id[h]).environment,
+                            member: HostId::from_stream(cat.host_id[h]).member,
                         },
                         Stream::Statistics,
                     );
@@ -826,7 +832,7 @@ pub fn run_tests_raw(
 
     // 6. dependence on the grid cell
     let mut cells: Vec<(u16, u16)> = (0..n_hosts)
-        .map(|h| (cat.host_cosmology[h], cat.host_mass_bin[h]))
+        .map(|h| (cat.host_cosmology[h], cat.host_cell[h]))
         .collect();
     cells.sort();
     cells.dedup();
@@ -836,7 +842,7 @@ pub fn run_tests_raw(
         .into_iter()
         .map(|(ci, mi)| {
             let hosts: Vec<usize> = (0..n_hosts)
-                .filter(|&h| cat.host_cosmology[h] == ci && cat.host_mass_bin[h] == mi)
+                .filter(|&h| cat.host_cosmology[h] == ci && cat.host_cell[h] == mi)
                 .collect();
             let cosmo = cosmos[ci as usize];
             let mut zs = redshift_bins();

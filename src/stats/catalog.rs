@@ -11,9 +11,16 @@ pub struct Catalog {
     // hosts
     pub host_id: Vec<u64>,
     pub host_cosmology: Vec<u16>,
-    pub host_mass_bin: Vec<u16>,
+    /// The host's grid cell beside its cosmology (`cells::cell_code`: host-mass bin,
+    /// environment, pair member).
+    pub host_cell: Vec<u16>,
     pub host_m_vir_msun: Vec<f64>,
     pub host_r_vir_kpc: Vec<f64>,
+    /// Hosts of a pair (NaN for isolated hosts): the partner's distance today (kpc), its
+    /// virial radius (kpc) and the pair region's radius about the barycentre (kpc).
+    pub host_pair_separation_kpc: Vec<f64>,
+    pub host_partner_r_vir_kpc: Vec<f64>,
+    pub host_region_radius_kpc: Vec<f64>,
     /// Subhalo rows of host h are offset[h]..offset[h+1].
     pub offset: Vec<usize>,
     // subhaloes
@@ -38,12 +45,22 @@ pub struct Catalog {
     pub mstar_msun: Vec<f64>,
     pub m_v: Vec<f64>,
     pub observable: Vec<bool>,
+    /// Hosts of a pair (NaN / false for isolated hosts): distance today from the partner's
+    /// centre and from the pair's barycentre (kpc; the barycentre of the two virial masses),
+    /// and whether it was ever inside the partner's virial radius.
+    pub r_partner_kpc: Vec<f64>,
+    pub r_bary_kpc: Vec<f64>,
+    pub once_in_partner: Vec<bool>,
     /// Pre-processing infall times already computed (a compacted catalogue drops the rows the
     /// chain walk needs); empty = compute from the rows.
     pub t_pre_gyr: Vec<f64>,
     /// Backsplash counts per host and shell already computed (compacted catalogue); empty =
     /// count rows.
     pub host_backsplash_count: Vec<Vec<f64>>,
+}
+
+fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
+    ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
 }
 
 impl Catalog {
@@ -67,10 +84,34 @@ impl Catalog {
         }
         self.host_id.push(global_index);
         self.host_cosmology.push(rec.summary.id.cosmology);
-        self.host_mass_bin.push(rec.summary.id.mass_bin);
+        let id = rec.summary.id;
+        self.host_cell.push(super::cells::cell_code(
+            id.mass_bin,
+            id.environment,
+            id.member,
+        ));
         self.host_m_vir_msun.push(rec.summary.m_vir_msun);
         self.host_r_vir_kpc.push(rec.summary.r_vir_kpc);
+        let pair = rec.pair.as_ref();
+        self.host_pair_separation_kpc
+            .push(pair.map_or(f64::NAN, |p| p.separation_kpc));
+        self.host_partner_r_vir_kpc
+            .push(pair.map_or(f64::NAN, |p| p.partner_r_vir_kpc));
+        self.host_region_radius_kpc
+            .push(pair.map_or(f64::NAN, |p| p.region_radius_kpc));
+        // the barycentre in this host's frame
+        let bary = pair.map(|p| {
+            let w = p.partner_m_vir_msun / (p.partner_m_vir_msun + rec.summary.m_vir_msun);
+            p.partner_pos_kpc.map(|c| w * c)
+        });
         for (s, g) in rec.subhaloes.iter().zip(&rec.galaxies) {
+            self.r_partner_kpc.push(s.r_partner_kpc);
+            self.r_bary_kpc.push(match bary {
+                Some(b) => distance(s.pos_kpc, b),
+                None => f64::NAN,
+            });
+            self.once_in_partner
+                .push(s.t_first_partner_infall_gyr.is_finite());
             self.branch.push(s.branch);
             self.parent_branch.push(s.parent_branch);
             self.order.push(s.order);
@@ -126,7 +167,24 @@ impl Catalog {
         self.mstar_msun.push(other.mstar_msun[i]);
         self.m_v.push(other.m_v[i]);
         self.observable.push(other.observable[i]);
+        // (catalogues built by hand may leave the pair columns empty: isolated)
+        let nan = |v: &[f64]| v.get(i).copied().unwrap_or(f64::NAN);
+        self.r_partner_kpc.push(nan(&other.r_partner_kpc));
+        self.r_bary_kpc.push(nan(&other.r_bary_kpc));
+        self.once_in_partner
+            .push(other.once_in_partner.get(i).copied().unwrap_or(false));
         self.t_pre_gyr.push(t_pre);
+    }
+
+    /// Append host h's pair columns from `other`.
+    pub fn push_pair_host_from(&mut self, other: &Catalog, h: usize) {
+        let nan = |v: &[f64]| v.get(h).copied().unwrap_or(f64::NAN);
+        self.host_pair_separation_kpc
+            .push(nan(&other.host_pair_separation_kpc));
+        self.host_partner_r_vir_kpc
+            .push(nan(&other.host_partner_r_vir_kpc));
+        self.host_region_radius_kpc
+            .push(nan(&other.host_region_radius_kpc));
     }
 
     /// Hosts [h0, h1) as a catalogue of their own.
@@ -143,9 +201,10 @@ impl Catalog {
         for h in hosts {
             c.host_id.push(self.host_id[h]);
             c.host_cosmology.push(self.host_cosmology[h]);
-            c.host_mass_bin.push(self.host_mass_bin[h]);
+            c.host_cell.push(self.host_cell[h]);
             c.host_m_vir_msun.push(self.host_m_vir_msun[h]);
             c.host_r_vir_kpc.push(self.host_r_vir_kpc[h]);
+            c.push_pair_host_from(self, h);
             if !self.host_backsplash_count.is_empty() {
                 c.host_backsplash_count
                     .push(self.host_backsplash_count[h].clone());

@@ -9,10 +9,27 @@ use super::{AnalysisResults, ObservedSample, TestOptions};
 use crate::galaxies::GalaxyOptions;
 use crate::linear::LinearTheory;
 
+/// The code of a grid cell beside its cosmology: the host-mass bin (10 bits), the environment
+/// (5 bits) and, in a pair, which host (1 bit: the partners of a pair cell form a cell of
+/// their own). Equal to the mass bin for isolated hosts of the first environment.
+pub fn cell_code(mass_bin: u16, environment: u8, member: u8) -> u16 {
+    (mass_bin & 0x3ff) | ((environment as u16 & 0x1f) << 10) | ((member as u16 & 1) << 15)
+}
+
+/// (mass bin, environment, member) of a cell code.
+pub fn split_cell(code: u16) -> (u16, u8, u8) {
+    (
+        code & 0x3ff,
+        ((code >> 10) & 0x1f) as u8,
+        (code >> 15) as u8,
+    )
+}
+
 /// One cell's results.
 #[derive(Debug, Clone)]
 pub struct CellResults {
     pub cosmology: u16,
+    /// The cell's code (`cell_code`: host mass, environment, pair member).
     pub mass_bin: u16,
     pub n_hosts: usize,
     pub results: AnalysisResults,
@@ -44,7 +61,7 @@ impl<'a> CellMergers<'a> {
         sample: Option<&ObservedSample>,
     ) {
         let mut keys: Vec<(u16, u16)> = (0..cat.n_hosts())
-            .map(|h| (cat.host_cosmology[h], cat.host_mass_bin[h]))
+            .map(|h| (cat.host_cosmology[h], cat.host_cell[h]))
             .collect();
         keys.dedup();
         let mut seen: Vec<(u16, u16)> = Vec::new();
@@ -54,7 +71,7 @@ impl<'a> CellMergers<'a> {
             }
             seen.push(key);
             let hosts: Vec<usize> = (0..cat.n_hosts())
-                .filter(|&h| (cat.host_cosmology[h], cat.host_mass_bin[h]) == key)
+                .filter(|&h| (cat.host_cosmology[h], cat.host_cell[h]) == key)
                 .collect();
             let n = hosts.len();
             let sub = cat.select_hosts(hosts);

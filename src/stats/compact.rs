@@ -134,9 +134,13 @@ pub fn compact_from_store(
         let base = all.branch.len();
         all.host_id.extend(&c.host_id);
         all.host_cosmology.extend(&c.host_cosmology);
-        all.host_mass_bin.extend(&c.host_mass_bin);
+        all.host_cell.extend(&c.host_cell);
         all.host_m_vir_msun.extend(&c.host_m_vir_msun);
         all.host_r_vir_kpc.extend(&c.host_r_vir_kpc);
+        all.host_pair_separation_kpc
+            .extend(&c.host_pair_separation_kpc);
+        all.host_partner_r_vir_kpc.extend(&c.host_partner_r_vir_kpc);
+        all.host_region_radius_kpc.extend(&c.host_region_radius_kpc);
         all.host_backsplash_count
             .extend(c.host_backsplash_count.iter().cloned());
         for i in 0..c.n_subhaloes() {
@@ -203,14 +207,15 @@ pub fn for_each_chunk_where(
         })?;
         let clocks = clock_times(&c, cosmos, galaxies, &options.preprocessing);
         for h in 0..c.n_hosts() {
-            if !keep(c.host_cosmology[h], c.host_mass_bin[h]) {
+            if !keep(c.host_cosmology[h], c.host_cell[h]) {
                 continue;
             }
             out.host_id.push(c.host_id[h]);
             out.host_cosmology.push(c.host_cosmology[h]);
-            out.host_mass_bin.push(c.host_mass_bin[h]);
+            out.host_cell.push(c.host_cell[h]);
             out.host_m_vir_msun.push(c.host_m_vir_msun[h]);
             out.host_r_vir_kpc.push(c.host_r_vir_kpc[h]);
+            out.push_pair_host_from(&c, h);
             let mut n_bs = vec![0.0; b.n_shells()];
             for i in c.rows(h) {
                 fig.add(&c, h, i, &options.selection);

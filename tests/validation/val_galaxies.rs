@@ -88,6 +88,11 @@ fn fake_subhaloes(n: usize, m_peak: f64, t_peak: f64) -> Vec<SubhaloResult> {
         vmax_infall_kms: 20.0,
         backsplash: false,
         status: SubhaloStatus::InHost,
+        t_first_partner_infall_gyr: f64::NAN,
+        n_partner_crossings: 0,
+        n_partner_pericentres: 0,
+        r_peri_min_partner_kpc: f64::NAN,
+        r_partner_kpc: f64::NAN,
     };
     vec![proto; n]
 }

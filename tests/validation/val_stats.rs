@@ -59,7 +59,7 @@ fn synthetic(hosts: usize, per: usize, t_lo: f64, t_hi: f64, seed: u64) -> Catal
     for h in 0..hosts {
         c.host_id.push(h as u64);
         c.host_cosmology.push(0);
-        c.host_mass_bin.push(0);
+        c.host_cell.push(0);
         c.host_m_vir_msun.push(1.2e12);
         c.host_r_vir_kpc.push(280.0);
         for j in 0..per {
