@@ -120,6 +120,16 @@ impl Grid {
                                 z,
                             )
                         };
+                        let res = self.config.file.trees.resolution_msun;
+                        if mp <= 2.0 * res {
+                            let key = key.replace("separation_kpc", "partner_mass_msun");
+                            return Err(RunError::Input(format!(
+                                "{key}: a partner of {mp:.3e} Msun (for host {m:.3e} Msun) must \
+                                 be more than twice trees.resolution_msun = {res:.3e} Msun, like \
+                                 every host; allowed: above {:.3e} Msun",
+                                2.0 * res
+                            )));
+                        }
                         let sum = r(m) + r(mp);
                         if spec.separation_kpc <= sum {
                             return Err(RunError::Input(format!(
