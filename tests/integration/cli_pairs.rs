@@ -127,7 +127,11 @@ fn pair_cells_are_the_same_for_threads_and_shards_and_consistent_between_partner
     assert_eq!(env, vec![0.0, 0.0, 1.0, 1.0, 1.0, 1.0]);
     assert_eq!(member, vec![0.0, 0.0, 0.0, 1.0, 0.0, 1.0]);
     let idx = col(&f, "hosts/host_index");
-    let partner: Vec<u64> = f.dataset("hosts/partner_host_index").unwrap().read_raw().unwrap();
+    let partner: Vec<u64> = f
+        .dataset("hosts/partner_host_index")
+        .unwrap()
+        .read_raw()
+        .unwrap();
     let m_vir = col(&f, "hosts/m_vir_msun");
     let pm = col(&f, "hosts/partner_m_vir_msun");
     let sep = col(&f, "hosts/pair_separation_kpc");
@@ -168,11 +172,21 @@ fn pair_cells_are_the_same_for_threads_and_shards_and_consistent_between_partner
         assert!(report.contains(cell), "{cell} missing from the comparison");
     }
     // --cell env=pair selects the pair's two cells only
-    let out = run_ok(&["infall", &o("t1.h5"), "--name", "pairs", "--cell", "env=pair"]);
+    let out = run_ok(&[
+        "infall",
+        &o("t1.h5"),
+        "--name",
+        "pairs",
+        "--cell",
+        "env=pair",
+    ]);
     assert!(out.contains("P(all 3"), "{out}");
     let (code, _, err) = run_cli(&["infall", &o("t1.h5"), "--cell", "env=triple"]);
     assert_eq!(code, 2, "{err}");
-    assert!(err.contains("environments: \"isolated\", \"pair\""), "{err}");
+    assert!(
+        err.contains("environments: \"isolated\", \"pair\""),
+        "{err}"
+    );
 }
 
 /// Each bad environment is reported with its key, value and allowed range, all at once.

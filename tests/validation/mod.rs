@@ -7,6 +7,7 @@ mod val_halo;
 mod val_linear;
 mod val_massfunction;
 mod val_orbits;
+mod val_pair_orbit;
 mod val_pairs;
 mod val_stats;
 mod val_subhaloes;

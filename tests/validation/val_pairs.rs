@@ -204,8 +204,10 @@ fn negligible_partner_gives_the_isolated_host() {
             assert!(med < 1e-3, "{med:e}");
             assert!(same_status > 0.99, "{same_status}");
             // and it was a pair: the partner's events were tracked
-            assert!(paired.subhaloes.iter().all(|s| s.r_partner_kpc.is_finite()
-                || !s.status.alive()));
+            assert!(paired
+                .subhaloes
+                .iter()
+                .all(|s| s.r_partner_kpc.is_finite() || !s.status.alive()));
         }
     }
 }
