@@ -133,10 +133,16 @@ pub fn mutual_orbit(
     let accel = |t: f64, d: &[f64; 3]| -> [f64; 3] {
         // the primary's pull on the partner (with dark energy's term k d) minus the
         // partner's pull on the primary
-        let a = primary.snapshot(t).accel(*d);
+        // (each pull computed as the subhaloes feel it, `host::partner::pull`, so that the
+        // host's centre moves exactly as the subhaloes' inertial term assumes)
+        let mut sa = primary.snapshot(t);
+        let k = sa.de_k;
+        sa.de_k = 0.0;
+        let a = crate::host::partner::pull(&sa, *d);
+        let a = [a[0] + k * d[0], a[1] + k * d[1], a[2] + k * d[2]];
         let mut sb = partner.snapshot(t);
         sb.de_k = 0.0;
-        let b = sb.accel([-d[0], -d[1], -d[2]]);
+        let b = crate::host::partner::pull(&sb, [-d[0], -d[1], -d[2]]);
         [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
     };
     let n = ((t_end - t_first) / PAIR_NODE_GYR).ceil().max(1.0) as usize + 1;
@@ -217,7 +223,7 @@ fn synthesize(
             partner_pos_kpc: orbit.position(t_end),
             partner_r_vir_kpc: so.r_vir,
         });
-        host = host.with_partner(crate::host::Partner { host: other, orbit });
+        host = host.with_partner(crate::host::Partner::new(other, orbit));
     }
     let mut orng = host_rng(master_seed, id, Stream::Orbits);
     let mut subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);

@@ -346,6 +346,24 @@ impl EvolvingHost {
         }
     }
 
+    /// The tide across an offset x from a point at s (host frame, kpc) at time t: the pull at
+    /// s + x minus the pull at s, the host's exactly and the partner's of a pair by
+    /// `Partner::tide_across` (its inertial term cancels in the difference).
+    #[inline]
+    pub fn tide_across(&self, t: f64, s: [f64; 3], x: [f64; 3]) -> [f64; 3] {
+        let snap = self.snapshot(t);
+        let g1 = snap.accel([s[0] + x[0], s[1] + x[1], s[2] + x[2]]);
+        let g0 = snap.accel(s);
+        let mut a = [g1[0] - g0[0], g1[1] - g0[1], g1[2] - g0[2]];
+        if let Some(p) = &self.partner {
+            let b = p.tide_across(t, s, x);
+            for i in 0..3 {
+                a[i] += b[i];
+            }
+        }
+        a
+    }
+
     /// The snapshot nodes (for output).
     pub fn snapshots(&self) -> &[HostSnapshot] {
         &self.snaps

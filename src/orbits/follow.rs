@@ -428,6 +428,8 @@ pub(crate) fn follow(
     let mut ended: Option<SubhaloStatus> = None;
     // events about the partner, for a host of a pair (from the first step in the host)
     let mut ptracker: Option<Tracker> = None;
+    // (time, state relative to the partner, its R_vir) at the end of the last step
+    let mut pprev: Option<(f64, State, f64)> = None;
     // tidal mass and stripping rate at the end of the previous step
     let mut prev_tide: Option<(f64, f64)> = None;
     // the friction force needs the container's mass inside r: the host's, from the last point
@@ -563,12 +565,16 @@ pub(crate) fn follow(
                 best
             }
         };
-        // the partner's tide, for a host of a pair, where it is the stronger
+        // the partner's tide, for a host of a pair, where it is the stronger (the state
+        // relative to the partner is kept for its events below)
+        let mut q1: Option<State> = None;
         if let (Some(p), Some(a1)) = (host.partner(), &abs1) {
-            let (d, r, m_enc) = p.tide(t1, a1);
+            let q = p.relative(t1, a1);
+            let (d, r, m_enc) = p.tide_relative(t1, &q);
             if d > denom {
                 (denom, r_tide, m_tide) = (d, r, m_enc);
             }
+            q1 = Some(q);
         }
         // the tidal radius (also without stripping: it decides mergers with a parent)
         if m != prof_m {
@@ -600,6 +606,9 @@ pub(crate) fn follow(
                         let dv = 0.5 * h * q * k1[i];
                         y1[i + 3] += dv;
                         if let Some(a) = abs1.as_mut() {
+                            a[i + 3] += dv;
+                        }
+                        if let Some(a) = q1.as_mut() {
                             a[i + 3] += dv;
                         }
                     }
@@ -636,9 +645,14 @@ pub(crate) fn follow(
                 disc_kill = Some(tr.t_peri_last);
             }
             // about the partner of a pair: its virial radius, its pericentres and its disc
-            if let Some(p) = host.partner() {
-                let (q0, q1) = (p.relative(t, a0), p.relative(t1, a1));
-                let (rv0, rv1) = (p.host.snapshot(t).r_vir, p.host.snapshot(t1).r_vir);
+            if let (Some(p), Some(q1)) = (host.partner(), q1) {
+                // the start of the step: the end of the last one, when it was in the host
+                let (q0, rv0) = match pprev {
+                    Some((tp, q, rv)) if tp == t => (q, rv),
+                    _ => (p.relative(t, a0), p.host.snapshot(t).r_vir),
+                };
+                let rv1 = p.host.snapshot(t1).r_vir;
+                pprev = Some((t1, q1, rv1));
                 let ptr =
                     ptracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(&q0)), rv0));
                 let n_peri = ptr.n_peri;

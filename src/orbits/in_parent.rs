@@ -603,10 +603,9 @@ impl<'a> Chain<'a> {
         }
         if self.host {
             s = add(s, self.rel_pos(n - 1, t));
-            let g1 = host.accel_at(t, add(x, s));
-            let g0 = host.accel_at(t, s);
+            let g = host.tide_across(t, s, x);
             for i in 0..3 {
-                a[i] += g1[i] - g0[i];
+                a[i] += g[i];
             }
         }
         a

@@ -105,6 +105,15 @@ impl PairOrbit {
         (x, v)
     }
 
+    /// The interval of t between nodes and the fraction of the way through it (clamped).
+    #[inline]
+    pub fn locate(&self, t: f64) -> (usize, f64) {
+        let n = self.x.len();
+        let u = ((t - self.t0) / self.dt).clamp(0.0, (n - 1) as f64);
+        let i = (u as usize).min(n - 2);
+        (i, u - i as f64)
+    }
+
     /// Position (kpc) at time t (`state` without the velocity).
     #[inline]
     pub fn position(&self, t: f64) -> Vec3 {
