@@ -1,4 +1,5 @@
 mod cli_linear;
 mod cli_mpi;
+mod cli_pairs;
 mod cli_run;
 mod cli_tree;
