@@ -13,6 +13,7 @@ use crate::run::Grid;
 use crate::stats::battery::{run_tests_raw, Merger};
 use crate::stats::cells::{CellMergers, CellResults};
 use crate::stats::compact::{for_each_chunk_where, FigureData};
+use crate::stats::pairs::PairMerger;
 use crate::stats::{AnalysisResults, ObservedSample};
 use crate::Cosmology;
 
@@ -72,6 +73,7 @@ pub fn compute(
         .map(|c| c.len())
         .unwrap_or_else(|| cell_labels(grid).n_cells());
     let mut per_cell = CellMergers::new(&cfg.file.tests, cfg.file.run.master_seed);
+    let mut pairs = PairMerger::new(&cfg.file.tests, cfg.file.run.master_seed);
     let keep = |c: u16, m: u16| cells.is_none_or(|s| s.contains(&(c, m)));
     let fig = for_each_chunk_where(
         store,
@@ -93,11 +95,12 @@ pub fn compute(
             if n_cells > 1 {
                 per_cell.add(&grid.theories, &cfg.file.galaxies, &cat, sample);
             }
+            pairs.add(&grid.theories, &cat);
         },
     )
     .map_err(|e| AnalysisError::Failed(e.to_string()))?;
     let n_hosts = fig.n_hosts;
-    let res = merger.finish().ok_or_else(|| {
+    let mut res = merger.finish().ok_or_else(|| {
         AnalysisError::Failed(format!(
             "{}: the store has no hosts{}",
             store.display(),
@@ -108,6 +111,7 @@ pub fn compute(
             }
         ))
     })?;
+    res.pairs = pairs.finish(&fig.pairs);
     Ok(Computed {
         results: res,
         cells: per_cell.finish(),

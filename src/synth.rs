@@ -128,7 +128,6 @@ pub fn mutual_orbit(
     t_first: f64,
     t_end: f64,
 ) -> crate::pair::PairOrbit {
-    use crate::host::Potential;
     let (x0, v0) = geometry.relative_state();
     let accel = |t: f64, d: &[f64; 3]| -> [f64; 3] {
         // the primary's pull on the partner (with dark energy's term k d) minus the

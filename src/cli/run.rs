@@ -813,7 +813,7 @@ pub fn merge(a: MergeArgs) -> Result<(), CliError> {
 
 #[derive(Debug, Args)]
 #[command(
-    after_help = "Example:\n  retinue plot run.h5 --out figures/\n\nDraws the figures of a store as PNG and SVG (probability curves with bands, fraction-of-N,\nquenching delay and phase-space matches against the sample, infall-time distributions,\npericentres, subhalo mass function, radial distribution, backsplash by shell, dependence on\nhost mass) with the stored configuration."
+    after_help = "Example:\n  retinue plot run.h5 --out figures/\n\nDraws the figures of a store as PNG and SVG (probability curves with bands, fraction-of-N,\nquenching delay and phase-space matches against the sample, infall-time distributions,\npericentres, subhalo mass function, radial distribution, backsplash by shell, the pairs'\nseparation history when the run has pairs, dependence on host mass) with the stored\nconfiguration."
 )]
 pub struct PlotArgs {
     /// A run store.

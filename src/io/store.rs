@@ -1087,6 +1087,7 @@ pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, 
     c.host_partner_r_vir_kpc = sl(&h, "partner_r_vir_kpc", hr.clone()).map_err(e)?;
     c.host_region_radius_kpc = sl(&h, "pair_region_radius_kpc", hr.clone()).map_err(e)?;
     let p_m: Vec<f64> = sl(&h, "partner_m_vir_msun", hr.clone()).map_err(e)?;
+    c.host_partner_m_vir_msun = p_m.clone();
     let p_x: Vec<f64> = sl(&h, "partner_x_kpc", hr.clone()).map_err(e)?;
     let p_y: Vec<f64> = sl(&h, "partner_y_kpc", hr.clone()).map_err(e)?;
     let p_z: Vec<f64> = sl(&h, "partner_z_kpc", hr.clone()).map_err(e)?;
@@ -1144,6 +1145,38 @@ pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, 
         });
     }
     Ok(c)
+}
+
+/// The pair columns of hosts [h0, h1) that the report and figures need beside the catalogue:
+/// the smallest separation of each mutual orbit (kpc; NaN for isolated hosts), the
+/// redshifts of the history columns and the separation histories (one row per host).
+pub struct PairRows {
+    pub min_separation_kpc: Vec<f64>,
+    pub z: Vec<f64>,
+    pub separation_kpc: ndarray::Array2<f64>,
+}
+
+/// Read `PairRows` for hosts [h0, h1).
+pub fn read_pair_rows(path: &Path, h0: usize, h1: usize) -> Result<PairRows, IoError> {
+    let e = |x| IoError::hdf5(path, x);
+    let f = hdf5::File::open(path).map_err(e)?;
+    let h = f.group("hosts").map_err(e)?;
+    let min_separation_kpc = h
+        .dataset("pair_min_separation_kpc")
+        .and_then(|d| d.read_slice_1d::<f64, _>(h0..h1))
+        .map_err(e)?
+        .to_vec();
+    let hist = f.group("histories").map_err(e)?;
+    let z: Vec<f64> = hist.dataset("z").and_then(|d| d.read_raw()).map_err(e)?;
+    let separation_kpc = hist
+        .dataset("pair_separation_kpc")
+        .and_then(|d| d.read_slice_2d::<f64, _>((h0..h1, ..)))
+        .map_err(e)?;
+    Ok(PairRows {
+        min_separation_kpc,
+        z,
+        separation_kpc,
+    })
 }
 
 /// Directory of the part files of a run writing `final_path`.

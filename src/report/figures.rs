@@ -1251,6 +1251,123 @@ impl Figure for BacksplashFig<'_> {
     }
 }
 
+/// The separation of the pairs against lookback time: per pair cell, the median over pairs
+/// and the pair-to-pair 16–84% band.
+/// (lookback time in Gyr, 16%, median, 84%) of the separation in kpc.
+type SeparationPoint = (f64, f64, f64, f64);
+
+struct PairSeparationFig {
+    /// (name, colour, points in order of lookback time).
+    series: Vec<(String, RGBColor, Vec<SeparationPoint>)>,
+    xlabel: String,
+}
+
+impl PairSeparationFig {
+    /// From the binned histories (log10 kpc per column of `z`), each cell on its own
+    /// cosmology's clock; points where a quantile is missing are left out.
+    fn new(
+        geometry: &crate::stats::pairs::PairGeometry,
+        theories: &[LinearTheory],
+        labels: Option<&crate::report::CellLabels>,
+    ) -> Self {
+        let n = geometry.cells.len();
+        let mut cells: Vec<&crate::stats::pairs::CellSeparations> = geometry.cells.iter().collect();
+        cells.sort_by_key(|c| c.key);
+        let series = cells
+            .iter()
+            .enumerate()
+            .map(|(i, c)| {
+                let cosmo = theories
+                    .get(c.key.0 as usize)
+                    .or(theories.first())
+                    .map(|t| t.cosmology());
+                let mut pts: Vec<SeparationPoint> = geometry
+                    .z
+                    .iter()
+                    .zip(&c.history)
+                    .filter_map(|(&z, b)| {
+                        let [p16, p50, p84] = crate::stats::pairs::separation_quantiles(b);
+                        let t = cosmo?.lookback_gyr(z);
+                        [t, p16, p50, p84]
+                            .iter()
+                            .all(|v| v.is_finite())
+                            .then_some((t, p16, p50, p84))
+                    })
+                    .collect();
+                pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+                let name = match labels {
+                    Some(l) => {
+                        let (a, b) = l.of(c.key.0, c.key.1);
+                        format!("{a}, {b} Msun ({} pairs)", c.n_pairs)
+                    }
+                    None => format!("cell ({}, {}) ({} pairs)", c.key.0, c.key.1, c.n_pairs),
+                };
+                (name, cell_color(i, n), pts)
+            })
+            .collect();
+        let several = cells
+            .iter()
+            .any(|c| c.key.0 != cells.first().map_or(0, |f| f.key.0));
+        Self {
+            series,
+            xlabel: if several {
+                "lookback time in each cell's cosmology (Gyr)".into()
+            } else {
+                "lookback time (Gyr)".into()
+            },
+        }
+    }
+}
+
+impl Figure for PairSeparationFig {
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Res
+    where
+        DB::ErrorType: 'static,
+    {
+        let pts = self.series.iter().flat_map(|s| s.2.iter());
+        let (xmax, ymax) = pts.fold((0.0f64, 0.0f64), |a, p| (a.0.max(p.0), a.1.max(p.3)));
+        let mut ch = chart(root, "separation of the pairs", 70)
+            .build_cartesian_2d(0.0..xmax.max(1e-3), 0.0..(ymax * 1.08).max(1.0))?;
+        draw_axes(&mut ch, &self.xlabel, "separation (kpc)")?;
+        for (name, col, p) in &self.series {
+            let col = *col;
+            if p.is_empty() {
+                continue;
+            }
+            let band: Vec<(f64, f64)> = p
+                .iter()
+                .map(|q| (q.0, q.3))
+                .chain(p.iter().rev().map(|q| (q.0, q.1)))
+                .collect();
+            ch.draw_series(std::iter::once(Polygon::new(band, col.mix(BOOT_ALPHA))))?;
+            ch.draw_series(LineSeries::new(
+                p.iter().map(|q| (q.0, q.2)),
+                col.stroke_width(2),
+            ))?
+            .label(name.clone())
+            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], col.stroke_width(2)));
+        }
+        legend_swatch(&mut ch, "pairs 16–84%", GREY.mix(BOOT_ALPHA))?;
+        legend_line(&mut ch, "median over pairs", GREY.stroke_width(2), false)?;
+        // the legend where the curves leave room: below them when the separations are
+        // largest at the earliest times shown
+        let late_high = self
+            .series
+            .iter()
+            .filter_map(|s| s.2.last())
+            .any(|q| q.3 > 0.5 * ymax);
+        draw_legend(
+            &mut ch,
+            if late_high {
+                SeriesLabelPosition::LowerRight
+            } else {
+                SeriesLabelPosition::UpperRight
+            },
+        )?;
+        Ok(())
+    }
+}
+
 /// The disruption model the run's selection used, in words (for the pericentre figure).
 fn survival_words(survival: Survival, orbits: &OrbitOptions) -> String {
     let tide = orbits.disc_tide_ratio > 0.0 && orbits.stripping;
@@ -1586,6 +1703,14 @@ pub fn write_figures(
             },
             &mut out,
         )?;
+    }
+
+    // the pairs' separation histories (each pair once)
+    if !fig.pairs.cells.is_empty() {
+        let pf = PairSeparationFig::new(&fig.pairs, inp.theories, inp.labels);
+        if pf.series.iter().any(|s| !s.2.is_empty()) {
+            save(dir, "pair_separation", &pf, &mut out)?;
+        }
     }
 
     let cells = CellFig::new(res, inp.cells, inp.labels);

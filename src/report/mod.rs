@@ -260,11 +260,293 @@ pub fn write_tables(
             spread_header()
         ),
     )?;
+    if let Some(p) = &res.pairs {
+        put("pairs.csv", pairs_csv(p, labels))?;
+    }
     put(
         "report.md",
         markdown(res, cells, labels, options, sample, run_summary),
     )?;
     Ok(files)
+}
+
+/// One row of the pair tests (`pairs.csv` and `/analysis/NAME/pairs`): which statistic, for
+/// which cell (None: pooled), and the numbers that apply to it (NaN: not applicable).
+struct PairRow {
+    statistic: &'static str,
+    cell: Option<(u16, u16)>,
+    shell: [f64; 2],
+    n_hosts: f64,
+    n_pairs: f64,
+    n_satellites: f64,
+    n_once: f64,
+    per_pair: [f64; 3],
+    spread: Spread,
+}
+
+/// A numeric column of the stored pair rows.
+type PairColumn = fn(&PairRow) -> f64;
+
+/// Header of `pairs.csv` after the cell's columns.
+const PAIR_COLUMNS: [&str; 10] = [
+    "statistic",
+    "shell_lo_over_rvir",
+    "shell_hi_over_rvir",
+    "n_hosts",
+    "n_pairs",
+    "n_satellites",
+    "n_once_in_partner",
+    "backsplash_per_pair",
+    "field_expected_per_pair",
+    "tree_never_inside_per_pair",
+];
+
+fn pair_rows(p: &crate::stats::pairs::PairResults) -> Vec<PairRow> {
+    let nan = f64::NAN;
+    let mut out = Vec::new();
+    for f in &p.partner_fraction {
+        out.push(PairRow {
+            statistic: "once_in_partner",
+            cell: f.cell,
+            shell: [nan, nan],
+            n_hosts: f.n_hosts as f64,
+            n_pairs: nan,
+            n_satellites: f.n_satellites as f64,
+            n_once: f.n_once as f64,
+            per_pair: [nan; 3],
+            spread: f.fraction,
+        });
+    }
+    for r in &p.region {
+        for sh in &r.shells {
+            out.push(PairRow {
+                statistic: "region_backsplash_fraction",
+                cell: r.cell,
+                shell: [sh.lo_over_rvir, sh.hi_over_rvir],
+                n_hosts: nan,
+                n_pairs: r.n_pairs as f64,
+                n_satellites: nan,
+                n_once: nan,
+                per_pair: [
+                    sh.backsplash_per_pair,
+                    sh.field_per_pair,
+                    sh.never_inside_per_pair,
+                ],
+                spread: sh.fraction,
+            });
+        }
+    }
+    for s in &p.separations {
+        for (statistic, q) in [
+            ("separation_today_kpc", s.today_kpc),
+            ("separation_smallest_kpc", s.smallest_kpc),
+        ] {
+            out.push(PairRow {
+                statistic,
+                cell: s.cell,
+                shell: [nan, nan],
+                n_hosts: nan,
+                n_pairs: s.n_pairs as f64,
+                n_satellites: nan,
+                n_once: nan,
+                per_pair: [nan; 3],
+                spread: Spread {
+                    median: q[1],
+                    p16: q[0],
+                    p84: q[2],
+                    ..Spread::NAN
+                },
+            });
+        }
+    }
+    out
+}
+
+/// `pairs.csv`: the pair tests, pooled rows (`all,all`: every pair host, or every pair)
+/// first, then per cell (a pair's region is named by its primaries' cell). Numbers that do
+/// not apply to a row are empty.
+fn pairs_csv(p: &crate::stats::pairs::PairResults, labels: &CellLabels) -> String {
+    let num = |v: f64| {
+        if v.is_nan() {
+            String::new()
+        } else if v.is_infinite() {
+            "inf".to_string()
+        } else {
+            format!("{v}")
+        }
+    };
+    let fix = |v: f64| {
+        if v.is_nan() {
+            String::new()
+        } else {
+            format!("{v:.6}")
+        }
+    };
+    let mut t = format!(
+        "cosmology,host_mass_msun,{},{}\n",
+        PAIR_COLUMNS.join(","),
+        spread_header()
+    );
+    for r in pair_rows(p) {
+        let (cl, ml) = match r.cell {
+            Some((c, m)) => labels.of(c, m),
+            None => ("all".into(), "all".into()),
+        };
+        let s = &r.spread;
+        let _ = writeln!(
+            t,
+            "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+            csv_field(&cl),
+            csv_field(&ml),
+            r.statistic,
+            num(r.shell[0]),
+            num(r.shell[1]),
+            num(r.n_hosts),
+            num(r.n_pairs),
+            num(r.n_satellites),
+            num(r.n_once),
+            fix(r.per_pair[0]),
+            fix(r.per_pair[1]),
+            fix(r.per_pair[2]),
+            fix(s.mean),
+            fix(s.median),
+            fix(s.p16),
+            fix(s.p84),
+            fix(s.boot16),
+            fix(s.boot84),
+            fix(s.boot025),
+            fix(s.boot975)
+        );
+    }
+    t
+}
+
+/// The report's section on pairs.
+fn pairs_section(
+    m: &mut String,
+    p: &crate::stats::pairs::PairResults,
+    labels: &CellLabels,
+    o: &TestOptions,
+    several_cells: bool,
+) {
+    let name = |cell: Option<(u16, u16)>, all: &str| match cell {
+        Some((c, k)) => {
+            let (a, b) = labels.of(c, k);
+            format!("{a}, {b}")
+        }
+        None => all.to_string(),
+    };
+    let n_pairs = p.region.first().map_or(0, |r| r.n_pairs);
+    let n_hosts = p.partner_fraction.first().map_or(0, |f| f.n_hosts);
+    let _ = writeln!(m, "\n## Pairs\n");
+    let _ = writeln!(
+        m,
+        "{n_pairs} pairs ({n_hosts} hosts). Each pair's mutual orbit is integrated backwards from today's drawn separation and relative velocity, in the two hosts' evolving potentials (each host's mass follows its own main branch) with the dark-energy acceleration; dynamical friction between the two hosts is left out. Each host's subhaloes are integrated in that host's frame and feel the partner's pull (less its pull on the host's centre), its dynamical friction and its tide; their crossings of the partner's virial radius and pericentres about it are recorded.\n"
+    );
+    let _ = writeln!(
+        m,
+        "### Satellites once inside the partner\n\nAmong each pair host's candidate satellites (the selection above), the fraction that were ever inside the partner's virial radius: mean over hosts with its bootstrap 16–84% interval, and the host-to-host 16–84% range.\n"
+    );
+    let _ = writeln!(
+        m,
+        "| hosts | n | candidates | once inside the partner | fraction | bootstrap 16–84% | hosts 16–84% |\n|---|---|---|---|---|---|---|"
+    );
+    for f in &p.partner_fraction {
+        let s = &f.fraction;
+        let _ = writeln!(
+            m,
+            "| {} | {} | {} | {} | {:.3} | {:.3}–{:.3} | {:.3}–{:.3} |",
+            name(f.cell, "all pair hosts"),
+            f.n_hosts,
+            f.n_satellites,
+            f.n_once,
+            s.mean,
+            s.boot16,
+            s.boot84,
+            s.p16,
+            s.p84
+        );
+    }
+    let b = &o.backsplash;
+    let field_text = match p.field {
+        crate::stats::backsplash::FieldModel::Correlation => "the mean density of haloes in that mass range (Sheth & Tormen 1999) weighted by their linear correlation with both hosts, n = n̄ [1 + b_field (b_A ξ_lin(r_A) + b_B ξ_lin(r_B))] (Tinker et al. 2010 bias), integrated over each shell's part of the region by a fixed quadrature",
+        crate::stats::backsplash::FieldModel::Region => "the uniform density of `tests.backsplash.field = \"region\"` (a Local-Group-like region's Mo & White 1996 mass function), over each shell's part of the region",
+    };
+    let _ = writeln!(
+        m,
+        "\n### Field dwarfs of the pair region\n\nHaloes with peak mass {}–{} Msun (distinct haloes, as in the backsplash test) inside the sphere of radius `region_radius_kpc` about the pair's barycentre (of the two virial masses) and outside both virial radii, by distance from the nearer host in units of that host's R_vir (the last row: the whole region). Backsplash haloes are the hosts' own subhaloes there that were once inside either host (from the orbits; each host counts its own). The haloes that never fell in are not in the trees: their expected number is {field_text}; the region is split by which host is nearer and each host counts the field in its own half, so each pair's volume is counted once. Tree haloes in the region that were never inside either host (mostly satellites of satellites released from their group before it fell in) are listed apart and left out of the fraction: they are part of the field the expected number counts. Per pair, the fraction N_bs / (N_bs + N_field); mean over pairs with its bootstrap 16–84% interval and the pair-to-pair 16–84% range. Linear theory undercounts the field near the hosts, so the fractions are upper limits, the more so in the inner shells.\n",
+        short_number(b.m_peak_msun[0]),
+        short_number(b.m_peak_msun[1]),
+    );
+    let _ = writeln!(
+        m,
+        "| pairs | n | shell (R_vir of the nearer host) | backsplash per pair | field expected per pair | tree haloes never inside, per pair | fraction once inside either host | bootstrap 16–84% | pairs 16–84% |\n|---|---|---|---|---|---|---|---|---|"
+    );
+    let per_cell = p.region.len() > 2;
+    for r in p.region.iter().filter(|r| r.cell.is_none() || per_cell) {
+        for sh in &r.shells {
+            let f = &sh.fraction;
+            let shell = if sh.hi_over_rvir.is_finite() {
+                format!(
+                    "{}–{}",
+                    short_number(sh.lo_over_rvir),
+                    short_number(sh.hi_over_rvir)
+                )
+            } else {
+                "whole region".to_string()
+            };
+            let _ = writeln!(
+                m,
+                "| {} | {} | {shell} | {:.2} | {:.2} | {:.2} | {:.3} | {:.3}–{:.3} | {:.3}–{:.3} |",
+                name(r.cell, "all pairs"),
+                r.n_pairs,
+                sh.backsplash_per_pair,
+                sh.field_per_pair,
+                sh.never_inside_per_pair,
+                f.mean,
+                f.boot16,
+                f.boot84,
+                f.p16,
+                f.p84
+            );
+        }
+    }
+    let _ = writeln!(
+        m,
+        "\n### Separations\n\nToday's separation (drawn) and the smallest separation of the mutual orbit, over pairs (figure `pair_separation`: the separation against lookback time, median and 16–84% over pairs, one colour per pair cell).\n"
+    );
+    let _ = writeln!(
+        m,
+        "| pairs | n | today: median (kpc) | today: 16–84% | smallest: median (kpc) | smallest: 16–84% |\n|---|---|---|---|---|---|"
+    );
+    let q = |v: f64| short_number(v.round());
+    for s in p
+        .separations
+        .iter()
+        .filter(|s| s.cell.is_none() || p.separations.len() > 2)
+    {
+        let _ = writeln!(
+            m,
+            "| {} | {} | {} | {}–{} | {} | {}–{} |",
+            name(s.cell, "all pairs"),
+            s.n_pairs,
+            q(s.today_kpc[1]),
+            q(s.today_kpc[0]),
+            q(s.today_kpc[2]),
+            q(s.smallest_kpc[1]),
+            q(s.smallest_kpc[0]),
+            q(s.smallest_kpc[2])
+        );
+    }
+    let _ = writeln!(
+        m,
+        "\nIsolated and paired hosts of the same mass are compared side by side {}: P(all of N), the median first-infall redshift and the backsplash fraction around each host, per cell (a pair's primaries and partners are cells of their own); every table (`all_of_n.csv`, `fraction_of_n.csv`, `backsplash.csv`, `dependence.csv`) has the same rows per cell. The numbers above are in `pairs.csv`.",
+        if several_cells {
+            "in the comparison of the grid's cells above"
+        } else {
+            "when the run's grid holds both (the comparison of the grid's cells)"
+        }
+    );
 }
 
 /// The comparison of grid cells: the headline numbers side by side.
@@ -535,6 +817,9 @@ pub fn markdown(
             sh.field_mean
         );
     }
+    if let Some(p) = &res.pairs {
+        pairs_section(&mut m, p, labels, o, cells.len() > 1);
+    }
     let _ = writeln!(m, "\n## Caveats\n");
     let _ = writeln!(m, "- The draws treat the observed satellites as a random subset of the selection; bright and nearby satellites are not a random subset in infall time, so match the selection (stellar mass, distance, survey) to how the sample was chosen.");
     let _ = writeln!(m, "- Infall times come from extended Press–Schechter trees (Parkinson, Cole & Helly 2008) and semi-analytic orbits. The disc is not simulated: a subhalo is destroyed at a pericentre where the tide of the disc and bulge (at their mass and size then) beats its own density (`orbits.disc_tide_ratio`, calibrated to the halving of subhaloes within 100 kpc in disc-embedded simulations), or, with `survival = \"pericentre\"`, by a fixed pericentre cut on top.");
@@ -672,6 +957,76 @@ pub fn write_analysis(
         ("shell_field_expected_per_host", col(&|s| s.field_mean)),
     ] {
         bg.new_dataset_builder().with_data(&v).create(name)?;
+    }
+    if let Some(p) = &res.pairs {
+        write_pairs(a, p)?;
+    }
+    Ok(())
+}
+
+/// The pair tests as the group `pairs` of an analysis: one entry per row of `pairs.csv`, as
+/// columns (`statistic`; `cosmology_index` and `cell_code`, 65535 for pooled rows; the
+/// numbers, NaN where they do not apply).
+fn write_pairs(a: &hdf5::Group, p: &crate::stats::pairs::PairResults) -> hdf5::Result<()> {
+    use hdf5::types::VarLenUnicode;
+    use std::str::FromStr;
+    let g = a.create_group("pairs")?;
+    set_str_attr(
+        &g,
+        "field",
+        match p.field {
+            FieldModel::Correlation => "correlation",
+            FieldModel::Region => "region",
+        },
+    )?;
+    let rows = pair_rows(p);
+    let stat: Vec<VarLenUnicode> = rows
+        .iter()
+        .map(|r| VarLenUnicode::from_str(r.statistic).unwrap_or_default())
+        .collect();
+    g.new_dataset_builder()
+        .with_data(&stat)
+        .create("statistic")?;
+    let cos: Vec<u16> = rows
+        .iter()
+        .map(|r| r.cell.map_or(u16::MAX, |c| c.0))
+        .collect();
+    let d = g
+        .new_dataset_builder()
+        .with_data(&cos)
+        .create("cosmology_index")?;
+    set_str_attr(&d, "units", "index")?;
+    let code: Vec<u16> = rows
+        .iter()
+        .map(|r| r.cell.map_or(u16::MAX, |c| c.1))
+        .collect();
+    let d = g
+        .new_dataset_builder()
+        .with_data(&code)
+        .create("cell_code")?;
+    set_str_attr(&d, "units", "index")?;
+    let cols: [(&str, PairColumn); 17] = [
+        ("shell_lo_over_rvir", |r| r.shell[0]),
+        ("shell_hi_over_rvir", |r| r.shell[1]),
+        ("n_hosts", |r| r.n_hosts),
+        ("n_pairs", |r| r.n_pairs),
+        ("n_satellites", |r| r.n_satellites),
+        ("n_once_in_partner", |r| r.n_once),
+        ("backsplash_per_pair", |r| r.per_pair[0]),
+        ("field_expected_per_pair", |r| r.per_pair[1]),
+        ("tree_never_inside_per_pair", |r| r.per_pair[2]),
+        ("mean", |r| r.spread.mean),
+        ("median", |r| r.spread.median),
+        ("p16", |r| r.spread.p16),
+        ("p84", |r| r.spread.p84),
+        ("boot16", |r| r.spread.boot16),
+        ("boot84", |r| r.spread.boot84),
+        ("boot025", |r| r.spread.boot025),
+        ("boot975", |r| r.spread.boot975),
+    ];
+    for (name, f) in cols {
+        let v: Vec<f64> = rows.iter().map(f).collect();
+        g.new_dataset_builder().with_data(&v).create(name)?;
     }
     Ok(())
 }

@@ -219,6 +219,16 @@ impl FieldCounter {
         }
     }
 
+    /// The field's density model: (n_bar in comoving Mpc^-3, b_field, the correlation table),
+    /// so that n(r) = n_bar [1 + b_host b_field xi(r)]; for `field = "region"` the region's
+    /// uniform density, no bias and no table.
+    pub fn density_parts(&self) -> (f64, f64, Option<&CorrelationTable>) {
+        match &self.model {
+            Model::Correlation { n_bar, b_field, xi } => (*n_bar, *b_field, Some(xi)),
+            Model::Region { density } => (*density, 0.0, None),
+        }
+    }
+
     /// Expected field haloes (z = 0, comoving) in each shell around a host of virial mass
     /// m_host_msun and radius r_vir_kpc. For `region` the shells are cut at the region's
     /// radius.

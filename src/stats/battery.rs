@@ -278,6 +278,9 @@ pub struct AnalysisResults {
     pub backsplash_counts: Vec<Vec<f64>>,
     pub field_per_host: Vec<Vec<f64>>,
     pub dependence_raw: Vec<DependenceRaw>,
+    /// The pair tests (`stats::pairs`), when the hosts tested include pairs: filled by the
+    /// caller that streams the store (`analysis::compute`), None from `run_tests_raw`.
+    pub pairs: Option<super::pairs::PairResults>,
 }
 
 /// Backsplash fraction in one shell [lo, hi) R_vir: spread of the per-host fractions, mean
@@ -891,6 +894,7 @@ pub fn run_tests_raw(
         backsplash_counts: counts,
         field_per_host,
         dependence_raw,
+        pairs: None,
     }
 }
 

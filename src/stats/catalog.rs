@@ -21,6 +21,8 @@ pub struct Catalog {
     pub host_pair_separation_kpc: Vec<f64>,
     pub host_partner_r_vir_kpc: Vec<f64>,
     pub host_region_radius_kpc: Vec<f64>,
+    /// Hosts of a pair: the partner's virial mass today, Msun (NaN for isolated hosts).
+    pub host_partner_m_vir_msun: Vec<f64>,
     /// Subhalo rows of host h are offset[h]..offset[h+1].
     pub offset: Vec<usize>,
     // subhaloes
@@ -57,6 +59,9 @@ pub struct Catalog {
     /// Backsplash counts per host and shell already computed (compacted catalogue); empty =
     /// count rows.
     pub host_backsplash_count: Vec<Vec<f64>>,
+    /// Field dwarfs of the pair region per host already counted (compacted catalogue; empty
+    /// counts for isolated hosts); empty = count rows (`stats::pairs::region_counts`).
+    pub host_pair_region_count: Vec<super::pairs::RegionCounts>,
 }
 
 fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
@@ -99,6 +104,8 @@ impl Catalog {
             .push(pair.map_or(f64::NAN, |p| p.partner_r_vir_kpc));
         self.host_region_radius_kpc
             .push(pair.map_or(f64::NAN, |p| p.region_radius_kpc));
+        self.host_partner_m_vir_msun
+            .push(pair.map_or(f64::NAN, |p| p.partner_m_vir_msun));
         // the barycentre in this host's frame
         let bary = pair.map(|p| {
             let w = p.partner_m_vir_msun / (p.partner_m_vir_msun + rec.summary.m_vir_msun);
@@ -185,6 +192,8 @@ impl Catalog {
             .push(nan(&other.host_partner_r_vir_kpc));
         self.host_region_radius_kpc
             .push(nan(&other.host_region_radius_kpc));
+        self.host_partner_m_vir_msun
+            .push(nan(&other.host_partner_m_vir_msun));
     }
 
     /// Hosts [h0, h1) as a catalogue of their own.
@@ -208,6 +217,10 @@ impl Catalog {
             if !self.host_backsplash_count.is_empty() {
                 c.host_backsplash_count
                     .push(self.host_backsplash_count[h].clone());
+            }
+            if !self.host_pair_region_count.is_empty() {
+                c.host_pair_region_count
+                    .push(self.host_pair_region_count[h].clone());
             }
             for i in self.rows(h) {
                 let pre = self.t_pre_gyr.get(i).copied().unwrap_or(f64::NAN);

@@ -1,8 +1,9 @@
 //! Streaming a run store into the compact catalogue the tests need, host chunk by host chunk,
 //! so memory stays flat in the number of hosts: only rows that some test uses are kept
 //! (selected satellites and phase-space-match candidates), the pre-processing clock is
-//! computed while each host's full table is at hand, backsplash counts are reduced per host,
-//! and the figure distributions are accumulated in fixed bins.
+//! computed while each host's full table is at hand, backsplash counts (and a pair host's
+//! field dwarfs of the pair region) are reduced per host, and the figure distributions (the
+//! pairs' separations among them) are accumulated in fixed bins.
 
 use std::path::Path;
 
@@ -10,11 +11,12 @@ use super::battery::TestOptions;
 use super::catalog::Catalog;
 use super::clocks::{check_cosmology_indices, clock_times};
 use super::intervals::Binned;
+use super::pairs::{region_counts, PairGeometry};
 use super::sample::ObservedSample;
 use super::selection::Selection;
 use crate::cosmology::Cosmology;
 use crate::galaxies::GalaxyOptions;
-use crate::io::store::{n_hosts_in, read_catalog_range};
+use crate::io::store::{n_hosts_in, read_catalog_range, read_pair_rows};
 use crate::io::IoError;
 
 /// Fixed-bin distributions for the figures.
@@ -35,6 +37,9 @@ pub struct FigureData {
     /// the observed distances on the radial distribution.
     pub host_m_vir_msun: HostRange,
     pub host_r_vir_kpc: HostRange,
+    /// The pairs' separations today, smallest and over time, per pair cell (empty without
+    /// pairs).
+    pub pairs: PairGeometry,
 }
 
 /// Smallest, largest and geometric mean of a positive quantity over hosts, accumulated one
@@ -87,6 +92,7 @@ impl Default for FigureData {
             n_hosts: 0,
             host_m_vir_msun: HostRange::default(),
             host_r_vir_kpc: HostRange::default(),
+            pairs: PairGeometry::default(),
         }
     }
 }
@@ -141,8 +147,12 @@ pub fn compact_from_store(
             .extend(&c.host_pair_separation_kpc);
         all.host_partner_r_vir_kpc.extend(&c.host_partner_r_vir_kpc);
         all.host_region_radius_kpc.extend(&c.host_region_radius_kpc);
+        all.host_partner_m_vir_msun
+            .extend(&c.host_partner_m_vir_msun);
         all.host_backsplash_count
             .extend(c.host_backsplash_count.iter().cloned());
+        all.host_pair_region_count
+            .extend(c.host_pair_region_count.iter().cloned());
         for i in 0..c.n_subhaloes() {
             all.push_row_from(&c, i, c.t_pre_gyr[i]);
         }
@@ -206,6 +216,29 @@ pub fn for_each_chunk_where(
             reason,
         })?;
         let clocks = clock_times(&c, cosmos, galaxies, &options.preprocessing);
+        // the pairs' separations (each pair once, on its primary's row)
+        let primaries: Vec<usize> = (0..c.n_hosts())
+            .filter(|&h| {
+                keep(c.host_cosmology[h], c.host_cell[h])
+                    && super::pairs::is_pair_host(&c, h)
+                    && super::cells::split_cell(c.host_cell[h]).2 == 0
+            })
+            .collect();
+        if !primaries.is_empty() {
+            let rows = read_pair_rows(path, h0, h1)?;
+            for h in primaries {
+                fig.pairs.add(
+                    (c.host_cosmology[h], c.host_cell[h]),
+                    c.host_pair_separation_kpc[h],
+                    rows.min_separation_kpc[h],
+                    &rows.z,
+                    rows.separation_kpc
+                        .row(h)
+                        .as_slice()
+                        .expect("a row of a standard-layout array"),
+                );
+            }
+        }
         for h in 0..c.n_hosts() {
             if !keep(c.host_cosmology[h], c.host_cell[h]) {
                 continue;
@@ -238,6 +271,8 @@ pub fn for_each_chunk_where(
                 }
             }
             out.host_backsplash_count.push(n_bs);
+            out.host_pair_region_count
+                .push(region_counts(b, &c, h).unwrap_or_default());
             out.offset.push(out.branch.len());
             fig.n_hosts += 1;
             fig.host_m_vir_msun.add(c.host_m_vir_msun[h]);

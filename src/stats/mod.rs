@@ -9,6 +9,7 @@ pub mod clocks;
 pub mod compact;
 pub mod draws;
 pub mod intervals;
+pub mod pairs;
 pub mod sample;
 
 pub use battery::{run_tests, AnalysisResults, TestOptions};

@@ -1205,7 +1205,7 @@ fn milky_way_config_lists_every_default() {
 /// `dir` as a PNG and an SVG of more than a few kilobytes; the SVG is an `<svg>` document whose
 /// tags balance and whose text is SVG text (no font file needed to show it). Returns the
 /// names in order.
-fn check_listed_figures(out: &str, dir: &Path) -> Vec<String> {
+pub(crate) fn check_listed_figures(out: &str, dir: &Path) -> Vec<String> {
     let line = out
         .lines()
         .find_map(|l| l.strip_prefix("figures: "))
