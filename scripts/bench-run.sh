@@ -19,20 +19,16 @@ grep -q "^hosts_per_cell = $n\$" "$dir/bench.toml" || { echo "configs/milky-way.
 unit="hosts"
 if [ "$kind" = pair ]; then
   unit="pairs"
-  cat >> "$dir/bench.toml" <<'EOF2'
-
-[[environment]]
-kind = "pair"
-label = "pair"
-partner_mass_ratio = 1.0
-partner_mass_scatter_dex = 0.1
-separation_kpc = 800.0
-separation_scatter_kpc = 50.0
-radial_velocity_kms = -100.0
-radial_velocity_scatter_kms = 15.0
-tangential_velocity_kms = 50.0
-tangential_velocity_scatter_kms = 30.0
-EOF2
+  grep -q '^kind = "isolated"' "$dir/bench.toml" || { echo "configs/milky-way.toml has no [environment] kind" >&2; exit 1; }
+  sed -i -e 's/^kind = "isolated".*/kind = "pair"\
+partner_mass_ratio = 1.0\
+partner_mass_scatter_dex = 0.1\
+separation_kpc = 800.0\
+separation_scatter_kpc = 50.0\
+radial_velocity_kms = -100.0\
+radial_velocity_scatter_kms = 15.0\
+tangential_velocity_kms = 50.0\
+tangential_velocity_scatter_kms = 30.0/' "$dir/bench.toml"
 elif [ "$kind" != isolated ]; then
   echo "third argument: isolated or pair, not $kind" >&2; exit 2
 fi

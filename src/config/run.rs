@@ -243,8 +243,13 @@ pub struct RunConfigFile {
     #[serde(default)]
     pub tests: TestOptions,
     /// Where the hosts live: one table or a list (`[[environment]]`); isolated when absent.
-    #[serde(default)]
+    #[serde(default = "default_environment")]
     pub environment: Option<OneOrMany<EnvironmentSection>>,
+}
+
+/// The environment of a file without one: a single isolated environment.
+fn default_environment() -> Option<OneOrMany<EnvironmentSection>> {
+    Some(OneOrMany::One(EnvironmentSection::default()))
 }
 
 /// A validated configuration.

@@ -81,7 +81,8 @@ fn jacobi_integral_of_a_static_circular_pair() {
     let f = gb / (ga + gb);
     let mut b_sph = b;
     b_sph.m_disc = 0.0;
-    let host = EvolvingHost::fixed(a).with_partner(Partner::new(EvolvingHost::fixed(b), orbit.clone()));
+    let host =
+        EvolvingHost::fixed(a).with_partner(Partner::new(EvolvingHost::fixed(b), orbit.clone()));
     let bare = EvolvingHost::fixed(a);
     let tol = Tolerances {
         rtol: 1e-10,
