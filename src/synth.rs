@@ -153,6 +153,62 @@ pub fn mutual_orbit(
     crate::pair::PairOrbit::integrate_back(accel, t_end, x0, v0, t_first, n, tol)
 }
 
+/// What identifies a grown tree: the master seed, the host's stream number, the tree's
+/// specification and the cosmology and linear-theory choices it was grown in.
+type TreeKey = (
+    u64,
+    u64,
+    TreeSpec,
+    crate::cosmology::CosmologyParams,
+    crate::linear::LinearOptions,
+);
+
+thread_local! {
+    /// The histories of the last pair synthesised on this thread (both hosts'): the other
+    /// host of a pair, usually the next host on the same thread, reuses them instead of
+    /// growing both trees again. Keyed by everything the tree depends on, so a hit is the
+    /// same tree bit for bit.
+    static PAIR_TREES: std::cell::RefCell<Vec<(TreeKey, std::rc::Rc<HostHistory>)>> =
+        const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// The history of host `id`'s tree (grown with `spec`), from this thread's cache of the last
+/// pair if it is there.
+fn pair_tree_history(
+    lt: &LinearTheory,
+    spec: &TreeSpec,
+    master_seed: u64,
+    id: HostId,
+    builder: &mut TreeBuilder,
+) -> Result<std::rc::Rc<HostHistory>, InvalidValue> {
+    let key: TreeKey = (
+        master_seed,
+        id.stream(),
+        spec.clone(),
+        lt.cosmology().params.clone(),
+        lt.options().clone(),
+    );
+    if let Some(h) = PAIR_TREES.with(|c| {
+        c.borrow()
+            .iter()
+            .find(|(k, _)| *k == key)
+            .map(|(_, h)| h.clone())
+    }) {
+        return Ok(h);
+    }
+    let mut rng = host_rng(master_seed, id, Stream::Tree);
+    let tree = builder.build(lt, spec, &mut rng)?;
+    let h = std::rc::Rc::new(HostHistory::from_tree(tree));
+    PAIR_TREES.with(|c| {
+        let mut c = c.borrow_mut();
+        if c.len() >= 2 {
+            c.remove(0);
+        }
+        c.push((key, h.clone()));
+    });
+    Ok(h)
+}
+
 fn synthesize(
     lt: &LinearTheory,
     options: &SynthOptions,
@@ -171,17 +227,36 @@ fn synthesize(
     };
     // the partner's tree first (the arena then holds this host's own tree)
     let partner_hist = match pair {
-        Some(p) => {
-            let mut prng = host_rng(master_seed, id.partner(), Stream::Tree);
-            let tree = builder.build(lt, &p.partner_options.tree, &mut prng)?;
-            Some(HostHistory::from_tree(tree))
-        }
+        Some(p) => Some(pair_tree_history(
+            lt,
+            &p.partner_options.tree,
+            master_seed,
+            id.partner(),
+            builder,
+        )?),
         None => None,
     };
     let mut trng = host_rng(master_seed, id, Stream::Tree);
     let tree = builder.build(lt, &options.tree, &mut trng)?;
     let n_nodes = tree.n_nodes() as u64;
-    let hist = HostHistory::from_tree(tree);
+    let hist = std::rc::Rc::new(HostHistory::from_tree(tree));
+    if pair.is_some() {
+        // the other host of the pair needs this history as its partner's
+        let key: TreeKey = (
+            master_seed,
+            id.stream(),
+            options.tree.clone(),
+            lt.cosmology().params.clone(),
+            lt.options().clone(),
+        );
+        PAIR_TREES.with(|c| {
+            let mut c = c.borrow_mut();
+            if c.len() >= 2 {
+                c.remove(0);
+            }
+            c.push((key, hist.clone()));
+        });
+    }
     let mut t_first = first_infall(&hist);
     if let Some(ph) = &partner_hist {
         t_first = t_first.min(first_infall(ph));
@@ -256,8 +331,8 @@ fn synthesize(
     Ok(HostRecord {
         summary,
         pair: pair_record,
-        mah_msun: hist.mah_msun,
-        mah_z: hist.output_z,
+        mah_msun: hist.mah_msun.clone(),
+        mah_z: hist.output_z.clone(),
         subhaloes,
         galaxies,
     })

