@@ -1035,6 +1035,7 @@ fn shipped_configs_are_valid() {
         "configs/milky-way.toml",
         "configs/host-mass-sweep.toml",
         "configs/cosmology-sweep.toml",
+        "configs/paired-hosts.toml",
     ] {
         let p = Path::new(env!("CARGO_MANIFEST_DIR")).join(c);
         let (code, out, err) = run_cli(&["check", p.to_str().unwrap()]);
