@@ -200,16 +200,23 @@ impl Partner {
     }
 
     /// Dynamical friction of the partner's halo on mass m (Coulomb logarithm ll) at host-frame
-    /// state y (Chandrasekhar's formula with the partner's density and dispersion and the
-    /// velocity relative to it).
+    /// state y inside the partner's virial radius (Chandrasekhar's formula with the partner's
+    /// density and dispersion and the velocity relative to it); none outside it, where the
+    /// subhalo does not sit in the partner's halo.
     #[inline]
     pub fn friction(&self, t: f64, y: &State, m: f64, ll: f64) -> Vec3 {
         if ll <= 0.0 || m <= 0.0 {
             return [0.0; 3];
         }
+        let xp = self.position(t);
+        let s = self.snapshot(t);
+        let d2 = (y[0] - xp[0]).powi(2) + (y[1] - xp[1]).powi(2) + (y[2] - xp[2]).powi(2);
+        if d2 > s.r_vir * s.r_vir {
+            return [0.0; 3];
+        }
         let rel = self.relative(t, y);
         let r = (rel[0] * rel[0] + rel[1] * rel[1] + rel[2] * rel[2]).sqrt();
-        let rho = self.snapshot(t).friction_density(r);
+        let rho = s.friction_density(r);
         friction::acceleration([rel[3], rel[4], rel[5]], rho, self.host.sigma(r, t), m, ll)
     }
 
