@@ -98,7 +98,8 @@ pub struct InfallArgs {
     /// stellar-mass pre-processing threshold and a sample's m_v.)
     #[arg(long)]
     pub config: Option<PathBuf>,
-    /// Test only some grid cells: `cosmology=LABEL`, `mass=MASS` or both, comma-separated;
+    /// Test only some grid cells: `cosmology=LABEL`, `mass=MASS`, `env=LABEL` or several,
+    /// comma-separated;
     /// repeat for several (default: every cell).
     #[arg(long = "cell")]
     pub cells: Vec<String>,
@@ -826,7 +827,8 @@ pub struct PlotArgs {
     /// for in the run's configuration directory, next to the store, then here).
     #[arg(long)]
     pub sample: Option<PathBuf>,
-    /// Draw only some grid cells: `cosmology=LABEL`, `mass=MASS` or both, comma-separated;
+    /// Draw only some grid cells: `cosmology=LABEL`, `mass=MASS`, `env=LABEL` or several,
+    /// comma-separated;
     /// repeat for several (default: every cell).
     #[arg(long = "cell")]
     pub cells: Vec<String>,
@@ -844,7 +846,8 @@ pub struct ExportArgs {
     /// The CSV file to write.
     #[arg(long)]
     pub out: PathBuf,
-    /// Export only some grid cells: `cosmology=LABEL`, `mass=MASS` or both, comma-separated;
+    /// Export only some grid cells: `cosmology=LABEL`, `mass=MASS`, `env=LABEL` or several,
+    /// comma-separated;
     /// repeat for several (default: every cell).
     #[arg(long = "cell")]
     pub cells: Vec<String>,
