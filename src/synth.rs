@@ -163,7 +163,21 @@ type TreeKey = (
     crate::linear::LinearOptions,
 );
 
+/// What identifies a pair's potentials and mutual orbit: (primary's tree and host options,
+/// partner's tree and host options, the pair's draw).
+type PairKey = (
+    (TreeKey, crate::host::HostOptions),
+    (TreeKey, crate::host::HostOptions),
+    crate::pair::PairGeometry,
+);
+
 thread_local! {
+    /// The last pair's two evolving potentials (primary, partner) and mutual orbit (in the
+    /// primary's frame) on this thread, for the other host of the pair.
+    #[allow(clippy::type_complexity)]
+    static PAIR_FIELDS: std::cell::RefCell<
+        Option<(PairKey, std::rc::Rc<(EvolvingHost, EvolvingHost, crate::pair::PairOrbit)>)>,
+    > = const { std::cell::RefCell::new(None) };
     /// The histories of the last pair synthesised on this thread (both hosts'): the other
     /// host of a pair, usually the next host on the same thread, reuses them instead of
     /// growing both trees again. Keyed by everything the tree depends on, so a hit is the
@@ -261,16 +275,57 @@ fn synthesize(
     if let Some(ph) = &partner_hist {
         t_first = t_first.min(first_infall(ph));
     }
-    let mut host = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
+    let mut host;
     let mut pair_record = None;
     if let (Some(p), Some(ph)) = (pair, &partner_hist) {
-        let other = EvolvingHost::from_history(lt, ph, &p.partner_options.host, t_first);
-        // the orbit is integrated in the primary's frame by both hosts (bit-identical)
-        let orbit = if id.member == 0 {
-            mutual_orbit(&host, &other, &p.geometry, t_first, t_end)
-        } else {
-            mutual_orbit(&other, &host, &p.geometry, t_first, t_end).reversed()
+        // the pair's two potentials and mutual orbit (in the primary's frame), computed by
+        // whichever host of the pair comes first on this thread and reused by the other
+        let tree_key = |spec: &TreeSpec, who: HostId| -> TreeKey {
+            (
+                master_seed,
+                who.stream(),
+                spec.clone(),
+                lt.cosmology().params.clone(),
+                lt.options().clone(),
+            )
         };
+        let own_key = (tree_key(&options.tree, id), options.host);
+        let other_key = (tree_key(&p.partner_options.tree, id.partner()), p.partner_options.host);
+        let key: PairKey = if id.member == 0 {
+            (own_key, other_key, p.geometry)
+        } else {
+            (other_key, own_key, p.geometry)
+        };
+        let cached = PAIR_FIELDS.with(|c| {
+            c.borrow()
+                .as_ref()
+                .filter(|(k, _)| *k == key)
+                .map(|(_, v)| v.clone())
+        });
+        let fields = match cached {
+            Some(v) => v,
+            None => {
+                let own = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
+                let other = EvolvingHost::from_history(lt, ph, &p.partner_options.host, t_first);
+                let (a, b) = if id.member == 0 {
+                    (own, other)
+                } else {
+                    (other, own)
+                };
+                let orbit = mutual_orbit(&a, &b, &p.geometry, t_first, t_end);
+                let v = std::rc::Rc::new((a, b, orbit));
+                PAIR_FIELDS.with(|c| *c.borrow_mut() = Some((key, v.clone())));
+                v
+            }
+        };
+        let (a, b, primary_orbit) = &*fields;
+        // this host, its partner, and the partner's orbit about it (bit-identical for both)
+        let (own, other, orbit) = if id.member == 0 {
+            (a.clone(), b.clone(), primary_orbit.clone())
+        } else {
+            (b.clone(), a.clone(), primary_orbit.reversed())
+        };
+        host = own;
         let (t_min, d_min) = orbit
             .nodes()
             .map(|(t, x, _)| (t, (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).sqrt()))
@@ -298,6 +353,8 @@ fn synthesize(
             partner_r_vir_kpc: so.r_vir,
         });
         host = host.with_partner(crate::host::Partner::new(other, orbit));
+    } else {
+        host = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
     }
     let mut orng = host_rng(master_seed, id, Stream::Orbits);
     let mut subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);

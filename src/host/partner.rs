@@ -27,8 +27,12 @@ pub struct Partner {
     /// The partner's position and velocity relative to the host.
     pub orbit: PairOrbit,
     /// The partner's pull at the host's centre at each node of `orbit` (the inertial term;
-    /// it depends on time alone, so it is tabulated once and interpolated, `indirect_at`).
+    /// it depends on time alone, so it is tabulated once and interpolated, `indirect_loc`).
     indirect: Vec<Vec3>,
+    /// What the pull beyond `FAR_KPC` needs of the partner, at each node of `orbit` (linear
+    /// in time between nodes, as the partner's own table is between its coarser nodes):
+    /// NFW M_s and r_s, disc mass, bulge mass and scale.
+    far: Vec<[f64; 5]>,
 }
 
 /// Beyond this distance from the partner's centre (kpc) its disc and bulge pull as the
@@ -78,10 +82,18 @@ impl Partner {
                 pull(&s, [-x[0], -x[1], -x[2]])
             })
             .collect();
+        let far = orbit
+            .nodes()
+            .map(|(t, _, _)| {
+                let s = host.snapshot(t);
+                [s.m_s, s.r_s, s.m_disc, s.m_bulge, s.a_bulge]
+            })
+            .collect();
         Self {
             host,
             orbit,
             indirect,
+            far,
         }
     }
 
@@ -103,19 +115,34 @@ impl Partner {
     /// kpc/Gyr^2.
     #[inline]
     pub fn accel(&self, t: f64, x: Vec3) -> Vec3 {
-        let s = self.snapshot(t);
-        let xp = self.position(t);
-        let a1 = pull(&s, sub(x, xp));
-        let a0 = self.indirect_at(t);
+        let (i, f) = self.orbit.locate(t);
+        let xp = self.orbit.position_at(i, f);
+        let d = sub(x, xp);
+        let r2 = d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+        let a1 = if r2 <= FAR_KPC * FAR_KPC {
+            self.snapshot(t).accel(d)
+        } else {
+            // (`pull` beyond FAR_KPC, from the node table)
+            let (p, q) = (&self.far[i], &self.far[i + 1]);
+            let l = |k: usize| p[k] + f * (q[k] - p[k]);
+            let (m_s, r_s, m_d, m_b, a_b) = (l(0), l(1), l(2), l(3), l(4));
+            let r = r2.sqrt();
+            let xs = r / r_s;
+            let ln1x = ((1.0 + xs) as f32).ln() as f64;
+            let m = m_s * (ln1x - xs / (1.0 + xs)) + m_d + m_b * r2 / ((r + a_b) * (r + a_b));
+            let k = -G * m / (r2 * r);
+            [k * d[0], k * d[1], k * d[2]]
+        };
+        let a0 = self.indirect_loc(i, f);
         [a1[0] - a0[0], a1[1] - a0[1], a1[2] - a0[2]]
     }
 
-    /// The partner's pull at the host's centre at time t: cubic (Catmull–Rom) interpolation
+    /// The partner's pull at the host's centre a fraction f of the way through node interval
+    /// i of the orbit (`PairOrbit::locate`): cubic (Catmull–Rom) interpolation
     /// of the tabulated values, error of order (Omega dt)^4 of the term (Omega the mutual
     /// orbit's angular speed; below 1e-9 of it for dt = 0.025 Gyr and Omega < 1 / Gyr).
     #[inline]
-    fn indirect_at(&self, t: f64) -> Vec3 {
-        let (i, f) = self.orbit.locate(t);
+    fn indirect_loc(&self, i: usize, f: f64) -> Vec3 {
         let n = self.indirect.len();
         let p1 = self.indirect[i];
         let p2 = self.indirect[i + 1];

@@ -117,10 +117,13 @@ impl PairOrbit {
     /// Position (kpc) at time t (`state` without the velocity).
     #[inline]
     pub fn position(&self, t: f64) -> Vec3 {
-        let n = self.x.len();
-        let u = ((t - self.t0) / self.dt).clamp(0.0, (n - 1) as f64);
-        let i = (u as usize).min(n - 2);
-        let s = u - i as f64;
+        let (i, s) = self.locate(t);
+        self.position_at(i, s)
+    }
+
+    /// Position (kpc) a fraction s of the way through node interval i (`locate`).
+    #[inline]
+    pub fn position_at(&self, i: usize, s: f64) -> Vec3 {
         let h = self.dt;
         let (x0, x1, v0, v1) = (self.x[i], self.x[i + 1], self.v[i], self.v[i + 1]);
         let s2 = s * s;
