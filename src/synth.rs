@@ -290,7 +290,10 @@ fn synthesize(
             )
         };
         let own_key = (tree_key(&options.tree, id), options.host);
-        let other_key = (tree_key(&p.partner_options.tree, id.partner()), p.partner_options.host);
+        let other_key = (
+            tree_key(&p.partner_options.tree, id.partner()),
+            p.partner_options.host,
+        );
         let key: PairKey = if id.member == 0 {
             (own_key, other_key, p.geometry)
         } else {
