@@ -337,14 +337,22 @@ mod tests {
             let r = norm(d);
             2.0 * s.a_disc / r * s.m_disc / s.mass_enclosed(r) * norm(s.accel(d))
         };
-        for x in [[100.0, 0.0, 0.0], [350.0, 90.0, 10.0], [520.0, 100.0, -50.0]] {
+        for x in [
+            [100.0, 0.0, 0.0],
+            [350.0, 90.0, 10.0],
+            [520.0, 100.0, -50.0],
+        ] {
             let got = p.accel(5.0, x);
             let (d1, d0) = (sub(x, xp), [-xp[0], -xp[1], -xp[2]]);
             let want = sub(s.accel(d1), s.accel(d0));
             let err = norm(sub(got, want));
             assert!(err < bound(d1) + bound(d0), "{x:?}: {err:e}");
             // and far below the tide itself
-            assert!(err < 1e-3 * norm(want), "{x:?}: {err:e} against {:e}", norm(want));
+            assert!(
+                err < 1e-3 * norm(want),
+                "{x:?}: {err:e} against {:e}",
+                norm(want)
+            );
         }
     }
 
