@@ -646,10 +646,20 @@ impl RunConfig {
             .map(|bin| ((bin.typical_msun() / res) / (1.2e12 / 10f64.powf(7.5))).powf(0.9))
             .sum();
         let default_hosts = per_cell * scale;
+        // a host of a pair costs more CPU than an isolated one (the partner's tree, potential
+        // and pull: `SizeEstimate::PAIR_HOST_CPU`), and the same store
+        let pair_share = self
+            .environments
+            .iter()
+            .filter(|e| e.pair.is_some())
+            .map(Environment::members)
+            .sum::<u64>() as f64
+            / members as f64;
+        let cpu_hosts = default_hosts * (1.0 + pair_share * (SizeEstimate::PAIR_HOST_CPU - 1.0));
         SizeEstimate {
             hosts: self.n_hosts(),
             default_hosts,
-            cpu_s: default_hosts * SizeEstimate::CPU_S_PER_HOST,
+            cpu_s: cpu_hosts * SizeEstimate::CPU_S_PER_HOST,
             store_bytes: SizeEstimate::STORE_BYTES_FIXED
                 + default_hosts * SizeEstimate::STORE_BYTES_PER_HOST,
             parts_bytes: default_hosts * SizeEstimate::PART_BYTES_PER_HOST,
@@ -698,6 +708,10 @@ impl SizeEstimate {
     /// measured (`scripts/bench-run.sh 100 2`, and `synth/host_end_to_end_mw` 0.23 s), rounded
     /// up.
     pub const CPU_S_PER_HOST: f64 = 0.25;
+    /// A host of a pair over an isolated host in CPU time, end to end: 1.28 measured
+    /// (`scripts/bench-run.sh 100 2 pair` against `scripts/bench-run.sh 100 2`: a pair run goes
+    /// at 0.78 of the isolated rate per host; docs/performance.md), rounded up.
+    pub const PAIR_HOST_CPU: f64 = 1.3;
     /// Store bytes per default host, compressed (`io::store::col_filters`): stores of 20 and
     /// 100 default hosts took 18.9 and 85.9 MB, 0.84 MB per host and 2.2 MB fixed (the
     /// analysis, and the last chunk of each uncompressed column).
