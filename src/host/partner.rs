@@ -30,9 +30,8 @@ pub struct Partner {
     /// it depends on time alone, so it is tabulated once and interpolated, `indirect_loc`).
     indirect: Vec<Vec3>,
     /// What the pull beyond `FAR_KPC` needs of the partner, at each node of `orbit` (linear
-    /// in time between nodes, as the partner's own table is between its coarser nodes):
-    /// NFW M_s and r_s, disc mass, bulge mass and scale.
-    far: Vec<[f64; 5]>,
+    /// in time between nodes, as the partner's own table is between its coarser nodes).
+    far: Vec<Far>,
 }
 
 /// Beyond this distance from the partner's centre (kpc) its disc and bulge pull as the
@@ -51,20 +50,73 @@ pub fn pull(s: &HostSnapshot, d: Vec3) -> Vec3 {
     if r2 <= FAR_KPC * FAR_KPC {
         return s.accel(d);
     }
-    let r = r2.sqrt();
-    let k = -G * far_mass(s, r) / (r2 * r);
-    [k * d[0], k * d[1], k * d[2]]
+    Far::of(s).pull(d, r2)
 }
 
-/// The partner's mass inside r > `FAR_KPC` as the forces beyond it see it: halo, disc as a
-/// point, bulge. The logarithm of the NFW mass is taken in single precision (relative error
-/// below 1e-6 of the mass for r / r_s > 0.3, in a term a hundredth of the host's pull: it
-/// saves a third of the partner's cost per evaluation).
-#[inline]
-fn far_mass(s: &HostSnapshot, r: f64) -> f64 {
-    let x = r / s.r_s;
-    let ln1x = ((1.0 + x) as f32).ln() as f64;
-    s.m_s * (ln1x - x / (1.0 + x)) + s.m_disc + s.bulge_mass(r)
+/// What the partner's pull and tide beyond `FAR_KPC` need of it: NFW M_s and r_s, disc
+/// mass (a point there), bulge mass and scale.
+#[derive(Debug, Clone, Copy)]
+struct Far {
+    m_s: f64,
+    r_s: f64,
+    m_disc: f64,
+    m_bulge: f64,
+    a_bulge: f64,
+}
+
+impl Far {
+    fn of(s: &HostSnapshot) -> Self {
+        Self {
+            m_s: s.m_s,
+            r_s: s.r_s,
+            m_disc: s.m_disc,
+            m_bulge: s.m_bulge,
+            a_bulge: s.a_bulge,
+        }
+    }
+
+    /// Linear interpolation (weight f of `other`).
+    #[inline]
+    fn lerp(&self, other: &Self, f: f64) -> Self {
+        let l = |a: f64, b: f64| a + f * (b - a);
+        Self {
+            m_s: l(self.m_s, other.m_s),
+            r_s: l(self.r_s, other.r_s),
+            m_disc: l(self.m_disc, other.m_disc),
+            m_bulge: l(self.m_bulge, other.m_bulge),
+            a_bulge: l(self.a_bulge, other.a_bulge),
+        }
+    }
+
+    /// The mass inside r > `FAR_KPC` as the forces beyond it see it: halo, disc as a point,
+    /// bulge. The logarithm of the NFW mass is taken in single precision (relative error
+    /// below 1e-6 of the mass for r / r_s > 0.3, in a term a hundredth of the host's pull: it
+    /// saves a third of the partner's cost per evaluation).
+    #[inline]
+    fn mass(&self, r: f64) -> f64 {
+        let x = r / self.r_s;
+        let ln1x = ((1.0 + x) as f32).ln() as f64;
+        let ab = r + self.a_bulge;
+        self.m_s * (ln1x - x / (1.0 + x)) + self.m_disc + self.m_bulge * r * r / (ab * ab)
+    }
+
+    /// 4 pi G rho at r of the NFW halo (M_s = 4 pi rho_s r_s^3) and the Hernquist bulge,
+    /// Gyr^-2.
+    #[inline]
+    fn four_pi_g_rho(&self, r: f64) -> f64 {
+        let x = r / self.r_s;
+        let ab = r + self.a_bulge;
+        G * self.m_s / (r * self.r_s * self.r_s * (1.0 + x) * (1.0 + x))
+            + 2.0 * G * self.m_bulge * self.a_bulge / (r * ab * ab * ab)
+    }
+
+    /// The pull at d, |d| = sqrt(r2) > `FAR_KPC`.
+    #[inline]
+    fn pull(&self, d: Vec3, r2: f64) -> Vec3 {
+        let r = r2.sqrt();
+        let k = -G * self.mass(r) / (r2 * r);
+        [k * d[0], k * d[1], k * d[2]]
+    }
 }
 
 #[inline]
@@ -85,10 +137,7 @@ impl Partner {
             .collect();
         let far = orbit
             .nodes()
-            .map(|(t, _, _)| {
-                let s = host.snapshot(t);
-                [s.m_s, s.r_s, s.m_disc, s.m_bulge, s.a_bulge]
-            })
+            .map(|(t, _, _)| Far::of(&host.snapshot(t)))
             .collect();
         Self {
             host,
@@ -124,18 +173,16 @@ impl Partner {
             self.snapshot(t).accel(d)
         } else {
             // (`pull` beyond FAR_KPC, from the node table)
-            let (p, q) = (&self.far[i], &self.far[i + 1]);
-            let l = |k: usize| p[k] + f * (q[k] - p[k]);
-            let (m_s, r_s, m_d, m_b, a_b) = (l(0), l(1), l(2), l(3), l(4));
-            let r = r2.sqrt();
-            let xs = r / r_s;
-            let ln1x = ((1.0 + xs) as f32).ln() as f64;
-            let m = m_s * (ln1x - xs / (1.0 + xs)) + m_d + m_b * r2 / ((r + a_b) * (r + a_b));
-            let k = -G * m / (r2 * r);
-            [k * d[0], k * d[1], k * d[2]]
+            self.far_at(i, f).pull(d, r2)
         };
         let a0 = self.indirect_loc(i, f);
         [a1[0] - a0[0], a1[1] - a0[1], a1[2] - a0[2]]
+    }
+
+    /// The far-field parameters a fraction f of the way through node interval i.
+    #[inline]
+    fn far_at(&self, i: usize, f: f64) -> Far {
+        self.far[i].lerp(&self.far[i + 1], f)
     }
 
     /// The partner's pull at the host's centre a fraction f of the way through node interval
@@ -195,20 +242,12 @@ impl Partner {
         let x2 = x[0] * x[0] + x[1] * x[1] + x[2] * x[2];
         if r2 > FAR_KPC * FAR_KPC && x2 * 400.0 < r2 {
             // (the far-field parameters from the node table, as in `accel`)
-            let (p, q) = (&self.far[i], &self.far[i + 1]);
-            let l = |k: usize| p[k] + f * (q[k] - p[k]);
-            let (m_s, r_s, m_d, m_b, a_b) = (l(0), l(1), l(2), l(3), l(4));
+            let far = self.far_at(i, f);
             let r = r2.sqrt();
             let n = [d[0] / r, d[1] / r, d[2] / r];
             let xn = x[0] * n[0] + x[1] * n[1] + x[2] * n[2];
-            let xs = r / r_s;
-            let ln1x = ((1.0 + xs) as f32).ln() as f64;
-            let m = m_s * (ln1x - xs / (1.0 + xs)) + m_d + m_b * r2 / ((r + a_b) * (r + a_b));
-            // 4 pi G rho of the NFW halo (M_s = 4 pi rho_s r_s^3) and of the Hernquist bulge
-            let four_pi_rho = m_s / (r * r_s * r_s * (1.0 + xs) * (1.0 + xs))
-                + 2.0 * m_b * a_b / (r * (r + a_b).powi(3));
-            let k = -G * m / (r2 * r);
-            let q = -G * four_pi_rho * xn;
+            let k = -G * far.mass(r) / (r2 * r);
+            let q = -far.four_pi_g_rho(r) * xn;
             return [
                 k * (x[0] - 3.0 * xn * n[0]) + q * n[0],
                 k * (x[1] - 3.0 * xn * n[1]) + q * n[1],
@@ -271,12 +310,9 @@ impl Partner {
         let r2 = (x[0] * x[0] + x[1] * x[1] + x[2] * x[2]).max(1e-300);
         let (m_enc, d2phi) = if r2 > FAR_KPC * FAR_KPC {
             let r = r2.sqrt();
-            let m = far_mass(&s, r);
-            let xs = r / s.r_s;
-            let ab = r + s.a_bulge;
-            let four_pi_g_rho = G * s.m_s / (r * s.r_s * s.r_s * (1.0 + xs) * (1.0 + xs))
-                + 2.0 * G * s.m_bulge * s.a_bulge / (r * ab * ab * ab);
-            (m, -2.0 * G * m / (r2 * r) + four_pi_g_rho)
+            let far = Far::of(&s);
+            let m = far.mass(r);
+            (m, -2.0 * G * m / (r2 * r) + far.four_pi_g_rho(r))
         } else {
             s.tidal_terms(x)
         };
