@@ -195,13 +195,7 @@ fn pair_tree_history(
     id: HostId,
     builder: &mut TreeBuilder,
 ) -> Result<std::rc::Rc<HostHistory>, InvalidValue> {
-    let key: TreeKey = (
-        master_seed,
-        id.stream(),
-        spec.clone(),
-        lt.cosmology().params.clone(),
-        lt.options().clone(),
-    );
+    let key = tree_key(lt, spec, master_seed, id);
     if let Some(h) = PAIR_TREES.with(|c| {
         c.borrow()
             .iter()
@@ -213,14 +207,30 @@ fn pair_tree_history(
     let mut rng = host_rng(master_seed, id, Stream::Tree);
     let tree = builder.build(lt, spec, &mut rng)?;
     let h = std::rc::Rc::new(HostHistory::from_tree(tree));
+    remember_history(key, h.clone());
+    Ok(h)
+}
+
+/// What identifies host `id`'s tree grown with `spec` (`TreeKey`).
+fn tree_key(lt: &LinearTheory, spec: &TreeSpec, master_seed: u64, id: HostId) -> TreeKey {
+    (
+        master_seed,
+        id.stream(),
+        spec.clone(),
+        lt.cosmology().params.clone(),
+        lt.options().clone(),
+    )
+}
+
+/// Keep a history in this thread's cache of the last pair's two (`PAIR_TREES`).
+fn remember_history(key: TreeKey, h: std::rc::Rc<HostHistory>) {
     PAIR_TREES.with(|c| {
         let mut c = c.borrow_mut();
         if c.len() >= 2 {
             c.remove(0);
         }
-        c.push((key, h.clone()));
+        c.push((key, h));
     });
-    Ok(h)
 }
 
 fn synthesize(
@@ -256,20 +266,7 @@ fn synthesize(
     let hist = std::rc::Rc::new(HostHistory::from_tree(tree));
     if pair.is_some() {
         // the other host of the pair needs this history as its partner's
-        let key: TreeKey = (
-            master_seed,
-            id.stream(),
-            options.tree.clone(),
-            lt.cosmology().params.clone(),
-            lt.options().clone(),
-        );
-        PAIR_TREES.with(|c| {
-            let mut c = c.borrow_mut();
-            if c.len() >= 2 {
-                c.remove(0);
-            }
-            c.push((key, hist.clone()));
-        });
+        remember_history(tree_key(lt, &options.tree, master_seed, id), hist.clone());
     }
     let mut t_first = first_infall(&hist);
     if let Some(ph) = &partner_hist {
@@ -280,18 +277,9 @@ fn synthesize(
     if let (Some(p), Some(ph)) = (pair, &partner_hist) {
         // the pair's two potentials and mutual orbit (in the primary's frame), computed by
         // whichever host of the pair comes first on this thread and reused by the other
-        let tree_key = |spec: &TreeSpec, who: HostId| -> TreeKey {
-            (
-                master_seed,
-                who.stream(),
-                spec.clone(),
-                lt.cosmology().params.clone(),
-                lt.options().clone(),
-            )
-        };
-        let own_key = (tree_key(&options.tree, id), options.host);
+        let own_key = (tree_key(lt, &options.tree, master_seed, id), options.host);
         let other_key = (
-            tree_key(&p.partner_options.tree, id.partner()),
+            tree_key(lt, &p.partner_options.tree, master_seed, id.partner()),
             p.partner_options.host,
         );
         let key: PairKey = if id.member == 0 {
