@@ -64,6 +64,12 @@ pub struct Catalog {
     pub host_pair_region_count: Vec<super::pairs::RegionCounts>,
 }
 
+/// Element i of a pair column, NaN where the column is empty or short (catalogues built by
+/// hand, or hosts read before the pair columns existed: isolated).
+pub(crate) fn pair_value(v: &[f64], i: usize) -> f64 {
+    v.get(i).copied().unwrap_or(f64::NAN)
+}
+
 fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
     ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
 }
@@ -175,7 +181,7 @@ impl Catalog {
         self.m_v.push(other.m_v[i]);
         self.observable.push(other.observable[i]);
         // (catalogues built by hand may leave the pair columns empty: isolated)
-        let nan = |v: &[f64]| v.get(i).copied().unwrap_or(f64::NAN);
+        let nan = |v: &[f64]| pair_value(v, i);
         self.r_partner_kpc.push(nan(&other.r_partner_kpc));
         self.r_bary_kpc.push(nan(&other.r_bary_kpc));
         self.once_in_partner
@@ -185,7 +191,7 @@ impl Catalog {
 
     /// Append host h's pair columns from `other`.
     pub fn push_pair_host_from(&mut self, other: &Catalog, h: usize) {
-        let nan = |v: &[f64]| v.get(h).copied().unwrap_or(f64::NAN);
+        let nan = |v: &[f64]| pair_value(v, h);
         self.host_pair_separation_kpc
             .push(nan(&other.host_pair_separation_kpc));
         self.host_partner_r_vir_kpc

@@ -32,7 +32,7 @@
 use std::collections::BTreeMap;
 
 use super::backsplash::{BacksplashOptions, FieldCounter, FieldModel};
-use super::catalog::Catalog;
+use super::catalog::{pair_value, Catalog};
 use super::cells::{cell_code, split_cell};
 use super::intervals::{spread, Binned, Spread};
 use super::TestOptions;
@@ -67,19 +67,11 @@ pub fn region_shell(
     i: usize,
 ) -> Option<(Option<usize>, bool)> {
     let rv = cat.host_r_vir_kpc[h];
-    let rv_p = cat
-        .host_partner_r_vir_kpc
-        .get(h)
-        .copied()
-        .unwrap_or(f64::NAN);
-    let region = cat
-        .host_region_radius_kpc
-        .get(h)
-        .copied()
-        .unwrap_or(f64::NAN);
+    let rv_p = pair_value(&cat.host_partner_r_vir_kpc, h);
+    let region = pair_value(&cat.host_region_radius_kpc, h);
     let r = cat.r_kpc[i];
-    let r_p = cat.r_partner_kpc.get(i).copied().unwrap_or(f64::NAN);
-    let r_b = cat.r_bary_kpc.get(i).copied().unwrap_or(f64::NAN);
+    let r_p = pair_value(&cat.r_partner_kpc, i);
+    let r_b = pair_value(&cat.r_bary_kpc, i);
     let inside = cat.alive(i)
         && !cat.in_subhalo(i)
         && cat.m_peak_msun[i] >= b.m_peak_msun[0]
@@ -367,11 +359,7 @@ impl PairFieldCounter {
     /// The half of host h of `cat` (its partner's mass from `host_partner_m_vir_msun`).
     pub fn geometry(&self, lt: &LinearTheory, cat: &Catalog, h: usize) -> HalfGeometry {
         let m = cat.host_m_vir_msun[h];
-        let mp = cat
-            .host_partner_m_vir_msun
-            .get(h)
-            .copied()
-            .unwrap_or(f64::NAN);
+        let mp = pair_value(&cat.host_partner_m_vir_msun, h);
         let d = cat.host_pair_separation_kpc[h];
         let correlated = self.model == FieldModel::Correlation;
         HalfGeometry {
