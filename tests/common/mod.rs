@@ -66,3 +66,34 @@ pub fn run_cli(args: &[&str]) -> (i32, String, String) {
         String::from_utf8_lossy(&out.stderr).into_owned(),
     )
 }
+
+/// Write `text` to `dir/name` and return its path.
+pub fn write(dir: &std::path::Path, name: &str, text: &str) -> PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+/// Run the CLI and insist that it succeeds; its standard output.
+pub fn run_ok(args: &[&str]) -> String {
+    let (code, out, err) = run_cli(args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    out
+}
+
+/// Every column of /hosts and /subhalos and every table of /histories of a run store, as f64
+/// bit patterns (integers convert exactly): for comparing stores bit for bit.
+pub fn store_tables(path: &std::path::Path) -> Vec<(String, Vec<u64>)> {
+    let f = hdf5::File::open(path).unwrap();
+    let mut out = Vec::new();
+    for g in ["hosts", "subhalos", "histories"] {
+        let grp = f.group(g).unwrap();
+        let mut names = grp.member_names().unwrap();
+        names.sort();
+        for n in names {
+            let v: Vec<f64> = grp.dataset(&n).unwrap().read_raw().unwrap();
+            out.push((format!("{g}/{n}"), v.iter().map(|x| x.to_bits()).collect()));
+        }
+    }
+    out
+}

@@ -4,22 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::common::run_cli;
-
-fn tables(path: &Path) -> Vec<(String, Vec<u64>)> {
-    let f = hdf5::File::open(path).unwrap();
-    let mut out = Vec::new();
-    for g in ["hosts", "subhalos"] {
-        let grp = f.group(g).unwrap();
-        let mut names = grp.member_names().unwrap();
-        names.sort();
-        for n in names {
-            let v: Vec<f64> = grp.dataset(&n).unwrap().read_raw().unwrap();
-            out.push((format!("{g}/{n}"), v.iter().map(|x| x.to_bits()).collect()));
-        }
-    }
-    out
-}
+use crate::common::{run_cli, store_tables};
 
 fn tiny(dir: &Path) -> PathBuf {
     let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/tiny.toml");
@@ -70,7 +55,7 @@ fn mpi_two_ranks_match_a_single_process() {
         &[],
     );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    assert_eq!(tables(&single), tables(&m));
+    assert_eq!(store_tables(&single), store_tables(&m));
     assert!(d.path().join("mpi-report").join("report.md").exists());
     // the rank shards were merged and removed
     assert!(!d.path().join("mpi.shard-1-of-2.h5").exists());
@@ -108,7 +93,7 @@ fn mpi_two_ranks_match_a_single_process() {
         f.to_str().unwrap(),
     ]);
     assert_eq!(code, 0, "{err}");
-    assert_eq!(tables(&single), tables(&f));
+    assert_eq!(store_tables(&single), store_tables(&f));
 }
 
 /// Without MPI: a failed host is reported with its index and seed, the shard's finished parts
@@ -136,5 +121,5 @@ fn failed_shard_is_named_and_recovers() {
     assert!(!s.exists());
     let (code, _, err) = run_cli(&["run", c, "--resume", "--out", s.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
-    assert_eq!(tables(&whole), tables(&s));
+    assert_eq!(store_tables(&whole), store_tables(&s));
 }

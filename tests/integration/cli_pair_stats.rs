@@ -1,9 +1,9 @@
 //! Runs with paired hosts (issue 19): the pair tests' table, report section, stored group and
 //! figure, checked against the store's own columns; and runs without pairs left as they were.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
-use crate::common::run_cli;
+use crate::common::{run_ok, write};
 use crate::integration::cli_run::check_listed_figures;
 
 /// Two isolated hosts and two pairs of 1.2e12 Msun at coarse resolution (about a second).
@@ -74,18 +74,6 @@ bootstrap = 50
 n_range = [3, 4]
 z_grid = [0.0, 0.5, 1.0, 2.0]
 "#;
-
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-fn run_ok(args: &[&str]) -> String {
-    let (code, out, err) = run_cli(args);
-    assert_eq!(code, 0, "{args:?}: {err}");
-    out
-}
 
 fn col(g: &hdf5::Group, name: &str) -> Vec<f64> {
     g.dataset(name)

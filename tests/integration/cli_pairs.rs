@@ -2,9 +2,7 @@
 //! columns' consistency between the two hosts of a pair, and clear errors for malformed
 //! `[[environment]]` tables.
 
-use std::path::{Path, PathBuf};
-
-use crate::common::run_cli;
+use crate::common::{run_cli, run_ok, store_tables, write};
 
 const PAIRS: &str = r#"
 [run]
@@ -47,42 +45,6 @@ tangential_velocity_kms = 40.0
 tangential_velocity_scatter_kms = 25.0
 "#;
 
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-/// Every column of /hosts and /subhalos and both history tables, as f64 bit patterns.
-fn tables(path: &Path) -> Vec<(String, Vec<u64>)> {
-    let f = hdf5::File::open(path).unwrap();
-    let mut out = Vec::new();
-    for g in ["hosts", "subhalos"] {
-        let grp = f.group(g).unwrap();
-        let mut names = grp.member_names().unwrap();
-        names.sort();
-        for n in names {
-            let v: Vec<f64> = grp.dataset(&n).unwrap().read_raw().unwrap();
-            out.push((format!("{g}/{n}"), v.iter().map(|x| x.to_bits()).collect()));
-        }
-    }
-    for n in ["mass_msun", "pair_separation_kpc"] {
-        let h: ndarray::Array2<f64> = f
-            .dataset(&format!("histories/{n}"))
-            .unwrap()
-            .read_2d()
-            .unwrap();
-        out.push((n.into(), h.iter().map(|x| x.to_bits()).collect()));
-    }
-    out
-}
-
-fn run_ok(args: &[&str]) -> String {
-    let (code, out, err) = run_cli(args);
-    assert_eq!(code, 0, "{args:?}: {err}");
-    out
-}
-
 fn col(f: &hdf5::File, name: &str) -> Vec<f64> {
     f.dataset(name).unwrap().read_raw().unwrap()
 }
@@ -95,8 +57,8 @@ fn pair_cells_are_the_same_for_threads_and_shards_and_consistent_between_partner
     let o = |n: &str| d.path().join(n).to_str().unwrap().to_string();
     run_ok(&["run", c, "--threads", "1", "--out", &o("t1.h5")]);
     run_ok(&["run", c, "--threads", "2", "--out", &o("t2.h5")]);
-    let a = tables(&d.path().join("t1.h5"));
-    assert_eq!(a, tables(&d.path().join("t2.h5")), "1 vs 2 threads");
+    let a = store_tables(&d.path().join("t1.h5"));
+    assert_eq!(a, store_tables(&d.path().join("t2.h5")), "1 vs 2 threads");
     // three shards: one of them splits a pair between two shards
     for k in 1..=3 {
         run_ok(&[
@@ -118,7 +80,11 @@ fn pair_cells_are_the_same_for_threads_and_shards_and_consistent_between_partner
         "--out",
         &o("merged.h5"),
     ]);
-    assert_eq!(a, tables(&d.path().join("merged.h5")), "single vs 3 shards");
+    assert_eq!(
+        a,
+        store_tables(&d.path().join("merged.h5")),
+        "single vs 3 shards"
+    );
 
     // 2 isolated hosts, then 2 pairs (primary, partner)
     let f = hdf5::File::open(d.path().join("t1.h5")).unwrap();

@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::common::run_cli;
+use crate::common::{run_cli, run_ok, store_tables, write};
 
 const TINY: &str = r#"
 [run]
@@ -31,36 +31,6 @@ n_range = [3, 4]
 z_grid = [0.0, 0.5, 1.0, 2.0]
 "#;
 
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-/// Every column of /hosts and /subhalos as f64 bit patterns (integers convert exactly).
-fn tables(path: &Path) -> Vec<(String, Vec<u64>)> {
-    let f = hdf5::File::open(path).unwrap();
-    let mut out = Vec::new();
-    for g in ["hosts", "subhalos"] {
-        let grp = f.group(g).unwrap();
-        let mut names = grp.member_names().unwrap();
-        names.sort();
-        for n in names {
-            let v: Vec<f64> = grp.dataset(&n).unwrap().read_raw().unwrap();
-            out.push((format!("{g}/{n}"), v.iter().map(|x| x.to_bits()).collect()));
-        }
-    }
-    let h: ndarray::Array2<f64> = f.dataset("histories/mass_msun").unwrap().read_2d().unwrap();
-    out.push(("histories".into(), h.iter().map(|x| x.to_bits()).collect()));
-    out
-}
-
-fn run_ok(args: &[&str]) -> String {
-    let (code, out, err) = run_cli(args);
-    assert_eq!(code, 0, "{args:?}: {err}");
-    out
-}
-
 #[test]
 fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
     let d = tempfile::tempdir().unwrap();
@@ -69,8 +39,8 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
     let o = |n: &str| d.path().join(n).to_str().unwrap().to_string();
     run_ok(&["run", c, "--threads", "1", "--out", &o("t1.h5")]);
     run_ok(&["run", c, "--threads", "2", "--out", &o("t2.h5")]);
-    let a = tables(&d.path().join("t1.h5"));
-    assert_eq!(a, tables(&d.path().join("t2.h5")), "1 vs 2 threads");
+    let a = store_tables(&d.path().join("t1.h5"));
+    assert_eq!(a, store_tables(&d.path().join("t2.h5")), "1 vs 2 threads");
     for k in 1..=3 {
         run_ok(&[
             "run",
@@ -94,7 +64,7 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
     ]);
     assert_eq!(
         a,
-        tables(&d.path().join("merged.h5")),
+        store_tables(&d.path().join("merged.h5")),
         "single run vs 3 shards merged"
     );
     // a missing shard is named
@@ -280,7 +250,7 @@ fn killed_run_resumes_to_identical_tables() {
         "--out",
         out.to_str().unwrap(),
     ]);
-    assert_eq!(tables(&full), tables(&out));
+    assert_eq!(store_tables(&full), store_tables(&out));
     assert!(!parts.exists());
 }
 
@@ -294,7 +264,7 @@ fn resume_after_the_hosts_runs_only_the_tests() {
     let c = cfg.to_str().unwrap();
     let out = d.path().join("r.h5");
     run_ok(&["run", c, "--out", out.to_str().unwrap()]);
-    let full = tables(&out);
+    let full = store_tables(&out);
     let read_analysis = |p: &Path| -> Vec<f64> {
         let f = hdf5::File::open(p).unwrap();
         f.dataset("analysis/run/all_of_n/last_host_infall/mean")
@@ -313,7 +283,7 @@ fn resume_after_the_hosts_runs_only_the_tests() {
     assert_eq!(code, 0, "{err}");
     assert!(err.contains("running only the tests"), "{err}");
     assert!(!err.contains("synthesised"), "{err}");
-    assert_eq!(tables(&out), full);
+    assert_eq!(store_tables(&out), full);
     assert_eq!(read_analysis(&out), analysis);
     assert!(d.path().join("r-report/report.md").exists());
     // a store of another configuration is not taken for this run's
