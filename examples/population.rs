@@ -29,6 +29,70 @@ fn median(mut v: Vec<f64>) -> f64 {
     }
 }
 
+fn quantiles(mut v: Vec<f64>) -> String {
+    v.retain(|x| x.is_finite());
+    if v.is_empty() {
+        return "-".into();
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    format!(
+        "{:.3} ({:.3}-{:.3})",
+        v[n / 2],
+        v[n * 16 / 100],
+        v[n * 84 / 100]
+    )
+}
+
+/// A faint satellite (M* < 1e6 Msun, alive inside R_vir) that was inside another halo at
+/// z > 6: how its group came together.
+struct EarlyChild {
+    t_infall: f64,
+    ratio: f64,
+    m_parent: f64,
+    parent_delay: f64,
+    release_delay: f64,
+    m_grandparent: f64,
+    bound_fraction: f64,
+    order: f64,
+}
+
+fn early_children(rec: &retinue::synth::HostRecord, t6: f64) -> Vec<EarlyChild> {
+    let rv = rec.summary.r_vir_kpc;
+    let row: std::collections::HashMap<u32, usize> = rec
+        .subhaloes
+        .iter()
+        .enumerate()
+        .map(|(i, s)| (s.branch, i))
+        .collect();
+    rec.subhaloes
+        .iter()
+        .zip(&rec.galaxies)
+        .filter(|(s, g)| {
+            g.occupied
+                && s.status.alive()
+                && s.r_kpc < rv
+                && g.mstar_msun > 5e3
+                && g.mstar_msun < 1e6
+                && s.order > 1
+                && s.t_infall_gyr < t6
+        })
+        .map(|(s, _)| {
+            let parent = row.get(&s.parent_branch).map(|&p| &rec.subhaloes[p]);
+            EarlyChild {
+                t_infall: s.t_infall_gyr,
+                ratio: s.m_infall_msun / s.m_host_at_infall_msun,
+                m_parent: s.m_host_at_infall_msun,
+                parent_delay: parent.map_or(f64::NAN, |p| p.t_infall_gyr - s.t_infall_gyr),
+                release_delay: s.t_release_gyr - s.t_infall_gyr,
+                m_grandparent: parent.map_or(f64::NAN, |p| p.m_host_at_infall_msun),
+                bound_fraction: s.m_bound_msun / s.m_infall_msun,
+                order: s.order as f64,
+            }
+        })
+        .collect()
+}
+
 fn main() {
     let n_hosts: u32 = std::env::args()
         .nth(1)
@@ -77,7 +141,7 @@ fn main() {
     let t6 = lt.cosmology().age_gyr(6.0);
     let t0 = lt.cosmology().age0_gyr();
     let start = std::time::Instant::now();
-    let cs: Vec<(HostCensus, f64)> = (0..n_hosts)
+    let cs: Vec<(HostCensus, f64, Vec<EarlyChild>)> = (0..n_hosts)
         .into_par_iter()
         .map_init(
             || TreeBuilder::new(opts.tree.pch08).expect("builder"),
@@ -93,13 +157,18 @@ fn main() {
                         }
                     }
                 }
-                (census(&rec, t6), rec.summary.m_vir_msun)
+                (
+                    census(&rec, t6),
+                    rec.summary.m_vir_msun,
+                    early_children(&rec, t6),
+                )
             },
         )
         .collect();
     let secs = start.elapsed().as_secs_f64();
-    let med = |f: &dyn Fn(&HostCensus) -> f64| median(cs.iter().map(|(c, _)| f(c)).collect());
-    let sum = |f: &dyn Fn(&HostCensus) -> usize| cs.iter().map(|(c, _)| f(c)).sum::<usize>() as f64;
+    let med = |f: &dyn Fn(&HostCensus) -> f64| median(cs.iter().map(|(c, _, _)| f(c)).collect());
+    let sum =
+        |f: &dyn Fn(&HostCensus) -> usize| cs.iter().map(|(c, _, _)| f(c)).sum::<usize>() as f64;
     println!(
         "{n_hosts} hosts in {secs:.1} s ({:.2} s per host on this machine's threads)",
         secs / n_hosts as f64
@@ -117,7 +186,10 @@ fn main() {
         med(&|c| c.mv8_within_300kpc as f64),
         med(&|c| c.mv8_inside_rvir as f64)
     );
-    let mut all: Vec<f64> = cs.iter().map(|(c, _)| c.mv0_within_300kpc as f64).collect();
+    let mut all: Vec<f64> = cs
+        .iter()
+        .map(|(c, _, _)| c.mv0_within_300kpc as f64)
+        .collect();
     all.sort_by(f64::total_cmp);
     println!("  M_V < 0 per host: {all:?}");
     println!(
@@ -134,17 +206,38 @@ fn main() {
         sum(&|c| c.faint_last_peri_larger_first) / sum(&|c| c.faint_multi_peri_first),
         sum(&|c| c.faint_multi_peri_first)
     );
+    let early: Vec<&EarlyChild> = cs.iter().flat_map(|(_, _, e)| e.iter()).collect();
+    let q = |f: &dyn Fn(&EarlyChild) -> f64| quantiles(early.iter().map(|e| f(e)).collect());
+    let z_of = |t: f64| lt.cosmology().z_at_age(t);
+    println!(
+        "faint dwarfs (M* < 1e6) inside another halo at z > 6: {}; median (16-84%): infall z {}, \
+         mass ratio to the parent {}, log10 parent mass {}, parent's own infall after theirs \
+         {} Gyr, release after infall {} Gyr, log10 mass of the parent's container {}, bound \
+         fraction today {}, order {}",
+        early.len(),
+        q(&|e| z_of(e.t_infall)),
+        q(&|e| e.ratio),
+        q(&|e| e.m_parent.log10()),
+        q(&|e| e.parent_delay),
+        q(&|e| e.release_delay),
+        q(&|e| e.m_grandparent.log10()),
+        q(&|e| e.bound_fraction),
+        q(&|e| e.order),
+    );
     let k = cs.len() as f64;
     for (j, psi) in SHMF_PSI.iter().enumerate() {
         println!(
             "N(m_bound > {psi:e} M_vir) inside R_vir, mean per host: all {:.1}, first order {:.1}",
-            cs.iter().map(|(c, _)| c.shmf_all[j] as f64).sum::<f64>() / k,
-            cs.iter().map(|(c, _)| c.shmf_first[j] as f64).sum::<f64>() / k
+            cs.iter().map(|(c, _, _)| c.shmf_all[j] as f64).sum::<f64>() / k,
+            cs.iter()
+                .map(|(c, _, _)| c.shmf_first[j] as f64)
+                .sum::<f64>()
+                / k
         );
     }
     let comps: Vec<_> = cs
         .iter()
-        .flat_map(|(c, _)| c.companions.iter().copied())
+        .flat_map(|(c, _, _)| c.companions.iter().copied())
         .collect();
     let recent: Vec<_> = comps
         .iter()
@@ -170,11 +263,11 @@ fn main() {
         println!(
             "status {kk} ({name}): first order {:.1}, higher order {:.1} per host",
             cs.iter()
-                .map(|(c, _)| c.status_first[kk] as f64)
+                .map(|(c, _, _)| c.status_first[kk] as f64)
                 .sum::<f64>()
                 / k,
             cs.iter()
-                .map(|(c, _)| c.status_higher[kk] as f64)
+                .map(|(c, _, _)| c.status_higher[kk] as f64)
                 .sum::<f64>()
                 / k
         );

@@ -7,6 +7,7 @@
 
 pub mod bias;
 pub mod conditional;
+pub mod evolved_subhaloes;
 pub mod mo_white96;
 pub mod press_schechter;
 pub mod sheth_tormen;

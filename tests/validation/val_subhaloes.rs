@@ -110,35 +110,59 @@ fn median(mut v: Vec<f64>) -> f64 {
 }
 
 /// Evolved subhalo mass function of every bound object inside R_vir today (subhaloes of the
-/// host and satellites of satellites alike, bound mass m, psi = m/M_vir) against the fit of
-/// Springel et al. 2008 (MNRAS 391, 1685) to the Aquarius A-1 halo, dN/dM = a0 (M/m0)^-1.9
-/// inside r50, rescaled self-similarly to R_vir of a 1.2e12 Msun host with the paper's Einasto
-/// subhalo profile (fixture `population.json`, `scripts/make_population_fixtures.py`; the
-/// paper's values recalled, not re-read). Six hosts at a tree resolution of 3e6 Msun (2.5e-6
-/// of the host, so that N(> 1e-5) is complete), with the default host and its disc, as the
-/// issue defines the check. The simulation has no disc: without disc and bulge the mocks
-/// hold 1.53, 1.44, 1.32, 1.25, 1.20 times the fit (12 hosts; docs/validation.md), just
-/// outside the band at 1e-5. Band (issue): within a factor 1.5 at psi =
-/// 1e-5 ... 1e-3; sampling error at 1e-3 (12 objects a host) about 12%, host-to-host scatter
-/// of the fit's normalisation about 20% (common practice). Measured: 1.28, 1.20, 1.15, 1.04,
-/// 0.97 from 1e-5 to 1e-3 (printed with --nocapture; the disc's tide destroys a tenth of the
-/// subhaloes, `orbits.disc_tide_ratio`); first order alone 0.60-0.66.
+/// host and satellites of satellites alike, bound mass m, psi = m/M_vir), six hosts at a tree
+/// resolution of 3e6 Msun (2.5e-6 of the host, so that N(> 1e-5) is complete), with the
+/// default host and its disc, as the issue defines the check, against two published fits:
+/// * Springel et al. 2008 (MNRAS 391, 1685), the fit to the Aquarius A-1 halo, dN/dM = a0
+///   (M/m0)^-1.9 inside r50, rescaled self-similarly to R_vir of a 1.2e12 Msun host with the
+///   paper's Einasto subhalo profile (fixture `population.json`,
+///   `scripts/make_population_fixtures.py`; the paper's values recalled, not re-read). Band
+///   (issue): within a factor 1.5 at psi = 1e-5 ... 1e-3; sampling error at 1e-3 (12 objects a
+///   host) about 12%, host-to-host scatter of the fit's normalisation about 20% (common
+///   practice). Measured: 1.28, 1.20, 1.15, 1.04, 0.97 from 1e-5 to 1e-3 (printed with
+///   --nocapture; the disc's tide destroys a tenth of the subhaloes,
+///   `orbits.disc_tide_ratio`); first order alone 0.60-0.66. The simulation has no disc:
+///   without disc and bulge the mocks hold 1.53, 1.44, 1.32, 1.25, 1.20 times the fit (12
+///   hosts; docs/validation.md), just outside the band at 1e-5.
+/// * Jiang & van den Bosch 2016 (MNRAS 458, 2848), the universal model of all orders, each
+///   host's own expectation from its own z_half (`massfunction::evolved_subhaloes`, checked
+///   against `jvdb16.json` in `val_jvdb16_universal_model_vs_astropy`), averaged over the
+///   hosts. This fit lies 1.3-1.85 times below the Springel et al. 2008 one at psi = 1e-5 ...
+///   1e-3 for these hosts (the two simulation analyses count subhaloes differently), so a
+///   factor 1.5 about either fit cannot hold for both. Asserted: the mocks lie inside the
+///   band spanned by the two fits, widened by the same factor 1.5 on each side
+///   ([JvdB16 / 1.5, Springel08 x 1.5]); the ratio to the universal model alone is printed
+///   (measured 2.36, 2.04, 1.77, 1.46, 1.25 from 1e-5 to 1e-3; first order alone 1.21-0.77)
+///   and reported in docs/validation.md as not within 1.5 below psi = 3e-4.
 #[test]
-fn val_evolved_mass_function_vs_springel08() {
+fn val_evolved_mass_function_vs_published_fits() {
+    use retinue::massfunction::evolved_subhaloes as jvdb;
     let f = crate::common::fixture("population.json");
     let psi = crate::common::floats(&f["springel08_rescaled"]["psi_over_m_vir"]);
     let want = crate::common::floats(&f["springel08_rescaled"]["n_greater_inside_r_vir"]);
     assert_eq!(psi, retinue::stats::census::SHMF_PSI.to_vec());
+    let cosmo = Cosmology::from_preset("planck18").unwrap();
     let cs = censuses(6, 3e6);
     let k = cs.len() as f64;
     for j in 0..psi.len() {
         let all = cs.iter().map(|c| c.shmf_all[j] as f64).sum::<f64>() / k;
         let first = cs.iter().map(|c| c.shmf_first[j] as f64).sum::<f64>() / k;
+        let universal = cs
+            .iter()
+            .map(|c| {
+                let f_sub = jvdb::subhalo_mass_fraction(jvdb::dynamical_age(&cosmo, c.z_half));
+                jvdb::n_greater(psi[j], f_sub)
+            })
+            .sum::<f64>()
+            / k;
         let ratio = all / want[j];
         eprintln!(
             "N(> {:e} M_vir) = {all:.1} (first order {first:.1}); Springel et al. 2008 \
-             rescaled: {:.1}; ratio {ratio:.2}",
-            psi[j], want[j]
+             rescaled: {:.1}, ratio {ratio:.2}; Jiang & van den Bosch 2016 universal: \
+             {universal:.1}, ratio {:.2}",
+            psi[j],
+            want[j],
+            all / universal
         );
         assert!(
             (1.0 / 1.5..=1.5).contains(&ratio),
@@ -146,6 +170,50 @@ fn val_evolved_mass_function_vs_springel08() {
             psi[j],
             want[j]
         );
+        assert!(
+            all >= universal.min(want[j]) / 1.5 && all <= universal.max(want[j]) * 1.5,
+            "psi = {}: {all} outside [{universal:.1}, {:.1}] widened by 1.5",
+            psi[j],
+            want[j]
+        );
+    }
+}
+
+/// The universal model of Jiang & van den Bosch 2016 as implemented
+/// (`massfunction::evolved_subhaloes`) against the same formulas evaluated with astropy 8.0.2
+/// (FlatLambdaCDM with this tool's planck18 parameters) and scipy 1.18.1 quadrature
+/// (`tests/reference/scripts/make_jvdb16_fixtures.py`, fixture `jvdb16.json`): dynamical age,
+/// subhalo mass fraction and N(> psi) at z_half = 0.5 ... 2. Tolerance 1e-6 relative (both
+/// quadratures converge to 1e-10; the only difference is the route, over z here and over t
+/// there).
+#[test]
+fn val_jvdb16_universal_model_vs_astropy() {
+    use retinue::massfunction::evolved_subhaloes as jvdb;
+    let f = crate::common::fixture("jvdb16.json");
+    let psi = crate::common::floats(&f["psi"]);
+    let cosmo = Cosmology::from_preset("planck18").unwrap();
+    for h in f["hosts"].as_array().unwrap() {
+        let zh = h["z_half"].as_f64().unwrap();
+        let n = jvdb::dynamical_age(&cosmo, zh);
+        let want_n = h["n_tau"].as_f64().unwrap();
+        assert!(
+            (n / want_n - 1.0).abs() < 1e-6,
+            "z_half {zh}: N_tau {n} vs {want_n}"
+        );
+        let fs = jvdb::subhalo_mass_fraction(n);
+        let want_f = h["f_sub"].as_f64().unwrap();
+        assert!(
+            (fs / want_f - 1.0).abs() < 1e-6,
+            "z_half {zh}: f_sub {fs} vs {want_f}"
+        );
+        let want = crate::common::floats(&h["n_greater"]);
+        for (p, w) in psi.iter().zip(&want) {
+            let got = jvdb::n_greater(*p, fs);
+            assert!(
+                (got / w - 1.0).abs() < 1e-6,
+                "z_half {zh}, psi {p}: {got} vs {w}"
+            );
+        }
     }
 }
 
