@@ -305,24 +305,36 @@ trait Figure {
         DB::ErrorType: 'static;
 }
 
-/// Draw `fig` into DIR/NAME.png and DIR/NAME.svg and add both to `out`.
+/// Draw `fig` into DIR/NAME.png and DIR/NAME.svg and add both to `out`. Each file is drawn
+/// into a hidden `.NAME.partial.EXT` beside it and renamed into place when complete, so an
+/// interrupted report never leaves a truncated figure under the final name.
 fn save(dir: &Path, name: &str, fig: &impl Figure, out: &mut Vec<PathBuf>) -> Result<(), String> {
     let size = fig.size();
     let err = |p: &Path, e: Box<dyn Error>| format!("figure {}: {e}", p.display());
+    let finish = |tmp: &Path, path: &Path| {
+        std::fs::rename(tmp, path).map_err(|e| {
+            let _ = std::fs::remove_file(tmp);
+            err(path, e.into())
+        })
+    };
     let png = dir.join(format!("{name}.png"));
+    let png_tmp = dir.join(format!(".{name}.partial.png"));
     {
-        let root = BitMapBackend::new(&png, size).into_drawing_area();
+        let root = BitMapBackend::new(&png_tmp, size).into_drawing_area();
         root.fill(&WHITE).map_err(|e| err(&png, e.into()))?;
         fig.draw(&root).map_err(|e| err(&png, e))?;
         root.present().map_err(|e| err(&png, e.into()))?;
     }
+    finish(&png_tmp, &png)?;
     let svg = dir.join(format!("{name}.svg"));
+    let svg_tmp = dir.join(format!(".{name}.partial.svg"));
     {
-        let root = SVGBackend::new(&svg, size).into_drawing_area();
+        let root = SVGBackend::new(&svg_tmp, size).into_drawing_area();
         root.fill(&WHITE).map_err(|e| err(&svg, e.into()))?;
         fig.draw(&root).map_err(|e| err(&svg, e))?;
         root.present().map_err(|e| err(&svg, e.into()))?;
     }
+    finish(&svg_tmp, &svg)?;
     out.push(png);
     out.push(svg);
     Ok(())

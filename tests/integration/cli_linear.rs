@@ -328,3 +328,33 @@ fn orbit_command() {
     assert_eq!(code, 2);
     assert!(err.contains("--gyr"), "{err}");
 }
+
+/// A reader that stops early (`retinue orbit ... | head -1`): the command ends quietly when its
+/// output pipe closes (SIGPIPE's default action), without the panic "failed printing to
+/// stdout" of the Rust runtime's default. The orbit writes ~10 MB, far more than a pipe holds,
+/// so it is still writing when the pipe closes.
+#[test]
+fn closed_output_pipe_ends_quietly() {
+    use std::io::{BufRead, BufReader};
+    use std::process::{Command, Stdio};
+    let cfg = concat!(env!("CARGO_MANIFEST_DIR"), "/configs/milky-way.toml");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args([
+            "orbit", "--config", cfg, "--pos", "8,0,0", "--vel", "0,200,0", "--gyr", "10",
+            "--static", "--dt", "0.0001",
+        ])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut first = String::new();
+    BufReader::new(child.stdout.take().unwrap())
+        .read_line(&mut first)
+        .unwrap();
+    assert!(first.contains("t_gyr"), "{first}");
+    // the reader is dropped here: the pipe closes while the command still writes
+    let out = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(!err.contains("panicked"), "{err}");
+    assert_ne!(out.status.code(), Some(101), "{err}");
+}

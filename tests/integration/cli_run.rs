@@ -1174,8 +1174,8 @@ fn milky_way_config_lists_every_default() {
 
 /// The figures on a run's `figures:` line ("a, b (each as .png and .svg)"): each exists in
 /// `dir` as a PNG and an SVG of more than a few kilobytes; the SVG is an `<svg>` document whose
-/// tags balance and whose text is SVG text (no font file needed to show it). Returns the
-/// names in order.
+/// tags balance and whose text is SVG text (no font file needed to show it); no partial file
+/// is left in `dir`. Returns the names in order.
 pub(crate) fn check_listed_figures(out: &str, dir: &Path) -> Vec<String> {
     let line = out
         .lines()
@@ -1211,6 +1211,14 @@ pub(crate) fn check_listed_figures(out: &str, dir: &Path) -> Vec<String> {
         }
         assert!(open.is_empty(), "{n}.svg: unclosed {open:?}");
     }
+    // each figure is drawn into a hidden partial file and renamed: none is left behind
+    let partial: Vec<_> = std::fs::read_dir(dir)
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|f| f.contains(".partial"))
+        .collect();
+    assert!(partial.is_empty(), "left behind: {partial:?}");
     names
 }
 
