@@ -738,10 +738,15 @@ pub(crate) fn follow(
                     ended = Some(SubhaloStatus::MergedWithParent);
                     break;
                 }
-                // beyond the container's tidal radius (once the container is inside another
-                // halo): it leaves for the halo the container orbits
-                if c.container_inside() && r_rel > c.container_profile(t).r_t {
-                    release = c.container_state(t);
+                // beyond the container's tidal radius and beyond its bound matter (once the
+                // container is itself inside another halo): it leaves for the halo the
+                // container orbits, with the container's matter there, which the stripping
+                // model removes over a dynamical time rather than at once
+                if c.container_inside() {
+                    let cp = c.container_profile(t);
+                    if r_rel > cp.r_t && cp.beyond_bound_matter(r_rel) {
+                        release = c.container_state(t);
+                    }
                 }
             }
         }
