@@ -331,6 +331,26 @@ mod tests {
         p.iter().map(|p| p.to_string()).collect()
     }
 
+    /// `tests.backsplash.field`: an unknown model is reported with its key, its value and
+    /// the three allowed names; each allowed name parses.
+    #[test]
+    fn backsplash_field_names_its_allowed_values() {
+        let base = "[cosmology]\npreset = \"planck18\"\n[tests.backsplash]\n";
+        let p = problems(&format!("{base}field = \"linear\"\n"));
+        assert_eq!(p.len(), 1, "{p:?}");
+        assert!(
+            p[0].starts_with("tests.backsplash.field = \"linear\" is not allowed")
+                && ["`nonlinear`", "`correlation`", "`region`"]
+                    .iter()
+                    .all(|n| p[0].contains(n)),
+            "{p:?}"
+        );
+        for ok in ["nonlinear", "correlation", "region"] {
+            let p = problems(&format!("{base}field = \"{ok}\"\n"));
+            assert!(p.is_empty(), "{ok}: {p:?}");
+        }
+    }
+
     #[test]
     fn a_missing_table_blames_no_key() {
         let p = problems("run.master_seed = 1\n");

@@ -470,6 +470,7 @@ fn pairs_section(
     let b = &o.backsplash;
     let field_text = match p.field {
         crate::stats::backsplash::FieldModel::Correlation => "the mean density of haloes in that mass range (Sheth & Tormen 1999) weighted by their linear correlation with both hosts, n = n̄ [1 + b_field (b_A ξ_lin(r_A) + b_B ξ_lin(r_B))] (Tinker et al. 2010 bias), integrated over each shell's part of the region by a fixed quadrature",
+        crate::stats::backsplash::FieldModel::Nonlinear => "the mean density of haloes in that mass range (Sheth & Tormen 1999) weighted by their linear correlation with both hosts, n = n̄ [1 + b_field (b_A ξ_lin(r_A) + b_B ξ_lin(r_B))] (Tinker et al. 2010 bias), integrated over each shell's part of the region by a fixed quadrature (the pair region keeps this linear term: the Hayashi & White 2008 one-halo term of `field = \"nonlinear\"` is applied to single hosts only, not to two overlapping hosts)",
         crate::stats::backsplash::FieldModel::Region => "the uniform density of `tests.backsplash.field = \"region\"` (a Local-Group-like region's Mo & White 1996 mass function), over each shell's part of the region",
     };
     let _ = writeln!(
@@ -798,6 +799,7 @@ pub fn markdown(
     let b = &o.backsplash;
     let [lo, hi] = b.range_over_rvir();
     let field_text = match b.field {
+        FieldModel::Nonlinear => "the mean density of haloes (Sheth & Tormen 1999) weighted by their correlation with the host, 1 + b_field ξ_hm(r), with the non-linear host–matter correlation of Hayashi & White 2008, ξ_hm = max(ρ_NFW(r)/ρ̄_m − 1, b_host ξ_lin(r)) (the host's NFW profile continued beyond R_vir; Tinker et al. 2010 bias). The one-halo term counts all the matter beyond R_vir, the orbiting matter of the backsplash haloes included, which lowers the fractions; the linear bias of the small haloes applied there is an assumption that raises them".to_string(),
         FieldModel::Correlation => "the mean density of haloes (Sheth & Tormen 1999) weighted by their linear correlation with the host, 1 + b_host b_field ξ_lin(r) (Tinker et al. 2010 bias). Linear theory undercounts the field near the host, so the fractions are upper limits, the more so in the inner shells".to_string(),
         FieldModel::Region => format!("the Mo & White 1996 mass function of a region of {} Msun within {} Mpc, spread uniformly over it (an estimate, not a prediction of the infall-region profile)", short_number(b.region_mass_msun), b.region_radius_mpc),
     };
@@ -975,6 +977,7 @@ fn write_pairs(a: &hdf5::Group, p: &crate::stats::pairs::PairResults) -> hdf5::R
         &g,
         "field",
         match p.field {
+            FieldModel::Nonlinear => "nonlinear",
             FieldModel::Correlation => "correlation",
             FieldModel::Region => "region",
         },

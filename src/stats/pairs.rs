@@ -361,7 +361,9 @@ impl PairFieldCounter {
         let m = cat.host_m_vir_msun[h];
         let mp = pair_value(&cat.host_partner_m_vir_msun, h);
         let d = cat.host_pair_separation_kpc[h];
-        let correlated = self.model == FieldModel::Correlation;
+        // "nonlinear" keeps the linear two-halo term of both hosts here (the one-halo term of
+        // two overlapping hosts is not modelled): see `backsplash` and docs/methods.md
+        let correlated = self.model != FieldModel::Region;
         HalfGeometry {
             separation_kpc: d,
             r_vir_kpc: cat.host_r_vir_kpc[h],

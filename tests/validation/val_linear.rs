@@ -572,3 +572,77 @@ fn val_tinker10_bias() {
         }
     }
 }
+
+/// The host–matter correlation of the default field model (`field = "nonlinear"`), Hayashi &
+/// White 2008 (MNRAS 388, 2): xi_hm = max(xi_1h, xi_2h), xi_1h = rho_NFW(r)/rho_bar_m - 1 with
+/// the host's NFW profile continued beyond R_vir, xi_2h = b_host xi_lin(r). Against the same
+/// construction from colossus 1.4.0 pieces (tests/reference/field.json, `hayashi_white08`,
+/// make_field_fixtures.py): `concentration.concentration(M h, 'vir', 0, model='dutton14')`,
+/// `mass_so.M_to_R(M h, 0, 'vir')`, `profile_nfw.NFWProfile(M=M h, c, z=0,
+/// mdef='vir').density(r h) / co.rho_m(0)`, `bias.haloBias(M h, 0, '200m', 'tinker10')` and
+/// `co.correlationFunction(r h, 0)`, for hosts of 1.2e12 and 3e12 Msun at 1-10 R_vir.
+/// Tolerances: c_vir and R_vir 1e-4 (same formulas and constants); 1 + xi_1h with colossus's
+/// c_vir 1e-4 (same NFW formula, rho_m to 1e-6); xi_2h and xi_hm with our own pieces 4e-3
+/// (the sum of the tolerances of xi_lin, 2e-3, and of the bias through our sigma(M), 2e-3,
+/// `val_correlation_function`, `val_tinker10_bias`).
+#[test]
+fn val_hayashi_white08_host_matter_correlation() {
+    use retinue::halo::MassDefinition;
+    use retinue::stats::backsplash::HostMatterCorrelation;
+    let field = fixture("field.json");
+    let (lt, _) = theory("planck18", LinearOptions::default());
+    let table = CorrelationTable::new(lt.power());
+    for host in field["cosmologies"]["planck18"]["hayashi_white08"]
+        .as_array()
+        .unwrap()
+    {
+        let m = num(&host["m_vir_msun"]);
+        let r_vir = MassDefinition::Vir.radius_kpc(lt.cosmology(), m, 0.0);
+        assert_rel(
+            &format!("R_vir({m:e})"),
+            r_vir,
+            num(&host["r_vir_kpc"]),
+            1e-4,
+        );
+        let ours = HostMatterCorrelation::new(&lt, m, r_vir);
+        let c_ours = r_vir / ours.nfw.r_s_kpc;
+        let c_col = num(&host["c_vir_dutton14"]);
+        assert_rel(&format!("c_vir({m:e})"), c_ours, c_col, 1e-4);
+        assert_rel(
+            &format!("b_host({m:e})"),
+            ours.b_host,
+            num(&host["b_tinker10"]),
+            2e-3,
+        );
+        let same_c = HostMatterCorrelation::with_concentration(&lt, m, r_vir, c_col);
+        for row in host["radii"].as_array().unwrap() {
+            let x = num(&row["r_over_rvir"]);
+            let r = x * r_vir * 1e-3;
+            let (one, two, hm) = (num(&row["xi_1h"]), num(&row["xi_2h"]), num(&row["xi_hm"]));
+            println!(
+                "M {m:e}, {x} R_vir: xi_1h {:.4} (colossus {one:.4}), xi_2h {:.4} ({two:.4}), xi_hm {:.4} ({hm:.4})",
+                ours.one_halo(r),
+                ours.b_host * table.xi(r),
+                ours.xi(r, table.xi(r)),
+            );
+            assert_rel(
+                &format!("1 + xi_1h({m:e}, {x} R_vir)"),
+                1.0 + same_c.one_halo(r),
+                1.0 + one,
+                1e-4,
+            );
+            assert_rel(
+                &format!("xi_2h({m:e}, {x} R_vir)"),
+                ours.b_host * lt.power().xi_lin(r),
+                two,
+                4e-3,
+            );
+            assert_rel(
+                &format!("xi_hm({m:e}, {x} R_vir)"),
+                ours.xi(r, lt.power().xi_lin(r)),
+                hm,
+                4e-3,
+            );
+        }
+    }
+}
