@@ -13,7 +13,9 @@
 //! radial orbits for a larger mass ratio and a larger host peak height (Jiang et al. 2015; Li
 //! et al. 2020), most satellites faster than V_vir with less angular momentum than
 //! R_vir V_vir (recalled from published infall-orbit studies) — which `val_infall_orbits_vs_published_statements`
-//! (tests/validation/val_orbits.rs) checks. Directions are isotropic; the satellite starts at
+//! (tests/validation/val_orbits.rs) checks; and for major mergers (m/M >= 0.25) the Kepler
+//! circularities peak near 0.5 with about half of the orbits nearly parabolic (Khochfar &
+//! Burkert 2006, abstract), which `val_major_merger_orbits_vs_khochfar_burkert06` checks. Directions are isotropic; the satellite starts at
 //! R_vir moving inward.
 
 use rand::Rng;
