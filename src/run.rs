@@ -546,10 +546,25 @@ pub fn synthesize_to_store(
         }
         wake.notify_all();
     };
+    // the next host in order: (batch of `todo`, offset in it, global host)
+    let take_next = |st: &mut State| -> (usize, usize, u64) {
+        let (b, i) = (st.b, st.i);
+        if i == 0 {
+            st.slots[b] = (0..size(b)).map(|_| None).collect();
+        }
+        st.i += 1;
+        if st.i == size(b) {
+            st.b += 1;
+            st.i = 0;
+        }
+        (b, i, bounds(todo[b]).0 + i as u64)
+    };
     let worker = || {
         let mut builder = TreeBuilder::new(grid.config.pch08).expect("validated");
+        // the hosts this worker has taken and not yet synthesised
+        let mut mine: Vec<(usize, usize, u64)> = Vec::with_capacity(2);
         loop {
-            let (b, i) = {
+            if mine.is_empty() {
                 let mut st = lock();
                 loop {
                     if st.error.is_some() || st.b >= todo.len() {
@@ -560,19 +575,26 @@ pub fn synthesize_to_store(
                     }
                     st = wake.wait(st).unwrap_or_else(|p| p.into_inner());
                 }
-                let (b, i) = (st.b, st.i);
-                if i == 0 {
-                    st.slots[b] = (0..size(b)).map(|_| None).collect();
+                let first = take_next(&mut st);
+                mine.push(first);
+                // The primary of a pair takes its partner (the next host) with it when that is
+                // free to start without waiting: the partner's synthesis then finds both trees
+                // and the pair's fields in this thread's cache (`synth`) instead of another
+                // thread growing them again at the same time. Records do not depend on it.
+                let g = first.2;
+                if st.b < todo.len()
+                    && st.b < st.low + WINDOW
+                    && bounds(todo[st.b]).0 + st.i as u64 == g + 1
+                    && grid.host_id(g + 1) == grid.host_id(g).partner()
+                {
+                    mine.push(take_next(&mut st));
                 }
-                st.i += 1;
-                if st.i == size(b) {
-                    st.b += 1;
-                    st.i = 0;
-                }
-                (b, i)
-            };
+                mine.reverse();
+            } else if lock().error.is_some() {
+                return;
+            }
+            let (b, i, g) = mine.pop().expect("a host taken");
             let k = todo[b];
-            let g = bounds(k).0 + i as u64;
             // a panic would leave its batch incomplete and the other workers waiting for it:
             // it ends the run with an error instead
             let synth = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {

@@ -178,37 +178,64 @@ thread_local! {
     static PAIR_FIELDS: std::cell::RefCell<
         Option<(PairKey, std::rc::Rc<(EvolvingHost, EvolvingHost, crate::pair::PairOrbit)>)>,
     > = const { std::cell::RefCell::new(None) };
-    /// The histories of the last pair synthesised on this thread (both hosts'): the other
+    /// The grown trees of the last pair synthesised on this thread (both hosts'): the other
     /// host of a pair, usually the next host on the same thread, reuses them instead of
-    /// growing both trees again. Keyed by everything the tree depends on, so a hit is the
+    /// growing either tree again. Keyed by everything the tree depends on, so a hit is the
     /// same tree bit for bit.
-    static PAIR_TREES: std::cell::RefCell<Vec<(TreeKey, std::rc::Rc<HostHistory>)>> =
+    static PAIR_TREES: std::cell::RefCell<Vec<(TreeKey, std::rc::Rc<GrownTree>)>> =
         const { std::cell::RefCell::new(Vec::new()) };
 }
 
-/// The history of host `id`'s tree (grown with `spec`), from this thread's cache of the last
-/// pair if it is there.
-fn pair_tree_history(
+/// What the stages after the tree need of it: its history, its node count, and each
+/// branch's mass at a reionisation redshift (`branch_mass_at_z`), so that a cached tree can
+/// stand in for the tree itself.
+struct GrownTree {
+    hist: std::rc::Rc<HostHistory>,
+    n_nodes: u64,
+    /// The redshift `m_reion_msun` is for.
+    reionization_z: f64,
+    /// Mass of each branch (by branch id) at `reionization_z`, Msun.
+    m_reion_msun: Vec<f64>,
+}
+
+impl GrownTree {
+    fn new(tree: &crate::trees::MergerTree, reionization_z: f64) -> Self {
+        GrownTree {
+            hist: std::rc::Rc::new(HostHistory::from_tree(tree)),
+            n_nodes: tree.n_nodes() as u64,
+            reionization_z,
+            m_reion_msun: (0..tree.n_branches() as u32)
+                .map(|b| branch_mass_at_z(tree, b, reionization_z))
+                .collect(),
+        }
+    }
+}
+
+/// Host `id`'s tree grown with `spec` (its branch masses at `reionization_z`), from this
+/// thread's cache of the last pair if it is there with the same reionisation redshift, else
+/// grown and put in the cache.
+fn pair_tree(
     lt: &LinearTheory,
     spec: &TreeSpec,
+    reionization_z: f64,
     master_seed: u64,
     id: HostId,
     builder: &mut TreeBuilder,
-) -> Result<std::rc::Rc<HostHistory>, InvalidValue> {
+) -> Result<std::rc::Rc<GrownTree>, InvalidValue> {
     let key = tree_key(lt, spec, master_seed, id);
-    if let Some(h) = PAIR_TREES.with(|c| {
+    if let Some(g) = PAIR_TREES.with(|c| {
         c.borrow()
             .iter()
-            .find(|(k, _)| *k == key)
-            .map(|(_, h)| h.clone())
+            .find(|(k, g)| *k == key && g.reionization_z.to_bits() == reionization_z.to_bits())
+            .map(|(_, g)| g.clone())
     }) {
-        return Ok(h);
+        return Ok(g);
     }
     let mut rng = host_rng(master_seed, id, Stream::Tree);
     let tree = builder.build(lt, spec, &mut rng)?;
-    let h = std::rc::Rc::new(HostHistory::from_tree(tree));
-    remember_history(key, h.clone());
-    Ok(h)
+    let g = std::rc::Rc::new(GrownTree::new(tree, reionization_z));
+    remember_tree(key, g.clone());
+    Ok(g)
 }
 
 /// What identifies host `id`'s tree grown with `spec` (`TreeKey`).
@@ -222,8 +249,8 @@ fn tree_key(lt: &LinearTheory, spec: &TreeSpec, master_seed: u64, id: HostId) ->
     )
 }
 
-/// Keep a history in this thread's cache of the last pair's two (`PAIR_TREES`).
-fn remember_history(key: TreeKey, h: std::rc::Rc<HostHistory>) {
+/// Keep a grown tree in this thread's cache of the last pair's two (`PAIR_TREES`).
+fn remember_tree(key: TreeKey, h: std::rc::Rc<GrownTree>) {
     PAIR_TREES.with(|c| {
         let mut c = c.borrow_mut();
         if c.len() >= 2 {
@@ -249,25 +276,31 @@ fn synthesize(
             .map(|a| a.t_infall_gyr)
             .fold(t_end - 1e-3, f64::min)
     };
-    // the partner's tree first (the arena then holds this host's own tree)
-    let partner_hist = match pair {
-        Some(p) => Some(pair_tree_history(
-            lt,
-            &p.partner_options.tree,
-            master_seed,
-            id.partner(),
-            builder,
-        )?),
-        None => None,
+    let z_reion = options.galaxies.reionization_z;
+    // this host's tree: for a host of a pair through the pair cache (the partner's tree
+    // first, then this host's, so the other host of the pair finds both), grown here for an
+    // isolated host
+    let (grown, partner_hist) = match pair {
+        Some(p) => {
+            let partner = pair_tree(
+                lt,
+                &p.partner_options.tree,
+                p.partner_options.galaxies.reionization_z,
+                master_seed,
+                id.partner(),
+                builder,
+            )?;
+            let own = pair_tree(lt, &options.tree, z_reion, master_seed, id, builder)?;
+            (own, Some(partner.hist.clone()))
+        }
+        None => {
+            let mut trng = host_rng(master_seed, id, Stream::Tree);
+            let tree = builder.build(lt, &options.tree, &mut trng)?;
+            (std::rc::Rc::new(GrownTree::new(tree, z_reion)), None)
+        }
     };
-    let mut trng = host_rng(master_seed, id, Stream::Tree);
-    let tree = builder.build(lt, &options.tree, &mut trng)?;
-    let n_nodes = tree.n_nodes() as u64;
-    let hist = std::rc::Rc::new(HostHistory::from_tree(tree));
-    if pair.is_some() {
-        // the other host of the pair needs this history as its partner's
-        remember_history(tree_key(lt, &options.tree, master_seed, id), hist.clone());
-    }
+    let n_nodes = grown.n_nodes;
+    let hist = grown.hist.clone();
     let mut t_first = first_infall(&hist);
     if let Some(ph) = &partner_hist {
         t_first = t_first.min(first_infall(ph));
@@ -351,7 +384,7 @@ fn synthesize(
     let mut subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);
     // each branch's mass at reionisation (the `reionization` occupation; stored for all)
     for s in &mut subhaloes {
-        s.m_reion_msun = branch_mass_at_z(tree, s.branch, options.galaxies.reionization_z);
+        s.m_reion_msun = grown.m_reion_msun[s.branch as usize];
     }
     let mut grng = host_rng(master_seed, id, Stream::Galaxies);
     let galaxies = paint(

@@ -710,7 +710,8 @@ impl SizeEstimate {
     pub const CPU_S_PER_HOST: f64 = 0.25;
     /// A host of a pair over an isolated host in CPU time, end to end: 1.28 measured
     /// (`scripts/bench-run.sh 100 2 pair` against `scripts/bench-run.sh 100 2`: a pair run goes
-    /// at 0.78 of the isolated rate per host; docs/performance.md), rounded up.
+    /// at 0.78 of the isolated rate per host; docs/performance.md), rounded up; 1.17–1.23 since
+    /// both hosts of a pair share their trees on one thread (2026-12-03), within that noise.
     pub const PAIR_HOST_CPU: f64 = 1.3;
     /// Store bytes per default host, compressed (`io::store::col_filters`): stores of 20 and
     /// 100 default hosts took 18.9 and 85.9 MB, 0.84 MB per host and 2.2 MB fixed (the
