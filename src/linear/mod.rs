@@ -97,6 +97,8 @@ pub struct LinearTheory {
     power: PowerSpectrum,
     sigma: SigmaTable,
     clock: Clock,
+    /// The linear correlation function's table, built on first use (`correlation_table`).
+    xi_table: std::sync::OnceLock<CorrelationTable>,
 }
 
 impl LinearTheory {
@@ -137,6 +139,7 @@ impl LinearTheory {
             power,
             sigma,
             clock,
+            xi_table: std::sync::OnceLock::new(),
         })
     }
 
@@ -154,6 +157,13 @@ impl LinearTheory {
 
     pub fn sigma_table(&self) -> &SigmaTable {
         &self.sigma
+    }
+
+    /// xi_lin(r) at z = 0 of this power spectrum, tabulated once on first use and shared by
+    /// every later caller (the field counts of each chunk of hosts and each grid cell).
+    pub fn correlation_table(&self) -> &CorrelationTable {
+        self.xi_table
+            .get_or_init(|| CorrelationTable::new(&self.power))
     }
 
     /// The excursion-set clock w = delta_c/D and its inverse.

@@ -298,7 +298,7 @@ impl FieldCounter {
                 Model::Correlation {
                     n_bar: n,
                     b_field: nb / n,
-                    xi: CorrelationTable::new(lt.power()),
+                    xi: lt.correlation_table().clone(),
                     one_halo: options.field == FieldModel::Nonlinear,
                 }
             }
