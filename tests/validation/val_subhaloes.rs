@@ -872,8 +872,9 @@ fn val_disc_depletion() {
 /// * asserted: in 1-2 R_vir about a half (Gill et al. 2005, abstract: about half of the
 ///   galaxies in the outskirts of clusters, 1-2 R_vir, are backsplash; Mamon et al. 2004,
 ///   A&A 414, 445, about half, recalled), band [0.3, 0.7] (host-to-host range, common
-///   practice); measured 0.624 (the linear model gave 0.726, outside the band: linear theory
-///   undercounts the field near the host);
+///   practice); measured 0.575 (the linear model gives 0.683; 0.726 before satellites of
+///   satellites left their parents only with their parents' matter, outside the band: linear
+///   theory undercounts the field near the host);
 /// * printed: the same with the linear model (`field = "correlation"`, the previous default),
 ///   and two bounds on the non-linear model's assumptions: haloes tracing the matter one for
 ///   one where the one-halo term wins (n = n_bar (1 + xi_1h) there instead of
