@@ -248,7 +248,7 @@ fn val_jvdb16_universal_model_vs_astropy() {
 ///   Belokurov 2020; predictions 4-8 with M* > 1e4 Msun within 50 kpc, Dooley et al. 2017,
 ///   arXiv:1703.05321; all from the papers' abstracts).
 ///
-/// Binomial error of the pooled fractions (about 6,000 dwarfs): 0.006; about 13 Magellanic
+/// Binomial error of the pooled fractions (about 4,000 dwarfs): 0.005-0.008; about 10 Magellanic
 /// analogues.
 #[test]
 fn val_satellite_population_census() {
