@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # End-to-end throughput and peak memory of `retinue run` for the Milky-Way-mass default
 # (1.2e12 Msun, resolution 10^7.5 Msun, Planck 2018), tests and store included.
-# Usage: scripts/bench-run.sh N [THREADS] [isolated|pair]   (figures go to docs/performance.md
+# Usage: scripts/bench-run.sh N [THREADS] [isolated|pair]   (prints wall time, rate, CPU time
+# (user + system), peak memory and store size; figures go to docs/performance.md
 # by hand). With `pair`, the cell holds N pairs (2N hosts) of the same host mass with a partner
 # of equal mass 800 kpc away (the Local-Group-like example of configs/paired-hosts.toml), and
 # the rate is given in pairs per second.
@@ -36,7 +37,8 @@ start=$(date +%s.%N)
 /usr/bin/time -v "${CARGO_TARGET_DIR:-target}/release/retinue" run "$dir/bench.toml" --out "$dir/bench.h5" --threads "$threads" > "$dir/out.txt" 2> "$dir/err.txt"
 end=$(date +%s.%N)
 rss=$(grep "Maximum resident set size" "$dir/err.txt" | awk '{print $6}')
+cpu=$(awk -F': ' '/User time|System time/ {s += $2} END {printf "%.1f", s}' "$dir/err.txt")
 el=$(echo "$end - $start" | bc -l)
-printf "%s: %s  threads: %s  wall: %.1f s  %s/s: %.2f  peak RSS: %.0f MiB  store: %s\n" \
-  "$unit" "$n" "$threads" "$el" "$unit" "$(echo "$n / $el" | bc -l)" "$(echo "$rss / 1024" | bc -l)" "$(du -h "$dir/bench.h5" | cut -f1)"
+printf "%s: %s  threads: %s  wall: %.1f s  %s/s: %.2f  CPU: %s s  peak RSS: %.0f MiB  store: %s\n" \
+  "$unit" "$n" "$threads" "$el" "$unit" "$(echo "$n / $el" | bc -l)" "$cpu" "$(echo "$rss / 1024" | bc -l)" "$(du -h "$dir/bench.h5" | cut -f1)"
 rm -rf "$dir"
