@@ -373,6 +373,10 @@ pub fn analyse(
     )
     .map_err(|e| AnalysisError::Failed(e.to_string()))?;
     let figures = figures(grid, &dir, &res, &fig, sample, &per_cell)?;
+    // an earlier analysis's tables and figures that this one does not have
+    let written: Vec<PathBuf> = files.iter().chain(&figures).cloned().collect();
+    crate::report::remove_stale(&dir, &written, true)
+        .map_err(|e| AnalysisError::Failed(e.to_string()))?;
     Ok(Outcome {
         results: res,
         cells: per_cell,

@@ -904,6 +904,9 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
         &c.cells,
     )
     .map_err(analysis_err)?;
+    // figures of an earlier drawing that this one does not have (tables are left alone)
+    retinue::report::remove_stale(&dir, &figs, false)
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))?;
     for f in figs {
         println!("{}", f.display());
     }

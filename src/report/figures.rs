@@ -305,10 +305,33 @@ trait Figure {
         DB::ErrorType: 'static;
 }
 
+/// Every figure a report may hold (each as NAME.png and NAME.svg); `save` refuses any other
+/// name, so that `super::remove_stale` knows them all.
+pub const FIGURE_NAMES: [&str; 13] = [
+    "all_of_n_vs_redshift",
+    "all_of_n_vs_lookback",
+    "fraction_of_n",
+    "quenching_delay",
+    "phase_space_matches",
+    "infall_times",
+    "pericentres",
+    "subhalo_mass_function",
+    "radial_distribution",
+    "backsplash_shells",
+    "pair_separation",
+    "dependence_on_host_mass",
+    "all_of_n_by_cell",
+];
+
 /// Draw `fig` into DIR/NAME.png and DIR/NAME.svg and add both to `out`. Each file is drawn
 /// into a hidden `.NAME.partial.EXT` beside it and renamed into place when complete, so an
 /// interrupted report never leaves a truncated figure under the final name.
 fn save(dir: &Path, name: &str, fig: &impl Figure, out: &mut Vec<PathBuf>) -> Result<(), String> {
+    if !FIGURE_NAMES.contains(&name) {
+        return Err(format!(
+            "figure {name}: not in FIGURE_NAMES (a report's figures)"
+        ));
+    }
     let size = fig.size();
     let err = |p: &Path, e: Box<dyn Error>| format!("figure {}: {e}", p.display());
     let finish = |tmp: &Path, path: &Path| {

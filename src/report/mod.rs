@@ -177,6 +177,47 @@ fn csv_field(s: &str) -> String {
 
 /// Write the CSV tables and the Markdown report into `dir`; returns the files written. Every
 /// table starts with the cell's columns (`cosmology`, `host_mass_msun`): with one cell, its
+/// Every table a report may hold, and its text.
+pub const TABLE_NAMES: [&str; 8] = [
+    "all_of_n.csv",
+    "fraction_of_n.csv",
+    "quenching_delay.csv",
+    "phase_space_matches.csv",
+    "dependence.csv",
+    "backsplash.csv",
+    "pairs.csv",
+    "report.md",
+];
+
+/// Remove from `dir` the report files that an earlier analysis wrote there and this one did
+/// not (`written`): a table or figure drawn only with a sample or only for pairs would
+/// otherwise stay beside the new report as if it were part of it. Only the names a report
+/// writes are touched (`TABLE_NAMES` when `tables`, and the figures' PNG and SVG); returns the
+/// files removed.
+pub fn remove_stale(
+    dir: &Path,
+    written: &[PathBuf],
+    tables: bool,
+) -> Result<Vec<PathBuf>, IoError> {
+    let mut names: Vec<String> = figures::FIGURE_NAMES
+        .iter()
+        .flat_map(|n| [format!("{n}.png"), format!("{n}.svg")])
+        .collect();
+    if tables {
+        names.extend(TABLE_NAMES.iter().map(|n| n.to_string()));
+    }
+    let mut removed = Vec::new();
+    for n in names {
+        let p = dir.join(&n);
+        if written.iter().any(|w| w.file_name() == p.file_name()) || !p.is_file() {
+            continue;
+        }
+        std::fs::remove_file(&p).map_err(|e| IoError::fs(&p, e))?;
+        removed.push(p);
+    }
+    Ok(removed)
+}
+
 /// names; with several, first the pooled rows (`all`, `all`), then each cell's rows.
 pub fn write_tables(
     dir: &Path,

@@ -1323,6 +1323,40 @@ fn retest_a_store_from_anywhere() {
     assert_eq!(code, 0, "{err}");
     assert!(!err.contains("note:"), "{err}");
     assert!(out.contains("largest quenching delay"), "{out}");
+    // re-tested without a sample into the run's report directory, which holds the sample's
+    // tables and figures: those go (they belonged to the earlier report), the rest is new,
+    // and a file of the user's own there is left alone
+    let rep = runs.join("out-report");
+    assert!(rep.join("quenching_delay.csv").is_file());
+    write(&rep, "my-notes.txt", "mine");
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--out",
+        rep.to_str().unwrap(),
+        "--overwrite",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    for gone in [
+        "quenching_delay.csv",
+        "phase_space_matches.csv",
+        "quenching_delay.png",
+        "quenching_delay.svg",
+        "phase_space_matches.png",
+    ] {
+        assert!(
+            !rep.join(gone).exists(),
+            "{gone} left from the earlier report"
+        );
+    }
+    for kept in [
+        "all_of_n.csv",
+        "report.md",
+        "infall_times.png",
+        "my-notes.txt",
+    ] {
+        assert!(rep.join(kept).is_file(), "{kept}");
+    }
 }
 
 /// `infall --config` takes only the [tests] and [galaxies] tables from the new file: the
