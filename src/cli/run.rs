@@ -915,8 +915,9 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
 
 pub fn infall(a: InfallArgs) -> Result<(), CliError> {
     let meta = read_meta(&a.store).map_err(usage)?;
-    let (mut cfg, mut run_sample) =
-        stored_config(&meta, &a.store, a.sample.is_none() && a.config.is_none())?;
+    // the run's own sample unless one is given: `--config` overlays only the keys it gives,
+    // so without `run.sample` in it the run's sample stays
+    let (mut cfg, mut run_sample) = stored_config(&meta, &a.store, a.sample.is_none())?;
     let mut run_columns = cfg.file.run.sample_columns.clone();
     if let Some(p) = &a.config {
         // only the [tests] and [galaxies] tables (and run.sample, run.sample_columns) come

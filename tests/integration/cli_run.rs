@@ -1269,6 +1269,21 @@ fn retest_a_store_from_anywhere() {
     let (code, out, err) = run_cli(&["infall", store.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("largest quenching delay"), "{out}");
+    // a --config that changes only the tests keeps the run's own sample (it overlays only
+    // the keys it gives)
+    let tests_only = write(
+        d.path(),
+        "tests-only.toml",
+        "[tests]\ndraws = 500\nbootstrap = 50\n",
+    );
+    let (code, out, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        tests_only.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("largest quenching delay"), "{out}");
     // no note from the sample reader (the run's n_draw differs from this sample: that note)
     assert!(
         !err.lines()
