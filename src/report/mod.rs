@@ -514,9 +514,29 @@ fn pairs_section(
         crate::stats::backsplash::FieldModel::Nonlinear => "the mean density of haloes in that mass range (Sheth & Tormen 1999) weighted by their linear correlation with both hosts, n = n̄ [1 + b_field (b_A ξ_lin(r_A) + b_B ξ_lin(r_B))] (Tinker et al. 2010 bias), integrated over each shell's part of the region by a fixed quadrature (the pair region keeps this linear term: the Hayashi & White 2008 one-halo term of `field = \"nonlinear\"` is applied to single hosts only, not to two overlapping hosts)",
         crate::stats::backsplash::FieldModel::Region => "the uniform density of `tests.backsplash.field = \"region\"` (a Local-Group-like region's Mo & White 1996 mass function), over each shell's part of the region",
     };
+    // the region's radius, as configured per environment
+    let region_text = p
+        .separations
+        .iter()
+        .find(|s| s.cell.is_none())
+        .map(|s| {
+            let [lo, hi] = s.region_kpc;
+            if !(lo.is_finite() && hi.is_finite()) {
+                "not recorded".to_string()
+            } else if hi > lo * (1.0 + 1e-9) {
+                format!(
+                    "{}–{} kpc over the pair cells",
+                    short_number(lo),
+                    short_number(hi)
+                )
+            } else {
+                format!("{} kpc", short_number(lo))
+            }
+        })
+        .unwrap_or_else(|| "not recorded".to_string());
     let _ = writeln!(
         m,
-        "\n### Field dwarfs of the pair region\n\nHaloes with peak mass {}–{} Msun (distinct haloes, as in the backsplash test) inside the sphere of radius `region_radius_kpc` about the pair's barycentre (of the two virial masses) and outside both virial radii, by distance from the nearer host in units of that host's R_vir (the last row: the whole region). Backsplash haloes are the hosts' own subhaloes there that were once inside either host (from the orbits; each host counts its own). The haloes that never fell in are not in the trees: their expected number is {field_text}; the region is split by which host is nearer and each host counts the field in its own half, so each pair's volume is counted once. Tree haloes in the region that were never inside either host (mostly satellites of satellites released from their group before it fell in) are listed apart and left out of the fraction: they are part of the field the expected number counts. Per pair, the fraction N_bs / (N_bs + N_field); mean over pairs with its bootstrap 16–84% interval and the pair-to-pair 16–84% range. Linear theory undercounts the field near the hosts, so the fractions are upper limits, the more so in the inner shells.\n",
+        "\n### Field dwarfs of the pair region\n\nHaloes with peak mass {}–{} Msun (distinct haloes, as in the backsplash test) inside the sphere of radius `region_radius_kpc` ({region_text}) about the pair's barycentre (of the two virial masses) and outside both virial radii, by distance from the nearer host in units of that host's R_vir (the last row: the whole region). Backsplash haloes are the hosts' own subhaloes there that were once inside either host (from the orbits; each host counts its own). The haloes that never fell in are not in the trees: their expected number is {field_text}; the region is split by which host is nearer and each host counts the field in its own half, so each pair's volume is counted once. Tree haloes in the region that were never inside either host (mostly satellites of satellites released from their group before it fell in) are listed apart and left out of the fraction: they are part of the field the expected number counts. Per pair, the fraction N_bs / (N_bs + N_field); mean over pairs with its bootstrap 16–84% interval and the pair-to-pair 16–84% range. Linear theory undercounts the field near the hosts, so the fractions are upper limits, the more so in the inner shells.\n",
         short_number(b.m_peak_msun[0]),
         short_number(b.m_peak_msun[1]),
     );

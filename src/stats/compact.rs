@@ -231,6 +231,7 @@ pub fn for_each_chunk_where(
                     (c.host_cosmology[h], c.host_cell[h]),
                     c.host_pair_separation_kpc[h],
                     rows.min_separation_kpc[h],
+                    c.host_region_radius_kpc[h],
                     &rows.z,
                     rows.separation_kpc
                         .row(h)

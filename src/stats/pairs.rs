@@ -413,6 +413,8 @@ pub struct CellSeparations {
     /// (cosmology index, cell code of the primaries).
     pub key: (u16, u16),
     pub n_pairs: usize,
+    /// Smallest and largest radius (kpc) of the pair region (`environment.region_radius_kpc`).
+    pub region_kpc: [f64; 2],
     pub today: Binned,
     pub smallest: Binned,
     /// One per column of /histories/z.
@@ -428,9 +430,18 @@ pub struct PairGeometry {
 }
 
 impl PairGeometry {
-    /// Add one pair (its primary's row): today's and the smallest separation (kpc) and the
-    /// separation history at redshifts `z`.
-    pub fn add(&mut self, key: (u16, u16), today: f64, smallest: f64, z: &[f64], history: &[f64]) {
+    /// Add one pair (its primary's row): today's and the smallest separation (kpc), the
+    /// radius of its region (kpc) and the separation history at redshifts `z`.
+    #[allow(clippy::too_many_arguments)]
+    pub fn add(
+        &mut self,
+        key: (u16, u16),
+        today: f64,
+        smallest: f64,
+        region_kpc: f64,
+        z: &[f64],
+        history: &[f64],
+    ) {
         if self.z.is_empty() {
             self.z = z.to_vec();
         }
@@ -440,6 +451,7 @@ impl PairGeometry {
                 self.cells.push(CellSeparations {
                     key,
                     n_pairs: 0,
+                    region_kpc: [f64::INFINITY, f64::NEG_INFINITY],
                     today: separation_bins(),
                     smallest: separation_bins(),
                     history: vec![separation_bins(); self.z.len()],
@@ -449,6 +461,10 @@ impl PairGeometry {
         };
         let c = &mut self.cells[i];
         c.n_pairs += 1;
+        c.region_kpc = [
+            c.region_kpc[0].min(region_kpc),
+            c.region_kpc[1].max(region_kpc),
+        ];
         c.today.add(today.log10());
         c.smallest.add(smallest.log10());
         for (b, s) in c.history.iter_mut().zip(history) {
@@ -462,6 +478,10 @@ impl PairGeometry {
         let mut p = it.next()?.clone();
         for c in it {
             p.n_pairs += c.n_pairs;
+            p.region_kpc = [
+                p.region_kpc[0].min(c.region_kpc[0]),
+                p.region_kpc[1].max(c.region_kpc[1]),
+            ];
             p.today.merge(&c.today);
             p.smallest.merge(&c.smallest);
             for (a, b) in p.history.iter_mut().zip(&c.history) {
@@ -524,6 +544,8 @@ pub struct RegionResult {
 pub struct SeparationSummary {
     pub cell: Option<(u16, u16)>,
     pub n_pairs: usize,
+    /// Smallest and largest radius of the pair region (kpc).
+    pub region_kpc: [f64; 2],
     pub today_kpc: [f64; 3],
     pub smallest_kpc: [f64; 3],
 }
@@ -769,6 +791,7 @@ impl<'a> PairMerger<'a> {
         let summary = |cell: Option<(u16, u16)>, c: &CellSeparations| SeparationSummary {
             cell,
             n_pairs: c.n_pairs,
+            region_kpc: c.region_kpc,
             today_kpc: separation_quantiles(&c.today),
             smallest_kpc: separation_quantiles(&c.smallest),
         };

@@ -333,6 +333,8 @@ fn pairs_table_report_and_figure() {
         "### Separations",
         "upper limits",
         "## Comparison of the grid's cells",
+        // the configured region radius, in words
+        "`region_radius_kpc` (1200 kpc)",
     ] {
         assert!(md.contains(part), "{part} missing");
     }
