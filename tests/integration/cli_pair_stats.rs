@@ -438,3 +438,65 @@ fn runs_without_pairs_are_unchanged() {
     assert!(!f.link_exists("analysis/run/pairs"));
     assert!(f.link_exists("analysis/run/backsplash"));
 }
+
+/// The pair tests with the uniform field of `tests.backsplash.field = "region"` (the Mo & White
+/// 1996 density of a Local-Group-like region, no correlation term): the field expected in a
+/// pair's whole region is that density times the region's volume outside both virial spheres
+/// (the sphere of `region_radius_kpc` about the barycentre holds both hosts' spheres here),
+/// averaged over the pairs, from the store's own columns and `region_density_mpc3` (to 1e-3:
+/// the pair code integrates the region shell by shell numerically).
+#[test]
+fn pair_region_field_with_the_uniform_model() {
+    let d = tempfile::tempdir().unwrap();
+    let text = format!("{PAIRS}\n[tests.backsplash]\nfield = \"region\"\n");
+    let cfg = write(d.path(), "pairs.toml", &text);
+    let store = d.path().join("pairs.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let rep = d.path().join("pairs-report");
+    let md = std::fs::read_to_string(rep.join("report.md")).unwrap();
+    assert!(md.contains("`tests.backsplash.field = \"region\"`"), "{md}");
+    let t = Table::read(&rep.join("pairs.csv"));
+    let rows = t.select("planck18,1.2e12 pair", "region_backsplash_fraction");
+    assert_eq!(rows.len(), 4);
+    let whole = t.get(rows[3], "field_expected_per_pair");
+    let f = hdf5::File::open(&store).unwrap();
+    let h = f.group("hosts").unwrap();
+    let (env, member) = (col(&h, "environment"), col(&h, "pair_member"));
+    let (rv, prv) = (col(&h, "r_vir_kpc"), col(&h, "partner_r_vir_kpc"));
+    let region = col(&h, "pair_region_radius_kpc");
+    let vols: Vec<f64> = (0..env.len())
+        .filter(|&k| env[k] == 1.0 && member[k] == 0.0)
+        .map(|k| {
+            4.0 / 3.0
+                * std::f64::consts::PI
+                * (region[k].powi(3) - rv[k].powi(3) - prv[k].powi(3))
+                * 1e-9
+        })
+        .collect();
+    assert_eq!(vols.len(), 2);
+    let lt = retinue::LinearTheory::new(
+        retinue::Cosmology::from_preset("planck18").unwrap(),
+        retinue::LinearOptions::default(),
+    )
+    .unwrap();
+    let density = retinue::stats::backsplash::BacksplashOptions::default().region_density_mpc3(&lt);
+    let want = density * vols.iter().sum::<f64>() / 2.0;
+    assert!(
+        (whole / want - 1.0).abs() < 1e-3,
+        "whole region: {whole} against {want}"
+    );
+    // the shells are parts of it
+    let shells: f64 = rows[..3]
+        .iter()
+        .map(|r| t.get(r, "field_expected_per_pair"))
+        .sum();
+    assert!(
+        shells > 0.0 && shells <= whole * (1.0 + 1e-9),
+        "{shells} vs {whole}"
+    );
+}
