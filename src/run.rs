@@ -285,6 +285,19 @@ impl Grid {
         let f = &cfg.file;
         let m_vir = self.virial_mass(lt, mass);
         let z = f.host.z_final;
+        // today's disc and bulge for this host's mass: the configured ones describe a host of
+        // the reference mass, and scale with the stellar mass of the Behroozi et al. 2013
+        // relation (a host of exactly the reference mass keeps them bit for bit)
+        let mut host = cfg.host;
+        if f.host.baryons_scale_with_mass {
+            let m_ref = self.virial_mass(lt, f.host.baryons_reference_mass_msun);
+            let s = 10f64.powf(
+                crate::galaxies::behroozi13::log10_mstar(m_vir, z)
+                    - crate::galaxies::behroozi13::log10_mstar(m_ref, z),
+            );
+            host.baryons.disc_mass_msun *= s;
+            host.baryons.bulge_mass_msun *= s;
+        }
         SynthOptions {
             tree: TreeSpec {
                 m_host_msun: m_vir,
@@ -294,7 +307,7 @@ impl Grid {
                 outputs: OutputTimes::UniformLnA(f.trees.output_steps),
                 pch08: cfg.pch08,
             },
-            host: cfg.host,
+            host,
             orbits: f.orbits,
             galaxies: f.galaxies,
             survey: f.survey,

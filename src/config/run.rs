@@ -107,6 +107,12 @@ pub struct HostSection {
     pub bulge_a_kpc: f64,
     /// Grow disc and bulge with the host's stellar mass.
     pub baryons_grow: bool,
+    /// Scale today's disc and bulge masses with the host's mass: a host of mass M gets them
+    /// times M*(M) / M*(`baryons_reference_mass_msun`) (Behroozi et al. 2013 at z_final), so
+    /// that the values above describe a host of the reference mass.
+    pub baryons_scale_with_mass: bool,
+    /// The host mass (in `mass_definition`) whose disc and bulge the values above describe.
+    pub baryons_reference_mass_msun: f64,
 }
 
 impl Default for HostSection {
@@ -124,6 +130,8 @@ impl Default for HostSection {
             bulge_mass_msun: b.bulge_mass_msun,
             bulge_a_kpc: b.bulge_a_kpc,
             baryons_grow: b.grow,
+            baryons_scale_with_mass: true,
+            baryons_reference_mass_msun: 1.2e12,
         }
     }
 }
@@ -490,6 +498,13 @@ impl RunConfig {
             grow: h.baryons_grow,
         };
         problems.extend(baryons.problems("host."));
+        if !(1e10..=1e15).contains(&h.baryons_reference_mass_msun) {
+            problems.push(InvalidValue::new(
+                "host.baryons_reference_mass_msun",
+                h.baryons_reference_mass_msun,
+                "must be in [1e10, 1e15] Msun (the stellar-mass relation's range)",
+            ));
+        }
         let t = &file.trees;
         let pch08 = Pch08Params {
             g0: t.g0,

@@ -374,6 +374,10 @@ fn malformed_configs_are_reported() {
             "host.z_final",
         ),
         (
+            base.replace("[host]", "[host]\nbaryons_reference_mass_msun = 1e9"),
+            "host.baryons_reference_mass_msun",
+        ),
+        (
             base.replace("[host]", "[host]\nmass_log_uniform_msun = [2e12, 1e12]"),
             "host.mass_log_uniform_msun",
         ),
@@ -2028,4 +2032,46 @@ fn export_writes_the_subhalo_table_as_csv() {
     let rows: Vec<csv::StringRecord> = r.records().map(|x| x.unwrap()).collect();
     assert_eq!(rows.len() as f64, want);
     assert!(rows.iter().all(|r| &r[1] == "8e11" && &r[ih] == "0"));
+}
+
+/// Today's disc and bulge follow the host's mass (`host.baryons_scale_with_mass`, default):
+/// the configured values describe a host of `baryons_reference_mass_msun` (1.2e12 Msun), which
+/// keeps them exactly; a host of 8e11 or 2e12 Msun gets them times M*(M)/M*(1.2e12) of the
+/// Behroozi et al. 2013 relation at z = 0: 0.6741 and 1.4418 (the relation's eq. 3 evaluated
+/// separately with Python's math module; `galaxies::behroozi13`'s own values are checked
+/// against the physics reference sheet), to 1e-4; the scale lengths stay. With the key off
+/// every host has the same disc.
+#[test]
+fn disc_and_bulge_scale_with_host_mass() {
+    use retinue::config::RunConfig;
+    use retinue::rng::HostId;
+    use retinue::run::Grid;
+    let text = TINY.replace(
+        "mass_msun = [8e11, 1.2e12]",
+        "mass_msun = [8e11, 1.2e12, 2e12]",
+    );
+    let grid = Grid::new(RunConfig::parse_str(&text, None).unwrap()).unwrap();
+    let disc = |g: &Grid, bin: u16| g.options(HostId::new(0, bin, 0)).host.baryons;
+    assert_eq!(disc(&grid, 1).disc_mass_msun, 6.8e10);
+    assert_eq!(disc(&grid, 1).bulge_mass_msun, 5e9);
+    for (bin, want) in [(0u16, 0.6741), (2, 1.4418)] {
+        let b = disc(&grid, bin);
+        assert!(
+            (b.disc_mass_msun / 6.8e10 / want - 1.0).abs() < 1e-4,
+            "bin {bin}: {}",
+            b.disc_mass_msun
+        );
+        assert!((b.bulge_mass_msun / 5e9 / want - 1.0).abs() < 1e-4);
+        assert_eq!((b.disc_a_kpc, b.disc_b_kpc), (3.0, 0.28));
+    }
+    let off = TINY
+        .replace(
+            "mass_msun = [8e11, 1.2e12]",
+            "mass_msun = [8e11, 1.2e12, 2e12]",
+        )
+        .replace("[host]", "[host]\nbaryons_scale_with_mass = false");
+    let grid_off = Grid::new(RunConfig::parse_str(&off, None).unwrap()).unwrap();
+    for bin in 0..3u16 {
+        assert_eq!(disc(&grid_off, bin).disc_mass_msun, 6.8e10);
+    }
 }
