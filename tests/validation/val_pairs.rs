@@ -155,7 +155,8 @@ output_steps = 16
 /// 2e-5 and 1e-5 of the host's pull. Power: per host, the surviving count inside R_vir must
 /// agree to 1% and the median pericentre to 1e-3 — far below the host-to-host scatter (~15%
 /// between means of 8 hosts), which is all a comparison of independent hosts could resolve;
-/// alive or not agrees for 99% of the subhaloes, the status itself for 98%.
+/// at most 5 subhaloes (of about 130) may change their status or whether they are alive
+/// (knife-edge outcomes; see the comment in the test).
 #[test]
 fn negligible_partner_gives_the_isolated_host() {
     let cfg = RunConfig::parse_str(CFG, None).unwrap();
@@ -224,10 +225,13 @@ fn negligible_partner_gives_the_isolated_host() {
             );
             assert!((n1 - n0).abs() <= (0.01 * n0).max(1.0), "{n0} vs {n1}");
             assert!(med < 1e-3, "{med:e}");
-            // alive or not: the population; the way a subhalo died (disrupted, merged with its
-            // parent) can flip at knife edges that any 1e-5 perturbation reaches (measured: 2
-            // of 131 differ, both of order >= 2, since children stay in their parents until
-            // their parent's matter around them is stripped), so 2% of the statuses may differ
+            // the status of a few subhaloes flips at knife edges that any 1e-5 perturbation
+            // reaches (disrupted or merged with its parent, or just alive or just disrupted;
+            // mostly of order >= 2, children that stay in their parents until their parent's
+            // matter around them is stripped): measured 0, 1, 2 and 3 flips of 131 in the
+            // cases run (mean 1.5). Taken as Poisson with mean 1.5, P(6 or more) = 0.45%, so at
+            // most 5 (4% of 131) may differ, alive or not as well as the status itself; the
+            // population as a whole is the surviving count above
             let same_fate = alone
                 .subhaloes
                 .iter()
@@ -235,8 +239,12 @@ fn negligible_partner_gives_the_isolated_host() {
                 .filter(|(a, b)| a.status.alive() == b.status.alive())
                 .count() as f64
                 / alone.subhaloes.len() as f64;
-            assert!(same_fate > 0.99, "alive or not: {same_fate}");
-            assert!(same_status >= 0.98, "{same_status}");
+            let n_sub = alone.subhaloes.len() as f64;
+            assert!(
+                (1.0 - same_fate) * n_sub <= 5.0 + 1e-9,
+                "alive or not: {same_fate}"
+            );
+            assert!((1.0 - same_status) * n_sub <= 5.0 + 1e-9, "{same_status}");
             // and it was a pair: the partner's events were tracked
             assert!(paired
                 .subhaloes
