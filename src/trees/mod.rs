@@ -30,7 +30,7 @@ pub struct Pch08Params {
 }
 
 impl Default for Pch08Params {
-    /// PCH08's fit to Millennium-simulation progenitor mass functions (their sec. 2.3):
+    /// PCH08's fit to N-body progenitor mass functions (their sec. 2.3):
     /// G0 = 0.57, gamma1 = 0.38, gamma2 = -0.01; eps1 = eps2 = 0.1.
     fn default() -> Self {
         Self {

@@ -113,7 +113,7 @@ fn median(mut v: Vec<f64>) -> f64 {
 /// host and satellites of satellites alike, bound mass m, psi = m/M_vir), six hosts at a tree
 /// resolution of 3e6 Msun (2.5e-6 of the host, so that N(> 1e-5) is complete), with the
 /// default host and its disc, as the issue defines the check, against two published fits:
-/// * Springel et al. 2008 (MNRAS 391, 1685), the fit to the Aquarius A-1 halo, dN/dM = a0
+/// * Springel et al. 2008 (MNRAS 391, 1685), the fit to their highest-resolution halo, dN/dM = a0
 ///   (M/m0)^-1.9 inside r50, rescaled self-similarly to R_vir of a 1.2e12 Msun host with the
 ///   paper's Einasto subhalo profile (fixture `population.json`,
 ///   `scripts/make_population_fixtures.py`; the paper's values recalled, not re-read). Band
@@ -1083,7 +1083,7 @@ fn bin_ratio(
 }
 
 /// Warm-dark-matter subhalo mass function against the fit of Lovell et al. 2014 (MNRAS 439,
-/// 300) to their Aquarius WDM haloes: n_WDM/n_CDM = (1 + gamma M_hm/M)^-beta, gamma = 2.7,
+/// 300) to their WDM haloes: n_WDM/n_CDM = (1 + gamma M_hm/M)^-beta, gamma = 2.7,
 /// beta = 0.99 (the numbers read in hmf 3.7.2, `hmf.alternatives.wdm.Lovell14`; that the fit
 /// is to the evolved z = 0 subhalo mass function is recalled, not re-read).
 /// Setup: a 2.5 keV thermal relic (M_hm = 9.0e8 Msun from our Viel et al. 2005 transfer

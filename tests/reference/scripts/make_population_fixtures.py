@@ -1,11 +1,11 @@
 """Reference values for the satellite-population checks (tests/validation/val_subhaloes.rs):
 the evolved subhalo mass function of Springel et al. 2008 (MNRAS 391, 1685), rescaled from
-the r50 sphere of their Aquarius halo A-1 to the virial radius of a Milky-Way-mass host of
+the r50 sphere of their halo A-1 to the virial radius of a Milky-Way-mass host of
 this tool's default (M_vir = 1.2e12 Msun, Bryan & Norman 1998 definition, Planck 2018, z = 0).
 
 Inputs (recalled from the paper, not re-read here: marked memory in the output):
   * fit within r50: dN/dM = a0 (M/m0)^n, a0 = 3.26e-5 / Msun, m0 = 2.52e7 Msun, n = -1.9;
-  * Aq-A-1: M50 = 2.523e12 Msun, r50 = 433.5 kpc, M200 = 1.839e12 Msun, r200 = 245.9 kpc;
+  * halo A-1: M50 = 2.523e12 Msun, r50 = 433.5 kpc, M200 = 1.839e12 Msun, r200 = 245.9 kpc;
   * Einasto fit to the subhalo number-density profile: alpha = 0.678, r_-2 = 0.81 r200.
 
 Rescaling (self-similar): the number of subhaloes above a fixed m/M50 inside r50 is the same
@@ -87,7 +87,7 @@ def main():
             "date": datetime.date.today().isoformat(),
             "notes": (
                 "Springel et al. 2008 (MNRAS 391, 1685) evolved subhalo mass function "
-                "dN/dM = a0 (M/m0)^n inside r50 of Aq-A-1 (a0 = 3.26e-5/Msun, m0 = 2.52e7 Msun, "
+                "dN/dM = a0 (M/m0)^n inside r50 of halo A-1 (a0 = 3.26e-5/Msun, m0 = 2.52e7 Msun, "
                 "n = -1.9; M50 = 2.523e12 Msun) and the Einasto subhalo number-density profile "
                 "(alpha = 0.678, r_-2 = 0.81 r200): values recalled from the paper (memory), "
                 "rescaled self-similarly to the virial radius of an NFW host with M_vir = "
