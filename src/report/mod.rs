@@ -175,9 +175,8 @@ fn csv_field(s: &str) -> String {
     }
 }
 
-/// Write the CSV tables and the Markdown report into `dir`; returns the files written. Every
-/// table starts with the cell's columns (`cosmology`, `host_mass_msun`): with one cell, its
-/// Every table a report may hold, and its text.
+/// Every table a report may hold, and its text (`write_tables` refuses any other name, so that
+/// `remove_stale` knows them all).
 pub const TABLE_NAMES: [&str; 8] = [
     "all_of_n.csv",
     "fraction_of_n.csv",
@@ -218,6 +217,8 @@ pub fn remove_stale(
     Ok(removed)
 }
 
+/// Write the CSV tables and the Markdown report into `dir`; returns the files written. Every
+/// table starts with the cell's columns (`cosmology`, `host_mass_msun`): with one cell, its
 /// names; with several, first the pooled rows (`all`, `all`), then each cell's rows.
 pub fn write_tables(
     dir: &Path,
@@ -232,6 +233,12 @@ pub fn write_tables(
     let mut files = Vec::new();
     let mut put = |name: &str, text: String| -> Result<(), IoError> {
         let p = dir.join(name);
+        if !TABLE_NAMES.contains(&name) {
+            return Err(IoError::fs(
+                &p,
+                std::io::Error::other("not in TABLE_NAMES (a report's tables)"),
+            ));
+        }
         write_atomic(&p, &text)?;
         files.push(p);
         Ok(())

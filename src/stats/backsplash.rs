@@ -390,6 +390,19 @@ mod tests {
         .unwrap()
     }
 
+    /// \int_{r1}^{r2} 4 pi r^2 w(r) dr by the midpoint rule on 400 cells (an independent
+    /// quadrature for the counts' checks).
+    fn shell_integral(r1: f64, r2: f64, w: impl Fn(f64) -> f64) -> f64 {
+        let n = 400;
+        let dr = (r2 - r1) / n as f64;
+        (0..n)
+            .map(|j| {
+                let r = r1 + dr * (j as f64 + 0.5);
+                4.0 * std::f64::consts::PI * r * r * dr * w(r)
+            })
+            .sum()
+    }
+
     /// The region model: the region's Mo & White 1996 count (validated against the
     /// unconditional mass function in tests/validation) per unit volume times each shell's
     /// volume 4 pi/3 (r2^3 - r1^3), r = edge x R_vir, cut at the region's radius.
@@ -435,19 +448,7 @@ mod tests {
         };
         let bh = halo_bias(&lt, 1.2e12, 0.0);
         let direct = |r1: f64, r2: f64| {
-            let n = 400;
-            let dr = (r2 - r1) / n as f64;
-            (0..n)
-                .map(|j| {
-                    let r = r1 + dr * (j as f64 + 0.5);
-                    4.0 * std::f64::consts::PI
-                        * r
-                        * r
-                        * dr
-                        * (1.0 + bh * b_field * lt.power().xi_lin(r))
-                })
-                .sum::<f64>()
-                * n_bar
+            n_bar * shell_integral(r1, r2, |r| 1.0 + bh * b_field * lt.power().xi_lin(r))
         };
         let want = direct(0.25, 0.5);
         assert!((c[0] / want - 1.0).abs() < 1e-4, "{} vs {want}", c[0]);
@@ -496,18 +497,13 @@ mod tests {
         let rho_s = m / (4.0 * std::f64::consts::PI * rs.powi(3) * mu);
         let rho_m = lt.cosmology().rho_m_msun_kpc3(0.0);
         let direct = |r1: f64, r2: f64| {
-            let n = 400;
-            let dr = (r2 - r1) / n as f64;
-            (0..n)
-                .map(|j| {
-                    let r = r1 + dr * (j as f64 + 0.5);
+            n_bar
+                * shell_integral(r1, r2, |r| {
                     let x = r * 1e3 / rs;
                     let one = rho_s / (x * (1.0 + x) * (1.0 + x)) / rho_m - 1.0;
                     let two = bh * lt.power().xi_lin(r);
-                    4.0 * std::f64::consts::PI * r * r * dr * (1.0 + b_field * one.max(two))
+                    1.0 + b_field * one.max(two)
                 })
-                .sum::<f64>()
-                * n_bar
         };
         let want = direct(0.25, 0.5);
         assert!((c[0] / want - 1.0).abs() < 1e-4, "{} vs {want}", c[0]);

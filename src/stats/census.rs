@@ -12,9 +12,7 @@ use crate::synth::HostRecord;
 /// Counts of one host.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct HostCensus {
-    /// The host's virial mass today and the redshift at which its main branch first held
-    /// half of it.
-    pub m_vir_msun: f64,
+    /// The redshift at which the host's main branch first held half its mass today.
     pub z_half: f64,
     /// Satellites with 5e3 < M* < 1e7 Msun inside R_vir (the demo's selection), and of them:
     /// order >= 2, inside another subhalo at the end (status 2), order 1.
@@ -84,7 +82,6 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
     let subs = &rec.subhaloes;
     let gals = &rec.galaxies;
     let mut c = HostCensus {
-        m_vir_msun: m_vir,
         z_half: rec.summary.z_half,
         ..Default::default()
     };

@@ -205,14 +205,14 @@ mod binned_tests {
     }
 
     /// The branch-free resample sums of `add` equal the entry-by-entry sums that skip NaN
-    /// (`add_resamples_slow`), bit for bit, on rows with NaN entries and zero weights.
+    /// (computed here), bit for bit, on rows with NaN entries and zero weights.
     #[test]
     fn resample_sums_skip_nan_entries() {
         use rand::{Rng, SeedableRng};
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(5);
         let (nc, nb) = (47, 50);
         let mut fast = StreamingSpread::new(nc, nb);
-        let mut slow = StreamingSpread::new(nc, nb);
+        let (mut bsum, mut bcount) = (vec![0.0f64; nc * nb], vec![0u32; nc * nb]);
         for _ in 0..200 {
             let row: Vec<f64> = (0..nc)
                 .map(|_| {
@@ -225,11 +225,18 @@ mod binned_tests {
                 .collect();
             let w: Vec<u32> = (0..nb).map(|_| rng.random_range(0..3)).collect();
             fast.add(&row, &w);
-            slow.add_resamples_slow(&row, &w);
+            for (b, &wb) in w.iter().enumerate() {
+                for (k, &v) in row.iter().enumerate() {
+                    if wb > 0 && v.is_finite() {
+                        bsum[b * nc + k] += wb as f64 * v;
+                        bcount[b * nc + k] += wb;
+                    }
+                }
+            }
         }
-        assert_eq!(fast.bcount, slow.bcount);
+        assert_eq!(fast.bcount, bcount);
         let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
-        assert_eq!(bits(&fast.bsum), bits(&slow.bsum));
+        assert_eq!(bits(&fast.bsum), bits(&bsum));
         assert!(fast.bcount.iter().any(|&c| c > 0));
     }
 
@@ -308,6 +315,9 @@ pub struct StreamingSpread {
     ones: Vec<u64>,
     bsum: Vec<f64>,
     bcount: Vec<u32>,
+    /// Scratch of `add`: the row with NaN as 0, and 1 where it is finite.
+    clean: Vec<f64>,
+    finite: Vec<u32>,
 }
 
 const SPREAD_BINS: usize = 1000;
@@ -324,6 +334,8 @@ impl StreamingSpread {
             ones: vec![0; ncols],
             bsum: vec![0.0; ncols * resamples],
             bcount: vec![0; ncols * resamples],
+            clean: vec![0.0; ncols],
+            finite: vec![0; ncols],
         }
     }
 
@@ -331,8 +343,15 @@ impl StreamingSpread {
     /// entries are skipped, column by column.
     pub fn add(&mut self, row: &[f64], weights: &[u32]) {
         let nc = self.ncols;
+        let m = nc.min(row.len());
+        // the row with its NaN entries as 0 and their count weight 0, so that the loop over
+        // resamples below has no branch (a skipped entry adds nothing either way)
+        self.clean[..m].fill(0.0);
+        self.finite[..m].fill(0);
         for (k, &v) in row.iter().enumerate().take(nc) {
             if v.is_finite() {
+                self.clean[k] = v;
+                self.finite[k] = 1;
                 self.sum[k] += v;
                 self.count[k] += 1;
                 if v <= 0.0 {
@@ -345,21 +364,7 @@ impl StreamingSpread {
                 }
             }
         }
-        // the row with its NaN entries as 0 and their count weight 0, so that the loop over
-        // resamples has no branch (the sums are the same: a skipped entry added nothing)
-        let m = nc.min(row.len());
-        let mut clean = [0.0f64; 64];
-        let mut finite = [0u32; 64];
-        if m > clean.len() {
-            return self.add_resamples_slow(row, weights);
-        }
-        for k in 0..m {
-            if row[k].is_finite() {
-                clean[k] = row[k];
-                finite[k] = 1;
-            }
-        }
-        let (clean, finite) = (&clean[..m], &finite[..m]);
+        let (clean, finite) = (&self.clean[..m], &self.finite[..m]);
         for (b, &w) in weights.iter().enumerate().take(self.resamples) {
             if w == 0 {
                 continue;
@@ -372,27 +377,6 @@ impl StreamingSpread {
             for k in 0..m {
                 bs[k] += wf * clean[k];
                 bc[k] += w * finite[k];
-            }
-        }
-    }
-
-    /// The resample sums of `add` for rows longer than its stack buffers.
-    fn add_resamples_slow(&mut self, row: &[f64], weights: &[u32]) {
-        let nc = self.ncols;
-        for (b, &w) in weights.iter().enumerate().take(self.resamples) {
-            if w == 0 {
-                continue;
-            }
-            let (bs, bc) = (
-                &mut self.bsum[b * nc..(b + 1) * nc],
-                &mut self.bcount[b * nc..(b + 1) * nc],
-            );
-            for k in 0..nc.min(row.len()) {
-                let v = row[k];
-                if v.is_finite() {
-                    bs[k] += w as f64 * v;
-                    bc[k] += w;
-                }
             }
         }
     }

@@ -1,7 +1,7 @@
 //! Runs with paired hosts (issue 19): the pair tests' table, report section, stored group and
 //! figure, checked against the store's own columns; and runs without pairs left as they were.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use crate::common::{run_ok, write};
 use crate::integration::cli_run::check_listed_figures;
@@ -75,6 +75,20 @@ n_range = [3, 4]
 z_grid = [0.0, 0.5, 1.0, 2.0]
 "#;
 
+/// `retinue run` of configuration `text` written as `d/NAME.toml` into `d/NAME.h5`: the
+/// store, its report directory and what the run printed.
+fn run_config(d: &Path, name: &str, text: &str) -> (PathBuf, PathBuf, String) {
+    let cfg = write(d, &format!("{name}.toml"), text);
+    let store = d.join(format!("{name}.h5"));
+    let out = run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    (store, d.join(format!("{name}-report")), out)
+}
+
 fn col(g: &hdf5::Group, name: &str) -> Vec<f64> {
     g.dataset(name)
         .unwrap_or_else(|e| panic!("{name}: {e}"))
@@ -130,15 +144,7 @@ impl Table {
 #[test]
 fn pairs_table_report_and_figure() {
     let d = tempfile::tempdir().unwrap();
-    let cfg = write(d.path(), "pairs.toml", PAIRS);
-    let store = d.path().join("pairs.h5");
-    let out = run_ok(&[
-        "run",
-        cfg.to_str().unwrap(),
-        "--out",
-        store.to_str().unwrap(),
-    ]);
-    let rep = d.path().join("pairs-report");
+    let (store, rep, out) = run_config(d.path(), "pairs", PAIRS);
     assert!(out.contains("pairs.csv"), "{out}");
     let figs = check_listed_figures(&out, &rep);
     assert!(figs.iter().any(|f| f == "pair_separation"), "{figs:?}");
@@ -381,15 +387,7 @@ fn pairs_table_report_and_figure() {
 #[test]
 fn runs_without_pairs_are_unchanged() {
     let d = tempfile::tempdir().unwrap();
-    let cfg = write(d.path(), "iso.toml", ISOLATED);
-    let store = d.path().join("iso.h5");
-    let out = run_ok(&[
-        "run",
-        cfg.to_str().unwrap(),
-        "--out",
-        store.to_str().unwrap(),
-    ]);
-    let rep = d.path().join("iso-report");
+    let (store, rep, out) = run_config(d.path(), "iso", ISOLATED);
     let tables = out
         .lines()
         .find_map(|l| l.strip_prefix("tables:  "))
@@ -449,15 +447,7 @@ fn runs_without_pairs_are_unchanged() {
 fn pair_region_field_with_the_uniform_model() {
     let d = tempfile::tempdir().unwrap();
     let text = format!("{PAIRS}\n[tests.backsplash]\nfield = \"region\"\n");
-    let cfg = write(d.path(), "pairs.toml", &text);
-    let store = d.path().join("pairs.h5");
-    run_ok(&[
-        "run",
-        cfg.to_str().unwrap(),
-        "--out",
-        store.to_str().unwrap(),
-    ]);
-    let rep = d.path().join("pairs-report");
+    let (store, rep, _) = run_config(d.path(), "pairs", &text);
     let md = std::fs::read_to_string(rep.join("report.md")).unwrap();
     assert!(md.contains("`tests.backsplash.field = \"region\"`"), "{md}");
     let t = Table::read(&rep.join("pairs.csv"));
