@@ -128,6 +128,10 @@ fn main() {
             "v_filter" => galaxies.reionization_vmax_kms = x(),
             "t_vir" => galaxies.reionization_t_vir_k = x(),
             "pericentre_cut" => cut = x() > 0.0,
+            "infall_orbits" => {
+                orbits.infall_orbits =
+                    serde_json::from_str(&format!("\"{v}\"")).expect("infall_orbits")
+            }
             _ => panic!("unknown option {k}"),
         }
     }

@@ -14,7 +14,7 @@ use rand::Rng;
 
 use super::follow::{follow, new_result, Ctx, Start};
 use super::in_parent::{Body, FieldPoint, Frame};
-use super::initial::{initial_state, Li20};
+use super::initial::initial_state;
 use super::integrate::State;
 use super::stripping::{Stripping, SubhaloStructure};
 use super::OrbitOptions;
@@ -182,7 +182,6 @@ pub fn evolve_host_subhaloes<R: Rng>(
     let cosmo = lt.cosmology();
     let accs = &hist.accretions;
     let n = accs.len();
-    let li = Li20::default();
     // parent of each accretion and the children of each
     let mut parent: Vec<Option<usize>> = vec![None; n];
     let mut children: Vec<Vec<usize>> = vec![Vec::new(); n];
@@ -217,7 +216,7 @@ pub fn evolve_host_subhaloes<R: Rng>(
             };
             let v_c = (G * m_c / r_c).sqrt();
             let nu = lt.delta_c(z) / lt.sigma(m_c, z);
-            let (u, x) = li.sample(nu, a.m_infall_msun / m_c, rng);
+            let (u, x) = options.infall_orbits.sample(nu, a.m_infall_msun / m_c, rng);
             Start {
                 frame,
                 t: a.t_infall_gyr,

@@ -56,6 +56,8 @@ pub struct OrbitOptions {
     /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) that sinks inside this radius
     /// (kpc) has merged with the central galaxy and is removed (0 = never).
     pub central_merge_kpc: f64,
+    /// The distribution infall velocities are drawn from (`initial::InfallOrbits`).
+    pub infall_orbits: initial::InfallOrbits,
 }
 
 impl Default for OrbitOptions {
@@ -70,8 +72,9 @@ impl Default for OrbitOptions {
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            disc_tide_ratio: 0.75,
+            disc_tide_ratio: 1.6,
             central_merge_kpc: 1.0,
+            infall_orbits: initial::InfallOrbits::default(),
         }
     }
 }

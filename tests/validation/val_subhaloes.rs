@@ -761,23 +761,32 @@ fn synthesised(n: u32, host: HostOptions) -> Vec<(Vec<SubhaloResult>, f64, f64)>
         .collect()
 }
 
-/// The disc's depletion of subhaloes (`orbits.disc_tide_ratio`, calibrated to the first
-/// check), 32 hosts with the default disc and bulge against the same 32 without (dark matter
-/// only), counting subhaloes alive today with V_max > 4.5 km/s:
-/// * within 100 kpc the dark-matter-only hosts hold 1.6-2.5 times as many (the calibration
-///   target: a factor of about 2 reported by cosmological zoom-in simulations with a disc,
-///   recalled, that study not named here; the band allows for their hosts' spread, about 25%,
-///   common practice; the calibration gives 2.0 on 96 hosts);
-/// * within 20 kpc the median host with a disc has at most one, while without it has more
-///   than ten (disc-embedded simulations find the inner 20 kpc nearly empty of such
-///   subhaloes: recalled, not re-read; D'Onghia et al. 2010, ApJ 709, 1138, find disc shocking
-///   depletes the inner halo, a factor 2-3 within 30 kpc in a summary of the paper, where this
-///   model gives 6.4, printed);
-/// * within 300 kpc 50-80% survive (Webb & Bovy 2020, MNRAS 499, 116, abstract: counts 65% of
-///   the dark-matter-only prediction; band +-15%, their model differs from ours).
+/// The disc's depletion of subhaloes (`orbits.disc_tide_ratio`), 32 hosts with the default
+/// disc and bulge against the same 32 without (dark matter only): the same trees and infall
+/// orbits, so the subhaloes are the same row by row, as in a simulation of one population in
+/// two tidal fields. Subhaloes alive today within 300 kpc with V_max > 4.5 km/s in the run
+/// without the disc, grouped by their smallest pericentre there:
+/// * the calibration: of those with pericentres inside 25 kpc, 40% are alive with the disc
+///   (Webb & Bovy 2020, MNRAS 499, 116, abstract: "for subhalos with small pericentres
+///   (r_p <~ 25 kpc), the subhalo abundance is reduced further to 40%"); band [0.3, 0.5]:
+///   the abstract's round number, and a calibration made on 64 other-seeded hosts (0.392 at
+///   1.6) moves by about 0.01 between host samples (binomial error on 15,000 subhaloes is
+///   0.004, host-to-host scatter about twice that);
+/// * all of them together: 50-80% survive (the same abstract: 65% of the dark-matter-only
+///   count; band +-15%, their subhaloes are drawn from one simulated host, ours from 32);
+/// * with larger pericentres almost all survive here (0.98, printed), where the abstract gives
+///   about 75%: this closure acts only at pericentres near the disc; what thins the outer
+///   subhaloes in their runs is not in the model (docs/validation.md);
+/// * within 100 kpc the dark-matter-only hosts hold 1.6-2.5 times as many (cosmological
+///   zoom-in simulations with a disc report about twice as many, recalled, that study not named
+///   here; the band allows for their hosts' spread, about 25%, common practice). Not a
+///   calibration target any more: the high-resolution runs above find the cosmological ones'
+///   depletion partly numerical;
+/// * printed only: the median numbers within 20 kpc with and without the disc, and the ratio
+///   within 30 kpc (D'Onghia et al. 2010, ApJ 709, 1138: disc shocking depletes the inner halo
+///   by a factor 2-3 within 30 kpc, from a summary of the paper).
 ///
 /// The depleted fraction by smallest pericentre and by peak mass is printed (docs/validation.md).
-/// Sampling error of the ratio at 100 kpc: about 4% (10,000 subhaloes, host-to-host scatter).
 #[test]
 fn val_disc_depletion() {
     let with = synthesised(32, HostOptions::default());
@@ -806,7 +815,7 @@ fn val_disc_depletion() {
     let med20_dmo = median(count(&without, 20.0));
     eprintln!(
         "N(<100 kpc) without/with disc: {ratio100:.2}; median N(<20 kpc): {med20} with, \
-         {med20_dmo} without; surviving within 300 kpc: {survive300:.2}"
+         {med20_dmo} without; counts within 300 kpc, with over without: {survive300:.2}"
     );
     // what the disc destroyed, by smallest pericentre and by peak mass
     let all: Vec<&SubhaloResult> = with.iter().flat_map(|(s, _, _)| s.iter()).collect();
@@ -845,9 +854,43 @@ fn val_disc_depletion() {
             gone as f64 / inbin.len().max(1) as f64
         );
     }
+    // the same subhaloes with and without the disc (same trees and infall orbits, row by row):
+    // alive with the disc over alive without it, by the smallest pericentre without it
+    let matched = |lo: f64, hi: f64| -> f64 {
+        let (mut n_with, mut n_without) = (0usize, 0usize);
+        for ((sw, _, _), (so, _, _)) in with.iter().zip(&without) {
+            assert_eq!(sw.len(), so.len());
+            for (a, b) in sw.iter().zip(so) {
+                assert_eq!(a.branch, b.branch);
+                if b.status.alive()
+                    && b.r_kpc < 300.0
+                    && b.vmax_kms > 4.5
+                    && b.r_peri_min_kpc >= lo
+                    && b.r_peri_min_kpc < hi
+                {
+                    n_without += 1;
+                    n_with += (a.status.alive() && a.r_kpc < 300.0) as usize;
+                }
+            }
+        }
+        assert!(n_without > 1000, "{n_without} subhaloes");
+        n_with as f64 / n_without as f64
+    };
+    let (inner, outer, every) = (
+        matched(0.0, 25.0),
+        matched(25.0, f64::INFINITY),
+        matched(0.0, f64::INFINITY),
+    );
+    eprintln!(
+        "same subhaloes alive with the disc: pericentre < 25 kpc {inner:.3}, beyond {outer:.3}, \
+         all {every:.3}"
+    );
+    assert!(
+        (0.3..=0.5).contains(&inner),
+        "pericentres < 25 kpc: {inner}"
+    );
+    assert!((0.5..=0.8).contains(&every), "all: {every}");
     assert!((1.6..=2.5).contains(&ratio100), "ratio {ratio100}");
-    assert!(med20 <= 1.0 && med20_dmo > 10.0, "{med20} {med20_dmo}");
-    assert!((0.5..=0.8).contains(&survive300), "surviving {survive300}");
     // the disc destroys only at pericentres, and only with disc and bulge
     for (s, _, _) in &without {
         assert!(s.iter().all(|x| x.t_disrupt_disc_gyr.is_nan()));
