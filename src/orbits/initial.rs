@@ -1,8 +1,8 @@
 //! Orbits at infall: velocities of satellites as they cross the host's virial radius. Two
-//! published distributions: Benson 2005 (the default, `Benson05`) and, as an option,
-//! Li, Zhao, Jing, Han & Dong 2020 (ApJ 905, 177), which depends on the host's peak height
-//! nu = delta_c/sigma(M_host, z) and the mass ratio zeta = m_sat/M_host (Bryan & Norman
-//! virial quantities):
+//! published distributions (`[orbits] infall_orbits`): Benson 2005 (`Benson05`, an option,
+//! below) and, by default, Li, Zhao, Jing, Han & Dong 2020 (ApJ 905, 177), which depends on
+//! the host's peak height nu = delta_c/sigma(M_host, z) and the mass ratio
+//! zeta = m_sat/M_host (Bryan & Norman virial quantities):
 //!   speed u = v/V_vir: log-normal, median mu1 = 1.20, width sigma1 = 0.20;
 //!   direction x = cos^2(theta) = (v_r/v)^2: p(x | u) = eta e^(eta x)/(e^eta - 1) on [0, 1],
 //!   eta = a0 exp[-(ln(u/mu2))^2/(2 sigma1^2)] + A (u + 1) + B,
@@ -54,8 +54,9 @@ impl InfallOrbits {
 /// The coefficients are those of the project's physics reference sheet (section 8), recalled
 /// rather than read from the paper; they are strongly supported by a check no single slip
 /// would survive: with the quoted a2 ... a9 the quoted normalisation a1 integrates the density
-/// to 0.9994 over 0 < v_r, v_t < 3 (scipy 1.18.1, `make_infall_fixtures.py`, fixture `infall.json`). The distribution does
-/// not depend on the host's mass, the mass ratio or redshift.
+/// to 0.9994 over 0 < v_r, v_t < 3 (scipy 1.18.1, `make_infall_fixtures.py`, fixture
+/// `infall.json`). The distribution does not depend on the host's mass, the mass ratio or
+/// redshift.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Benson05 {
     pub a: [f64; 9],
