@@ -594,15 +594,26 @@ fn val_merging_times_vs_the_z0_fit() {
 /// Sampling errors: the fractions and means carry errors of about 1e-3 (binomial, 2e5 draws),
 /// far below every margin; the mode is found on 0.02-wide bins (about 4,000 draws each).
 /// Measured values are printed; the published medians and widths are not checked (not read).
+/// The Benson 2005 option (`orbits::initial::Benson05`) runs through the same statements: it
+/// meets the mass-independent ones on the speed's mode (1.21) and P(v > V_vir), P(v_t <
+/// V_vir) (0.86, 0.77), which are asserted for it; its orbits are most radial at v/V_vir =
+/// 0.75, just below the band (printed), and it has no dependence on the mass ratio or nu by
+/// construction.
 #[test]
 fn val_infall_orbits_vs_published_statements() {
+    use retinue::orbits::initial::InfallOrbits;
+    for model in [InfallOrbits::Benson2005, InfallOrbits::Li2020] {
+        infall_orbit_statements(model);
+    }
+}
+
+fn infall_orbit_statements(model: retinue::orbits::initial::InfallOrbits) {
     use rand::SeedableRng;
-    use retinue::orbits::initial::Li20;
-    let li = Li20::default();
+    use retinue::orbits::initial::InfallOrbits;
     let n = 200_000;
     let draw = |nu: f64, zeta: f64, seed: u64| -> Vec<(f64, f64)> {
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
-        (0..n).map(|_| li.sample(nu, zeta, &mut rng)).collect()
+        (0..n).map(|_| model.sample(nu, zeta, &mut rng)).collect()
     };
     let base = draw(0.9, 1e-3, 11);
     // mode of u
@@ -648,7 +659,7 @@ fn val_infall_orbits_vs_published_statements() {
         mean_x(&draw(2.5, 1e-3, 13)),
     );
     println!(
-        "mode of v/V_vir {mode:.2}; most radial at v/V_vir = {u_rad:.2}; P(v > V_vir) = \
+        "{model:?}: mode of v/V_vir {mode:.2}; most radial at v/V_vir = {u_rad:.2}; P(v > V_vir) = \
          {p_hot:.3}; P(v_t < V_vir) = {p_low_j:.3}; median v_r/V_vir {:.3} (16-84%: {:.3}-{:.3}), \
          v_t/V_vir {:.3} ({:.3}-{:.3}); E[(v_r/v)^2] = {x_base:.3} (zeta = 0.1: {x_zeta:.3}; \
          nu = 2.5: {x_nu:.3})",
@@ -660,11 +671,13 @@ fn val_infall_orbits_vs_published_statements() {
         vt[n * 84 / 100]
     );
     assert!((0.9..=1.3).contains(&mode), "mode {mode}");
-    assert!((0.8..=1.3).contains(&u_rad), "most radial at {u_rad}");
     assert!(p_hot > 0.5, "{p_hot}");
     assert!(p_low_j > 0.5, "{p_low_j}");
-    assert!(x_zeta > x_base + 0.01, "{x_zeta} vs {x_base}");
-    assert!(x_nu > x_base + 0.01, "{x_nu} vs {x_base}");
+    if model == InfallOrbits::Li2020 {
+        assert!((0.8..=1.3).contains(&u_rad), "most radial at {u_rad}");
+        assert!(x_zeta > x_base + 0.01, "{x_zeta} vs {x_base}");
+        assert!(x_nu > x_base + 0.01, "{x_nu} vs {x_base}");
+    }
 }
 
 /// Infall orbits of major mergers against Khochfar & Burkert 2006 (A&A 445, 403, abstract,
@@ -679,23 +692,29 @@ fn val_infall_orbits_vs_published_statements() {
 /// error < 0.005): the median circularity and the mode of its histogram (bins of 0.05) in
 /// [0.35, 0.65] ("around 0.5"); the fraction with |e - 1| < 0.1 ("nearly parabolic", a
 /// stated reading of "e ~ 1") in [0.35, 0.6] ("almost half"). Measured (printed): median
-/// 0.47 and 0.44, mode 0.425 and 0.375, nearly parabolic 0.45 and 0.50. The same abstract's
+/// 0.47 and 0.44, mode 0.425 and 0.375, nearly parabolic 0.45 and 0.50. The Benson 2005
+/// option meets the circularity bands (median 0.56, mode 0.575) but has 0.33 nearly
+/// parabolic, below the band; that one is printed, not asserted, for it (it is an option, and
+/// has no dependence on the mass ratio). The same abstract's
 /// pericentres ("50% ... larger than half the halo's virial radii") are not checked: which
 /// halo's radius is meant cannot be told from the abstract, and for the host's the statement
 /// contradicts circularities near 0.5.
 #[test]
 fn val_major_merger_orbits_vs_khochfar_burkert06() {
     use rand::{Rng, SeedableRng};
-    use retinue::orbits::initial::Li20;
-    let li = Li20::default();
+    use retinue::orbits::initial::InfallOrbits;
     let n = 200_000;
-    for (nu, seed) in [(0.9, 21u64), (1.2, 22)] {
+    for (model, nu, seed) in [
+        (InfallOrbits::Li2020, 0.9, 21u64),
+        (InfallOrbits::Li2020, 1.2, 22),
+        (InfallOrbits::Benson2005, 0.9, 23),
+    ] {
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
         let mut eps = Vec::with_capacity(n);
         let mut parabolic = 0usize;
         for _ in 0..n {
             let zeta = (0.25f64.ln() * (1.0 - rng.random::<f64>())).exp();
-            let (u, x) = li.sample(nu, zeta, &mut rng);
+            let (u, x) = model.sample(nu, zeta, &mut rng);
             // units: R_vir = 1, V_vir = 1, so G M = 1 and G (M + m) = 1 + zeta
             let gm = 1.0 + zeta;
             let l = u * (1.0 - x).max(0.0).sqrt();
@@ -716,7 +735,7 @@ fn val_major_merger_orbits_vs_khochfar_burkert06() {
         let median = eps[eps.len() / 2];
         let f_par = parabolic as f64 / n as f64;
         println!(
-            "nu = {nu}: circularity median {median:.3}, mode {mode:.3}; nearly parabolic \
+            "{model:?}, nu = {nu}: circularity median {median:.3}, mode {mode:.3}; nearly parabolic \
              {f_par:.3}; bound {:.3}",
             eps.len() as f64 / n as f64
         );
@@ -725,7 +744,9 @@ fn val_major_merger_orbits_vs_khochfar_burkert06() {
             "median circularity {median}"
         );
         assert!((0.35..=0.65).contains(&mode), "mode {mode}");
-        assert!((0.35..=0.6).contains(&f_par), "nearly parabolic {f_par}");
+        if model == InfallOrbits::Li2020 {
+            assert!((0.35..=0.6).contains(&f_par), "nearly parabolic {f_par}");
+        }
     }
 }
 
