@@ -34,6 +34,9 @@ pub struct Spread {
     pub boot84: f64,
     pub boot025: f64,
     pub boot975: f64,
+    /// How many hosts gave a value (NaN values are not counted): what the mean and its
+    /// interval rest on.
+    pub hosts: u64,
 }
 
 impl Spread {
@@ -47,6 +50,7 @@ impl Spread {
         boot84: f64::NAN,
         boot025: f64::NAN,
         boot975: f64::NAN,
+        hosts: 0,
     };
 }
 
@@ -73,6 +77,7 @@ pub fn spread<R: Rng>(values: &[f64], resamples: usize, rng: &mut R) -> Spread {
         boot84: percentile(&means, 0.84),
         boot025: percentile(&means, 0.025),
         boot975: percentile(&means, 0.975),
+        hosts: n as u64,
     }
 }
 
@@ -202,6 +207,15 @@ mod binned_tests {
         assert_eq!(sp[2].p16, 0.0);
         assert!((sp[2].p84 - 0.5).abs() <= 1e-3, "{}", sp[2].p84);
         assert!((sp[2].mean - 0.25).abs() < 1e-15);
+        // every column counts the hosts that gave a value; NaN is not one
+        assert_eq!([sp[0].hosts, sp[1].hosts, sp[2].hosts], [10, 10, 10]);
+        s.add(&[f64::NAN, 1.0, f64::NAN], &[1, 1, 1, 1]);
+        let sp = s.finish();
+        assert_eq!([sp[0].hosts, sp[1].hosts, sp[2].hosts], [10, 11, 10]);
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(1);
+        use rand::SeedableRng;
+        assert_eq!(spread(&[0.1, f64::NAN, 0.3], 10, &mut rng).hosts, 2);
+        assert_eq!(Spread::NAN.hosts, 0);
     }
 
     /// The branch-free resample sums of `add` equal the entry-by-entry sums that skip NaN
@@ -423,6 +437,7 @@ impl StreamingSpread {
                     boot84: percentile(&means, 0.84),
                     boot025: percentile(&means, 0.025),
                     boot975: percentile(&means, 0.975),
+                    hosts: self.count[k],
                 }
             })
             .collect()

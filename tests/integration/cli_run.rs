@@ -1748,6 +1748,33 @@ fn sweeps_answer_per_cell() {
             "{cell} missing:\n{all}"
         );
     }
+    // the last column counts the hosts of each row: a host is in one cell, so the pooled
+    // row's count is the sum of the cells' counts (clock and z alike), none above a cell's 2
+    assert!(head.ends_with(",exact_mean,hosts"), "{head}");
+    let hosts_of = |prefix: &str, clock_z: &str| -> Vec<u64> {
+        all.lines()
+            .filter(|l| l.starts_with(prefix))
+            .filter(|l| l.split(',').skip(2).take(3).collect::<Vec<_>>().join(",") == clock_z)
+            .map(|l| l.rsplit(',').next().unwrap().parse().unwrap())
+            .collect()
+    };
+    for clock_z in ["first_host_infall,3,1", "preprocessing,3,0.5"] {
+        let at = |cell: &str| hosts_of(cell, clock_z);
+        let pooled = at("all,all,");
+        let cells: Vec<u64> = [
+            "planck18,8e11,",
+            "planck18,1.2e12,",
+            "low s8,8e11,",
+            "low s8,1.2e12,",
+        ]
+        .iter()
+        .flat_map(|c| at(c))
+        .collect();
+        assert_eq!((pooled.len(), cells.len()), (1, 4), "{clock_z}\n{all}");
+        assert_eq!(pooled[0], cells.iter().sum::<u64>(), "{clock_z}\n{all}");
+        assert!(pooled[0] > 0, "{clock_z}\n{all}");
+        assert!(cells.iter().all(|&h| h <= 2), "{cells:?}");
+    }
     for t in ["fraction_of_n.csv", "backsplash.csv", "dependence.csv"] {
         let text = std::fs::read_to_string(rep.join(t)).unwrap();
         assert!(text.starts_with("cosmology,host_mass_msun,"), "{t}: {text}");
