@@ -131,6 +131,12 @@ pub fn cell_labels(grid: &Grid) -> CellLabels {
             .iter()
             .map(|e| (e.label.clone(), e.pair.is_some()))
             .collect(),
+        wdm_kev: grid
+            .config
+            .cosmologies
+            .iter()
+            .map(|(_, lin)| lin.m_wdm_kev)
+            .collect(),
     }
 }
 
@@ -362,11 +368,20 @@ pub fn analyse(
                 .join("; ")
         ));
     }
+    // the warm-dark-matter caveat names only the cosmologies tested
+    let mut labels = cell_labels(grid);
+    if let Some(c) = cells {
+        for (i, k) in labels.wdm_kev.iter_mut().enumerate() {
+            if !c.iter().any(|&(ci, _)| ci as usize == i) {
+                *k = None;
+            }
+        }
+    }
     let files = write_tables(
         &dir,
         &res,
         &per_cell,
-        &cell_labels(grid),
+        &labels,
         &cfg.file.tests,
         sample,
         &summary,

@@ -43,6 +43,10 @@ pub struct CellLabels {
     /// Environment label per environment, and whether each is a pair (empty: isolated
     /// hosts only).
     pub environments: Vec<(String, bool)>,
+    /// The thermal-relic mass per cosmology tested (keV; None: cold dark matter, or a
+    /// cosmology whose cells are not tested). Empty: not known (no caveat on warm dark
+    /// matter).
+    pub wdm_kev: Vec<Option<f64>>,
 }
 
 impl CellLabels {
@@ -932,6 +936,15 @@ Every table's last column, `hosts`, counts the hosts a row rests on (those with 
     let _ = writeln!(m, "- Which haloes host a galaxy is a model choice (`galaxies.occupation`): by default those whose main progenitor had reached the atomic-cooling mass by reionisation (z = 7.7) or whose V_max exceeds 25 km/s. Faint counts depend on it (and on the tree resolution near the cooling mass); the host's own stellar mass is its disc and bulge.");
     let _ = writeln!(m, "- Outside the host's virial radius the potential is still the host's own (untruncated NFW halo, disc and bulge) with dark energy's push, but without the matter of the surroundings (neighbouring haloes, the infall region), and the few subhaloes that entered faster than the escape speed (the tail of the infall-velocity distribution) leave for good: positions beyond about 3 R_vir are rough. The backsplash fractions use the shells set in `[tests.backsplash]` (1–1.5, 1.5–2 and 2–3 R_vir by default); haloes that never fell in are not in the trees, and their expected number comes from the linear two-halo term, which undercounts them near the host.");
     let _ = writeln!(m, "- Orbits are integrated to the tolerance `orbits.rtol` (default 1e-4) in the host and `orbits.rtol_in_subhalo` (default 3e-4) inside subhaloes. Against 1e-8 for both, the demo's probabilities move by 0.003 (median; at most 0.022) for its twelve faint satellites, about a sixth of their bootstrap half-width, and by 0.009 (at most 0.09) for its six bright ones, about a third of theirs; rows resting on fewer than 20 hosts (column `hosts`) move by up to 0.33, several times their bootstrap interval. The bright sample's largest first-infall delay is 1.75 Gyr at 1e-8 against 2.00 Gyr at the defaults. The shift comes from subhaloes near the disruption threshold and shrinks slowly with the tolerance; where it matters, rerun a subset of hosts at tighter tolerances (`docs/performance.md`).");
+    let warm: Vec<String> = labels
+        .cosmologies
+        .iter()
+        .zip(&labels.wdm_kev)
+        .filter_map(|(l, k)| k.map(|k| format!("{l}: {} keV", short_number(k))))
+        .collect();
+    if !warm.is_empty() {
+        let _ = writeln!(m, "- Warm dark matter ({}): the trees follow the sharp-k excursion set with the flat collapse barrier of cold dark matter. At the half-mode mass M_hm the surviving WDM/CDM subhalo ratio of Milky-Way-mass hosts (0.56 at 2.5 keV) matches the halo-level fit of Schneider et al. 2012 but is about twice the subhalo fit of Lovell et al. 2014: subhaloes near M_hm are suppressed too little, so limits on the particle mass drawn from counts near M_hm are conservative. Compare with cold dark matter through the same sharp-k filter (`docs/validation.md`, `docs/tutorial.md`).", warm.join(", "));
+    }
     let _ = writeln!(m, "- Satellites of satellites are followed inside their parents (friction, stripping, mergers with the parent's centre; they leave a parent once beyond both its tidal radius and its bound matter). At the default settings the numbers of bright satellites (M_V < -8: about 18 within 300 kpc), of faint ones (M_V < 0: about 125 within 300 kpc; about 140 with trees resolved to 1e7 Msun) and of companions still bound to a Magellanic-mass satellite (about 6) agree with the Milky Way's completeness-corrected census (`docs/validation.md`). About 55% of the faintest satellites fell into a halo of at least 1e10 Msun before the host (simulations that give stars by peak mass find about half, and this model with the peak-mass occupation 43%; the reionisation occupation favours early-forming, grouped haloes), and about a tenth were already inside another halo at z > 6.");
     let _ = writeln!(m, "- Host-to-host scatter is large; the bootstrap interval describes the uncertainty of the host-averaged value, the 16–84% range the spread of single hosts like the Milky Way.");
     m

@@ -1145,6 +1145,14 @@ fn bin_ratio(
 /// also find less steep than their simulations. At M_hm the test asserts only that the
 /// suppression is there (ratio below 1 by more than 3 Poisson errors, and below the ratio at
 /// 10 M_hm).
+/// Also against Schneider et al. 2012 (MNRAS 424, 684), the halo-level fit
+/// n_WDM/n_CDM = (1 + M_hm/M)^-1.16 (beta and the form as hmf 3.7.2 `Schneider12_vCDM`
+/// evaluates them, `wdm.json`; their M_hm convention, Viel et al. 2005, is ours): the evolved
+/// ratio asserted within the same 2 sigma band at 1, 3 and 10 M_hm (measured 1.28, 0.91, 1.31
+/// times the fit), the unevolved one printed (1.44, 1.21, 1.05). The two published fits differ
+/// by 1.6 at M_hm; what the model misses against Lovell's is the stronger loss of subhaloes
+/// near M_hm in their simulations.
+/// Both fit closures are checked against hmf's values at 0.3-30 M_hm to 1e-12.
 /// Printed, not asserted: the unevolved ratio (every accretion by its mass at infall), a
 /// jackknife error over hosts, the fit with Lovell's own M_hm convention (hmf's `Bode01` with
 /// nu = 1: 1.45 times ours at 2.5 keV; fixture `wdm.json`), the evolved ratio without the
@@ -1159,6 +1167,21 @@ fn val_wdm_subhalo_mass_function_vs_lovell14() {
     let (_, wdm_cdm_c) = synthesised_dm(n, Some(2.5), WdmConcentration::None);
     let m_hm = lt.m_half_mode_msun().unwrap();
     let lovell14 = |m: f64, m_hm: f64| (1.0 + 2.7 * m_hm / m).powf(-0.99);
+    let schneider12 = |m: f64, m_hm: f64| (1.0 + m_hm / m).powf(-1.16);
+    // both fits as hmf 3.7.2 evaluates them (fixture wdm.json, make_wdm_fixtures.py)
+    let fits = &crate::common::fixture("wdm.json")["mass_function_fits"];
+    let xs = crate::common::floats(&fits["m_over_m_hm"]);
+    for (name, fit) in [
+        ("schneider12_vcdm", &schneider12 as &dyn Fn(f64, f64) -> f64),
+        ("lovell14", &lovell14),
+    ] {
+        for (x, want) in xs.iter().zip(crate::common::floats(&fits[name])) {
+            assert!(
+                (fit(*x, 1.0) / want - 1.0).abs() < 1e-12,
+                "{name} at {x} M_hm"
+            );
+        }
+    }
     let f = crate::common::fixture("wdm.json");
     let row = f["half_mode"]
         .as_array()
@@ -1185,6 +1208,7 @@ fn val_wdm_subhalo_mass_function_vs_lovell14() {
     };
     let infall = |h: &Reduced| -> Vec<f64> { h.0.iter().map(|x| x.m_infall_msun).collect() };
     let mut ev = Vec::new();
+    let mut ev_s = Vec::new();
     for k in [1.0, 3.0, 10.0] {
         let bin = (k * m_hm * 10f64.powf(-0.15), k * m_hm * 10f64.powf(0.15));
         let e = bin_ratio(&cdm, &wdm, &evolved, bin, &lovell14, m_hm, m_hm_lovell);
@@ -1222,7 +1246,28 @@ fn val_wdm_subhalo_mass_function_vs_lovell14() {
             u.ratio * u.rel_poisson,
             u.fit
         );
+        let sch = bin_ratio(&cdm, &wdm, &evolved, bin, &schneider12, m_hm, m_hm);
+        let sch_u = bin_ratio(&cdm, &wdm, &infall, bin, &schneider12, m_hm, m_hm);
+        let band_s = 2.0 * (sch.rel_poisson.powi(2) + 0.2f64.powi(2)).sqrt();
+        eprintln!(
+            "{k} M_hm against Schneider et al. 2012 ({:.3}): evolved {:.3} (measured/fit {:.2}, \
+             band +-{band_s:.2}); unevolved {:.3} (measured/fit {:.2})",
+            sch.fit,
+            sch.ratio,
+            sch.ratio / sch.fit,
+            sch_u.ratio,
+            sch_u.ratio / sch_u.fit
+        );
+        ev_s.push((k, sch, band_s));
         ev.push((k, e, band));
+    }
+    for (k, e, band) in &ev_s {
+        assert!(
+            (e.ratio / e.fit - 1.0).abs() <= *band,
+            "{k} M_hm: ratio {:.3} against Schneider et al. 2012's {:.3} (band +-{band:.2})",
+            e.ratio,
+            e.fit
+        );
     }
     for (k, e, band) in &ev[1..] {
         assert!(
