@@ -123,3 +123,35 @@ fn failed_shard_is_named_and_recovers() {
     assert_eq!(code, 0, "{err}");
     assert_eq!(store_tables(&whole), store_tables(&s));
 }
+
+/// Paired hosts under MPI: `mpirun -n 3` (three ranks, so that a pair's two hosts can fall to
+/// different ranks, as with `--shard`) gives the same tables, bit for bit, as one process.
+#[test]
+fn mpi_ranks_keep_pairs_identical() {
+    let Ok(bin) = std::env::var("RETINUE_MPI_BIN") else {
+        eprintln!(
+            "skipped: RETINUE_MPI_BIN is not set (scripts/test sets it when MPI is installed)"
+        );
+        return;
+    };
+    let d = tempfile::tempdir().unwrap();
+    let cfg = crate::common::write(d.path(), "pairs.toml", super::cli_pairs::PAIRS);
+    let single = d.path().join("single.h5");
+    let (code, _, err) = run_cli(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        single.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let m = d.path().join("mpi.h5");
+    let o = mpirun(
+        3,
+        &bin,
+        &["run", cfg.to_str().unwrap(), "--out", m.to_str().unwrap()],
+        &[],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(store_tables(&single), store_tables(&m));
+    assert!(d.path().join("mpi-report").join("pairs.csv").exists());
+}

@@ -4,7 +4,7 @@
 
 use crate::common::{run_cli, run_ok, store_tables, write};
 
-const PAIRS: &str = r#"
+pub(crate) const PAIRS: &str = r#"
 [run]
 master_seed = 5
 hosts_per_cell = 2
