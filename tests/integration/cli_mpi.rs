@@ -28,6 +28,28 @@ fn mpirun(n: u32, bin: &str, args: &[&str], env: &[(&str, &str)]) -> std::proces
     c.output().expect("mpirun")
 }
 
+/// Runs `cfg` in one process and with `mpirun -n ranks`; returns the two stores.
+fn single_and_mpi(d: &Path, cfg: &Path, ranks: u32, bin: &str) -> (PathBuf, PathBuf) {
+    let single = d.join("single.h5");
+    let (code, _, err) = run_cli(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        single.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let m = d.join("mpi.h5");
+    let o = mpirun(
+        ranks,
+        bin,
+        &["run", cfg.to_str().unwrap(), "--out", m.to_str().unwrap()],
+        &[],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(store_tables(&single), store_tables(&m));
+    (single, m)
+}
+
 /// `mpirun -n 2` gives the same subhalo and host tables, bit for bit, as one process.
 #[test]
 fn mpi_two_ranks_match_a_single_process() {
@@ -39,23 +61,7 @@ fn mpi_two_ranks_match_a_single_process() {
     };
     let d = tempfile::tempdir().unwrap();
     let cfg = tiny(d.path());
-    let single = d.path().join("single.h5");
-    let (code, _, err) = run_cli(&[
-        "run",
-        cfg.to_str().unwrap(),
-        "--out",
-        single.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let m = d.path().join("mpi.h5");
-    let o = mpirun(
-        2,
-        &bin,
-        &["run", cfg.to_str().unwrap(), "--out", m.to_str().unwrap()],
-        &[],
-    );
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    assert_eq!(store_tables(&single), store_tables(&m));
+    let (single, _) = single_and_mpi(d.path(), &cfg, 2, &bin);
     assert!(d.path().join("mpi-report").join("report.md").exists());
     // the rank shards were merged and removed
     assert!(!d.path().join("mpi.shard-1-of-2.h5").exists());
@@ -136,22 +142,6 @@ fn mpi_ranks_keep_pairs_identical() {
     };
     let d = tempfile::tempdir().unwrap();
     let cfg = crate::common::write(d.path(), "pairs.toml", super::cli_pairs::PAIRS);
-    let single = d.path().join("single.h5");
-    let (code, _, err) = run_cli(&[
-        "run",
-        cfg.to_str().unwrap(),
-        "--out",
-        single.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let m = d.path().join("mpi.h5");
-    let o = mpirun(
-        3,
-        &bin,
-        &["run", cfg.to_str().unwrap(), "--out", m.to_str().unwrap()],
-        &[],
-    );
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    assert_eq!(store_tables(&single), store_tables(&m));
+    single_and_mpi(d.path(), &cfg, 3, &bin);
     assert!(d.path().join("mpi-report").join("pairs.csv").exists());
 }

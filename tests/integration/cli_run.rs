@@ -2134,28 +2134,21 @@ fn warm_dark_matter_runs_carry_their_caveat() {
     assert!(caveat.contains("(warm: 3 keV)"), "{caveat}");
     assert!(!caveat.contains("cold:"), "{caveat}");
     assert!(caveat.contains("Schneider et al. 2012") && caveat.contains("Lovell et al. 2014"));
-    // the cold-dark-matter cell alone: no caveat
-    let (code, _, err) = run_cli(&[
-        "infall",
-        store.to_str().unwrap(),
-        "--cell",
-        "cosmology=cold",
-        "--name",
-        "cold",
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let cold = std::fs::read_to_string(d.path().join("wdm-cold-report/report.md")).unwrap();
+    // one cell tested alone (`--cell`), reported under its own name
+    let alone = |spec: &str, name: &str| -> String {
+        let (code, _, err) = run_cli(&[
+            "infall",
+            store.to_str().unwrap(),
+            "--cell",
+            spec,
+            "--name",
+            name,
+        ]);
+        assert_eq!(code, 0, "{err}");
+        std::fs::read_to_string(d.path().join(format!("wdm-{name}-report/report.md"))).unwrap()
+    };
+    let cold = alone("cosmology=cold", "cold");
     assert!(!cold.contains("- Warm dark matter"), "{cold}");
-    // one warm cell alone: the caveat
-    let (code, _, err) = run_cli(&[
-        "infall",
-        store.to_str().unwrap(),
-        "--cell",
-        "cosmology=warm,mass=8e11",
-        "--name",
-        "warm",
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let warm = std::fs::read_to_string(d.path().join("wdm-warm-report/report.md")).unwrap();
+    let warm = alone("cosmology=warm,mass=8e11", "warm");
     assert!(warm.contains("- Warm dark matter (warm: 3 keV)"), "{warm}");
 }
