@@ -1,6 +1,8 @@
 //! Orbits at infall: velocities of satellites as they cross the host's virial radius. Two
-//! published distributions (`[orbits] infall_orbits`): Benson 2005 (`Benson05`, an option,
-//! below) and, by default, Li, Zhao, Jing, Han & Dong 2020 (ApJ 905, 177), which depends on
+//! published distributions (`[orbits] infall_orbits`). By default Benson 2005 (`Benson05`,
+//! below): its coefficients are the physics reference sheet's, checked by their own
+//! normalisation, and its sampler is tested against the published density (scipy quantiles).
+//! As an option, the form of Li, Zhao, Jing, Han & Dong 2020 (ApJ 905, 177), which depends on
 //! the host's peak height nu = delta_c/sigma(M_host, z) and the mass ratio
 //! zeta = m_sat/M_host (Bryan & Norman virial quantities):
 //!   speed u = v/V_vir: log-normal, median mu1 = 1.20, width sigma1 = 0.20;
@@ -8,16 +10,18 @@
 //!   eta = a0 exp[-(ln(u/mu2))^2/(2 sigma1^2)] + A (u + 1) + B,
 //!   A = a1 nu + a2 zeta^c + a3 nu zeta^c,  B = b1 + b2 zeta^c,
 //!   (mu2, a0, a1, a2, a3, b1, b2, c) = (1.04, 0.89, 0.30, -3.33, 0.56, -1.44, 9.60, 0.43).
-//! The parameter values are a secondary transcription that has not been checked against the
-//! paper's tables (its text could not be read here); the form reproduces what the published
-//! abstracts state — speeds peaked near V_vir and most radial there (Li et al. 2020), more
-//! radial orbits for a larger mass ratio and a larger host peak height (Jiang et al. 2015; Li
-//! et al. 2020), most satellites faster than V_vir with less angular momentum than
-//! R_vir V_vir (recalled from published infall-orbit studies) — which `val_infall_orbits_vs_published_statements`
-//! (tests/validation/val_orbits.rs) checks; and for major mergers (m/M >= 0.25) the Kepler
-//! circularities peak near 0.5 with about half of the orbits nearly parabolic (Khochfar &
-//! Burkert 2006, abstract), which `val_major_merger_orbits_vs_khochfar_burkert06` checks. Directions are isotropic; the satellite starts at
-//! R_vir moving inward.
+//! Its parameter values are a secondary transcription that has not been checked against the
+//! paper's tables (its text could not be read here; the reference sheet asks for the paper to
+//! be read before this family is used, which is why it is not the default). The form
+//! reproduces what the published abstracts state — speeds peaked near V_vir and most radial
+//! there (Li et al. 2020), more radial orbits for a larger mass ratio and a larger host peak
+//! height (Jiang et al. 2015; Li et al. 2020), most satellites faster than V_vir with less
+//! angular momentum than R_vir V_vir (recalled from published infall-orbit studies) — which
+//! `val_infall_orbits_vs_published_statements` (tests/validation/val_orbits.rs) checks; and
+//! for major mergers (m/M >= 0.25) the Kepler circularities peak near 0.5 with about half of
+//! the orbits nearly parabolic (Khochfar & Burkert 2006, abstract), which
+//! `val_major_merger_orbits_vs_khochfar_burkert06` checks (Benson 2005 gives 0.33 nearly
+//! parabolic there). Directions are isotropic; the satellite starts at R_vir moving inward.
 
 use rand::Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -28,11 +32,11 @@ use serde::{Deserialize, Serialize};
 #[serde(rename_all = "lowercase")]
 pub enum InfallOrbits {
     /// Benson 2005: the joint distribution of (v_r, v_t) / V_vir, one for all hosts and
-    /// mass ratios.
+    /// mass ratios (the default).
+    #[default]
     Benson2005,
     /// Li et al. 2020: speed and direction depending on the host's peak height and the mass
-    /// ratio (coefficients not verified against the paper).
-    #[default]
+    /// ratio (an option: coefficients not verified against the paper).
     Li2020,
 }
 
