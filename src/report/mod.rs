@@ -1064,6 +1064,7 @@ pub fn write_analysis(
     set_num_attr(&bg, "fraction_mean", res.backsplash_fraction.mean)?;
     set_num_attr(&bg, "fraction_boot16", res.backsplash_fraction.boot16)?;
     set_num_attr(&bg, "fraction_boot84", res.backsplash_fraction.boot84)?;
+    set_num_attr(&bg, "hosts", res.backsplash_fraction.hosts)?;
     set_num_attr(&bg, "backsplash_per_host", res.backsplash_count_mean)?;
     set_num_attr(&bg, "field_expected_per_host", res.field_count_expected)?;
     let col = |f: &dyn Fn(&crate::stats::battery::ShellResult) -> f64| -> Vec<f64> {
@@ -1080,6 +1081,14 @@ pub fn write_analysis(
     ] {
         bg.new_dataset_builder().with_data(&v).create(name)?;
     }
+    let hosts: Vec<u64> = res
+        .backsplash_shells
+        .iter()
+        .map(|s| s.fraction.hosts)
+        .collect();
+    bg.new_dataset_builder()
+        .with_data(&hosts)
+        .create("shell_hosts")?;
     if let Some(p) = &res.pairs {
         write_pairs(a, p)?;
     }

@@ -1775,6 +1775,45 @@ fn sweeps_answer_per_cell() {
         assert!(pooled[0] > 0, "{clock_z}\n{all}");
         assert!(cells.iter().all(|&h| h <= 2), "{cells:?}");
     }
+    // the store's analysis holds the same counts: the pooled first-infall curve (z = 1 is the
+    // third point of z_grid) and the backsplash range (the last row of backsplash.csv)
+    {
+        let f = hdf5::File::open(&store).unwrap();
+        let curve: Vec<u64> = f
+            .dataset("analysis/run/all_of_n/first_host_infall/hosts")
+            .unwrap()
+            .read_raw()
+            .unwrap();
+        assert_eq!(curve[2], hosts_of("all,all,", "first_host_infall,3,1")[0]);
+        let bs = std::fs::read_to_string(rep.join("backsplash.csv")).unwrap();
+        let pooled_range: u64 = bs
+            .lines()
+            .filter(|l| l.starts_with("all,all,"))
+            .last()
+            .unwrap()
+            .rsplit(',')
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap();
+        let attr: u64 = f
+            .group("analysis/run/backsplash")
+            .unwrap()
+            .attr("hosts")
+            .unwrap()
+            .read_scalar()
+            .unwrap();
+        assert_eq!(attr, pooled_range);
+        let shells: Vec<u64> = f
+            .dataset("analysis/run/backsplash/shell_hosts")
+            .unwrap()
+            .read_raw()
+            .unwrap();
+        assert!(
+            !shells.is_empty() && shells.iter().all(|&h| h <= 8),
+            "{shells:?}"
+        );
+    }
     for t in ["fraction_of_n.csv", "backsplash.csv", "dependence.csv"] {
         let text = std::fs::read_to_string(rep.join(t)).unwrap();
         assert!(text.starts_with("cosmology,host_mass_msun,"), "{t}: {text}");
