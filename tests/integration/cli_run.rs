@@ -1788,8 +1788,7 @@ fn sweeps_answer_per_cell() {
         let bs = std::fs::read_to_string(rep.join("backsplash.csv")).unwrap();
         let pooled_range: u64 = bs
             .lines()
-            .filter(|l| l.starts_with("all,all,"))
-            .last()
+            .rfind(|l| l.starts_with("all,all,"))
             .unwrap()
             .rsplit(',')
             .next()
