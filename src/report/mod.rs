@@ -865,8 +865,7 @@ pub fn markdown(
     few.dedup();
     let _ = writeln!(
         m,
-        "
-Every table's last column, `hosts`, counts the hosts a row rests on (those with enough candidates).{}",
+        "\nThe last column of `all_of_n.csv`, `fraction_of_n.csv`, `quenching_delay.csv`, `phase_space_matches.csv` and `backsplash.csv`, `hosts`, counts the hosts a row's mean rests on (for N drawn satellites, those with at least N candidates).{}",
         match (few.first(), few.last()) {
             (Some(a), Some(b)) => format!(
                 " In `fraction_of_n.csv` rows of N = {} rest on fewer than {FEW_HOSTS} hosts (over all hosts or in a cell): their bootstrap intervals understate the uncertainty, and they move most with the orbit tolerance (caveats).",

@@ -1820,6 +1820,11 @@ fn sweeps_answer_per_cell() {
     }
     let md = std::fs::read_to_string(rep.join("report.md")).unwrap();
     assert!(md.contains("## Comparison of the grid's cells"), "{md}");
+    assert!(
+        md.contains("The last column of `all_of_n.csv`")
+            && md.contains("`hosts`, counts the hosts"),
+        "{md}"
+    );
     // the cells overlaid in figures, named by their labels
     for fig in ["all_of_n_by_cell.svg", "dependence_on_host_mass.svg"] {
         let svg = std::fs::read_to_string(rep.join(fig)).unwrap();
