@@ -488,12 +488,18 @@ fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
             cell(3.0)
         );
     }
-    for (clock, _, tau) in &res.quench {
+    for (clock, curve, tau) in &res.quench {
+        let tested = curve.spread.iter().any(|s| s.hosts > 0);
+        let end = curve.x.last().copied().unwrap_or(f64::NAN);
         println!(
             "largest quenching delay allowed ({}): {}",
             clock.name(),
-            if tau.is_nan() {
+            if !tested {
+                "not tested (no host has as many candidates as the sample has objects)".into()
+            } else if tau.is_nan() {
                 "none".into()
+            } else if (tau - end).abs() < 1e-9 {
+                format!("at least {tau:.2} Gyr (the end of the delay grid)")
             } else {
                 format!("{tau:.2} Gyr")
             }

@@ -138,6 +138,21 @@ impl Tracker {
         }
     }
 
+    /// The last infall into the host: the last inward crossing of its evolving R_vir; for a
+    /// satellite of a satellite that was inside R_vir when its group entered, or was engulfed
+    /// by R_vir's growth, and has not crossed inward since, the group's entry (`t_first`, the
+    /// tree's first infall); NaN for one that has never been inside R_vir (it has not fallen
+    /// into the host, whatever its group did).
+    pub fn last_infall(&self, t_first: f64) -> f64 {
+        if !self.t_last_infall.is_nan() {
+            self.t_last_infall.max(t_first)
+        } else if self.been_inside {
+            t_first
+        } else {
+            f64::NAN
+        }
+    }
+
     /// Look for events between two accepted steps, from the host-centred states y0 at t0 and
     /// y1 at t1 (rv0, rv1: the host's R_vir at t0 and t1; r_cut: the disc cut, kpc).
     #[allow(clippy::too_many_arguments)]
@@ -260,9 +275,27 @@ mod tests {
 
     #[test]
     fn group_member_outside_has_not_crossed() {
-        let tr = Tracker::with_group(2.0, 320.0, 300.0);
+        let mut tr = Tracker::with_group(2.0, 320.0, 300.0);
         assert_eq!(tr.n_cross, 0);
         assert!(tr.t_last_infall.is_nan() && !tr.been_inside);
+        // never inside R_vir: it has not fallen into the host, whatever its group did
+        let y0 = [320.0, 0.0, 0.0, 0.0, 30.0, 0.0];
+        let y1 = [330.0, 0.0, 0.0, 5.0, 30.0, 0.0];
+        tr.step(2.0, &y0, 2.2, &y1, 300.0, 305.0, 20.0);
+        assert!(tr.last_infall(2.0).is_nan());
+        // engulfed by R_vir's growth while moving outward: inside, but no inward crossing; the
+        // group's entry stands for its infall
+        let y2 = [331.0, 0.0, 0.0, 1.0, 30.0, 0.0];
+        tr.step(2.2, &y1, 2.4, &y2, 305.0, 340.0, 20.0);
+        assert_eq!(tr.n_cross, 1);
+        assert_eq!(tr.last_infall(2.0), 2.0);
+        // out again and back in, moving inward: that crossing is the last infall
+        let y3 = [360.0, 0.0, 0.0, 5.0, 30.0, 0.0];
+        tr.step(2.4, &y2, 2.6, &y3, 340.0, 340.0, 20.0);
+        let y4 = [330.0, 0.0, 0.0, -20.0, 30.0, 0.0];
+        tr.step(2.6, &y3, 2.8, &y4, 340.0, 340.0, 20.0);
+        let last = tr.last_infall(2.0);
+        assert!(last > 2.6 && last < 2.8, "{last}");
         let tr = Tracker::with_group(2.0, 280.0, 300.0);
         assert_eq!(tr.n_cross, 1);
         assert_eq!(tr.t_last_infall, 2.0);

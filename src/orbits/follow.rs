@@ -365,6 +365,8 @@ pub(crate) fn follow(
     let options = ctx.options;
     let t_end = ctx.t_end;
     let mut frame = start.frame;
+    // the frame in which friction last acted on the subhalo (None: not yet)
+    let mut friction_frame: Option<Frame> = None;
     let mut scale = start.scale;
     let mut t = start.t;
     let mut y = start.y;
@@ -494,6 +496,9 @@ pub(crate) fn follow(
         // dynamical times; physics reference sheet sec. 9: negligible below 1e-3 within a
         // Hubble time).
         let fr = options.friction && m > 1e-4 * container_mass(cur_mvir, &chain, t);
+        if fr {
+            friction_frame = Some(frame);
+        }
         #[cfg(feature = "orbit-profile")]
         let before = profile::RHS_COUNT.with(|c| c.get());
         let (t1, y1) = match (&chain, fr) {
@@ -704,8 +709,11 @@ pub(crate) fn follow(
                 || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc)
         {
             // dissolved by tides: a merger with the container if friction had sunk it into
-            // the container's core (inside its scale radius), a disruption otherwise
-            let sunk = fr
+            // the container's core (inside its scale radius), a disruption otherwise. Friction
+            // counts if it acted at any step in this container: at dissolution the bound mass
+            // is ~1e-3 of the infall mass, below friction's own threshold for every child with
+            // m_infall < 0.1 of its container (which then could never merge)
+            let sunk = friction_frame == Some(frame)
                 && chain
                     .as_ref()
                     .is_some_and(|c| norm(pos(&y)) < c.container_profile(t).r_s);
@@ -793,7 +801,7 @@ pub(crate) fn follow(
         res.r_peri_last_kpc = tr.r_peri_last;
         res.r_apo_last_kpc = tr.r_apo_last;
         res.n_host_crossings = tr.n_cross;
-        res.t_last_host_infall_gyr = tr.t_last_infall.max(res.t_first_host_infall_gyr);
+        res.t_last_host_infall_gyr = tr.last_infall(res.t_first_host_infall_gyr);
         res.t_disrupt_pericentre_gyr = tr.t_disrupt_peri;
     }
     if let Some(ptr) = &ptracker {

@@ -18,8 +18,11 @@
 //!   on the container's bound system as a whole).
 //! * **A subhalo's potential.** Before its own infall the parent is a field halo whose virial
 //!   mass follows its branch of the merger tree (read off the masses at which its children and
-//!   it merged, interpolated in ln M against time), with the Dutton & Maccio 2014
-//!   concentration; untruncated NFW (matter beyond R_vir is bound to an isolated halo too).
+//!   it merged), with the Dutton & Maccio 2014 concentration; untruncated NFW (matter beyond
+//!   R_vir is bound to an isolated halo too). Between the branch's points its virial radius
+//!   and velocity are interpolated in ln M against time (`field_virial`), its NFW mass scale
+//!   M_s, scale radius r_s and virial mass linearly in time (`field_profile_from`,
+//!   `container_mass`); the points are the tree's steps, so the two differ little.
 //!   After its infall: the NFW with the Vmax and Rmax of its bound mass on the tidal track,
 //!   with the enclosed mass capped at the bound mass (truncated at about its tidal radius).
 //! * **Friction** from the container's halo: Chandrasekhar with the container's density, the

@@ -645,26 +645,29 @@ fn comparison(
     let n_hosts: usize = cells.iter().map(|c| c.n_hosts).sum();
     let _ = writeln!(
         m,
-        "## Comparison of the grid's cells\n\n{} cells, {n_hosts} hosts. Every test below and in the tables is computed per cell (rows with the cell's cosmology and host mass) as well as over all hosts (rows `all`); each host is read on its own cosmology's clock. P: all {} drawn satellites fell in before z (first host infall; mean over the cell's hosts, bootstrap 16–84%).\n",
+        "## Comparison of the grid's cells\n\n{} cells, {n_hosts} hosts. Every test below and in the tables is computed per cell (rows with the cell's cosmology and host mass) as well as over all hosts (rows `all`); each host is read on its own cosmology's clock. P: all {n} drawn satellites fell in before z (first host infall; mean over the cell's hosts with at least N = {n} candidates, counted in the column \"hosts with ≥ N\", bootstrap 16–84%).{}\n",
         cells.len(),
-        pooled.n_draw
+        if pooled.quench.is_empty() {
+            ""
+        } else {
+            " The largest delay τ rests on the hosts with at least as many candidates as the sample has objects (the `hosts` column of quenching_delay.csv)."
+        },
+        n = pooled.n_draw
     );
     let has_quench = !pooled.quench.is_empty();
     let _ = writeln!(
         m,
-        "| cosmology | host mass (Msun) | hosts | candidates (median) | P at z = 1 | P at z = 2 | P at z = 3 | median first-infall z |{} backsplash fraction |",
+        "| cosmology | host mass (Msun) | hosts | candidates (median) | hosts with ≥ N | P at z = 1 | P at z = 2 | P at z = 3 | median first-infall z |{} backsplash fraction |",
         if has_quench { " largest delay τ (first infall) |" } else { "" }
     );
     let _ = writeln!(
         m,
-        "|---|---|---|---|---|---|---|---|{}---|",
+        "|---|---|---|---|---|---|---|---|---|{}---|",
         if has_quench { "---|" } else { "" }
     );
     for c in cells {
         let r = &c.results;
         let (cl, ml) = labels.of(c.cosmology, c.mass_bin);
-        let mut cand = r.candidates.clone();
-        cand.sort();
         let first = r
             .all_of_n_mc
             .iter()
@@ -683,14 +686,19 @@ fn comparison(
             .map(|d| format!("{:.2}", d.4))
             .unwrap_or_else(|| "–".into());
         let tau = if has_quench {
-            let t = r
+            let q = r
                 .quench
                 .iter()
-                .find(|(k, _, _)| k.name() == "first_host_infall")
-                .map(|(_, _, t)| *t)
-                .unwrap_or(f64::NAN);
-            if t.is_nan() {
+                .find(|(k, _, _)| k.name() == "first_host_infall");
+            let t = q.map(|(_, _, t)| *t).unwrap_or(f64::NAN);
+            let tested = q.is_some_and(|(_, cv, _)| cv.spread.iter().any(|s| s.hosts > 0));
+            let end = q.and_then(|(_, cv, _)| cv.x.last().copied());
+            if !tested {
+                " not tested |".to_string()
+            } else if t.is_nan() {
                 " none |".to_string()
+            } else if end.is_some_and(|e| (t - e).abs() < 1e-9) {
+                format!(" ≥ {t:.2} Gyr (grid end) |")
             } else {
                 format!(" {t:.2} Gyr |")
             }
@@ -699,9 +707,10 @@ fn comparison(
         };
         let _ = writeln!(
             m,
-            "| {cl} | {ml} | {} | {} | {} | {} | {} | {zmed} |{tau} {:.3} [{:.3}, {:.3}] |",
+            "| {cl} | {ml} | {} | {} | {} | {} | {} | {} | {zmed} |{tau} {:.3} [{:.3}, {:.3}] |",
             c.n_hosts,
-            cand.get(cand.len() / 2).copied().unwrap_or(0),
+            median_count(&r.candidates),
+            first.and_then(|cv| at_z(cv, 1.0)).map_or(0, |s| s.hosts),
             p(1.0),
             p(2.0),
             p(3.0),
@@ -720,22 +729,38 @@ pub fn conclusion_lines(res: &AnalysisResults, o: &TestOptions) -> Vec<String> {
     let floor = 1.0 - o.confidence;
     res.quench
         .iter()
-        .map(|(clock, _, tau)| {
+        .map(|(clock, curve, tau)| {
             let what = match clock.name() {
                 "first_host_infall" => "first infall into the host",
                 "last_host_infall" => "the last infall into the host",
                 _ => "infall into any massive halo",
             };
-            if tau.is_nan() {
+            let hosts = curve.spread.iter().map(|s| s.hosts).max().unwrap_or(0);
+            let last = curve.x.last().copied().unwrap_or(f64::NAN);
+            if hosts == 0 {
+                format!(
+                    "{} ({}): not tested: no host has as many candidates of the selection as the sample has objects",
+                    what,
+                    clock.name()
+                )
+            } else if tau.is_nan() {
                 format!(
                     "{} ({}): cannot explain the sample: even with no delay, fewer than {:.0}% of the draws have every object falling in before it stopped forming stars",
                     what,
                     clock.name(),
                     100.0 * floor
                 )
+            } else if (*tau - last).abs() < 1e-9 {
+                format!(
+                    "{} ({}): can explain the sample with a quenching delay (from infall to the end of star formation) of at least {:.2} Gyr, the end of the delay grid (`delay_grid_gyr`): at that delay {:.0}% of the draws still have every object falling in that long before it stopped forming stars, so no upper limit is set",
+                    what,
+                    clock.name(),
+                    tau,
+                    100.0 * curve.spread.last().map_or(f64::NAN, |s| s.mean)
+                )
             } else {
                 format!(
-                    "{} ({}): can explain the sample with a quenching delay (from infall to the end of star formation) of up to {:.2} Gyr; longer delays leave fewer than {:.0}% of the draws",
+                    "{} ({}): can explain the sample with a quenching delay (from infall to the end of star formation) of up to {:.2} Gyr: in at least {:.0}% of the draws every object fell in that long before it stopped forming stars; with longer delays, fewer do",
                     what,
                     clock.name(),
                     tau,
@@ -744,6 +769,27 @@ pub fn conclusion_lines(res: &AnalysisResults, o: &TestOptions) -> Vec<String> {
             }
         })
         .collect()
+}
+
+/// The median of per-host counts (the mean of the two middle values for an even number;
+/// 0 for none), printed as an integer or with one decimal.
+fn median_count(counts: &[usize]) -> String {
+    let mut c = counts.to_vec();
+    c.sort_unstable();
+    let n = c.len();
+    if n == 0 {
+        return "0".into();
+    }
+    let twice = if n % 2 == 1 {
+        2 * c[n / 2]
+    } else {
+        c[n / 2 - 1] + c[n / 2]
+    };
+    if twice % 2 == 0 {
+        format!("{}", twice / 2)
+    } else {
+        format!("{:.1}", twice as f64 / 2.0)
+    }
 }
 
 fn at_z(c: &Curve, z: f64) -> Option<&Spread> {
@@ -801,16 +847,25 @@ pub fn markdown(
     let n_h = res.candidates.len();
     let mut c = res.candidates.clone();
     c.sort();
+    let quench_hosts = res
+        .quench
+        .first()
+        .map(|(_, cv, _)| cv.spread.iter().map(|s| s.hosts).max().unwrap_or(0));
     let _ = writeln!(
         m,
         "\n{n_h} hosts; candidates per host: median {}, range {}–{}. {} hosts have fewer than N = {} candidates and are \
-         left out of the all-of-N test{}.\n",
-        c.get(n_h / 2).copied().unwrap_or(0),
+         left out of the all-of-N test{}. Each test uses only the hosts with enough candidates: the fraction-of-N test, for each N, \
+         the hosts with at least N{}; the `hosts` column of each table says how many.\n",
+        median_count(&c),
         c.first().copied().unwrap_or(0),
         c.last().copied().unwrap_or(0),
         res.hosts_too_few.len(),
         res.n_draw,
-        if res.hosts_too_few.is_empty() { "" } else { " (their indices are in the store's analysis group)" }
+        if res.hosts_too_few.is_empty() { "" } else { " (their indices are in the store's analysis group)" },
+        match quench_hosts {
+            Some(k) => format!("; the quenching-delay test, the {k} hosts with at least as many as the sample has objects"),
+            None => String::new(),
+        }
     );
     let _ = writeln!(m, "## Clocks\n");
     let _ = writeln!(m, "- **first_host_infall**: the first crossing of the host's virial radius (the merger with the host's main branch in the tree).");
@@ -933,7 +988,11 @@ pub fn markdown(
     let _ = writeln!(m, "- The draws treat the observed satellites as a random subset of the selection; bright and nearby satellites are not a random subset in infall time, so match the selection (stellar mass, distance, survey) to how the sample was chosen.");
     let _ = writeln!(m, "- Infall times come from extended Press–Schechter trees (Parkinson, Cole & Helly 2008) and semi-analytic orbits. The disc is not simulated: a subhalo is destroyed at a pericentre where the tide of the disc and bulge (at their mass and size then) beats its own density (`orbits.disc_tide_ratio`, calibrated so that 40% of the subhaloes whose pericentres lie inside 25 kpc survive the disc, as in disc-embedded simulations of Webb & Bovy 2020), or, with `survival = \"pericentre\"`, by a fixed pericentre cut on top.");
     let _ = writeln!(m, "- Which haloes host a galaxy is a model choice (`galaxies.occupation`): by default those whose main progenitor had reached the atomic-cooling mass by reionisation (z = 7.7) or whose V_max exceeds 25 km/s. Faint counts depend on it (and on the tree resolution near the cooling mass); the host's own stellar mass is its disc and bulge.");
-    let _ = writeln!(m, "- Outside the host's virial radius the potential is still the host's own (untruncated NFW halo, disc and bulge) with dark energy's push, but without the matter of the surroundings (neighbouring haloes, the infall region), and the few subhaloes that entered faster than the escape speed (the tail of the infall-velocity distribution) leave for good: positions beyond about 3 R_vir are rough. The backsplash fractions use the shells set in `[tests.backsplash]` (1–1.5, 1.5–2 and 2–3 R_vir by default); haloes that never fell in are not in the trees, and their expected number comes from the linear two-halo term, which undercounts them near the host.");
+    let _ = writeln!(m, "- Outside the host's virial radius the potential is still the host's own (untruncated NFW halo, disc and bulge) with dark energy's push, but without the matter of the surroundings (neighbouring haloes, the infall region), and the few subhaloes that entered faster than the escape speed (the tail of the infall-velocity distribution) leave for good: positions beyond about 3 R_vir are rough. The backsplash fractions use the shells set in `[tests.backsplash]` (1–1.5, 1.5–2 and 2–3 R_vir by default); haloes that never fell in are not in the trees, and their expected number comes from {}.", match o.backsplash.field {
+        FieldModel::Nonlinear => "the non-linear host–matter correlation (`field = \"nonlinear\"`), whose one-halo term counts the orbiting matter beyond R_vir too, so it may overcount them near the host and the fractions there are then lower limits (see the Backsplash section)",
+        FieldModel::Correlation => "the linear two-halo term (`field = \"correlation\"`), which undercounts them near the host, so the fractions there are upper limits",
+        FieldModel::Region => "a uniform density over a region (`field = \"region\"`), which ignores the rise of the density towards the host",
+    });
     let _ = writeln!(m, "- Orbits are integrated to the tolerance `orbits.rtol` (default 1e-4) in the host and `orbits.rtol_in_subhalo` (default 3e-4) inside subhaloes. Against 1e-8 for both, the demo's probabilities move by 0.004 (median; at most 0.04) for its twelve faint satellites and by 0.007 (at most 0.11) for its six bright ones, about a sixth of their bootstrap half-width; rows resting on fewer than 20 hosts (column `hosts`) move by up to 0.5, many times their bootstrap interval, which is unreliable there. The demo's conclusions are the same at both tolerances. The shift comes from subhaloes near the disruption threshold and shrinks slowly with the tolerance; where it matters, rerun a subset of hosts at tighter tolerances (`docs/performance.md`).");
     let warm: Vec<String> = labels
         .cosmologies
@@ -944,7 +1003,7 @@ pub fn markdown(
     if !warm.is_empty() {
         let _ = writeln!(m, "- Warm dark matter ({}): the trees follow the sharp-k excursion set with the flat collapse barrier of cold dark matter. At the half-mode mass M_hm the surviving WDM/CDM subhalo ratio of Milky-Way-mass hosts (0.55 at 2.5 keV) matches the halo-level fit of Schneider et al. 2012 but is about twice the subhalo fit of Lovell et al. 2014: subhaloes near M_hm are suppressed too little, so limits on the particle mass drawn from counts near M_hm are conservative. Compare with cold dark matter through the same sharp-k filter (`docs/validation.md`, `docs/tutorial.md`).", warm.join(", "));
     }
-    let _ = writeln!(m, "- Satellites of satellites are followed inside their parents (friction, stripping, mergers with the parent's centre; they leave a parent once beyond both its tidal radius and its bound matter). At the default settings the numbers of bright satellites (M_V < -8: about 18 within 300 kpc), of faint ones (M_V < 0: about 130 within 300 kpc; about 145 with trees resolved to 1e7 Msun) and of companions still bound to a Magellanic-mass satellite (about 7) agree with the Milky Way's completeness-corrected census (`docs/validation.md`). About 57% of the faintest satellites fell into a halo of at least 1e10 Msun before the host (simulations that give stars by peak mass find about half, and this model with the peak-mass occupation 46%; the reionisation occupation favours early-forming, grouped haloes), and about a tenth were already inside another halo at z > 6.");
+    let _ = writeln!(m, "- Satellites of satellites are followed inside their parents (friction, stripping, mergers with the parent's centre; they leave a parent once beyond both its tidal radius and its bound matter). At the default settings, for hosts of 1.2e12 Msun in the Planck 2018 cosmology (measured on 64 hosts for `docs/validation.md`, not on this run's), the numbers of bright satellites (M_V < -8: about 18 within 300 kpc), of faint ones (M_V < 0: about 130 within 300 kpc; about 145 with trees resolved to 1e7 Msun) and of companions still bound to a Magellanic-mass satellite (about 7) agree with the Milky Way's completeness-corrected census (`docs/validation.md`). About 57% of the faintest satellites fell into a halo of at least 1e10 Msun before the host (simulations that give stars by peak mass find about half, and this model with the peak-mass occupation 46%; the reionisation occupation favours early-forming, grouped haloes), and about a tenth were already inside another halo at z > 6.");
     let _ = writeln!(m, "- Host-to-host scatter is large; the bootstrap interval describes the uncertainty of the host-averaged value, the 16–84% range the spread of single hosts like the Milky Way.");
     m
 }

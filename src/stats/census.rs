@@ -91,6 +91,13 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
         .enumerate()
         .map(|(i, s)| (s.branch, i))
         .collect();
+    // the earliest time each halo that others fell into is seen at or above 1e10 Msun (the
+    // masses at its accretions; 0 = the host)
+    let mut above_since: std::collections::HashMap<u32, f64> = std::collections::HashMap::new();
+    for s in subs.iter().filter(|s| s.m_host_at_infall_msun >= 1e10) {
+        let t = above_since.entry(s.parent_branch).or_insert(f64::INFINITY);
+        *t = t.min(s.t_infall_gyr);
+    }
     let mut faint_pos: Vec<[u64; 3]> = Vec::new();
     for (s, g) in subs.iter().zip(gals) {
         let code = s.status as usize;
@@ -149,16 +156,25 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             if s.order > 1 && s.t_infall_gyr < t_z6_gyr {
                 c.faint_dwarfs_in_halo_at_z6 += 1;
             }
-            // the chain of haloes it fell into before its group reached the host
+            // the chain of haloes it fell into before its group reached the host: one at or
+            // above 1e10 Msun when it fell in, or one that grew past it before its own infall
+            // (the masses grow, so a halo seen above it only before this infall was above it
+            // at this infall too)
             let mut cur = s;
             let mut pre = false;
             while cur.order > 1 {
-                if cur.m_host_at_infall_msun >= 1e10 {
+                let container = row_of.get(&cur.parent_branch).map(|&p| &subs[p]);
+                let grew = container.is_some_and(|p| {
+                    above_since
+                        .get(&p.branch)
+                        .is_some_and(|&t| t <= p.t_infall_gyr)
+                });
+                if cur.m_host_at_infall_msun >= 1e10 || grew {
                     pre = true;
                     break;
                 }
-                match row_of.get(&cur.parent_branch) {
-                    Some(&p) => cur = &subs[p],
+                match container {
+                    Some(p) => cur = p,
                     None => break,
                 }
             }

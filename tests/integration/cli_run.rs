@@ -2195,3 +2195,72 @@ fn warm_dark_matter_runs_carry_their_caveat() {
     let warm = alone("cosmology=warm,mass=8e11", "warm");
     assert!(warm.contains("- Warm dark matter (warm: 3 keV)"), "{warm}");
 }
+
+/// The conclusion says what the delay test could not decide (review findings): a sample with
+/// more objects than any host has candidates is "not tested" (it had read "cannot explain"),
+/// and a delay still allowed at the end of the delay grid is a lower limit ("at least"), not an
+/// upper one.
+#[test]
+fn conclusions_say_when_untested_or_unbounded() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    let st = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", st]);
+    // 400 objects: no host of this coarse run has that many candidates
+    let mut many =
+        String::from("id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n");
+    for i in 0..400 {
+        many.push_str(&format!("O{i},1e6,50,10,8,1\n"));
+    }
+    let sample = write(d.path(), "many.csv", &many);
+    let out = run_ok(&[
+        "infall",
+        st,
+        "--sample",
+        sample.to_str().unwrap(),
+        "--name",
+        "many",
+    ]);
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
+        .unwrap_or_default();
+    assert!(line.contains("not tested"), "{out}");
+    assert!(!out.contains("cannot explain"), "{out}");
+    let md = std::fs::read_to_string(d.path().join("s-many-report").join("report.md")).unwrap();
+    assert!(
+        md.contains("not tested: no host has as many candidates"),
+        "{md}"
+    );
+    // two objects that stopped forming stars 0.1 Gyr ago, delays up to 1 Gyr: satellites fell
+    // in long before, so every delay on the grid is allowed
+    let recent = write(
+        d.path(),
+        "recent.csv",
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,0.1,0.05\nB,1e6,80,-20,0.1,0.05\n",
+    );
+    let tests = write(
+        d.path(),
+        "grid.toml",
+        "[tests]\ndelay_grid_gyr = [0.0, 0.5, 1.0]\n",
+    );
+    let out = run_ok(&[
+        "infall",
+        st,
+        "--sample",
+        recent.to_str().unwrap(),
+        "--config",
+        tests.to_str().unwrap(),
+        "--name",
+        "recent",
+    ]);
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
+        .unwrap_or_default();
+    assert!(
+        line.contains("at least 1.00 Gyr, the end of the delay grid") && !line.contains("up to"),
+        "{out}"
+    );
+}

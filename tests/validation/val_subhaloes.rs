@@ -366,14 +366,25 @@ fn subhalo_bookkeeping_and_reproducibility() {
             res.iter().map(|r| (r.branch, r)).collect();
         let mut counts = [0usize; 5];
         let mut n_released = 0;
+        let mut n_never_inside = 0;
         for r in res {
             counts[r.status as usize] += 1;
             let eps = 1e-9;
             assert!(r.t_infall_gyr <= r.t_first_host_infall_gyr + eps, "{r:?}");
-            assert!(
-                r.t_first_host_infall_gyr <= r.t_last_host_infall_gyr + eps,
-                "{r:?}"
-            );
+            if r.t_last_host_infall_gyr.is_nan() {
+                // never inside the host's R_vir: only a satellite of a satellite whose group
+                // entered while it stayed outside (a subhalo of the host falls in through R_vir)
+                assert!(
+                    r.order > 1 && r.n_host_crossings == 0 && !r.backsplash,
+                    "{r:?}"
+                );
+                n_never_inside += 1;
+            } else {
+                assert!(
+                    r.t_first_host_infall_gyr <= r.t_last_host_infall_gyr + eps,
+                    "{r:?}"
+                );
+            }
             assert!(r.m_bound_msun <= r.m_infall_msun * (1.0 + 1e-12));
             if r.order == 1 {
                 assert!(r.t_release_gyr.is_nan());
@@ -422,6 +433,7 @@ fn subhalo_bookkeeping_and_reproducibility() {
             n_released > 0 && counts.iter().all(|&c| c > 0),
             "every status occurs and some subhaloes leave their parents: {counts:?}"
         );
+        println!("never inside R_vir (last host infall NaN): {n_never_inside}");
         // the infall at the virial radius is the first crossing: a first-order subhalo inside
         // R_vir at the end has crossed an odd number of times
         for r in res.iter().filter(|r| r.order == 1) {
@@ -432,8 +444,10 @@ fn subhalo_bookkeeping_and_reproducibility() {
 
 /// Clocks on real mock hosts: first infall <= last infall into the host for every subhalo;
 /// pre-processing infall (threshold 1e10 Msun) <= first host infall wherever the object was
-/// pre-processed (fell into a halo other than the host); and equal to the host infall when it
-/// was not and the host was above the threshold.
+/// pre-processed (fell into a halo other than the host); equal to the host infall when it
+/// was not and the host was above the threshold; and, for a subhalo whose group entered the
+/// host while the host was below the threshold and was not pre-processed, the time the host
+/// reached it (never NaN: every host ends above 1e10 Msun).
 #[test]
 fn clocks_are_consistent_on_mock_hosts() {
     use retinue::galaxies::GalaxyOptions;
@@ -466,9 +480,26 @@ fn clocks_are_consistent_on_mock_hosts() {
     };
     let c = clock_times(&cat, &[lt.cosmology()], &GalaxyOptions::default(), &thr);
     let mut pre_processed = 0;
+    let mut host_below = 0;
+    let host_of: Vec<usize> = (0..cat.n_hosts())
+        .flat_map(|h| cat.rows(h).map(move |_| h))
+        .collect();
+    let row_of: std::collections::HashMap<(usize, u32), usize> = (0..cat.n_subhaloes())
+        .map(|j| ((host_of[j], cat.branch[j]), j))
+        .collect();
     for i in 0..cat.n_subhaloes() {
-        assert!(c.first[i] <= c.last[i] + 1e-9, "row {i}");
-        if c.pre[i].is_finite() {
+        // (last NaN: a satellite of a satellite never inside R_vir)
+        assert!(
+            c.last[i].is_nan() || c.first[i] <= c.last[i] + 1e-9,
+            "row {i}"
+        );
+        // the host's mass when this subhalo's group entered it (its first-order ancestor's)
+        let mut a = i;
+        while cat.order[a] > 1 {
+            a = row_of[&(host_of[a], cat.parent_branch[a])];
+        }
+        let entered_below = cat.m_host_at_infall_msun[a] < 1e10;
+        if c.pre[i].is_finite() && !(entered_below && c.pre[i] > c.first[i]) {
             assert!(
                 c.pre[i] <= c.first[i] + 1e-9,
                 "row {i}: pre {} first {}",
@@ -483,7 +514,23 @@ fn clocks_are_consistent_on_mock_hosts() {
         if cat.order[i] == 1 && cat.m_host_at_infall_msun[i] >= 1e10 {
             assert_eq!(c.pre[i], c.first[i]);
         }
+        if cat.order[i] == 1 && cat.m_host_at_infall_msun[i] < 1e10 {
+            // the host's crossing, read off its later accretions: the first first-order
+            // infall (of this host) into a host of at least 1e10 Msun
+            let t_cross = cat
+                .rows(host_of[i])
+                .filter(|&j| cat.order[j] == 1 && cat.m_host_at_infall_msun[j] >= 1e10)
+                .map(|j| cat.t_infall_gyr[j])
+                .fold(f64::INFINITY, f64::min);
+            assert!(t_cross.is_finite() && t_cross > c.first[i]);
+            assert_eq!(c.pre[i], t_cross, "row {i}");
+            host_below += 1;
+        }
     }
+    assert!(
+        host_below > 0,
+        "some subhaloes fell in while the host was below 1e10 Msun"
+    );
     assert!(
         pre_processed > 10,
         "some subhaloes are pre-processed ({pre_processed})"
