@@ -6,7 +6,7 @@
 use super::events::Tracker;
 use super::evolve::{SubhaloResult, SubhaloStatus};
 use super::friction;
-use super::in_parent::{dot, Body, Chain, Frame, Point};
+use super::in_parent::{dot, Body, Chain, Frame, Point, Profile};
 use super::integrate::{Rkn6, State, Tolerances, Vec3};
 use super::stripping::{Stripping, SubhaloStructure};
 use super::OrbitOptions;
@@ -305,6 +305,22 @@ fn container_mass(m_vir_host: f64, chain: &Option<Chain>, t: f64) -> f64 {
         None => m_vir_host,
         Some(c) => c.container_mass(t),
     }
+}
+
+/// Whether an orbit at y (relative to a halo of profile p) is bound inside radius `r_out`:
+/// 1/2 v^2 < Phi(r_out) - Phi(r). For the NFW potential Phi = -G M_s ln(1 + x)/r (x = r/r_s;
+/// Navarro, Frenk & White 1997) the difference is G M_s [ln(1 + x)/r - ln(1 + x_out)/r_out];
+/// where the stripped profile's mass cap binds, the difference is smaller, and
+/// G m_cap (1/r - 1/r_out) bounds it from above, so the smaller of the two is used.
+pub(crate) fn confined_within(p: &Profile, y: &State, r_out: f64) -> bool {
+    let r = norm(pos(y)).max(1e-12);
+    if r.is_nan() || r >= r_out {
+        return false;
+    }
+    let nfw = G * p.m_s * ((r / p.r_s).ln_1p() / r - (r_out / p.r_s).ln_1p() / r_out);
+    let capped = G * p.m_cap * (1.0 / r - 1.0 / r_out);
+    let v = vel(y);
+    0.5 * dot(v, v) < nfw.min(capped)
 }
 
 /// The host's tide (host at one instant) on a subhalo at host-centred state y: (Omega^2 - d^2 Phi/dr^2, host mass
@@ -708,15 +724,20 @@ pub(crate) fn follow(
             && (x_b < options.disrupt_bound_fraction
                 || r_t < options.disrupt_tidal_radius_over_rs * structure.r_s_acc)
         {
-            // dissolved by tides: a merger with the container if friction had sunk it into
-            // the container's core (inside its scale radius), a disruption otherwise. Friction
-            // counts if it acted at any step in this container: at dissolution the bound mass
-            // is ~1e-3 of the infall mass, below friction's own threshold for every child with
-            // m_infall < 0.1 of its container (which then could never merge)
+            // dissolved by tides: a merger with the container if friction had sunk it, a
+            // disruption otherwise. Sunk: friction acted on it in this container and its orbit
+            // is now confined inside half the container's virial radius at its entry
+            // (1/2 v^2 < Phi(R/2) - Phi(r) relative to the container, `confined_within`).
+            // It entered at about R_vir (an apocentre of at least R_vir) and stripping leaves
+            // the orbital energy alone, so friction has at least halved its apocentre; a child
+            // dissolved on a wide orbit, even while passing through the core, is disrupted.
+            // (Friction is tested over the whole stay: at dissolution the bound mass is ~1e-3
+            // of the infall mass, below friction's own threshold, 1e-4 of the container, for
+            // every child of m_infall < 0.1 of its container.)
             let sunk = friction_frame == Some(frame)
                 && chain
                     .as_ref()
-                    .is_some_and(|c| norm(pos(&y)) < c.container_profile(t).r_s);
+                    .is_some_and(|c| confined_within(&c.container_profile(t), &y, 0.5 * scale.0));
             if sunk {
                 res.t_merge_gyr = t;
                 ended = Some(SubhaloStatus::MergedWithParent);
@@ -838,4 +859,49 @@ pub(crate) fn follow(
         segs,
         dead: ended.is_some(),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::halo::nfw::mu;
+
+    /// The confinement test against the NFW potential difference integrated directly,
+    /// Phi(r_out) - Phi(r) = int_r^{r_out} G M(<r') / r'^2 dr' (Simpson's rule, 2,000
+    /// intervals), at r = r_s/2, r_out = 2 r_s: just below that speed it is confined, just
+    /// above it is not; beyond r_out never; and a capped (stripped) profile confines less.
+    #[test]
+    fn confinement_matches_the_potential_difference() {
+        let p = Profile {
+            m_s: 1e10,
+            r_s: 2.0,
+            m_cap: f64::INFINITY,
+            r_t: f64::INFINITY,
+        };
+        let (r, r_out) = (1.0, 4.0);
+        let n = 2000;
+        let h = (r_out - r) / n as f64;
+        let f = |q: f64| G * p.m_s * mu(q / p.r_s) / (q * q);
+        let mut dphi = f(r) + f(r_out);
+        for k in 1..n {
+            dphi += f(r + k as f64 * h) * if k % 2 == 1 { 4.0 } else { 2.0 };
+        }
+        dphi *= h / 3.0;
+        // closed form: (G M_s / r_s) [ln(1.5)/0.5 - ln(3)/2] = 0.261624 G M_s / r_s
+        assert!((dphi / (G * p.m_s / p.r_s) - 0.261624).abs() < 1e-6);
+        let v_edge = (2.0 * dphi).sqrt();
+        let at = |v: f64| [r, 0.0, 0.0, 0.0, v, 0.0];
+        assert!(confined_within(&p, &at(0.999 * v_edge), r_out));
+        assert!(!confined_within(&p, &at(1.001 * v_edge), r_out));
+        assert!(!confined_within(&p, &[4.5, 0.0, 0.0, 0.0, 0.0, 0.0], r_out));
+        // stripped to 10% of the mass inside r: G m_cap (1/r - 1/r_out) binds first
+        // (0.00721 G M_s x 0.75 / kpc = 0.00541 G M_s/kpc against 0.1308 without the cap: the edge
+        // speed falls to 0.203 of the uncapped one)
+        let capped = Profile {
+            m_cap: 0.1 * p.m_s * mu(0.5),
+            ..p
+        };
+        assert!(!confined_within(&capped, &at(0.21 * v_edge), r_out));
+        assert!(confined_within(&capped, &at(0.19 * v_edge), r_out));
+    }
 }

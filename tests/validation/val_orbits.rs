@@ -501,8 +501,9 @@ fn satellite_of_satellite_frames_match_a_direct_integration() {
 /// Merging times of satellites of satellites: a child falls into an isolated NFW parent of
 /// 1e11 Msun (Dutton & Maccio 2014 concentrations for both, Planck 2018) from the parent's
 /// virial radius with the energy of a circular orbit there (r_c(E) = R_vir) and circularity
-/// eps = J/J_c(E), with friction, stripping and the default merger rules; the time to merge
-/// with the parent's centre, or to be dissolved, against the merging-time fit of N-body
+/// eps = J/J_c(E), with friction, stripping and the default merger rules; every one merges
+/// with the parent's centre (status 3: sunk by friction, not dissolved on the way), and the
+/// time it takes is checked against the merging-time fit of N-body
 /// mergers of live NFW haloes that Villalobos et al. 2013 (arXiv:1303.2117) correct for
 /// redshift (the z = 0 form and its coefficients recalled, not re-read):
 /// t/tau_dyn = 0.216 (M/m)^1.3 / ln(1 + M/m) exp(1.9 eps) (r_c(E)/R_vir)^1.0, tau_dyn =
@@ -555,11 +556,13 @@ fn val_merging_times_vs_the_z0_fit() {
                     0.0,
                     80.0 * tau,
                 );
-                let t_end = if res.t_merge_gyr.is_finite() {
-                    res.t_merge_gyr
-                } else {
-                    res.t_disrupt_physical_gyr
-                };
+                // sunk by friction, not dissolved on the way: a merger with the parent
+                assert_eq!(
+                    res.status,
+                    retinue::orbits::SubhaloStatus::MergedWithParent,
+                    "z = {z}, M/m = {q}, eps = {eps}"
+                );
+                let t_end = res.t_merge_gyr;
                 let bk08 = 0.216 * q.powf(1.3) / q.ln_1p() * (1.9 * eps).exp();
                 let ratio = t_end / tau / bk08;
                 ratios.push(ratio);
