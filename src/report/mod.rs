@@ -943,7 +943,7 @@ pub fn markdown(
         }
     }
     if !res.matches.is_empty() {
-        let _ = writeln!(m, "\n## Phase-space-matched objects\n\nMock satellites within ±{} kpc, ±{} km/s and ±{} dex of each object; probability that the match fell in before the object quenched (first host infall):\n", o.match_windows.dr_kpc, o.match_windows.dv_kms, o.match_windows.dlog_mstar);
+        let _ = writeln!(m, "\n## Phase-space-matched objects\n\nMock satellites within ±{} kpc, ±{} km/s and ±{} dex of each object; probability that the match fell in before the object quenched (first host infall; the object's quenching time uncertain by its error, as in the delay test):\n", o.match_windows.dr_kpc, o.match_windows.dv_kms, o.match_windows.dlog_mstar);
         let _ = writeln!(
             m,
             "| object | matches | P(infall before quenching) | hosts 16–84% |\n|---|---|---|---|"

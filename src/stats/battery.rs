@@ -759,7 +759,7 @@ pub fn run_tests_raw(
                 let mut pooled = Vec::new();
                 let mut per_host = Vec::new();
                 for (h, &t0_h) in t0.iter().enumerate() {
-                    let (mut k, mut early) = (0usize, 0usize);
+                    let (mut k, mut early) = (0usize, 0.0f64);
                     for i in cat.rows(h) {
                         let sel = &options.selection;
                         let alive = sel.counts_status(cat, i)
@@ -776,11 +776,16 @@ pub fn run_tests_raw(
                             let lb = t0_h - times[i];
                             pooled.push(lb);
                             k += 1;
-                            early += (lb >= o.t_quench_lookback_gyr) as usize;
+                            early += p_quenched_after(
+                                lb,
+                                o.t_quench_lookback_gyr,
+                                o.t_quench_err_gyr,
+                                t0_h,
+                            );
                         }
                     }
                     if k > 0 {
-                        per_host.push(early as f64 / k as f64);
+                        per_host.push(early / k as f64);
                     }
                 }
                 let n = pooled.len();
@@ -902,6 +907,27 @@ pub fn run_tests_raw(
     }
 }
 
+/// The probability that an object stopped forming stars after a satellite fell in `lb` Gyr
+/// ago, P(L_quench <= lb), for L_quench drawn as in the quenching-delay test
+/// (`draw_quench_lookback`: Gaussian t ± err truncated at the age, floored at 0):
+/// Phi((lb - t)/err) / Phi((age - t)/err) for 0 <= lb < age, 1 at or beyond the age; the
+/// indicator lb >= t when err = 0.
+pub(crate) fn p_quenched_after(lb: f64, t: f64, err: f64, age: f64) -> f64 {
+    if lb >= age {
+        return 1.0;
+    }
+    if err <= 0.0 {
+        return if lb >= t { 1.0 } else { 0.0 };
+    }
+    let phi = |x: f64| 0.5 * crate::special::erfc(-x / std::f64::consts::SQRT_2);
+    let norm = phi((age - t) / err);
+    if norm <= 0.0 {
+        // the whole Gaussian lies beyond the age: every draw is set to the age
+        return 0.0;
+    }
+    (phi((lb - t) / err) / norm).min(1.0)
+}
+
 /// One draw of an object's quenching lookback time (Gyr): Gaussian about the measured value
 /// with its error, truncated above at the age of the host's universe `age` (no object
 /// quenched before the Big Bang: draws beyond it are drawn again, up to 64 times, then set to
@@ -978,5 +1004,29 @@ mod quench_draw_tests {
             .sum::<f64>()
             / n as f64;
         assert!((mean - 5.0).abs() < 4.0 / (n as f64).sqrt(), "{mean}");
+    }
+
+    /// The phase-space matches' probability of quenching after infall agrees with the
+    /// fraction of the quenching-delay test's own draws (20,000; binomial tolerance, 4σ),
+    /// near the age (truncated) and far from it; and its limits.
+    #[test]
+    fn match_probability_agrees_with_the_draws() {
+        use super::p_quenched_after;
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(5);
+        let n = 20_000;
+        for (lb, t, err) in [(13.0, 13.5, 1.0), (6.0, 5.0, 1.5), (2.0, 3.0, 0.5)] {
+            let hits = (0..n)
+                .filter(|_| draw_quench_lookback(t, err, 13.79, &mut rng) <= lb)
+                .count() as f64
+                / n as f64;
+            let p = p_quenched_after(lb, t, err, 13.79);
+            let tol = 4.0 * (p * (1.0 - p) / n as f64).sqrt() + 1e-9;
+            assert!((hits - p).abs() < tol, "lb {lb}: {hits} vs {p}");
+        }
+        // scipy 1.18.1: stats.truncnorm.cdf(13.0, -13.5, 0.29, loc=13.5, scale=1) = 0.502429
+        assert!((p_quenched_after(13.0, 13.5, 1.0, 13.79) - 0.502429).abs() < 1e-5);
+        assert_eq!(p_quenched_after(14.0, 13.5, 1.0, 13.79), 1.0);
+        assert_eq!(p_quenched_after(4.0, 5.0, 0.0, 13.79), 0.0);
+        assert_eq!(p_quenched_after(5.0, 5.0, 0.0, 13.79), 1.0);
     }
 }
