@@ -604,8 +604,32 @@ pub fn retest_config(
             .map_err(|e| AnalysisError::Input(format!("{}: [tests]: {e}", p.display())))?;
     }
     if retest.galaxies.is_some() {
+        let stored = cfg.file.galaxies;
         cfg.file.galaxies = overlay(&cfg.file.galaxies, given.get("galaxies"))
             .map_err(|e| AnalysisError::Input(format!("{}: [galaxies]: {e}", p.display())))?;
+        // the store's galaxies were painted with the stored keys: a changed key would convert
+        // the sample's magnitudes or a stellar-mass threshold with a model the mock galaxies do
+        // not follow, so it is refused (a whole configuration with the same keys is fine)
+        let (old, new) = (
+            toml::Table::try_from(stored).unwrap_or_default(),
+            toml::Table::try_from(cfg.file.galaxies).unwrap_or_default(),
+        );
+        for (key, value) in &new {
+            if old.get(key) != Some(value) {
+                problems.push(InvalidValue::new(
+                    format!("galaxies.{key}"),
+                    value,
+                    format!(
+                        "differs from the store's {} (in {}): the store's galaxies were painted \
+                         with it, and `infall` does not repaint them; run `retinue run` with the \
+                         new value instead",
+                        old.get(key)
+                            .map_or("(unset)".to_string(), |v| v.to_string()),
+                        p.display()
+                    ),
+                ));
+            }
+        }
     }
     problems.extend(cfg.file.tests.problems("tests."));
     problems.extend(cfg.file.galaxies.problems("galaxies."));

@@ -94,7 +94,8 @@ pub struct InfallArgs {
     pub columns: Option<BTreeMap<String, String>>,
     /// A file with a [tests] table (or a whole configuration): its [tests], [galaxies],
     /// run.sample and run.sample_columns replace the stored ones; everything else stays the
-    /// run's. (Galaxies are painted when a store is written: [galaxies] here only converts a
+    /// run's. (Galaxies are painted when a store is written: [galaxies] keys that differ from
+    /// the store's are refused; the table converts a
     /// stellar-mass pre-processing threshold and a sample's m_v.)
     #[arg(long)]
     pub config: Option<PathBuf>,

@@ -2263,4 +2263,33 @@ fn conclusions_say_when_untested_or_unbounded() {
         line.contains("at least 1.00 Gyr, the end of the delay grid") && !line.contains("up to"),
         "{out}"
     );
+    // a [galaxies] key other than the store's would convert the sample with a model the mock
+    // galaxies were not painted with: refused, both values named; the same value is fine
+    let other = write(d.path(), "ml.toml", "[galaxies]\nmass_to_light_v = 3.5\n");
+    let (code, _, err) = run_cli(&[
+        "infall",
+        st,
+        "--sample",
+        recent.to_str().unwrap(),
+        "--config",
+        other.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("galaxies.mass_to_light_v")
+            && err.contains("3.5")
+            && err.contains("differs from the store's"),
+        "{err}"
+    );
+    let same = write(d.path(), "same.toml", "[galaxies]\nmass_to_light_v = 2.0\n");
+    run_ok(&[
+        "infall",
+        st,
+        "--sample",
+        recent.to_str().unwrap(),
+        "--config",
+        same.to_str().unwrap(),
+        "--name",
+        "same",
+    ]);
 }
