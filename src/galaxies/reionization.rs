@@ -15,7 +15,7 @@
 //! * So a halo hosts a galaxy if its main progenitor had reached the atomic-cooling mass by
 //!   the reionisation redshift, or if it later grew a V_max above the filtering velocity
 //!   (the filtering-mass picture of Gnedin 2000, ApJ 542, 535, with these two thresholds). Each
-//!   threshold is smoothed by an error function of width `occupation_sigma_dex` in log mass
+//!   threshold is smoothed by an error function of width `reionization_sigma_dex` in log mass
 //!   (a third of it in log V_max, since M scales as V^3), for the scatter of real haloes about
 //!   them: P = 1 - (1 - P_mass)(1 - P_vmax).
 

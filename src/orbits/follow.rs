@@ -323,6 +323,25 @@ pub(crate) fn confined_within(p: &Profile, y: &State, r_out: f64) -> bool {
     0.5 * dot(v, v) < nfw.min(capped)
 }
 
+/// Whether a host-centred orbit at y is bound inside radius `r_c` about the host's centre at
+/// time t: 1/2 v^2 < Phi(r_c x/|x|) - Phi(x), the potential (halo, disc, bulge, dark energy)
+/// evaluated along the line from the centre through the subhalo.
+pub fn confined_in_host(host: &EvolvingHost, t: f64, y: &State, r_c: f64) -> bool {
+    let x = pos(y);
+    let r = norm(x);
+    if r.is_nan() || r >= r_c {
+        return false;
+    }
+    let snap = host.snapshot(t);
+    let edge = if r > 0.0 {
+        [x[0] * r_c / r, x[1] * r_c / r, x[2] * r_c / r]
+    } else {
+        [r_c, 0.0, 0.0]
+    };
+    let v = vel(y);
+    0.5 * dot(v, v) < snap.phi(edge) - snap.phi(x)
+}
+
 /// The host's tide (host at one instant) on a subhalo at host-centred state y: (Omega^2 - d^2 Phi/dr^2, host mass
 /// inside |x|).
 #[inline]
@@ -751,10 +770,16 @@ pub(crate) fn follow(
         let mut release: Option<(State, Frame)> = None;
         match &chain {
             None => {
-                // sunk by friction to the centre: merged with the central galaxy (with or
-                // without stripping; without this check a subhalo that keeps its mass would
-                // circle the centre on ever shorter orbits)
-                if fr && r_rel < options.central_merge_kpc {
+                // sunk by friction to the centre: merged with the central galaxy once its orbit
+                // is confined inside `central_merge_kpc` (1/2 v^2 < Phi(r_c x/|x|) - Phi(x) in
+                // the host at t), with or without stripping; without this check a subhalo that
+                // keeps its mass would circle the centre on ever shorter orbits. (Passing
+                // inside r_c on a plunging orbit is not a merger: the first rule, r < r_c at
+                // the end of a step, ended early radial infalls on their way in.)
+                if fr
+                    && r_rel < options.central_merge_kpc
+                    && confined_in_host(host, t, &y, options.central_merge_kpc)
+                {
                     res.t_merge_gyr = t;
                     ended = Some(SubhaloStatus::MergedWithCentral);
                     break;

@@ -53,8 +53,9 @@ pub struct OrbitOptions {
     /// of the host's disc and bulge exceeds this many times its own V_max^2 / R_max^2
     /// (`follow::disc_destroys`); 0 = off.
     pub disc_tide_ratio: f64,
-    /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) that sinks inside this radius
-    /// (kpc) has merged with the central galaxy and is removed (0 = never).
+    /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) whose orbit is confined
+    /// inside this radius (kpc; `follow::confined_in_host`) has merged with the central galaxy
+    /// and is removed (0 = never).
     pub central_merge_kpc: f64,
     /// The distribution infall velocities are drawn from (`initial::InfallOrbits`).
     pub infall_orbits: initial::InfallOrbits,

@@ -323,7 +323,8 @@ fn val_dynamical_friction_sinking_time() {
 }
 
 /// A subhalo massive enough to feel friction, with stripping switched off, keeps its mass,
-/// sinks and is merged with the central galaxy once inside `central_merge_kpc` (the check
+/// sinks and is merged with the central galaxy once its orbit is confined inside
+/// `central_merge_kpc` (the check
 /// used to sit inside the stripping step, so without stripping such a subhalo circled the
 /// centre on ever shorter orbits and the run seemed to hang). 3e11 Msun falling into the
 /// 1.2e12 Msun fixture halo with its disc and bulge 10 Gyr before the end (with this seed it
@@ -368,6 +369,39 @@ fn friction_without_stripping_merges_at_the_centre() {
     assert!(res.t_disrupt_physical_gyr.is_nan());
     assert!(res.r_kpc < opts.central_merge_kpc, "{}", res.r_kpc);
     assert_eq!(res.m_bound_msun, 3e11);
+}
+
+/// The central merger needs an orbit confined inside `central_merge_kpc`, not a pass through
+/// it (review: 76 of 84 first-order mergers with the central had merged on their first
+/// plunge, holding most of their mass): in the fixture halo with disc and bulge, at 0.5 kpc
+/// in the disc plane, a subhalo is confined below the escape speed to 1 kpc along that line,
+/// sqrt(2 [Phi(1 kpc) - Phi(0.5 kpc)]) (potential differences from the host's own `phi`,
+/// checked against galpy elsewhere), and not above it, nor when plunging through at 300 km/s.
+#[test]
+fn central_merger_needs_a_confined_orbit() {
+    use retinue::host::Potential;
+    use retinue::orbits::follow::confined_in_host;
+    let host = EvolvingHost::fixed(snapshot(true));
+    let snap = host.snapshot(5.0);
+    let dphi = snap.phi([1.0, 0.0, 0.0]) - snap.phi([0.5, 0.0, 0.0]);
+    assert!(dphi > 0.0);
+    let v_edge = (2.0 * dphi).sqrt();
+    let at = |v: f64| [0.5, 0.0, 0.0, 0.0, v, 0.0];
+    assert!(confined_in_host(&host, 5.0, &at(0.99 * v_edge), 1.0));
+    assert!(!confined_in_host(&host, 5.0, &at(1.01 * v_edge), 1.0));
+    let kms = 1.0227121650537077;
+    assert!(!confined_in_host(
+        &host,
+        5.0,
+        &[0.5, 0.0, 0.0, -300.0 * kms, 0.0, 0.0],
+        1.0
+    ));
+    assert!(!confined_in_host(
+        &host,
+        5.0,
+        &[1.5, 0.0, 0.0, 0.0, 0.0, 0.0],
+        1.0
+    ));
 }
 
 /// The dimensionless NFW dispersion used for friction inside subhaloes

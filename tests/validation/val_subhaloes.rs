@@ -431,9 +431,11 @@ fn subhalo_bookkeeping_and_reproducibility() {
                 assert!(r.r_peri_min_kpc < OrbitOptions::default().pericentre_cut_kpc);
             }
         }
+        // status 4 (an orbit confined inside 1 kpc by friction) is rare, 0.4 per host: it is
+        // exercised by `val_orbits::friction_without_stripping_merges_at_the_centre`
         assert!(
-            n_released > 0 && counts.iter().all(|&c| c > 0),
-            "every status occurs and some subhaloes leave their parents: {counts:?}"
+            n_released > 0 && counts[..4].iter().all(|&c| c > 0),
+            "statuses 0-3 occur and some subhaloes leave their parents: {counts:?}"
         );
         println!("never inside R_vir (last host infall NaN): {n_never_inside}");
         assert!(n_never_inside > 0, "the case is exercised");
