@@ -323,6 +323,29 @@ pub(crate) fn confined_within(p: &Profile, y: &State, r_out: f64) -> bool {
     0.5 * dot(v, v) < nfw.min(capped)
 }
 
+/// The position at time tp in [t0, t1] by cubic Hermite interpolation of the step's end
+/// states (positions and velocities), with the velocity left zero: the direction of a
+/// pericentre found inside a step (the disc's tide depends on the height above its plane).
+fn hermite_state(t0: f64, y0: &State, t1: f64, y1: &State, tp: f64) -> State {
+    let h = t1 - t0;
+    if h <= 0.0 {
+        return *y1;
+    }
+    let s = ((tp - t0) / h).clamp(0.0, 1.0);
+    let (s2, s3) = (s * s, s * s * s);
+    let (h00, h10, h01, h11) = (
+        2.0 * s3 - 3.0 * s2 + 1.0,
+        s3 - 2.0 * s2 + s,
+        -2.0 * s3 + 3.0 * s2,
+        s3 - s2,
+    );
+    let mut out = [0.0; 6];
+    for k in 0..3 {
+        out[k] = h00 * y0[k] + h10 * h * y0[k + 3] + h01 * y1[k] + h11 * h * y1[k + 3];
+    }
+    out
+}
+
 /// Whether a host-centred orbit at y is bound inside radius `r_c` about the host's centre at
 /// time t: 1/2 v^2 < Phi(r_c x/|x|) - Phi(x), the potential (halo, disc, bulge, dark energy)
 /// evaluated along the line from the centre through the subhalo.
@@ -679,7 +702,7 @@ pub(crate) fn follow(
                     structure,
                     m,
                     tr.r_peri_last,
-                    a1,
+                    &hermite_state(t, a0, t1, a1, tr.t_peri_last),
                 )
             {
                 disc_kill = Some(tr.t_peri_last);
@@ -705,7 +728,7 @@ pub(crate) fn follow(
                         structure,
                         m,
                         ptr.r_peri_last,
-                        &q1,
+                        &hermite_state(t, &q0, t1, &q1, ptr.t_peri_last),
                     )
                 {
                     disc_kill = Some(ptr.t_peri_last);

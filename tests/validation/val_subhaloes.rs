@@ -822,7 +822,7 @@ fn synthesised(n: u32, host: HostOptions) -> Vec<(Vec<SubhaloResult>, f64, f64)>
 ///   (Webb & Bovy 2020, MNRAS 499, 116, abstract: "for subhalos with small pericentres
 ///   (r_p <~ 25 kpc), the subhalo abundance is reduced further to 40%"); band [0.3, 0.5]:
 ///   the abstract's round number, and a calibration made on 64 other-seeded hosts (0.392 at
-///   1.6, with the Li et al. 2020 infall orbits, the default then; measured here 0.400 with
+///   1.6, with the Li et al. 2020 infall orbits, the default then; measured here 0.402 with
 ///   the Benson 2005 ones, 0.404 with Li et al.) moves by about 0.01 between host samples (binomial error on 15,000 subhaloes is
 ///   0.004, host-to-host scatter about twice that);
 /// * all of them together: 50-80% survive (the same abstract: 65% of the dark-matter-only
