@@ -481,8 +481,24 @@ pub fn synthesize_to_store(
     // ahead waits until the oldest batch in memory has been written. There is no barrier
     // between batches, so no thread waits for the slowest host of a batch.
     const WINDOW: usize = 3;
+    // a part is done if it opens as HDF5: one left empty or cut short by a system crash
+    // (before parts were flushed to disk) is removed and made again
     let todo: Vec<usize> = (0..n_parts)
-        .filter(|&k| !part_path(&dir, k).exists())
+        .filter(|&k| {
+            let p = part_path(&dir, k);
+            if !p.exists() {
+                return true;
+            }
+            let readable = hdf5::File::open(&p).is_ok();
+            if !readable {
+                eprintln!(
+                    "{} cannot be read (damaged by an earlier crash?): making it again",
+                    p.display()
+                );
+                let _ = std::fs::remove_file(&p);
+            }
+            !readable
+        })
         .collect();
     let size = |b: usize| {
         let (a, e) = bounds(todo[b]);

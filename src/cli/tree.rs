@@ -68,9 +68,24 @@ pub struct TreeArgs {
     /// Output HDF5 file.
     #[arg(long)]
     pub out: PathBuf,
+    /// Replace the output file if it exists.
+    #[arg(long)]
+    pub overwrite: bool,
 }
 
 pub fn run(a: TreeArgs) -> Result<(), CliError> {
+    if a.out.is_dir() {
+        return Err(CliError::Usage(format!(
+            "--out {} is a directory, not a file: give a file name (e.g. tree.h5)",
+            a.out.display()
+        )));
+    }
+    if a.out.exists() && !a.overwrite {
+        return Err(CliError::Usage(format!(
+            "--out {} exists: refusing to replace it (add --overwrite to replace it)",
+            a.out.display()
+        )));
+    }
     let lt = a.cosmo.linear_theory(None, None, None)?;
     let mdef = MassDefinition::parse(&a.mass_definition).ok_or_else(|| {
         CliError::Usage(format!(

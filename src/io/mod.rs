@@ -165,6 +165,25 @@ impl IoError {
     }
 }
 
+/// Flush a closed file's data and metadata to the disk (fsync).
+pub fn sync_file(path: &Path) -> Result<(), IoError> {
+    std::fs::File::open(path)
+        .and_then(|f| f.sync_all())
+        .map_err(|e| IoError::fs(path, e))
+}
+
+/// Flush the directory holding `path` (its entries: a rename into it), where the platform
+/// allows it; a failure here is not an error (some file systems refuse to sync directories).
+pub fn sync_parent_dir(path: &Path) {
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    if let Ok(d) = std::fs::File::open(dir) {
+        let _ = d.sync_all();
+    }
+}
+
 /// A file written under a temporary name and renamed into place only when complete, so an
 /// interrupted write never leaves a file that looks finished.
 #[derive(Debug)]
@@ -186,10 +205,15 @@ impl AtomicPath {
         }
     }
 
-    /// Move the finished temporary file into place.
+    /// Move the finished temporary file into place: its data are flushed to the disk first
+    /// (fsync) and the directory entry after the rename, so that after a power cut or a
+    /// system crash the final name holds the whole file or is absent, never an empty or
+    /// partly written file under the final name.
     pub fn commit(self) -> Result<PathBuf, IoError> {
+        sync_file(&self.temp_path)?;
         std::fs::rename(&self.temp_path, &self.final_path)
             .map_err(|e| IoError::fs(&self.final_path, e))?;
+        sync_parent_dir(&self.final_path);
         Ok(self.final_path.clone())
     }
 

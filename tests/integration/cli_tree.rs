@@ -35,6 +35,41 @@ fn tree_file_schema_and_summary() {
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
         .collect();
     assert_eq!(names, vec!["tree.h5".to_string()]);
+    // an existing file is not replaced without --overwrite (review: `--out` once replaced a
+    // run store and a configuration file without asking)
+    let args = |extra: &[&str]| -> Vec<String> {
+        let mut v: Vec<String> = [
+            "tree",
+            "--preset",
+            "planck18",
+            "--mass",
+            "1.2e12",
+            "--resolution",
+            "3e8",
+            "--seed",
+            "8",
+            "--out",
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        v.push(out.to_str().unwrap().to_string());
+        v.extend(extra.iter().map(|s| s.to_string()));
+        v
+    };
+    let before = std::fs::read(&out).unwrap();
+    let a: Vec<String> = args(&[]);
+    let (code, _, err) = run_cli(&a.iter().map(|s| s.as_str()).collect::<Vec<_>>());
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("exists") && err.contains("--overwrite"),
+        "{err}"
+    );
+    assert_eq!(std::fs::read(&out).unwrap(), before);
+    let a: Vec<String> = args(&["--overwrite"]);
+    let (code, _, err) = run_cli(&a.iter().map(|s| s.as_str()).collect::<Vec<_>>());
+    assert_eq!(code, 0, "{err}");
+    assert_ne!(std::fs::read(&out).unwrap(), before);
 
     let f = hdf5::File::open(&out).unwrap();
     let nodes = f.group("nodes").unwrap();
@@ -100,6 +135,7 @@ fn tree_same_seed_same_file_content() {
             idx,
             "--out",
             out.to_str().unwrap(),
+            "--overwrite",
         ]);
         assert_eq!(code, 0, "{err}");
         let f = hdf5::File::open(&out).unwrap();
