@@ -287,6 +287,20 @@ fn pool(threads: usize) -> Result<rayon::ThreadPool, CliError> {
 }
 
 /// The whole job: synthesise, store, test, report. Returns the store path.
+/// What `execute` may do with a store already at its output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Existing {
+    /// Keep it: a store of another configuration is an error (with `--resume`), and a
+    /// complete one of this configuration gets only its tests and report again.
+    Keep,
+    /// Replace a store of another configuration (`--overwrite`; with `--resume` the run's
+    /// parts are used, so a run killed after `--overwrite` can be resumed).
+    ReplaceOther,
+    /// Remove it once the store's lock is held (the demo always synthesises afresh).
+    Remove,
+}
+
+#[allow(clippy::too_many_arguments)]
 fn execute(
     cfg: RunConfig,
     text: &str,
@@ -294,6 +308,7 @@ fn execute(
     threads: usize,
     shard: Shard,
     resume: bool,
+    existing: Existing,
     sample_override: Option<PathBuf>,
 ) -> Result<PathBuf, CliError> {
     // a sample given here is read without the configuration's column mapping (which
@@ -316,6 +331,10 @@ fn execute(
     }
     // one writer per store: held through synthesis, tests and report
     let _lock = writer_lock(&out, "retinue run")?;
+    if existing == Existing::Remove && out.exists() {
+        std::fs::remove_file(&out)
+            .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", out.display())))?;
+    }
     let (lo, hi) = shard.range(grid.n_hosts());
     eprintln!(
         "retinue run: {} = {} hosts{}; writing {}",
@@ -335,10 +354,15 @@ fn execute(
     let pool = pool(threads)?;
     // --resume on a store that was published but whose tests or report were interrupted:
     // the hosts are all there, so only the tests and the report are run again
-    if resume && retinue::io::store::is_run_store(&out) {
+    let other_store = |meta: &retinue::io::store::StoreMeta| {
+        meta.config_toml != text || meta.shard != (shard.index, shard.count)
+    };
+    let replace_other = existing == Existing::ReplaceOther
+        && retinue::io::store::check_complete(&out).is_ok_and(|m| other_store(&m));
+    if resume && !replace_other && retinue::io::store::is_run_store(&out) {
         let meta = retinue::io::store::check_complete(&out)
             .map_err(|e| usage(format!("--resume: {e}")))?;
-        if meta.config_toml != text || meta.shard != (shard.index, shard.count) {
+        if other_store(&meta) {
             return Err(usage(format!(
                 "--resume: {} is a store of another configuration or shard (shard {}/{}); \
                  give another --out, or add --overwrite to replace it",
@@ -533,11 +557,18 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
     inputs.extend(cfg.sample_path());
     // with --resume an existing store of this run is completed (tests and report), not replaced
     guard_output(&out, &inputs, a.overwrite, a.resume)?;
+    let existing = if a.overwrite {
+        Existing::ReplaceOther
+    } else {
+        Existing::Keep
+    };
     #[cfg(feature = "mpi")]
     if a.shard.is_none() {
         // under mpirun: one shard per rank; one thread per rank unless told otherwise
         let threads = a.threads.unwrap_or(1);
-        let go = |s: Shard, p: PathBuf| execute(cfg.clone(), &text, p, threads, s, a.resume, None);
+        let go = |s: Shard, p: PathBuf| {
+            execute(cfg.clone(), &text, p, threads, s, a.resume, existing, None)
+        };
         let finish = |shards: &[PathBuf], out: &Path| -> Result<(), CliError> {
             let _lock = writer_lock(out, "retinue run (merging MPI ranks)")?;
             let p = merge_stores(shards, out).map_err(run_err)?;
@@ -569,7 +600,7 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         }
     }
     let threads = a.threads.unwrap_or(cfg.file.run.threads);
-    execute(cfg, &text, out, threads, shard, a.resume, None).map(|_| ())
+    execute(cfg, &text, out, threads, shard, a.resume, existing, None).map(|_| ())
 }
 
 pub fn demo(a: DemoArgs) -> Result<(), CliError> {
@@ -605,16 +636,23 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
             .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", p.display())))?;
     }
     let cfg = RunConfig::parse_str(&text, Some(&a.out)).map_err(usage)?;
-    if out.exists() {
-        std::fs::remove_file(&out)
-            .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", out.display())))?;
-    }
     println!(
         "demo: inputs in {} (demo.toml, sample.csv, bright-sample.csv, bright-tests.toml)",
         a.out.display()
     );
     println!("\n== 1. twelve faint satellites that stopped forming stars 10.6-12.9 Gyr ago ==");
-    let out = execute(cfg, &text, out, a.threads, Shard::WHOLE, true, None)?;
+    // (an earlier demo store is removed only once its lock is held: review, a demo started
+    // while another command used the store deleted it first)
+    let out = execute(
+        cfg,
+        &text,
+        out,
+        a.threads,
+        Shard::WHOLE,
+        true,
+        Existing::Remove,
+        None,
+    )?;
     // the same hosts against the second sample, as `retinue infall` would test them
     println!(
         "\n== 2. six brighter satellites that stopped forming stars 1.4-5.7 Gyr ago \

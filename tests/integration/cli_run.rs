@@ -2310,3 +2310,68 @@ fn conclusions_say_when_untested_or_unbounded() {
         "same",
     ]);
 }
+
+/// A run started with `--overwrite` over a store of another configuration and killed part-way
+/// can be resumed with `--resume --overwrite` (review: every combination of flags was refused,
+/// the old store pointing to --overwrite and the parts to --resume); the result equals an
+/// uninterrupted run.
+#[test]
+fn overwriting_run_killed_part_way_resumes() {
+    let d = tempfile::tempdir().unwrap();
+    let old = write(d.path(), "old.toml", TINY);
+    let text = TINY
+        .replace("master_seed = 11", "master_seed = 5")
+        .replace("hosts_per_cell = 3", "hosts_per_cell = 12")
+        .replace("batch_hosts = 2", "batch_hosts = 1");
+    let new = write(d.path(), "new.toml", &text);
+    let full = d.path().join("full.h5");
+    run_ok(&[
+        "run",
+        new.to_str().unwrap(),
+        "--threads",
+        "1",
+        "--out",
+        full.to_str().unwrap(),
+    ]);
+    let out = d.path().join("s.h5");
+    let o = out.to_str().unwrap();
+    run_ok(&["run", old.to_str().unwrap(), "--out", o]);
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args([
+            "run",
+            new.to_str().unwrap(),
+            "--threads",
+            "1",
+            "--overwrite",
+            "--out",
+            o,
+        ])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let parts = d.path().join(".s.h5.parts");
+    let t0 = std::time::Instant::now();
+    while std::fs::read_dir(&parts).map(|r| r.count()).unwrap_or(0) < 4
+        && t0.elapsed().as_secs() < 60
+    {
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    child.kill().unwrap();
+    child.wait().unwrap();
+    assert!(parts.exists(), "killed before its parts were written");
+    // the old store is still there until the new one is complete
+    let (code, _, err) = run_cli(&["run", new.to_str().unwrap(), "--resume", "--out", o]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--overwrite"), "{err}");
+    run_ok(&[
+        "run",
+        new.to_str().unwrap(),
+        "--resume",
+        "--overwrite",
+        "--out",
+        o,
+    ]);
+    assert_eq!(store_tables(&full), store_tables(&out));
+    assert!(!parts.exists());
+}
