@@ -2375,3 +2375,31 @@ fn overwriting_run_killed_part_way_resumes() {
     assert_eq!(store_tables(&full), store_tables(&out));
     assert!(!parts.exists());
 }
+
+/// `check` warns when a warm-dark-matter cosmology is grown with the top-hat filter (the
+/// default filter; review: the report then said the trees followed the sharp-k excursion set),
+/// and not with sharp-k.
+#[test]
+fn check_warns_about_warm_dark_matter_with_top_hat() {
+    let d = tempfile::tempdir().unwrap();
+    let warm = TINY.replace(
+        "[cosmology]\npreset = \"planck18\"",
+        "[cosmology]\npreset = \"planck18\"\nm_wdm_kev = 3.0",
+    );
+    assert_ne!(warm, TINY);
+    let p = write(d.path(), "warm.toml", &warm);
+    let (code, _, err) = run_cli(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        err.contains("warm dark matter with the top-hat filter") && err.contains("sharp-k"),
+        "{err}"
+    );
+    let sharp = write(
+        d.path(),
+        "sharp.toml",
+        &warm.replace("m_wdm_kev = 3.0", "m_wdm_kev = 3.0\nfilter = \"sharp-k\""),
+    );
+    let (code, _, err) = run_cli(&["check", sharp.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(!err.contains("top-hat filter"), "{err}");
+}
