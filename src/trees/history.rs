@@ -104,6 +104,15 @@ impl HostHistory {
                 }
             }
             let g = group[b as usize];
+            // the halo it fell into, before the merger: the main progenitor of the node it
+            // merged into (that node's own mass includes this branch and the step's smooth
+            // accretion)
+            let mp = tree.main_progenitor[into_node as usize];
+            let m_into = if mp != super::tree::NONE {
+                tree.mass_msun[mp as usize]
+            } else {
+                tree.mass_msun[into_node as usize] - tree.mass_msun[first as usize]
+            };
             h.branch_to_acc[b as usize] = h.accretions.len();
             h.accretions.push(Accretion {
                 branch: b,
@@ -112,7 +121,7 @@ impl HostHistory {
                 t_infall_gyr: tree.branch_merge_t_gyr[b as usize],
                 z_infall: tree.branch_merge_z[b as usize],
                 m_infall_msun: tree.mass_msun[first as usize],
-                m_host_at_infall_msun: tree.mass_msun[into_node as usize],
+                m_host_at_infall_msun: m_into,
                 m_peak_msun: m_peak,
                 t_peak_gyr: t_peak,
                 group: g,
