@@ -341,11 +341,28 @@ fn trees_are_valid() {
                 t.validate()
                     .unwrap_or_else(|e| panic!("{name} spec {s} tree {i}: {e}"));
                 assert!(t.n_branches() > 10);
+                // the halo each branch fell into, before the merger (the main progenitor of the
+                // node it merged into) and the merger's product
+                let into: Vec<(f64, f64)> = (0..t.n_branches() as u32)
+                    .map(|b| {
+                        if b == 0 {
+                            return (f64::NAN, f64::NAN);
+                        }
+                        let n = t.merges_into(b) as usize;
+                        let mp = t.main_progenitor[n] as usize;
+                        (t.mass_msun[mp], t.mass_msun[n])
+                    })
+                    .collect();
                 let h = HostHistory::from_tree(t);
                 assert_eq!(h.mah_msun[0], spec.m_host_msun);
                 for a in &h.accretions {
                     assert!(a.m_infall_msun >= spec.m_resolution_msun);
                     assert!(a.m_infall_msun <= a.m_host_at_infall_msun * (1.0 + 1e-12));
+                    // the mass it fell into excludes itself (review: it was the merger's
+                    // product): the partner before the merger, and with it at most the product
+                    let (before, product) = into[a.branch as usize];
+                    assert_eq!(a.m_host_at_infall_msun, before);
+                    assert!(a.m_host_at_infall_msun + a.m_infall_msun <= product * (1.0 + 1e-12));
                     // first infall into the host comes no earlier than the first infall anywhere
                     assert!(a.t_host_infall_gyr >= a.t_infall_gyr - 1e-12);
                     if a.order == 1 {
