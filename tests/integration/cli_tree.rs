@@ -7,19 +7,25 @@ use crate::common::run_cli;
 fn tree_file_schema_and_summary() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("tree.h5");
-    let (code, stdout, err) = run_cli(&[
-        "tree",
-        "--preset",
-        "planck18",
-        "--mass",
-        "1.2e12",
-        "--resolution",
-        "3e8",
-        "--seed",
-        "7",
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    // a tree of seed `seed` into `out`, with `extra` arguments
+    let tree = |seed: &str, extra: &[&str]| {
+        let mut a = vec![
+            "tree",
+            "--preset",
+            "planck18",
+            "--mass",
+            "1.2e12",
+            "--resolution",
+            "3e8",
+            "--seed",
+            seed,
+            "--out",
+            out.to_str().unwrap(),
+        ];
+        a.extend_from_slice(extra);
+        run_cli(&a)
+    };
+    let (code, stdout, err) = tree("7", &[]);
     assert_eq!(code, 0, "{err}");
     for key in [
         "nodes:",
@@ -37,37 +43,15 @@ fn tree_file_schema_and_summary() {
     assert_eq!(names, vec!["tree.h5".to_string()]);
     // an existing file is not replaced without --overwrite (review: `--out` once replaced a
     // run store and a configuration file without asking)
-    let args = |extra: &[&str]| -> Vec<String> {
-        let mut v: Vec<String> = [
-            "tree",
-            "--preset",
-            "planck18",
-            "--mass",
-            "1.2e12",
-            "--resolution",
-            "3e8",
-            "--seed",
-            "8",
-            "--out",
-        ]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
-        v.push(out.to_str().unwrap().to_string());
-        v.extend(extra.iter().map(|s| s.to_string()));
-        v
-    };
     let before = std::fs::read(&out).unwrap();
-    let a: Vec<String> = args(&[]);
-    let (code, _, err) = run_cli(&a.iter().map(|s| s.as_str()).collect::<Vec<_>>());
+    let (code, _, err) = tree("8", &[]);
     assert_eq!(code, 2, "{err}");
     assert!(
         err.contains("exists") && err.contains("--overwrite"),
         "{err}"
     );
     assert_eq!(std::fs::read(&out).unwrap(), before);
-    let a: Vec<String> = args(&["--overwrite"]);
-    let (code, _, err) = run_cli(&a.iter().map(|s| s.as_str()).collect::<Vec<_>>());
+    let (code, _, err) = tree("8", &["--overwrite"]);
     assert_eq!(code, 0, "{err}");
     assert_ne!(std::fs::read(&out).unwrap(), before);
 
