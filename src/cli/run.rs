@@ -958,7 +958,14 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     Ok(())
 }
 
-pub fn infall(a: InfallArgs) -> Result<(), CliError> {
+pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
+    // a store named through a symbolic link is written where it lives (review: the link was
+    // replaced by a copy holding the new analysis, and two names gave two locks)
+    if a.store.is_symlink() {
+        if let Ok(real) = std::fs::canonicalize(&a.store) {
+            a.store = real;
+        }
+    }
     let meta = read_meta(&a.store).map_err(usage)?;
     // the run's own sample unless one is given: `--config` overlays only the keys it gives,
     // so without `run.sample` in it the run's sample stays

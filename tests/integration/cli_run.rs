@@ -2403,3 +2403,29 @@ fn check_warns_about_warm_dark_matter_with_top_hat() {
     assert_eq!(code, 0, "{err}");
     assert!(!err.contains("top-hat filter"), "{err}");
 }
+
+/// `infall` on a store named through a symbolic link writes the store the link points to and
+/// leaves the link a link (review: the link was replaced by a full copy holding the new
+/// analysis, while the store itself kept the old ones).
+#[test]
+fn infall_through_a_symlink_writes_the_store_itself() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let data = d.path().join("data");
+    let home = d.path().join("home");
+    std::fs::create_dir_all(&data).unwrap();
+    std::fs::create_dir_all(&home).unwrap();
+    let store = data.join("s.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let link = home.join("run.h5");
+    std::os::unix::fs::symlink(&store, &link).unwrap();
+    run_ok(&["infall", link.to_str().unwrap(), "--name", "via-link"]);
+    assert!(link.is_symlink(), "the link was replaced");
+    let (names, _) = retinue::report::analyses_in(&store).unwrap();
+    assert!(names.iter().any(|n| n == "via-link"), "{names:?}");
+}
