@@ -91,15 +91,20 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
         .enumerate()
         .map(|(i, s)| (s.branch, i))
         .collect();
-    // the earliest time each halo that others fell into is seen at or above 1e10 Msun (the
-    // masses at its accretions; 0 = the host)
-    let mut above_since: std::collections::HashMap<u32, f64> = std::collections::HashMap::new();
-    for s in subs.iter().filter(|s| s.m_host_at_infall_msun >= 1e10) {
-        let t = above_since.entry(s.parent_branch).or_insert(f64::INFINITY);
-        *t = t.min(s.t_infall_gyr);
-    }
+    // pre-processing: inside a halo of at least 1e10 Msun before its group entered the host,
+    // by the infall clocks' own walk (`clocks::preprocessing_times`)
+    let pre_t = super::clocks::preprocessing_times(
+        &subs.iter().map(|s| s.branch).collect::<Vec<_>>(),
+        &subs.iter().map(|s| s.parent_branch).collect::<Vec<_>>(),
+        &subs.iter().map(|s| s.t_infall_gyr).collect::<Vec<_>>(),
+        &subs
+            .iter()
+            .map(|s| s.m_host_at_infall_msun)
+            .collect::<Vec<_>>(),
+        |_| 1e10,
+    );
     let mut faint_pos: Vec<[u64; 3]> = Vec::new();
-    for (s, g) in subs.iter().zip(gals) {
+    for (k, (s, g)) in subs.iter().zip(gals).enumerate() {
         let code = s.status as usize;
         if s.order == 1 {
             c.status_first[code] += 1;
@@ -156,28 +161,7 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             if s.order > 1 && s.t_infall_gyr < t_z6_gyr {
                 c.faint_dwarfs_in_halo_at_z6 += 1;
             }
-            // the chain of haloes it fell into before its group reached the host: one at or
-            // above 1e10 Msun when it fell in, or one that grew past it before its own infall
-            // (the masses grow, so a halo seen above it only before this infall was above it
-            // at this infall too)
-            let mut cur = s;
-            let mut pre = false;
-            while cur.order > 1 {
-                let container = row_of.get(&cur.parent_branch).map(|&p| &subs[p]);
-                let grew = container.is_some_and(|p| {
-                    above_since
-                        .get(&p.branch)
-                        .is_some_and(|&t| t <= p.t_infall_gyr)
-                });
-                if cur.m_host_at_infall_msun >= 1e10 || grew {
-                    pre = true;
-                    break;
-                }
-                match container {
-                    Some(p) => cur = p,
-                    None => break,
-                }
-            }
+            let pre = pre_t[k] < s.t_first_host_infall_gyr - 1e-9;
             c.faint_dwarfs_preprocessed += pre as usize;
         }
     }

@@ -158,72 +158,94 @@ pub fn clock_times(
             }
         };
         let rows = c.rows(h);
-        let by_branch: HashMap<u32, usize> = rows.clone().map(|i| (c.branch[i], i)).collect();
-        // whether each row's merger was into a halo at or above the threshold, and the growth
-        // of every halo that others fell into (0: the host's main branch)
-        let above: Vec<bool> = rows
-            .clone()
-            .map(|i| c.m_host_at_infall_msun[i] >= thr(c.t_infall_gyr[i]))
-            .collect();
-        let mut points: HashMap<u32, Vec<(f64, bool)>> = HashMap::new();
-        for (k, i) in rows.clone().enumerate() {
-            points
-                .entry(c.parent_branch[i])
-                .or_default()
-                .push((c.t_infall_gyr[i], above[k]));
-        }
-        let growth: HashMap<u32, Growth> = points
-            .into_iter()
-            .map(|(b, mut p)| {
-                p.sort_by(|x, y| x.0.total_cmp(&y.0));
-                let mut next_above = vec![usize::MAX; p.len()];
-                let mut next = usize::MAX;
-                for k in (0..p.len()).rev() {
-                    if p[k].1 {
-                        next = k;
-                    }
-                    next_above[k] = next;
-                }
-                let t = p.into_iter().map(|x| x.0).collect();
-                (b, Growth { t, next_above })
-            })
-            .collect();
-        let first = rows.start;
-        for i in rows {
-            let mut cur = i;
-            for _ in 0..64 {
-                let t = c.t_infall_gyr[cur];
-                if above[cur - first] {
-                    pre[i] = t;
-                    break;
-                }
-                let container = c.parent_branch[cur];
-                let next = if container == 0 {
-                    None
-                } else {
-                    by_branch.get(&container).copied()
-                };
-                // until the container's own infall (the host: no end)
-                let t_leave = next.map_or(f64::INFINITY, |p| c.t_infall_gyr[p]);
-                if let Some(tc) = growth
-                    .get(&container)
-                    .and_then(|g| g.first_above(t, t_leave))
-                {
-                    pre[i] = tc;
-                    break;
-                }
-                match next {
-                    Some(p) => cur = p,
-                    None => break,
-                }
-            }
-        }
+        let host_pre = preprocessing_times(
+            &c.branch[rows.clone()],
+            &c.parent_branch[rows.clone()],
+            &c.t_infall_gyr[rows.clone()],
+            &c.m_host_at_infall_msun[rows.clone()],
+            thr,
+        );
+        pre[rows].copy_from_slice(&host_pre);
     }
     ClockTimes {
         first: c.t_first_host_infall_gyr.clone(),
         last: c.t_last_host_infall_gyr.clone(),
         pre,
     }
+}
+
+/// The pre-processing time of every subhalo of one host (the rule of `clock_times`), from its
+/// columns: branch, the branch it fell into (0: the host's main branch), infall time (Gyr) and
+/// the mass of the halo it fell into then (Msun); `thr(t)` is the threshold halo mass at time t.
+/// The census (`census::census`) uses the same walk.
+pub(crate) fn preprocessing_times(
+    branch: &[u32],
+    parent_branch: &[u32],
+    t_infall_gyr: &[f64],
+    m_into_msun: &[f64],
+    thr: impl Fn(f64) -> f64,
+) -> Vec<f64> {
+    let n = branch.len();
+    let by_branch: HashMap<u32, usize> = (0..n).map(|i| (branch[i], i)).collect();
+    // whether each row's merger was into a halo at or above the threshold, and the growth of
+    // every halo that others fell into (0: the host's main branch)
+    let above: Vec<bool> = (0..n)
+        .map(|i| m_into_msun[i] >= thr(t_infall_gyr[i]))
+        .collect();
+    let mut points: HashMap<u32, Vec<(f64, bool)>> = HashMap::new();
+    for i in 0..n {
+        points
+            .entry(parent_branch[i])
+            .or_default()
+            .push((t_infall_gyr[i], above[i]));
+    }
+    let growth: HashMap<u32, Growth> = points
+        .into_iter()
+        .map(|(b, mut p)| {
+            p.sort_by(|x, y| x.0.total_cmp(&y.0));
+            let mut next_above = vec![usize::MAX; p.len()];
+            let mut next = usize::MAX;
+            for k in (0..p.len()).rev() {
+                if p[k].1 {
+                    next = k;
+                }
+                next_above[k] = next;
+            }
+            let t = p.into_iter().map(|x| x.0).collect();
+            (b, Growth { t, next_above })
+        })
+        .collect();
+    let mut pre = vec![f64::NAN; n];
+    for (i, slot) in pre.iter_mut().enumerate() {
+        let mut cur = i;
+        for _ in 0..64 {
+            let t = t_infall_gyr[cur];
+            if above[cur] {
+                *slot = t;
+                break;
+            }
+            let container = parent_branch[cur];
+            let next = if container == 0 {
+                None
+            } else {
+                by_branch.get(&container).copied()
+            };
+            // until the container's own infall (the host: no end)
+            let t_leave = next.map_or(f64::INFINITY, |p| t_infall_gyr[p]);
+            if let Some(tc) = growth
+                .get(&container)
+                .and_then(|g| g.first_above(t, t_leave))
+            {
+                *slot = tc;
+                break;
+            }
+            match next {
+                Some(p) => cur = p,
+                None => break,
+            }
+        }
+    }
+    pre
 }
 
 #[cfg(test)]
