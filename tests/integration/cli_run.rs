@@ -159,6 +159,30 @@ fn store_schema_units_and_provenance() {
     assert_eq!(names, vec!["s-report", "s.h5", "tiny.toml"]);
 }
 
+/// Kill a running `retinue run` (SIGKILL on Unix) once `n` part files are in `parts` (or
+/// after 60 s).
+fn kill_once_parts_are_written(mut child: std::process::Child, parts: &Path, n: usize) {
+    let t0 = std::time::Instant::now();
+    loop {
+        let k = std::fs::read_dir(parts)
+            .map(|r| {
+                r.filter(|e| {
+                    e.as_ref()
+                        .map(|e| e.file_name().to_string_lossy().starts_with("part-"))
+                        .unwrap_or(false)
+                })
+                .count()
+            })
+            .unwrap_or(0);
+        if k >= n || t0.elapsed().as_secs() > 60 {
+            break;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    child.kill().unwrap();
+    child.wait().unwrap();
+}
+
 /// Kill a run part-way (SIGKILL), resume it, and get the tables of an uninterrupted run.
 #[test]
 fn killed_run_resumes_to_identical_tables() {
@@ -171,32 +195,14 @@ fn killed_run_resumes_to_identical_tables() {
     let full = d.path().join("full.h5");
     run_ok(&["run", c, "--threads", "1", "--out", full.to_str().unwrap()]);
     let out = d.path().join("killed.h5");
-    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
         .args(["run", c, "--threads", "1", "--out", out.to_str().unwrap()])
         .stdout(std::process::Stdio::null())
         .stderr(std::process::Stdio::null())
         .spawn()
         .unwrap();
     let parts = d.path().join(".killed.h5.parts");
-    let t0 = std::time::Instant::now();
-    loop {
-        let n = std::fs::read_dir(&parts)
-            .map(|r| {
-                r.filter(|e| {
-                    e.as_ref()
-                        .map(|e| e.file_name().to_string_lossy().starts_with("part-"))
-                        .unwrap_or(false)
-                })
-                .count()
-            })
-            .unwrap_or(0);
-        if n >= 3 || t0.elapsed().as_secs() > 60 {
-            break;
-        }
-        std::thread::sleep(std::time::Duration::from_millis(20));
-    }
-    child.kill().unwrap(); // SIGKILL on Unix
-    child.wait().unwrap();
+    kill_once_parts_are_written(child, &parts, 3);
     assert!(
         !out.exists(),
         "a killed run must not leave a finished-looking store"
@@ -2336,7 +2342,7 @@ fn overwriting_run_killed_part_way_resumes() {
     let out = d.path().join("s.h5");
     let o = out.to_str().unwrap();
     run_ok(&["run", old.to_str().unwrap(), "--out", o]);
-    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
         .args([
             "run",
             new.to_str().unwrap(),
@@ -2351,14 +2357,7 @@ fn overwriting_run_killed_part_way_resumes() {
         .spawn()
         .unwrap();
     let parts = d.path().join(".s.h5.parts");
-    let t0 = std::time::Instant::now();
-    while std::fs::read_dir(&parts).map(|r| r.count()).unwrap_or(0) < 4
-        && t0.elapsed().as_secs() < 60
-    {
-        std::thread::sleep(std::time::Duration::from_millis(20));
-    }
-    child.kill().unwrap();
-    child.wait().unwrap();
+    kill_once_parts_are_written(child, &parts, 2);
     assert!(parts.exists(), "killed before its parts were written");
     // the old store is still there until the new one is complete
     let (code, _, err) = run_cli(&["run", new.to_str().unwrap(), "--resume", "--out", o]);
