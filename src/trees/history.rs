@@ -186,24 +186,34 @@ impl HostHistory {
 
 /// Mass (Msun) of branch b at redshift z: its nodes walked back in time from its first (the
 /// one that merges), interpolated linearly in ln M against z between the two nodes around z;
-/// 0 if the branch does not reach back to z (it was below the resolution then), its first
-/// node's mass if z is after that node.
+/// its first node's mass if z is after that node. Beyond its earliest node the branch has
+/// one more sample, the oldest state the sampler saw above the resolution
+/// (`MergerTree::branch_oldest_*`, between output times); z between the two is interpolated
+/// the same way. 0 if the branch does not reach back to z (it was below the resolution then).
 pub fn branch_mass_at_z(tree: &MergerTree, b: u32, z: f64) -> f64 {
+    let lerp = |z0: f64, m0: f64, z1: f64, m1: f64| {
+        let f = (z - z0) / (z1 - z0);
+        (m0.ln() * (1.0 - f) + m1.ln() * f).exp()
+    };
     let mut prev: Option<usize> = None;
     for n in tree.branch_nodes(b) {
         let n = n as usize;
         if tree.z[n] >= z {
             return match prev {
                 None => tree.mass_msun[n],
-                Some(p) => {
-                    let f = (z - tree.z[p]) / (tree.z[n] - tree.z[p]);
-                    (tree.mass_msun[p].ln() * (1.0 - f) + tree.mass_msun[n].ln() * f).exp()
-                }
+                Some(p) => lerp(tree.z[p], tree.mass_msun[p], tree.z[n], tree.mass_msun[n]),
             };
         }
         prev = Some(n);
     }
-    0.0
+    let (zo, mo) = (
+        tree.branch_oldest_z[b as usize],
+        tree.branch_oldest_msun[b as usize],
+    );
+    match prev {
+        Some(p) if zo >= z && zo > tree.z[p] => lerp(tree.z[p], tree.mass_msun[p], zo, mo),
+        _ => 0.0,
+    }
 }
 
 /// Time (and redshift) at which the main branch, walked back from the root, first drops

@@ -182,6 +182,8 @@ impl TreeBuilder {
         tree.branch_first.push(root);
         tree.branch_merge_w.push(f64::NAN);
         tree.branch_order.push(0);
+        tree.branch_oldest_w.push(w_final);
+        tree.branch_oldest_msun.push(spec.m_host_msun);
         self.stack.clear();
         self.stack.push(Pending {
             mass: spec.m_host_msun,
@@ -196,12 +198,15 @@ impl TreeBuilder {
             let mut last_node = b.node;
             // smooth accretion accumulated since last_node (going back in time)
             let mut smooth = 0.0;
+            // the oldest state seen above the resolution
+            let mut oldest = (b.w, b.mass);
             loop {
                 if b.mass < m_res {
                     // below resolution: the rest of the branch is smooth accretion
                     smooth += b.mass;
                     break;
                 }
+                oldest = (b.w, b.mass);
                 if k_out >= tree.output_w.len() || b.w >= w_max {
                     // reached z_max: the remaining mass is unresolved history
                     smooth += b.mass;
@@ -324,6 +329,8 @@ impl TreeBuilder {
                             tree.branch_merge_w.push(0.5 * (w2 + w_new));
                             let order = tree.branch_order[b.branch as usize] + 1;
                             tree.branch_order.push(order);
+                            tree.branch_oldest_w.push(w_new);
+                            tree.branch_oldest_msun.push(m_sec);
                             self.stack.push(Pending {
                                 mass: m_sec,
                                 w: w_new,
@@ -362,6 +369,8 @@ impl TreeBuilder {
                 }
             }
             tree.smooth_msun[last_node as usize] += smooth;
+            tree.branch_oldest_w[b.branch as usize] = oldest.0;
+            tree.branch_oldest_msun[b.branch as usize] = oldest.1;
         }
 
         // times and redshifts
@@ -383,6 +392,9 @@ impl TreeBuilder {
                 tree.branch_merge_z.push(z);
                 tree.branch_merge_t_gyr.push(cosmo.age_gyr(z));
             }
+        }
+        for &w in &tree.branch_oldest_w {
+            tree.branch_oldest_z.push(clock.z(w));
         }
         for &w in &tree.output_w {
             let z = clock.z(w);

@@ -36,6 +36,14 @@ pub struct MergerTree {
     pub branch_merge_z: Vec<f64>,
     /// Order: 0 for the main branch, 1 + order of the branch it merges into.
     pub branch_order: Vec<u16>,
+    /// The oldest state of each branch that the sampler saw above the resolution, as w,
+    /// redshift and mass (Msun): its last step before it fell below the resolution (or its
+    /// state at z_max). Between output times a branch has no nodes, so this can lie beyond
+    /// (earlier than) its earliest node: its mass at a redshift there is interpolated between
+    /// the two (`history::branch_mass_at_z`).
+    pub branch_oldest_w: Vec<f64>,
+    pub branch_oldest_z: Vec<f64>,
+    pub branch_oldest_msun: Vec<f64>,
     /// Mass resolution the tree was built with, Msun.
     pub m_resolution_msun: f64,
     /// Output times (w, increasing = toward the past).
@@ -63,6 +71,9 @@ impl MergerTree {
         self.branch_merge_t_gyr.clear();
         self.branch_merge_z.clear();
         self.branch_order.clear();
+        self.branch_oldest_w.clear();
+        self.branch_oldest_z.clear();
+        self.branch_oldest_msun.clear();
         self.output_w.clear();
         self.output_z.clear();
         self.output_t_gyr.clear();

@@ -239,7 +239,7 @@ fn val_jvdb16_universal_model_vs_astropy() {
 /// * the same faint satellites that were already inside another halo at z > 6 (their infall
 ///   into their first parent): below 0.1 (the target; its source, a zoom-in study
 ///   recalled there, is not named here), with the peak-mass occupation for the same reason;
-///   measured 0.052, and 0.095 with the default occupation (printed, not asserted: its margin
+///   measured 0.052, and 0.094 with the default occupation (printed, not asserted: its margin
 ///   below 0.1 is within the sampling error);
 /// * satellites sharing their exact position with another: below 1% (the check: each
 ///   satellite of a satellite has its own orbit);
