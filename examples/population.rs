@@ -5,7 +5,7 @@
 //! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO] [nodisc]
 //! [KEY=VALUE ...]` (default 32 hosts and the default tolerance; `nodisc`: a host without disc
 //! and bulge; `-` keeps a default). KEY=VALUE changes one option: `occupation=erf|all|reionization`,
-//! `resolution=MSUN`, `disc_tide_ratio=X`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `pericentre_cut=1` (the fixed
+//! `resolution=MSUN`, `disc_tide_ratio=X`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `smhm_epoch=peak|today`, `pericentre_cut=1` (the fixed
 //! 20 kpc cut on top).
 
 use rayon::prelude::*;
@@ -128,6 +128,9 @@ fn main() {
             "v_filter" => galaxies.reionization_vmax_kms = x(),
             "t_vir" => galaxies.reionization_t_vir_k = x(),
             "pericentre_cut" => cut = x() > 0.0,
+            "smhm_epoch" => {
+                galaxies.smhm_epoch = serde_json::from_str(&format!("\"{v}\"")).expect("smhm_epoch")
+            }
             "infall_orbits" => {
                 orbits.infall_orbits =
                     serde_json::from_str(&format!("\"{v}\"")).expect("infall_orbits")

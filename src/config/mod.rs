@@ -241,9 +241,30 @@ fn key_value_of(lines: &[String], i: usize) -> Option<(String, String)> {
     }
     // the value without a trailing comment (a '#' inside a quoted string is kept)
     let mut value = v.trim();
-    if !value.starts_with('"') && !value.starts_with('\'') {
-        if let Some((before, _)) = value.split_once('#') {
-            value = before.trim_end();
+    match value.chars().next() {
+        Some(q @ ('"' | '\'')) if !value.starts_with("\"\"\"") && !value.starts_with("'''") => {
+            // the end of the quoted string (a basic string escapes with a backslash)
+            let mut end = None;
+            let mut chars = value.char_indices().skip(1);
+            while let Some((k, c)) = chars.next() {
+                if c == '\\' && q == '"' {
+                    chars.next();
+                } else if c == q {
+                    end = Some(k + 1);
+                    break;
+                }
+            }
+            if let Some(end) = end {
+                if value[end..].trim_start().starts_with('#') {
+                    value = &value[..end];
+                }
+            }
+        }
+        Some('"' | '\'') => {}
+        _ => {
+            if let Some((before, _)) = value.split_once('#') {
+                value = before.trim_end();
+            }
         }
     }
     let mut table = String::new();
@@ -399,6 +420,23 @@ mod tests {
         let p = problems("[[cosmology]]\npreset = \"planck18\"\n[[cosmology]]\npreset = \"wmap9\"\nsigma_8 = 0.8\n");
         assert_eq!(p.len(), 1, "{p:?}");
         assert!(p[0].starts_with("cosmology[1].sigma_8 = 0.8"), "{p:?}");
+    }
+
+    #[test]
+    fn a_quoted_value_is_named_without_its_comment() {
+        let p = problems(
+            "[galaxies]\nsmhm_epoch = \"now\"   # peak | today\nsmhm = 'x#y' # a comment\n",
+        );
+        assert!(
+            p.iter()
+                .any(|x| x.starts_with("galaxies.smhm_epoch = \"now\" is not allowed")),
+            "{p:?}"
+        );
+        assert!(
+            p.iter()
+                .all(|x| !x.contains("peak | today") && !x.contains("a comment")),
+            "{p:?}"
+        );
     }
 
     #[test]

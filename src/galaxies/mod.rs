@@ -49,6 +49,19 @@ impl SmhmModel {
     }
 }
 
+/// At which redshift the stellar-mass–halo-mass relation is read for a halo's peak mass.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+pub enum SmhmEpoch {
+    /// At the redshift of the peak mass (capped at the relation's highest fitted redshift,
+    /// `SmhmModel::z_max`): the stellar mass a central of that mass had then, kept since.
+    #[default]
+    #[serde(rename = "peak")]
+    Peak,
+    /// At z = 0 for every halo: the present-day relation applied to the peak mass.
+    #[serde(rename = "today")]
+    Today,
+}
+
 /// Which haloes host a galaxy.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
 pub enum Occupation {
@@ -72,6 +85,8 @@ pub enum Occupation {
 #[serde(deny_unknown_fields, default)]
 pub struct GalaxyOptions {
     pub smhm: SmhmModel,
+    /// The redshift the relation is read at: the peak's (default) or today's.
+    pub smhm_epoch: SmhmEpoch,
     /// Below this peak mass (Msun, virial) the relation turns into a power law.
     pub dwarf_pivot_msun: f64,
     /// Asymptotic logarithmic slope d log M* / d log M_peak of the dwarf power law.
@@ -109,6 +124,7 @@ impl Default for GalaxyOptions {
     fn default() -> Self {
         Self {
             smhm: SmhmModel::Behroozi13,
+            smhm_epoch: SmhmEpoch::Peak,
             dwarf_pivot_msun: 1e11,
             dwarf_slope: 1.9,
             dwarf_transition_dex: 0.5,
@@ -259,6 +275,16 @@ impl GalaxyOptions {
             / (2.0 * h);
         let (s, w) = (self.dwarf_slope, self.dwarf_transition_dex);
         yp + s * (x - xp) + (sp - s) * w * (((x - xp) / w).exp() - 1.0)
+    }
+
+    /// Median log10 M* of a halo whose peak mass `m_peak_msun` was reached at `z_peak`, at
+    /// the redshift `smhm_epoch` chooses.
+    pub fn log10_mstar_of_peak(&self, cosmo: &Cosmology, m_peak_msun: f64, z_peak: f64) -> f64 {
+        let z = match self.smhm_epoch {
+            SmhmEpoch::Peak => z_peak,
+            SmhmEpoch::Today => 0.0,
+        };
+        self.log10_mstar_median(cosmo, m_peak_msun, z)
     }
 
     /// Scatter (dex) at a virial peak mass.

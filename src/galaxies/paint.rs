@@ -1,7 +1,8 @@
 //! Painting galaxies on subhaloes: stellar mass at peak mass and the time of the peak
-//! (convention: the relation evaluated at the redshift of the peak, as Behroozi et al. 2013
-//! define it for satellites), log-normal scatter from the host's galaxy stream, occupation,
-//! V-band magnitude and observability today.
+//! (by default the relation evaluated at the redshift of the peak, as Behroozi et al. 2013
+//! define it for satellites; `smhm_epoch = "today"` reads the z = 0 relation instead),
+//! log-normal scatter from the host's galaxy stream, occupation, V-band magnitude and
+//! observability today.
 
 use rand::Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -48,7 +49,7 @@ pub fn paint<R: Rng>(
                 s.vmax_infall_kms,
                 m_cool,
             );
-            let log_ms = options.log10_mstar_median(cosmo, s.m_peak_msun, z_peak)
+            let log_ms = options.log10_mstar_of_peak(cosmo, s.m_peak_msun, z_peak)
                 + options.scatter_at(s.m_peak_msun) * g;
             let mstar = if occupied { 10f64.powf(log_ms) } else { 0.0 };
             let m_v = if occupied {

@@ -432,6 +432,10 @@ fn malformed_configs_are_reported() {
             "smhm",
         ),
         (
+            base.replace("[tests]", "[galaxies]\nsmhm_epoch = \"now\"\n\n[tests]"),
+            "galaxies.smhm_epoch = \"now\" is not allowed: unknown variant `now`, expected `peak` or `today`",
+        ),
+        (
             base.replace("[tests]", "[galaxies]\ndwarf_slope = 9\n\n[tests]"),
             "galaxies.dwarf_slope",
         ),

@@ -290,6 +290,31 @@ fn smhm_evaluated_within_its_redshift_range() {
     }
 }
 
+/// `smhm_epoch`: "peak" reads the relation at the peak's redshift (capped as above), "today"
+/// at z = 0 whatever the peak's redshift. Behroozi et al. 2013 for a peak mass of 1e12 Msun
+/// (above the dwarf pivot, so the relation itself): log M* = 10.428 at z = 0 and 10.337 at
+/// z = 2 (physics reference sheet, section 10, computed check values; 3 decimals).
+#[test]
+fn smhm_epoch_chooses_the_redshift_of_the_relation() {
+    use retinue::galaxies::{GalaxyOptions, SmhmEpoch};
+    let lt = planck18();
+    let co = lt.cosmology();
+    let peak = GalaxyOptions::default();
+    assert_eq!(peak.smhm_epoch, SmhmEpoch::Peak);
+    let today = GalaxyOptions {
+        smhm_epoch: SmhmEpoch::Today,
+        ..GalaxyOptions::default()
+    };
+    assert!((peak.log10_mstar_of_peak(co, 1e12, 2.0) - 10.337).abs() < 1.5e-3);
+    assert!((today.log10_mstar_of_peak(co, 1e12, 2.0) - 10.428).abs() < 1.5e-3);
+    for z in [0.0, 1.0, 7.0, 12.0] {
+        assert_eq!(
+            today.log10_mstar_of_peak(co, 1e8, z),
+            peak.log10_mstar_of_peak(co, 1e8, 0.0)
+        );
+    }
+}
+
 /// The resolution warning: with the erf occupation (M50 = 10^7.5 Msun, width 0.25
 /// dex) a tree resolution of 10^7.5 Msun leaves haloes unresolved where half host a galaxy
 /// (warned, naming the key and the faint limit); at 5e6 Msun, below the 2% point
