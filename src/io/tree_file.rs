@@ -224,6 +224,20 @@ fn write_inner(
         "",
         "redshift of t_host_infall_gyr",
     )?;
+    write_column(
+        &g,
+        "z_oldest_resolved",
+        &col_f64(&|x| tree.branch_oldest_z[x.branch as usize]),
+        "",
+        "redshift of the branch's oldest state above the resolution (can lie beyond its earliest node)",
+    )?;
+    write_column(
+        &g,
+        "m_oldest_resolved_msun",
+        &col_f64(&|x| tree.branch_oldest_msun[x.branch as usize]),
+        "Msun",
+        "mass of the branch at z_oldest_resolved",
+    )?;
     f.flush()?;
     Ok(())
 }

@@ -84,11 +84,23 @@ fn tree_file_schema_and_summary() {
         "group",
         "t_host_infall_gyr",
         "z_host_infall",
+        "z_oldest_resolved",
+        "m_oldest_resolved_msun",
     ] {
         let ds = acc
             .dataset(col)
             .unwrap_or_else(|_| panic!("missing accretions/{col}"));
         retinue::io::h5::get_str_attr(&ds, "units").unwrap();
+    }
+    // each branch's oldest resolved state: no later than its merger, above the resolution
+    // and no heavier than its peak (a branch only loses mass going back)
+    let col = |c: &str| -> Vec<f64> { acc.dataset(c).unwrap().read_raw().unwrap() };
+    let res: f64 = f.attr("resolution_msun").unwrap().read_scalar().unwrap();
+    let (zo, mo) = (col("z_oldest_resolved"), col("m_oldest_resolved_msun"));
+    let (zi, mp) = (col("z_infall"), col("m_peak_msun"));
+    assert!(!zo.is_empty());
+    for k in 0..zo.len() {
+        assert!(zo[k] > zi[k] && mo[k] >= res && mo[k] <= mp[k], "row {k}");
     }
     let mb = f.group("main_branch").unwrap();
     let mah: Vec<f64> = mb.dataset("mass_msun").unwrap().read_raw().unwrap();
