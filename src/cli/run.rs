@@ -379,6 +379,10 @@ fn execute(
         if shard.count > 1 {
             return Ok(out);
         }
+        if let Some(why) = analysis::tests_unsupported(&grid) {
+            eprintln!("note: {why}");
+            return Ok(out);
+        }
         pool.install(|| {
             analyse(
                 &grid,
@@ -412,6 +416,11 @@ fn execute(
     );
     if shard.count > 1 {
         eprintln!("shard written to {}; when every shard is done: retinue merge <shards...> --out FILE, then retinue infall FILE", path.display());
+        return Ok(path);
+    }
+    if let Some(why) = analysis::tests_unsupported(&grid) {
+        eprintln!("note: {why}");
+        println!("store:   {}", path.display());
         return Ok(path);
     }
     pool.install(|| {
@@ -682,6 +691,9 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
         eprintln!("warning: {w}");
     }
     if let Some(w) = cfg.size_warning() {
+        eprintln!("warning: {w}");
+    }
+    if let Some(w) = analysis::tests_unsupported(&grid) {
         eprintln!("warning: {w}");
     }
     println!(

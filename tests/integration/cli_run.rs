@@ -2432,3 +2432,38 @@ fn infall_through_a_symlink_writes_the_store_itself() {
     let (names, _) = retinue::report::analyses_in(&store).unwrap();
     assert!(names.iter().any(|n| n == "via-link"), "{names:?}");
 }
+
+/// Hosts synthesised to another redshift (`host.z_final` > 0) are stored but not tested: the
+/// tests read the satellites as observed today (infall clocks from the present age, field
+/// counts at z = 0; review: they ran on such hosts and gave numbers several times off).
+/// `check` warns, `run` writes the store and says why there is no report, `infall` refuses.
+#[test]
+fn hosts_at_another_redshift_are_stored_but_not_tested() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(
+        d.path(),
+        "high.toml",
+        &TINY
+            .replace("[host]", "[host]\nz_final = 0.5")
+            .replace("hosts_per_cell = 3", "hosts_per_cell = 1"),
+    );
+    let c = cfg.to_str().unwrap();
+    let (code, _, err) = run_cli(&["check", c]);
+    assert_eq!(code, 0, "{err}");
+    assert!(err.contains("host.z_final = 0.5"), "{err}");
+    let store = d.path().join("high.h5");
+    let s = store.to_str().unwrap();
+    let (code, out, err) = run_cli(&["run", c, "--out", s]);
+    assert_eq!(code, 0, "{err}");
+    assert!(err.contains("not tested"), "{err}");
+    assert!(!out.contains("report:"), "{out}");
+    let mut names: Vec<String> = std::fs::read_dir(d.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(names, vec!["high.h5", "high.toml"]);
+    let (code, _, err) = run_cli(&["infall", s]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("host.z_final = 0.5") && err.contains("not tested"), "{err}");
+}
