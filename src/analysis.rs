@@ -464,10 +464,16 @@ pub fn resolution_warning(grid: &Grid) -> Option<String> {
         .galaxies
         .resolution_warning(grid.theories[0].cosmology(), cfg.file.trees.resolution_msun);
     let wdm = wdm_filter_warning(grid);
-    match (res, wdm) {
-        (Some(a), Some(b)) => Some(format!("{a}. Also: {b}")),
-        (a, b) => a.or(b),
-    }
+    let window = grid.backsplash_floor_raised_from_msun.map(|was| {
+        format!(
+            "tests.backsplash.m_peak_msun starts at {was:e} Msun, below trees.resolution_msun = \
+             {:e} Msun: the backsplash test counts haloes from the resolution up (backsplash \
+             haloes below it are not in the trees, while the field count would include them)",
+            cfg.file.trees.resolution_msun
+        )
+    });
+    let all: Vec<String> = [res, wdm, window].into_iter().flatten().collect();
+    (!all.is_empty()).then(|| all.join(". Also: "))
 }
 
 /// Warm-dark-matter cosmologies grown with the top-hat filter (the default filter): their

@@ -73,6 +73,11 @@ impl Shard {
 pub struct Grid {
     pub config: RunConfig,
     pub theories: Vec<LinearTheory>,
+    /// The configured lower edge of the backsplash test's peak-mass window when it lay below
+    /// the trees' resolution (Msun; None: it did not). The window then starts at the
+    /// resolution: backsplash haloes below it are not in the trees, while the field count
+    /// would include them (`analysis::resolution_warning` says so).
+    pub backsplash_floor_raised_from_msun: Option<f64>,
 }
 
 impl Grid {
@@ -85,7 +90,32 @@ impl Grid {
                 LinearTheory::new(c, o.clone()).map_err(|e| RunError::Input(e.to_string()))
             })
             .collect::<Result<Vec<_>, _>>()?;
-        let grid = Self { config, theories };
+        let mut config = config;
+        let res = config.file.trees.resolution_msun;
+        let window = &mut config.file.tests.backsplash.m_peak_msun;
+        if window[1] <= res {
+            return Err(RunError::Input(
+                InvalidValue::new(
+                    "tests.backsplash.m_peak_msun",
+                    format!("[{:e}, {:e}]", window[0], window[1]),
+                    format!(
+                        "its upper edge must lie above trees.resolution_msun = {res:e} Msun \
+                         (the trees hold no halo below it)"
+                    ),
+                )
+                .to_string(),
+            ));
+        }
+        let backsplash_floor_raised_from_msun = (window[0] < res).then(|| {
+            let was = window[0];
+            window[0] = res;
+            was
+        });
+        let grid = Self {
+            config,
+            theories,
+            backsplash_floor_raised_from_msun,
+        };
         grid.check_masses()?;
         grid.check_pairs()?;
         Ok(grid)

@@ -1727,8 +1727,8 @@ pub fn write_figures(
         save(dir, "radial_distribution", &rf, &mut out)?;
     }
 
-    // backsplash by shell
-    if !res.backsplash_shells.is_empty() {
+    // backsplash by shell (not for a grid of pairs only: the test leaves pair hosts out)
+    if !res.backsplash_shells.is_empty() && res.backsplash_fraction.hosts > 0 {
         save(
             dir,
             "backsplash_shells",

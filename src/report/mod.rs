@@ -705,18 +705,21 @@ fn comparison(
         } else {
             String::new()
         };
+        let bs = &r.backsplash_fraction;
+        let bs = if bs.hosts == 0 {
+            "– (hosts of pairs: see Pairs)".to_string()
+        } else {
+            format!("{:.3} [{:.3}, {:.3}]", bs.mean, bs.boot16, bs.boot84)
+        };
         let _ = writeln!(
             m,
-            "| {cl} | {ml} | {} | {} | {} | {} | {} | {} | {zmed} |{tau} {:.3} [{:.3}, {:.3}] |",
+            "| {cl} | {ml} | {} | {} | {} | {} | {} | {} | {zmed} |{tau} {bs} |",
             c.n_hosts,
             median_count(&r.candidates),
             first.and_then(|cv| at_z(cv, 1.0)).map_or(0, |s| s.hosts),
             p(1.0),
             p(2.0),
             p(3.0),
-            r.backsplash_fraction.mean,
-            r.backsplash_fraction.boot16,
-            r.backsplash_fraction.boot84
         );
     }
     let _ = writeln!(m);
@@ -965,21 +968,33 @@ pub fn markdown(
         FieldModel::Correlation => "the mean density of haloes (Sheth & Tormen 1999) weighted by their linear correlation with the host, 1 + b_host b_field ξ_lin(r) (Tinker et al. 2010 bias). Linear theory undercounts the field near the host, so the fractions are upper limits, the more so in the inner shells".to_string(),
         FieldModel::Region => format!("the Mo & White 1996 mass function of a region of {} Msun within {} Mpc, spread uniformly over it (an estimate, not a prediction of the infall-region profile)", short_number(b.region_mass_msun), b.region_radius_mpc),
     };
-    let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {}–{} Msun at {lo}–{hi} R_vir today (distinct haloes), the fraction that were once inside the host: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from {field_text}.\n",
+    let tested = res.backsplash_fraction.hosts;
+    let whose = if res.pairs.is_some() {
+        format!(
+            " Isolated hosts only ({tested} here): the field model knows one host, so the hosts of pairs are left out of this test and counted in the pair region (Pairs)."
+        )
+    } else {
+        String::new()
+    };
+    if tested == 0 {
+        let _ = writeln!(m, "\n## Backsplash\n\nNot computed: every host here belongs to a pair, and this test's field model knows one host only; the pair-region test (Pairs) counts the field dwarfs around pairs.");
+    } else {
+        let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {}–{} Msun at {lo}–{hi} R_vir today (distinct haloes), the fraction that were once inside the host: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from {field_text}.{whose}\n",
         short_number(b.m_peak_msun[0]), short_number(b.m_peak_msun[1]), res.backsplash_fraction.mean, res.backsplash_fraction.p16, res.backsplash_fraction.p84, res.backsplash_count_mean, res.field_count_expected);
-    let _ = writeln!(m, "| shell (R_vir) | fraction once inside | hosts 16–84% | backsplash per host | field expected per host |\n|---|---|---|---|---|");
-    for sh in &res.backsplash_shells {
-        let _ = writeln!(
-            m,
-            "| {}–{} | {:.3} | {:.3}–{:.3} | {:.1} | {:.1} |",
-            sh.lo_over_rvir,
-            sh.hi_over_rvir,
-            sh.fraction.mean,
-            sh.fraction.p16,
-            sh.fraction.p84,
-            sh.count_mean,
-            sh.field_mean
-        );
+        let _ = writeln!(m, "| shell (R_vir) | fraction once inside | hosts 16–84% | backsplash per host | field expected per host |\n|---|---|---|---|---|");
+        for sh in &res.backsplash_shells {
+            let _ = writeln!(
+                m,
+                "| {}–{} | {:.3} | {:.3}–{:.3} | {:.1} | {:.1} |",
+                sh.lo_over_rvir,
+                sh.hi_over_rvir,
+                sh.fraction.mean,
+                sh.fraction.p16,
+                sh.fraction.p84,
+                sh.count_mean,
+                sh.field_mean
+            );
+        }
     }
     if let Some(p) = &res.pairs {
         pairs_section(&mut m, p, labels, o, cells.len() > 1);

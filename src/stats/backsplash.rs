@@ -121,14 +121,14 @@ impl BacksplashOptions {
         let e = &self.shells_over_rvir;
         let ok = e.len() >= 2
             && e.len() <= MAX_SHELL_EDGES
-            && e.iter().all(|x| x.is_finite() && *x > 0.0 && *x <= 100.0)
+            && e.iter().all(|x| x.is_finite() && *x >= 1.0 && *x <= 100.0)
             && e.windows(2).all(|w| w[0] < w[1]);
         if !ok {
             out.push(InvalidValue::new(
                 format!("{prefix}shells_over_rvir"),
                 format!("{e:?}"),
                 format!(
-                    "must be 2 to {MAX_SHELL_EDGES} increasing shell edges in (0, 100] R_vir, e.g. [1.0, 1.5, 2.0, 3.0]"
+                    "must be 2 to {MAX_SHELL_EDGES} increasing shell edges in [1, 100] R_vir (inside R_vir no halo is a backsplash halo), e.g. [1.0, 1.5, 2.0, 3.0]"
                 ),
             ));
         }

@@ -295,6 +295,24 @@ pub struct ShellResult {
 }
 
 /// n / (n + f), NaN when both are zero.
+/// Mean over hosts of a per-host row's sum (None) or of its entry k, skipping the hosts whose
+/// rows are NaN (not tested); NaN when none is left.
+fn mean_of_rows(rows: &[Vec<f64>], k: Option<usize>) -> f64 {
+    let vals: Vec<f64> = rows
+        .iter()
+        .map(|r| match k {
+            Some(k) => r[k],
+            None => r.iter().sum(),
+        })
+        .filter(|v| !v.is_nan())
+        .collect();
+    if vals.is_empty() {
+        f64::NAN
+    } else {
+        vals.iter().sum::<f64>() / vals.len() as f64
+    }
+}
+
 fn ratio(n: f64, f: f64) -> f64 {
     if n + f > 0.0 {
         n / (n + f)
@@ -481,9 +499,8 @@ impl<'a> Merger<'a> {
             mm.4 = mm.2.len();
         }
         m.backsplash_fraction = spread(&m.backsplash_per_host, options.bootstrap, &mut boot_rng);
-        let nh = m.backsplash_counts.len().max(1) as f64;
-        m.backsplash_count_mean = m.backsplash_counts.iter().flatten().sum::<f64>() / nh;
-        m.field_count_expected = m.field_per_host.iter().flatten().sum::<f64>() / nh;
+        m.backsplash_count_mean = mean_of_rows(&m.backsplash_counts, None);
+        m.field_count_expected = mean_of_rows(&m.field_per_host, None);
         let edges = &options.backsplash.shells_over_rvir;
         m.backsplash_shells = (0..options.backsplash.n_shells())
             .map(|k| {
@@ -497,8 +514,8 @@ impl<'a> Merger<'a> {
                     lo_over_rvir: edges[k],
                     hi_over_rvir: edges[k + 1],
                     fraction: spread(&per_host, options.bootstrap, &mut boot_rng),
-                    count_mean: m.backsplash_counts.iter().map(|n| n[k]).sum::<f64>() / nh,
-                    field_mean: m.field_per_host.iter().map(|f| f[k]).sum::<f64>() / nh,
+                    count_mean: mean_of_rows(&m.backsplash_counts, Some(k)),
+                    field_mean: mean_of_rows(&m.field_per_host, Some(k)),
                 }
             })
             .collect();
@@ -795,21 +812,28 @@ pub fn run_tests_raw(
         }
     }
 
-    // 5. backsplash, per shell and over the whole range
+    // 5. backsplash, per shell and over the whole range, for isolated hosts: the field model
+    // knows one host only (a host of a pair has the partner's haloes and correlation around
+    // it; the pair-region test, `stats::pairs`, counts those). A host of a pair gets NaN rows,
+    // which the summaries skip.
     let b = &options.backsplash;
-    // one field counter for each cosmology that has hosts here (its correlation table and
-    // mean density); per host only the host's bias and the shell integrals
+    let isolated = |h: usize| !super::pairs::is_pair_host(cat, h);
+    // one field counter for each cosmology that has isolated hosts here (its correlation
+    // table and mean density); per host only the host's bias and the shell integrals
     let counters: Vec<Option<FieldCounter>> = theories
         .iter()
         .enumerate()
         .map(|(k, lt)| {
             (0..n_hosts)
-                .any(|h| ci(h) == k)
+                .any(|h| ci(h) == k && isolated(h))
                 .then(|| FieldCounter::new(b, lt))
         })
         .collect();
     let field_per_host: Vec<Vec<f64>> = (0..n_hosts)
         .map(|h| {
+            if !isolated(h) {
+                return vec![f64::NAN; b.n_shells()];
+            }
             counters[ci(h)]
                 .as_ref()
                 .expect("counter of a used cosmology")
@@ -822,7 +846,9 @@ pub fn run_tests_raw(
         .collect();
     let counts: Vec<Vec<f64>> = (0..n_hosts)
         .map(|h| {
-            if cat.host_backsplash_count.len() == n_hosts {
+            if !isolated(h) {
+                vec![f64::NAN; b.n_shells()]
+            } else if cat.host_backsplash_count.len() == n_hosts {
                 cat.host_backsplash_count[h].clone()
             } else {
                 let mut n = vec![0.0; b.n_shells()];
@@ -840,7 +866,6 @@ pub fn run_tests_raw(
         .zip(&field_per_host)
         .map(|(n, f)| ratio(n.iter().sum(), f.iter().sum()))
         .collect();
-    let nh = n_hosts.max(1) as f64;
 
     // 6. dependence on the grid cell
     let mut cells: Vec<(u16, u16)> = (0..n_hosts)
@@ -893,8 +918,8 @@ pub fn run_tests_raw(
         quench,
         matches,
         backsplash_fraction: Spread::NAN,
-        backsplash_count_mean: counts.iter().flatten().sum::<f64>() / nh,
-        field_count_expected: field_per_host.iter().flatten().sum::<f64>() / nh,
+        backsplash_count_mean: mean_of_rows(&counts, None),
+        field_count_expected: mean_of_rows(&field_per_host, None),
         backsplash_shells: Vec::new(),
         infall_lookbacks,
         dependence: Vec::new(),

@@ -432,6 +432,14 @@ fn malformed_configs_are_reported() {
             "smhm",
         ),
         (
+            format!("{base}\n[tests.backsplash]\nshells_over_rvir = [0.5, 1.0, 2.0]\n"),
+            "tests.backsplash.shells_over_rvir = [0.5, 1.0, 2.0] is not allowed: must be 2 to 21 increasing shell edges in [1, 100] R_vir",
+        ),
+        (
+            format!("{base}\n[tests.backsplash]\nm_peak_msun = [1e8, 5e8]\n"),
+            "tests.backsplash.m_peak_msun = [1e8, 5e8] is not allowed: its upper edge must lie above trees.resolution_msun = 1e9 Msun",
+        ),
+        (
             base.replace("[tests]", "[galaxies]\nsmhm_epoch = \"now\"\n\n[tests]"),
             "galaxies.smhm_epoch = \"now\" is not allowed: unknown variant `now`, expected `peak` or `today`",
         ),
@@ -2465,5 +2473,8 @@ fn hosts_at_another_redshift_are_stored_but_not_tested() {
     assert_eq!(names, vec!["high.h5", "high.toml"]);
     let (code, _, err) = run_cli(&["infall", s]);
     assert_eq!(code, 2, "{err}");
-    assert!(err.contains("host.z_final = 0.5") && err.contains("not tested"), "{err}");
+    assert!(
+        err.contains("host.z_final = 0.5") && err.contains("not tested"),
+        "{err}"
+    );
 }
