@@ -566,7 +566,10 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
     if a.shard.is_none() {
         // under mpirun: one shard per rank; one thread per rank unless told otherwise
         let threads = a.threads.unwrap_or(1);
+        // each rank's shard file replaces an existing file only as the output would: with
+        // --overwrite (or, with --resume, a store of this run)
         let go = |s: Shard, p: PathBuf| {
+            guard_output(&p, &inputs, a.overwrite, a.resume)?;
             execute(cfg.clone(), &text, p, threads, s, a.resume, existing, None)
         };
         let finish = |shards: &[PathBuf], out: &Path| -> Result<(), CliError> {
