@@ -997,6 +997,19 @@ pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
     let _lock = writer_lock(&a.store, "retinue infall")?;
+    // the copy an infall writes its analysis into, left by one that was killed (SIGKILL: no
+    // handler could remove it) is stale now that the lock is held: removed, so that nothing
+    // that looks like a store stays beside it
+    {
+        let stale = retinue::io::AtomicPath::new(&a.store);
+        if stale.temp_path.exists() {
+            eprintln!(
+                "note: removing {}, left by an interrupted command",
+                stale.temp_path.display()
+            );
+            stale.discard();
+        }
+    }
     // each analysis under its own name: an earlier one is replaced only when asked
     let name = match &a.name {
         Some(n) => n.clone(),

@@ -2498,3 +2498,73 @@ fn infall_through_a_symlink_writes_the_store_itself() {
     let (names, _) = retinue::report::analyses_in(&store).unwrap();
     assert!(names.iter().any(|n| n == "via-link"), "{names:?}");
 }
+
+/// `infall` writes its analysis into a hidden copy of the store (`.NAME.partial`) renamed into
+/// place when complete. Interrupted there (SIGINT, as by Ctrl-C) it removes the copy and
+/// leaves the store as it was; a copy left by a killed one (SIGKILL, which nothing can catch)
+/// is removed by the next `infall` on the store, even one that then stops on an error
+/// (review: both copies stayed, each a full-size file that looks like a store).
+#[test]
+fn interrupted_infall_leaves_no_partial_copy() {
+    use std::os::unix::process::ExitStatusExt;
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
+    // padding, so that the copy takes long enough to be caught: 128 MB of zeros
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.new_dataset_builder()
+            .with_data(&vec![0u8; 128 << 20])
+            .create("padding")
+            .unwrap();
+    }
+    let before = std::fs::read(&store).unwrap();
+    let partial = d.path().join(".s.h5.partial");
+    // start `infall`, send `signal` as soon as its copy appears, and wait for its end
+    let interrupt = |signal: i32| -> std::process::ExitStatus {
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+            .args(["infall", s, "--name", "late"])
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .spawn()
+            .unwrap();
+        let t0 = std::time::Instant::now();
+        while !partial.exists() {
+            if let Some(st) = child.try_wait().unwrap() {
+                panic!("infall ended ({st}) before its copy was seen");
+            }
+            assert!(t0.elapsed().as_secs() < 60, "no copy after 60 s");
+            std::thread::sleep(std::time::Duration::from_micros(200));
+        }
+        // SAFETY: a signal to our own child, which has not been waited for yet
+        assert_eq!(unsafe { libc::kill(child.id() as i32, signal) }, 0);
+        child.wait().unwrap()
+    };
+    let st = interrupt(libc::SIGINT);
+    assert_eq!(st.signal(), Some(libc::SIGINT), "{st}");
+    assert!(!partial.exists(), "Ctrl-C left {}", partial.display());
+    assert!(
+        std::fs::read(&store).unwrap() == before,
+        "the store changed"
+    );
+    let st = interrupt(libc::SIGKILL);
+    assert_eq!(st.signal(), Some(libc::SIGKILL), "{st}");
+    assert!(partial.exists());
+    // the next infall removes it once it holds the store's lock, before anything else (here
+    // it then refuses the name of the run's own analysis)
+    let (code, _, err) = run_cli(&["infall", s, "--name", "run"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("left by an interrupted command"), "{err}");
+    assert!(!partial.exists(), "a killed infall's copy stayed");
+    assert!(
+        std::fs::read(&store).unwrap() == before,
+        "the store changed"
+    );
+    // and the store is usable: an infall completes
+    run_ok(&["infall", s, "--name", "late"]);
+    let (names, _) = retinue::report::analyses_in(&store).unwrap();
+    assert!(names.iter().any(|n| n == "late"), "{names:?}");
+    assert!(!partial.exists());
+}
