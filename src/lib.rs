@@ -48,3 +48,8 @@ pub mod trees;
 pub use cosmology::{Cosmology, CosmologyParams};
 pub use error::{Error, Result};
 pub use linear::{LinearOptions, LinearTheory};
+
+/// Fingerprint of this build: 16 hex digits of an FNV-1a hash of every file under `src/` and of
+/// `Cargo.lock` (`build.rs`). Stores record it (`build_fingerprint`); `--resume` and `merge`
+/// refuse parts or shards of another build, which the crate version alone would not tell apart.
+pub const BUILD_FINGERPRINT: &str = env!("RETINUE_BUILD_FINGERPRINT");

@@ -418,6 +418,7 @@ impl Grid {
             generator: GENERATOR.to_string(),
             crate_version: env!("CARGO_PKG_VERSION").to_string(),
             build_info: format!("{} {}", std::env::consts::OS, std::env::consts::ARCH),
+            build_fingerprint: crate::BUILD_FINGERPRINT.to_string(),
             n_hosts_total: self.n_hosts(),
             shard: (shard.index, shard.count),
             config_dir: self
@@ -464,8 +465,39 @@ pub fn synthesize_to_store(
         )));
     }
     std::fs::create_dir_all(&dir).map_err(|e| IoError::fs(&dir, e))?;
-    // a resumed run must have the same configuration
     let stamp = dir.join("config.toml");
+    // a resumed run must be of the same build: one store would otherwise hold hosts
+    // synthesised by different code (the crate version does not change between builds);
+    // parts without this stamp were written by a build from before it was recorded
+    let build_stamp = dir.join("build");
+    let this_build = crate::BUILD_FINGERPRINT;
+    let old_build = if build_stamp.exists() {
+        let old =
+            std::fs::read_to_string(&build_stamp).map_err(|e| IoError::fs(&build_stamp, e))?;
+        Some(old.trim().to_string())
+    } else if stamp.exists() {
+        Some(String::new())
+    } else {
+        None
+    };
+    match old_build {
+        Some(old) if old != this_build => {
+            return Err(RunError::Input(format!(
+                "--resume: the parts in {} were written by build {} of retinue, and this is \
+                 build {this_build}: a store must not mix hosts synthesised by different code; \
+                 finish the run with the build that started it, or clear the parts with \
+                 `rm -r {}` to start again with this build",
+                dir.display(),
+                fingerprint_name(&old),
+                dir.display()
+            )));
+        }
+        Some(_) => {}
+        None => {
+            std::fs::write(&build_stamp, this_build).map_err(|e| IoError::fs(&build_stamp, e))?
+        }
+    }
+    // a resumed run must have the same configuration
     if stamp.exists() {
         let old = std::fs::read_to_string(&stamp).map_err(|e| IoError::fs(&stamp, e))?;
         if old != config_text {
@@ -787,6 +819,21 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
             )));
         }
     }
+    // ... and be synthesised by the same build (the crate version does not change between
+    // development builds)
+    for (m, p) in &metas {
+        if m.build_fingerprint != first.build_fingerprint {
+            return Err(RunError::Input(format!(
+                "{} was written by build {} of retinue and {} by build {}: a merged store must \
+                 not mix hosts synthesised by different code; re-run the shards of one build \
+                 with the other (`retinue run CONFIG --shard K/N`), then merge again",
+                p.display(),
+                fingerprint_name(&m.build_fingerprint),
+                metas[0].1.display(),
+                fingerprint_name(&first.build_fingerprint)
+            )));
+        }
+    }
     metas.sort_by_key(|(m, _)| m.shard.0);
     for w in metas.windows(2) {
         if w[0].0.shard == w[1].0.shard {
@@ -833,6 +880,16 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     let shards: Vec<PathBuf> = metas.iter().map(|(_, p)| p.clone()).collect();
     join_stores(&atomic, &meta, &shards)?;
     Ok(atomic.commit()?)
+}
+
+/// A build fingerprint for messages: stores and parts from before fingerprints were
+/// recorded have none.
+fn fingerprint_name(f: &str) -> String {
+    if f.is_empty() {
+        "(not recorded: an older build)".into()
+    } else {
+        f.to_string()
+    }
 }
 
 /// Append stores (parts or shards, in the given order) into the temporary file of `atomic`.

@@ -575,7 +575,10 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
     if a.shard.is_none() {
         // under mpirun: one shard per rank; one thread per rank unless told otherwise
         let threads = a.threads.unwrap_or(1);
+        // each rank's shard file replaces an existing file only as the output would: with
+        // --overwrite (or, with --resume, a store of this run)
         let go = |s: Shard, p: PathBuf| {
+            guard_output(&p, &inputs, a.overwrite, a.resume)?;
             execute(cfg.clone(), &text, p, threads, s, a.resume, existing, None)
         };
         let finish = |shards: &[PathBuf], out: &Path| -> Result<(), CliError> {
@@ -1006,6 +1009,19 @@ pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
     let _lock = writer_lock(&a.store, "retinue infall")?;
+    // the copy an infall writes its analysis into, left by one that was killed (SIGKILL: no
+    // handler could remove it) is stale now that the lock is held: removed, so that nothing
+    // that looks like a store stays beside it
+    {
+        let stale = retinue::io::AtomicPath::new(&a.store);
+        if stale.temp_path.exists() {
+            eprintln!(
+                "note: removing {}, left by an interrupted command",
+                stale.temp_path.display()
+            );
+            stale.discard();
+        }
+    }
     // each analysis under its own name: an earlier one is replaced only when asked
     let name = match &a.name {
         Some(n) => n.clone(),

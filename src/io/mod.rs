@@ -7,6 +7,7 @@ pub mod store;
 pub mod tree_file;
 
 use std::path::{Path, PathBuf};
+use std::sync::Mutex;
 
 use thiserror::Error;
 
@@ -184,8 +185,27 @@ pub fn sync_parent_dir(path: &Path) {
     }
 }
 
+/// The temporary files of the `AtomicPath`s alive now: what an interrupted command removes
+/// (`remove_temporary_files`).
+static TEMPORARY_FILES: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+fn temporary_files() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
+    TEMPORARY_FILES.lock().unwrap_or_else(|p| p.into_inner())
+}
+
+/// Remove the temporary file of every `AtomicPath` alive now, for a command interrupted by a
+/// signal (the command line calls it from its SIGINT/SIGTERM handler, then ends): nothing
+/// that looks like a store (`.NAME.partial`, a copy of the store being re-tested) stays.
+/// Finished files and a run's part files are kept.
+pub fn remove_temporary_files() {
+    for p in temporary_files().iter() {
+        let _ = std::fs::remove_file(p);
+    }
+}
+
 /// A file written under a temporary name and renamed into place only when complete, so an
-/// interrupted write never leaves a file that looks finished.
+/// interrupted write never leaves a file that looks finished: a failed write removes it
+/// (`Drop`), and so does an interrupted command (`remove_temporary_files`).
 #[derive(Debug)]
 pub struct AtomicPath {
     pub final_path: PathBuf,
@@ -199,6 +219,7 @@ impl AtomicPath {
             .map(|n| n.to_string_lossy().into_owned())
             .unwrap_or_else(|| "out".into());
         let temp_path = final_path.with_file_name(format!(".{name}.partial"));
+        temporary_files().push(temp_path.clone());
         Self {
             final_path: final_path.to_path_buf(),
             temp_path,
@@ -229,6 +250,10 @@ impl Drop for AtomicPath {
     fn drop(&mut self) {
         if self.temp_path.exists() {
             let _ = std::fs::remove_file(&self.temp_path);
+        }
+        let mut list = temporary_files();
+        if let Some(k) = list.iter().position(|p| *p == self.temp_path) {
+            list.swap_remove(k);
         }
     }
 }

@@ -27,6 +27,9 @@ pub struct StoreMeta {
     pub generator: String,
     pub crate_version: String,
     pub build_info: String,
+    /// `crate::BUILD_FINGERPRINT` of the build that wrote the store; empty if not recorded
+    /// (stores written before it was).
+    pub build_fingerprint: String,
     /// Total hosts of the whole run (all shards).
     pub n_hosts_total: u64,
     /// Shard k of n (0 of 1 for an unsplit run).
@@ -612,6 +615,7 @@ impl StoreWriter {
         set_str_attr(&f, "generator", &meta.generator)?;
         set_str_attr(&f, "crate_version", &meta.crate_version)?;
         set_str_attr(&f, "build_info", &meta.build_info)?;
+        set_str_attr(&f, "build_fingerprint", &meta.build_fingerprint)?;
         set_num_attr(&f, "n_hosts_total", meta.n_hosts_total)?;
         set_num_attr(&f, "shard_index", meta.shard.0)?;
         set_num_attr(&f, "shard_count", meta.shard.1)?;
@@ -844,6 +848,8 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
         generator: get_str_attr(&f, "generator").map_err(e)?,
         crate_version: get_str_attr(&f, "crate_version").map_err(e)?,
         build_info: get_str_attr(&f, "build_info").map_err(e)?,
+        // absent from stores written before it was recorded
+        build_fingerprint: get_str_attr(&f, "build_fingerprint").unwrap_or_default(),
         n_hosts_total: f
             .attr("n_hosts_total")
             .and_then(|a| a.read_scalar())

@@ -102,6 +102,43 @@ fn mpi_two_ranks_match_a_single_process() {
     assert_eq!(store_tables(&single), store_tables(&f));
 }
 
+/// A rank's shard file replaces an existing file only as the output would (review: the MPI
+/// path skipped the overwrite guard and replaced a user's file of that name, then removed it
+/// after the merge): without --overwrite the rank fails naming the file, which is left as it
+/// was; with --overwrite the run completes.
+#[test]
+fn mpi_shard_files_replace_nothing_without_overwrite() {
+    let Ok(bin) = std::env::var("RETINUE_MPI_BIN") else {
+        eprintln!(
+            "skipped: RETINUE_MPI_BIN is not set (scripts/test sets it when MPI is installed)"
+        );
+        return;
+    };
+    let d = tempfile::tempdir().unwrap();
+    let cfg = tiny(d.path());
+    let m = d.path().join("mpi.h5");
+    let theirs = d.path().join("mpi.shard-2-of-2.h5");
+    std::fs::write(&theirs, "someone else's notes\n").unwrap();
+    let args = ["run", cfg.to_str().unwrap(), "--out", m.to_str().unwrap()];
+    let o = mpirun(2, &bin, &args, &[]);
+    assert!(!o.status.success());
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains(&theirs.display().to_string())
+            && err.contains("is not a retinue store")
+            && err.contains("--overwrite"),
+        "{err}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(&theirs).unwrap(),
+        "someone else's notes\n"
+    );
+    assert!(!m.exists());
+    let o = mpirun(2, &bin, &[&args[..], &["--overwrite"]].concat(), &[]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(m.exists() && !theirs.exists());
+}
+
 /// Without MPI: a failed host is reported with its index and seed, the shard's finished parts
 /// survive, and `--resume` completes it to the same tables.
 #[test]

@@ -87,6 +87,38 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
     ]);
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("shard 1/3 is given twice"), "{err}");
+    // a shard synthesised by another build of the code (or by one from before builds were
+    // recorded) is refused, naming both builds: the merged store would mix hosts of both
+    for (other, named) in [
+        (Some("0123456789abcdef"), "0123456789abcdef"),
+        (None, "not recorded"),
+    ] {
+        let s2x = d.path().join("s2x.h5");
+        std::fs::copy(d.path().join("s2.h5"), &s2x).unwrap();
+        {
+            let f = hdf5::File::open_rw(&s2x).unwrap();
+            f.delete_attr("build_fingerprint").unwrap();
+            if let Some(b) = other {
+                retinue::io::h5::set_str_attr(&f, "build_fingerprint", b).unwrap();
+            }
+        }
+        let (code, _, err) = run_cli(&[
+            "merge",
+            &o("s1.h5"),
+            s2x.to_str().unwrap(),
+            &o("s3.h5"),
+            "--out",
+            &o("bad.h5"),
+        ]);
+        assert_eq!(code, 2, "{err}");
+        assert!(
+            err.contains(named)
+                && err.contains(retinue::BUILD_FINGERPRINT)
+                && err.contains("re-run the shards"),
+            "{err}"
+        );
+        assert!(!d.path().join("bad.h5").exists());
+    }
     // the tests run on the merged store without re-synthesising
     let out = run_ok(&["infall", &o("merged.h5"), "--name", "check"]);
     assert!(out.contains("P(all 3 fell in before z)"), "{out}");
@@ -131,6 +163,13 @@ fn store_schema_units_and_provenance() {
     assert!(cfg_text.contains("hosts_per_cell = 3"));
     let seed: u64 = f.attr("master_seed").unwrap().read_scalar().unwrap();
     assert_eq!(seed, 11);
+    // the build that synthesised the hosts: 16 hex digits, as `retinue::BUILD_FINGERPRINT`
+    let build = retinue::io::h5::get_str_attr(&f, "build_fingerprint").unwrap();
+    assert_eq!(build, retinue::BUILD_FINGERPRINT);
+    assert!(
+        build.len() == 16 && build.chars().all(|c| c.is_ascii_hexdigit()),
+        "{build}"
+    );
     assert!(f.group("analysis/run").unwrap().group("all_of_n").is_ok());
     let n: Vec<u64> = f.dataset("hosts/host_index").unwrap().read_raw().unwrap();
     assert_eq!(n, vec![0, 1, 2, 3, 4, 5]);
@@ -247,6 +286,33 @@ fn killed_run_resumes_to_identical_tables() {
             && err.contains(&format!("rm -r {}", parts.display())),
         "{err}"
     );
+    // ... as is resuming with another build of the code (the crate version alone would not
+    // tell development builds apart), or parts of a build that did not record its own
+    let stamp = parts.join("build");
+    assert_eq!(
+        std::fs::read_to_string(&stamp).unwrap(),
+        retinue::BUILD_FINGERPRINT
+    );
+    for (other, named) in [
+        (Some("0123456789abcdef"), "0123456789abcdef"),
+        (None, "not recorded"),
+    ] {
+        match other {
+            Some(b) => std::fs::write(&stamp, b).unwrap(),
+            None => std::fs::remove_file(&stamp).unwrap(),
+        }
+        let (code, _, err) = run_cli(&["run", c, "--resume", "--out", out.to_str().unwrap()]);
+        assert_eq!(code, 2, "{err}");
+        assert!(
+            err.contains(named)
+                && err.contains(retinue::BUILD_FINGERPRINT)
+                && err.contains("with the build that started it")
+                && err.contains(&format!("rm -r {}", parts.display())),
+            "{err}"
+        );
+        assert!(!out.exists());
+    }
+    std::fs::write(&stamp, retinue::BUILD_FINGERPRINT).unwrap();
     // a part emptied by a system crash (renamed into place before its data reached the disk;
     // review: every later resume failed on it) is made again
     let first_part = std::fs::read_dir(&parts)
@@ -2477,4 +2543,74 @@ fn hosts_at_another_redshift_are_stored_but_not_tested() {
         err.contains("host.z_final = 0.5") && err.contains("not tested"),
         "{err}"
     );
+}
+
+/// `infall` writes its analysis into a hidden copy of the store (`.NAME.partial`) renamed into
+/// place when complete. Interrupted there (SIGINT, as by Ctrl-C) it removes the copy and
+/// leaves the store as it was; a copy left by a killed one (SIGKILL, which nothing can catch)
+/// is removed by the next `infall` on the store, even one that then stops on an error
+/// (review: both copies stayed, each a full-size file that looks like a store).
+#[test]
+fn interrupted_infall_leaves_no_partial_copy() {
+    use std::os::unix::process::ExitStatusExt;
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
+    // padding, so that the copy takes long enough to be caught: 128 MB of zeros
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.new_dataset_builder()
+            .with_data(&vec![0u8; 128 << 20])
+            .create("padding")
+            .unwrap();
+    }
+    let before = std::fs::read(&store).unwrap();
+    let partial = d.path().join(".s.h5.partial");
+    // start `infall`, send `signal` as soon as its copy appears, and wait for its end
+    let interrupt = |signal: i32| -> std::process::ExitStatus {
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+            .args(["infall", s, "--name", "late"])
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .spawn()
+            .unwrap();
+        let t0 = std::time::Instant::now();
+        while !partial.exists() {
+            if let Some(st) = child.try_wait().unwrap() {
+                panic!("infall ended ({st}) before its copy was seen");
+            }
+            assert!(t0.elapsed().as_secs() < 60, "no copy after 60 s");
+            std::thread::sleep(std::time::Duration::from_micros(200));
+        }
+        // SAFETY: a signal to our own child, which has not been waited for yet
+        assert_eq!(unsafe { libc::kill(child.id() as i32, signal) }, 0);
+        child.wait().unwrap()
+    };
+    let st = interrupt(libc::SIGINT);
+    assert_eq!(st.signal(), Some(libc::SIGINT), "{st}");
+    assert!(!partial.exists(), "Ctrl-C left {}", partial.display());
+    assert!(
+        std::fs::read(&store).unwrap() == before,
+        "the store changed"
+    );
+    let st = interrupt(libc::SIGKILL);
+    assert_eq!(st.signal(), Some(libc::SIGKILL), "{st}");
+    assert!(partial.exists());
+    // the next infall removes it once it holds the store's lock, before anything else (here
+    // it then refuses the name of the run's own analysis)
+    let (code, _, err) = run_cli(&["infall", s, "--name", "run"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("left by an interrupted command"), "{err}");
+    assert!(!partial.exists(), "a killed infall's copy stayed");
+    assert!(
+        std::fs::read(&store).unwrap() == before,
+        "the store changed"
+    );
+    // and the store is usable: an infall completes
+    run_ok(&["infall", s, "--name", "late"]);
+    let (names, _) = retinue::report::analyses_in(&store).unwrap();
+    assert!(names.iter().any(|n| n == "late"), "{names:?}");
+    assert!(!partial.exists());
 }
