@@ -138,7 +138,7 @@ fn val_jeans_dispersion() {
 }
 
 /// Orbits in the static potentials against galpy's dop853_c at 1e-14 (self-checked by the
-/// script to 4e-10). Our DOPRI5 at rtol 1e-11: positions and velocities at t = 1, 2, 4, 8 Gyr
+/// script to 4e-10). Our Nyström integrator (the production one for test particles) at rtol 1e-11: positions and velocities at t = 1, 2, 4, 8 Gyr
 /// within 1e-6 of the orbit's size (|r| or |v|), pericentre and apocentre radii within 1e-6
 /// relative, energy conserved to 1e-8 over 10 Gyr.
 #[test]
