@@ -36,6 +36,17 @@ pub(crate) fn hermite_extremum(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f6
     })
 }
 
+/// When no extremum is found inside a step whose radial velocity changes sign (v_r exactly 0
+/// at an end, rounding): the end that is the extremum sought, as (s, r) with s = 0 or 1: the
+/// smaller radius for a pericentre (`vr0` < 0), the larger for an apocentre.
+fn extremum_at_an_end(r0: f64, r1: f64, vr0: f64) -> (f64, f64) {
+    if (vr0 < 0.0) == (r0 < r1) {
+        (0.0, r0)
+    } else {
+        (1.0, r1)
+    }
+}
+
 /// The cubic's extremum itself.
 fn hermite_extremum_raw(r0: f64, r1: f64, d0: f64, d1: f64) -> Option<(f64, f64)> {
     // r(s) = a s^3 + b s^2 + c s + d
@@ -172,11 +183,8 @@ impl Tracker {
         let vr0 = radial_velocity(y0);
         let vr1 = radial_velocity(y1);
         if (vr0 < 0.0 && vr1 >= 0.0) || (vr0 > 0.0 && vr1 <= 0.0) {
-            let (s, r) = hermite_extremum(r0, r1, vr0 * h, vr1 * h).unwrap_or(if r0 < r1 {
-                (0.0, r0)
-            } else {
-                (1.0, r1)
-            });
+            let (s, r) = hermite_extremum(r0, r1, vr0 * h, vr1 * h)
+                .unwrap_or_else(|| extremum_at_an_end(r0, r1, vr0));
             let t = t0 + s * h;
             if vr0 < 0.0 {
                 self.n_peri += 1;
@@ -235,6 +243,16 @@ mod tests {
 
     /// A subhalo just outside R_vir, still moving outward, while R_vir grows past it: a
     /// crossing (the parity of the count stays right), not an infall.
+    /// The fallback end: a pericentre takes the smaller radius, an apocentre the larger
+    /// (review 2026-12-04: an apocentre took the smaller one).
+    #[test]
+    fn extremum_at_an_end_picks_the_right_end() {
+        assert_eq!(extremum_at_an_end(10.0, 12.0, -1.0), (0.0, 10.0));
+        assert_eq!(extremum_at_an_end(12.0, 10.0, -1.0), (1.0, 10.0));
+        assert_eq!(extremum_at_an_end(10.0, 12.0, 1.0), (1.0, 12.0));
+        assert_eq!(extremum_at_an_end(12.0, 10.0, 1.0), (0.0, 12.0));
+    }
+
     #[test]
     fn growing_virial_radius_is_not_an_infall() {
         let mut tr = Tracker::at_infall(1.0);
