@@ -547,7 +547,7 @@ fn satellite_of_satellite_frames_match_a_direct_integration() {
 /// this range). At z = 3 the published estimates spread further: Villalobos et al. 2013
 /// (abstract) find that such fits under-predict merging times at high redshift, where haloes
 /// are less concentrated, and multiply them by (1+z)^0.44 (1.84 at z = 3); the band runs
-/// from the fit / 1.5 to the corrected fit x 1.5. Measured (our time / the fit): 0.96-1.25 at z = 0; 1.14-2.2 at z = 3, longest for
+/// from the fit / 1.5 to the corrected fit x 1.5. Measured (our time / the fit): 0.94-1.19 at z = 0; 1.10-2.15 at z = 3, longest for
 /// the most radial orbits.
 #[test]
 fn val_merging_times_vs_the_z0_fit() {
