@@ -608,6 +608,19 @@ impl Rkn6 {
 mod tests {
     use super::*;
 
+    /// The Nyström integrator held at steps of h: tolerances so loose that every step is
+    /// accepted, and h its smallest and largest step.
+    fn fixed_step_nystrom(h: f64) -> Rkn6 {
+        let loose = Tolerances {
+            rtol: 1e3,
+            atol_pos_kpc: 1e3,
+            atol_vel_kpc_gyr: 1e3,
+        };
+        let mut d = Rkn6::new(loose, h, h);
+        d.ctl.h_min = h;
+        d
+    }
+
     /// Harmonic oscillator x'' = -x: exact solution cos t; error controlled by rtol.
     #[test]
     fn harmonic_oscillator() {
@@ -675,9 +688,7 @@ mod tests {
             atol_vel_kpc_gyr: 1e3,
         };
         let err_nystrom = |n: usize| {
-            let h = t_end / n as f64;
-            let mut d = Rkn6::new(loose, h, h);
-            d.ctl.h_min = h;
+            let mut d = fixed_step_nystrom(t_end / n as f64);
             let mut f = |_t: f64, x: &Vec3| accel(x);
             let (mut t, mut y) = (0.0, y0);
             while t < t_end {
@@ -722,15 +733,8 @@ mod tests {
         let t_end: f64 = 10.0;
         let exact =
             (-g * t_end / 2.0).exp() * ((w * t_end).cos() + g / (2.0 * w) * (w * t_end).sin());
-        let loose = Tolerances {
-            rtol: 1e3,
-            atol_pos_kpc: 1e3,
-            atol_vel_kpc_gyr: 1e3,
-        };
         let err = |n: usize| {
-            let h = t_end / n as f64;
-            let mut d = Rkn6::new(loose, h, h);
-            d.ctl.h_min = h;
+            let mut d = fixed_step_nystrom(t_end / n as f64);
             let mut f = |_t: f64, x: &Vec3| [-x[0], -x[1], -x[2]];
             let mut kick = |_t: f64, y: &State| [-g * y[3], -g * y[4], -g * y[5]];
             let (mut t, mut y) = (0.0, [1.0, 0.0, 0.0, 0.0, 0.0, 0.0]);

@@ -50,13 +50,22 @@ fn single_and_mpi(d: &Path, cfg: &Path, ranks: u32, bin: &str) -> (PathBuf, Path
     (single, m)
 }
 
-/// `mpirun -n 2` gives the same subhalo and host tables, bit for bit, as one process.
-#[test]
-fn mpi_two_ranks_match_a_single_process() {
-    let Ok(bin) = std::env::var("RETINUE_MPI_BIN") else {
+/// The MPI build of the binary (`RETINUE_MPI_BIN`, set by scripts/test when MPI is
+/// installed); None, with a note, when it is not set (the MPI tests are then skipped).
+fn mpi_bin() -> Option<String> {
+    let bin = std::env::var("RETINUE_MPI_BIN").ok();
+    if bin.is_none() {
         eprintln!(
             "skipped: RETINUE_MPI_BIN is not set (scripts/test sets it when MPI is installed)"
         );
+    }
+    bin
+}
+
+/// `mpirun -n 2` gives the same subhalo and host tables, bit for bit, as one process.
+#[test]
+fn mpi_two_ranks_match_a_single_process() {
+    let Some(bin) = mpi_bin() else {
         return;
     };
     let d = tempfile::tempdir().unwrap();
@@ -108,10 +117,7 @@ fn mpi_two_ranks_match_a_single_process() {
 /// was; with --overwrite the run completes.
 #[test]
 fn mpi_shard_files_replace_nothing_without_overwrite() {
-    let Ok(bin) = std::env::var("RETINUE_MPI_BIN") else {
-        eprintln!(
-            "skipped: RETINUE_MPI_BIN is not set (scripts/test sets it when MPI is installed)"
-        );
+    let Some(bin) = mpi_bin() else {
         return;
     };
     let d = tempfile::tempdir().unwrap();
@@ -171,10 +177,7 @@ fn failed_shard_is_named_and_recovers() {
 /// different ranks, as with `--shard`) gives the same tables, bit for bit, as one process.
 #[test]
 fn mpi_ranks_keep_pairs_identical() {
-    let Ok(bin) = std::env::var("RETINUE_MPI_BIN") else {
-        eprintln!(
-            "skipped: RETINUE_MPI_BIN is not set (scripts/test sets it when MPI is installed)"
-        );
+    let Some(bin) = mpi_bin() else {
         return;
     };
     let d = tempfile::tempdir().unwrap();
