@@ -914,6 +914,54 @@ mod tests {
     use super::*;
     use crate::halo::nfw::mu;
 
+    /// The host's tidal denominator Omega^2 - d^2 Phi/dr^2 (King 1962) against its closed
+    /// form for an NFW halo alone: with Omega = |x x v| / r^2 and d^2 Phi/dr^2 =
+    /// -2 G M(<r)/r^3 + 4 pi G rho(r), it is Omega^2 + 2 G M/r^3 - 4 pi G rho; on a circular
+    /// orbit, G M/r^3 (3 - dln M/dln r), the physics reference sheet's bracket (sec. 9). M and
+    /// rho are written out here from the NFW formulas (M = M_s [ln(1 + x) - x/(1 + x)],
+    /// rho = M_s / (4 pi r_s^3 x (1 + x)^2)), not taken from the crate. Agreement to 1e-9
+    /// (round-off); a radial velocity adds nothing.
+    #[test]
+    fn host_tide_matches_the_nfw_closed_form() {
+        let snap = crate::host::HostSnapshot {
+            m_s: 2e11,
+            r_s: 25.0,
+            r_vir: 300.0,
+            m_vir: 1.2e12,
+            m_disc: 0.0,
+            a_disc: 3.0,
+            b_disc: 0.3,
+            m_bulge: 0.0,
+            a_bulge: 0.5,
+            de_k: 0.0,
+        };
+        let pi = std::f64::consts::PI;
+        for r in [2.0, 10.0, 25.0, 80.0, 250.0] {
+            let x = r / snap.r_s;
+            let m = snap.m_s * ((1.0 + x).ln() - x / (1.0 + x));
+            let rho = snap.m_s / (4.0 * pi * snap.r_s.powi(3) * x * (1.0 + x).powi(2));
+            let v_c = (G * m / r).sqrt();
+            for (vr, vt) in [(0.0, v_c), (0.7 * v_c, 0.4 * v_c)] {
+                // in a tilted plane: x along (1, 1, 0)/sqrt 2, tangential along z
+                let e = std::f64::consts::FRAC_1_SQRT_2;
+                let y = [r * e, r * e, 0.0, vr * e, vr * e, vt];
+                let (denom, m_enc) = host_tide(&snap, &y);
+                let omega2 = vt * vt / (r * r);
+                let want = omega2 + 2.0 * G * m / r.powi(3) - 4.0 * pi * G * rho;
+                assert!(
+                    (denom / want - 1.0).abs() < 1e-9,
+                    "r {r}: {denom} vs {want}"
+                );
+                assert!((m_enc / m - 1.0).abs() < 1e-12);
+                if vr == 0.0 {
+                    let dlnm = 4.0 * pi * r.powi(3) * rho / m;
+                    let king = G * m / r.powi(3) * (3.0 - dlnm);
+                    assert!((denom / king - 1.0).abs() < 1e-9);
+                }
+            }
+        }
+    }
+
     /// The confinement test against the NFW potential difference integrated directly,
     /// Phi(r_out) - Phi(r) = int_r^{r_out} G M(<r') / r'^2 dr' (Simpson's rule, 2,000
     /// intervals), at r = r_s/2, r_out = 2 r_s: just below that speed it is confined, just
