@@ -560,28 +560,36 @@ fn pairs_section(
         .unwrap_or_else(|| "not recorded".to_string());
     let _ = writeln!(
         m,
-        "\n### Field dwarfs of the pair region\n\nHaloes with peak mass {}–{} Msun (distinct haloes, as in the backsplash test) inside the sphere of radius `region_radius_kpc` ({region_text}) about the pair's barycentre (of the two virial masses) and outside both virial radii, by distance from the nearer host in units of that host's R_vir (the last row: the whole region). Backsplash haloes are the hosts' own subhaloes there that were once inside either host (from the orbits; each host counts its own). The haloes that never fell in are not in the trees: their expected number is {field_text}; the region is split by which host is nearer and each host counts the field in its own half, so each pair's volume is counted once. Tree haloes in the region that were never inside either host (mostly satellites of satellites released from their group before it fell in) are listed apart and left out of the fraction: they are part of the field the expected number counts. Per pair, the fraction N_bs / (N_bs + N_field); mean over pairs with its bootstrap 16–84% interval and the pair-to-pair 16–84% range. Linear theory undercounts the field near the hosts, so the fractions are upper limits, the more so in the inner shells.\n",
+        "\n### Field dwarfs of the pair region\n\nHaloes with peak mass {}–{} Msun (distinct haloes, as in the backsplash test) inside the sphere of radius `region_radius_kpc` ({region_text}) about the pair's barycentre (of the two virial masses) and outside both virial radii, by distance from the nearer host in units of that host's R_vir (the last row: the whole region). Backsplash haloes are the hosts' own subhaloes there that were once inside either host (from the orbits; each host counts its own). The haloes that never fell in are not in the trees: their expected number is {field_text}; the region is split by which host is nearer and each host counts the field in its own half, so each pair's volume is counted once. Tree haloes in the region that were never inside either host (mostly satellites of satellites released from their group before it fell in) are listed apart and left out of the fraction: they are part of the field the expected number counts. Per pair, the fraction N_bs / (N_bs + N_field); mean over pairs with its bootstrap 16–84% interval and the pair-to-pair 16–84% range. Linear theory undercounts the field near the hosts, so the fractions are upper limits, the more so in the inner shells.{}\n",
         short_number(b.m_peak_msun[0]),
         short_number(b.m_peak_msun[1]),
+        if p.incomplete_pairs > 0 {
+            format!(" {} pairs have only one host in this store (a shard's store splits pairs at its edges) and are left out of this test; merge the shards for all of them.", p.incomplete_pairs)
+        } else {
+            String::new()
+        },
     );
-    let _ = writeln!(
+    if n_pairs == 0 {
+        let _ = writeln!(m, "No pair has both its hosts here: nothing to count.");
+    } else {
+        let _ = writeln!(
         m,
         "| pairs | n | shell (R_vir of the nearer host) | backsplash per pair | field expected per pair | tree haloes never inside, per pair | fraction once inside either host | bootstrap 16–84% | pairs 16–84% |\n|---|---|---|---|---|---|---|---|---|"
     );
-    let per_cell = p.region.len() > 2;
-    for r in p.region.iter().filter(|r| r.cell.is_none() || per_cell) {
-        for sh in &r.shells {
-            let f = &sh.fraction;
-            let shell = if sh.hi_over_rvir.is_finite() {
-                format!(
-                    "{}–{}",
-                    short_number(sh.lo_over_rvir),
-                    short_number(sh.hi_over_rvir)
-                )
-            } else {
-                "whole region".to_string()
-            };
-            let _ = writeln!(
+        let per_cell = p.region.len() > 2;
+        for r in p.region.iter().filter(|r| r.cell.is_none() || per_cell) {
+            for sh in &r.shells {
+                let f = &sh.fraction;
+                let shell = if sh.hi_over_rvir.is_finite() {
+                    format!(
+                        "{}–{}",
+                        short_number(sh.lo_over_rvir),
+                        short_number(sh.hi_over_rvir)
+                    )
+                } else {
+                    "whole region".to_string()
+                };
+                let _ = writeln!(
                 m,
                 "| {} | {} | {shell} | {:.2} | {:.2} | {:.2} | {:.3} | {:.3}–{:.3} | {:.3}–{:.3} |",
                 name(r.cell, "all pairs"),
@@ -595,6 +603,7 @@ fn pairs_section(
                 f.p16,
                 f.p84
             );
+            }
         }
     }
     let _ = writeln!(

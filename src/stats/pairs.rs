@@ -557,6 +557,10 @@ pub struct PairResults {
     pub region: Vec<RegionResult>,
     pub separations: Vec<SeparationSummary>,
     pub field: FieldModel,
+    /// Pairs with one host only among the hosts tested (a shard's store that split a pair),
+    /// left out of the region test: one half's subhaloes range over the whole region while
+    /// its field covers its own half.
+    pub incomplete_pairs: usize,
 }
 
 /// One pair host's contribution to its pair: its half's counts and expected field.
@@ -715,12 +719,10 @@ impl<'a> PairMerger<'a> {
         if self.fractions.is_empty() {
             return None;
         }
-        // a pair whose other host was not tested (a selection of cells) counts its one half
-        let pending = std::mem::take(&mut self.pending);
-        for (_, h) in pending {
-            let cell = h.cell;
-            self.push_pair(cell, PairValues::from_half(&h));
-        }
+        // a pair whose other host is not here (a shard's store that split it) is left out of
+        // the region test: its half's subhaloes range over the whole region, its field over
+        // its own half only (review; it was counted as a whole pair)
+        let incomplete_pairs = std::mem::take(&mut self.pending).len();
         let o = self.options;
         let mut rng = host_rng(
             self.master_seed,
@@ -754,7 +756,8 @@ impl<'a> PairMerger<'a> {
         let b = &o.backsplash;
         let edges = &b.shells_over_rvir;
         let mut region_of = |cell: Option<(u16, u16)>, pairs: &[&PairValues]| {
-            let n = pairs.len().max(1) as f64;
+            // per-pair means (NaN without a pair)
+            let n = pairs.len() as f64;
             let shells = (0..=b.n_shells())
                 .map(|k| {
                     let (lo, hi) = if k < b.n_shells() {
@@ -809,6 +812,7 @@ impl<'a> PairMerger<'a> {
             region,
             separations,
             field: b.field,
+            incomplete_pairs,
         })
     }
 }

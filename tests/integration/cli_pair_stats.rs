@@ -520,3 +520,41 @@ fn pair_region_field_with_the_uniform_model() {
         "{shells} vs {whole}"
     );
 }
+
+/// A shard's store can split a pair at its edge (shard 1 of 2 of `PAIRS` holds the two
+/// isolated hosts and the first host of the first pair). The region test leaves such a pair
+/// out and says so (review: its one half was counted as a whole pair, its subhaloes over the
+/// whole region against the field of its own half only); the satellites once inside the
+/// partner, a per-host number, still count the host.
+#[test]
+fn a_pair_split_by_a_shard_is_left_out_of_the_region_test() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "pairs.toml", PAIRS);
+    let s1 = d.path().join("s1.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--shard",
+        "1/2",
+        "--out",
+        s1.to_str().unwrap(),
+    ]);
+    let out = run_ok(&["infall", s1.to_str().unwrap(), "--name", "half"]);
+    let report = out
+        .lines()
+        .find_map(|l| l.strip_prefix("report:  "))
+        .expect("the report's path");
+    let md = std::fs::read_to_string(report).unwrap();
+    assert!(
+        md.contains("1 pairs have only one host in this store"),
+        "{md}"
+    );
+    assert!(md.contains("No pair has both its hosts here"), "{md}");
+    assert!(md.contains("| all pair hosts | 1 |"), "{md}");
+    let t = Table::read(&Path::new(report).with_file_name("pairs.csv"));
+    let rows = t.select("all,all", "region_backsplash_fraction");
+    assert_eq!(rows.len(), 4);
+    for r in rows {
+        assert_eq!(t.get(r, "n_pairs"), 0.0);
+    }
+}
