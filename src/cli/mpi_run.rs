@@ -60,7 +60,7 @@ pub fn run_mpi(go: ShardJob, finish: FinishJob, out: &Path) -> Option<Result<(),
         .collect();
     if !failed.is_empty() {
         return Some(Err(CliError::Failed(anyhow::anyhow!(
-            "shards {failed:?} of {size} failed; the others are finished. Re-run each failed one with --shard K/{size} --out {}, then retinue merge",
+            "shards {failed:?} of {size} failed; the others are finished. Each failed rank said why above (a failed host, or a file in the way of its shard file, which needs --overwrite); once that is dealt with, re-run each failed one with --shard K/{size} --out {}, then retinue merge",
             shard_path(out, failed[0] - 1, size).display()
         ))));
     }

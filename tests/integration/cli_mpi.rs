@@ -135,6 +135,12 @@ fn mpi_shard_files_replace_nothing_without_overwrite() {
             && err.contains("--overwrite"),
         "{err}"
     );
+    // rank 0's summary points at the ranks' own reasons, not only at re-running the shard
+    assert!(
+        err.contains("shards [2] of 2 failed")
+            && err.contains("a file in the way of its shard file"),
+        "{err}"
+    );
     assert_eq!(
         std::fs::read_to_string(&theirs).unwrap(),
         "someone else's notes\n"
