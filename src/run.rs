@@ -444,6 +444,19 @@ impl Grid {
 /// Progress reports: (hosts done, hosts total).
 pub type Progress<'a> = &'a (dyn Fn(u64, u64) + Sync);
 
+/// What the stamp file `path` of a parts directory holds (None: it did not exist, and
+/// `this` is written to it now): a resumed run compares it with its own value.
+fn read_or_stamp(path: &Path, this: &str) -> Result<Option<String>, IoError> {
+    if path.exists() {
+        std::fs::read_to_string(path)
+            .map(Some)
+            .map_err(|e| IoError::fs(path, e))
+    } else {
+        std::fs::write(path, this).map_err(|e| IoError::fs(path, e))?;
+        Ok(None)
+    }
+}
+
 /// Synthesise this shard's hosts into `out` (crash-safe; resumable). Returns the path.
 pub fn synthesize_to_store(
     grid: &Grid,
@@ -468,68 +481,45 @@ pub fn synthesize_to_store(
     let stamp = dir.join("config.toml");
     // a resumed run must be of the same build: one store would otherwise hold hosts
     // synthesised by different code (the crate version does not change between builds);
-    // parts without this stamp were written by a build from before it was recorded
-    let build_stamp = dir.join("build");
+    // parts with a configuration but no build stamp were written by a build from before it
+    // was recorded
     let this_build = crate::BUILD_FINGERPRINT;
-    let old_build = if build_stamp.exists() {
-        let old =
-            std::fs::read_to_string(&build_stamp).map_err(|e| IoError::fs(&build_stamp, e))?;
-        Some(old.trim().to_string())
-    } else if stamp.exists() {
+    let old_build = if stamp.exists() && !dir.join("build").exists() {
         Some(String::new())
     } else {
-        None
+        read_or_stamp(&dir.join("build"), this_build)?
     };
-    match old_build {
-        Some(old) if old != this_build => {
-            return Err(RunError::Input(format!(
-                "--resume: the parts in {} were written by build {} of retinue, and this is \
-                 build {this_build}: a store must not mix hosts synthesised by different code; \
-                 finish the run with the build that started it, or clear the parts with \
-                 `rm -r {}` to start again with this build",
-                dir.display(),
-                fingerprint_name(&old),
-                dir.display()
-            )));
-        }
-        Some(_) => {}
-        None => {
-            std::fs::write(&build_stamp, this_build).map_err(|e| IoError::fs(&build_stamp, e))?
-        }
+    if let Some(old) = old_build.filter(|old| old.trim() != this_build) {
+        return Err(RunError::Input(format!(
+            "--resume: the parts in {} were written by build {} of retinue, and this is \
+             build {this_build}: a store must not mix hosts synthesised by different code; \
+             finish the run with the build that started it, or clear the parts with \
+             `rm -r {}` to start again with this build",
+            dir.display(),
+            fingerprint_name(old.trim()),
+            dir.display()
+        )));
     }
-    // a resumed run must have the same configuration
-    if stamp.exists() {
-        let old = std::fs::read_to_string(&stamp).map_err(|e| IoError::fs(&stamp, e))?;
-        if old != config_text {
-            return Err(RunError::Input(format!(
-                "--resume: the configuration differs from the one of the interrupted run in {} \
-                 (kept there as config.toml); resume with that configuration, or clear the \
-                 stale parts with `rm -r {}`",
-                dir.display(),
-                dir.display()
-            )));
-        }
-    } else {
-        std::fs::write(&stamp, config_text).map_err(|e| IoError::fs(&stamp, e))?;
+    // ... have the same configuration
+    if read_or_stamp(&stamp, config_text)?.is_some_and(|old| old != config_text) {
+        return Err(RunError::Input(format!(
+            "--resume: the configuration differs from the one of the interrupted run in {} \
+             (kept there as config.toml); resume with that configuration, or clear the \
+             stale parts with `rm -r {}`",
+            dir.display(),
+            dir.display()
+        )));
     }
     // ... and be the same shard: parts hold the hosts of the shard that wrote them
-    let shard_stamp = dir.join("shard");
     let this = format!("{}/{}", shard.index + 1, shard.count);
-    if shard_stamp.exists() {
-        let old =
-            std::fs::read_to_string(&shard_stamp).map_err(|e| IoError::fs(&shard_stamp, e))?;
-        if old.trim() != this {
-            return Err(RunError::Input(format!(
-                "--resume: the parts in {} are of shard {}, not {this}; resume with --shard {}, \
-                 or clear them with `rm -r {}` to start shard {this}",
-                dir.display(),
-                old.trim(),
-                old.trim(),
-                dir.display()
-            )));
-        }
-    } else {
-        std::fs::write(&shard_stamp, &this).map_err(|e| IoError::fs(&shard_stamp, e))?;
+    if let Some(old) = read_or_stamp(&dir.join("shard"), &this)?.filter(|old| old.trim() != this) {
+        let old = old.trim();
+        return Err(RunError::Input(format!(
+            "--resume: the parts in {} are of shard {old}, not {this}; resume with --shard \
+             {old}, or clear them with `rm -r {}` to start shard {this}",
+            dir.display(),
+            dir.display()
+        )));
     }
     let meta = grid.meta(config_text, shard);
     let n_parts = (hi - lo).div_ceil(batch) as usize;
