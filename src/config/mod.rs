@@ -202,19 +202,10 @@ fn value_end(lines: &[String], i: usize) -> usize {
     let mut j = i;
     let mut text = v.to_string();
     loop {
-        let mut quote: Option<char> = None;
-        let mut chars = text.chars();
-        while let Some(c) = chars.next() {
-            match (quote, c) {
-                (Some('"'), '\\') => {
-                    chars.next();
-                }
-                (Some(q), c) if c == q => quote = None,
-                (Some(_), _) => {}
-                (None, '"' | '\'') => quote = Some(c),
-                (None, '#') => break,
-                (None, '[' | '{') => depth += 1,
-                (None, ']' | '}') => depth -= 1,
+        for (_, c) in outside_quotes(without_comment(&text)) {
+            match c {
+                '[' | '{' => depth += 1,
+                ']' | '}' => depth -= 1,
                 _ => {}
             }
         }
@@ -240,33 +231,7 @@ fn key_value_of(lines: &[String], i: usize) -> Option<(String, String)> {
         return None;
     }
     // the value without a trailing comment (a '#' inside a quoted string is kept)
-    let mut value = v.trim();
-    match value.chars().next() {
-        Some(q @ ('"' | '\'')) if !value.starts_with("\"\"\"") && !value.starts_with("'''") => {
-            // the end of the quoted string (a basic string escapes with a backslash)
-            let mut end = None;
-            let mut chars = value.char_indices().skip(1);
-            while let Some((k, c)) = chars.next() {
-                if c == '\\' && q == '"' {
-                    chars.next();
-                } else if c == q {
-                    end = Some(k + 1);
-                    break;
-                }
-            }
-            if let Some(end) = end {
-                if value[end..].trim_start().starts_with('#') {
-                    value = &value[..end];
-                }
-            }
-        }
-        Some('"' | '\'') => {}
-        _ => {
-            if let Some((before, _)) = value.split_once('#') {
-                value = before.trim_end();
-            }
-        }
-    }
+    let value = without_comment(v.trim());
     let mut table = String::new();
     for (j, l) in lines[..i].iter().enumerate().rev() {
         let l = l.trim();
@@ -298,6 +263,39 @@ fn key_value_of(lines: &[String], i: usize) -> Option<(String, String)> {
         }
     }
     Some((format!("{table}{key}"), value.to_string()))
+}
+
+/// The characters of `v` outside quoted strings (a basic string escapes with a backslash),
+/// with their byte offsets; the quotes themselves are left out.
+fn outside_quotes(v: &str) -> impl Iterator<Item = (usize, char)> + '_ {
+    let mut quote: Option<char> = None;
+    let mut escaped = false;
+    v.char_indices().filter(move |&(_, c)| match quote {
+        Some(q) => {
+            if escaped {
+                escaped = false;
+            } else if q == '"' && c == '\\' {
+                escaped = true;
+            } else if c == q {
+                quote = None;
+            }
+            false
+        }
+        None if c == '"' || c == '\'' => {
+            quote = Some(c);
+            false
+        }
+        None => true,
+    })
+}
+
+/// A value's text up to a comment (the first '#' outside a quoted string), trailing blanks
+/// removed.
+fn without_comment(v: &str) -> &str {
+    match outside_quotes(v).find(|&(_, c)| c == '#') {
+        Some((k, _)) => v[..k].trim_end(),
+        None => v,
+    }
 }
 
 /// A parser or serde message in the words of this tool.
@@ -437,6 +435,9 @@ mod tests {
                 .all(|x| !x.contains("peak | today") && !x.contains("a comment")),
             "{p:?}"
         );
+        // the same scan for any value: a '#' inside a quoted string is not a comment
+        assert_eq!(without_comment(r#"[1, "a#b"] # c"#), r#"[1, "a#b"]"#);
+        assert_eq!(without_comment(r##""x\"#y" # c"##), r##""x\"#y""##);
     }
 
     #[test]
