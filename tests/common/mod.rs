@@ -75,6 +75,16 @@ pub fn write(dir: &std::path::Path, name: &str, text: &str) -> PathBuf {
 }
 
 /// Run the CLI and insist that it succeeds; its standard output.
+/// The names of the entries of directory `dir`, sorted.
+pub fn dir_names(dir: &std::path::Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
 pub fn run_ok(args: &[&str]) -> String {
     let (code, out, err) = run_cli(args);
     assert_eq!(code, 0, "{args:?}: {err}");

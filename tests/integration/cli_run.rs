@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::common::{run_cli, run_ok, store_tables, write};
+use crate::common::{dir_names, run_cli, run_ok, store_tables, write};
 
 const TINY: &str = r#"
 [run]
@@ -190,12 +190,7 @@ fn store_schema_units_and_provenance() {
         }
     }
     // nothing but the store and its report
-    let mut names: Vec<String> = std::fs::read_dir(d.path())
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    names.sort();
-    assert_eq!(names, vec!["s-report", "s.h5", "tiny.toml"]);
+    assert_eq!(dir_names(d.path()), vec!["s-report", "s.h5", "tiny.toml"]);
 }
 
 /// Kill a running `retinue run` (SIGKILL on Unix) once `n` part files are in `parts` (or
@@ -1775,14 +1770,7 @@ fn outputs_never_replace_inputs_or_foreign_files() {
     );
     // an output that is a directory, empty, "." or ends in '/' is refused before the first host
     // (issue 18, item 6: they failed after synthesis with raw OS errors, leaving hidden files)
-    let listing = || {
-        let mut v: Vec<String> = std::fs::read_dir(d.path())
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        v.sort();
-        v
-    };
+    let listing = || dir_names(d.path());
     let before = listing();
     let trailing = format!("{}/", d.path().join("newdir").display());
     for bad in [d.path().to_str().unwrap(), ".", trailing.as_str()] {
@@ -2531,12 +2519,7 @@ fn hosts_at_another_redshift_are_stored_but_not_tested() {
     assert_eq!(code, 0, "{err}");
     assert!(err.contains("not tested"), "{err}");
     assert!(!out.contains("report:"), "{out}");
-    let mut names: Vec<String> = std::fs::read_dir(d.path())
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    names.sort();
-    assert_eq!(names, vec!["high.h5", "high.toml"]);
+    assert_eq!(dir_names(d.path()), vec!["high.h5", "high.toml"]);
     let (code, _, err) = run_cli(&["infall", s]);
     assert_eq!(code, 2, "{err}");
     assert!(

@@ -36,11 +36,10 @@ fn tree_file_schema_and_summary() {
         assert!(stdout.contains(key), "{stdout}");
     }
     // no temporary file left behind
-    let names: Vec<String> = std::fs::read_dir(dir.path())
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    assert_eq!(names, vec!["tree.h5".to_string()]);
+    assert_eq!(
+        crate::common::dir_names(dir.path()),
+        vec!["tree.h5".to_string()]
+    );
     // an existing file is not replaced without --overwrite (review: `--out` once replaced a
     // run store and a configuration file without asking)
     let before = std::fs::read(&out).unwrap();
