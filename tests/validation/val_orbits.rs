@@ -891,3 +891,122 @@ fn val_benson05_infall_sampler_vs_scipy() {
         assert!((got - want).abs() < 0.005, "mean {name}: {got} vs {want}");
     }
 }
+
+/// The stripping rate in a dark-matter-only host, against two statements that could be read
+/// (abstracts): van den Bosch & Ogiya 2018 (MNRAS 475, 4066): in idealised simulations, "as
+/// long as a subhalo is resolved with sufficient mass and force resolution, a bound remnant
+/// survives", and state-of-the-art cosmological simulations suffer "excessive mass loss and
+/// artificial tidal disruption"; He, Han & Li 2024 (arXiv:2408.04470): in simulations of
+/// Milky-Way-mass hosts "all of the first-order subhalos accreted after redshift 2 survive to
+/// the present time".
+///
+/// Set-up: 400 subhaloes of 1e8 Msun (m/M ~ 1e-4, friction negligible) fall into the
+/// static fixture NFW halo without disc (1.2e12 Msun) 8 Gyr before today (z ~ 1), on the
+/// default infall orbits, and are followed to today.
+///
+/// Asserted: at most 4 of 400 disrupted. "All" survive in a sample of a few hundred
+/// first-order subhaloes bounds the rate near 0.5%; 2 expected of 400 at that rate, and 5 or
+/// more has Poisson probability 5%.
+///
+/// Printed, not asserted (docs/validation.md): the mass lost in the first radial orbit, taken
+/// as twice the time from infall at R_vir to the first pericentre (the next apocentre of an
+/// orbit that starts near apocentre), each subhalo followed again from the same seed to stop
+/// there (a disrupted one has lost everything). Jiang & van den Bosch 2016 (MNRAS 458, 2848,
+/// abstract) say an average subhalo loses "in excess of 80 percent" in its first radial
+/// orbit; their rates are calibrated on cosmological simulations, which the first statement
+/// above finds to lose mass excessively. The model's rate follows the idealised-simulation
+/// calibration (Green, van den Bosch & Jiang 2021, alpha_s = 0.55, recalled), and loses far
+/// less.
+#[test]
+fn val_mass_lost_in_the_first_radial_orbit() {
+    use retinue::orbits::{evolve_subhalo, OrbitOptions, SubhaloStatus};
+    use retinue::rng::{host_rng, HostId, Stream};
+    use retinue::trees::Accretion;
+    use retinue::{Cosmology, LinearOptions, LinearTheory};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let host = EvolvingHost::fixed(snapshot(false));
+    let t0 = lt.cosmology().age0_gyr();
+    let t_in = t0 - 8.0;
+    let z_in = lt.cosmology().z_at_age(t_in);
+    let m_acc = 1e8;
+    let a = Accretion {
+        branch: 1,
+        order: 1,
+        into_branch: 0,
+        t_infall_gyr: t_in,
+        z_infall: z_in,
+        m_infall_msun: m_acc,
+        m_host_at_infall_msun: host.snapshot(t_in).m_vir,
+        m_peak_msun: m_acc,
+        t_peak_gyr: t_in,
+        group: 1,
+        t_host_infall_gyr: t_in,
+        z_host_infall: z_in,
+    };
+    let opts = OrbitOptions::default();
+    let mut losses = Vec::new();
+    let mut peri_over_rvir = Vec::new();
+    let (mut disrupted, mut kept_today) = (0usize, Vec::new());
+    for i in 0..400u32 {
+        let id = HostId::new(0, 0, i);
+        let first = evolve_subhalo(
+            &lt,
+            &host,
+            &opts,
+            &a,
+            t0,
+            &mut host_rng(7, id, Stream::Orbits),
+        );
+        if first.status == SubhaloStatus::Disrupted {
+            disrupted += 1;
+        }
+        kept_today.push(first.m_bound_msun / m_acc);
+        if !(first.t_peri_first_gyr > t_in) {
+            continue;
+        }
+        peri_over_rvir.push(first.r_peri_first_kpc / host.snapshot(t_in).r_vir);
+        let t_orbit = t_in + 2.0 * (first.t_peri_first_gyr - t_in);
+        let loss = if t_orbit >= t0 {
+            continue;
+        } else {
+            let r = evolve_subhalo(
+                &lt,
+                &host,
+                &opts,
+                &a,
+                t_orbit,
+                &mut host_rng(7, id, Stream::Orbits),
+            );
+            match r.status {
+                SubhaloStatus::InHost => 1.0 - r.m_bound_msun / m_acc,
+                _ => 1.0,
+            }
+        };
+        losses.push(loss);
+    }
+    let n = losses.len() as f64;
+    let mean = losses.iter().sum::<f64>() / n;
+    let sd = (losses.iter().map(|l| (l - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
+    let se = sd / n.sqrt();
+    let mut sorted = losses.clone();
+    sorted.sort_by(f64::total_cmp);
+    let median = sorted[sorted.len() / 2];
+    peri_over_rvir.sort_by(f64::total_cmp);
+    eprintln!(
+        "first radial orbit: {} subhaloes, mass lost mean {mean:.3} (s.e. {se:.3}), median {median:.3}, 16-84% {:.3}-{:.3}; median r_peri/R_vir {:.3}",
+        losses.len(),
+        sorted[sorted.len() * 16 / 100],
+        sorted[sorted.len() * 84 / 100],
+        peri_over_rvir[peri_over_rvir.len() / 2]
+    );
+    kept_today.sort_by(f64::total_cmp);
+    eprintln!(
+        "after 8 Gyr: {disrupted} of 400 disrupted; bound fraction median {:.3}, 16-84% {:.3}-{:.3}",
+        kept_today[200], kept_today[64], kept_today[336]
+    );
+    assert!(disrupted <= 4, "{disrupted} of 400 disrupted");
+}
