@@ -965,28 +965,26 @@ fn val_mass_lost_in_the_first_radial_orbit() {
             disrupted += 1;
         }
         kept_today.push(first.m_bound_msun / m_acc);
-        if !(first.t_peri_first_gyr > t_in) {
+        if first.t_peri_first_gyr.is_nan() || first.t_peri_first_gyr <= t_in {
             continue;
         }
         peri_over_rvir.push(first.r_peri_first_kpc / host.snapshot(t_in).r_vir);
         let t_orbit = t_in + 2.0 * (first.t_peri_first_gyr - t_in);
-        let loss = if t_orbit >= t0 {
+        if t_orbit >= t0 {
             continue;
-        } else {
-            let r = evolve_subhalo(
-                &lt,
-                &host,
-                &opts,
-                &a,
-                t_orbit,
-                &mut host_rng(7, id, Stream::Orbits),
-            );
-            match r.status {
-                SubhaloStatus::InHost => 1.0 - r.m_bound_msun / m_acc,
-                _ => 1.0,
-            }
-        };
-        losses.push(loss);
+        }
+        let r = evolve_subhalo(
+            &lt,
+            &host,
+            &opts,
+            &a,
+            t_orbit,
+            &mut host_rng(7, id, Stream::Orbits),
+        );
+        losses.push(match r.status {
+            SubhaloStatus::InHost => 1.0 - r.m_bound_msun / m_acc,
+            _ => 1.0,
+        });
     }
     let n = losses.len() as f64;
     let mean = losses.iter().sum::<f64>() / n;
