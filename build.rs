@@ -1,7 +1,11 @@
 //! The build fingerprint: a hash of the source (every file under `src/`, by relative path and
-//! contents) and of `Cargo.lock`, exposed as `RETINUE_BUILD_FINGERPRINT` to the crate. Stores
-//! record it, and `--resume` and `merge` refuse parts or shards written by another build (the
-//! crate version does not change between development builds).
+//! contents), of `Cargo.lock`, `Cargo.toml` and this script, exposed as
+//! `RETINUE_BUILD_FINGERPRINT` to the crate. Stores record it, and `--resume` and `merge`
+//! refuse parts or shards written by another build (the crate version does not change between
+//! development builds). Left out on purpose: the profile, the features and RUSTFLAGS. Rust
+//! does not reorder or contract floating-point operations under any of them, and the `mpi`
+//! feature changes only how shards are handed out, so builds that differ only there write the
+//! same numbers (the MPI tests merge shards of the MPI build with the plain build).
 
 use std::path::{Path, PathBuf};
 
@@ -46,11 +50,15 @@ fn files_under(dir: &Path, out: &mut Vec<PathBuf>) {
 fn main() {
     println!("cargo:rerun-if-changed=src");
     println!("cargo:rerun-if-changed=Cargo.lock");
+    println!("cargo:rerun-if-changed=Cargo.toml");
+    println!("cargo:rerun-if-changed=build.rs");
     let root = PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").expect("set by cargo"));
     let mut files = Vec::new();
     files_under(&root.join("src"), &mut files);
     files.sort();
-    files.push(root.join("Cargo.lock"));
+    for f in ["Cargo.lock", "Cargo.toml", "build.rs"] {
+        files.push(root.join(f));
+    }
     let mut h = Fnv1a::new();
     for f in &files {
         let rel = f.strip_prefix(&root).unwrap_or(f);
