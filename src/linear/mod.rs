@@ -99,6 +99,17 @@ pub struct LinearTheory {
     clock: Clock,
     /// The linear correlation function's table, built on first use (`correlation_table`).
     xi_table: std::sync::OnceLock<CorrelationTable>,
+    /// The same cosmology and transfer function through the windows the published fits were
+    /// calibrated with (`fit_reference`); None when this theory is itself top-hat CDM.
+    reference: Option<Box<FitReference>>,
+}
+
+/// Cold-dark-matter variants of a theory: through the top-hat window, and (for warm dark
+/// matter through the sharp-k window) through its own window.
+#[derive(Debug, Clone)]
+struct FitReference {
+    top_hat_cdm: LinearTheory,
+    same_window_cdm: Option<LinearTheory>,
 }
 
 impl LinearTheory {
@@ -125,6 +136,30 @@ impl LinearTheory {
                 )?)
             }
         };
+        let mut lt = Self::from_transfer(cosmo, options, transfer)?;
+        let warm = lt.options.m_wdm_kev.is_some();
+        if warm || lt.options.filter != Filter::TopHat {
+            let top_hat_cdm = lt.variant(Filter::TopHat, false)?;
+            let same_window_cdm = if warm && lt.options.filter != Filter::TopHat {
+                Some(lt.variant(lt.options.filter, false)?)
+            } else {
+                None
+            };
+            lt.reference = Some(Box::new(FitReference {
+                top_hat_cdm,
+                same_window_cdm,
+            }));
+        }
+        Ok(lt)
+    }
+
+    /// A theory from a transfer function ready to evaluate, without fit references.
+    fn from_transfer(
+        cosmo: Cosmology,
+        options: LinearOptions,
+        transfer: Transfer,
+    ) -> Result<Self, Error> {
+        let p = &cosmo.params;
         let wdm = options
             .m_wdm_kev
             .map(|m| WarmDarkMatter::new(m, p.h, p.omega_m, p.omega_b));
@@ -140,7 +175,38 @@ impl LinearTheory {
             sigma,
             clock,
             xi_table: std::sync::OnceLock::new(),
+            reference: None,
         })
+    }
+
+    /// The same cosmology and transfer function through `filter`, with this theory's warm
+    /// dark matter (`warm`) or without it.
+    fn variant(&self, filter: Filter, warm: bool) -> Result<Self, Error> {
+        let mut options = self.options.clone();
+        options.filter = filter;
+        if !warm {
+            options.m_wdm_kev = None;
+        }
+        Self::from_transfer(self.cosmo.clone(), options, self.power.transfer().clone())
+    }
+
+    /// This cosmology through the top-hat window without warm dark matter: the sigma(M) with
+    /// which the Sheth & Tormen 1999 mass function and the Tinker et al. 2010 bias were
+    /// calibrated (`massfunction::dn_dlnm_field_mpc3`, `massfunction::bias::halo_bias`).
+    /// The theory itself when it is top-hat CDM.
+    pub fn top_hat_cdm(&self) -> &LinearTheory {
+        self.reference.as_ref().map_or(self, |r| &r.top_hat_cdm)
+    }
+
+    /// Cold dark matter through this theory's own window: the denominator of the WDM/CDM
+    /// ratio of mass functions. The theory itself under cold dark matter.
+    pub fn cdm_same_window(&self) -> &LinearTheory {
+        match &self.reference {
+            Some(r) if self.options.m_wdm_kev.is_some() => {
+                r.same_window_cdm.as_ref().unwrap_or(&r.top_hat_cdm)
+            }
+            _ => self,
+        }
     }
 
     pub fn cosmology(&self) -> &Cosmology {

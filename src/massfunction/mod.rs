@@ -28,5 +28,23 @@ pub fn dn_dlnm_mpc3(lt: &LinearTheory, f: &impl Multiplicity, m_msun: f64, z: f6
     lt.rho_m0_msun_mpc3() / m_msun * f.f_nu(nu) * lt.dln_sigma_dln_m(m_msun).abs()
 }
 
+/// dn/dlnM (comoving Mpc^-3) of a fit calibrated on simulations of cold dark matter with a
+/// top-hat sigma(M) (Sheth & Tormen 1999 and the like), evaluated as it was calibrated:
+/// through the top-hat window without warm dark matter, times the WDM/CDM ratio of the same
+/// function through the theory's own window when warm dark matter is on (the sharp-k window
+/// is the one whose WDM mass function follows simulations: physics reference sheet). With
+/// the sharp-k window under cold dark matter, sigma(M) alone would move the Sheth & Tormen
+/// counts by 9% at 1e10-1e12 Msun (Planck 2018, c = 2.5) although the cosmology is the same.
+pub fn dn_dlnm_field_mpc3(lt: &LinearTheory, f: &impl Multiplicity, m_msun: f64, z: f64) -> f64 {
+    let base = dn_dlnm_mpc3(lt.top_hat_cdm(), f, m_msun, z);
+    if lt.options().m_wdm_kev.is_some() {
+        let cdm = dn_dlnm_mpc3(lt.cdm_same_window(), f, m_msun, z);
+        if cdm > 0.0 {
+            return base * dn_dlnm_mpc3(lt, f, m_msun, z) / cdm;
+        }
+    }
+    base
+}
+
 pub use press_schechter::PressSchechter;
 pub use sheth_tormen::ShethTormen;

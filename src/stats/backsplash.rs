@@ -56,7 +56,7 @@ use crate::halo::concentration::{concentration, ConcentrationModel};
 use crate::halo::{MassDefinition, Nfw};
 use crate::linear::{CorrelationTable, LinearTheory};
 use crate::massfunction::bias::halo_bias;
-use crate::massfunction::{dn_dlnm_mpc3, Region, ShethTormen};
+use crate::massfunction::{dn_dlnm_field_mpc3, Region, ShethTormen};
 
 /// How the expected number of field haloes around a host is counted.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
@@ -291,7 +291,7 @@ impl FieldCounter {
                 let (mut n, mut nb) = (0.0, 0.0);
                 for (j, wj) in w.iter().enumerate() {
                     let m = (l0 + h * j as f64).exp();
-                    let dn = dn_dlnm_mpc3(lt, &st, m, 0.0);
+                    let dn = dn_dlnm_field_mpc3(lt, &st, m, 0.0);
                     n += wj * dn;
                     nb += wj * dn * halo_bias(lt, m, 0.0);
                 }
