@@ -41,6 +41,46 @@ fn each(mut f: impl FnMut(&str, HostSnapshot, &serde_json::Value)) {
     }
 }
 
+/// Planck 2018 linear theory, the static fixture halo (with or without disc and bulge), the
+/// age today, and a first-order subhalo of `m_acc` Msun falling into that halo `ago` Gyr
+/// before today (its own peak then).
+fn one_infall(
+    with_baryons: bool,
+    m_acc: f64,
+    ago: f64,
+) -> (
+    retinue::LinearTheory,
+    EvolvingHost,
+    f64,
+    retinue::trees::Accretion,
+) {
+    use retinue::{Cosmology, LinearOptions, LinearTheory};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let host = EvolvingHost::fixed(snapshot(with_baryons));
+    let t0 = lt.cosmology().age0_gyr();
+    let t_in = t0 - ago;
+    let z_in = lt.cosmology().z_at_age(t_in);
+    let a = retinue::trees::Accretion {
+        branch: 1,
+        order: 1,
+        into_branch: 0,
+        t_infall_gyr: t_in,
+        z_infall: z_in,
+        m_infall_msun: m_acc,
+        m_host_at_infall_msun: host.snapshot(t_in).m_vir,
+        m_peak_msun: m_acc,
+        t_peak_gyr: t_in,
+        group: 1,
+        t_host_infall_gyr: t_in,
+        z_host_infall: z_in,
+    };
+    (lt, host, t0, a)
+}
+
 /// Potential, forces and circular velocity: galpy `evaluatePotentials`, `evaluateRforces`,
 /// `evaluatezforces`, `vcirc` (NFW amp = 4 pi rho_s r_s^3, Hernquist amp = 2 M_b, MN amp = M_d;
 /// galpy's G equals ours to 1e-11). Same formulae: tolerance 1e-9.
@@ -333,31 +373,8 @@ fn val_dynamical_friction_sinking_time() {
 fn friction_without_stripping_merges_at_the_centre() {
     use retinue::orbits::{evolve_subhalo, OrbitOptions, SubhaloStatus};
     use retinue::rng::{host_rng, HostId, Stream};
-    use retinue::trees::Accretion;
-    use retinue::{Cosmology, LinearOptions, LinearTheory};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
-    let host = EvolvingHost::fixed(snapshot(true));
-    let t0 = lt.cosmology().age0_gyr();
-    let t_in = t0 - 10.0;
-    let z_in = lt.cosmology().z_at_age(t_in);
-    let a = Accretion {
-        branch: 1,
-        order: 1,
-        into_branch: 0,
-        t_infall_gyr: t_in,
-        z_infall: z_in,
-        m_infall_msun: 3e11,
-        m_host_at_infall_msun: host.snapshot(t_in).m_vir,
-        m_peak_msun: 3e11,
-        t_peak_gyr: t_in,
-        group: 1,
-        t_host_infall_gyr: t_in,
-        z_host_infall: z_in,
-    };
+    let (lt, host, t0, a) = one_infall(true, 3e11, 10.0);
+    let t_in = a.t_infall_gyr;
     let opts = OrbitOptions {
         stripping: false,
         ..OrbitOptions::default()
@@ -921,32 +938,9 @@ fn val_benson05_infall_sampler_vs_scipy() {
 fn val_mass_lost_in_the_first_radial_orbit() {
     use retinue::orbits::{evolve_subhalo, OrbitOptions, SubhaloStatus};
     use retinue::rng::{host_rng, HostId, Stream};
-    use retinue::trees::Accretion;
-    use retinue::{Cosmology, LinearOptions, LinearTheory};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
-    let host = EvolvingHost::fixed(snapshot(false));
-    let t0 = lt.cosmology().age0_gyr();
-    let t_in = t0 - 8.0;
-    let z_in = lt.cosmology().z_at_age(t_in);
     let m_acc = 1e8;
-    let a = Accretion {
-        branch: 1,
-        order: 1,
-        into_branch: 0,
-        t_infall_gyr: t_in,
-        z_infall: z_in,
-        m_infall_msun: m_acc,
-        m_host_at_infall_msun: host.snapshot(t_in).m_vir,
-        m_peak_msun: m_acc,
-        t_peak_gyr: t_in,
-        group: 1,
-        t_host_infall_gyr: t_in,
-        z_host_infall: z_in,
-    };
+    let (lt, host, t0, a) = one_infall(false, m_acc, 8.0);
+    let t_in = a.t_infall_gyr;
     let opts = OrbitOptions::default();
     let mut losses = Vec::new();
     let mut peri_over_rvir = Vec::new();
