@@ -245,6 +245,33 @@ mod tests {
         }
     }
 
+    /// The radius (kpc, 1e-6 to 1e6) where `above` turns true, by bisection in ln r to
+    /// round-off (200 halvings).
+    fn bisect_ln_r(above: impl Fn(f64) -> bool) -> f64 {
+        let (mut a, mut b) = (1e-6f64, 1e6f64);
+        for _ in 0..200 {
+            let c = (a * b).sqrt();
+            if above(c) {
+                b = c
+            } else {
+                a = c
+            }
+        }
+        (a * b).sqrt()
+    }
+
+    /// The solver's (radius, mass) against the root: 2e-4 in radius, 5e-4 in the enclosed
+    /// mass (the documented precision).
+    fn assert_root(got: (f64, f64), prof: (f64, f64), m: f64, root: f64, what: &str) {
+        let (rt, mt) = got;
+        assert!((rt / root - 1.0).abs() < 2e-4, "{what}: {rt} vs {root}");
+        let want = enclosed_in(prof, root, m).0;
+        assert!(
+            (mt / want - 1.0).abs() < 5e-4,
+            "{what}: mass {mt} vs {want}"
+        );
+    }
+
     /// The tidal radius from the previous step's radius against bisection to 1e-12 (the
     /// root of r^3 denom = G m(<r)), for guesses off by up to a factor 2 and profiles from
     /// unstripped to stripped: within 2e-4 (the documented precision).
@@ -255,26 +282,10 @@ mod tests {
             let m = fb * 1e9;
             let prof = s.profile(m);
             for denom in [1e-3, 1e-1, 10.0, 1e3] {
-                // bisection in ln r
-                let f = |r: f64| r.powi(3) * denom / G - enclosed_in(prof, r, m).0;
-                let (mut a, mut b) = (1e-6f64, 1e6f64);
-                for _ in 0..200 {
-                    let c = (a * b).sqrt();
-                    if f(c) > 0.0 {
-                        b = c
-                    } else {
-                        a = c
-                    }
-                }
-                let root = (a * b).sqrt();
+                let root = bisect_ln_r(|r| r.powi(3) * denom / G > enclosed_in(prof, r, m).0);
                 for g in [0.5, 0.9, 1.0, 1.1, 2.0] {
-                    let (rt, mt) = s.tidal_radius_and_mass(prof, m, denom, g * root);
-                    assert!(
-                        (rt / root - 1.0).abs() < 2e-4,
-                        "fb {fb} denom {denom} g {g}: {rt} vs {root}"
-                    );
-                    let want = enclosed_in(prof, root, m).0;
-                    assert!((mt / want - 1.0).abs() < 5e-4, "mass {mt} vs {want}");
+                    let got = s.tidal_radius_and_mass(prof, m, denom, g * root);
+                    assert_root(got, prof, m, root, &format!("fb {fb} denom {denom} g {g}"));
                 }
             }
         }
@@ -293,26 +304,18 @@ mod tests {
             let m = fb * 1e9;
             let prof = s.profile(m);
             // truncation radius: enclosed NFW mass of the stripped profile equals m
-            let (mut a, mut b) = (1e-6f64, 1e6f64);
-            for _ in 0..200 {
-                let c = (a * b).sqrt();
-                if prof.0 * mu(c / prof.1) > m {
-                    b = c
-                } else {
-                    a = c
-                }
-            }
-            let r_trunc = (a * b).sqrt();
+            let r_trunc = bisect_ln_r(|r| prof.0 * mu(r / prof.1) > m);
             for (inside, outside) in [(0.99, 1.01), (0.97, 1.002), (0.995, 1.04)] {
                 let root = inside * r_trunc;
                 let denom = G * enclosed_in(prof, root, m).0 / root.powi(3);
-                let (rt, mt) = s.tidal_radius_and_mass(prof, m, denom, outside * r_trunc);
-                assert!(
-                    (rt / root - 1.0).abs() < 2e-4,
-                    "fb {fb} root {inside} guess {outside}: {rt} vs {root}"
+                let got = s.tidal_radius_and_mass(prof, m, denom, outside * r_trunc);
+                assert_root(
+                    got,
+                    prof,
+                    m,
+                    root,
+                    &format!("fb {fb} root {inside} guess {outside}"),
                 );
-                let want = enclosed_in(prof, root, m).0;
-                assert!((mt / want - 1.0).abs() < 5e-4, "mass {mt} vs {want}");
             }
         }
     }
