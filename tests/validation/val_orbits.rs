@@ -1001,4 +1001,39 @@ fn val_mass_lost_in_the_first_radial_orbit() {
         kept_today[200], kept_today[64], kept_today[336]
     );
     assert!(disrupted <= 4, "{disrupted} of 400 disrupted");
+
+    // printed for docs/validation.md: the same orbits stripped almost at once to the tidal
+    // radius (alpha_s = 20: the tidal-limit approximation), and the pericentres by today
+    let fast = OrbitOptions {
+        stripping_alpha: 20.0,
+        ..OrbitOptions::default()
+    };
+    let (mut kept_fast, mut n_peri) = (Vec::new(), Vec::new());
+    for i in 0..400u32 {
+        let id = HostId::new(0, 0, i);
+        let r = evolve_subhalo(
+            &lt,
+            &host,
+            &fast,
+            &a,
+            t0,
+            &mut host_rng(7, id, Stream::Orbits),
+        );
+        kept_fast.push(r.m_bound_msun / m_acc);
+        let d = evolve_subhalo(
+            &lt,
+            &host,
+            &opts,
+            &a,
+            t0,
+            &mut host_rng(7, id, Stream::Orbits),
+        );
+        n_peri.push(d.n_pericentres);
+    }
+    kept_fast.sort_by(f64::total_cmp);
+    n_peri.sort_unstable();
+    eprintln!(
+        "alpha_s = 20: bound fraction today median {:.3}, 16-84% {:.3}-{:.3}; pericentres by today (default) median {}, 84% {}",
+        kept_fast[200], kept_fast[64], kept_fast[336], n_peri[200], n_peri[336]
+    );
 }
