@@ -2,10 +2,13 @@
 //! contents), of `Cargo.lock`, `Cargo.toml` and this script, exposed as
 //! `RETINUE_BUILD_FINGERPRINT` to the crate. Stores record it, and `--resume` and `merge`
 //! refuse parts or shards written by another build (the crate version does not change between
-//! development builds). Left out on purpose: the profile, the features and RUSTFLAGS. Rust
-//! does not reorder or contract floating-point operations under any of them, and the `mpi`
-//! feature changes only how shards are handed out, so builds that differ only there write the
-//! same numbers (the MPI tests merge shards of the MPI build with the plain build).
+//! development builds). Left out on purpose: the selected profile (debug or release), the
+//! features and RUSTFLAGS. rustc does not reorder or contract floating-point operations under
+//! any of them, and the `mpi` feature changes only how shards are handed out, so builds that
+//! differ only there write the same numbers (the MPI tests merge shards of the MPI build with
+//! the plain build). Not covered: the system maths library, which may pick other exp/log
+//! variants on other CPUs (last-bit differences between nodes), and files compiled in from
+//! outside `src/` (the demo's config and data, the font).
 
 use std::path::{Path, PathBuf};
 

@@ -104,12 +104,20 @@ fn main() {
     )
     .expect("linear theory");
     let mut orbits = retinue::orbits::OrbitOptions::default();
-    if let Some(r) = std::env::args().nth(2).and_then(|s| s.parse().ok()) {
-        orbits.rtol_in_subhalo = r;
+    // positions 2 and 3 take a value or `-`; a KEY=VALUE there would be silently ignored
+    let arg = |i: usize| std::env::args().nth(i).filter(|s| s != "-");
+    if let Some(a) = arg(2) {
+        orbits.rtol_in_subhalo = a
+            .parse()
+            .unwrap_or_else(|_| panic!("argument 2 is RTOL_IN_SUBHALO or `-`, not {a:?}"));
     }
     let mut host = retinue::host::HostOptions::default();
-    if std::env::args().nth(3).as_deref() == Some("nodisc") {
-        host.baryons = retinue::host::DiscBulgeParams::none();
+    match arg(3).as_deref() {
+        None => {}
+        Some("nodisc") => host.baryons = retinue::host::DiscBulgeParams::none(),
+        Some(a) => {
+            panic!("argument 3 is `nodisc` or `-`, not {a:?} (KEY=VALUE goes from the 4th on)")
+        }
     }
     let mut galaxies = retinue::galaxies::GalaxyOptions::default();
     let mut tree = TreeSpec::milky_way_default();

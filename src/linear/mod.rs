@@ -100,7 +100,7 @@ pub struct LinearTheory {
     /// The linear correlation function's table, built on first use (`correlation_table`).
     xi_table: std::sync::OnceLock<CorrelationTable>,
     /// The same cosmology and transfer function through the windows the published fits were
-    /// calibrated with (`fit_reference`); None when this theory is itself top-hat CDM.
+    /// calibrated with (`top_hat_cdm`, `cdm_same_window`); None when this theory is itself top-hat CDM.
     reference: Option<Box<FitReference>>,
 }
 

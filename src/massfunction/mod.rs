@@ -34,7 +34,7 @@ pub fn dn_dlnm_mpc3(lt: &LinearTheory, f: &impl Multiplicity, m_msun: f64, z: f6
 /// function through the theory's own window when warm dark matter is on (the sharp-k window
 /// is the one whose WDM mass function follows simulations: physics reference sheet). With
 /// the sharp-k window under cold dark matter, sigma(M) alone would move the Sheth & Tormen
-/// counts by 9% at 1e10-1e12 Msun (Planck 2018, c = 2.5) although the cosmology is the same.
+/// counts by 9-10% at 1e10-1e12 Msun (Planck 2018, c = 2.5) although the cosmology is the same.
 pub fn dn_dlnm_field_mpc3(lt: &LinearTheory, f: &impl Multiplicity, m_msun: f64, z: f64) -> f64 {
     let base = dn_dlnm_mpc3(lt.top_hat_cdm(), f, m_msun, z);
     if lt.options().m_wdm_kev.is_some() {

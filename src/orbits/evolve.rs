@@ -215,7 +215,8 @@ pub fn evolve_host_subhaloes<R: Rng>(
                 }
             };
             let v_c = (G * m_c / r_c).sqrt();
-            let nu = lt.delta_c(z) / lt.sigma(m_c, z);
+            // peak height as the infall-orbit fits were calibrated: top-hat window, CDM
+            let nu = lt.top_hat_cdm().nu(m_c, z);
             let (u, x) = options.infall_orbits.sample(nu, a.m_infall_msun / m_c, rng);
             Start {
                 frame,

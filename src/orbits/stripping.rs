@@ -95,10 +95,12 @@ impl SubhaloStructure {
     /// good to about 1e-4, far below what the stripping model resolves: one iteration in most
     /// steps, the radius moving by a few per cent from one step to the next; the mass is
     /// corrected to the new radius to first order), or after a step from a capped point that
-    /// lands on a capped point (then r_cap is the exact root). A step from a capped point
-    /// that lands inside the truncation radius goes on: r_cap is not the root there (before
-    /// 2026-12-04 it stopped, about 1% high in radius and 3-4% in mass, once per passage
-    /// through that radius; found by the orbit review; test below). The update r -> r exp(-d)
+    /// lands on a capped point (then r_cap is the exact root). A step that crosses the
+    /// truncation radius goes on: from a capped point inward r_cap is not the root (before
+    /// 2026-12-04 it stopped there, about 1% high in radius and 3-4% in mass, once per
+    /// passage through that radius; found by the orbit review), and from an uncapped point
+    /// outward Halley's slope 3 - s is not the capped profile's 3 (stopping there left the
+    /// radius up to 0.9% high; found by the review of that fix). Tests below. The update r -> r exp(-d)
     /// takes a Taylor series for the exponential when the step is small.
     pub fn tidal_radius_and_mass(
         &self,
@@ -138,17 +140,24 @@ impl SubhaloStructure {
             } else {
                 (-step).exp()
             };
-            // s is zero exactly where, and only where, the mass is capped
+            // s is zero exactly where, and only where, the mass is capped. ln m(<r) is concave
+            // in ln r, so me (1 + x + x^2), x = -s step, bounds the mass at the new radius from
+            // above: below m, the new point is surely uncapped and the step's error is Halley's
             if step.abs() < 0.05 && s > 0.0 {
-                return (r, (me * (1.0 - s * step)).min(m));
+                let x = -s * step;
+                if me * (1.0 + x + x * x) < m {
+                    return (r, me * (1.0 + x));
+                }
             }
             at = enclosed_in_x(prof, r, m);
+            if step.abs() < 0.05 && s > 0.0 && at.1 > 0.0 {
+                return (r, at.0);
+            }
             if s == 0.0 && at.1 == 0.0 {
                 return (r, m);
             }
         }
-        let me = enclosed_in(prof, r, m).0;
-        (r, me)
+        (r, at.0)
     }
 }
 
@@ -315,6 +324,32 @@ mod tests {
                     m,
                     root,
                     &format!("fb {fb} root {inside} guess {outside}"),
+                );
+            }
+        }
+    }
+
+    /// The mirror case: the root just outside the truncation radius (where the mass is capped
+    /// and the root is r_cap) and the guess just inside. A short Halley step with the
+    /// uncapped slope overshoots into the capped region; the solver must go on from there
+    /// (before the second fix of 2026-12-04 it stopped, 0.25-0.6% high in radius here).
+    #[test]
+    fn tidal_radius_with_the_root_just_outside_the_truncation_radius() {
+        let s = SubhaloStructure::nfw(1e9, 25.0, 10.0);
+        for fb in [0.5, 0.1, 0.01] {
+            let m = fb * 1e9;
+            let prof = s.profile(m);
+            let r_trunc = bisect_ln_r(|r| prof.0 * mu(r / prof.1) > m);
+            for (outside, inside) in [(1.01, 0.99), (1.03, 0.97), (1.02, 0.98)] {
+                let root = outside * r_trunc;
+                let denom = G * m / root.powi(3);
+                let got = s.tidal_radius_and_mass(prof, m, denom, inside * r_trunc);
+                assert_root(
+                    got,
+                    prof,
+                    m,
+                    root,
+                    &format!("fb {fb} root {outside} guess {inside}"),
                 );
             }
         }
