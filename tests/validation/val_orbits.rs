@@ -944,19 +944,22 @@ fn val_mass_lost_in_the_first_radial_orbit() {
     let (lt, host, t0, a) = one_infall(false, m_acc, 8.0);
     let t_in = a.t_infall_gyr;
     let opts = OrbitOptions::default();
+    // subhalo i with these options, followed to t_end (the same seed every time)
+    let follow = |o: &OrbitOptions, i: u32, t_end: f64| {
+        evolve_subhalo(
+            &lt,
+            &host,
+            o,
+            &a,
+            t_end,
+            &mut host_rng(7, HostId::new(0, 0, i), Stream::Orbits),
+        )
+    };
     let mut losses = Vec::new();
     let mut peri_over_rvir = Vec::new();
     let (mut disrupted, mut kept_today) = (0usize, Vec::new());
     for i in 0..400u32 {
-        let id = HostId::new(0, 0, i);
-        let first = evolve_subhalo(
-            &lt,
-            &host,
-            &opts,
-            &a,
-            t0,
-            &mut host_rng(7, id, Stream::Orbits),
-        );
+        let first = follow(&opts, i, t0);
         if first.status == SubhaloStatus::Disrupted {
             disrupted += 1;
         }
@@ -969,14 +972,7 @@ fn val_mass_lost_in_the_first_radial_orbit() {
         if t_orbit >= t0 {
             continue;
         }
-        let r = evolve_subhalo(
-            &lt,
-            &host,
-            &opts,
-            &a,
-            t_orbit,
-            &mut host_rng(7, id, Stream::Orbits),
-        );
+        let r = follow(&opts, i, t_orbit);
         losses.push(match r.status {
             SubhaloStatus::InHost => 1.0 - r.m_bound_msun / m_acc,
             _ => 1.0,
@@ -1012,24 +1008,9 @@ fn val_mass_lost_in_the_first_radial_orbit() {
     };
     let (mut kept_fast, mut n_peri) = (Vec::new(), Vec::new());
     for i in 0..400u32 {
-        let id = HostId::new(0, 0, i);
-        let r = evolve_subhalo(
-            &lt,
-            &host,
-            &fast,
-            &a,
-            t0,
-            &mut host_rng(7, id, Stream::Orbits),
-        );
+        let r = follow(&fast, i, t0);
         kept_fast.push(r.m_bound_msun / m_acc);
-        let d = evolve_subhalo(
-            &lt,
-            &host,
-            &opts,
-            &a,
-            t0,
-            &mut host_rng(7, id, Stream::Orbits),
-        );
+        let d = follow(&opts, i, t0);
         n_peri.push(d.n_pericentres);
     }
     kept_fast.sort_by(f64::total_cmp);
