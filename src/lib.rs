@@ -51,6 +51,6 @@ pub use linear::{LinearOptions, LinearTheory};
 
 /// Fingerprint of this build: 16 hex digits of an FNV-1a hash of every file under `src/`, of
 /// `Cargo.lock`, `Cargo.toml` and `build.rs` (`build.rs`; files compiled in from elsewhere, the
-/// demo's config and data and the font, are not hashed). Stores record it (`build_fingerprint`); `--resume` and `merge`
-/// refuse parts or shards of another build, which the crate version alone would not tell apart.
+/// demo's config and data and the font, are not hashed). Stores record it
+/// (`build_fingerprint`); `--resume` and `merge` refuse parts or shards of another build, which the crate version alone would not tell apart.
 pub const BUILD_FINGERPRINT: &str = env!("RETINUE_BUILD_FINGERPRINT");

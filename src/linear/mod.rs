@@ -100,7 +100,8 @@ pub struct LinearTheory {
     /// The linear correlation function's table, built on first use (`correlation_table`).
     xi_table: std::sync::OnceLock<CorrelationTable>,
     /// The same cosmology and transfer function through the windows the published fits were
-    /// calibrated with (`top_hat_cdm`, `cdm_same_window`); None when this theory is itself top-hat CDM.
+    /// calibrated with (`top_hat_cdm`, `cdm_same_window`); None when this theory is itself
+    /// top-hat CDM.
     reference: Option<Box<FitReference>>,
 }
 
@@ -139,9 +140,9 @@ impl LinearTheory {
         let mut lt = Self::from_transfer(cosmo, options, transfer)?;
         let warm = lt.options.m_wdm_kev.is_some();
         if warm || lt.options.filter != Filter::TopHat {
-            let top_hat_cdm = lt.variant(Filter::TopHat, false)?;
+            let top_hat_cdm = lt.cdm_variant(Filter::TopHat)?;
             let same_window_cdm = if warm && lt.options.filter != Filter::TopHat {
-                Some(lt.variant(lt.options.filter, false)?)
+                Some(lt.cdm_variant(lt.options.filter)?)
             } else {
                 None
             };
@@ -179,14 +180,11 @@ impl LinearTheory {
         })
     }
 
-    /// The same cosmology and transfer function through `filter`, with this theory's warm
-    /// dark matter (`warm`) or without it.
-    fn variant(&self, filter: Filter, warm: bool) -> Result<Self, Error> {
+    /// The same cosmology and transfer function through `filter`, without warm dark matter.
+    fn cdm_variant(&self, filter: Filter) -> Result<Self, Error> {
         let mut options = self.options.clone();
         options.filter = filter;
-        if !warm {
-            options.m_wdm_kev = None;
-        }
+        options.m_wdm_kev = None;
         Self::from_transfer(self.cosmo.clone(), options, self.power.transfer().clone())
     }
 

@@ -100,8 +100,8 @@ impl SubhaloStructure {
     /// 2026-12-04 it stopped there, about 1% high in radius and 3-4% in mass, once per
     /// passage through that radius; found by the orbit review), and from an uncapped point
     /// outward Halley's slope 3 - s is not the capped profile's 3 (stopping there left the
-    /// radius up to 0.9% high; found by the review of that fix). Tests below. The update r -> r exp(-d)
-    /// takes a Taylor series for the exponential when the step is small.
+    /// radius up to 0.9% high; found by the review of that fix). Tests below. The update
+    /// r -> r exp(-d) takes a Taylor series for the exponential when the step is small.
     pub fn tidal_radius_and_mass(
         &self,
         prof: (f64, f64),
