@@ -56,6 +56,9 @@ pub enum CliError {
     Usage(String),
     /// A run failed (exit 1).
     Failed(anyhow::Error),
+    /// A run failed and the reason was already printed (exit 1; only the MPI path needs it).
+    #[cfg(feature = "mpi")]
+    Reported,
 }
 
 impl std::fmt::Display for CliError {
@@ -63,6 +66,8 @@ impl std::fmt::Display for CliError {
         match self {
             Self::Usage(s) => write!(f, "{s}"),
             Self::Failed(e) => write!(f, "{e:#}"),
+            #[cfg(feature = "mpi")]
+            Self::Reported => Ok(()),
         }
     }
 }
@@ -72,6 +77,8 @@ impl CliError {
         match self {
             Self::Usage(_) => 2,
             Self::Failed(_) => 1,
+            #[cfg(feature = "mpi")]
+            Self::Reported => 1,
         }
     }
 }

@@ -49,9 +49,6 @@ pub fn run_mpi(go: ShardJob, finish: FinishJob, out: &Path) -> Option<Result<(),
     }
     let mut all = vec![0i32; size as usize];
     world.all_gather_into(&ok, &mut all[..]);
-    if rank != 0 {
-        return Some(result.map(|_| ()));
-    }
     let failed: Vec<u32> = all
         .iter()
         .enumerate()
@@ -59,10 +56,27 @@ pub fn run_mpi(go: ShardJob, finish: FinishJob, out: &Path) -> Option<Result<(),
         .map(|(k, _)| k as u32 + 1)
         .collect();
     if !failed.is_empty() {
-        return Some(Err(CliError::Failed(anyhow::anyhow!(
-            "shards {failed:?} of {size} failed; the others are finished. Each failed rank said why above (a failed host, or a file in the way of its shard file, which needs --overwrite); once that is dealt with, re-run each failed one with --shard K/{size} --out {}, then retinue merge",
-            shard_path(out, failed[0] - 1, size).display()
-        ))));
+        // mpirun ends every rank as soon as one exits non-zero, so a failed rank must not exit
+        // before rank 0 has printed the summary: rank 0 prints it here, then all meet at a
+        // barrier (without it, CI once saw the summary go missing).
+        if rank == 0 {
+            let summary = format!(
+                "shards {failed:?} of {size} failed; the others are finished. Each failed rank said why above (a failed host, or a file in the way of its shard file, which needs --overwrite); once that is dealt with, re-run each failed one with --shard K/{size} --out {}, then retinue merge",
+                shard_path(out, failed[0] - 1, size).display()
+            );
+            eprintln!("error: {summary}");
+            use std::io::Write;
+            let _ = std::io::stderr().flush();
+        }
+        world.barrier();
+        return Some(if rank == 0 {
+            Err(CliError::Reported)
+        } else {
+            result.map(|_| ())
+        });
+    }
+    if rank != 0 {
+        return Some(result.map(|_| ()));
     }
     let shards: Vec<PathBuf> = (0..size).map(|k| shard_path(out, k, size)).collect();
     Some(finish(&shards, out))
