@@ -607,21 +607,15 @@ pub fn stored_config(
 struct RetestTables {
     tests: Option<crate::stats::battery::TestOptions>,
     galaxies: Option<crate::galaxies::GalaxyOptions>,
-    run: Option<RetestRun>,
+    /// Read as a whole run table, so that a misspelled key is refused as in `run` (a review
+    /// found `sampel = ...` ignored and the store's own sample used); only `sample` and
+    /// `sample_columns` are taken, the other keys are the run's and stay the store's.
+    run: Option<crate::config::RunSection>,
     cosmology: Option<toml::Value>,
     host: Option<toml::Value>,
     trees: Option<toml::Value>,
     orbits: Option<toml::Value>,
     survey: Option<toml::Value>,
-}
-
-#[derive(serde::Deserialize)]
-struct RetestRun {
-    sample: Option<PathBuf>,
-    sample_columns: Option<std::collections::BTreeMap<String, String>>,
-    /// The run's other keys (ignored here).
-    #[serde(flatten)]
-    _other: toml::Table,
 }
 
 /// A stored configuration with re-test settings put in, and the sample FILE names.
@@ -655,7 +649,21 @@ pub fn retest_config(
     };
     let given: toml::Table = toml::from_str(&text).unwrap_or_default();
     if retest.tests.is_some() {
-        cfg.file.tests = overlay(&cfg.file.tests, given.get("tests"))
+        // the two pre-processing thresholds exclude each other, so FILE's [tests.preprocessing]
+        // replaces the stored table whole (merged key by key, a stellar-mass threshold met the
+        // stored halo-mass default and was refused, as a review found)
+        let mut stored = cfg.file.tests.clone();
+        if given
+            .get("tests")
+            .and_then(|t| t.get("preprocessing"))
+            .is_some()
+        {
+            stored.preprocessing = crate::stats::clocks::PreprocessingThreshold {
+                halo_mass_msun: None,
+                stellar_mass_msun: None,
+            };
+        }
+        cfg.file.tests = overlay(&stored, given.get("tests"))
             .map_err(|e| AnalysisError::Input(format!("{}: [tests]: {e}", p.display())))?;
     }
     if retest.galaxies.is_some() {
@@ -689,7 +697,7 @@ pub fn retest_config(
     problems.extend(cfg.file.tests.problems("tests."));
     problems.extend(cfg.file.galaxies.problems("galaxies."));
     let (file_sample, file_columns) = match retest.run {
-        Some(r) => (r.sample, r.sample_columns),
+        Some(r) => (r.sample, Some(r.sample_columns)),
         None => (None, None),
     };
     let columns = file_columns.unwrap_or_default();

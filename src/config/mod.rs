@@ -11,6 +11,29 @@ pub use run::{MassBin, OneOrMany, RunConfig, RunConfigFile, RunSection};
 
 use crate::error::{InvalidValue, MISSING};
 
+/// `[low, high]` keys take exactly two values. serde reads a fixed-size array from the first
+/// elements of a longer TOML array and drops the rest without a word (a review found
+/// `r_over_rvir = [0.0, 0.3, 1.0]` taken as 0-0.3); these read the whole list and refuse
+/// any other length.
+pub mod pair {
+    use serde::de::{Deserialize, Deserializer, Error};
+
+    /// `#[serde(deserialize_with = "crate::config::pair::exact")]` on a `[T; 2]` field.
+    pub fn exact<'de, D: Deserializer<'de>, T: Deserialize<'de>>(d: D) -> Result<[T; 2], D::Error> {
+        let v = Vec::<T>::deserialize(d)?;
+        let n = v.len();
+        <[T; 2]>::try_from(v)
+            .map_err(|_| D::Error::invalid_length(n, &"exactly two values, [low, high]"))
+    }
+
+    /// The same for an `Option<[T; 2]>` field (with `default`).
+    pub fn optional<'de, D: Deserializer<'de>, T: Deserialize<'de>>(
+        d: D,
+    ) -> Result<Option<[T; 2]>, D::Error> {
+        exact(d).map(Some)
+    }
+}
+
 /// A list of configuration problems, printed one per line.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[error("{}", .0.iter().map(|p| p.to_string()).collect::<Vec<_>>().join("\n"))]

@@ -95,6 +95,7 @@ pub struct HostSection {
     /// 1.2e12 when neither this nor `mass_log_uniform_msun` is given.
     pub mass_msun: Option<OneOrMany<f64>>,
     /// Instead of fixed masses: draw each host's mass log-uniformly in [lo, hi] Msun.
+    #[serde(default, deserialize_with = "crate::config::pair::optional")]
     pub mass_log_uniform_msun: Option<[f64; 2]>,
     pub mass_definition: String,
     pub z_final: f64,
@@ -408,6 +409,24 @@ impl RunConfig {
                     ));
                 } else {
                     mass_bins.push(MassBin::Fixed(*m));
+                }
+            }
+            // reports, tables and `--cell mass=...` name a cell by its label (3 significant
+            // figures): two masses with one label would be cells no one can tell apart
+            let mut seen = std::collections::BTreeMap::new();
+            for b in &mass_bins {
+                if let Some(first) = seen.insert(b.label(), b) {
+                    let (MassBin::Fixed(a) | MassBin::LogUniform(a, _)) = *first;
+                    let (MassBin::Fixed(m) | MassBin::LogUniform(m, _)) = *b;
+                    problems.push(InvalidValue::new(
+                        "host.mass_msun",
+                        m,
+                        format!(
+                            "repeats {a} to 3 significant figures ({}), the precision cells are \
+                             named with; give distinct masses",
+                            b.label()
+                        ),
+                    ));
                 }
             }
         }

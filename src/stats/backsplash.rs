@@ -80,6 +80,7 @@ pub enum FieldModel {
 #[serde(deny_unknown_fields, default)]
 pub struct BacksplashOptions {
     /// Peak-mass range of the haloes counted, Msun.
+    #[serde(deserialize_with = "crate::config::pair::exact")]
     pub m_peak_msun: [f64; 2],
     /// Edges of the shells in units of the host's R_vir today (increasing; each pair of
     /// neighbours is one shell, and the whole range is reported too).

@@ -76,6 +76,7 @@ pub struct TestOptions {
     pub draws: usize,
     /// f of fraction-of-N and the range of N.
     pub fraction: f64,
+    #[serde(deserialize_with = "crate::config::pair::exact")]
     pub n_range: [usize; 2],
     /// Bootstrap resamples over hosts.
     pub bootstrap: usize,
@@ -119,6 +120,11 @@ impl Default for TestOptions {
     }
 }
 
+/// Strictly increasing.
+fn increasing(v: &[f64]) -> bool {
+    v.windows(2).all(|w| w[0] < w[1])
+}
+
 impl TestOptions {
     pub fn problems(&self, prefix: &str) -> Vec<InvalidValue> {
         let mut out = self.selection.problems(&format!("{prefix}selection."));
@@ -148,12 +154,28 @@ impl TestOptions {
                 format!("give either halo_mass_msun (here {h}) or stellar_mass_msun, not both"),
             ));
         }
+        if let PreprocessingThreshold {
+            halo_mass_msun: None,
+            stellar_mass_msun: None,
+        } = self.preprocessing
+        {
+            // an empty table would otherwise count a halo of any mass (a review found it)
+            out.push(InvalidValue::new(
+                format!("{prefix}preprocessing"),
+                "(a table with neither key)",
+                "give halo_mass_msun or stellar_mass_msun (without the table, halo_mass_msun = \
+                 1e10)",
+            ));
+        }
         out.extend(self.backsplash.problems(&format!("{prefix}backsplash.")));
-        if self.z_grid.is_empty() || self.z_grid.iter().any(|z| !(*z >= 0.0 && *z <= 20.0)) {
+        if self.z_grid.is_empty()
+            || self.z_grid.iter().any(|z| !(*z >= 0.0 && *z <= 20.0))
+            || !increasing(&self.z_grid)
+        {
             out.push(InvalidValue::new(
                 format!("{prefix}z_grid"),
                 format!("{:?}", self.z_grid),
-                "must be a non-empty list of redshifts in [0, 20]",
+                "must be a non-empty, increasing list of redshifts in [0, 20] without repeats",
             ));
         }
         if !(100..=10_000_000).contains(&self.draws) {
@@ -199,11 +221,14 @@ impl TestOptions {
                 .delay_grid_gyr
                 .iter()
                 .any(|t| !(*t >= 0.0 && *t <= 14.0))
+            || !increasing(&self.delay_grid_gyr)
         {
+            // the report reads the grid's end as its last value (a review found a descending
+            // grid reported as an upper limit)
             out.push(InvalidValue::new(
                 format!("{prefix}delay_grid_gyr"),
                 format!("{:?}", self.delay_grid_gyr),
-                "must be a non-empty list in [0, 14] Gyr",
+                "must be a non-empty, increasing list in [0, 14] Gyr without repeats",
             ));
         }
         if !(self.confidence > 0.0 && self.confidence < 1.0) {

@@ -26,12 +26,16 @@ pub enum Survival {
 pub struct Selection {
     pub name: String,
     /// Peak halo mass range, Msun.
+    #[serde(deserialize_with = "crate::config::pair::exact")]
     pub m_peak_msun: [f64; 2],
     /// Stellar-mass range, Msun.
+    #[serde(deserialize_with = "crate::config::pair::exact")]
     pub mstar_msun: [f64; 2],
     /// Absolute V magnitude range [bright, faint].
+    #[serde(deserialize_with = "crate::config::pair::exact")]
     pub m_v: [f64; 2],
     /// Galactocentric radius today in units of the host's R_vir.
+    #[serde(deserialize_with = "crate::config::pair::exact")]
     pub r_over_rvir: [f64; 2],
     pub survival: Survival,
     /// Keep only satellites the configured survey would detect.

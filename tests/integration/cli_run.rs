@@ -564,6 +564,34 @@ fn malformed_configs_are_reported() {
             base.replace("[run]", "[run]\nsample_columns = { id = 3 }"),
             "run.sample_columns",
         ),
+        // found by the review of 2026-12-04: a [low, high] key with a third value (its
+        // third was dropped), grids out of order or repeated (a descending delay grid was
+        // reported as an upper limit), an empty [tests.preprocessing] (it counted haloes of
+        // any mass), host masses that name one cell
+        (
+            format!("{base}\n[tests.selection]\nr_over_rvir = [0.0, 0.3, 1.0]\n"),
+            "tests.selection.r_over_rvir = [0.0, 0.3, 1.0] is not allowed: invalid length 3, expected exactly two values, [low, high]",
+        ),
+        (
+            base.replace("n_range = [3, 4]", "n_range = [3, 4, 99]"),
+            "tests.n_range = [3, 4, 99] is not allowed: invalid length 3",
+        ),
+        (
+            base.replace("[tests]", "[tests]\ndelay_grid_gyr = [2.0, 1.0, 0.0]"),
+            "tests.delay_grid_gyr = [2.0, 1.0, 0.0] is not allowed: must be a non-empty, increasing list",
+        ),
+        (
+            base.replace("z_grid = [0.0, 0.5, 1.0, 2.0]", "z_grid = [0.0, 0.5, 0.5, 2.0]"),
+            "tests.z_grid = [0.0, 0.5, 0.5, 2.0] is not allowed: must be a non-empty, increasing list",
+        ),
+        (
+            format!("{base}\n[tests.preprocessing]\n"),
+            "tests.preprocessing = (a table with neither key) is not allowed: give halo_mass_msun or stellar_mass_msun",
+        ),
+        (
+            base.replace("mass_msun = [8e11, 1.2e12]", "mass_msun = [1.2e12, 1.201e12]"),
+            "host.mass_msun = 1201000000000 is not allowed: repeats 1200000000000 to 3 significant figures (1.2e12)",
+        ),
         ("[run\nhosts_per_cell = 3".to_string(), "TOML"),
         ("".to_string(), "cosmology"),
         // a unit written after a number
@@ -1540,6 +1568,43 @@ fn retest_a_sweep_with_other_tests() {
         err.contains("test = (table)") && err.contains("tests.draws"),
         "{err}"
     );
+    // a misspelt key of [run] is refused as `run` refuses it (it was ignored, and the
+    // store's own sample used; review of 2026-12-04)
+    let misspelt = write(d.path(), "misspelt.toml", "[run]\nsampel = \"s.csv\"\n");
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        misspelt.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("run.sampel") && err.contains("unknown key"),
+        "{err}"
+    );
+    // FILE's [tests.preprocessing] replaces the stored one whole: a stellar-mass threshold
+    // is taken (it met the stored halo-mass default and was refused), an empty table is not
+    let stellar = write(
+        d.path(),
+        "stellar.toml",
+        "[tests.preprocessing]\nstellar_mass_msun = 1e7\n",
+    );
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        stellar.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let empty = write(d.path(), "empty-pre.toml", "[tests.preprocessing]\n");
+    let (code, _, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        empty.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("tests.preprocessing"), "{err}");
     // a sample given with --sample replaces the file's, which then need not exist
     let gone = write(
         d.path(),
