@@ -230,7 +230,9 @@ impl EvolvingHost {
             let r_s = r_vir / c;
             let m_s = m / mu(c);
             let (fm, fr) = if b0.grow {
-                let ms = 10f64.powf(behroozi13::log10_mstar(m, z));
+                // within the relation's calibrated range, as for the satellites (z <= 8)
+                let z_fit = z.min(crate::galaxies::SmhmModel::Behroozi13.z_max());
+                let ms = 10f64.powf(behroozi13::log10_mstar(m, z_fit));
                 (ms / mstar_end, r_vir / r_vir_end)
             } else {
                 (1.0, 1.0)

@@ -73,7 +73,7 @@ impl Default for OrbitOptions {
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            disc_tide_ratio: 1.6,
+            disc_tide_ratio: 1.5,
             central_merge_kpc: 1.0,
             infall_orbits: initial::InfallOrbits::default(),
         }

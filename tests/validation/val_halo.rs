@@ -114,6 +114,63 @@ fn val_concentration_relations() {
     }
 }
 
+/// Beyond the fits' calibrated redshifts `c_of_m` holds the redshift at the end of the range
+/// (Dutton & Maccio 2014: z = 5; Duffy et al. 2008: z = 2), and the held value is the right
+/// size: against colossus 1.4.0's simulation-calibrated diemer19 and ludlow16 models
+/// (`concentration.concentration(M, "vir", z, model)`, planck18;
+/// `concentration_highz.json`, `make_concentration_highz_fixtures.py`), c_vir at 1e7-1e10
+/// Msun/h and z = 6-15 lies within a factor 2 of each. The band is the two models' own
+/// spread: they differ from each other by up to x1.85 on this grid. The fit extrapolated, as
+/// before 2026-12-04, fails it (1e8 Msun/h: 1.38 at z = 8 against 3.06, 0.87 at z = 10).
+#[test]
+fn val_concentration_beyond_the_fits_range() {
+    let (c, _) = setup();
+    let f = fixture("concentration_highz.json");
+    let h = c.h();
+    let m_h = floats(&f["mass_msun_h"]);
+    for model in ["diemer19", "ludlow16"] {
+        for row in f["models"][model].as_array().unwrap() {
+            let z = num(&row["z"]);
+            let want = floats(&row["c_vir"]);
+            for (i, &m) in m_h.iter().enumerate() {
+                let got = c_of_m(
+                    ConcentrationModel::DuttonMaccio14,
+                    &c,
+                    m / h,
+                    z,
+                    MassDefinition::Vir,
+                );
+                let held = c_of_m(
+                    ConcentrationModel::DuttonMaccio14,
+                    &c,
+                    m / h,
+                    5.0,
+                    MassDefinition::Vir,
+                );
+                assert_eq!(got, held, "M={m:e} z={z}");
+                let r = got / want[i];
+                assert!(
+                    (0.5..=2.0).contains(&r),
+                    "{model} M={m:e} Msun/h z={z}: {got:.3} against {:.3} (x{r:.2})",
+                    want[i]
+                );
+            }
+        }
+    }
+    for z in [2.5, 6.0] {
+        let c_at = |z| {
+            c_of_m(
+                ConcentrationModel::Duffy08,
+                &c,
+                1e10,
+                z,
+                MassDefinition::Vir,
+            )
+        };
+        assert_eq!(c_at(z), c_at(2.0), "Duffy et al. 2008 at z = {z}");
+    }
+}
+
 /// NFW profiles: r_s, rho_s, Vmax, Rmax, enclosed mass and circular velocity against
 /// colossus `NFWProfile` (and the fixture's cancellation-free `_exact` values at small r):
 /// tolerance 1e-6 (colossus uses x_max = 2.16258, 7e-7 from the root).
