@@ -107,6 +107,24 @@ pub fn host_rng(master_seed: u64, host: HostId, purpose: Stream) -> ChaCha8Rng {
     rng
 }
 
+/// The generator of one host's draws in one statistical test: keyed on the host's whole
+/// stream number (`HostId::stream`, the id stored with its rows), so that hosts of different
+/// cosmologies, mass bins, environments or pair members never share draws, and on `test`
+/// (which test and which clock). Before 2026-12-04 the tests built their host from the index
+/// alone, so host k of every cell drew the same numbers and comparisons between cells carried
+/// correlated Monte Carlo noise (found by a review). Bytes 24-27 hold `test + 1`, which
+/// `host_rng` leaves zero, so the two never share a key.
+pub fn test_rng(master_seed: u64, host_stream: u64, purpose: Stream, test: u32) -> ChaCha8Rng {
+    let mut key = [0u8; 32];
+    key[..8].copy_from_slice(&master_seed.to_le_bytes());
+    key[8..16].copy_from_slice(&(purpose as u64).to_le_bytes());
+    key[16..24].copy_from_slice(b"retinue1");
+    key[24..28].copy_from_slice(&(test + 1).to_le_bytes());
+    let mut rng = ChaCha8Rng::from_seed(key);
+    rng.set_stream(host_stream);
+    rng
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -129,6 +147,23 @@ mod tests {
         let mut d = host_rng(7, HostId::new(0, 0, 1), Stream::Orbits);
         assert_ne!(a[0], c.random::<u64>());
         assert_ne!(a[0], d.random::<u64>());
+    }
+
+    /// Hosts of different cells (same index) and different tests draw different numbers.
+    #[test]
+    fn test_streams_differ_by_cell_and_test() {
+        let first = |h: HostId, t: u32| -> u64 {
+            test_rng(7, h.stream(), Stream::Statistics, t).random::<u64>()
+        };
+        let (a, b) = (HostId::new(0, 0, 3), HostId::new(0, 1, 3));
+        assert_ne!(first(a, 0), first(b, 0));
+        assert_ne!(first(a, 0), first(a, 1));
+        assert_ne!(first(a, 0), first(a.in_environment(1, 1), 0));
+        assert_eq!(first(a, 2), first(a, 2));
+        assert_ne!(
+            first(a, 0),
+            host_rng(7, a, Stream::Statistics).random::<u64>()
+        );
     }
 
     /// Value stability: the first draw of a fixed stream never changes (regression).

@@ -18,8 +18,9 @@
 //! 5. Backsplash fraction in a shell outside the host (see `backsplash`).
 //! 6. Dependence on host mass and cosmology: the same numbers per grid cell.
 //!
-//! Random numbers: one stream per host (Stream::Statistics, the host's id), and one for the
-//! bootstrap; results do not depend on thread count.
+//! Random numbers: one stream per host and test (`rng::test_rng` on the host's stored id, so
+//! hosts of different cells never share draws), and one for the bootstrap; results do not
+//! depend on thread count.
 
 use rand::Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -37,7 +38,7 @@ use crate::cosmology::Cosmology;
 use crate::error::InvalidValue;
 use crate::galaxies::GalaxyOptions;
 use crate::linear::LinearTheory;
-use crate::rng::{host_rng, HostId, Stream};
+use crate::rng::{host_rng, test_rng, HostId, Stream};
 
 /// Windows for phase-space matching.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -402,12 +403,9 @@ fn curves_mut(r: &mut AnalysisResults) -> Vec<&mut Curve> {
 
 /// The Poisson(1) bootstrap weights of one host (its own stream: independent of chunking).
 pub fn bootstrap_weights(master_seed: u64, host_id: u64, resamples: usize) -> Vec<u32> {
-    let id = HostId::new(
-        (host_id >> 48) as u16,
-        (host_id >> 32) as u16,
-        host_id as u32,
-    );
-    let mut rng = host_rng(master_seed, id, Stream::Bootstrap);
+    // on the host's whole stream number (its mass bin was read with the environment and
+    // pair bits and then masked, so a pair's hosts shared an isolated host's weights)
+    let mut rng = test_rng(master_seed, host_id, Stream::Bootstrap, 0);
     (0..resamples).map(|_| poisson1(&mut rng)).collect()
 }
 
@@ -640,17 +638,11 @@ pub fn run_tests_raw(
         let mc: Vec<Vec<f64>> = usable
             .par_iter()
             .map(|&h| {
-                let mut rng = host_rng(
+                let mut rng = test_rng(
                     master_seed,
-                    HostId {
-                        cosmology: clock as u16,
-                        mass_bin: 0,
-                        index: cat.host_id[h] as u32,
-                        // (a pair's two hosts on streams of their own; isolated hosts as before)
-                        environment: HostId::from_stream(cat.host_id[h]).environment,
-                        member: HostId::from_stream(cat.host_id[h]).member,
-                    },
+                    cat.host_id[h],
                     Stream::Statistics,
+                    clock as u32,
                 );
                 p_all_mc(
                     &host_times(h),
@@ -727,17 +719,11 @@ pub fn run_tests_raw(
             let per: Vec<Vec<f64>> = rows
                 .par_iter()
                 .map(|&h| {
-                    let mut rng = host_rng(
+                    let mut rng = test_rng(
                         master_seed,
-                        HostId {
-                            cosmology: 16 + clock as u16,
-                            mass_bin: 0,
-                            index: cat.host_id[h] as u32,
-                            // (a pair's two hosts on streams of their own; isolated hosts as before)
-                            environment: HostId::from_stream(cat.host_id[h]).environment,
-                            member: HostId::from_stream(cat.host_id[h]).member,
-                        },
+                        cat.host_id[h],
                         Stream::Statistics,
+                        16 + clock as u32,
                     );
                     let lb: Vec<f64> = host_times(h).iter().map(|&t| t0[h] - t).collect();
                     let draws = options.draws;
