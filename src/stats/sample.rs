@@ -524,15 +524,27 @@ fn object_problems(
         "mstar_msun",
         derived.mstar.as_ref(),
         o.mstar_msun,
-        o.mstar_msun > 0.0 && o.mstar_msun < 1e13,
-        "must be in (0, 1e13) Msun",
+        o.mstar_msun >= 20.0 && o.mstar_msun < 1e13,
+        "must be in [20, 1e13) Msun (no known satellite has fewer than a few hundred: a value \
+         below 20 is likely log10 M*; give it in Msun)",
     );
+    // a distance given directly below 1 kpc is taken for one in Mpc (a satellite there would
+    // lie inside the bulge); one derived from sky coordinates is the conversion's own result
+    let (r_ok, r_allowed) = if derived.r_gc.is_some() {
+        (o.r_gc_kpc >= 0.0, "must be in [0, 5000) kpc")
+    } else {
+        (
+            o.r_gc_kpc >= 1.0,
+            "must be in [1, 5000) kpc (a satellite within 1 kpc of the centre would lie inside \
+             the bulge: a value below 1 is likely in Mpc; give it in kpc)",
+        )
+    };
     bad(
         "r_gc_kpc",
         derived.r_gc.as_ref(),
         o.r_gc_kpc,
-        o.r_gc_kpc >= 0.0 && o.r_gc_kpc < 5000.0,
-        "must be in [0, 5000) kpc",
+        r_ok && o.r_gc_kpc < 5000.0,
+        r_allowed,
     );
     bad(
         "v_r_kms",
@@ -1321,7 +1333,7 @@ mod tests {
         let e = csv(&text.replace("-8.0", "-29")).unwrap_err();
         assert!(
             e.starts_with("s.csv: line 2: object `A`: mstar_msun = ")
-                && e.contains("(from m_v = -29 with mass_to_light_v = 2) is not allowed: must be in (0, 1e13) Msun"),
+                && e.contains("(from m_v = -29 with mass_to_light_v = 2) is not allowed: must be in [20, 1e13) Msun"),
             "{e}"
         );
     }
@@ -1598,11 +1610,24 @@ mod tests {
         s.objects.push(s.objects[1].clone());
         assert_eq!(
             s.check().unwrap_err(),
-            "object `A`: r_gc_kpc = -1 is not allowed: must be in [0, 5000) kpc\n\
+            "object `A`: r_gc_kpc = -1 is not allowed: must be in [1, 5000) kpc (a satellite within 1 kpc of the centre would lie inside the bulge: a value below 1 is likely in Mpc; give it in kpc)\n\
              id `A` is given twice (objects 1 and 2)\n\
              id `A` is given twice (objects 1 and 3)"
         );
         assert!(ObservedSample::default().check().is_err());
+        // values in the wrong unit: log10 M* and a distance in Mpc (review of 2026-12-04:
+        // both passed, the first matching nothing, the second matching mocks at 0-25 kpc)
+        let mut s = csv(&text).unwrap().sample;
+        s.objects[0].mstar_msun = 5.3;
+        s.objects[1].r_gc_kpc = 0.06;
+        let e = s.check().unwrap_err();
+        assert!(
+            e.contains("object `A`: mstar_msun = 5.3 is not allowed: must be in [20, 1e13) Msun")
+                && e.contains("likely log10 M*")
+                && e.contains("object `B`: r_gc_kpc = 0.06 is not allowed")
+                && e.contains("likely in Mpc"),
+            "{e}"
+        );
     }
 
     /// The demo's two forms hold the same objects.
