@@ -381,6 +381,9 @@ pub fn analyse(
             }
         }
     }
+    // the marker first: a report cut short is still recognised as retinue's
+    crate::report::directory::mark(&dir, store, &format!("analysis {}", target.name))
+        .map_err(|e| AnalysisError::Failed(e.to_string()))?;
     let files = write_tables(
         &dir,
         &res,

@@ -38,7 +38,9 @@ pub struct RunArgs {
     /// Continue an interrupted run (its finished parts are kept).
     #[arg(long)]
     pub resume: bool,
-    /// Replace an existing file at the output (a store of an earlier run, or any other file).
+    /// Replace an existing file at the output (a store of an earlier run, or any other file),
+    /// and write the report into a NAME-report directory that holds files retinue did not
+    /// write.
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -51,7 +53,8 @@ pub struct DemoArgs {
     /// Worker threads, 0 to 1024 (0 = all cores).
     #[arg(long, default_value_t = 0, value_parser = parse_threads)]
     pub threads: usize,
-    /// Replace files in the directory that the demo did not write (e.g. your own sample.csv).
+    /// Replace files in the directory that the demo did not write (e.g. your own sample.csv,
+    /// files in demo-report/). Without it the demo replaces only an earlier demo's files.
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -108,10 +111,13 @@ pub struct InfallArgs {
     /// and the time, e.g. `sample-20261203-101500`).
     #[arg(long)]
     pub name: Option<String>,
-    /// Report directory (default: STORE-NAME-report next to the store).
+    /// Report directory (default: STORE-NAME-report next to the store). A directory that
+    /// holds files is written into only when it is a report directory retinue wrote (it has
+    /// a .retinue-report file), or with --overwrite.
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Replace an analysis of the same name.
+    /// Replace an analysis of the same name, and write the report into a directory that
+    /// holds files retinue did not write (replacing those of a report's names).
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -566,6 +572,17 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
     inputs.extend(cfg.sample_path());
     // with --resume an existing store of this run is completed (tests and report), not replaced
     guard_output(&out, &inputs, a.overwrite, a.resume)?;
+    // the report goes to NAME-report next to the store (a run split into shards, or of hosts
+    // the tests do not read, writes none)
+    if a.shard.is_none() && cfg.file.host.z_final == 0.0 {
+        guard_report_dir(
+            &report_dir(&out),
+            a.overwrite,
+            "the run's report directory",
+            "give the store another name with --out (its report goes to NAME-report next to \
+             it), or move those files",
+        )?;
+    }
     let existing = if a.overwrite {
         Existing::ReplaceOther
     } else {
@@ -643,6 +660,14 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
     }
     let out = a.out.join("demo.h5");
     guard_output(&out, &[], a.overwrite, true)?;
+    for rep in ["demo-report", "demo-bright-report"] {
+        guard_report_dir(
+            &a.out.join(rep),
+            a.overwrite,
+            "the demo's report directory",
+            "use another --out, or move those files",
+        )?;
+    }
     for (p, content) in inputs {
         std::fs::write(p, content)
             .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", p.display())))?;
@@ -671,16 +696,21 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
          (retinue infall {} --sample bright-sample.csv --config bright-tests.toml) ==",
         out.display()
     );
-    infall(InfallArgs {
-        store: out,
-        sample: Some(bright_path),
-        columns: None,
-        config: Some(bright_tests),
-        cells: Vec::new(),
-        name: Some("bright".into()),
-        out: Some(a.out.join("demo-bright-report")),
-        overwrite: true,
-    })
+    // (an earlier demo's "bright" analysis is replaced; its report directory was checked
+    // above)
+    infall_into(
+        InfallArgs {
+            store: out,
+            sample: Some(bright_path),
+            columns: None,
+            config: Some(bright_tests),
+            cells: Vec::new(),
+            name: Some("bright".into()),
+            out: Some(a.out.join("demo-bright-report")),
+            overwrite: true,
+        },
+        a.overwrite,
+    )
 }
 
 pub fn check(a: CheckArgs) -> Result<(), CliError> {
@@ -826,6 +856,30 @@ fn guard_output(
     Ok(())
 }
 
+/// Before anything is written: a report may go into `dir` when it is absent, empty or a
+/// report directory retinue wrote (`report::directory`), or with `overwrite`; never when it
+/// is a file. `what` names the directory in messages (e.g. "--out DIR"), `remedy` says what
+/// to do instead of `--overwrite`. (Review: `infall --out DIR` replaced a user's report.md and
+/// CSV files there, and its clean-up deleted other files of a report's names.)
+fn guard_report_dir(dir: &Path, overwrite: bool, what: &str, remedy: &str) -> Result<(), CliError> {
+    if dir.is_file() {
+        return Err(usage(format!(
+            "{what} {} is a file, and the report needs a directory; {remedy}",
+            dir.display()
+        )));
+    }
+    if overwrite {
+        return Ok(());
+    }
+    match retinue::report::directory::foreign_dir_problem(dir) {
+        Some(p) => Err(usage(format!(
+            "{what} {} {p}; {remedy}, or add --overwrite to write there anyway",
+            dir.display()
+        ))),
+        None => Ok(()),
+    }
+}
+
 /// The lock on a store for one writer (`io::lock`); a second writer fails at once, naming the
 /// holder.
 fn writer_lock(target: &Path, command: &str) -> Result<retinue::io::lock::WriterLock, CliError> {
@@ -879,9 +933,15 @@ pub fn merge(a: MergeArgs) -> Result<(), CliError> {
 pub struct PlotArgs {
     /// A run store.
     pub store: PathBuf,
-    /// Directory for the PNG and SVG files (default: NAME-report next to the store).
+    /// Directory for the PNG and SVG files (default: NAME-report next to the store). A
+    /// directory that holds files is written into only when it is a report directory retinue
+    /// wrote (it has a .retinue-report file), or with --overwrite.
     #[arg(long)]
     pub out: Option<PathBuf>,
+    /// Write into a directory that holds files retinue did not write (replacing those of a
+    /// figure's name).
+    #[arg(long)]
+    pub overwrite: bool,
     /// Observed sample (CSV or TOML), for the sample's N, its tests and its markers on the
     /// figures; default: the run's sample (looked
     /// for in the run's configuration directory, next to the store, then here).
@@ -948,13 +1008,24 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     let grid = Grid::new(cfg).map_err(run_err)?;
     // whole tables, each host once (a shard is drawn as it is)
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
+    let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
+    guard_report_dir(
+        &dir,
+        a.overwrite,
+        if a.out.is_some() {
+            "--out"
+        } else {
+            "the store's report directory"
+        },
+        "give another --out, or move those files",
+    )?;
     let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
     let sample = sample.map(|(s, _)| s);
     let c = analysis::compute(&grid, &a.store, sample.as_ref(), cells.as_deref())
         .map_err(analysis_err)?;
-    let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
-    std::fs::create_dir_all(&dir)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
+    // the marker first (`report::directory`), creating the directory
+    retinue::report::directory::mark(&dir, &a.store, "figures")
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))?;
     let figs = analysis::figures(
         &grid,
         &dir,
@@ -973,7 +1044,14 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     Ok(())
 }
 
-pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
+pub fn infall(a: InfallArgs) -> Result<(), CliError> {
+    let replace_files = a.overwrite;
+    infall_into(a, replace_files)
+}
+
+/// `retinue infall`; `replace_files`: the report may go into a directory that is not a
+/// report directory (`guard_report_dir`; for the command line, `--overwrite`).
+fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
     // a store named through a symbolic link is written where it lives (review: the link was
     // replaced by a copy holding the new analysis, and two names gave two locks)
     if a.store.is_symlink() {
@@ -1089,6 +1167,22 @@ pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
             "--out {}: a file of that name exists; the report needs a directory",
             dir.display()
         )));
+    }
+    if a.out.is_some() {
+        guard_report_dir(
+            &dir,
+            replace_files,
+            "--out",
+            "give another --out, or move those files",
+        )?;
+    } else {
+        guard_report_dir(
+            &dir,
+            replace_files,
+            "the analysis's report directory",
+            "give the report another directory with --out (or the analysis another --name), \
+             or move those files",
+        )?;
     }
     // the store must hold every host of its run (or of its shard) exactly once
     retinue::io::store::check_complete(&a.store).map_err(usage)?;

@@ -1,0 +1,146 @@
+//! Nothing of the user's is replaced by surprise, and nothing stale is left looking current
+//! (findings of a review, one test each).
+
+use std::path::Path;
+
+use crate::common::{dir_names, run_cli, run_ok, write};
+
+const TINY: &str = r#"
+[run]
+master_seed = 11
+hosts_per_cell = 3
+batch_hosts = 2
+output = "tiny.h5"
+
+[cosmology]
+preset = "planck18"
+
+[host]
+mass_msun = [8e11, 1.2e12]
+
+[trees]
+resolution_msun = 1e9
+z_max = 10.0
+output_steps = 16
+
+[tests]
+n_draw = 3
+draws = 500
+bootstrap = 50
+n_range = [3, 4]
+z_grid = [0.0, 0.5, 1.0, 2.0]
+"#;
+
+/// Every file under `dir` with its contents (names sorted).
+fn contents(dir: &Path) -> Vec<(String, Vec<u8>)> {
+    dir_names(dir)
+        .into_iter()
+        .map(|n| {
+            let b = std::fs::read(dir.join(&n)).unwrap();
+            (n, b)
+        })
+        .collect()
+}
+
+/// `infall --out DIR` and `plot --out DIR` write into a directory of a user's files only with
+/// --overwrite (review: report.md, backsplash.csv and all_of_n.csv there were replaced and a
+/// quenching_delay.csv deleted as a stale report file); `run` does not write its report into
+/// a NAME-report directory of a user's files either. A directory retinue wrote is re-used
+/// without --overwrite, and so is a report directory from before the marker file.
+#[test]
+fn reports_never_replace_a_users_files() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", c, "--out", s]);
+    // a directory of the user's own files, some with a report's names
+    let mine = d.path().join("mine");
+    std::fs::create_dir(&mine).unwrap();
+    for (n, t) in [
+        ("report.md", "# my notes\n"),
+        ("backsplash.csv", "my,data\n"),
+        ("all_of_n.csv", "mine\n"),
+        ("quenching_delay.csv", "mine too\n"),
+        ("notes.txt", "keep\n"),
+    ] {
+        write(&mine, n, t);
+    }
+    let before = contents(&mine);
+    let m = mine.to_str().unwrap();
+    for args in [
+        vec!["infall", s, "--name", "x", "--out", m],
+        vec!["plot", s, "--out", m],
+    ] {
+        let (code, _, err) = run_cli(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(
+            err.contains(m) && err.contains("--overwrite") && err.contains("report.md"),
+            "{args:?}: {err}"
+        );
+        assert_eq!(contents(&mine), before, "{args:?} changed the user's files");
+    }
+    // nothing was stored under the refused name
+    let (code, _, err) = run_cli(&["infall", s, "--name", "x", "--out", m]);
+    assert_eq!(code, 2, "{err}");
+    assert!(!err.contains("already holds an analysis"), "{err}");
+    // the default report directory of an analysis, when it holds a user's files
+    let named = d.path().join("s-y-report");
+    std::fs::create_dir(&named).unwrap();
+    write(&named, "report.md", "# mine\n");
+    let (code, _, err) = run_cli(&["infall", s, "--name", "y"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("s-y-report"), "{err}");
+    assert_eq!(
+        std::fs::read_to_string(named.join("report.md")).unwrap(),
+        "# mine\n"
+    );
+    // with --overwrite: written there, the user's other files kept
+    run_ok(&["infall", s, "--name", "x", "--out", m, "--overwrite"]);
+    assert_eq!(
+        std::fs::read_to_string(mine.join("notes.txt")).unwrap(),
+        "keep\n"
+    );
+    assert!(std::fs::read_to_string(mine.join("report.md"))
+        .unwrap()
+        .starts_with("# Infall-time tests"));
+    // a report directory retinue wrote is written again without --overwrite, by `infall`,
+    // `plot` and `run` alike
+    let fresh = d.path().join("fresh");
+    let f = fresh.to_str().unwrap();
+    run_ok(&["infall", s, "--name", "a", "--out", f]);
+    assert!(fresh.join(".retinue-report").is_file());
+    run_ok(&["infall", s, "--name", "b", "--out", f]);
+    run_ok(&["plot", s, "--out", f]);
+    run_ok(&["infall", s, "--name", "a", "--overwrite"]);
+    run_ok(&["infall", s, "--name", "a", "--overwrite"]);
+    run_ok(&["run", c, "--out", s, "--overwrite"]);
+    run_ok(&["run", c, "--resume", "--out", s]);
+    run_ok(&["plot", s]);
+    // ... and so is a report directory from before the marker (recognised by report.md)
+    std::fs::remove_file(fresh.join(".retinue-report")).unwrap();
+    run_ok(&["infall", s, "--name", "c", "--out", f]);
+    // `plot` into a new directory marks it, so that it can draw there again
+    let figs = d.path().join("figs");
+    run_ok(&["plot", s, "--out", figs.to_str().unwrap()]);
+    run_ok(&["plot", s, "--out", figs.to_str().unwrap()]);
+    // `run`: the report directory NAME-report next to the store, when it holds a user's
+    // files, is refused before the first host
+    let other = d.path().join("o-report");
+    std::fs::create_dir(&other).unwrap();
+    write(&other, "report.md", "# mine\n");
+    let o = d.path().join("o.h5");
+    let (code, _, err) = run_cli(&["run", c, "--out", o.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("o-report") && err.contains("--overwrite"),
+        "{err}"
+    );
+    assert!(!o.exists());
+    assert!(!d.path().join(".o.h5.parts").exists());
+    assert_eq!(
+        std::fs::read_to_string(other.join("report.md")).unwrap(),
+        "# mine\n"
+    );
+}
