@@ -778,6 +778,7 @@ pub fn synthesize_to_store(
     w.flush()
         .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(parts_bytes()))?;
     drop(w);
+    retire_reports(out)?;
     let path = atomic.commit()?;
     let _ = std::fs::remove_dir_all(&dir);
     Ok(path)
@@ -869,7 +870,25 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     let atomic = AtomicPath::new(out);
     let shards: Vec<PathBuf> = metas.iter().map(|(_, p)| p.clone()).collect();
     join_stores(&atomic, &meta, &shards)?;
+    retire_reports(out)?;
     Ok(atomic.commit()?)
+}
+
+/// Just before a new store takes its place at `out`: remove the reports of what was there
+/// (`report::directory::retire_reports_of`), so that a store never sits next to a report of
+/// another run, even when the command is killed after the store is in place and before its
+/// own report is written (review: a killed `run --overwrite` left the earlier run's report,
+/// of another seed, beside the new store). Each directory is named on stderr.
+fn retire_reports(out: &Path) -> Result<(), IoError> {
+    for d in crate::report::directory::retire_reports_of(out)? {
+        eprintln!(
+            "removed the earlier report in {} before writing {} (a report of another run must \
+             not sit next to it)",
+            d.display(),
+            out.display()
+        );
+    }
+    Ok(())
 }
 
 /// A build fingerprint for messages: stores and parts from before fingerprints were

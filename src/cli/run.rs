@@ -40,7 +40,9 @@ pub struct RunArgs {
     pub resume: bool,
     /// Replace an existing file at the output (a store of an earlier run, or any other file),
     /// and write the report into a NAME-report directory that holds files retinue did not
-    /// write.
+    /// write. The reports of a store that is replaced (NAME-report/, and the
+    /// NAME-ANALYSIS-report/ directories of `retinue infall`) are removed just before the new
+    /// store takes its place.
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -73,7 +75,8 @@ pub struct MergeArgs {
     /// The joined store (written under a temporary name, renamed when complete).
     #[arg(long)]
     pub out: PathBuf,
-    /// Replace an existing file at --out.
+    /// Replace an existing file at --out (the reports of a store it replaces are removed,
+    /// as with `run --overwrite`).
     #[arg(long)]
     pub overwrite: bool,
 }

@@ -5,9 +5,10 @@
 //! or figure: it names the store the report is of. A directory is a report directory when it
 //! holds the marker, or (reports written before the marker was) when its `report.md` starts
 //! with the report's heading. `run`, `infall` and `plot` write into a directory that exists
-//! and holds anything only when it is a report directory (or with `--overwrite`).
+//! and holds anything only when it is a report directory (or with `--overwrite`), and a store
+//! that replaces another retires the reports of the one it replaces (`retire_reports_of`).
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use crate::io::IoError;
 
@@ -27,9 +28,10 @@ pub fn mark(dir: &Path, store: &Path, what: &str) -> Result<(), IoError> {
         .unwrap_or_default();
     let text = format!(
         "# A report directory written by retinue. `retinue run`, `infall` and `plot` replace and\n\
-         # remove only their own files here (report.md, the CSV tables, the figures). Delete\n\
-         # this file to keep the directory as it is: retinue then writes into it only with\n\
-         # --overwrite.\n\
+         # remove only their own files here (report.md, the CSV tables, the figures); a run\n\
+         # that replaces the store named below removes them, and the directory when nothing\n\
+         # else is left in it. Delete this file to keep the directory as it is: retinue then\n\
+         # writes into it only with --overwrite.\n\
          store = {}\n\
          written_by = {}\n",
         toml_string(&store_name),
@@ -94,4 +96,105 @@ pub fn foreign_dir_problem(dir: &Path) -> Option<String> {
             String::new()
         }
     ))
+}
+
+/// The names of the files a report may hold (tables, `report.md`, figures), without the
+/// marker.
+fn report_file_names() -> Vec<String> {
+    let mut names: Vec<String> = super::TABLE_NAMES.iter().map(|n| n.to_string()).collect();
+    names.extend(
+        super::figures::FIGURE_NAMES
+            .iter()
+            .flat_map(|n| [format!("{n}.png"), format!("{n}.svg")]),
+    );
+    names
+}
+
+/// Remove the report in `dir` (a report directory of `store`): `report.md` first (what makes
+/// it look complete), then the tables, the figures and their hidden partial files. Files of
+/// other names are left alone; when there are any, the marker stays (written if the report
+/// was from before it), so that the directory is still taken for a report directory and the
+/// new store's report may go there; otherwise the marker goes and the directory with it.
+fn retire(dir: &Path, store: &Path) -> Result<(), IoError> {
+    let mut names = vec!["report.md".to_string()];
+    names.extend(report_file_names().into_iter().filter(|n| n != "report.md"));
+    for n in &names {
+        let mut paths = vec![dir.join(n), dir.join(format!(".{n}.partial"))];
+        // a figure's partial file is `.NAME.partial.EXT`
+        if let Some((stem, ext)) = n.rsplit_once('.') {
+            paths.push(dir.join(format!(".{stem}.partial.{ext}")));
+        }
+        for p in paths {
+            if p.is_file() {
+                std::fs::remove_file(&p).map_err(|e| IoError::fs(&p, e))?;
+            }
+        }
+    }
+    let others = std::fs::read_dir(dir)
+        .map_err(|e| IoError::fs(dir, e))?
+        .flatten()
+        .any(|e| e.file_name() != MARKER);
+    let m = dir.join(MARKER);
+    if others {
+        if !m.is_file() {
+            mark(dir, store, "a report, removed with the store it was of")?;
+        }
+    } else {
+        if m.is_file() {
+            std::fs::remove_file(&m).map_err(|e| IoError::fs(&m, e))?;
+        }
+        let _ = std::fs::remove_dir(dir);
+    }
+    Ok(())
+}
+
+/// Before a new store is put at `store` (over an earlier one, or where one was): remove the
+/// reports that describe what was there, so that a store never sits next to a report of
+/// another run. These are the run's report directory (`analysis::report_dir`: NAME-report
+/// next to the store) when it is a report directory, and the default directories of
+/// `retinue infall` (NAME-ANALYSIS-report next to it) whose marker names this store. Only
+/// the report's files go (`retire`); a directory left with nothing else goes too. Reports written
+/// elsewhere (`--out DIR`) are not looked for. Returns the directories whose report was
+/// removed.
+pub fn retire_reports_of(store: &Path) -> Result<Vec<PathBuf>, IoError> {
+    let Some(name) = store.file_name().map(|n| n.to_string_lossy().into_owned()) else {
+        return Ok(Vec::new());
+    };
+    let stem = store
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".into());
+    let parent = match store.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let mut retired = Vec::new();
+    let own = crate::analysis::report_dir(store);
+    if own.is_dir() && is_report_dir(&own) {
+        retire(&own, store)?;
+        retired.push(own.clone());
+    }
+    let prefix = format!("{stem}-");
+    if let Ok(entries) = std::fs::read_dir(&parent) {
+        // (named as the store is: `x-a-report` for `x.h5`, not `./x-a-report`)
+        let mut dirs: Vec<PathBuf> = entries
+            .flatten()
+            .map(|e| store.with_file_name(e.file_name()))
+            .filter(|p| {
+                p.file_name().is_some_and(|n| {
+                    let n = n.to_string_lossy();
+                    n.starts_with(&prefix) && n.ends_with("-report")
+                }) && p.is_dir()
+                    && p.file_name() != own.file_name()
+            })
+            .collect();
+        dirs.sort();
+        for d in dirs {
+            if marked_store(&d).as_deref() == Some(name.as_str()) {
+                retire(&d, store)?;
+                retired.push(d);
+            }
+        }
+    }
+    Ok(retired)
 }

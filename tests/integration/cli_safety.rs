@@ -144,3 +144,102 @@ fn reports_never_replace_a_users_files() {
         "# mine\n"
     );
 }
+
+/// A `run --overwrite` killed (SIGKILL) after its store is in place and before its report is
+/// written leaves no report of the earlier run beside the new store (review: the old
+/// `NAME-report/`, of another seed, stayed and looked complete); `--resume` then writes the
+/// new run's report. The reports of `retinue infall` on the earlier store go too; a user's
+/// file in the report directory stays.
+#[test]
+fn a_replaced_store_takes_its_reports_with_it() {
+    use std::os::unix::fs::MetadataExt;
+    use std::os::unix::process::ExitStatusExt;
+    let d = tempfile::tempdir().unwrap();
+    let old = write(d.path(), "old.toml", TINY);
+    // tests long enough (seconds) for the kill to land between the store and the report
+    let heavy = TINY
+        .replace("master_seed = 11", "master_seed = 5")
+        .replace("draws = 500", "draws = 3000000")
+        .replace("bootstrap = 50", "bootstrap = 100000");
+    let new = write(d.path(), "new.toml", &heavy);
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", old.to_str().unwrap(), "--out", s]);
+    run_ok(&["infall", s, "--name", "mine"]);
+    let report = d.path().join("s-report");
+    let md = report.join("report.md");
+    assert!(std::fs::read_to_string(&md)
+        .unwrap()
+        .contains("master seed 11"));
+    write(&report, "my-notes.txt", "keep\n");
+    assert!(d.path().join("s-mine-report/report.md").is_file());
+    // a store of another name beginning the same way keeps its report
+    let cousin = d.path().join("s-x.h5");
+    run_ok(&[
+        "run",
+        old.to_str().unwrap(),
+        "--out",
+        cousin.to_str().unwrap(),
+    ]);
+    let inode = std::fs::metadata(&store).unwrap().ino();
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(["run", new.to_str().unwrap(), "--overwrite", "--out", s])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let t0 = std::time::Instant::now();
+    while std::fs::metadata(&store).map(|m| m.ino()).ok() == Some(inode) {
+        if let Some(st) = child.try_wait().unwrap() {
+            panic!("run ended ({st}) before its store was seen");
+        }
+        assert!(t0.elapsed().as_secs() < 120, "no new store after 120 s");
+        std::thread::sleep(std::time::Duration::from_micros(500));
+    }
+    // SAFETY: a signal to our own child, which has not been waited for yet
+    assert_eq!(unsafe { libc::kill(child.id() as i32, libc::SIGKILL) }, 0);
+    let st = child.wait().unwrap();
+    assert_eq!(
+        st.signal(),
+        Some(libc::SIGKILL),
+        "the run ended first: {st}"
+    );
+    // the new store, and no report of the old one beside it
+    let text = std::fs::read_to_string(&md).unwrap_or_default();
+    assert!(
+        !text.contains("master seed 11"),
+        "the earlier run's report stayed beside the new store"
+    );
+    assert!(!d.path().join("s-mine-report/report.md").exists());
+    assert!(!d.path().join("s-mine-report").exists());
+    assert_eq!(
+        std::fs::read_to_string(report.join("my-notes.txt")).unwrap(),
+        "keep\n"
+    );
+    assert!(d.path().join("s-x-report/report.md").is_file());
+    // --resume writes the new run's report
+    run_ok(&["run", new.to_str().unwrap(), "--resume", "--out", s]);
+    assert!(std::fs::read_to_string(&md)
+        .unwrap()
+        .contains("master seed 5"));
+    // `merge --overwrite` over a store with a report removes it too
+    for k in 1..=2 {
+        run_ok(&[
+            "run",
+            old.to_str().unwrap(),
+            "--shard",
+            &format!("{k}/2"),
+            "--out",
+            d.path().join(format!("p{k}.h5")).to_str().unwrap(),
+        ]);
+    }
+    run_ok(&[
+        "merge",
+        d.path().join("p1.h5").to_str().unwrap(),
+        d.path().join("p2.h5").to_str().unwrap(),
+        "--out",
+        s,
+        "--overwrite",
+    ]);
+    assert!(!md.exists(), "merge left the earlier store's report");
+}
