@@ -433,6 +433,44 @@ pub fn figures(
     crate::report::figures::write_figures(dir, res, fig, &inputs).map_err(AnalysisError::Failed)
 }
 
+/// Whether the files that `grid` was read from besides its configuration (its transfer
+/// tables, `io::inputs`) are those the store's run read: a re-test on a table changed since
+/// would compute the field counts and clocks with a power spectrum the hosts were not grown
+/// with (review: `infall` read the table at its path again without a word). A changed file
+/// is an error naming it; Ok(Some(note)) when the store recorded no hashes (written before
+/// they were) and the grid reads a table, so that nothing can be compared.
+pub fn check_input_files(
+    meta: &StoreMeta,
+    store: &Path,
+    grid: &Grid,
+) -> Result<Option<String>, AnalysisError> {
+    use crate::io::inputs::InputFiles;
+    let now = grid.input_files();
+    let recorded = InputFiles::parse(&meta.input_files);
+    if recorded.is_empty() && !now.is_empty() {
+        return Ok(Some(format!(
+            "{} records no hash of the files its run read (written before they were \
+             recorded): {} cannot be checked to be what its hosts were grown with",
+            store.display(),
+            now.0
+                .iter()
+                .map(|f| format!("{} = {}", f.key, f.path))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )));
+    }
+    let diffs = InputFiles::differences(&recorded, &now, "the store's run");
+    if diffs.is_empty() {
+        return Ok(None);
+    }
+    Err(AnalysisError::Input(format!(
+        "{}: {}; the tests would use a linear theory the hosts were not grown with: put the \
+         file the run read back at that path, or run `retinue run` again with the new one",
+        store.display(),
+        diffs.join("; ")
+    )))
+}
+
 /// The run's own report directory: NAME-report next to the store NAME.h5.
 pub fn report_dir(store: &Path) -> PathBuf {
     let stem = store

@@ -10,6 +10,7 @@ use clap::Args;
 use super::CliError;
 use retinue::analysis::{self, report_dir, resolution_warning, AnalysisError, Target};
 use retinue::config::RunConfig;
+use retinue::io::inputs::InputFiles;
 use retinue::io::store::{read_meta, StoreMeta};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
 use retinue::stats::{AnalysisResults, ObservedSample, SampleOptions};
@@ -363,21 +364,37 @@ fn execute(
     let pool = pool(threads)?;
     // --resume on a store that was published but whose tests or report were interrupted:
     // the hosts are all there, so only the tests and the report are run again
-    let other_store = |meta: &retinue::io::store::StoreMeta| {
-        meta.config_toml != text || meta.shard != (shard.index, shard.count)
+    // (a store of this configuration whose transfer tables were other files is another
+    // run's too)
+    let other_store = |meta: &retinue::io::store::StoreMeta| -> Option<String> {
+        if meta.config_toml != text || meta.shard != (shard.index, shard.count) {
+            return Some(format!(
+                "a store of another configuration or shard (shard {}/{})",
+                meta.shard.0 + 1,
+                meta.shard.1
+            ));
+        }
+        let diffs = InputFiles::differences(
+            &InputFiles::parse(&meta.input_files),
+            &grid.input_files(),
+            "its run",
+        );
+        (!diffs.is_empty()).then(|| {
+            format!(
+                "a store of this configuration grown from other input files ({})",
+                diffs.join("; ")
+            )
+        })
     };
     let replace_other = existing == Existing::ReplaceOther
-        && retinue::io::store::check_complete(&out).is_ok_and(|m| other_store(&m));
+        && retinue::io::store::check_complete(&out).is_ok_and(|m| other_store(&m).is_some());
     if resume && !replace_other && retinue::io::store::is_run_store(&out) {
         let meta = retinue::io::store::check_complete(&out)
             .map_err(|e| usage(format!("--resume: {e}")))?;
-        if other_store(&meta) {
+        if let Some(why) = other_store(&meta) {
             return Err(usage(format!(
-                "--resume: {} is a store of another configuration or shard (shard {}/{}); \
-                 give another --out, or add --overwrite to replace it",
+                "--resume: {} is {why}; give another --out, or add --overwrite to replace it",
                 out.display(),
-                meta.shard.0 + 1,
-                meta.shard.1
             )));
         }
         eprintln!(
@@ -1009,6 +1026,9 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
         run_columns,
     )?;
     let grid = Grid::new(cfg).map_err(run_err)?;
+    if let Some(n) = analysis::check_input_files(&meta, &a.store, &grid).map_err(analysis_err)? {
+        eprintln!("note: {n}");
+    }
     // whole tables, each host once (a shard is drawn as it is)
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
     let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
@@ -1089,6 +1109,10 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
         None => (None, None),
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
+    // the transfer tables read now must be those the hosts were grown with
+    if let Some(n) = analysis::check_input_files(&meta, &a.store, &grid).map_err(analysis_err)? {
+        eprintln!("note: {n}");
+    }
     let _lock = writer_lock(&a.store, "retinue infall")?;
     // the copy an infall writes its analysis into, left by one that was killed (SIGKILL: no
     // handler could remove it) is stale now that the lock is held: removed, so that nothing

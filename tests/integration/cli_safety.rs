@@ -243,3 +243,109 @@ fn a_replaced_store_takes_its_reports_with_it() {
     ]);
     assert!(!md.exists(), "merge left the earlier store's report");
 }
+
+/// A transfer-function table made from the BBKS fit (k in h/Mpc), its T scaled by `f` above
+/// k = 1 h/Mpc: two tables of different contents.
+fn table(f: f64) -> String {
+    let mut t = String::from("# k_unit: h/Mpc\n");
+    for i in 0..=400 {
+        let k = 10f64.powf(-5.0 + 10.0 * i as f64 / 400.0);
+        let q = k / 0.21;
+        let tk = (1.0 + 2.34 * q).ln() / (2.34 * q)
+            * (1.0 + 3.89 * q + (16.1 * q).powi(2) + (5.46 * q).powi(3) + (6.71 * q).powi(4))
+                .powf(-0.25);
+        let tk = if k > 1.0 { tk * f } else { tk };
+        t.push_str(&format!("{k:.10e} {tk:.10e}\n"));
+    }
+    t
+}
+
+/// A transfer table replaced with other contents is noticed by `run --resume` (parts made
+/// with the first), by `merge` (shards made with each), by `infall` and `plot` (a store made
+/// with the first) and by `run --resume` on a finished store, each naming the key and the
+/// file (review: the store's first hosts were grown from one table and the rest from the
+/// other, and only the configuration's text was compared).
+#[test]
+fn a_changed_transfer_table_is_noticed() {
+    let d = tempfile::tempdir().unwrap();
+    let text = TINY
+        .replace(
+            "preset = \"planck18\"",
+            "preset = \"planck18\"\ntransfer = \"table\"\ntransfer_table = \"t.dat\"",
+        )
+        .replace("batch_hosts = 2", "batch_hosts = 1");
+    let cfg = write(d.path(), "t.toml", &text);
+    let c = cfg.to_str().unwrap();
+    let (a, b) = (table(1.0), table(1.03));
+    let t = d.path().join("t.dat");
+    std::fs::write(&t, &a).unwrap();
+    let out = d.path().join("r.h5");
+    let o = out.to_str().unwrap();
+    // an interrupted run: host 3 fails, parts 0-2 are kept
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(["run", c, "--threads", "1", "--out", o])
+        .env("RETINUE_FAULT_HOST", "3")
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(1));
+    let parts = d.path().join(".r.h5.parts");
+    assert!(parts.join("part-00000.h5").exists());
+    std::fs::write(&t, &b).unwrap();
+    let (code, _, err) = run_cli(&["run", c, "--resume", "--out", o]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("cosmology.transfer_table")
+            && err.contains("t.dat")
+            && err.contains(&format!("rm -r {}", parts.display())),
+        "{err}"
+    );
+    assert!(!out.exists());
+    // with the table the run started with, it resumes
+    std::fs::write(&t, &a).unwrap();
+    run_ok(&["run", c, "--resume", "--out", o]);
+    // a re-test with the table changed since
+    std::fs::write(&t, &b).unwrap();
+    for args in [
+        vec!["infall", o, "--name", "later"],
+        vec!["plot", o],
+        vec!["run", c, "--resume", "--out", o],
+    ] {
+        let (code, _, err) = run_cli(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(
+            err.contains("cosmology.transfer_table") && err.contains("t.dat"),
+            "{args:?}: {err}"
+        );
+    }
+    std::fs::write(&t, &a).unwrap();
+    run_ok(&["infall", o, "--name", "later"]);
+    // shards grown from different tables are not merged
+    let shard = |k: u32, table: &str| {
+        std::fs::write(&t, table).unwrap();
+        let p = d.path().join(format!("s{k}.h5"));
+        run_ok(&[
+            "run",
+            c,
+            "--shard",
+            &format!("{k}/2"),
+            "--out",
+            p.to_str().unwrap(),
+        ]);
+        p
+    };
+    let (s1, s2) = (shard(1, &a), shard(2, &b));
+    let m = d.path().join("m.h5");
+    let (code, _, err) = run_cli(&[
+        "merge",
+        s1.to_str().unwrap(),
+        s2.to_str().unwrap(),
+        "--out",
+        m.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("cosmology.transfer_table") && err.contains("different files"),
+        "{err}"
+    );
+    assert!(!m.exists());
+}
