@@ -575,6 +575,14 @@ pub fn stored_config(
         .and_then(|r| r.as_table_mut())
         .and_then(|r| r.remove("sample"))
         .and_then(|v| v.as_str().map(PathBuf::from));
+    // a run given --out could be made from a configuration with `run.output = ""`, refused
+    // since: its store is read as if the key were not there (a re-test writes no store of
+    // its own)
+    if let Some(r) = table.get_mut("run").and_then(|r| r.as_table_mut()) {
+        if r.get("output").and_then(|v| v.as_str()) == Some("") {
+            r.remove("output");
+        }
+    }
     let text = table.to_string();
     let mut first_err = None;
     let mut cfg = None;

@@ -57,7 +57,8 @@ pub struct DemoArgs {
     #[arg(long, default_value_t = 0, value_parser = parse_threads)]
     pub threads: usize,
     /// Replace files in the directory that the demo did not write (e.g. your own sample.csv,
-    /// files in demo-report/). Without it the demo replaces only an earlier demo's files.
+    /// a store named demo.h5 of another configuration or holding your own analyses, files in
+    /// demo-report/). Without it the demo replaces only an earlier demo's files.
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -679,6 +680,17 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
         }
     }
     let out = a.out.join("demo.h5");
+    // an earlier demo's store is replaced, and nothing else: a store of another configuration,
+    // or one holding analyses the demo does not make, only with --overwrite (review: `demo
+    // --out .` replaced any store named demo.h5)
+    if !a.overwrite {
+        if let Some(why) = not_the_demos_store(&out, &text) {
+            return Err(usage(format!(
+                "{} {why}: refusing to replace it (use another --out, or add --overwrite)",
+                out.display()
+            )));
+        }
+    }
     guard_output(&out, &[], a.overwrite, true)?;
     for rep in ["demo-report", "demo-bright-report"] {
         guard_report_dir(
@@ -731,6 +743,37 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
         },
         a.overwrite,
     )
+}
+
+/// The analyses the demo writes into its store.
+const DEMO_ANALYSES: [&str; 2] = ["run", "bright"];
+
+/// Why the file at the demo's store `out` is not an earlier demo's store, which the demo
+/// replaces without --overwrite (None: it is, or there is none): a store of another
+/// configuration than `demo_text`, or one that holds analyses the demo does not make (a
+/// user's `retinue infall` on it). A file that is not a store is left to `guard_output`.
+fn not_the_demos_store(out: &Path, demo_text: &str) -> Option<String> {
+    let config = retinue::io::store::config_text_of(out)?;
+    if config != demo_text {
+        return Some(
+            "is a retinue store of another configuration than the demo's (not an earlier \
+             demo's store)"
+                .into(),
+        );
+    }
+    let (names, _) = retinue::report::analyses_in(out).ok()?;
+    let extra: Vec<&str> = names
+        .iter()
+        .map(String::as_str)
+        .filter(|n| !DEMO_ANALYSES.contains(n))
+        .collect();
+    (!extra.is_empty()).then(|| {
+        format!(
+            "is an earlier demo's store that holds analyses the demo did not make ({}; \
+             replacing the store would lose them)",
+            extra.join(", ")
+        )
+    })
 }
 
 pub fn check(a: CheckArgs) -> Result<(), CliError> {
@@ -852,6 +895,9 @@ fn guard_output(
             "output {name:?} is a directory, not a file: give a file name (e.g. run.h5)"
         )));
     }
+    if let Some(p) = missing_parent(out) {
+        return Err(usage(format!("output {name}: {p}")));
+    }
     if let Some(i) = inputs.iter().find(|i| same_file(out, i)) {
         return Err(usage(format!(
             "output {name} is one of the inputs ({}): choose another output",
@@ -874,6 +920,22 @@ fn guard_output(
         }
     }
     Ok(())
+}
+
+/// Why the directory an output file goes into cannot take it (None: it can): it does not
+/// exist, or is not a directory. (Review: `--out nodir/x.h5` failed on the store's lock file
+/// with a bare operating-system error and exit code 1.)
+pub(crate) fn missing_parent(out: &Path) -> Option<String> {
+    let parent = out.parent().filter(|p| !p.as_os_str().is_empty())?;
+    if parent.is_dir() {
+        return None;
+    }
+    let d = parent.display();
+    Some(if parent.exists() {
+        format!("{d} is not a directory; give an output in a directory")
+    } else {
+        format!("the directory {d} does not exist; create it first (mkdir -p {d}) or give an output in another directory")
+    })
 }
 
 /// Before anything is written: a report may go into `dir` when it is absent, empty or a

@@ -817,6 +817,16 @@ pub fn is_run_store(path: &Path) -> bool {
             .is_some_and(|fmt| fmt.starts_with("retinue run store"))
 }
 
+/// The configuration text a run store of any format version was made with (None: not a run
+/// store, or none recorded); for telling whose a store is without reading it all.
+pub fn config_text_of(path: &Path) -> Option<String> {
+    if !is_run_store(path) {
+        return None;
+    }
+    let f = hdf5::File::open(path).ok()?;
+    get_str_attr(&f, "config").ok()
+}
+
 /// Metadata of an existing store.
 pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     let e = |x| IoError::hdf5(path, x);

@@ -349,3 +349,51 @@ fn a_changed_transfer_table_is_noticed() {
     );
     assert!(!m.exists());
 }
+
+/// Lesser problems of the review: an output in a missing directory is bad input (exit 2,
+/// the directory named; it failed on the lock file with exit 1); `check` refuses an empty
+/// `run.output` (which `run` refuses) and an empty or directory `run.sample`, naming the key;
+/// the demo replaces only its own store.
+#[test]
+fn outputs_and_paths_are_checked_up_front() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let missing = d.path().join("nodir").join("x.h5");
+    let (code, _, err) = run_cli(&["run", c, "--out", missing.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains(&d.path().join("nodir").display().to_string())
+            && err.contains("does not exist"),
+        "{err}"
+    );
+    assert!(!d.path().join("nodir").exists());
+    for (line, key) in [
+        ("output = \"\"", "run.output"),
+        ("output = \"tiny.h5\"\nsample = \"\"", "run.sample"),
+        ("output = \"tiny.h5\"\nsample = \"sub\"", "run.sample"),
+    ] {
+        std::fs::create_dir_all(d.path().join("sub")).unwrap();
+        let bad = write(
+            d.path(),
+            "bad.toml",
+            &TINY.replace("output = \"tiny.h5\"", line),
+        );
+        let (code, _, err) = run_cli(&["check", bad.to_str().unwrap()]);
+        assert_eq!(code, 2, "{line}: {err}");
+        assert!(err.contains(key), "{line}: {err}");
+    }
+    // the demo over a store of another configuration named demo.h5
+    let demo = d.path().join("demo");
+    std::fs::create_dir(&demo).unwrap();
+    let store = demo.join("demo.h5");
+    run_ok(&["run", c, "--out", store.to_str().unwrap()]);
+    let before = std::fs::read(&store).unwrap();
+    let (code, _, err) = run_cli(&["demo", "--out", demo.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("demo.h5") && err.contains("--overwrite"),
+        "{err}"
+    );
+    assert_eq!(std::fs::read(&store).unwrap(), before);
+}
