@@ -381,6 +381,9 @@ pub fn analyse(
             }
         }
     }
+    // the marker first: a report cut short is still recognised as retinue's
+    crate::report::directory::mark(&dir, store, &format!("analysis {}", target.name))
+        .map_err(|e| AnalysisError::Failed(e.to_string()))?;
     let files = write_tables(
         &dir,
         &res,
@@ -428,6 +431,44 @@ pub fn figures(
         resolution_msun: cfg.trees.resolution_msun,
     };
     crate::report::figures::write_figures(dir, res, fig, &inputs).map_err(AnalysisError::Failed)
+}
+
+/// Whether the files that `grid` was read from besides its configuration (its transfer
+/// tables, `io::inputs`) are those the store's run read: a re-test on a table changed since
+/// would compute the field counts and clocks with a power spectrum the hosts were not grown
+/// with (review: `infall` read the table at its path again without a word). A changed file
+/// is an error naming it; Ok(Some(note)) when the store recorded no hashes (written before
+/// they were) and the grid reads a table, so that nothing can be compared.
+pub fn check_input_files(
+    meta: &StoreMeta,
+    store: &Path,
+    grid: &Grid,
+) -> Result<Option<String>, AnalysisError> {
+    use crate::io::inputs::InputFiles;
+    let now = grid.input_files();
+    let recorded = InputFiles::parse(&meta.input_files);
+    if recorded.is_empty() && !now.is_empty() {
+        return Ok(Some(format!(
+            "{} records no hash of the files its run read (written before they were \
+             recorded): {} cannot be checked to be what its hosts were grown with",
+            store.display(),
+            now.0
+                .iter()
+                .map(|f| format!("{} = {}", f.key, f.path))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )));
+    }
+    let diffs = InputFiles::differences(&recorded, &now, "the store's run");
+    if diffs.is_empty() {
+        return Ok(None);
+    }
+    Err(AnalysisError::Input(format!(
+        "{}: {}; the tests would use a linear theory the hosts were not grown with: put the \
+         file the run read back at that path, or run `retinue run` again with the new one",
+        store.display(),
+        diffs.join("; ")
+    )))
 }
 
 /// The run's own report directory: NAME-report next to the store NAME.h5.
@@ -534,6 +575,14 @@ pub fn stored_config(
         .and_then(|r| r.as_table_mut())
         .and_then(|r| r.remove("sample"))
         .and_then(|v| v.as_str().map(PathBuf::from));
+    // a run given --out could be made from a configuration with `run.output = ""`, refused
+    // since: its store is read as if the key were not there (a re-test writes no store of
+    // its own)
+    if let Some(r) = table.get_mut("run").and_then(|r| r.as_table_mut()) {
+        if r.get("output").and_then(|v| v.as_str()) == Some("") {
+            r.remove("output");
+        }
+    }
     let text = table.to_string();
     let mut first_err = None;
     let mut cfg = None;

@@ -19,6 +19,7 @@ use crate::error::InvalidValue;
 use crate::halo::concentration::{concentration, ConcentrationModel};
 use crate::halo::definitions::convert_nfw;
 use crate::halo::MassDefinition;
+use crate::io::inputs::{InputFile, InputFiles};
 use crate::io::store::{part_path, parts_dir, store_rows, write_part, StoreMeta, StoreWriter};
 use crate::io::{AtomicPath, IoError};
 use crate::linear::LinearTheory;
@@ -411,8 +412,40 @@ impl Grid {
         })
     }
 
+    /// The files this grid was read from besides its configuration, with the SHA-256 of what
+    /// was read (`io::inputs`): the transfer-function tables of its cosmologies.
+    pub fn input_files(&self) -> InputFiles {
+        let n = self.config.cosmologies.len();
+        InputFiles(
+            self.config
+                .cosmologies
+                .iter()
+                .zip(&self.theories)
+                .enumerate()
+                .filter_map(|(i, ((_, lin), lt))| {
+                    let path = lin.transfer_table.as_ref()?;
+                    let sha256 = lt.transfer_table_sha256()?.to_string();
+                    let key = if n == 1 {
+                        "cosmology.transfer_table".to_string()
+                    } else {
+                        format!("cosmology[{i}].transfer_table")
+                    };
+                    // (absolute, as `config_dir` is: a relative path says little once the
+                    // working directory is another)
+                    let path = path.canonicalize().unwrap_or_else(|_| path.clone());
+                    Some(InputFile {
+                        key,
+                        path: path.display().to_string(),
+                        sha256,
+                    })
+                })
+                .collect(),
+        )
+    }
+
     pub fn meta(&self, config_text: &str, shard: Shard) -> StoreMeta {
         StoreMeta {
+            input_files: self.input_files().to_text(),
             config_toml: config_text.to_string(),
             master_seed: self.config.file.run.master_seed,
             generator: GENERATOR.to_string(),
@@ -479,6 +512,8 @@ pub fn synthesize_to_store(
     }
     std::fs::create_dir_all(&dir).map_err(|e| IoError::fs(&dir, e))?;
     let stamp = dir.join("config.toml");
+    // parts of an interrupted run (its stamps are there): what it recorded is compared below
+    let interrupted = stamp.exists();
     // a resumed run must be of the same build: one store would otherwise hold hosts
     // synthesised by different code (the crate version does not change between builds);
     // parts with a configuration but no build stamp were written by a build from before it
@@ -509,6 +544,29 @@ pub fn synthesize_to_store(
             dir.display(),
             dir.display()
         )));
+    }
+    // ... read the same files besides the configuration (review: a transfer table replaced
+    // between a kill and the resume gave a store whose first hosts were grown from one table
+    // and the rest from the other); parts from before the files were recorded have none
+    let inputs = grid.input_files();
+    let inputs_stamp = dir.join("inputs");
+    let old_inputs = if interrupted && !inputs_stamp.exists() {
+        Some(String::new())
+    } else {
+        read_or_stamp(&inputs_stamp, &inputs.to_text())?
+    };
+    if let Some(old) = old_inputs {
+        let what = format!("the interrupted run in {}", dir.display());
+        let diffs = InputFiles::differences(&InputFiles::parse(&old), &inputs, &what);
+        if !diffs.is_empty() {
+            return Err(RunError::Input(format!(
+                "--resume: {}; a store must not mix hosts grown from different files: put the \
+                 original file back and resume, or clear the parts with `rm -r {}` to start \
+                 again with the file as it is now",
+                diffs.join("; "),
+                dir.display()
+            )));
+        }
     }
     // ... and be the same shard: parts hold the hosts of the shard that wrote them
     let this = format!("{}/{}", shard.index + 1, shard.count);
@@ -778,6 +836,7 @@ pub fn synthesize_to_store(
     w.flush()
         .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(parts_bytes()))?;
     drop(w);
+    retire_reports(out)?;
     let path = atomic.commit()?;
     let _ = std::fs::remove_dir_all(&dir);
     Ok(path)
@@ -806,6 +865,25 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
                 "{}: a different configuration or seed than {}",
                 p.display(),
                 metas[0].1.display()
+            )));
+        }
+    }
+    // ... from the same input files (the same configuration may name a transfer table whose
+    // contents changed between the shards' runs)
+    let first_inputs = InputFiles::parse(&first.input_files);
+    for (m, p) in &metas {
+        let inputs = InputFiles::parse(&m.input_files);
+        if let Some((key, a, b)) = first_inputs.first_difference(&inputs) {
+            return Err(RunError::Input(format!(
+                "{} and {} were grown from different files at {key} ({}: {}; {}: {}); a \
+                 merged store must not mix hosts grown from different files: re-run the shards \
+                 made with the other file (`retinue run CONFIG --shard K/N`), then merge again",
+                p.display(),
+                metas[0].1.display(),
+                metas[0].1.display(),
+                a,
+                p.display(),
+                b,
             )));
         }
     }
@@ -869,7 +947,25 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
     let atomic = AtomicPath::new(out);
     let shards: Vec<PathBuf> = metas.iter().map(|(_, p)| p.clone()).collect();
     join_stores(&atomic, &meta, &shards)?;
+    retire_reports(out)?;
     Ok(atomic.commit()?)
+}
+
+/// Just before a new store takes its place at `out`: remove the reports of what was there
+/// (`report::directory::retire_reports_of`), so that a store never sits next to a report of
+/// another run, even when the command is killed after the store is in place and before its
+/// own report is written (review: a killed `run --overwrite` left the earlier run's report,
+/// of another seed, beside the new store). Each directory is named on stderr.
+fn retire_reports(out: &Path) -> Result<(), IoError> {
+    for d in crate::report::directory::retire_reports_of(out)? {
+        eprintln!(
+            "removed the earlier report in {} before writing {} (a report of another run must \
+             not sit next to it)",
+            d.display(),
+            out.display()
+        );
+    }
+    Ok(())
 }
 
 /// A build fingerprint for messages: stores and parts from before fingerprints were

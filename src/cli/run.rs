@@ -10,6 +10,7 @@ use clap::Args;
 use super::CliError;
 use retinue::analysis::{self, report_dir, resolution_warning, AnalysisError, Target};
 use retinue::config::RunConfig;
+use retinue::io::inputs::InputFiles;
 use retinue::io::store::{read_meta, StoreMeta};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
 use retinue::stats::{AnalysisResults, ObservedSample, SampleOptions};
@@ -38,7 +39,11 @@ pub struct RunArgs {
     /// Continue an interrupted run (its finished parts are kept).
     #[arg(long)]
     pub resume: bool,
-    /// Replace an existing file at the output (a store of an earlier run, or any other file).
+    /// Replace an existing file at the output (a store of an earlier run, or any other file),
+    /// and write the report into a NAME-report directory that holds files retinue did not
+    /// write. The reports of a store that is replaced (NAME-report/, and the
+    /// NAME-ANALYSIS-report/ directories of `retinue infall`) are removed just before the new
+    /// store takes its place.
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -51,7 +56,9 @@ pub struct DemoArgs {
     /// Worker threads, 0 to 1024 (0 = all cores).
     #[arg(long, default_value_t = 0, value_parser = parse_threads)]
     pub threads: usize,
-    /// Replace files in the directory that the demo did not write (e.g. your own sample.csv).
+    /// Replace files in the directory that the demo did not write (e.g. your own sample.csv,
+    /// a store named demo.h5 of another configuration or holding your own analyses, files in
+    /// demo-report/). Without it the demo replaces only an earlier demo's files.
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -70,7 +77,8 @@ pub struct MergeArgs {
     /// The joined store (written under a temporary name, renamed when complete).
     #[arg(long)]
     pub out: PathBuf,
-    /// Replace an existing file at --out.
+    /// Replace an existing file at --out (the reports of a store it replaces are removed,
+    /// as with `run --overwrite`).
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -108,10 +116,13 @@ pub struct InfallArgs {
     /// and the time, e.g. `sample-20261203-101500`).
     #[arg(long)]
     pub name: Option<String>,
-    /// Report directory (default: STORE-NAME-report next to the store).
+    /// Report directory (default: STORE-NAME-report next to the store). A directory that
+    /// holds files is written into only when it is a report directory retinue wrote (it has
+    /// a .retinue-report file), or with --overwrite.
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Replace an analysis of the same name.
+    /// Replace an analysis of the same name, and write the report into a directory that
+    /// holds files retinue did not write (replacing those of a report's names).
     #[arg(long)]
     pub overwrite: bool,
 }
@@ -354,21 +365,37 @@ fn execute(
     let pool = pool(threads)?;
     // --resume on a store that was published but whose tests or report were interrupted:
     // the hosts are all there, so only the tests and the report are run again
-    let other_store = |meta: &retinue::io::store::StoreMeta| {
-        meta.config_toml != text || meta.shard != (shard.index, shard.count)
+    // (a store of this configuration whose transfer tables were other files is another
+    // run's too)
+    let other_store = |meta: &retinue::io::store::StoreMeta| -> Option<String> {
+        if meta.config_toml != text || meta.shard != (shard.index, shard.count) {
+            return Some(format!(
+                "a store of another configuration or shard (shard {}/{})",
+                meta.shard.0 + 1,
+                meta.shard.1
+            ));
+        }
+        let diffs = InputFiles::differences(
+            &InputFiles::parse(&meta.input_files),
+            &grid.input_files(),
+            "its run",
+        );
+        (!diffs.is_empty()).then(|| {
+            format!(
+                "a store of this configuration grown from other input files ({})",
+                diffs.join("; ")
+            )
+        })
     };
     let replace_other = existing == Existing::ReplaceOther
-        && retinue::io::store::check_complete(&out).is_ok_and(|m| other_store(&m));
+        && retinue::io::store::check_complete(&out).is_ok_and(|m| other_store(&m).is_some());
     if resume && !replace_other && retinue::io::store::is_run_store(&out) {
         let meta = retinue::io::store::check_complete(&out)
             .map_err(|e| usage(format!("--resume: {e}")))?;
-        if other_store(&meta) {
+        if let Some(why) = other_store(&meta) {
             return Err(usage(format!(
-                "--resume: {} is a store of another configuration or shard (shard {}/{}); \
-                 give another --out, or add --overwrite to replace it",
+                "--resume: {} is {why}; give another --out, or add --overwrite to replace it",
                 out.display(),
-                meta.shard.0 + 1,
-                meta.shard.1
             )));
         }
         eprintln!(
@@ -566,6 +593,17 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
     inputs.extend(cfg.sample_path());
     // with --resume an existing store of this run is completed (tests and report), not replaced
     guard_output(&out, &inputs, a.overwrite, a.resume)?;
+    // the report goes to NAME-report next to the store (a run split into shards, or of hosts
+    // the tests do not read, writes none)
+    if a.shard.is_none() && cfg.file.host.z_final == 0.0 {
+        guard_report_dir(
+            &report_dir(&out),
+            a.overwrite,
+            "the run's report directory",
+            "give the store another name with --out (its report goes to NAME-report next to \
+             it), or move those files",
+        )?;
+    }
     let existing = if a.overwrite {
         Existing::ReplaceOther
     } else {
@@ -642,7 +680,26 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
         }
     }
     let out = a.out.join("demo.h5");
+    // an earlier demo's store is replaced, and nothing else: a store of another configuration,
+    // or one holding analyses the demo does not make, only with --overwrite (review: `demo
+    // --out .` replaced any store named demo.h5)
+    if !a.overwrite {
+        if let Some(why) = not_the_demos_store(&out, &text) {
+            return Err(usage(format!(
+                "{} {why}: refusing to replace it (use another --out, or add --overwrite)",
+                out.display()
+            )));
+        }
+    }
     guard_output(&out, &[], a.overwrite, true)?;
+    for rep in ["demo-report", "demo-bright-report"] {
+        guard_report_dir(
+            &a.out.join(rep),
+            a.overwrite,
+            "the demo's report directory",
+            "use another --out, or move those files",
+        )?;
+    }
     for (p, content) in inputs {
         std::fs::write(p, content)
             .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", p.display())))?;
@@ -671,15 +728,51 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
          (retinue infall {} --sample bright-sample.csv --config bright-tests.toml) ==",
         out.display()
     );
-    infall(InfallArgs {
-        store: out,
-        sample: Some(bright_path),
-        columns: None,
-        config: Some(bright_tests),
-        cells: Vec::new(),
-        name: Some("bright".into()),
-        out: Some(a.out.join("demo-bright-report")),
-        overwrite: true,
+    // (an earlier demo's "bright" analysis is replaced; its report directory was checked
+    // above)
+    infall_into(
+        InfallArgs {
+            store: out,
+            sample: Some(bright_path),
+            columns: None,
+            config: Some(bright_tests),
+            cells: Vec::new(),
+            name: Some("bright".into()),
+            out: Some(a.out.join("demo-bright-report")),
+            overwrite: true,
+        },
+        a.overwrite,
+    )
+}
+
+/// The analyses the demo writes into its store.
+const DEMO_ANALYSES: [&str; 2] = ["run", "bright"];
+
+/// Why the file at the demo's store `out` is not an earlier demo's store, which the demo
+/// replaces without --overwrite (None: it is, or there is none): a store of another
+/// configuration than `demo_text`, or one that holds analyses the demo does not make (a
+/// user's `retinue infall` on it). A file that is not a store is left to `guard_output`.
+fn not_the_demos_store(out: &Path, demo_text: &str) -> Option<String> {
+    let config = retinue::io::store::config_text_of(out)?;
+    if config != demo_text {
+        return Some(
+            "is a retinue store of another configuration than the demo's (not an earlier \
+             demo's store)"
+                .into(),
+        );
+    }
+    let (names, _) = retinue::report::analyses_in(out).ok()?;
+    let extra: Vec<&str> = names
+        .iter()
+        .map(String::as_str)
+        .filter(|n| !DEMO_ANALYSES.contains(n))
+        .collect();
+    (!extra.is_empty()).then(|| {
+        format!(
+            "is an earlier demo's store that holds analyses the demo did not make ({}; \
+             replacing the store would lose them)",
+            extra.join(", ")
+        )
     })
 }
 
@@ -802,6 +895,9 @@ fn guard_output(
             "output {name:?} is a directory, not a file: give a file name (e.g. run.h5)"
         )));
     }
+    if let Some(p) = missing_parent(out) {
+        return Err(usage(format!("output {name}: {p}")));
+    }
     if let Some(i) = inputs.iter().find(|i| same_file(out, i)) {
         return Err(usage(format!(
             "output {name} is one of the inputs ({}): choose another output",
@@ -824,6 +920,46 @@ fn guard_output(
         }
     }
     Ok(())
+}
+
+/// Why the directory an output file goes into cannot take it (None: it can): it does not
+/// exist, or is not a directory. (Review: `--out nodir/x.h5` failed on the store's lock file
+/// with a bare operating-system error and exit code 1.)
+pub(crate) fn missing_parent(out: &Path) -> Option<String> {
+    let parent = out.parent().filter(|p| !p.as_os_str().is_empty())?;
+    if parent.is_dir() {
+        return None;
+    }
+    let d = parent.display();
+    Some(if parent.exists() {
+        format!("{d} is not a directory; give an output in a directory")
+    } else {
+        format!("the directory {d} does not exist; create it first (mkdir -p {d}) or give an output in another directory")
+    })
+}
+
+/// Before anything is written: a report may go into `dir` when it is absent, empty or a
+/// report directory retinue wrote (`report::directory`), or with `overwrite`; never when it
+/// is a file. `what` names the directory in messages (e.g. "--out DIR"), `remedy` says what
+/// to do instead of `--overwrite`. (Review: `infall --out DIR` replaced a user's report.md and
+/// CSV files there, and its clean-up deleted other files of a report's names.)
+fn guard_report_dir(dir: &Path, overwrite: bool, what: &str, remedy: &str) -> Result<(), CliError> {
+    if dir.is_file() {
+        return Err(usage(format!(
+            "{what} {} is a file, and the report needs a directory; {remedy}",
+            dir.display()
+        )));
+    }
+    if overwrite {
+        return Ok(());
+    }
+    match retinue::report::directory::foreign_dir_problem(dir) {
+        Some(p) => Err(usage(format!(
+            "{what} {} {p}; {remedy}, or add --overwrite to write there anyway",
+            dir.display()
+        ))),
+        None => Ok(()),
+    }
 }
 
 /// The lock on a store for one writer (`io::lock`); a second writer fails at once, naming the
@@ -879,9 +1015,15 @@ pub fn merge(a: MergeArgs) -> Result<(), CliError> {
 pub struct PlotArgs {
     /// A run store.
     pub store: PathBuf,
-    /// Directory for the PNG and SVG files (default: NAME-report next to the store).
+    /// Directory for the PNG and SVG files (default: NAME-report next to the store). A
+    /// directory that holds files is written into only when it is a report directory retinue
+    /// wrote (it has a .retinue-report file), or with --overwrite.
     #[arg(long)]
     pub out: Option<PathBuf>,
+    /// Write into a directory that holds files retinue did not write (replacing those of a
+    /// figure's name).
+    #[arg(long)]
+    pub overwrite: bool,
     /// Observed sample (CSV or TOML), for the sample's N, its tests and its markers on the
     /// figures; default: the run's sample (looked
     /// for in the run's configuration directory, next to the store, then here).
@@ -946,15 +1088,29 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
         run_columns,
     )?;
     let grid = Grid::new(cfg).map_err(run_err)?;
+    if let Some(n) = analysis::check_input_files(&meta, &a.store, &grid).map_err(analysis_err)? {
+        eprintln!("note: {n}");
+    }
     // whole tables, each host once (a shard is drawn as it is)
     retinue::io::store::check_complete(&a.store).map_err(usage)?;
+    let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
+    guard_report_dir(
+        &dir,
+        a.overwrite,
+        if a.out.is_some() {
+            "--out"
+        } else {
+            "the store's report directory"
+        },
+        "give another --out, or move those files",
+    )?;
     let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
     let sample = sample.map(|(s, _)| s);
     let c = analysis::compute(&grid, &a.store, sample.as_ref(), cells.as_deref())
         .map_err(analysis_err)?;
-    let dir = a.out.clone().unwrap_or_else(|| report_dir(&a.store));
-    std::fs::create_dir_all(&dir)
-        .map_err(|e| CliError::Failed(anyhow::anyhow!("{}: {e}", dir.display())))?;
+    // the marker first (`report::directory`), creating the directory
+    retinue::report::directory::mark(&dir, &a.store, "figures")
+        .map_err(|e| CliError::Failed(anyhow::anyhow!("{e}")))?;
     let figs = analysis::figures(
         &grid,
         &dir,
@@ -973,7 +1129,14 @@ pub fn plot(a: PlotArgs) -> Result<(), CliError> {
     Ok(())
 }
 
-pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
+pub fn infall(a: InfallArgs) -> Result<(), CliError> {
+    let replace_files = a.overwrite;
+    infall_into(a, replace_files)
+}
+
+/// `retinue infall`; `replace_files`: the report may go into a directory that is not a
+/// report directory (`guard_report_dir`; for the command line, `--overwrite`).
+fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
     // a store named through a symbolic link is written where it lives (review: the link was
     // replaced by a copy holding the new analysis, and two names gave two locks)
     if a.store.is_symlink() {
@@ -1008,6 +1171,10 @@ pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
         None => (None, None),
     };
     let grid = Grid::new(cfg).map_err(run_err)?;
+    // the transfer tables read now must be those the hosts were grown with
+    if let Some(n) = analysis::check_input_files(&meta, &a.store, &grid).map_err(analysis_err)? {
+        eprintln!("note: {n}");
+    }
     let _lock = writer_lock(&a.store, "retinue infall")?;
     // the copy an infall writes its analysis into, left by one that was killed (SIGKILL: no
     // handler could remove it) is stale now that the lock is held: removed, so that nothing
@@ -1089,6 +1256,22 @@ pub fn infall(mut a: InfallArgs) -> Result<(), CliError> {
             "--out {}: a file of that name exists; the report needs a directory",
             dir.display()
         )));
+    }
+    if a.out.is_some() {
+        guard_report_dir(
+            &dir,
+            replace_files,
+            "--out",
+            "give another --out, or move those files",
+        )?;
+    } else {
+        guard_report_dir(
+            &dir,
+            replace_files,
+            "the analysis's report directory",
+            "give the report another directory with --out (or the analysis another --name), \
+             or move those files",
+        )?;
     }
     // the store must hold every host of its run (or of its shard) exactly once
     retinue::io::store::check_complete(&a.store).map_err(usage)?;

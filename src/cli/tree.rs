@@ -80,6 +80,9 @@ pub fn run(a: TreeArgs) -> Result<(), CliError> {
             a.out.display()
         )));
     }
+    if let Some(p) = super::run::missing_parent(&a.out) {
+        return Err(CliError::Usage(format!("--out {}: {p}", a.out.display())));
+    }
     if a.out.exists() && !a.overwrite {
         return Err(CliError::Usage(format!(
             "--out {} exists: refusing to replace it (add --overwrite to replace it)",

@@ -464,12 +464,37 @@ impl RunConfig {
                 "at most 1000 cosmologies and 1000 host masses",
             ));
         }
+        // an empty output is refused here, not only by `run` (review: `check` accepted it)
+        let out = r.output.to_string_lossy();
+        if out.trim().is_empty() || out.ends_with('/') {
+            problems.push(InvalidValue::new(
+                "run.output",
+                format!("{out:?}"),
+                "must name the store's file, e.g. \"run.h5\" (relative to the working \
+                 directory), not a directory",
+            ));
+        }
         if let Some(sp) = &r.sample {
             let p = match base_dir {
                 Some(d) if sp.is_relative() => d.join(sp),
                 _ => sp.clone(),
             };
-            if !p.exists() {
+            // (an empty path is the configuration's directory: refused here, naming the key,
+            // rather than when the sample is read)
+            if sp.as_os_str().is_empty() {
+                problems.push(InvalidValue::new(
+                    "run.sample",
+                    "\"\"",
+                    "must name the sample's file (CSV or TOML, relative to the configuration \
+                     file); leave the key out to run without a sample",
+                ));
+            } else if p.is_dir() {
+                problems.push(InvalidValue::new(
+                    "run.sample",
+                    p.display(),
+                    "is a directory; give the sample's file (CSV or TOML) in it",
+                ));
+            } else if !p.exists() {
                 problems.push(InvalidValue::new(
                     "run.sample",
                     p.display(),

@@ -2,6 +2,7 @@
 
 pub mod export;
 pub mod h5;
+pub mod inputs;
 pub mod lock;
 pub mod store;
 pub mod tree_file;

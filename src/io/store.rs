@@ -37,6 +37,10 @@ pub struct StoreMeta {
     /// Absolute directory of the configuration file the run was started from (relative
     /// paths in `config_toml` are relative to it); empty if unknown (older stores).
     pub config_dir: String,
+    /// The files the run read besides its configuration, with the SHA-256 of each
+    /// (`io::inputs::InputFiles::to_text`); empty if the run read none, or for older stores
+    /// (written before it was recorded).
+    pub input_files: String,
 }
 
 /// One column of values.
@@ -620,6 +624,7 @@ impl StoreWriter {
         set_num_attr(&f, "shard_index", meta.shard.0)?;
         set_num_attr(&f, "shard_count", meta.shard.1)?;
         set_str_attr(&f, "config_dir", &meta.config_dir)?;
+        set_str_attr(&f, "input_files", &meta.input_files)?;
         let h = f.create_group("hosts")?;
         let s = f.create_group("subhalos")?;
         let templ_h = host_cols(&[], 0, 0);
@@ -812,6 +817,16 @@ pub fn is_run_store(path: &Path) -> bool {
             .is_some_and(|fmt| fmt.starts_with("retinue run store"))
 }
 
+/// The configuration text a run store of any format version was made with (None: not a run
+/// store, or none recorded); for telling whose a store is without reading it all.
+pub fn config_text_of(path: &Path) -> Option<String> {
+    if !is_run_store(path) {
+        return None;
+    }
+    let f = hdf5::File::open(path).ok()?;
+    get_str_attr(&f, "config").ok()
+}
+
 /// Metadata of an existing store.
 pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
     let e = |x| IoError::hdf5(path, x);
@@ -864,6 +879,8 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
         ),
         // absent from stores written before it was recorded
         config_dir: get_str_attr(&f, "config_dir").unwrap_or_default(),
+        // absent from stores written before it was recorded
+        input_files: get_str_attr(&f, "input_files").unwrap_or_default(),
     })
 }
 

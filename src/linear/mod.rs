@@ -219,6 +219,15 @@ impl LinearTheory {
         &self.power
     }
 
+    /// SHA-256 (lowercase hex) of the transfer-function table this theory was read from
+    /// (None: no table, `transfer` is not "table").
+    pub fn transfer_table_sha256(&self) -> Option<&str> {
+        match self.power.transfer() {
+            Transfer::Table(t) => Some(t.sha256()),
+            _ => None,
+        }
+    }
+
     pub fn sigma_table(&self) -> &SigmaTable {
         &self.sigma
     }

@@ -1,5 +1,6 @@
 //! Reports: CSV tables, a Markdown summary, the `analysis` group of the store, and figures.
 
+pub mod directory;
 pub mod figures;
 
 use std::fmt::Write as _;
@@ -822,7 +823,7 @@ pub fn markdown(
 ) -> String {
     let mut m = String::new();
     let sel = &res.selection;
-    let _ = writeln!(m, "# Infall-time tests\n");
+    let _ = writeln!(m, "{}\n", directory::REPORT_HEADING);
     let _ = writeln!(m, "{run_summary}\n");
     let lines = conclusion_lines(res, o);
     if !lines.is_empty() {

@@ -40,6 +40,9 @@ pub struct TabulatedTransfer {
     ln_p: Vec<f64>,
     n_s: f64,
     high_slope: f64,
+    /// SHA-256 of the table's text (lowercase hex): what a run records of the file, so that a
+    /// resumed run, a merge and a re-test can tell a changed table (`io::inputs`).
+    sha256: String,
 }
 
 impl TabulatedTransfer {
@@ -175,7 +178,13 @@ impl TabulatedTransfer {
             ln_p,
             n_s,
             high_slope,
+            sha256: crate::io::inputs::sha256_hex(text.as_bytes()),
         })
+    }
+
+    /// SHA-256 of the table's text (lowercase hex), as `sha256sum` prints it for the file.
+    pub fn sha256(&self) -> &str {
+        &self.sha256
     }
 
     /// Range of k covered by the table, 1/Mpc.

@@ -1,0 +1,399 @@
+//! Nothing of the user's is replaced by surprise, and nothing stale is left looking current
+//! (findings of a review, one test each).
+
+use std::path::Path;
+
+use crate::common::{dir_names, run_cli, run_ok, write};
+
+const TINY: &str = r#"
+[run]
+master_seed = 11
+hosts_per_cell = 3
+batch_hosts = 2
+output = "tiny.h5"
+
+[cosmology]
+preset = "planck18"
+
+[host]
+mass_msun = [8e11, 1.2e12]
+
+[trees]
+resolution_msun = 1e9
+z_max = 10.0
+output_steps = 16
+
+[tests]
+n_draw = 3
+draws = 500
+bootstrap = 50
+n_range = [3, 4]
+z_grid = [0.0, 0.5, 1.0, 2.0]
+"#;
+
+/// Every file under `dir` with its contents (names sorted).
+fn contents(dir: &Path) -> Vec<(String, Vec<u8>)> {
+    dir_names(dir)
+        .into_iter()
+        .map(|n| {
+            let b = std::fs::read(dir.join(&n)).unwrap();
+            (n, b)
+        })
+        .collect()
+}
+
+/// `infall --out DIR` and `plot --out DIR` write into a directory of a user's files only with
+/// --overwrite (review: report.md, backsplash.csv and all_of_n.csv there were replaced and a
+/// quenching_delay.csv deleted as a stale report file); `run` does not write its report into
+/// a NAME-report directory of a user's files either. A directory retinue wrote is re-used
+/// without --overwrite, and so is a report directory from before the marker file.
+#[test]
+fn reports_never_replace_a_users_files() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", c, "--out", s]);
+    // a directory of the user's own files, some with a report's names
+    let mine = d.path().join("mine");
+    std::fs::create_dir(&mine).unwrap();
+    for (n, t) in [
+        ("report.md", "# my notes\n"),
+        ("backsplash.csv", "my,data\n"),
+        ("all_of_n.csv", "mine\n"),
+        ("quenching_delay.csv", "mine too\n"),
+        ("notes.txt", "keep\n"),
+    ] {
+        write(&mine, n, t);
+    }
+    let before = contents(&mine);
+    let m = mine.to_str().unwrap();
+    for args in [
+        vec!["infall", s, "--name", "x", "--out", m],
+        vec!["plot", s, "--out", m],
+    ] {
+        let (code, _, err) = run_cli(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(
+            err.contains(m) && err.contains("--overwrite") && err.contains("report.md"),
+            "{args:?}: {err}"
+        );
+        assert_eq!(contents(&mine), before, "{args:?} changed the user's files");
+    }
+    // nothing was stored under the refused name
+    let (code, _, err) = run_cli(&["infall", s, "--name", "x", "--out", m]);
+    assert_eq!(code, 2, "{err}");
+    assert!(!err.contains("already holds an analysis"), "{err}");
+    // the default report directory of an analysis, when it holds a user's files
+    let named = d.path().join("s-y-report");
+    std::fs::create_dir(&named).unwrap();
+    write(&named, "report.md", "# mine\n");
+    let (code, _, err) = run_cli(&["infall", s, "--name", "y"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("s-y-report"), "{err}");
+    assert_eq!(
+        std::fs::read_to_string(named.join("report.md")).unwrap(),
+        "# mine\n"
+    );
+    // with --overwrite: written there, the user's other files kept
+    run_ok(&["infall", s, "--name", "x", "--out", m, "--overwrite"]);
+    assert_eq!(
+        std::fs::read_to_string(mine.join("notes.txt")).unwrap(),
+        "keep\n"
+    );
+    assert!(std::fs::read_to_string(mine.join("report.md"))
+        .unwrap()
+        .starts_with("# Infall-time tests"));
+    // a report directory retinue wrote is written again without --overwrite, by `infall`,
+    // `plot` and `run` alike
+    let fresh = d.path().join("fresh");
+    let f = fresh.to_str().unwrap();
+    run_ok(&["infall", s, "--name", "a", "--out", f]);
+    assert!(fresh.join(".retinue-report").is_file());
+    run_ok(&["infall", s, "--name", "b", "--out", f]);
+    run_ok(&["plot", s, "--out", f]);
+    run_ok(&["infall", s, "--name", "a", "--overwrite"]);
+    run_ok(&["infall", s, "--name", "a", "--overwrite"]);
+    run_ok(&["run", c, "--out", s, "--overwrite"]);
+    run_ok(&["run", c, "--resume", "--out", s]);
+    run_ok(&["plot", s]);
+    // ... and so is a report directory from before the marker (recognised by report.md)
+    std::fs::remove_file(fresh.join(".retinue-report")).unwrap();
+    run_ok(&["infall", s, "--name", "c", "--out", f]);
+    // `plot` into a new directory marks it, so that it can draw there again
+    let figs = d.path().join("figs");
+    run_ok(&["plot", s, "--out", figs.to_str().unwrap()]);
+    run_ok(&["plot", s, "--out", figs.to_str().unwrap()]);
+    // `run`: the report directory NAME-report next to the store, when it holds a user's
+    // files, is refused before the first host
+    let other = d.path().join("o-report");
+    std::fs::create_dir(&other).unwrap();
+    write(&other, "report.md", "# mine\n");
+    let o = d.path().join("o.h5");
+    let (code, _, err) = run_cli(&["run", c, "--out", o.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("o-report") && err.contains("--overwrite"),
+        "{err}"
+    );
+    assert!(!o.exists());
+    assert!(!d.path().join(".o.h5.parts").exists());
+    assert_eq!(
+        std::fs::read_to_string(other.join("report.md")).unwrap(),
+        "# mine\n"
+    );
+}
+
+/// A `run --overwrite` killed (SIGKILL) after its store is in place and before its report is
+/// written leaves no report of the earlier run beside the new store (review: the old
+/// `NAME-report/`, of another seed, stayed and looked complete); `--resume` then writes the
+/// new run's report. The reports of `retinue infall` on the earlier store go too; a user's
+/// file in the report directory stays.
+#[test]
+fn a_replaced_store_takes_its_reports_with_it() {
+    use std::os::unix::fs::MetadataExt;
+    use std::os::unix::process::ExitStatusExt;
+    let d = tempfile::tempdir().unwrap();
+    let old = write(d.path(), "old.toml", TINY);
+    // tests long enough (seconds) for the kill to land between the store and the report
+    let heavy = TINY
+        .replace("master_seed = 11", "master_seed = 5")
+        .replace("draws = 500", "draws = 3000000")
+        .replace("bootstrap = 50", "bootstrap = 100000");
+    let new = write(d.path(), "new.toml", &heavy);
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", old.to_str().unwrap(), "--out", s]);
+    run_ok(&["infall", s, "--name", "mine"]);
+    let report = d.path().join("s-report");
+    let md = report.join("report.md");
+    assert!(std::fs::read_to_string(&md)
+        .unwrap()
+        .contains("master seed 11"));
+    write(&report, "my-notes.txt", "keep\n");
+    assert!(d.path().join("s-mine-report/report.md").is_file());
+    // a store of another name beginning the same way keeps its report
+    let cousin = d.path().join("s-x.h5");
+    run_ok(&[
+        "run",
+        old.to_str().unwrap(),
+        "--out",
+        cousin.to_str().unwrap(),
+    ]);
+    let inode = std::fs::metadata(&store).unwrap().ino();
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(["run", new.to_str().unwrap(), "--overwrite", "--out", s])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let t0 = std::time::Instant::now();
+    while std::fs::metadata(&store).map(|m| m.ino()).ok() == Some(inode) {
+        if let Some(st) = child.try_wait().unwrap() {
+            panic!("run ended ({st}) before its store was seen");
+        }
+        assert!(t0.elapsed().as_secs() < 120, "no new store after 120 s");
+        std::thread::sleep(std::time::Duration::from_micros(500));
+    }
+    // SAFETY: a signal to our own child, which has not been waited for yet
+    assert_eq!(unsafe { libc::kill(child.id() as i32, libc::SIGKILL) }, 0);
+    let st = child.wait().unwrap();
+    assert_eq!(
+        st.signal(),
+        Some(libc::SIGKILL),
+        "the run ended first: {st}"
+    );
+    // the new store, and no report of the old one beside it
+    let text = std::fs::read_to_string(&md).unwrap_or_default();
+    assert!(
+        !text.contains("master seed 11"),
+        "the earlier run's report stayed beside the new store"
+    );
+    assert!(!d.path().join("s-mine-report/report.md").exists());
+    assert!(!d.path().join("s-mine-report").exists());
+    assert_eq!(
+        std::fs::read_to_string(report.join("my-notes.txt")).unwrap(),
+        "keep\n"
+    );
+    assert!(d.path().join("s-x-report/report.md").is_file());
+    // --resume writes the new run's report
+    run_ok(&["run", new.to_str().unwrap(), "--resume", "--out", s]);
+    assert!(std::fs::read_to_string(&md)
+        .unwrap()
+        .contains("master seed 5"));
+    // `merge --overwrite` over a store with a report removes it too
+    for k in 1..=2 {
+        run_ok(&[
+            "run",
+            old.to_str().unwrap(),
+            "--shard",
+            &format!("{k}/2"),
+            "--out",
+            d.path().join(format!("p{k}.h5")).to_str().unwrap(),
+        ]);
+    }
+    run_ok(&[
+        "merge",
+        d.path().join("p1.h5").to_str().unwrap(),
+        d.path().join("p2.h5").to_str().unwrap(),
+        "--out",
+        s,
+        "--overwrite",
+    ]);
+    assert!(!md.exists(), "merge left the earlier store's report");
+}
+
+/// A transfer-function table made from the BBKS fit (k in h/Mpc), its T scaled by `f` above
+/// k = 1 h/Mpc: two tables of different contents.
+fn table(f: f64) -> String {
+    let mut t = String::from("# k_unit: h/Mpc\n");
+    for i in 0..=400 {
+        let k = 10f64.powf(-5.0 + 10.0 * i as f64 / 400.0);
+        let q = k / 0.21;
+        let tk = (1.0 + 2.34 * q).ln() / (2.34 * q)
+            * (1.0 + 3.89 * q + (16.1 * q).powi(2) + (5.46 * q).powi(3) + (6.71 * q).powi(4))
+                .powf(-0.25);
+        let tk = if k > 1.0 { tk * f } else { tk };
+        t.push_str(&format!("{k:.10e} {tk:.10e}\n"));
+    }
+    t
+}
+
+/// A transfer table replaced with other contents is noticed by `run --resume` (parts made
+/// with the first), by `merge` (shards made with each), by `infall` and `plot` (a store made
+/// with the first) and by `run --resume` on a finished store, each naming the key and the
+/// file (review: the store's first hosts were grown from one table and the rest from the
+/// other, and only the configuration's text was compared).
+#[test]
+fn a_changed_transfer_table_is_noticed() {
+    let d = tempfile::tempdir().unwrap();
+    let text = TINY
+        .replace(
+            "preset = \"planck18\"",
+            "preset = \"planck18\"\ntransfer = \"table\"\ntransfer_table = \"t.dat\"",
+        )
+        .replace("batch_hosts = 2", "batch_hosts = 1");
+    let cfg = write(d.path(), "t.toml", &text);
+    let c = cfg.to_str().unwrap();
+    let (a, b) = (table(1.0), table(1.03));
+    let t = d.path().join("t.dat");
+    std::fs::write(&t, &a).unwrap();
+    let out = d.path().join("r.h5");
+    let o = out.to_str().unwrap();
+    // an interrupted run: host 3 fails, parts 0-2 are kept
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .args(["run", c, "--threads", "1", "--out", o])
+        .env("RETINUE_FAULT_HOST", "3")
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(1));
+    let parts = d.path().join(".r.h5.parts");
+    assert!(parts.join("part-00000.h5").exists());
+    std::fs::write(&t, &b).unwrap();
+    let (code, _, err) = run_cli(&["run", c, "--resume", "--out", o]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("cosmology.transfer_table")
+            && err.contains("t.dat")
+            && err.contains(&format!("rm -r {}", parts.display())),
+        "{err}"
+    );
+    assert!(!out.exists());
+    // with the table the run started with, it resumes
+    std::fs::write(&t, &a).unwrap();
+    run_ok(&["run", c, "--resume", "--out", o]);
+    // a re-test with the table changed since
+    std::fs::write(&t, &b).unwrap();
+    for args in [
+        vec!["infall", o, "--name", "later"],
+        vec!["plot", o],
+        vec!["run", c, "--resume", "--out", o],
+    ] {
+        let (code, _, err) = run_cli(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(
+            err.contains("cosmology.transfer_table") && err.contains("t.dat"),
+            "{args:?}: {err}"
+        );
+    }
+    std::fs::write(&t, &a).unwrap();
+    run_ok(&["infall", o, "--name", "later"]);
+    // shards grown from different tables are not merged
+    let shard = |k: u32, table: &str| {
+        std::fs::write(&t, table).unwrap();
+        let p = d.path().join(format!("s{k}.h5"));
+        run_ok(&[
+            "run",
+            c,
+            "--shard",
+            &format!("{k}/2"),
+            "--out",
+            p.to_str().unwrap(),
+        ]);
+        p
+    };
+    let (s1, s2) = (shard(1, &a), shard(2, &b));
+    let m = d.path().join("m.h5");
+    let (code, _, err) = run_cli(&[
+        "merge",
+        s1.to_str().unwrap(),
+        s2.to_str().unwrap(),
+        "--out",
+        m.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("cosmology.transfer_table") && err.contains("different files"),
+        "{err}"
+    );
+    assert!(!m.exists());
+}
+
+/// Lesser problems of the review: an output in a missing directory is bad input (exit 2,
+/// the directory named; it failed on the lock file with exit 1); `check` refuses an empty
+/// `run.output` (which `run` refuses) and an empty or directory `run.sample`, naming the key;
+/// the demo replaces only its own store.
+#[test]
+fn outputs_and_paths_are_checked_up_front() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let missing = d.path().join("nodir").join("x.h5");
+    let (code, _, err) = run_cli(&["run", c, "--out", missing.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains(&d.path().join("nodir").display().to_string())
+            && err.contains("does not exist"),
+        "{err}"
+    );
+    assert!(!d.path().join("nodir").exists());
+    for (line, key) in [
+        ("output = \"\"", "run.output"),
+        ("output = \"tiny.h5\"\nsample = \"\"", "run.sample"),
+        ("output = \"tiny.h5\"\nsample = \"sub\"", "run.sample"),
+    ] {
+        std::fs::create_dir_all(d.path().join("sub")).unwrap();
+        let bad = write(
+            d.path(),
+            "bad.toml",
+            &TINY.replace("output = \"tiny.h5\"", line),
+        );
+        let (code, _, err) = run_cli(&["check", bad.to_str().unwrap()]);
+        assert_eq!(code, 2, "{line}: {err}");
+        assert!(err.contains(key), "{line}: {err}");
+    }
+    // the demo over a store of another configuration named demo.h5
+    let demo = d.path().join("demo");
+    std::fs::create_dir(&demo).unwrap();
+    let store = demo.join("demo.h5");
+    run_ok(&["run", c, "--out", store.to_str().unwrap()]);
+    let before = std::fs::read(&store).unwrap();
+    let (code, _, err) = run_cli(&["demo", "--out", demo.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("demo.h5") && err.contains("--overwrite"),
+        "{err}"
+    );
+    assert_eq!(std::fs::read(&store).unwrap(), before);
+}
