@@ -583,6 +583,7 @@ pub fn stored_config(
             r.remove("output");
         }
     }
+    notes.extend(read_as_written(&mut table));
     let text = table.to_string();
     let mut first_err = None;
     let mut cfg = None;
@@ -646,6 +647,78 @@ pub fn stored_config(
         sample,
         notes,
     })
+}
+
+/// A stored configuration as the run that wrote it read it, in today's forms: a store from
+/// before 2026-12-04 may hold forms refused since (review of that day), and its hosts and
+/// analyses were made with what the older version took from them, so they are rewritten to
+/// that rather than refused (which would leave the store impossible to re-test or plot):
+/// a `[lo, hi]` key with more values keeps its first two (the rest were dropped then); a
+/// redshift or delay grid is sorted and its repeats dropped (only the order of the report's
+/// rows depended on it); an empty `[tests.preprocessing]` (every halo counted) becomes the
+/// lowest threshold allowed, 1e6 Msun (the same unless the trees were resolved below it).
+/// Each rewrite is a note.
+fn read_as_written(table: &mut toml::Table) -> Vec<String> {
+    let mut notes = Vec::new();
+    fn at<'a>(t: &'a mut toml::Table, path: &[&str]) -> Option<&'a mut toml::Value> {
+        let (last, head) = path.split_last()?;
+        let mut cur = t;
+        for k in head {
+            cur = cur.get_mut(*k)?.as_table_mut()?;
+        }
+        cur.get_mut(*last)
+    }
+    for path in [
+        &["host", "mass_log_uniform_msun"][..],
+        &["tests", "n_range"],
+        &["tests", "selection", "m_peak_msun"],
+        &["tests", "selection", "mstar_msun"],
+        &["tests", "selection", "m_v"],
+        &["tests", "selection", "r_over_rvir"],
+        &["tests", "backsplash", "m_peak_msun"],
+    ] {
+        if let Some(toml::Value::Array(a)) = at(table, path) {
+            if a.len() > 2 {
+                notes.push(format!(
+                    "the stored configuration's {} has {} values; the run used the first two, \
+                     and so does this",
+                    path.join("."),
+                    a.len()
+                ));
+                a.truncate(2);
+            }
+        }
+    }
+    for path in [&["tests", "z_grid"][..], &["tests", "delay_grid_gyr"]] {
+        if let Some(toml::Value::Array(a)) = at(table, path) {
+            let mut v: Vec<f64> = a
+                .iter()
+                .filter_map(|x| x.as_float().or(x.as_integer().map(|i| i as f64)))
+                .collect();
+            if v.len() == a.len() && v.windows(2).any(|w| w[0] >= w[1]) {
+                v.sort_by(f64::total_cmp);
+                v.dedup();
+                notes.push(format!(
+                    "the stored configuration's {} is not increasing; it is read sorted, \
+                     without repeats",
+                    path.join(".")
+                ));
+                *a = v.into_iter().map(toml::Value::Float).collect();
+            }
+        }
+    }
+    if let Some(toml::Value::Table(t)) = at(table, &["tests", "preprocessing"]) {
+        if t.is_empty() {
+            notes.push(
+                "the stored configuration's [tests.preprocessing] is empty (the run counted a \
+                 halo of any mass); it is read as halo_mass_msun = 1e6, the lowest threshold \
+                 allowed"
+                    .to_string(),
+            );
+            t.insert("halo_mass_msun".into(), toml::Value::Float(1e6));
+        }
+    }
+    notes
 }
 
 /// What `infall --config FILE` takes from FILE; the other tables of a whole configuration

@@ -375,11 +375,14 @@ fn execute(
                 meta.shard.1
             ));
         }
-        let diffs = InputFiles::differences(
-            &InputFiles::parse(&meta.input_files),
-            &grid.input_files(),
-            "its run",
-        );
+        let recorded = InputFiles::parse(&meta.input_files);
+        // a store from before the hashes were recorded has nothing to compare: it is taken
+        // as this run's, with a note (below), as `infall` and `plot` take it (review: it was
+        // refused as grown from other files, though the file was the same)
+        if recorded.is_empty() {
+            return None;
+        }
+        let diffs = InputFiles::differences(&recorded, &grid.input_files(), "its run");
         (!diffs.is_empty()).then(|| {
             format!(
                 "a store of this configuration grown from other input files ({})",
@@ -397,6 +400,14 @@ fn execute(
                 "--resume: {} is {why}; give another --out, or add --overwrite to replace it",
                 out.display(),
             )));
+        }
+        if meta.input_files.trim().is_empty() && !grid.input_files().is_empty() {
+            eprintln!(
+                "note: {} records no hashes of its input files (it was written before they \
+                 were recorded): the files the configuration names now are taken to be the \
+                 ones its hosts were grown from",
+                out.display()
+            );
         }
         eprintln!(
             "{} already holds all {} hosts of this run: running only the tests and the report",

@@ -18,7 +18,24 @@ pub const MARKER: &str = ".retinue-report";
 /// The first line of every `report.md` (`super::markdown`).
 pub const REPORT_HEADING: &str = "# Infall-time tests";
 
+/// The store's path as the marker records it: its directory resolved (symbolic links, `.`
+/// and `..`), joined with its file name; the path as given when the directory cannot be
+/// resolved.
+fn store_path(store: &Path) -> String {
+    let dir = match store.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    match (dir.canonicalize(), store.file_name()) {
+        (Ok(d), Some(n)) => d.join(n),
+        _ => store.to_path_buf(),
+    }
+    .to_string_lossy()
+    .into_owned()
+}
+
 /// Write the marker into `dir` (created if needed), naming the store by its file name and
+/// its full path (`store_path`: a store of the same name elsewhere is another store) and
 /// what wrote the directory (e.g. `analysis "run"`, `figures`).
 pub fn mark(dir: &Path, store: &Path, what: &str) -> Result<(), IoError> {
     std::fs::create_dir_all(dir).map_err(|e| IoError::fs(dir, e))?;
@@ -33,8 +50,10 @@ pub fn mark(dir: &Path, store: &Path, what: &str) -> Result<(), IoError> {
          # else is left in it. Delete this file to keep the directory as it is: retinue then\n\
          # writes into it only with --overwrite.\n\
          store = {}\n\
+         store_path = {}\n\
          written_by = {}\n",
         toml_string(&store_name),
+        toml_string(&store_path(store)),
         toml_string(what),
     );
     let p = dir.join(MARKER);
@@ -49,24 +68,43 @@ fn toml_string(s: &str) -> String {
     toml::Value::String(s.to_string()).to_string()
 }
 
-/// The store a marked report directory names (its file name); None without a readable
-/// marker.
-pub fn marked_store(dir: &Path) -> Option<String> {
+/// The full path of the store a marked report directory names (`store_path`); None without
+/// a readable marker or without that key.
+pub fn marked_store_path(dir: &Path) -> Option<String> {
     let text = std::fs::read_to_string(dir.join(MARKER)).ok()?;
     let t: toml::Table = text.parse().ok()?;
-    t.get("store")?.as_str().map(str::to_string)
+    t.get("store_path")?.as_str().map(str::to_string)
 }
 
-/// Whether `dir` is a report directory retinue wrote: it holds the marker, or its
-/// `report.md` starts with the report's heading (a report from before the marker).
+/// Whether `dir` is a report directory retinue wrote: it holds the marker, or (reports from
+/// before the marker) its `report.md` starts with the report's heading, or it holds only
+/// figures of the names `plot` writes (a review found a figure-only directory of `plot` taken
+/// for a user's).
 pub fn is_report_dir(dir: &Path) -> bool {
     if dir.join(MARKER).is_file() {
         return true;
     }
-    std::fs::read_to_string(dir.join("report.md"))
+    let heading = std::fs::read_to_string(dir.join("report.md"))
         .ok()
         .and_then(|t| t.lines().next().map(|l| l.trim_end() == REPORT_HEADING))
-        .unwrap_or(false)
+        .unwrap_or(false);
+    heading || only_figures(dir)
+}
+
+/// `dir` holds at least one file and nothing but figures of the report's names.
+fn only_figures(dir: &Path) -> bool {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return false;
+    };
+    let figures: Vec<String> = super::figures::FIGURE_NAMES
+        .iter()
+        .flat_map(|n| [format!("{n}.png"), format!("{n}.svg")])
+        .collect();
+    let names: Vec<String> = entries
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .collect();
+    !names.is_empty() && names.iter().all(|n| figures.contains(n))
 }
 
 /// Why a report cannot be written into `dir` without `--overwrite` (None: it can): `dir` is
@@ -151,15 +189,16 @@ fn retire(dir: &Path, store: &Path) -> Result<(), IoError> {
 /// Before a new store is put at `store` (over an earlier one, or where one was): remove the
 /// reports that describe what was there, so that a store never sits next to a report of
 /// another run. These are the run's report directory (`analysis::report_dir`: NAME-report
-/// next to the store) when it is a report directory, and the default directories of
-/// `retinue infall` (NAME-ANALYSIS-report next to it) whose marker names this store. Only
+/// next to the store) when it is a report directory whose marker, if any, names this store,
+/// and the default directories of `retinue infall` (NAME-ANALYSIS-report next to it) whose
+/// marker names this store by its full path (`store_path`). Only
 /// the report's files go (`retire`); a directory left with nothing else goes too. Reports written
 /// elsewhere (`--out DIR`) are not looked for. Returns the directories whose report was
 /// removed.
 pub fn retire_reports_of(store: &Path) -> Result<Vec<PathBuf>, IoError> {
-    let Some(name) = store.file_name().map(|n| n.to_string_lossy().into_owned()) else {
+    if store.file_name().is_none() {
         return Ok(Vec::new());
-    };
+    }
     let stem = store
         .file_stem()
         .map(|s| s.to_string_lossy().into_owned())
@@ -169,8 +208,11 @@ pub fn retire_reports_of(store: &Path) -> Result<Vec<PathBuf>, IoError> {
         _ => PathBuf::from("."),
     };
     let mut retired = Vec::new();
+    let this = store_path(store);
     let own = crate::analysis::report_dir(store);
-    if own.is_dir() && is_report_dir(&own) {
+    // the run's own report directory, unless its marker names another store (one of the
+    // same name elsewhere that wrote its report here with --out)
+    if own.is_dir() && is_report_dir(&own) && marked_store_path(&own).is_none_or(|p| p == this) {
         retire(&own, store)?;
         retired.push(own.clone());
     }
@@ -190,7 +232,10 @@ pub fn retire_reports_of(store: &Path) -> Result<Vec<PathBuf>, IoError> {
             .collect();
         dirs.sort();
         for d in dirs {
-            if marked_store(&d).as_deref() == Some(name.as_str()) {
+            // by full path: a store of the same file name elsewhere is another store (a
+            // review found the report of `a/run.h5`, written to `run-x-report` with --out,
+            // removed when a new `run.h5` was made next to it)
+            if marked_store_path(&d).as_deref() == Some(this.as_str()) {
                 retire(&d, store)?;
                 retired.push(d);
             }

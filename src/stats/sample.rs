@@ -502,6 +502,32 @@ fn resolve(
 
 /// The range checks of one object, naming the object and the key (and how a derived value
 /// was derived); NaN, which CSV and TOML both accept as a number, is out of every range.
+/// Values that are allowed but look like another unit, as notes (a review found log10 M*
+/// and distances in Mpc accepted without a word; refusing them would refuse the faintest
+/// known satellites, with M* of order 10 Msun): a stellar mass below 20 Msun (log10 M*?) and
+/// a galactocentric distance given directly below 1 kpc (Mpc? a satellite there would lie
+/// inside the bulge).
+fn unit_notes(raw: &RawObject, o: &ObservedObject, at: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    if o.mstar_msun < 20.0 {
+        out.push(format!(
+            "{at}object `{}`: mstar_msun = {} is below 20 Msun; if it is log10 M*, give it in \
+             Msun",
+            excerpt(&o.id),
+            o.mstar_msun
+        ));
+    }
+    if raw.r_gc_kpc.is_some_and(|r| r < 1.0) {
+        out.push(format!(
+            "{at}object `{}`: r_gc_kpc = {} is within 1 kpc of the centre; if it is in Mpc, \
+             give it in kpc",
+            excerpt(&o.id),
+            o.r_gc_kpc
+        ));
+    }
+    out
+}
+
 fn object_problems(
     o: &ObservedObject,
     derived: &Derived,
@@ -524,27 +550,15 @@ fn object_problems(
         "mstar_msun",
         derived.mstar.as_ref(),
         o.mstar_msun,
-        o.mstar_msun >= 20.0 && o.mstar_msun < 1e13,
-        "must be in [20, 1e13) Msun (no known satellite has fewer than a few hundred: a value \
-         below 20 is likely log10 M*; give it in Msun)",
+        o.mstar_msun > 0.0 && o.mstar_msun < 1e13,
+        "must be in (0, 1e13) Msun",
     );
-    // a distance given directly below 1 kpc is taken for one in Mpc (a satellite there would
-    // lie inside the bulge); one derived from sky coordinates is the conversion's own result
-    let (r_ok, r_allowed) = if derived.r_gc.is_some() {
-        (o.r_gc_kpc >= 0.0, "must be in [0, 5000) kpc")
-    } else {
-        (
-            o.r_gc_kpc >= 1.0,
-            "must be in [1, 5000) kpc (a satellite within 1 kpc of the centre would lie inside \
-             the bulge: a value below 1 is likely in Mpc; give it in kpc)",
-        )
-    };
     bad(
         "r_gc_kpc",
         derived.r_gc.as_ref(),
         o.r_gc_kpc,
-        r_ok && o.r_gc_kpc < 5000.0,
-        r_allowed,
+        o.r_gc_kpc >= 0.0 && o.r_gc_kpc < 5000.0,
+        "must be in [0, 5000) kpc",
     );
     bad(
         "v_r_kms",
@@ -920,7 +934,7 @@ impl ObservedSample {
         };
         let CsvColumns { pos, used, note } =
             csv_columns(&names, hline, src, opts).map_err(|p| p.join("\n"))?;
-        let notes: Vec<String> = note.into_iter().collect();
+        let mut notes: Vec<String> = note.into_iter().collect();
         let mut problems = Vec::new();
         // a sample key as the file calls it
         let label = |name: &str| -> String {
@@ -983,7 +997,10 @@ impl ObservedSample {
                 continue;
             }
             match resolve(&raw, opts, &label) {
-                Ok(o) => objects.push(o),
+                Ok(o) => {
+                    notes.extend(unit_notes(&raw, &o, &format!("{src}: line {line}: ")));
+                    objects.push(o)
+                }
                 Err(p) => {
                     problems.extend(p.into_iter().map(|p| format!("{src}: line {line}: {p}")))
                 }
@@ -1041,6 +1058,7 @@ impl ObservedSample {
             })
             .collect();
         let mut objects = Vec::new();
+        let mut notes = Vec::new();
         if let Some(s) = &s {
             let label = |k: &str| k.to_string();
             let line_of = |i: usize| heads.get(i).copied().unwrap_or(0);
@@ -1049,7 +1067,14 @@ impl ObservedSample {
                     continue;
                 }
                 match resolve(raw, opts, &label) {
-                    Ok(o) => objects.push(o),
+                    Ok(o) => {
+                        notes.extend(unit_notes(
+                            raw,
+                            &o,
+                            &format!("{src}: line {}: object[{i}]: ", line_of(i)),
+                        ));
+                        objects.push(o)
+                    }
                     Err(p) => lines.extend(
                         p.into_iter()
                             .map(|p| format!("{src}: line {}: object[{i}]: {p}", line_of(i))),
@@ -1070,7 +1095,7 @@ impl ObservedSample {
         match s {
             Some(_) if lines.is_empty() => Ok(SampleRead {
                 sample: Self { objects },
-                notes: Vec::new(),
+                notes,
             }),
             _ => Err(lines.join("\n")),
         }
@@ -1333,7 +1358,7 @@ mod tests {
         let e = csv(&text.replace("-8.0", "-29")).unwrap_err();
         assert!(
             e.starts_with("s.csv: line 2: object `A`: mstar_msun = ")
-                && e.contains("(from m_v = -29 with mass_to_light_v = 2) is not allowed: must be in [20, 1e13) Msun"),
+                && e.contains("(from m_v = -29 with mass_to_light_v = 2) is not allowed: must be in (0, 1e13) Msun"),
             "{e}"
         );
     }
@@ -1610,23 +1635,24 @@ mod tests {
         s.objects.push(s.objects[1].clone());
         assert_eq!(
             s.check().unwrap_err(),
-            "object `A`: r_gc_kpc = -1 is not allowed: must be in [1, 5000) kpc (a satellite within 1 kpc of the centre would lie inside the bulge: a value below 1 is likely in Mpc; give it in kpc)\n\
+            "object `A`: r_gc_kpc = -1 is not allowed: must be in [0, 5000) kpc\n\
              id `A` is given twice (objects 1 and 2)\n\
              id `A` is given twice (objects 1 and 3)"
         );
         assert!(ObservedSample::default().check().is_err());
-        // values in the wrong unit: log10 M* and a distance in Mpc (review of 2026-12-04:
-        // both passed, the first matching nothing, the second matching mocks at 0-25 kpc)
-        let mut s = csv(&text).unwrap().sample;
-        s.objects[0].mstar_msun = 5.3;
-        s.objects[1].r_gc_kpc = 0.06;
-        let e = s.check().unwrap_err();
-        assert!(
-            e.contains("object `A`: mstar_msun = 5.3 is not allowed: must be in [20, 1e13) Msun")
-                && e.contains("likely log10 M*")
-                && e.contains("object `B`: r_gc_kpc = 0.06 is not allowed")
-                && e.contains("likely in Mpc"),
-            "{e}"
+        // values that look like another unit: log10 M* and a distance in Mpc give notes
+        // (review of 2026-12-04: both passed without a word)
+        let r = csv(&format!("{HEAD}\nA,5.3,50,1,8,1\nB,1e5,0.06,1,8,1\n")).unwrap();
+        assert_eq!(
+            r.notes,
+            vec![
+                "s.csv: line 2: object `A`: mstar_msun = 5.3 is below 20 Msun; if it is log10 \
+                 M*, give it in Msun"
+                    .to_string(),
+                "s.csv: line 3: object `B`: r_gc_kpc = 0.06 is within 1 kpc of the centre; if \
+                 it is in Mpc, give it in kpc"
+                    .to_string()
+            ]
         );
     }
 

@@ -319,6 +319,18 @@ fn a_changed_transfer_table_is_noticed() {
     }
     std::fs::write(&t, &a).unwrap();
     run_ok(&["infall", o, "--name", "later"]);
+    // a store from before the hashes were recorded resumes with a note (it was refused as
+    // grown from other files; review of the change)
+    {
+        let f = hdf5::File::open_rw(&out).unwrap();
+        f.delete_attr("input_files").unwrap();
+    }
+    let (code, _, err) = run_cli(&["run", c, "--resume", "--out", o]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        err.contains("records no hashes of its input files"),
+        "{err}"
+    );
     // shards grown from different tables are not merged
     let shard = |k: u32, table: &str| {
         std::fs::write(&t, table).unwrap();
@@ -396,4 +408,87 @@ fn outputs_and_paths_are_checked_up_front() {
         "{err}"
     );
     assert_eq!(std::fs::read(&store).unwrap(), before);
+}
+
+/// A store written before 2026-12-04 may hold configuration forms refused since (a third
+/// value in a [lo, hi] key, a grid out of order, an empty [tests.preprocessing]); `infall`
+/// and `plot` read them as that version did, with a note each, instead of refusing the store
+/// (review of the change: such stores could no longer be re-tested or plotted).
+#[test]
+fn stores_with_configuration_forms_refused_since_still_open() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("old.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    // the stored configuration as an older version would have kept it
+    let old_text = TINY
+        .replace("n_range = [3, 4]", "n_range = [3, 4, 99]")
+        .replace(
+            "z_grid = [0.0, 0.5, 1.0, 2.0]",
+            "z_grid = [2.0, 1.0, 0.5, 0.5, 0.0]",
+        )
+        + "\n[tests.preprocessing]\n";
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.delete_attr("config").unwrap();
+        retinue::io::h5::set_str_attr(&f, "config", &old_text).unwrap();
+    }
+    let (code, out, err) = run_cli(&["infall", store.to_str().unwrap(), "--name", "again"]);
+    assert_eq!(code, 0, "{err}");
+    let all = format!("{out}{err}");
+    assert!(
+        all.contains("tests.n_range has 3 values")
+            && all.contains("tests.z_grid is not increasing")
+            && all.contains("[tests.preprocessing] is empty"),
+        "{all}"
+    );
+    let (code, _, err) = run_cli(&["plot", store.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+}
+
+/// The review of the change: (1) a report is retired with its store only when its marker
+/// names that store by its full path, so the report of `a/run.h5` written with --out next
+/// to another `run.h5` stays when that one is made; (2) a directory holding only figures of
+/// the names `plot` writes (what `plot` left before the marker) is a report directory.
+#[test]
+fn reports_of_a_store_of_the_same_name_elsewhere_stay() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    std::fs::create_dir(d.path().join("a")).unwrap();
+    let a = d.path().join("a").join("run.h5");
+    run_ok(&["run", c, "--out", a.to_str().unwrap()]);
+    let theirs = d.path().join("run-x-report");
+    run_ok(&[
+        "infall",
+        a.to_str().unwrap(),
+        "--name",
+        "x",
+        "--out",
+        theirs.to_str().unwrap(),
+    ]);
+    assert!(theirs.join("report.md").is_file());
+    let here = d.path().join("run.h5");
+    let (code, _, err) = run_cli(&["run", c, "--out", here.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(!err.contains("run-x-report"), "{err}");
+    assert!(theirs.join("report.md").is_file());
+    // (2) figures only, no marker
+    std::fs::create_dir(d.path().join("b")).unwrap();
+    let m = d.path().join("b").join("m.h5");
+    std::fs::copy(&a, &m).unwrap();
+    let old_figures = d.path().join("b").join("m-report");
+    std::fs::create_dir(&old_figures).unwrap();
+    std::fs::write(old_figures.join("pericentres.png"), b"an older plot").unwrap();
+    let (code, _, err) = run_cli(&["plot", m.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert_ne!(
+        std::fs::read(old_figures.join("pericentres.png")).unwrap(),
+        b"an older plot"
+    );
 }
