@@ -5,7 +5,7 @@
 //! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO] [nodisc]
 //! [KEY=VALUE ...]` (default 32 hosts and the default tolerance; `nodisc`: a host without disc
 //! and bulge; `-` keeps a default). KEY=VALUE changes one option: `occupation=erf|all|reionization`,
-//! `resolution=MSUN`, `disc_tide_ratio=X`, `stripping_alpha=X`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `smhm_epoch=peak|today`, `pericentre_cut=1` (the fixed
+//! `resolution=MSUN`, `disc_tide_ratio=X`, `stripping_alpha=X`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `v_filter=KMS`, `t_vir=K`, `infall_orbits=NAME`, `smhm_epoch=peak|today`, `pericentre_cut=1` (the fixed
 //! 20 kpc cut on top).
 
 use rayon::prelude::*;
