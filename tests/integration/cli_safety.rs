@@ -3,33 +3,7 @@
 
 use std::path::Path;
 
-use crate::common::{dir_names, run_cli, run_ok, write};
-
-const TINY: &str = r#"
-[run]
-master_seed = 11
-hosts_per_cell = 3
-batch_hosts = 2
-output = "tiny.h5"
-
-[cosmology]
-preset = "planck18"
-
-[host]
-mass_msun = [8e11, 1.2e12]
-
-[trees]
-resolution_msun = 1e9
-z_max = 10.0
-output_steps = 16
-
-[tests]
-n_draw = 3
-draws = 500
-bootstrap = 50
-n_range = [3, 4]
-z_grid = [0.0, 0.5, 1.0, 2.0]
-"#;
+use crate::common::{dir_names, run_cli, run_ok, write, TINY};
 
 /// Every file under `dir` with its contents (names sorted).
 fn contents(dir: &Path) -> Vec<(String, Vec<u8>)> {
