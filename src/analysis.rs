@@ -598,11 +598,32 @@ pub fn stored_config(
             }
         }
     }
-    let cfg = match (cfg, first_err) {
+    let mut cfg = match (cfg, first_err) {
         (Some(c), _) => c,
         (None, Some(e)) => return Err(AnalysisError::Input(e.to_string())),
         (None, None) => unreachable!("there is always a base to try"),
     };
+    // the orbit options as the run resolved them (a later version's defaults may differ: a
+    // review found figures of an older store labelled with today's disc_tide_ratio)
+    match toml::from_str::<crate::orbits::OrbitOptions>(&meta.orbit_options) {
+        Ok(o) if !meta.orbit_options.trim().is_empty() => cfg.file.orbits = o,
+        _ => {
+            let set = table
+                .get("orbits")
+                .and_then(|o| o.as_table())
+                .is_some_and(|o| o.contains_key("disc_tide_ratio"));
+            if !set {
+                notes.push(format!(
+                    "{} does not record its orbit options (written before they were): the \
+                     keys its configuration leaves out are read at this version's defaults, \
+                     which label the figures (orbits.disc_tide_ratio = {}; it was 1.6 before \
+                     2026-12-04)",
+                    store.display(),
+                    cfg.file.orbits.disc_tide_ratio
+                ));
+            }
+        }
+    }
     let sample = stored_sample.filter(|_| want_sample).and_then(|rel| {
         let places: Vec<PathBuf> = if rel.is_relative() {
             bases.iter().map(|b| b.join(&rel)).collect()

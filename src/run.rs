@@ -446,6 +446,7 @@ impl Grid {
     pub fn meta(&self, config_text: &str, shard: Shard) -> StoreMeta {
         StoreMeta {
             input_files: self.input_files().to_text(),
+            orbit_options: toml::to_string(&self.config.file.orbits).unwrap_or_default(),
             config_toml: config_text.to_string(),
             master_seed: self.config.file.run.master_seed,
             generator: GENERATOR.to_string(),

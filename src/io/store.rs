@@ -41,6 +41,10 @@ pub struct StoreMeta {
     /// (`io::inputs::InputFiles::to_text`); empty if the run read none, or for older stores
     /// (written before it was recorded).
     pub input_files: String,
+    /// The orbit options the hosts were grown with, every key resolved (TOML of
+    /// `orbits::OrbitOptions`), so that a later version with other defaults labels them as
+    /// they were; empty for older stores (written before it was recorded).
+    pub orbit_options: String,
 }
 
 /// One column of values.
@@ -625,6 +629,7 @@ impl StoreWriter {
         set_num_attr(&f, "shard_count", meta.shard.1)?;
         set_str_attr(&f, "config_dir", &meta.config_dir)?;
         set_str_attr(&f, "input_files", &meta.input_files)?;
+        set_str_attr(&f, "orbit_options", &meta.orbit_options)?;
         let h = f.create_group("hosts")?;
         let s = f.create_group("subhalos")?;
         let templ_h = host_cols(&[], 0, 0);
@@ -881,6 +886,8 @@ pub fn read_meta(path: &Path) -> Result<StoreMeta, IoError> {
         config_dir: get_str_attr(&f, "config_dir").unwrap_or_default(),
         // absent from stores written before it was recorded
         input_files: get_str_attr(&f, "input_files").unwrap_or_default(),
+        // absent from stores written before it was recorded
+        orbit_options: get_str_attr(&f, "orbit_options").unwrap_or_default(),
     })
 }
 

@@ -466,3 +466,43 @@ fn reports_of_a_store_of_the_same_name_elsewhere_stay() {
         b"an older plot"
     );
 }
+
+/// A store records the orbit options its hosts were grown with, every key resolved, and
+/// `plot` labels the figures with those, not with a later version's defaults (review of
+/// 2026-12-04: an older store's figures named today's disc_tide_ratio); a store that does not
+/// record them is read at this version's defaults, with a note saying so.
+#[test]
+fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("o.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
+    let recorded = {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        let text = retinue::io::h5::get_str_attr(&f, "orbit_options").unwrap();
+        assert!(text.contains("disc_tide_ratio = 1.5"), "{text}");
+        // as a version with another default would have recorded it
+        f.delete_attr("orbit_options").unwrap();
+        let other = text.replace("disc_tide_ratio = 1.5", "disc_tide_ratio = 1.6");
+        retinue::io::h5::set_str_attr(&f, "orbit_options", &other).unwrap();
+        text
+    };
+    assert!(!recorded.is_empty());
+    run_ok(&["plot", s]);
+    let svg = std::fs::read_to_string(d.path().join("o-report").join("pericentres.svg")).unwrap();
+    assert!(
+        svg.contains("disc_tide_ratio = 1.6"),
+        "label not the recorded one"
+    );
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.delete_attr("orbit_options").unwrap();
+    }
+    let (code, out, err) = run_cli(&["infall", s, "--name", "later"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        format!("{out}{err}").contains("does not record its orbit options"),
+        "{out}{err}"
+    );
+}
