@@ -401,13 +401,9 @@ fn execute(
                 out.display(),
             )));
         }
-        if meta.input_files.trim().is_empty() && !grid.input_files().is_empty() {
-            eprintln!(
-                "note: {} records no hashes of its input files (it was written before they \
-                 were recorded): the files the configuration names now are taken to be the \
-                 ones its hosts were grown from",
-                out.display()
-            );
+        // (the same note as `infall` and `plot` give for a store without hashes)
+        if let Some(n) = analysis::check_input_files(&meta, &out, &grid).map_err(analysis_err)? {
+            eprintln!("note: {n}");
         }
         eprintln!(
             "{} already holds all {} hosts of this run: running only the tests and the report",

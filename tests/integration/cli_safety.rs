@@ -302,7 +302,7 @@ fn a_changed_transfer_table_is_noticed() {
     let (code, _, err) = run_cli(&["run", c, "--resume", "--out", o]);
     assert_eq!(code, 0, "{err}");
     assert!(
-        err.contains("records no hashes of its input files"),
+        err.contains("records no hash of the files its run read"),
         "{err}"
     );
     // shards grown from different tables are not merged
