@@ -6,7 +6,8 @@
 //! [KEY=VALUE ...]` (default 32 hosts and the default tolerance; `nodisc`: a host without disc
 //! and bulge; `-` keeps a default). KEY=VALUE changes one option: `occupation=erf|all|reionization`,
 //! `resolution=MSUN`, `disc_tide_ratio=X`, `stripping_alpha=X`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `v_filter=KMS`, `t_vir=K`, `infall_orbits=NAME`, `smhm_epoch=peak|today`, `pericentre_cut=1` (the fixed
-//! 20 kpc cut on top).
+//! 20 kpc cut on top), `strip_stars=0` (galaxies keep every star they formed), `size_to_r200c=X`,
+//! `size_scatter=DEX` (galaxy sizes, which set how deeply stars sit in their subhaloes).
 
 use rayon::prelude::*;
 
@@ -137,6 +138,9 @@ fn main() {
             "v_filter" => galaxies.reionization_vmax_kms = x(),
             "t_vir" => galaxies.reionization_t_vir_k = x(),
             "pericentre_cut" => cut = x() > 0.0,
+            "strip_stars" => galaxies.strip_stars = x() > 0.0,
+            "size_to_r200c" => galaxies.size_to_r200c = x(),
+            "size_scatter" => galaxies.size_scatter_dex = x(),
             "smhm_epoch" => {
                 galaxies.smhm_epoch = serde_json::from_str(&format!("\"{v}\"")).expect("smhm_epoch")
             }

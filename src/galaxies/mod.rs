@@ -6,6 +6,7 @@ pub mod moster13;
 pub mod observability;
 pub mod paint;
 pub mod reionization;
+pub mod stellar_stripping;
 
 use serde::{Deserialize, Serialize};
 
@@ -118,6 +119,14 @@ pub struct GalaxyOptions {
     pub reionization_sigma_dex: f64,
     /// Stellar V-band mass-to-light ratio, Msun/Lsun.
     pub mass_to_light_v: f64,
+    /// Whether tides strip stars as well as dark matter (`stellar_stripping`: Errani et al.
+    /// 2022). Off, every surviving satellite keeps the stellar mass it formed.
+    pub strip_stars: bool,
+    /// 3D half-mass radius of a galaxy over its halo's R_200c at the peak mass (Kravtsov 2013:
+    /// 0.015); sets how deeply its stars sit in the subhalo.
+    pub size_to_r200c: f64,
+    /// Log-normal scatter of that size, dex (Kravtsov 2013: about 0.2).
+    pub size_scatter_dex: f64,
 }
 
 impl Default for GalaxyOptions {
@@ -139,6 +148,9 @@ impl Default for GalaxyOptions {
             reionization_vmax_kms: 25.0,
             reionization_sigma_dex: 0.04,
             mass_to_light_v: 2.0,
+            strip_stars: true,
+            size_to_r200c: 0.015,
+            size_scatter_dex: 0.2,
         }
     }
 }
@@ -224,6 +236,18 @@ impl GalaxyOptions {
             self.mass_to_light_v > 0.0 && self.mass_to_light_v <= 20.0,
             "must be in (0, 20] Msun/Lsun",
         );
+        ck.num(
+            "size_to_r200c",
+            self.size_to_r200c,
+            self.size_to_r200c > 0.0 && self.size_to_r200c <= 0.2,
+            "must be in (0, 0.2]",
+        );
+        ck.num(
+            "size_scatter_dex",
+            self.size_scatter_dex,
+            (0.0..=1.0).contains(&self.size_scatter_dex),
+            "must be in [0, 1] dex",
+        );
         ck.problems
     }
 
@@ -285,6 +309,29 @@ impl GalaxyOptions {
             SmhmEpoch::Today => 0.0,
         };
         self.log10_mstar_median(cosmo, m_peak_msun, z)
+    }
+
+    /// Median 3D half-mass radius (kpc) of the galaxy of a halo of virial mass `m_vir_msun` at
+    /// z: `size_to_r200c` R_200c (Kravtsov 2013), R_200c from the virial mass with the Dutton
+    /// & Maccio 2014 concentration (held at z = 5 beyond the fit's range).
+    pub fn half_mass_radius_kpc(&self, cosmo: &Cosmology, m_vir_msun: f64, z: f64) -> f64 {
+        let c = c_of_m(
+            ConcentrationModel::DuttonMaccio14,
+            cosmo,
+            m_vir_msun,
+            z,
+            MassDefinition::Vir,
+        );
+        let m200 = convert_nfw(
+            cosmo,
+            m_vir_msun,
+            c,
+            z,
+            MassDefinition::Vir,
+            MassDefinition::C200,
+        )
+        .0;
+        self.size_to_r200c * MassDefinition::C200.radius_kpc(cosmo, m200, z)
     }
 
     /// Scatter (dex) at a virial peak mass.

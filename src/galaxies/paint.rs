@@ -8,8 +8,10 @@ use rand::Rng;
 use rand_distr::{Distribution, StandardNormal};
 
 use super::observability::SurveyOptions;
+use super::stellar_stripping::kept_star_fraction;
 use super::{absolute_mv, GalaxyOptions};
 use crate::cosmology::Cosmology;
+use crate::orbits::tidal_track::rmax_ratio;
 use crate::orbits::SubhaloResult;
 
 /// A galaxy on one subhalo.
@@ -17,8 +19,11 @@ use crate::orbits::SubhaloResult;
 pub struct GalaxyRecord {
     /// Whether the halo hosts a galaxy at all.
     pub occupied: bool,
-    /// Stellar mass (Msun); 0 when not occupied.
+    /// Stellar mass today (Msun), after tidal stripping of stars; 0 when not occupied.
     pub mstar_msun: f64,
+    /// Stellar mass it formed (Msun; the relation at the peak mass, with scatter), before any
+    /// stars were stripped; 0 when not occupied.
+    pub mstar_peak_msun: f64,
     /// Absolute V magnitude (NaN when not occupied).
     pub m_v: f64,
     /// Heliocentric distance today (kpc; NaN if disrupted).
@@ -27,8 +32,10 @@ pub struct GalaxyRecord {
     pub observable: bool,
 }
 
-/// Paint every subhalo. Draws, in order for each subhalo: one normal (scatter) and one
-/// uniform (occupation), so the stream stays aligned whatever the options.
+/// Paint every subhalo. Draws, in order for each subhalo: one normal (stellar-mass scatter),
+/// one uniform (occupation) and one normal (size scatter), so the stream stays aligned
+/// whatever the options. A surviving galaxy keeps the fraction of its stars that the tidal
+/// stripping of its subhalo leaves (`stellar_stripping`; `GalaxyOptions::strip_stars`).
 pub fn paint<R: Rng>(
     cosmo: &Cosmology,
     options: &GalaxyOptions,
@@ -42,6 +49,7 @@ pub fn paint<R: Rng>(
         .map(|s| {
             let g: f64 = StandardNormal.sample(rng);
             let u: f64 = rng.random();
+            let h: f64 = StandardNormal.sample(rng);
             let z_peak = cosmo.z_at_age(s.t_peak_gyr);
             let occupied = u < options.occupied_probability(
                 s.m_peak_msun,
@@ -51,13 +59,23 @@ pub fn paint<R: Rng>(
             );
             let log_ms = options.log10_mstar_of_peak(cosmo, s.m_peak_msun, z_peak)
                 + options.scatter_at(s.m_peak_msun) * g;
-            let mstar = if occupied { 10f64.powf(log_ms) } else { 0.0 };
-            let m_v = if occupied {
+            let alive = s.status.alive() && s.pos_kpc[0].is_finite();
+            let formed = if occupied { 10f64.powf(log_ms) } else { 0.0 };
+            let x = s.m_bound_msun / s.m_infall_msun;
+            let kept = if occupied && alive && options.strip_stars && x < 1.0 {
+                let rmax0 = s.rmax_kpc / rmax_ratio(x);
+                let r_half = options.half_mass_radius_kpc(cosmo, s.m_peak_msun, z_peak)
+                    * 10f64.powf(options.size_scatter_dex * h);
+                kept_star_fraction(r_half / rmax0, x)
+            } else {
+                1.0
+            };
+            let mstar = formed * kept;
+            let m_v = if occupied && mstar > 0.0 {
                 absolute_mv(mstar, options.mass_to_light_v)
             } else {
                 f64::NAN
             };
-            let alive = s.status.alive() && s.pos_kpc[0].is_finite();
             let d = if alive {
                 survey.helio(s.pos_kpc).0
             } else {
@@ -66,6 +84,7 @@ pub fn paint<R: Rng>(
             GalaxyRecord {
                 occupied,
                 mstar_msun: mstar,
+                mstar_peak_msun: formed,
                 m_v,
                 d_helio_kpc: d,
                 observable: alive && occupied && survey.observable(s.pos_kpc, m_v),

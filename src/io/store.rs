@@ -302,7 +302,16 @@ pub const SUB_COLUMNS: &[Spec] = &[
          its parent's centre, 4 merged with the central galaxy",
     ),
     ("occupied", "flag", "1: hosts a galaxy"),
-    ("mstar_msun", "Msun", "stellar mass (0 if dark)"),
+    (
+        "mstar_msun",
+        "Msun",
+        "stellar mass today, after tidal stripping of stars (0 if dark)",
+    ),
+    (
+        "mstar_peak_msun",
+        "Msun",
+        "stellar mass it formed, before any stars were stripped (0 if dark)",
+    ),
     ("m_v", "mag", "absolute V magnitude (NaN if dark)"),
     ("d_helio_kpc", "kpc", "heliocentric distance today"),
     (
@@ -461,6 +470,7 @@ fn sub_cols(recs: &[(u64, &HostRecord)], first_row: u64) -> Vec<Col> {
         Col::U8(rows.iter().map(|x| x.2.status as u8).collect()),
         Col::U8(rows.iter().map(|x| x.3.occupied as u8).collect()),
         fg(&|g| g.mstar_msun),
+        fg(&|g| g.mstar_peak_msun),
         fg(&|g| g.m_v),
         fg(&|g| g.d_helio_kpc),
         Col::U8(rows.iter().map(|x| x.3.observable as u8).collect()),

@@ -352,3 +352,68 @@ fn resolution_warning_when_galaxies_are_unresolved() {
     };
     assert!(all.resolution_warning(co, 1e5).is_some());
 }
+
+/// Tidal stripping of stars (`galaxies::stellar_stripping`) against scipy 1.18.1
+/// (`tests/reference/stellar_stripping.json`, made by
+/// `tests/reference/scripts/make_stellar_stripping_fixtures.py`):
+/// * the fraction of Errani et al. 2022's eq. 13 tracer that their eq. 9 and 10 keep,
+///   integrated with `scipy.integrate.quad` (relative 2e-3, or 1e-5 absolute for the
+///   smallest fractions: the crate integrates on a grid of 481 energies);
+/// * the tracer's 3D and projected half-light radii over r_max, which the script computes by
+///   another route (the distribution function, the density and its projection) and the crate
+///   from the phase-space volume energy by energy: both are right only if they agree (1%,
+///   the script's interpolation of the density on 641 radii).
+#[test]
+fn val_stellar_stripping_vs_scipy() {
+    use retinue::galaxies::stellar_stripping::{
+        half_light_radius_over_rmax, projected_half_light_radius_over_rmax, truncated_fraction,
+    };
+    let fx = crate::common::fixture("stellar_stripping.json");
+    for row in fx["bound_fraction"].as_array().unwrap() {
+        let es = 10f64.powf(row["log10_es"].as_f64().unwrap());
+        let m = row["mmx_ratio"].as_f64().unwrap();
+        let want = row["bound_fraction"].as_f64().unwrap();
+        let got = truncated_fraction(es, m);
+        assert!(
+            (got - want).abs() < (2e-3 * want).max(1e-5),
+            "e_s = {es:.4}, M_mx/M_mx0 = {m}: {got} against scipy's {want}"
+        );
+    }
+    for row in fx["half_light_radius"].as_array().unwrap() {
+        let es = 10f64.powf(row["log10_es"].as_f64().unwrap());
+        let (r3, r2) = (
+            row["r_half_3d_over_rmax"].as_f64().unwrap(),
+            row["r_half_2d_over_rmax"].as_f64().unwrap(),
+        );
+        let (g3, g2) = (
+            half_light_radius_over_rmax(es),
+            projected_half_light_radius_over_rmax(es),
+        );
+        println!("e_s = {es:.4}: r_1/2 / r_max {g3:.4} (scipy {r3:.4}), projected {g2:.4} (scipy {r2:.4})");
+        assert!((g3 / r3 - 1.0).abs() < 0.01, "3D: {g3} against {r3}");
+        assert!((g2 / r2 - 1.0).abs() < 0.01, "projected: {g2} against {r2}");
+    }
+}
+
+/// Stars against dark matter: Smith et al. 2016 (ApJ 833, 109, abstract; hydrodynamic
+/// cosmological simulations): "galaxies that lose ~80% of their dark matter typically lose
+/// only 10% of their stars", and the stellar-to-halo size ratio controls it. At bound fraction
+/// x = 0.2, galaxies of the sizes this model gives (Kravtsov 2013's r_1/2 = 0.015 R_200c is
+/// 0.0069 c_200c r_max, so r_1/2 / r_max = 0.03-0.3 for c_200c = 4-40) keep at least 80% of
+/// their stars (the abstract's typical 10% lost, with a factor 2 for "typically"), and more the
+/// smaller they are; they lose most of them only once x is far smaller (below 0.01 for the
+/// median size, r_1/2 / r_max = 0.07 at c_200c = 10).
+#[test]
+fn val_stars_outlast_dark_matter_vs_smith16() {
+    use retinue::galaxies::stellar_stripping::kept_star_fraction;
+    let mut last = 1.0f64;
+    for r in [0.03, 0.07, 0.15, 0.3] {
+        let k = kept_star_fraction(r, 0.2);
+        println!("r_1/2 / r_max0 = {r}: stars kept at x = 0.2: {k:.3}; at x = 0.01: {:.3}; at x = 1e-3: {:.3}",
+            kept_star_fraction(r, 0.01), kept_star_fraction(r, 1e-3));
+        assert!(k >= 0.8 && k <= last + 1e-12, "{r}: {k}");
+        last = k;
+    }
+    assert!(kept_star_fraction(0.07, 0.01) > 0.5);
+    assert!(kept_star_fraction(0.07, 1e-3) < 0.5);
+}
