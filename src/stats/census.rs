@@ -33,6 +33,12 @@ pub struct HostCensus {
     pub faint_dwarfs: usize,
     pub faint_dwarfs_preprocessed: usize,
     pub faint_dwarfs_in_halo_at_z6: usize,
+    /// The same three counts for those whose bound mass today exceeds `TRACKED_MASS_MSUN`:
+    /// the satellites a zoom-in simulation would still find, to compare with one like with
+    /// like.
+    pub faint_dwarfs_tracked: usize,
+    pub faint_dwarfs_tracked_preprocessed: usize,
+    pub faint_dwarfs_tracked_in_halo_at_z6: usize,
     /// Of the faint satellites of first order: how many have a last host infall later than
     /// the first (they left R_vir and fell back).
     pub faint_refallen: usize,
@@ -67,6 +73,12 @@ pub struct Companions {
     /// bound to it): its associated satellites, as observers count them.
     pub bound: usize,
 }
+
+/// The smallest bound mass (Msun) a dark-matter-only zoom-in simulation of Milky-Way-mass
+/// hosts follows a subhalo down to: about 20 particles (common practice for halo finders) of
+/// about 2e5 Msun (the particle mass of the simulations Wetzel, Deason & Garrison-Kimmel 2015
+/// analysed; recalled, not in their abstract).
+pub const TRACKED_MASS_MSUN: f64 = 4e6;
 
 /// The bound-mass thresholds of the cumulative mass functions, in units of the host's M_vir.
 pub const SHMF_PSI: [f64; 5] = [1e-5, 3e-5, 1e-4, 3e-4, 1e-3];
@@ -163,6 +175,13 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             }
             let pre = pre_t[k] < s.t_first_host_infall_gyr - 1e-9;
             c.faint_dwarfs_preprocessed += pre as usize;
+            if s.m_bound_msun > TRACKED_MASS_MSUN {
+                c.faint_dwarfs_tracked += 1;
+                c.faint_dwarfs_tracked_preprocessed += pre as usize;
+                if s.order > 1 && s.t_infall_gyr < t_z6_gyr {
+                    c.faint_dwarfs_tracked_in_halo_at_z6 += 1;
+                }
+            }
         }
     }
     let mut sorted = faint_pos.clone();

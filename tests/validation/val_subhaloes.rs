@@ -243,6 +243,12 @@ fn val_jvdb16_universal_model_vs_astropy() {
 ///   asserted). The published value behind the target is lower: "only <4% were satellites of
 ///   any other host halo during reionization (z > 6)" (Wetzel, Deason & Garrison-Kimmel 2015,
 ///   abstract), which neither meets (docs/validation.md, "Not met yet");
+/// * the same two fractions for the dwarfs such a simulation would still find today (bound
+///   mass above `census::TRACKED_MASS_MSUN`, about 20 particles of its ~2e5 Msun, recalled):
+///   the early children are the most stripped (median bound fraction 1.3%), and a simulation
+///   loses them first. With the peak-mass occupation, as in the paper: inside another halo at
+///   z > 6 below its published 4%, pre-processed in [0.15, 0.6]; with the default occupation
+///   the issue's targets (below 0.1; [0.15, 0.6]);
 /// * satellites sharing their exact position with another: below 1% (the issue's check: each
 ///   satellite of a satellite has its own orbit);
 /// * companions of a Magellanic-mass subhalo (first order, 1e11-3e11 Msun, alive, fell in
@@ -277,6 +283,21 @@ fn val_satellite_population_census() {
     let z6_peak =
         sum_of(&by_peak, &|c| c.faint_dwarfs_in_halo_at_z6) / sum_of(&by_peak, &|c| c.faint_dwarfs);
     let stacked = sum(&|c| c.faint_stacked) / sum(&|c| c.faint);
+    // like with like: only the dwarfs a zoom-in simulation would still track
+    // (`TRACKED_MASS_MSUN`), stars by peak mass as in Wetzel, Deason & Garrison-Kimmel 2015
+    let tracked = sum_of(&by_peak, &|c| c.faint_dwarfs_tracked);
+    let z6_tracked = sum_of(&by_peak, &|c| c.faint_dwarfs_tracked_in_halo_at_z6) / tracked;
+    let pre_tracked = sum_of(&by_peak, &|c| c.faint_dwarfs_tracked_preprocessed) / tracked;
+    let z6_tracked_default =
+        sum(&|c| c.faint_dwarfs_tracked_in_halo_at_z6) / sum(&|c| c.faint_dwarfs_tracked);
+    let pre_tracked_default =
+        sum(&|c| c.faint_dwarfs_tracked_preprocessed) / sum(&|c| c.faint_dwarfs_tracked);
+    eprintln!(
+        "dwarfs a simulation would track (bound mass > {:.0e} Msun), peak-mass occupation: \
+         {tracked}; inside another halo at z > 6: {z6_tracked:.3} ({z6_tracked_default:.3} \
+         with the default occupation); pre-processed {pre_tracked:.3} ({pre_tracked_default:.3})",
+        retinue::stats::census::TRACKED_MASS_MSUN
+    );
     eprintln!(
         "median N(M_V < 0, < 300 kpc) = {mv0}; median N(M_V < -8, < 300 kpc) = {mv8}; \
          pre-processed {pre:.3} with the peak-mass occupation, {pre_default:.3} with the \
@@ -305,6 +326,17 @@ fn val_satellite_population_census() {
     assert!((0.15..=0.6).contains(&pre), "pre-processed fraction {pre}");
     assert!(stacked < 0.01, "stacked fraction {stacked}");
     assert!(z6_peak < 0.1, "inside another halo at z > 6: {z6_peak}");
+    // Wetzel, Deason & Garrison-Kimmel 2015 (abstract): "only <4%"; binomial error of the
+    // pooled fraction about 0.002 (7,000 dwarfs), so a true 4% would read above 0.036 at 2
+    // errors: the bound is asserted as published
+    assert!(
+        z6_tracked < 0.04,
+        "tracked, inside another halo at z > 6: {z6_tracked}"
+    );
+    assert!(
+        (0.15..=0.6).contains(&pre_tracked),
+        "tracked, pre-processed {pre_tracked}"
+    );
 }
 
 /// Radial distribution of surviving first-order subhaloes (bound mass > 1e-4 M0) inside
