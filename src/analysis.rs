@@ -624,6 +624,17 @@ pub fn stored_config(
             }
         }
     }
+    // stores written before stars were stripped by tides keep every star their galaxies
+    // formed, whatever this version's default
+    if crate::io::store::predates_stellar_stripping(store) {
+        cfg.file.galaxies.strip_stars = false;
+        notes.push(format!(
+            "{} was written before stars were stripped by tides (2026-12-04): its galaxies \
+             keep every star they formed (read as galaxies.strip_stars = false; its \
+             mstar_msun is also the mass they formed)",
+            store.display()
+        ));
+    }
     let sample = stored_sample.filter(|_| want_sample).and_then(|rel| {
         let places: Vec<PathBuf> = if rel.is_relative() {
             bases.iter().map(|b| b.join(&rel)).collect()

@@ -159,7 +159,8 @@ fn phase_volume() -> &'static PhaseVolume {
         let mut cum = Vec::with_capacity(e.len());
         let ds = 1.0 / (N_S - 1) as f64;
         for &ei in e {
-            // the last node (e = 1) is unbound: keep its apocentre finite and its weight ~0
+            // the last node (e = 1) is unbound: keep its apocentre finite (its stars lie beyond
+            // any half-light radius the table holds)
             let ee = ei.min(1.0 - 1e-9);
             let xe = apocentre(ee);
             let f = |s: f64| {
@@ -299,8 +300,9 @@ fn size_table() -> &'static Vec<(f64, f64)> {
 }
 
 /// The scale energy e_s whose tracer has the 3D half-light radius `r_half_over_rmax` (in
-/// units of r_max), by linear interpolation in the logarithms of the table; clamped to the
-/// table's ends (r_1/2 from about r_max/300 to about 2 r_max).
+/// units of r_max), by linear interpolation in the logarithms of the table; held at the
+/// table's ends (r_1/2 from 0.0015 r_max, about r_max/660, to 2.3 r_max: a larger galaxy is
+/// stripped as one of 2.3 r_max, so too little).
 pub fn scale_energy_for_size(r_half_over_rmax: f64) -> f64 {
     let t = size_table();
     let y = r_half_over_rmax.log10();

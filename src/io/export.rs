@@ -6,7 +6,7 @@
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use super::store::{n_hosts_in, HOST_COLUMNS, SUB_COLUMNS};
+use super::store::{n_hosts_in, stored_sub_column, HOST_COLUMNS, SUB_COLUMNS};
 use super::{AtomicPath, IoError};
 
 /// Host columns copied onto every row (prefixed `host_` where the name is not already).
@@ -115,7 +115,7 @@ pub fn export_subhalos_csv(
         };
         let subs: Vec<Vec<f64>> = sub_names
             .iter()
-            .map(|c| read(&s, c, s0..s1))
+            .map(|c| read(&s, stored_sub_column(&s, c), s0..s1))
             .collect::<Result<_, _>>()?;
         for k in 0..(h1 - h0) {
             let ci = hosts[1][k] as u16;

@@ -566,6 +566,31 @@ fn append_col(g: &Group, name: &str, c: &Col) -> hdf5::Result<()> {
     }
 }
 
+/// Subhalo columns added to format version 4 after its first stores were written, each with
+/// the column that holds its value in those older stores: before stars were stripped by
+/// tides (2026-12-04), the stellar mass a galaxy formed was its stellar mass today.
+pub const LATER_SUB_COLUMNS: &[(&str, &str)] = &[("mstar_peak_msun", "mstar_msun")];
+
+/// The name under which `name` is stored in the subhalo table `g`: itself, or for a column
+/// of `LATER_SUB_COLUMNS` missing from an older store, the column that holds its value there.
+pub fn stored_sub_column<'a>(g: &Group, name: &'a str) -> &'a str {
+    if g.link_exists(name) {
+        return name;
+    }
+    LATER_SUB_COLUMNS
+        .iter()
+        .find(|(later, _)| *later == name)
+        .map_or(name, |(_, older)| older)
+}
+
+/// Whether the store at `path` was written before stars were stripped by tides (its subhalo
+/// table lacks `mstar_peak_msun`). False if it cannot be read.
+pub fn predates_stellar_stripping(path: &Path) -> bool {
+    hdf5::File::open(path)
+        .and_then(|f| f.group("subhalos"))
+        .is_ok_and(|g| !g.link_exists("mstar_peak_msun"))
+}
+
 fn read_col(g: &Group, name: &str) -> hdf5::Result<Col> {
     let ds = g.dataset(name)?;
     let dt = ds.dtype()?;
@@ -718,7 +743,7 @@ impl StoreWriter {
             .map_err(e)?;
         let mut scols: Vec<Col> = SUB_COLUMNS
             .iter()
-            .map(|c| read_col(&s, c.0))
+            .map(|c| read_col(&s, stored_sub_column(&s, c.0)))
             .collect::<hdf5::Result<_>>()
             .map_err(e)?;
         let nh = hcols[0].len() as u64;
@@ -986,6 +1011,7 @@ fn check_tables(f: &hdf5::File, path: &Path) -> Result<(), IoError> {
             .group(table)
             .map_err(|_| damaged(format!("the table /{table} is missing")))?;
         for (i, (name, _, _)) in cols.iter().enumerate() {
+            let name = &stored_sub_column(&g, name);
             let ds = g
                 .dataset(name)
                 .map_err(|_| damaged(format!("the column /{table}/{name} is missing")))?;

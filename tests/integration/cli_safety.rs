@@ -506,3 +506,90 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
         "{out}{err}"
     );
 }
+
+/// Stores written before stars were stripped by tides (2026-12-04) lack the subhalo column
+/// `mstar_peak_msun`: a review found that `infall`, `plot` and `export` then stopped with
+/// "damaged store", and that such a store would be read as stripped (this version's default).
+/// They open, with a note; they are read with `galaxies.strip_stars = false`; export and merge
+/// fill the column from `mstar_msun`, which held the same quantity then.
+#[test]
+fn stores_from_before_stellar_stripping_still_open() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let old = |p: &Path| {
+        let f = hdf5::File::open_rw(p).unwrap();
+        f.group("subhalos")
+            .unwrap()
+            .unlink("mstar_peak_msun")
+            .unwrap();
+    };
+    let store = d.path().join("old.h5");
+    run_ok(&["run", c, "--out", store.to_str().unwrap()]);
+    old(&store);
+    let st = store.to_str().unwrap();
+    let (code, out, err) = run_cli(&["infall", st, "--name", "again"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        format!("{out}{err}").contains("written before stars were stripped by tides"),
+        "{out}{err}"
+    );
+    // the same resolved option as the store's hosts had: a configuration saying so is accepted
+    let again = write(d.path(), "again.toml", "[galaxies]\nstrip_stars = false\n");
+    let (code, _, err) = run_cli(&[
+        "infall",
+        st,
+        "--name",
+        "third",
+        "--config",
+        again.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let (code, _, err) = run_cli(&["plot", st]);
+    assert_eq!(code, 0, "{err}");
+    let csv = d.path().join("old.csv");
+    run_ok(&["export", st, "--out", csv.to_str().unwrap()]);
+    let text = std::fs::read_to_string(&csv).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let (a, b) = (
+        header.iter().position(|h| *h == "mstar_msun").unwrap(),
+        header.iter().position(|h| *h == "mstar_peak_msun").unwrap(),
+    );
+    let mut n = 0;
+    for l in lines {
+        let v: Vec<&str> = l.split(',').collect();
+        assert_eq!(v[a], v[b]);
+        n += 1;
+    }
+    assert!(n > 0);
+    // shards of an older run merge into a store that has the column
+    let mut shards = Vec::new();
+    for k in 1..=2 {
+        let p = d.path().join(format!("s{k}.h5"));
+        run_ok(&[
+            "run",
+            c,
+            "--shard",
+            &format!("{k}/2"),
+            "--out",
+            p.to_str().unwrap(),
+        ]);
+        old(&p);
+        shards.push(p);
+    }
+    let merged = d.path().join("merged.h5");
+    run_ok(&[
+        "merge",
+        shards[0].to_str().unwrap(),
+        shards[1].to_str().unwrap(),
+        "--out",
+        merged.to_str().unwrap(),
+    ]);
+    let f = hdf5::File::open(&merged).unwrap();
+    let s = f.group("subhalos").unwrap();
+    let m: Vec<f64> = s.dataset("mstar_msun").unwrap().read_raw().unwrap();
+    let p: Vec<f64> = s.dataset("mstar_peak_msun").unwrap().read_raw().unwrap();
+    assert_eq!(m.len(), p.len());
+    assert!(m.iter().zip(&p).all(|(x, y)| x.to_bits() == y.to_bits()));
+}

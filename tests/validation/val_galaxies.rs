@@ -357,12 +357,12 @@ fn resolution_warning_when_galaxies_are_unresolved() {
 /// (`tests/reference/stellar_stripping.json`, made by
 /// `tests/reference/scripts/make_stellar_stripping_fixtures.py`):
 /// * the fraction of Errani et al. 2022's eq. 13 tracer that their eq. 9 and 10 keep,
-///   integrated with `scipy.integrate.quad` (relative 2e-3, or 1e-5 absolute for the
-///   smallest fractions: the crate integrates on a grid of 481 energies);
+///   integrated with `scipy.integrate.quad` (relative 1e-5, or 1e-8 absolute for the
+///   smallest fractions; the crate's grid of 481 energies agrees to 1e-6);
 /// * the tracer's 3D and projected half-light radii over r_max, which the script computes by
 ///   another route (the distribution function, the density and its projection) and the crate
-///   from the phase-space volume energy by energy: both are right only if they agree (1%,
-///   the script's interpolation of the density on 641 radii).
+///   from the phase-space volume energy by energy: both are right only if they agree (2e-3;
+///   they agree to 5e-4, the script interpolating the density on 641 radii).
 #[test]
 fn val_stellar_stripping_vs_scipy() {
     use retinue::galaxies::stellar_stripping::{
@@ -375,34 +375,36 @@ fn val_stellar_stripping_vs_scipy() {
         let want = row["bound_fraction"].as_f64().unwrap();
         let got = truncated_fraction(es, m);
         assert!(
-            (got - want).abs() < (2e-3 * want).max(1e-5),
+            (got - want).abs() < (1e-5 * want).max(1e-8),
             "e_s = {es:.4}, M_mx/M_mx0 = {m}: {got} against scipy's {want}"
         );
     }
     for row in fx["half_light_radius"].as_array().unwrap() {
         let es = 10f64.powf(row["log10_es"].as_f64().unwrap());
-        let (r3, r2) = (
-            row["r_half_3d_over_rmax"].as_f64().unwrap(),
-            row["r_half_2d_over_rmax"].as_f64().unwrap(),
-        );
-        let (g3, g2) = (
-            half_light_radius_over_rmax(es),
-            projected_half_light_radius_over_rmax(es),
-        );
+        let r3 = row["r_half_3d_over_rmax"].as_f64().unwrap();
+        let g3 = half_light_radius_over_rmax(es);
+        assert!((g3 / r3 - 1.0).abs() < 2e-3, "3D: {g3} against {r3}");
+        // the script gives no projected radius for its most compact tracer
+        let Some(r2) = row["r_half_2d_over_rmax"].as_f64() else {
+            continue;
+        };
+        let g2 = projected_half_light_radius_over_rmax(es);
         println!("e_s = {es:.4}: r_1/2 / r_max {g3:.4} (scipy {r3:.4}), projected {g2:.4} (scipy {r2:.4})");
-        assert!((g3 / r3 - 1.0).abs() < 0.01, "3D: {g3} against {r3}");
-        assert!((g2 / r2 - 1.0).abs() < 0.01, "projected: {g2} against {r2}");
+        assert!((g2 / r2 - 1.0).abs() < 2e-3, "projected: {g2} against {r2}");
     }
 }
 
-/// Stars against dark matter: Smith et al. 2016 (ApJ 833, 109, abstract; hydrodynamic
-/// cosmological simulations): "galaxies that lose ~80% of their dark matter typically lose
-/// only 10% of their stars", and the stellar-to-halo size ratio controls it. At bound fraction
-/// x = 0.2, galaxies of the sizes this model gives (Kravtsov 2013's r_1/2 = 0.015 R_200c is
-/// 0.0069 c_200c r_max, so r_1/2 / r_max = 0.03-0.3 for c_200c = 4-40) keep at least 80% of
-/// their stars (the abstract's typical 10% lost, with a factor 2 for "typically"), and more the
-/// smaller they are; they lose most of them only once x is far smaller (below 0.01 for the
-/// median size, r_1/2 / r_max = 0.07 at c_200c = 10).
+/// Stars against dark matter, a bound rather than an agreement: Smith et al. 2016 (ApJ 833,
+/// 109, abstract; hydrodynamic cosmological simulations): "galaxies that lose ~80% of their
+/// dark matter typically lose only 10% of their stars", and the stellar-to-halo size ratio
+/// controls it. At bound fraction x = 0.2, galaxies of the sizes this model gives (Kravtsov
+/// 2013's r_1/2 = 0.015 R_200c is 0.0069 c_200c r_max, so r_1/2 / r_max = 0.03-0.3 for
+/// c_200c = 4-40) keep at least 80% of their stars (the abstract's typical 10% lost, with a
+/// factor 2 for "typically"), and more the smaller they are. The model loses 0-5% there, less
+/// than the abstract's 10%: the sizes of their galaxies are not in the abstract, so this
+/// checks only that the model does not strip stars faster than the simulations. The last two
+/// lines hold the model's own scale (a galaxy of r_1/2 / r_max = 0.07 loses most of its stars
+/// between x = 0.01 and 1e-3) against an accidental change.
 #[test]
 fn val_stars_outlast_dark_matter_vs_smith16() {
     use retinue::galaxies::stellar_stripping::kept_star_fraction;
@@ -416,4 +418,53 @@ fn val_stars_outlast_dark_matter_vs_smith16() {
     }
     assert!(kept_star_fraction(0.07, 0.01) > 0.5);
     assert!(kept_star_fraction(0.07, 1e-3) < 0.5);
+}
+
+/// How `paint` applies the stripping of stars (a review of 2026-12-04): on one host's
+/// subhaloes, painted twice from the same draws, with and without `strip_stars`: the formed
+/// masses are the same; without stripping every galaxy keeps what it formed; with it only
+/// surviving galaxies (status 0 or 2) lose stars, none gains any, and each magnitude is that
+/// of the mass kept. (Losing most of them is rare: none in this host; in 24 hosts the
+/// smallest kept fractions were 0.12 and 0.011.)
+#[test]
+fn paint_strips_only_surviving_galaxies() {
+    let lt = planck18();
+    let opts = SynthOptions {
+        tree: TreeSpec::milky_way_default(),
+        host: Default::default(),
+        orbits: Default::default(),
+        galaxies: Default::default(),
+        survey: Default::default(),
+    };
+    let mut b = TreeBuilder::new(opts.tree.pch08).unwrap();
+    let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, 3), &mut b).unwrap();
+    let c = lt.cosmology();
+    let on = GalaxyOptions::default();
+    let off = GalaxyOptions {
+        strip_stars: false,
+        ..on
+    };
+    let paint_with = |o: &GalaxyOptions| {
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
+        paint(c, o, &Default::default(), &rec.subhaloes, &mut rng)
+    };
+    let (gs, g0) = (paint_with(&on), paint_with(&off));
+    let (mut stripped, mut least) = (0, 1.0f64);
+    for ((s, a), z) in rec.subhaloes.iter().zip(&gs).zip(&g0) {
+        assert_eq!(a.occupied, z.occupied);
+        assert_eq!(a.mstar_peak_msun, z.mstar_peak_msun);
+        assert_eq!(z.mstar_msun, z.mstar_peak_msun);
+        assert!(a.mstar_msun <= a.mstar_peak_msun);
+        let alive = s.status.alive() && s.pos_kpc[0].is_finite();
+        if !alive {
+            assert_eq!(a.mstar_msun, a.mstar_peak_msun, "{:?}", s.status);
+        } else if a.occupied && a.mstar_msun < a.mstar_peak_msun {
+            stripped += 1;
+            least = least.min(a.mstar_msun / a.mstar_peak_msun);
+            let mv = retinue::galaxies::absolute_mv(a.mstar_msun, on.mass_to_light_v);
+            assert!((a.m_v - mv).abs() < 1e-9);
+        }
+    }
+    println!("stripped {stripped}; smallest fraction kept {least}");
+    assert!(stripped > 0, "no galaxy lost stars");
 }

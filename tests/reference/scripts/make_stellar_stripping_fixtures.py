@@ -42,9 +42,9 @@ from scipy.optimize import brentq
 HERE = os.path.dirname(os.path.abspath(__file__))
 OUT = os.path.join(os.path.dirname(HERE), "stellar_stripping.json")
 
-LOG10_ES_FRACTION = [-1.6, -1.2, -0.8, -0.32]
-MMX_RATIO = [0.3, 0.1, 0.03, 0.01, 0.003, 0.001]
-LOG10_ES_RADIUS = [-1.6, -1.2, -0.8, -0.5, -0.32]
+LOG10_ES_FRACTION = [-2.2, -1.6, -1.2, -0.8, -0.32]
+MMX_RATIO = [0.3, 0.1, 0.03, 0.01, 0.003, 0.001, 1e-4, 1e-5]
+LOG10_ES_RADIUS = [-2.0, -1.6, -1.2, -0.8, -0.5, -0.32]
 # r_max / r_s of an NFW profile: the root of d(mu(x)/x)/dx = 0
 X_MAX = brentq(lambda x: x * x / (1 + x) ** 2 - (np.log1p(x) - x / (1 + x)), 1.0, 4.0,
                xtol=1e-14)
@@ -82,7 +82,8 @@ def density_of_states(e):
 
 
 def half_light_radii(es):
-    # F(e) on a fine grid in log e (the tracer at e < 1e-5 carries < 1e-20 of the count)
+    # F(e) on a fine grid in log e (the tracer at e < 1e-5 carries < 1e-11 of the count for
+    # e_s >= 10^-2; the DF route fails below about 10^-2.4, where quad cannot resolve it)
     log_e = np.linspace(-5.0, 0.0, 801)[:-1]
     e_grid = 10**log_e
     F = np.array([dnde(e, es) / density_of_states(e) for e in e_grid])
@@ -131,7 +132,10 @@ def main():
     radii = []
     for les in LOG10_ES_RADIUS:
         r3, r2 = half_light_radii(10**les)
-        radii.append({"log10_es": les, "r_half_3d_over_rmax": r3, "r_half_2d_over_rmax": r2})
+        # the projection's quadrature fails for the most compact tracer (it returns the 3D
+        # radius); its projected radius is left out
+        radii.append({"log10_es": les, "r_half_3d_over_rmax": r3,
+                      "r_half_2d_over_rmax": r2 if les >= -1.6 else None})
         print(les, r3, r2)
     out = {
         "provenance": {
