@@ -999,5 +999,20 @@ fn join_stores(atomic: &AtomicPath, meta: &StoreMeta, inputs: &[PathBuf]) -> Res
         w.append_store(p).map_err(|e| e.needing(needed))?;
     }
     w.flush()
-        .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(needed))
+        .map_err(|e| IoError::hdf5(&atomic.temp_path, e).needing(needed))?;
+    drop(w);
+    // shards written before stars were stripped by tides lack `mstar_peak_msun` (the join
+    // filled it from `mstar_msun`): the merged store is one of theirs and goes without it, so
+    // that it is read as they are, with `galaxies.strip_stars = false`
+    if inputs
+        .iter()
+        .any(|p| crate::io::store::predates_stellar_stripping(p))
+    {
+        let e = |x| IoError::hdf5(&atomic.temp_path, x);
+        let f = hdf5::File::open_rw(&atomic.temp_path).map_err(e)?;
+        f.group("subhalos")
+            .and_then(|g| g.unlink("mstar_peak_msun"))
+            .map_err(e)?;
+    }
+    Ok(())
 }
