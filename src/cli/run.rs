@@ -1161,9 +1161,11 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
         // from --config, key by key; everything that made the store stays the run's
         let r = analysis::retest_config(cfg, p, a.sample.is_some()).map_err(analysis_err)?;
         cfg = r.config;
-        run_columns = r.sample_columns;
+        // FILE's column mapping describes FILE's own sample; without one the run's sample
+        // keeps the run's mapping (a walkthrough found a tests-only FILE losing it)
         if r.sample.is_some() {
             run_sample = r.sample;
+            run_columns = r.sample_columns;
         }
     }
     let read = retest_sample(

@@ -598,3 +598,39 @@ fn stores_from_before_stellar_stripping_still_open() {
         "{out}{err}"
     );
 }
+
+/// `infall STORE --config FILE` where FILE has no sample of its own keeps the run's sample
+/// with the run's column mapping (a walkthrough found a tests-only FILE dropping
+/// `run.sample_columns`, so the run's own mapped sample failed with "missing column").
+#[test]
+fn retest_config_without_a_sample_keeps_the_runs_column_mapping() {
+    let d = tempfile::tempdir().unwrap();
+    write(
+        d.path(),
+        "mapped.csv",
+        "name,mass,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n\
+         W-1,3.2e6,78,-41,9.4,0.4\nW-2,8.5e5,112,26,10.3,0.5\nW-3,1.4e7,55,-73,11.1,0.5\n",
+    );
+    let cfg = write(
+        d.path(),
+        "tiny.toml",
+        &TINY.replace(
+            "[run]",
+            "[run]\nsample = \"mapped.csv\"\nsample_columns = { id = \"name\", mstar_msun = \"mass\" }",
+        ),
+    );
+    let store = d.path().join("m.h5");
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", store.to_str().unwrap()]);
+    let other = write(d.path(), "other.toml", "[tests]\nbootstrap = 60\n");
+    let (code, out, err) = run_cli(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        other.to_str().unwrap(),
+        "--name",
+        "again",
+    ]);
+    assert_eq!(code, 0, "{out}{err}");
+    let f = hdf5::File::open(&store).unwrap();
+    assert!(f.link_exists("analysis/again"));
+}
