@@ -1246,12 +1246,6 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
     } else {
         name
     };
-    if existing.contains(&name) && !a.overwrite {
-        return Err(usage(format!(
-            "{} already holds an analysis named {name:?}: give another --name, or add --overwrite to replace it",
-            a.store.display()
-        )));
-    }
     let dir = a.out.clone().unwrap_or_else(|| {
         let stem = a
             .store
@@ -1260,6 +1254,23 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
             .unwrap_or_else(|| "run".into());
         a.store.with_file_name(format!("{stem}-{name}-report"))
     });
+    if existing.contains(&name) && !a.overwrite {
+        // an `infall` interrupted after its analysis was stored and before its report was
+        // written leaves exactly this: say so (a walkthrough met it)
+        let unreported = if dir.join("report.md").is_file() {
+            String::new()
+        } else {
+            format!(
+                " ({} holds no report of it: an interrupted `infall`? --overwrite tests again \
+                 and writes it)",
+                dir.display()
+            )
+        };
+        return Err(usage(format!(
+            "{} already holds an analysis named {name:?}{unreported}: give another --name, or add --overwrite to replace it",
+            a.store.display()
+        )));
+    }
     if dir.is_file() {
         return Err(usage(format!(
             "--out {}: a file of that name exists; the report needs a directory",

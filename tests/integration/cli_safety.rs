@@ -620,7 +620,12 @@ fn retest_config_without_a_sample_keeps_the_runs_column_mapping() {
         ),
     );
     let store = d.path().join("m.h5");
-    run_ok(&["run", cfg.to_str().unwrap(), "--out", store.to_str().unwrap()]);
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
     let other = write(d.path(), "other.toml", "[tests]\nbootstrap = 60\n");
     let (code, out, err) = run_cli(&[
         "infall",
@@ -633,4 +638,28 @@ fn retest_config_without_a_sample_keeps_the_runs_column_mapping() {
     assert_eq!(code, 0, "{out}{err}");
     let f = hdf5::File::open(&store).unwrap();
     assert!(f.link_exists("analysis/again"));
+}
+
+/// An `infall` stopped after its analysis was stored and before its report was written: the
+/// same command again is refused (the name exists), and the refusal says that no report of it
+/// is there and how to write one (a walkthrough met this after a Ctrl-C).
+#[test]
+fn an_analysis_without_its_report_is_named_as_such() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("r.h5");
+    let st = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", st]);
+    run_ok(&["infall", st, "--name", "x"]);
+    let report = d.path().join("r-x-report");
+    assert!(report.join("report.md").is_file());
+    let (code, _, err) = run_cli(&["infall", st, "--name", "x"]);
+    assert_eq!(code, 2);
+    assert!(!err.contains("holds no report"), "{err}");
+    std::fs::remove_dir_all(&report).unwrap();
+    let (code, _, err) = run_cli(&["infall", st, "--name", "x"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("holds no report of it"), "{err}");
+    run_ok(&["infall", st, "--name", "x", "--overwrite"]);
+    assert!(report.join("report.md").is_file());
 }
