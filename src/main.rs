@@ -65,6 +65,10 @@ fn clean_up_on_interrupt() {
                 return;
             }
             retinue::io::remove_temporary_files();
+            let note = retinue::io::interrupt_note();
+            if !note.is_empty() {
+                eprintln!("\ninterrupted: {note}");
+            }
             // end by the signal itself (exit status as before): its default action, unblocked
             // in this thread
             // SAFETY: plain calls on a valid signal number and signal set.

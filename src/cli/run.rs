@@ -657,6 +657,17 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         }
     }
     let threads = a.threads.unwrap_or(cfg.file.run.threads);
+    let mut again = format!("retinue run {}", a.config.display());
+    if let Some(o) = &a.out {
+        again += &format!(" --out {}", o.display());
+    }
+    if let Some(s) = &a.shard {
+        again += &format!(" --shard {s}");
+    }
+    retinue::io::set_interrupt_note(format!(
+        "the hosts finished so far are kept in {}; continue with: {again} --resume",
+        retinue::io::store::parts_dir(&out).display()
+    ));
     execute(cfg, &text, out, threads, shard, a.resume, existing, None).map(|_| ())
 }
 
@@ -717,6 +728,11 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
         a.out.display()
     );
     println!("\n== 1. twelve faint satellites that stopped forming stars 10.6-12.9 Gyr ago ==");
+    retinue::io::set_interrupt_note(format!(
+        "the hosts finished so far are kept; `retinue demo --out {}` again continues where \
+         this one stopped",
+        a.out.display()
+    ));
     // (an earlier demo store is removed only once its lock is held: review, a demo started
     // while another command used the store deleted it first)
     let out = execute(
@@ -1311,6 +1327,12 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
         );
     }
     let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
+    retinue::io::set_interrupt_note(format!(
+        "{} holds analysis {name:?} only if it was complete (the store is never left half \
+         written); if the same command then says the name exists, its report was not written: \
+         add --overwrite to write it",
+        a.store.display()
+    ));
     analyse(
         &grid,
         &a.store,

@@ -194,6 +194,23 @@ fn temporary_files() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
     TEMPORARY_FILES.lock().unwrap_or_else(|p| p.into_inner())
 }
 
+/// What an interrupted command says before it ends: what it kept and how to go on (set by
+/// the command as it starts its work; empty: nothing to say).
+static INTERRUPT_NOTE: Mutex<String> = Mutex::new(String::new());
+
+/// Set what an interrupted command prints (`interrupt_note`).
+pub fn set_interrupt_note(note: impl Into<String>) {
+    *INTERRUPT_NOTE.lock().unwrap_or_else(|p| p.into_inner()) = note.into();
+}
+
+/// What an interrupted command prints (empty: nothing).
+pub fn interrupt_note() -> String {
+    INTERRUPT_NOTE
+        .lock()
+        .unwrap_or_else(|p| p.into_inner())
+        .clone()
+}
+
 /// Remove the temporary file of every `AtomicPath` alive now, for a command interrupted by a
 /// signal (the command line calls it from its SIGINT/SIGTERM handler, then ends): nothing
 /// that looks like a store (`.NAME.partial`, a copy of the store being re-tested) stays.
