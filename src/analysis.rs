@@ -345,9 +345,14 @@ pub fn analyse(
         cfg.file.run.master_seed
     );
     summary.push_str(&format!(
-        "\n\nAnalysis `{}` (stored as `/analysis/{}`, with the settings below and the sample's rows): sample {}.",
+        "\n\nAnalysis `{}` (stored as `/analysis/{}`, with the settings below{}): sample {}.",
         target.name,
         target.name,
+        if sample.is_some() {
+            " and the sample's rows"
+        } else {
+            ""
+        },
         match (sample, sample_path) {
             (Some(s), Some(p)) => format!("`{}` ({} objects)", p.display(), s.objects.len()),
             _ => "none (N = tests.n_draw; the quenching and matching tests are skipped)".into(),
@@ -356,6 +361,19 @@ pub fn analyse(
     if let Some(n) = &n_note {
         summary.push_str(&format!("\n\n**Note:** {n}."));
     }
+    let g = &cfg.file.galaxies;
+    summary.push_str(&if g.strip_stars {
+        format!(
+            "\n\nStars: stripped by tides (`galaxies.strip_stars = true`; galaxy sizes {} R_200c \
+             with {} dex scatter); stellar masses in the selection, the matching and the tables \
+             are today's, after stripping (`mstar_peak_msun` in the store holds what each galaxy \
+             formed).",
+            g.size_to_r200c, g.size_scatter_dex
+        )
+    } else {
+        "\n\nStars: every galaxy keeps the stars it formed (`galaxies.strip_stars = false`)."
+            .to_string()
+    });
     if let Some(w) = resolution_warning(grid) {
         summary.push_str(&format!("\n\n**Warning:** {w}."));
     }

@@ -117,10 +117,18 @@ pub fn parse_collecting<T: serde::de::DeserializeOwned>(
                 .iter()
                 .any(|p| p.key.rsplit('.').next() == Some(f.as_str()));
             if !set_aside_key {
+                // the one table without defaults says what to write (a walkthrough deleted it
+                // with the keys it did not change)
+                let how = if f == "cosmology" {
+                    " (the [cosmology] table has no default: add e.g. `[cosmology]` with \
+                     `preset = \"planck18\"`)"
+                } else {
+                    ""
+                };
                 problems.push(InvalidValue::new(
                     f,
                     MISSING,
-                    format!("required in {source}"),
+                    format!("required in {source}{how}"),
                 ));
             }
             return (None, problems);
@@ -396,7 +404,13 @@ mod tests {
     #[test]
     fn a_missing_table_blames_no_key() {
         let p = problems("run.master_seed = 1\n");
-        assert_eq!(p, vec!["cosmology is missing: required in t.toml"]);
+        assert_eq!(
+            p,
+            vec![
+                "cosmology is missing: required in t.toml (the [cosmology] table has no \
+                 default: add e.g. `[cosmology]` with `preset = \"planck18\"`)"
+            ]
+        );
     }
 
     #[test]
