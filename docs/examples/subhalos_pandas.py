@@ -31,6 +31,11 @@ with h5py.File(path, "r") as f:
     analysis = f["analysis"][latest]
     settings = tomllib.loads(analysis.attrs["tests"])
     candidates = analysis["candidates_per_host"][:]
+    # the hosts those counts are for (an `infall --cell` analysis tests only its cells' hosts;
+    # stores from before 2026-12-04 lack the dataset, and their whole-store counts are for
+    # every host)
+    tested = (analysis["candidates_host_index"][:] if "candidates_host_index" in analysis
+              else hosts["host_index"].to_numpy())
 
 # Every subhalo row with its host's columns, prefixed host_ (host_m_vir_msun, host_r_vir_kpc,
 # host_mass_bin, host_cosmology_index, ...): /subhalos/host_row is the row of its host in /hosts.
@@ -58,11 +63,14 @@ if sel["observable_only"]:
 satellites = df[mask]
 
 per_host = satellites.groupby("host_row").size().reindex(hosts.index, fill_value=0)
+rows = hosts.index[hosts["host_index"].isin(tested)]
+per_host = per_host.loc[rows]
+satellites = satellites[satellites["host_row"].isin(rows)]
 if not np.array_equal(per_host.to_numpy(), candidates):
     sys.exit(f"selection differs from the store's candidates per host: "
              f"{per_host.to_numpy()[:8]} against {candidates[:8]}")
 
-print(f"{len(hosts)} hosts, {len(df)} subhaloes x {df.shape[1]} columns; "
+print(f"{len(hosts)} hosts ({len(rows)} tested), {len(df)} subhaloes x {df.shape[1]} columns; "
       f"{len(satellites)} selected as \"{sel['name']}\" (analysis '{latest}', "
       f"{per_host.median():.0f} per host, the store's own count)")
 # e.g. the median first-infall time of the selected satellites in each host-mass bin

@@ -1144,6 +1144,11 @@ pub fn write_analysis(
         .with_data(&cand)
         .create("candidates_per_host")?;
     set_str_attr(&cand, "units", "count")?;
+    let cand_hosts = a
+        .new_dataset_builder()
+        .with_data(&res.candidate_hosts)
+        .create("candidates_host_index")?;
+    set_str_attr(&cand_hosts, "units", "index")?;
     let bg = a.create_group("backsplash")?;
     set_num_attr(&bg, "fraction_mean", res.backsplash_fraction.mean)?;
     set_num_attr(&bg, "fraction_boot16", res.backsplash_fraction.boot16)?;

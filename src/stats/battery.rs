@@ -268,8 +268,9 @@ pub struct Curve {
 pub struct AnalysisResults {
     pub n_draw: usize,
     pub selection: Selection,
-    /// Candidates per host (all hosts).
+    /// Candidates per host (every host tested), and the `host_index` of each of those hosts.
     pub candidates: Vec<usize>,
+    pub candidate_hosts: Vec<u64>,
     /// Hosts with fewer candidates than n_draw (host ids), reported and not used.
     pub hosts_too_few: Vec<u64>,
     /// All-of-N per clock: Monte Carlo and exact.
@@ -467,6 +468,7 @@ impl<'a> Merger<'a> {
             a.hosts.append(&mut b.hosts);
         }
         m.candidates.extend(p.candidates);
+        m.candidate_hosts.extend(p.candidate_hosts);
         m.hosts_too_few.extend(p.hosts_too_few);
         for ((a, ah), (b, bh)) in m
             .matches
@@ -922,6 +924,7 @@ pub fn run_tests_raw(
         n_draw,
         selection: options.selection.clone(),
         candidates,
+        candidate_hosts: cat.host_id.clone(),
         hosts_too_few,
         all_of_n_mc: all_mc,
         all_of_n_exact: all_ex,

@@ -339,6 +339,7 @@ fn closed_output_pipe_ends_quietly() {
     use std::process::{Command, Stdio};
     let cfg = concat!(env!("CARGO_MANIFEST_DIR"), "/configs/milky-way.toml");
     let mut child = Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .env("HDF5_USE_FILE_LOCKING", "FALSE")
         .args([
             "orbit", "--config", cfg, "--pos", "8,0,0", "--vel", "0,200,0", "--gyr", "10",
             "--static", "--dt", "0.0001",

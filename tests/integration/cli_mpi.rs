@@ -15,6 +15,7 @@ fn tiny(dir: &Path) -> PathBuf {
 
 fn mpirun(n: u32, bin: &str, args: &[&str], env: &[(&str, &str)]) -> std::process::Output {
     let mut c = std::process::Command::new("mpirun");
+    c.env("HDF5_USE_FILE_LOCKING", "FALSE");
     c.args([
         "--allow-run-as-root",
         "--oversubscribe",
@@ -163,6 +164,7 @@ fn failed_shard_is_named_and_recovers() {
     assert_eq!(code, 0, "{err}");
     let s = d.path().join("s.h5");
     let out = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .env("HDF5_USE_FILE_LOCKING", "FALSE")
         .args(["run", c, "--threads", "1", "--out", s.to_str().unwrap()])
         .env("RETINUE_FAULT_HOST", "2")
         .output()

@@ -204,6 +204,7 @@ fn killed_run_resumes_to_identical_tables() {
     run_ok(&["run", c, "--threads", "1", "--out", full.to_str().unwrap()]);
     let out = d.path().join("killed.h5");
     let child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .env("HDF5_USE_FILE_LOCKING", "FALSE")
         .args(["run", c, "--threads", "1", "--out", out.to_str().unwrap()])
         .stdout(std::process::Stdio::null())
         .stderr(std::process::Stdio::null())
@@ -724,6 +725,7 @@ fn failed_run_without_parts_leaves_nothing() {
     let out = d.path().join("f.h5");
     let fail_at = |host: &str| {
         std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+            .env("HDF5_USE_FILE_LOCKING", "FALSE")
             .args(["run", cfg.to_str().unwrap(), "--threads", "1"])
             .args(["--out", out.to_str().unwrap()])
             .env("RETINUE_FAULT_HOST", host)
@@ -2448,6 +2450,7 @@ fn overwriting_run_killed_part_way_resumes() {
     let o = out.to_str().unwrap();
     run_ok(&["run", old.to_str().unwrap(), "--out", o]);
     let child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .env("HDF5_USE_FILE_LOCKING", "FALSE")
         .args([
             "run",
             new.to_str().unwrap(),
@@ -2593,6 +2596,7 @@ fn interrupted_infall_leaves_no_partial_copy() {
     // start `infall`, send `signal` as soon as its copy appears, and wait for its end
     let interrupt = |signal: i32| -> std::process::ExitStatus {
         let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+            .env("HDF5_USE_FILE_LOCKING", "FALSE")
             .args(["infall", s, "--name", "late"])
             .stdout(std::process::Stdio::null())
             .stderr(std::process::Stdio::null())
