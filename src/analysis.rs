@@ -558,6 +558,76 @@ pub fn wdm_filter_warning(grid: &Grid) -> Option<String> {
     })
 }
 
+/// A note naming the objects of the sample that lie outside `[tests.selection]`: stellar mass,
+/// M_V (from the stellar mass, as the galaxies are painted) or distance from the centre
+/// against `r_over_rvir` times the virial radii of the configured host masses (first
+/// cosmology). The tests compare a sample with mock satellites chosen by the selection, so an
+/// object outside it is compared with satellites unlike it (a walkthrough's sample had 4 of 6
+/// objects below the selection's stellar mass and `check` said nothing). None: all inside.
+pub fn sample_outside_selection(grid: &Grid, sample: &ObservedSample) -> Option<String> {
+    let cfg = &grid.config;
+    let sel = &cfg.file.tests.selection;
+    let lt = grid.theories.first()?;
+    let (mut r_lo, mut r_hi) = (f64::INFINITY, 0.0f64);
+    for bin in &cfg.mass_bins {
+        let ends = match *bin {
+            crate::config::run::MassBin::Fixed(m) => [m, m],
+            crate::config::run::MassBin::LogUniform(a, b) => [a, b],
+        };
+        for m in ends {
+            let r = crate::halo::MassDefinition::Vir.radius_kpc(
+                lt.cosmology(),
+                grid.virial_mass(lt, m),
+                cfg.file.host.z_final,
+            );
+            r_lo = r_lo.min(r);
+            r_hi = r_hi.max(r);
+        }
+    }
+    let ml = cfg.file.galaxies.mass_to_light_v;
+    let outside: Vec<String> = sample
+        .objects
+        .iter()
+        .filter_map(|o| {
+            let mut why = Vec::new();
+            if !(sel.mstar_msun[0]..=sel.mstar_msun[1]).contains(&o.mstar_msun) {
+                why.push(format!("M* = {:.3e} Msun", o.mstar_msun));
+            }
+            let mv = crate::galaxies::absolute_mv(o.mstar_msun, ml);
+            if !(sel.m_v[0]..=sel.m_v[1]).contains(&mv) {
+                why.push(format!("M_V = {mv:.2}"));
+            }
+            if o.r_gc_kpc.is_finite()
+                && (o.r_gc_kpc < sel.r_over_rvir[0] * r_lo
+                    || o.r_gc_kpc > sel.r_over_rvir[1] * r_hi)
+            {
+                why.push(format!("r_gc = {:.1} kpc", o.r_gc_kpc));
+            }
+            (!why.is_empty()).then(|| format!("{} ({})", o.id, why.join(", ")))
+        })
+        .collect();
+    if outside.is_empty() {
+        return None;
+    }
+    Some(format!(
+        "{} of the sample's {} objects lie outside [tests.selection] (stellar mass [{:e}, {:e}] \
+         Msun, M_V [{}, {}], r_over_rvir [{}, {}] of R_vir = {:.0}-{:.0} kpc): {}; the tests \
+         compare the sample with mock satellites of the selection, so match it to how the \
+         sample was chosen",
+        outside.len(),
+        sample.objects.len(),
+        sel.mstar_msun[0],
+        sel.mstar_msun[1],
+        sel.m_v[0],
+        sel.m_v[1],
+        sel.r_over_rvir[0],
+        sel.r_over_rvir[1],
+        r_lo,
+        r_hi,
+        outside.join("; ")
+    ))
+}
+
 /// The configuration stored in a run's store, and the run's observed sample if it can still
 /// be found. Relative paths in the stored configuration are relative to the directory of the
 /// configuration file the run started from; the store records that directory, and they are

@@ -223,7 +223,7 @@ impl Grid {
     }
 
     /// Virial mass (Msun) of a host of mass m in the configured definition.
-    fn virial_mass(&self, lt: &LinearTheory, m: f64) -> f64 {
+    pub fn virial_mass(&self, lt: &LinearTheory, m: f64) -> f64 {
         let cfg = &self.config;
         let z = cfg.file.host.z_final;
         if cfg.host_mass_definition == MassDefinition::Vir {

@@ -801,11 +801,18 @@ fn not_the_demos_store(out: &Path, demo_text: &str) -> Option<String> {
 
 pub fn check(a: CheckArgs) -> Result<(), CliError> {
     let (cfg, _) = load(&a.config)?;
-    if let Some(p) = cfg.sample_path() {
-        read_sample(&p, &cfg.sample_options())?;
-    }
+    let sample = match cfg.sample_path() {
+        Some(p) => Some(read_sample(&p, &cfg.sample_options())?),
+        None => None,
+    };
     // the linear theory of every cosmology (reads transfer tables): what a run needs first
     let grid = Grid::new(cfg.clone()).map_err(run_err)?;
+    if let Some(n) = sample
+        .as_ref()
+        .and_then(|s| analysis::sample_outside_selection(&grid, s))
+    {
+        eprintln!("note: {n}");
+    }
     if let Some(w) = resolution_warning(&grid) {
         eprintln!("warning: {w}");
     }

@@ -702,3 +702,38 @@ fn candidates_name_their_hosts() {
         assert_eq!(hosts, expect, "{name}");
     }
 }
+
+/// `check` names the sample's objects that lie outside `[tests.selection]` (stellar mass,
+/// M_V, distance against r_over_rvir times the hosts' R_vir), and says nothing when all are
+/// inside (a walkthrough's sample had 4 of 6 objects below the selection's stellar mass).
+#[test]
+fn check_names_sample_objects_outside_the_selection() {
+    let d = tempfile::tempdir().unwrap();
+    write(
+        d.path(),
+        "s.csv",
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n\
+         W-1,3.2e6,78,-41,9.4,0.4\nW-2,2.9e3,112,26,10.3,0.5\nW-3,1.4e7,450,-73,11.1,0.5\n",
+    );
+    let with = |sel: &str| {
+        TINY.replace("[run]", "[run]\nsample = \"s.csv\"") + "\n[tests.selection]\n" + sel
+    };
+    let cfg = write(d.path(), "a.toml", &with("mstar_msun = [1e4, 1e8]\n"));
+    let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        err.contains("2 of the sample's 3 objects lie outside [tests.selection]")
+            && err.contains("W-2 (M* = 2.900e3 Msun")
+            && err.contains("W-3 (r_gc = 450.0 kpc)")
+            && !err.contains("W-1 ("),
+        "{err}"
+    );
+    let cfg = write(
+        d.path(),
+        "b.toml",
+        &with("mstar_msun = [1e3, 1e8]\nr_over_rvir = [0.0, 2.0]\n"),
+    );
+    let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(!err.contains("outside [tests.selection]"), "{err}");
+}
