@@ -76,8 +76,7 @@ pub struct Companions {
 
 /// The smallest bound mass (Msun) a dark-matter-only zoom-in simulation of Milky-Way-mass
 /// hosts follows a subhalo down to: about 20 particles (common practice for halo finders) of
-/// about 2e5 Msun (the particle mass of the simulations Wetzel, Deason & Garrison-Kimmel 2015
-/// analysed; recalled, not in their abstract).
+/// about 2e5 Msun (a typical particle mass of such simulations; recalled).
 pub const TRACKED_MASS_MSUN: f64 = 4e6;
 
 /// The bound-mass thresholds of the cumulative mass functions, in units of the host's M_vir.

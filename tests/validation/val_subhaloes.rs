@@ -230,25 +230,23 @@ fn val_jvdb16_universal_model_vs_astropy() {
 ///   (fell into one, or were in one that grew past it) before their group entered the host
 ///   (pre-processed): fraction in [0.15, 0.6] (about a
 ///   third of all subhaloes accreted in groups, Li & Helmi 2008, MNRAS 385, 1365, abstract;
-///   Wetzel, Deason & Garrison-Kimmel 2015, ApJ 807, 49, abstract: "half of all satellites
-///   with M_star < 10^6 Msun were preprocessed in a group"). Those simulations give dwarfs
-///   their stars by peak halo mass (abundance matching), so this check paints the same
+///   zoom-in studies of faint dwarfs report up to about a half, recalled). Those simulations
+///   give dwarfs their stars by peak halo mass (abundance matching), so this check paints the
+///   same
 ///   subhaloes again with the
 ///   peak-mass (erf) occupation: it tests the trees and orbits, not the choice of occupation.
 ///   With the default reionisation occupation, which favours haloes that formed early, the
 ///   fraction is higher (0.62, printed, above the band; 0.49 with the peak-mass occupation);
 /// * the same faint satellites that were already inside another halo at z > 6 (their infall
 ///   into their first parent): below 0.1 (the issue's target), with the peak-mass occupation
-///   for the same reason; measured 0.075, and 0.133 with the default occupation (printed, not
-///   asserted). The published value behind the target is lower: "only <4% were satellites of
-///   any other host halo during reionization (z > 6)" (Wetzel, Deason & Garrison-Kimmel 2015,
-///   abstract), which neither meets (docs/validation.md, "Not met yet");
+///   for the same reason (the issue's source, a zoom-in study recalled there, is not named
+///   here); measured 0.075, and 0.133 with the default occupation (printed, not asserted;
+///   docs/validation.md, "Not met yet");
 /// * the same two fractions for the dwarfs such a simulation would still find today (bound
 ///   mass above `census::TRACKED_MASS_MSUN`, about 20 particles of its ~2e5 Msun, recalled):
 ///   the early children are the most stripped (median bound fraction 1.3%), and a simulation
-///   loses them first. With the peak-mass occupation, as in the paper: inside another halo at
-///   z > 6 below its published 4%, pre-processed in [0.15, 0.6]; with the default occupation
-///   the issue's targets (below 0.1; [0.15, 0.6]);
+///   loses them first. Both occupations: the issue's targets (below 0.1; [0.15, 0.6]);
+///   measured 0.033 and 0.443 with the peak-mass occupation, 0.061 and 0.565 with the default;
 /// * satellites sharing their exact position with another: below 1% (the issue's check: each
 ///   satellite of a satellite has its own orbit);
 /// * companions of a Magellanic-mass subhalo (first order, 1e11-3e11 Msun, alive, fell in
@@ -284,7 +282,7 @@ fn val_satellite_population_census() {
         sum_of(&by_peak, &|c| c.faint_dwarfs_in_halo_at_z6) / sum_of(&by_peak, &|c| c.faint_dwarfs);
     let stacked = sum(&|c| c.faint_stacked) / sum(&|c| c.faint);
     // like with like: only the dwarfs a zoom-in simulation would still track
-    // (`TRACKED_MASS_MSUN`), stars by peak mass as in Wetzel, Deason & Garrison-Kimmel 2015
+    // (`TRACKED_MASS_MSUN`), stars by peak mass as in such simulations
     let tracked = sum_of(&by_peak, &|c| c.faint_dwarfs_tracked);
     let z6_tracked = sum_of(&by_peak, &|c| c.faint_dwarfs_tracked_in_halo_at_z6) / tracked;
     let pre_tracked = sum_of(&by_peak, &|c| c.faint_dwarfs_tracked_preprocessed) / tracked;
@@ -326,12 +324,10 @@ fn val_satellite_population_census() {
     assert!((0.15..=0.6).contains(&pre), "pre-processed fraction {pre}");
     assert!(stacked < 0.01, "stacked fraction {stacked}");
     assert!(z6_peak < 0.1, "inside another halo at z > 6: {z6_peak}");
-    // Wetzel, Deason & Garrison-Kimmel 2015 (abstract): "only <4%"; binomial error of the
-    // pooled fraction 0.003 (a bootstrap over the 64 hosts; binomial alone 0.002, but dwarfs
-    // cluster by host and group), so a true 4% would read above 0.034 at 2 errors: the bound
-    // is asserted as published
+    // the issue's targets, like with like (error of the pooled fraction 0.003, a bootstrap
+    // over the 64 hosts: dwarfs cluster by host and group)
     assert!(
-        z6_tracked < 0.04,
+        z6_tracked < 0.1,
         "tracked, inside another halo at z > 6: {z6_tracked}"
     );
     assert!(
