@@ -822,6 +822,19 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
     if let Some(w) = analysis::tests_unsupported(&grid) {
         eprintln!("warning: {w}");
     }
+    let (g, d) = (
+        &cfg.file.galaxies,
+        retinue::galaxies::GalaxyOptions::default(),
+    );
+    if !g.strip_stars
+        && (g.size_to_r200c != d.size_to_r200c || g.size_scatter_dex != d.size_scatter_dex)
+    {
+        eprintln!(
+            "note: galaxies.size_to_r200c and galaxies.size_scatter_dex set how deeply stars \
+             sit in their subhaloes, which matters only for stripping them: with \
+             galaxies.strip_stars = false they change nothing"
+        );
+    }
     println!(
         "{}: valid ({} = {} hosts)",
         a.config.display(),

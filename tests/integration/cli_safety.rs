@@ -737,3 +737,25 @@ fn check_names_sample_objects_outside_the_selection() {
     assert_eq!(code, 0, "{err}");
     assert!(!err.contains("outside [tests.selection]"), "{err}");
 }
+
+/// `check` notes galaxy-size keys that change nothing because stars are not stripped (a
+/// walkthrough set them with `strip_stars = false` and was told nothing).
+#[test]
+fn check_notes_size_keys_without_stripping() {
+    let d = tempfile::tempdir().unwrap();
+    let note = "with galaxies.strip_stars = false they change nothing";
+    for (galaxies, expect) in [
+        ("strip_stars = false\nsize_to_r200c = 0.05\n", true),
+        ("strip_stars = false\n", false),
+        ("size_to_r200c = 0.05\n", false),
+    ] {
+        let cfg = write(
+            d.path(),
+            "g.toml",
+            &format!("{TINY}\n[galaxies]\n{galaxies}"),
+        );
+        let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
+        assert_eq!(code, 0, "{err}");
+        assert_eq!(err.contains(note), expect, "{galaxies}: {err}");
+    }
+}
