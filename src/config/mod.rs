@@ -332,7 +332,19 @@ fn without_comment(v: &str) -> &str {
 /// A parser or serde message in the words of this tool.
 fn explain(msg: &str, value: &str) -> String {
     let msg = one_line(msg);
-    // `3.0 kpc`, `1.2e12 Msun`: a number with a unit
+    // `3.0 kpc`, `1.2e12 Msun`: a number with a unit; quoted (`"0.2 dex"`) where a number is
+    // expected, the same (a walkthrough got only serde's type error for it)
+    let unquoted = value
+        .trim()
+        .strip_prefix('"')
+        .and_then(|v| v.strip_suffix('"'))
+        .filter(|_| msg.contains("invalid type: string"));
+    let value = unquoted.unwrap_or(value);
+    if let Some(v) = unquoted {
+        if v.trim().parse::<f64>().is_ok() {
+            return "a number in quotes: write it without them".to_string();
+        }
+    }
     let mut words = value.split_whitespace();
     if let (Some(num), Some(_), None) = (words.next(), words.next(), words.next()) {
         if num.parse::<f64>().is_ok() {
@@ -399,6 +411,22 @@ mod tests {
             let p = problems(&format!("{base}field = \"{ok}\"\n"));
             assert!(p.is_empty(), "{ok}: {p:?}");
         }
+    }
+
+    /// A number written in quotes, with or without a unit, is named as such (a walkthrough got
+    /// only serde's type error); a quoted value of a key that takes a word is not.
+    #[test]
+    fn quoted_numbers_are_named() {
+        let base = "[cosmology]\npreset = \"planck18\"\n[galaxies]\n";
+        let p = problems(&format!("{base}size_scatter_dex = \"0.2 dex\"\n"));
+        assert!(
+            p.len() == 1 && p[0].contains("a number with a unit"),
+            "{p:?}"
+        );
+        let p = problems(&format!("{base}size_scatter_dex = \"0.2\"\n"));
+        assert!(p.len() == 1 && p[0].contains("a number in quotes"), "{p:?}");
+        let p = problems(&format!("{base}smhm = \"1.5\"\n"));
+        assert!(p.len() == 1 && !p[0].contains("quotes"), "{p:?}");
     }
 
     #[test]
