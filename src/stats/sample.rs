@@ -964,13 +964,24 @@ impl ObservedSample {
                 match v.parse::<f64>() {
                     Ok(x) => Some(x),
                     Err(_) => {
+                        // `1e4 Msun`: a number with its unit (a walkthrough wrote one)
+                        let with_unit = v
+                            .split_whitespace()
+                            .next()
+                            .is_some_and(|w| w.parse::<f64>().is_ok());
                         problems.push(if v.is_empty() {
                             format!("{src}: line {line}: {} is empty", label(name))
                         } else {
                             format!(
-                                "{src}: line {line}: {} = `{}` is not a number",
+                                "{src}: line {line}: {} = `{}` is not a number{}",
                                 label(name),
-                                excerpt(v)
+                                excerpt(v),
+                                if with_unit {
+                                    " (write the number alone: the unit is the one the \
+                                     column's name gives)"
+                                } else {
+                                    ""
+                                }
                             )
                         });
                         unreadable = true;
@@ -1245,6 +1256,12 @@ mod tests {
             format!("\u{feff}# one\r\n#two\r\n\r\n{HEAD}\r\n# five\r\n\r\nA,1e5,z,1,8,1\r\n");
         let e = csv(&text).unwrap_err();
         assert_eq!(e, "s.csv: line 7: r_gc_kpc = `z` is not a number");
+        // a number with its unit is named as such
+        let e = csv(&format!("{HEAD}\nA,1e4 Msun,50,1,8,1\n")).unwrap_err();
+        assert!(
+            e.contains("= `1e4 Msun` is not a number (write the number alone"),
+            "{e}"
+        );
         let e = csv("\u{feff}# one\r\n\r\nid\r\n").unwrap_err();
         assert!(e.starts_with("s.csv: line 3 (header): "), "{e}");
     }
