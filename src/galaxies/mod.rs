@@ -261,25 +261,7 @@ impl GalaxyOptions {
         let z = z.min(self.smhm.z_max());
         match self.smhm {
             SmhmModel::Behroozi13 => behroozi13::log10_mstar(m_vir_msun, z),
-            SmhmModel::Moster13 => {
-                let c = c_of_m(
-                    ConcentrationModel::DuttonMaccio14,
-                    cosmo,
-                    m_vir_msun,
-                    z,
-                    MassDefinition::Vir,
-                );
-                let m200 = convert_nfw(
-                    cosmo,
-                    m_vir_msun,
-                    c,
-                    z,
-                    MassDefinition::Vir,
-                    MassDefinition::C200,
-                )
-                .0;
-                moster13::log10_mstar(m200, z)
-            }
+            SmhmModel::Moster13 => moster13::log10_mstar(m200c_of_vir(cosmo, m_vir_msun, z), z),
         }
     }
 
@@ -315,22 +297,7 @@ impl GalaxyOptions {
     /// z: `size_to_r200c` R_200c (Kravtsov 2013), R_200c from the virial mass with the Dutton
     /// & Maccio 2014 concentration (held at z = 5 beyond the fit's range).
     pub fn half_mass_radius_kpc(&self, cosmo: &Cosmology, m_vir_msun: f64, z: f64) -> f64 {
-        let c = c_of_m(
-            ConcentrationModel::DuttonMaccio14,
-            cosmo,
-            m_vir_msun,
-            z,
-            MassDefinition::Vir,
-        );
-        let m200 = convert_nfw(
-            cosmo,
-            m_vir_msun,
-            c,
-            z,
-            MassDefinition::Vir,
-            MassDefinition::C200,
-        )
-        .0;
+        let m200 = m200c_of_vir(cosmo, m_vir_msun, z);
         self.size_to_r200c * MassDefinition::C200.radius_kpc(cosmo, m200, z)
     }
 
@@ -447,6 +414,28 @@ impl GalaxyOptions {
         }
         10f64.powf(0.5 * (lo + hi))
     }
+}
+
+/// M_200c (Msun) of an NFW halo of virial mass `m_vir_msun` at z, with the Dutton & Maccio 2014
+/// concentration (held at z = 5 beyond the fit's range): for the relations and sizes given in
+/// R_200c terms.
+fn m200c_of_vir(cosmo: &Cosmology, m_vir_msun: f64, z: f64) -> f64 {
+    let c = c_of_m(
+        ConcentrationModel::DuttonMaccio14,
+        cosmo,
+        m_vir_msun,
+        z,
+        MassDefinition::Vir,
+    );
+    convert_nfw(
+        cosmo,
+        m_vir_msun,
+        c,
+        z,
+        MassDefinition::Vir,
+        MassDefinition::C200,
+    )
+    .0
 }
 
 /// Absolute V magnitude of the Sun (Willmer 2018, ApJS 236, 47, gives 4.81; 4.83 is the value in

@@ -138,6 +138,14 @@ fn apocentre(e: f64) -> f64 {
     (0.5 * (lo + hi)).exp()
 }
 
+/// Phase-space volume per unit s at energy e (apocentre `xe`), x = xe (1 - s^2): the radial
+/// weight x^2 sqrt(psi(x) - 1 + e) dx/ds, smooth at the apocentre (s = 0).
+#[inline]
+fn phase_volume_density(xe: f64, e: f64, s: f64) -> f64 {
+    let x = xe * (1.0 - s * s);
+    x * x * (psi(x) - 1.0 + e).max(0.0).sqrt() * 2.0 * xe * s
+}
+
 /// Number of nodes in s along each energy's radial range (x = x_E (1 - s^2)).
 const N_S: usize = 129;
 
@@ -163,11 +171,7 @@ fn phase_volume() -> &'static PhaseVolume {
             // any half-light radius the table holds)
             let ee = ei.min(1.0 - 1e-9);
             let xe = apocentre(ee);
-            let f = |s: f64| {
-                let x = xe * (1.0 - s * s);
-                let d = (psi(x) - 1.0 + ee).max(0.0);
-                x * x * d.sqrt() * 2.0 * xe * s
-            };
+            let f = |s: f64| phase_volume_density(xe, ee, s);
             let mut c = vec![0.0; N_S];
             let mut prev = f(0.0);
             for j in 1..N_S {
@@ -244,10 +248,7 @@ pub fn projected_half_light_radius_over_rmax(e_s: f64) -> f64 {
         }
         let ee = e[i].min(1.0 - 1e-9);
         let xe = apocentre(ee);
-        let f = |s: f64| {
-            let x = xe * (1.0 - s * s);
-            x * x * (psi(x) - 1.0 + ee).max(0.0).sqrt() * 2.0 * xe * s
-        };
+        let f = |s: f64| phase_volume_density(xe, ee, s);
         let vals: Vec<f64> = (0..fine).map(|j| f(j as f64 * ds)).collect();
         let norm: f64 = vals.iter().sum::<f64>() - 0.5 * (vals[0] + vals[fine - 1]);
         for (j, v) in vals.iter().enumerate() {

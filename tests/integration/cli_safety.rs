@@ -6,6 +6,13 @@ use std::path::Path;
 use crate::common::{dir_names, run_cli, run_ok, write, TINY};
 
 /// Every file under `dir` with its contents (names sorted).
+/// `infall STORE --name NAME` succeeds and says `note` (on either stream).
+fn infall_says(store: &str, name: &str, note: &str) {
+    let (code, out, err) = run_cli(&["infall", store, "--name", name]);
+    assert_eq!(code, 0, "{err}");
+    assert!(format!("{out}{err}").contains(note), "{out}{err}");
+}
+
 fn contents(dir: &Path) -> Vec<(String, Vec<u8>)> {
     dir_names(dir)
         .into_iter()
@@ -501,12 +508,7 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
         let f = hdf5::File::open_rw(&store).unwrap();
         f.delete_attr("orbit_options").unwrap();
     }
-    let (code, out, err) = run_cli(&["infall", s, "--name", "later"]);
-    assert_eq!(code, 0, "{err}");
-    assert!(
-        format!("{out}{err}").contains("does not record its orbit options"),
-        "{out}{err}"
-    );
+    infall_says(s, "later", "does not record its orbit options");
 }
 
 /// Stores written before stars were stripped by tides (2026-12-04) lack the subhalo column
@@ -530,12 +532,7 @@ fn stores_from_before_stellar_stripping_still_open() {
     run_ok(&["run", c, "--out", store.to_str().unwrap()]);
     old(&store);
     let st = store.to_str().unwrap();
-    let (code, out, err) = run_cli(&["infall", st, "--name", "again"]);
-    assert_eq!(code, 0, "{err}");
-    assert!(
-        format!("{out}{err}").contains("written before stars were stripped by tides"),
-        "{out}{err}"
-    );
+    infall_says(st, "again", "written before stars were stripped by tides");
     // the same resolved option as the store's hosts had: a configuration saying so is accepted
     let again = write(d.path(), "again.toml", "[galaxies]\nstrip_stars = false\n");
     let (code, _, err) = run_cli(&[
@@ -593,11 +590,10 @@ fn stores_from_before_stellar_stripping_still_open() {
         let f = hdf5::File::open(&merged).unwrap();
         assert!(!f.group("subhalos").unwrap().link_exists("mstar_peak_msun"));
     }
-    let (code, out, err) = run_cli(&["infall", merged.to_str().unwrap(), "--name", "m"]);
-    assert_eq!(code, 0, "{err}");
-    assert!(
-        format!("{out}{err}").contains("written before stars were stripped by tides"),
-        "{out}{err}"
+    infall_says(
+        merged.to_str().unwrap(),
+        "m",
+        "written before stars were stripped by tides",
     );
 }
 

@@ -16,6 +16,17 @@ fn planck18() -> LinearTheory {
     .unwrap()
 }
 
+/// The default synthesis of a Milky-Way-mass host (1.2e12 Msun, resolution 10^7.5 Msun).
+fn milky_way() -> SynthOptions {
+    SynthOptions {
+        tree: TreeSpec::milky_way_default(),
+        host: Default::default(),
+        orbits: Default::default(),
+        galaxies: Default::default(),
+        survey: Default::default(),
+    }
+}
+
 /// The dwarf extension joins each relation continuously in value and slope at the pivot
 /// (one-sided finite differences over 1e-5 dex agree to 1e-3), and its slope tends to the set
 /// value far below (within 1e-3 at 6 transition widths).
@@ -217,13 +228,7 @@ fn reionization_occupation() {
 #[test]
 fn val_satellite_counts_in_literature_band() {
     let lt = planck18();
-    let opts = SynthOptions {
-        tree: TreeSpec::milky_way_default(),
-        host: Default::default(),
-        orbits: Default::default(),
-        galaxies: Default::default(),
-        survey: Default::default(),
-    };
+    let opts = milky_way();
     let mut b = TreeBuilder::new(opts.tree.pch08).unwrap();
     let (mut bright, mut massive) = (Vec::new(), Vec::new());
     for i in 0..8 {
@@ -429,13 +434,7 @@ fn val_stars_outlast_dark_matter_vs_smith16() {
 #[test]
 fn paint_strips_only_surviving_galaxies() {
     let lt = planck18();
-    let opts = SynthOptions {
-        tree: TreeSpec::milky_way_default(),
-        host: Default::default(),
-        orbits: Default::default(),
-        galaxies: Default::default(),
-        survey: Default::default(),
-    };
+    let opts = milky_way();
     let mut b = TreeBuilder::new(opts.tree.pch08).unwrap();
     let rec = synthesize_host(&lt, &opts, 5, HostId::new(0, 0, 3), &mut b).unwrap();
     let c = lt.cosmology();
