@@ -293,6 +293,16 @@ fn input_ok(name: &str, v: f64) -> Option<&'static str> {
     (!ok).then_some(allowed)
 }
 
+/// Whether a problem's text names `label` as a whole word (`m_v` is not named by `m_v_x`).
+fn mentions(problem: &str, label: &str) -> bool {
+    let word = |c: char| c.is_alphanumeric() || c == '_';
+    problem.match_indices(label).any(|(i, _)| {
+        let before = problem[..i].chars().next_back();
+        let after = problem[i + label.len()..].chars().next();
+        !before.is_some_and(word) && !after.is_some_and(word)
+    })
+}
+
 /// The object of a raw one: alternatives converted, then the ranges checked. Problems are
 /// returned without their place (the caller adds file and line); `label` names a sample key
 /// as the file calls it.
@@ -478,10 +488,26 @@ fn resolve(
     let v_r = need("v_r_kms", raw.v_r_kms);
     let t_q = need("t_quench_lookback_gyr", raw.t_quench_lookback_gyr);
     let t_err = need("t_quench_err_gyr", raw.t_quench_err_gyr);
-    // the range checks, on what could be read and converted
+    // the range checks, on what could be read and converted (also when something else on
+    // the line is missing or wrong, so that one look shows all of the line's problems)
     let (Some(mstar), Some(r_gc), Some(v_r), Some(t_q), Some(t_err), true) =
         (mstar, r_gc, v_r, t_q, t_err, problems.is_empty())
     else {
+        // a value derived from a refused input is not checked again
+        let derived_ok =
+            |v: Option<f64>, how: &Option<String>| v.filter(|_| inputs_ok || how.is_none());
+        problems.extend(value_problems(
+            &id,
+            [
+                derived_ok(mstar, &derived.mstar),
+                derived_ok(r_gc, &derived.r_gc),
+                v_r,
+                t_q,
+                t_err,
+            ],
+            &derived,
+            label,
+        ));
         return Err(problems);
     };
     let o = ObservedObject {
@@ -533,52 +559,82 @@ fn object_problems(
     derived: &Derived,
     label: &dyn Fn(&str) -> String,
 ) -> Vec<String> {
+    value_problems(
+        &o.id,
+        [
+            Some(o.mstar_msun),
+            Some(o.r_gc_kpc),
+            Some(o.v_r_kms),
+            Some(o.t_quench_lookback_gyr),
+            Some(o.t_quench_err_gyr),
+        ],
+        derived,
+        label,
+    )
+}
+
+/// The range checks of the values of object `id` that could be read: stellar mass,
+/// galactocentric distance, radial velocity, quenching time and its error, in that order.
+fn value_problems(
+    id: &str,
+    values: [Option<f64>; 5],
+    derived: &Derived,
+    label: &dyn Fn(&str) -> String,
+) -> Vec<String> {
+    let who = if id.is_empty() {
+        String::new()
+    } else {
+        format!("object `{}`: ", excerpt(id))
+    };
     let mut problems = Vec::new();
-    let mut bad = |k: &str, from: Option<&String>, v: f64, ok: bool, allowed: &str| {
-        if !ok {
+    let mut bad = |k: &str,
+                   from: Option<&String>,
+                   v: Option<f64>,
+                   ok: &dyn Fn(f64) -> bool,
+                   allowed: &str| {
+        let Some(v) = v else { return };
+        if !ok(v) {
             let key = match from {
                 Some(how) => format!("{k} = {v} ({how})"),
                 None => format!("{} = {v}", label(k)),
             };
-            problems.push(format!(
-                "object `{}`: {key} is not allowed: {allowed}",
-                excerpt(&o.id)
-            ));
+            problems.push(format!("{who}{key} is not allowed: {allowed}"));
         }
     };
+    let [mstar, r_gc, v_r, t_q, t_err] = values;
     bad(
         "mstar_msun",
         derived.mstar.as_ref(),
-        o.mstar_msun,
-        o.mstar_msun > 0.0 && o.mstar_msun < 1e13,
+        mstar,
+        &|m| m > 0.0 && m < 1e13,
         "must be in (0, 1e13) Msun",
     );
     bad(
         "r_gc_kpc",
         derived.r_gc.as_ref(),
-        o.r_gc_kpc,
-        o.r_gc_kpc >= 0.0 && o.r_gc_kpc < 5000.0,
+        r_gc,
+        &|r| (0.0..5000.0).contains(&r),
         "must be in [0, 5000) kpc",
     );
     bad(
         "v_r_kms",
         None,
-        o.v_r_kms,
-        o.v_r_kms > -2000.0 && o.v_r_kms < 2000.0,
+        v_r,
+        &|v| v > -2000.0 && v < 2000.0,
         "must be in (-2000, 2000) km/s",
     );
     bad(
         "t_quench_lookback_gyr",
         None,
-        o.t_quench_lookback_gyr,
-        o.t_quench_lookback_gyr >= 0.0 && o.t_quench_lookback_gyr <= 14.0,
+        t_q,
+        &|t| (0.0..=14.0).contains(&t),
         "must be in [0, 14] Gyr",
     );
     bad(
         "t_quench_err_gyr",
         None,
-        o.t_quench_err_gyr,
-        o.t_quench_err_gyr >= 0.0 && o.t_quench_err_gyr <= 10.0,
+        t_err,
+        &|t| (0.0..=10.0).contains(&t),
         "must be in [0, 10] Gyr",
     );
     problems
@@ -955,8 +1011,8 @@ impl ObservedSample {
                 continue;
             }
             ids.push((&rec[pos["id"]], *line as usize));
-            let mut unreadable = false;
-            let mut num = |name: &str| -> Option<f64> {
+            let mut unreadable: Vec<&str> = Vec::new();
+            let mut num = |name: &'static str| -> Option<f64> {
                 if !used.contains(&name) {
                     return None;
                 }
@@ -984,7 +1040,7 @@ impl ObservedSample {
                                 }
                             )
                         });
-                        unreadable = true;
+                        unreadable.push(name);
                         None
                     }
                 }
@@ -1003,8 +1059,18 @@ impl ObservedSample {
                 t_quench_lookback_gyr: num("t_quench_lookback_gyr"),
                 t_quench_err_gyr: num("t_quench_err_gyr"),
             };
-            // a line with a value that could not be read is reported above, not range-checked
-            if unreadable {
+            // a value that could not be read is reported above; the line's other values are
+            // still checked, leaving out what the unreadable ones would have said (a
+            // walkthrough found the rest of such a line's errors hidden)
+            if !unreadable.is_empty() {
+                if let Err(p) = resolve(&raw, opts, &label) {
+                    let labels: Vec<String> = unreadable.iter().map(|n| label(n)).collect();
+                    problems.extend(
+                        p.into_iter()
+                            .filter(|p| !labels.iter().any(|l| mentions(p, l)))
+                            .map(|p| format!("{src}: line {line}: {p}")),
+                    );
+                }
                 continue;
             }
             match resolve(&raw, opts, &label) {
@@ -1264,6 +1330,24 @@ mod tests {
         );
         let e = csv("\u{feff}# one\r\n\r\nid\r\n").unwrap_err();
         assert!(e.starts_with("s.csv: line 3 (header): "), "{e}");
+    }
+
+    /// A line with an unreadable value still has its other values checked: the walkthrough's
+    /// line with a distance in words and a quenching time of 20 Gyr reported only the first.
+    /// What the unreadable value would have said ("r_gc_kpc is missing") is left out.
+    #[test]
+    fn an_unreadable_value_does_not_hide_the_lines_other_problems() {
+        let e = csv(&format!("{HEAD}\nA,1e5,far,1,20,1\n")).unwrap_err();
+        assert_eq!(
+            e,
+            "s.csv: line 2: r_gc_kpc = `far` is not a number\n\
+             s.csv: line 2: object `A`: t_quench_lookback_gyr = 20 is not allowed: must be in \
+             [0, 14] Gyr"
+        );
+        // a whole-word match: an unreadable m_v does not hide a problem of another key
+        assert!(mentions("m_v is missing", "m_v"));
+        assert!(!mentions("m_v_x is missing", "m_v"));
+        assert!(!mentions("am_v is missing", "m_v"));
     }
 
     #[test]
