@@ -140,6 +140,12 @@ pub fn cell_labels(grid: &Grid) -> CellLabels {
             .iter()
             .map(|(_, lin)| lin.m_wdm_kev)
             .collect(),
+        sharp_k: grid
+            .config
+            .cosmologies
+            .iter()
+            .map(|(_, lin)| lin.filter == crate::linear::variance::Filter::SharpK)
+            .collect(),
     }
 }
 

@@ -13,14 +13,7 @@ use mpi::traits::*;
 use super::CliError;
 use retinue::run::Shard;
 
-/// The shard file of rank k (0-based) of r for output `out`.
-pub fn shard_path(out: &Path, k: u32, r: u32) -> PathBuf {
-    let stem = out
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "run".into());
-    out.with_file_name(format!("{stem}.shard-{}-of-{r}.h5", k + 1))
-}
+pub use super::run::shard_path;
 
 /// Synthesise one shard into a path.
 pub type ShardJob<'a> = &'a dyn Fn(Shard, PathBuf) -> Result<PathBuf, CliError>;

@@ -321,6 +321,7 @@ fn execute(
     resume: bool,
     existing: Existing,
     sample_override: Option<PathBuf>,
+    tests_note: Option<String>,
 ) -> Result<PathBuf, CliError> {
     // a sample given here is read without the configuration's column mapping (which
     // describes run.sample)
@@ -417,6 +418,9 @@ fn execute(
             eprintln!("note: {why}");
             return Ok(out);
         }
+        if let Some(n) = &tests_note {
+            retinue::io::set_interrupt_note(n.clone());
+        }
         pool.install(|| {
             analyse(
                 &grid,
@@ -456,6 +460,11 @@ fn execute(
         eprintln!("note: {why}");
         println!("store:   {}", path.display());
         return Ok(path);
+    }
+    // interrupted from here on, the store is complete and only the tests are lost (a
+    // walkthrough was told its hosts were kept in a parts directory that no longer existed)
+    if let Some(n) = &tests_note {
+        retinue::io::set_interrupt_note(n.clone());
     }
     pool.install(|| {
         analyse(
@@ -556,26 +565,53 @@ fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
             cell(3.0)
         );
     }
-    for (clock, curve, tau) in &res.quench {
+    for (clock, curve, lim) in &res.quench {
         let tested = curve.spread.iter().any(|s| s.hosts > 0);
         let end = curve.x.last().copied().unwrap_or(f64::NAN);
+        let gyr = |t: f64| {
+            if t.is_nan() {
+                "none".to_string()
+            } else {
+                format!("{t:.2}")
+            }
+        };
+        let range = if lim.boot84.is_nan() {
+            " (none in most bootstrap resamples of the hosts either)".to_string()
+        } else {
+            format!(
+                " (bootstrap over hosts 16–84%: {}–{} Gyr)",
+                gyr(lim.boot16),
+                gyr(lim.boot84)
+            )
+        };
         println!(
             "largest quenching delay allowed ({}): {}",
             clock.name(),
             if !tested {
                 "not tested (no host has as many candidates as the sample has objects)".into()
-            } else if tau.is_nan() {
-                "none".into()
-            } else if (tau - end).abs() < 1e-9 {
-                format!("at least {tau:.2} Gyr (the end of the delay grid)")
+            } else if lim.tau.is_nan() {
+                format!("none{range}")
+            } else if (lim.tau - end).abs() < 1e-9 {
+                format!(
+                    "at least {:.2} Gyr (the end of the delay grid){range}",
+                    lim.tau
+                )
             } else {
-                format!("{tau:.2} Gyr")
+                format!("{:.2} Gyr{range}", lim.tau)
             }
         );
     }
     let lines = retinue::report::conclusion_lines(res, o);
     if !lines.is_empty() {
-        println!("conclusion: environment by");
+        if res.dependence.len() > 1 {
+            println!(
+                "conclusion, all {} cells pooled (each cell's own in the report's comparison \
+                 of the cells): environment by",
+                res.dependence.len()
+            );
+        } else {
+            println!("conclusion: environment by");
+        }
         for l in lines {
             println!("  - {l}");
         }
@@ -589,13 +625,31 @@ fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
     }
 }
 
+/// The store of shard k (0-based) of r of a run whose output is `out`:
+/// `STEM.shard-(k+1)-of-R.h5` beside it.
+pub fn shard_path(out: &Path, k: u32, r: u32) -> PathBuf {
+    let stem = out
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".into());
+    out.with_file_name(format!("{stem}.shard-{}-of-{r}.h5", k + 1))
+}
+
 pub fn run(a: RunArgs) -> Result<(), CliError> {
     let (cfg, text) = load(&a.config)?;
     let shard = match &a.shard {
         Some(s) => parse_shard(s)?,
         None => Shard::WHOLE,
     };
-    let out = a.out.clone().unwrap_or_else(|| cfg.file.run.output.clone());
+    // a shard without --out gets a shard's name beside the run's output (a walkthrough's
+    // first shard took the whole run's name, and the second was then told to overwrite it)
+    let out = a.out.clone().unwrap_or_else(|| {
+        if shard.count > 1 {
+            shard_path(&cfg.file.run.output, shard.index, shard.count)
+        } else {
+            cfg.file.run.output.clone()
+        }
+    });
     let mut inputs = vec![a.config.clone()];
     inputs.extend(cfg.sample_path());
     // with --resume an existing store of this run is completed (tests and report), not replaced
@@ -624,7 +678,17 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         // --overwrite (or, with --resume, a store of this run)
         let go = |s: Shard, p: PathBuf| {
             guard_output(&p, &inputs, a.overwrite, a.resume)?;
-            execute(cfg.clone(), &text, p, threads, s, a.resume, existing, None)
+            execute(
+                cfg.clone(),
+                &text,
+                p,
+                threads,
+                s,
+                a.resume,
+                existing,
+                None,
+                None,
+            )
         };
         let finish = |shards: &[PathBuf], out: &Path| -> Result<(), CliError> {
             let _lock = writer_lock(out, "retinue run (merging MPI ranks)")?;
@@ -668,7 +732,23 @@ pub fn run(a: RunArgs) -> Result<(), CliError> {
         "the hosts finished so far are kept in {}; continue with: {again} --resume",
         retinue::io::store::parts_dir(&out).display()
     ));
-    execute(cfg, &text, out, threads, shard, a.resume, existing, None).map(|_| ())
+    let tests_note = format!(
+        "{} holds every host of the run; only its tests and report were interrupted: \
+         `{again} --resume` runs them",
+        out.display()
+    );
+    execute(
+        cfg,
+        &text,
+        out,
+        threads,
+        shard,
+        a.resume,
+        existing,
+        None,
+        Some(tests_note),
+    )
+    .map(|_| ())
 }
 
 pub fn demo(a: DemoArgs) -> Result<(), CliError> {
@@ -743,6 +823,7 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
         Shard::WHOLE,
         true,
         Existing::Remove,
+        None,
         None,
     )?;
     // the same hosts against the second sample, as `retinue infall` would test them

@@ -1539,9 +1539,9 @@ pub fn write_figures(
             .quench
             .iter()
             .enumerate()
-            .map(|(i, (c, cv, tau))| ProbSeries {
-                name: if tau.is_finite() {
-                    format!("{} (τ ≤ {tau:.2} Gyr)", c.name())
+            .map(|(i, (c, cv, lim))| ProbSeries {
+                name: if lim.tau.is_finite() {
+                    format!("{} (τ ≤ {:.2} Gyr)", c.name(), lim.tau)
                 } else {
                     format!("{} (no τ allowed)", c.name())
                 },
@@ -1564,7 +1564,7 @@ pub fn write_figures(
             .quench
             .iter()
             .enumerate()
-            .map(|(i, q)| (q.2, COLORS[i % COLORS.len()]))
+            .map(|(i, q)| (q.2.tau, COLORS[i % COLORS.len()]))
             .collect();
         save(dir, "quenching_delay", &p, &mut out)?;
     }

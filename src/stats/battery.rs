@@ -278,8 +278,9 @@ pub struct AnalysisResults {
     pub all_of_n_exact: Vec<(Clock, Curve)>,
     /// Fraction-of-N per clock and N (exact).
     pub fraction_of_n: Vec<(Clock, usize, Curve)>,
-    /// Quenching comparison per clock: P(tau) and the largest allowed tau.
-    pub quench: Vec<(Clock, Curve, f64)>,
+    /// Quenching comparison per clock: P(tau) and the largest allowed tau with its
+    /// uncertainty.
+    pub quench: Vec<(Clock, Curve, DelayLimit)>,
     /// Phase-space matches per object and clock: (object id, clock, pooled infall lookbacks,
     /// P(infall before quenching) with its spread over hosts, number of matches).
     pub matches: Vec<(String, Clock, Vec<f64>, Spread, usize)>,
@@ -390,6 +391,84 @@ fn dependence_row(d: &DependenceRaw) -> (u16, u16, usize, f64, f64, f64) {
     )
 }
 
+/// The largest environmental quenching delay the quenching-delay test allows: the largest
+/// delay of the grid whose mean probability over hosts is at least 1 - confidence, and how
+/// well the hosts fix it (a review found the single value read as firmer than it is: a
+/// minority of hosts can carry the mean).
+#[derive(Debug, Clone, Default)]
+pub struct DelayLimit {
+    /// The largest allowed delay, Gyr (NaN: none of the grid's delays).
+    pub tau: f64,
+    /// The same in bootstrap resamples of the hosts: 16th, 84th, 2.5th and 97.5th
+    /// percentiles, each a delay of the grid (NaN: none in at least that share of the
+    /// resamples).
+    pub boot16: f64,
+    pub boot84: f64,
+    pub boot025: f64,
+    pub boot975: f64,
+    /// Each tested host's own largest allowed delay (NaN: none), in host order; kept so that
+    /// results on chunks of hosts can be merged.
+    pub per_host: Vec<f64>,
+    /// The median of `per_host` (NaN: none for at least half of the hosts).
+    pub host_median: f64,
+    /// Hosts whose own largest allowed delay is at least `tau`.
+    pub hosts_reaching: usize,
+}
+
+impl DelayLimit {
+    /// A host's own largest allowed delay: the largest x whose probability is at least
+    /// `floor` (NaN: none).
+    pub fn largest_allowed(x: &[f64], p: &[f64], floor: f64) -> f64 {
+        x.iter()
+            .zip(p)
+            .filter(|(_, &v)| v >= floor)
+            .map(|(t, _)| *t)
+            .fold(f64::NAN, f64::max)
+    }
+
+    /// The nearest-rank q-quantile of delays of the grid, "none" (NaN) ranking below every
+    /// delay.
+    fn quantile_of_delays(sorted: &[f64], q: f64) -> f64 {
+        if sorted.is_empty() {
+            return f64::NAN;
+        }
+        let v = sorted[((sorted.len() - 1) as f64 * q).round() as usize];
+        if v == f64::NEG_INFINITY {
+            f64::NAN
+        } else {
+            v
+        }
+    }
+
+    /// Sort delays with "none" (NaN) first, as minus infinity.
+    fn sorted(v: impl Iterator<Item = f64>) -> Vec<f64> {
+        let mut s: Vec<f64> = v
+            .map(|t| if t.is_nan() { f64::NEG_INFINITY } else { t })
+            .collect();
+        s.sort_by(f64::total_cmp);
+        s
+    }
+
+    /// Fill in the summary from the curve's bootstrap accumulator and the per-host values.
+    fn summarise(&mut self, x: &[f64], spread: &[Spread], acc: &StreamingSpread, floor: f64) {
+        let means: Vec<f64> = spread.iter().map(|s| s.mean).collect();
+        self.tau = Self::largest_allowed(x, &means, floor);
+        let boot = Self::sorted((0..acc.resamples()).map(|b| {
+            let p: Vec<f64> = (0..x.len())
+                .map(|k| acc.resample_mean(b, k).unwrap_or(f64::NAN))
+                .collect();
+            Self::largest_allowed(x, &p, floor)
+        }));
+        self.boot16 = Self::quantile_of_delays(&boot, 0.16);
+        self.boot84 = Self::quantile_of_delays(&boot, 0.84);
+        self.boot025 = Self::quantile_of_delays(&boot, 0.025);
+        self.boot975 = Self::quantile_of_delays(&boot, 0.975);
+        let hosts = Self::sorted(self.per_host.iter().copied());
+        self.host_median = Self::quantile_of_delays(&hosts, 0.5);
+        self.hosts_reaching = self.per_host.iter().filter(|&&t| t >= self.tau).count();
+    }
+}
+
 /// The curves of a result in a fixed order (all-of-N Monte Carlo, all-of-N exact,
 /// fraction-of-N, quenching delay).
 fn curves_mut(r: &mut AnalysisResults) -> Vec<&mut Curve> {
@@ -467,6 +546,9 @@ impl<'a> Merger<'a> {
             a.per_host.append(&mut b.per_host);
             a.hosts.append(&mut b.hosts);
         }
+        for (a, b) in m.quench.iter_mut().zip(p.quench.iter_mut()) {
+            a.2.per_host.append(&mut b.2.per_host);
+        }
         m.candidates.extend(p.candidates);
         m.candidate_hosts.extend(p.candidate_hosts);
         m.hosts_too_few.extend(p.hosts_too_few);
@@ -505,14 +587,10 @@ impl<'a> Merger<'a> {
             c.spread = acc.finish();
         }
         let floor = 1.0 - options.confidence;
-        for q in m.quench.iter_mut() {
-            q.2 =
-                q.1.x
-                    .iter()
-                    .zip(&q.1.spread)
-                    .filter(|(_, sp)| sp.mean >= floor)
-                    .map(|(t, _)| *t)
-                    .fold(f64::NAN, f64::max);
+        // the quenching curves are the last ones of `curves_mut`
+        let first_quench = self.spreads.len() - m.quench.len();
+        for (q, acc) in m.quench.iter_mut().zip(&self.spreads[first_quench..]) {
+            q.2.summarise(&q.1.x, &q.1.spread, acc, floor);
         }
         let mut boot_rng = host_rng(
             self.master_seed,
@@ -758,6 +836,15 @@ pub fn run_tests_raw(
                         .collect()
                 })
                 .collect();
+            let floor = 1.0 - options.confidence;
+            let limit = DelayLimit {
+                per_host: per
+                    .iter()
+                    .map(|p| DelayLimit::largest_allowed(&options.delay_grid_gyr, p, floor))
+                    .collect(),
+                tau: f64::NAN,
+                ..Default::default()
+            };
             quench.push((
                 clock,
                 Curve {
@@ -766,7 +853,7 @@ pub fn run_tests_raw(
                     hosts: ids(&rows),
                     spread: Vec::new(),
                 },
-                f64::NAN,
+                limit,
             ));
         }
         let mut pooled = lookback_bins();
@@ -1067,5 +1154,34 @@ mod quench_draw_tests {
         assert_eq!(p_quenched_after(14.0, 13.5, 1.0, 13.79), 1.0);
         assert_eq!(p_quenched_after(4.0, 5.0, 0.0, 13.79), 0.0);
         assert_eq!(p_quenched_after(5.0, 5.0, 0.0, 13.79), 1.0);
+    }
+}
+
+#[cfg(test)]
+mod delay_limit_tests {
+    use super::DelayLimit;
+
+    /// A host's largest allowed delay, and quantiles of delays with "none" ranking lowest
+    /// (nearest rank, so every quantile is a delay of the grid or none).
+    #[test]
+    fn largest_delays_and_their_quantiles() {
+        let x = [0.0, 0.5, 1.0, 1.5];
+        assert_eq!(
+            DelayLimit::largest_allowed(&x, &[0.3, 0.1, 0.06, 0.01], 0.05),
+            1.0
+        );
+        // not monotone: the largest delay that passes counts
+        assert_eq!(
+            DelayLimit::largest_allowed(&x, &[0.3, 0.01, 0.06, 0.01], 0.05),
+            1.0
+        );
+        assert!(DelayLimit::largest_allowed(&x, &[0.04, 0.01, 0.0, 0.0], 0.05).is_nan());
+        let s = DelayLimit::sorted([1.0, f64::NAN, 0.5, f64::NAN, 1.5].into_iter());
+        assert!(DelayLimit::quantile_of_delays(&s, 0.0).is_nan());
+        // rank round(0.5 * 4) = 2: the third of (none, none, 0.5, 1.0, 1.5)
+        assert_eq!(DelayLimit::quantile_of_delays(&s, 0.5), 0.5);
+        assert_eq!(DelayLimit::quantile_of_delays(&s, 0.84), 1.0);
+        assert_eq!(DelayLimit::quantile_of_delays(&s, 1.0), 1.5);
+        assert!(DelayLimit::quantile_of_delays(&[], 0.5).is_nan());
     }
 }

@@ -416,6 +416,18 @@ impl StreamingSpread {
         )
     }
 
+    /// The number of bootstrap resamples.
+    pub fn resamples(&self) -> usize {
+        self.resamples
+    }
+
+    /// The mean of column `k` in bootstrap resample `b` (None: no host of the resample has a
+    /// value there).
+    pub fn resample_mean(&self, b: usize, k: usize) -> Option<f64> {
+        let i = b * self.ncols + k;
+        (self.bcount[i] > 0).then(|| self.bsum[i] / self.bcount[i] as f64)
+    }
+
     pub fn finish(&self) -> Vec<Spread> {
         let nc = self.ncols;
         (0..nc)

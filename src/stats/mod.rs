@@ -12,7 +12,7 @@ pub mod intervals;
 pub mod pairs;
 pub mod sample;
 
-pub use battery::{run_tests, AnalysisResults, TestOptions};
+pub use battery::{run_tests, AnalysisResults, DelayLimit, TestOptions};
 pub use catalog::Catalog;
 pub use census::{census, Companions, HostCensus};
 pub use clocks::{

@@ -41,6 +41,31 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
         store_tables(&d.path().join("merged.h5")),
         "single run vs 3 shards merged"
     );
+    // without --out a shard is named after the run's output and its place in the split
+    // (walkthrough: shard 1/2 took the run's own name, tiny.h5, and shard 2/2 was refused)
+    // (run.output is relative to the working directory)
+    for k in 1..=2 {
+        let st = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+            .env("HDF5_USE_FILE_LOCKING", "FALSE")
+            .current_dir(d.path())
+            .args(["run", c, "--shard", &format!("{k}/2")])
+            .output()
+            .unwrap();
+        assert!(
+            st.status.success(),
+            "{}",
+            String::from_utf8_lossy(&st.stderr)
+        );
+    }
+    assert!(!d.path().join("tiny.h5").exists());
+    run_ok(&[
+        "merge",
+        &o("tiny.shard-1-of-2.h5"),
+        &o("tiny.shard-2-of-2.h5"),
+        "--out",
+        &o("merged2.h5"),
+    ]);
+    assert_eq!(a, store_tables(&d.path().join("merged2.h5")), "2 shards");
     // a missing shard is named
     let (code, _, err) = run_cli(&["merge", &o("s1.h5"), &o("s3.h5"), "--out", &o("bad.h5")]);
     assert_eq!(code, 2, "{err}");
@@ -2138,13 +2163,16 @@ fn demo_answers_both_ways() {
     let (faint, bright) = out.split_once("== 2.").expect("two parts");
     let first = |text: &str| -> String {
         text.lines()
-            .find(|l| l.contains("(first_host_infall):") && l.contains("explain"))
+            .find(|l| l.contains("(first_host_infall):") && l.contains("excluded"))
             .unwrap_or_default()
             .to_string()
     };
-    assert!(first(faint).contains("cannot explain"), "{faint}");
+    assert!(first(faint).contains("excluded by these mocks"), "{faint}");
     let b = first(bright);
-    assert!(b.contains("can explain") && b.contains("up to"), "{bright}");
+    assert!(
+        b.contains("not excluded") && b.contains("up to") && b.contains("bootstrap over hosts"),
+        "{bright}"
+    );
     // the delay found lies within the sample's quenching times (1.4-5.7 Gyr ago)
     let tau: f64 = b
         .split("up to ")
@@ -2357,7 +2385,7 @@ fn conclusions_say_when_untested_or_unbounded() {
         .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
         .unwrap_or_default();
     assert!(line.contains("not tested"), "{out}");
-    assert!(!out.contains("cannot explain"), "{out}");
+    assert!(!out.contains("excluded"), "{out}");
     let md = std::fs::read_to_string(d.path().join("s-many-report").join("report.md")).unwrap();
     assert!(
         md.contains("not tested: no host has as many candidates"),
@@ -2391,6 +2419,33 @@ fn conclusions_say_when_untested_or_unbounded() {
         .unwrap_or_default();
     assert!(
         line.contains("at least 1.00 Gyr, the end of the delay grid") && !line.contains("up to"),
+        "{out}"
+    );
+    // a grid that does not start at 0 (review: "even with no delay" was printed although
+    // P(0) was 0.175): the conclusion names the grid's smallest delay
+    let late = write(
+        d.path(),
+        "late.toml",
+        "[tests]\ndelay_grid_gyr = [13.0, 13.5]\n",
+    );
+    let out = run_ok(&[
+        "infall",
+        st,
+        "--sample",
+        recent.to_str().unwrap(),
+        "--config",
+        late.to_str().unwrap(),
+        "--name",
+        "late",
+    ]);
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
+        .unwrap_or_default();
+    assert!(
+        line.contains("excluded by these mocks")
+            && line.contains("the smallest delay of the grid (`delay_grid_gyr`), 13.00 Gyr")
+            && !line.contains("no delay"),
         "{out}"
     );
     // a [galaxies] key other than the store's would convert the sample with a model the mock
@@ -2509,6 +2564,16 @@ fn check_warns_about_warm_dark_matter_with_top_hat() {
     let (code, _, err) = run_cli(&["check", sharp.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
     assert!(!err.contains("top-hat filter"), "{err}");
+    // the report's caveat names the filter the trees used (walkthrough: a top-hat run's
+    // report said they followed the sharp-k excursion set)
+    let store = d.path().join("warm.h5");
+    run_ok(&["run", p.to_str().unwrap(), "--out", store.to_str().unwrap()]);
+    let md = std::fs::read_to_string(d.path().join("warm-report").join("report.md")).unwrap();
+    assert!(
+        md.contains("- Warm dark matter through the top-hat filter (")
+            && !md.contains("the trees follow the sharp-k excursion set"),
+        "{md}"
+    );
 }
 
 /// `infall` on a store named through a symbolic link writes the store the link points to and
@@ -2639,4 +2704,47 @@ fn interrupted_infall_leaves_no_partial_copy() {
     let (names, _) = retinue::report::analyses_in(&store).unwrap();
     assert!(names.iter().any(|n| n == "late"), "{names:?}");
     assert!(!partial.exists());
+}
+
+/// Ctrl-C while `run` tests a complete store says so: the store holds every host and the
+/// command that runs only the tests (a walkthrough was told its hosts were kept in a parts
+/// directory that no longer existed).
+#[test]
+fn run_interrupted_in_its_tests_says_the_store_is_complete() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    let s = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
+    // padding, so that the tests' copy of the store takes long enough to be caught
+    {
+        let f = hdf5::File::open_rw(&store).unwrap();
+        f.new_dataset_builder()
+            .with_data(&vec![0u8; 128 << 20])
+            .create("padding")
+            .unwrap();
+    }
+    let partial = d.path().join(".s.h5.partial");
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .env("HDF5_USE_FILE_LOCKING", "FALSE")
+        .args(["run", cfg.to_str().unwrap(), "--out", s, "--resume"])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let t0 = std::time::Instant::now();
+    while !partial.exists() {
+        assert!(t0.elapsed().as_secs() < 60, "no copy after 60 s");
+        std::thread::sleep(std::time::Duration::from_micros(200));
+    }
+    // SAFETY: a signal to our own child, which has not been waited for yet
+    assert_eq!(unsafe { libc::kill(child.id() as i32, libc::SIGINT) }, 0);
+    let out = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("holds every host of the run; only its tests and report were interrupted")
+            && err.contains("--resume` runs them")
+            && !err.contains(".parts"),
+        "{err}"
+    );
 }

@@ -261,7 +261,19 @@ fn quench_comparison_known_answer() {
     let (_, curve, tau_max) = &res.quench[0];
     let means: Vec<f64> = curve.spread.iter().map(|s| s.mean).collect();
     assert_eq!(means, vec![1.0, 1.0, 1.0, 0.0, 0.0]);
-    assert_eq!(*tau_max, 1.99);
+    assert_eq!(tau_max.tau, 1.99);
+    // every host allows 1.99 Gyr and no more, so every bootstrap resample does too
+    for t in [
+        tau_max.boot16,
+        tau_max.boot84,
+        tau_max.boot025,
+        tau_max.boot975,
+        tau_max.host_median,
+    ] {
+        assert_eq!(t, 1.99);
+    }
+    assert_eq!(tau_max.hosts_reaching, tau_max.per_host.len());
+    assert!(!tau_max.per_host.is_empty());
     // phase-space matches: every satellite sits at 100 kpc, v_r = 0, 1e6 Msun
     let m = res
         .matches
