@@ -843,6 +843,68 @@ pub fn synthesize_to_store(
     Ok(path)
 }
 
+/// Configuration keys (dotted; a table stands for everything in it) that do not change the
+/// hosts a run grows: the tests, the observed sample, and how the work is spread.
+const HOST_NEUTRAL_KEYS: [&str; 6] = [
+    "tests",
+    "run.sample",
+    "run.sample_columns",
+    "run.threads",
+    "run.batch_hosts",
+    "run.output",
+];
+
+/// Whether dotted key `k` is `table` or lies inside it.
+fn key_under(k: &str, table: &str) -> bool {
+    k == table
+        || k.strip_prefix(table)
+            .is_some_and(|r| r.starts_with('.') || r.starts_with('['))
+}
+
+/// The dotted keys whose values differ between two configuration texts (comments and layout
+/// do not count; a text that does not parse counts as one difference, "(the whole file)").
+fn config_differences(a: &str, b: &str) -> Vec<String> {
+    fn walk(path: &str, a: Option<&toml::Value>, b: Option<&toml::Value>, out: &mut Vec<String>) {
+        use toml::Value;
+        match (a, b) {
+            (Some(Value::Table(x)), Some(Value::Table(y))) => {
+                let mut keys: Vec<&String> = x.keys().chain(y.keys()).collect();
+                keys.sort();
+                keys.dedup();
+                for k in keys {
+                    let p = if path.is_empty() {
+                        k.clone()
+                    } else {
+                        format!("{path}.{k}")
+                    };
+                    walk(&p, x.get(k), y.get(k), out);
+                }
+            }
+            (Some(Value::Array(x)), Some(Value::Array(y)))
+                if x.len() == y.len() && x.iter().all(|v| v.is_table()) =>
+            {
+                for (i, (u, v)) in x.iter().zip(y).enumerate() {
+                    walk(&format!("{path}[{i}]"), Some(u), Some(v), out);
+                }
+            }
+            (x, y) if x == y => {}
+            _ => out.push(path.to_string()),
+        }
+    }
+    match (
+        toml::from_str::<toml::Table>(a),
+        toml::from_str::<toml::Table>(b),
+    ) {
+        (Ok(x), Ok(y)) => {
+            let mut out = Vec::new();
+            let (x, y) = (toml::Value::Table(x), toml::Value::Table(y));
+            walk("", Some(&x), Some(&y), &mut out);
+            out
+        }
+        _ => vec!["(the whole file)".to_string()],
+    }
+}
+
 /// Join shard stores (in any order) into one store ordered by global host index.
 pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError> {
     use crate::io::store::check_complete;
@@ -861,12 +923,52 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
         .0
         .clone();
     for (m, p) in &metas {
-        if m.config_toml != first.config_toml || m.master_seed != first.master_seed {
+        if m.master_seed != first.master_seed {
             return Err(RunError::Input(format!(
-                "{}: a different configuration or seed than {}",
+                "{}: master seed {} differs from {}'s ({}): shards of one run share its seed",
                 p.display(),
-                metas[0].1.display()
+                m.master_seed,
+                metas[0].1.display(),
+                first.master_seed
             )));
+        }
+        if m.config_toml == first.config_toml {
+            continue;
+        }
+        // configurations that differ in comments or layout, or only in settings that do not
+        // change the hosts, are the same run (a walkthrough's comment added between two
+        // shards' jobs refused the merge without saying why); anything else is named
+        let keys = config_differences(&first.config_toml, &m.config_toml);
+        let grows_hosts = |k: &String| !HOST_NEUTRAL_KEYS.iter().any(|n| key_under(k, n));
+        let shown = |ks: &[String]| {
+            let mut s = ks.iter().take(6).cloned().collect::<Vec<_>>().join(", ");
+            if ks.len() > 6 {
+                s += &format!(" and {} more", ks.len() - 6);
+            }
+            s
+        };
+        if keys.iter().any(grows_hosts) {
+            let hosts: Vec<String> = keys.iter().filter(|k| grows_hosts(k)).cloned().collect();
+            return Err(RunError::Input(format!(
+                "{}: a different configuration than {}: {} differ{}; shards of one run must \
+                 grow their hosts from the same configuration: re-run this shard with the \
+                 other's",
+                p.display(),
+                metas[0].1.display(),
+                shown(&hosts),
+                if hosts.len() == 1 { "s" } else { "" }
+            )));
+        }
+        if !keys.is_empty() {
+            eprintln!(
+                "note: {} differs from {} only in settings that do not change the hosts ({}); \
+                 the merged store keeps {}'s (test with others through `retinue infall \
+                 --config FILE`)",
+                p.display(),
+                metas[0].1.display(),
+                shown(&keys),
+                metas[0].1.display()
+            );
         }
     }
     // ... from the same input files (the same configuration may name a transfer table whose
@@ -1015,4 +1117,28 @@ fn join_stores(atomic: &AtomicPath, meta: &StoreMeta, inputs: &[PathBuf]) -> Res
             .map_err(e)?;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{config_differences, key_under};
+
+    /// The keys two configurations differ in, through tables and arrays of tables; comments
+    /// and layout do not count.
+    #[test]
+    fn configuration_differences_by_key() {
+        let a = "[run]\nmaster_seed = 1 # one\n\n[[cosmology]]\npreset = \"planck18\"\n\n\
+                 [[cosmology]]\npreset = \"planck18\"\nm_wdm_kev = 3.0\n";
+        let b = "[run]\nmaster_seed   =   1\n[[cosmology]]\npreset = \"planck18\"\n\
+                 [[cosmology]]\npreset = \"planck18\"\nm_wdm_kev = 2.5\n[tests]\ndraws = 9\n";
+        assert_eq!(
+            config_differences(a, b),
+            vec!["cosmology[1].m_wdm_kev".to_string(), "tests".to_string()]
+        );
+        assert!(config_differences(a, &format!("{a}\n# later\n")).is_empty());
+        assert_eq!(config_differences(a, "[run"), vec!["(the whole file)"]);
+        assert!(key_under("tests", "tests") && key_under("tests.draws", "tests"));
+        assert!(!key_under("tests_x", "tests") && !key_under("run.samples", "run.sample"));
+        assert!(key_under("run.sample_columns", "run.sample_columns"));
+    }
 }

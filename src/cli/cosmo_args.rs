@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::CliError;
-use retinue::config::{cosmology_from_file, CosmologySection};
+use retinue::config::{cosmology_from_file_labelled, CosmologySection};
 use retinue::cosmology::PRESET_NAMES;
 use retinue::{Cosmology, LinearTheory};
 
@@ -17,6 +17,10 @@ pub struct CosmoArgs {
     /// Read the [cosmology] table of a run config (TOML).
     #[arg(long, value_name = "FILE", conflicts_with = "preset")]
     pub config: Option<PathBuf>,
+    /// With --config holding several [[cosmology]] tables: the label of the one to read (as
+    /// the run names its cells, e.g. "planck18 m_wdm_kev=3 filter=sharp-k"); default the first.
+    #[arg(long, value_name = "LABEL", requires = "config")]
+    pub cosmology: Option<String>,
     /// H0 / (100 km/s/Mpc), in (0.2, 1.5].
     #[arg(long, allow_negative_numbers = true)]
     pub h: Option<f64>,
@@ -63,7 +67,14 @@ impl CosmoArgs {
         filter: Option<&str>,
     ) -> Result<(CosmologySection, bool), CliError> {
         let mut s = match &self.config {
-            Some(path) => cosmology_from_file(path).map_err(|e| CliError::Usage(e.to_string()))?,
+            Some(path) => {
+                let (s, note) = cosmology_from_file_labelled(path, self.cosmology.as_deref())
+                    .map_err(|e| CliError::Usage(e.to_string()))?;
+                if let Some(n) = note {
+                    eprintln!("note: {n}");
+                }
+                s
+            }
             None => CosmologySection::default(),
         };
         let from_file = self.config.is_some();

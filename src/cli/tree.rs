@@ -23,6 +23,10 @@ The file holds /nodes, /main_branch and /accretions (columns in docs/output-form
 pub struct TreeArgs {
     #[command(flatten)]
     pub cosmo: CosmoArgs,
+    /// Window of sigma(M) the trees are grown with: top-hat (default) or sharp-k (for warm dark
+    /// matter).
+    #[arg(long)]
+    pub filter: Option<String>,
     /// Host mass at --z-final, Msun (physical), in the definition of --mass-definition.
     #[arg(long, allow_negative_numbers = true)]
     pub mass: f64,
@@ -89,7 +93,13 @@ pub fn run(a: TreeArgs) -> Result<(), CliError> {
             a.out.display()
         )));
     }
-    let lt = a.cosmo.linear_theory(None, None, None)?;
+    let lt = a.cosmo.linear_theory(None, None, a.filter.as_deref())?;
+    if lt.options().m_wdm_kev.is_some() && lt.options().filter == retinue::linear::Filter::TopHat {
+        eprintln!(
+            "warning: warm dark matter with the top-hat filter: the tree keeps spurious small \
+             haloes below the half-mode mass; add --filter sharp-k"
+        );
+    }
     let mdef = MassDefinition::parse(&a.mass_definition).ok_or_else(|| {
         CliError::Usage(format!(
             "--mass-definition = {} is not allowed: expected one of {}",
@@ -181,6 +191,7 @@ pub fn run(a: TreeArgs) -> Result<(), CliError> {
     let elapsed = t0.elapsed();
     let meta = TreeMeta {
         cosmology_toml: toml::to_string(&lt.cosmology().params).unwrap_or_default(),
+        linear_toml: toml::to_string(lt.options()).unwrap_or_default(),
         pch08_toml: toml::to_string(&p).unwrap_or_default(),
         seed: a.seed,
         host_index: a.host_index,

@@ -43,6 +43,17 @@ pub struct ConfigProblems(pub Vec<InvalidValue>);
 /// one of a sweep's `[[cosmology]]` list). Every bad key or value of the table is reported at
 /// once, as for a run configuration.
 pub fn cosmology_from_file(path: &std::path::Path) -> Result<CosmologySection, ConfigProblems> {
+    cosmology_from_file_labelled(path, None).map(|(s, _)| s)
+}
+
+/// The cosmology of a run configuration `path` whose label (`label`, or the label made from
+/// its preset and overrides, as the run names its cells) is `label`; without a label, the
+/// first. With several `[[cosmology]]` tables and no label, the note names the one taken and
+/// the others (a walkthrough's sweep was read as its first cosmology without a word).
+pub fn cosmology_from_file_labelled(
+    path: &std::path::Path,
+    label: Option<&str>,
+) -> Result<(CosmologySection, Option<String>), ConfigProblems> {
     /// Only the cosmology: other tables are not looked at.
     #[derive(serde::Deserialize)]
     struct CosmologyOnly {
@@ -58,14 +69,51 @@ pub fn cosmology_from_file(path: &std::path::Path) -> Result<CosmologySection, C
     let (parsed, mut problems) =
         parse_collecting::<CosmologyOnly>(&text, &path.display().to_string());
     match parsed.and_then(|c| c.cosmology) {
-        Some(c) if problems.is_empty() => match c.to_vec().into_iter().next() {
-            Some(first) => Ok(first),
-            None => Err(ConfigProblems(vec![InvalidValue::new(
-                "cosmology",
-                "[]",
-                format!("{} has an empty list of cosmologies", path.display()),
-            )])),
-        },
+        Some(c) if problems.is_empty() => {
+            let all = c.to_vec();
+            let labels: Vec<String> = all.iter().map(|s| s.display_label()).collect();
+            let listed = || {
+                labels
+                    .iter()
+                    .map(|l| format!("\"{l}\""))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            };
+            match label {
+                Some(want) => match labels.iter().position(|l| l == want) {
+                    Some(k) => Ok((all[k].clone(), None)),
+                    None => Err(ConfigProblems(vec![InvalidValue::new(
+                        "--cosmology",
+                        want,
+                        format!(
+                            "{} has no cosmology of that label: {}",
+                            path.display(),
+                            listed()
+                        ),
+                    )])),
+                },
+                None => match all.first() {
+                    Some(first) => Ok((
+                        first.clone(),
+                        (all.len() > 1).then(|| {
+                            format!(
+                                "{} has {} cosmologies ({}); this uses the first, \"{}\" \
+                                 (choose another with --cosmology LABEL)",
+                                path.display(),
+                                all.len(),
+                                listed(),
+                                labels[0]
+                            )
+                        }),
+                    )),
+                    None => Err(ConfigProblems(vec![InvalidValue::new(
+                        "cosmology",
+                        "[]",
+                        format!("{} has an empty list of cosmologies", path.display()),
+                    )])),
+                },
+            }
+        }
         Some(_) => Err(ConfigProblems(problems)),
         None => {
             if problems.is_empty() {

@@ -11,6 +11,9 @@ use crate::trees::{HostHistory, MergerTree};
 #[derive(Debug, Clone)]
 pub struct TreeMeta {
     pub cosmology_toml: String,
+    /// The linear theory's choices (transfer function, filter, warm dark matter, collapse
+    /// threshold) as TOML.
+    pub linear_toml: String,
     pub pch08_toml: String,
     pub seed: u64,
     pub host_index: u32,
@@ -52,6 +55,7 @@ fn write_inner(
     set_str_attr(&f, "format", "retinue merger tree, version 1")?;
     set_str_attr(&f, "crate_version", env!("CARGO_PKG_VERSION"))?;
     set_str_attr(&f, "cosmology", &meta.cosmology_toml)?;
+    set_str_attr(&f, "linear", &meta.linear_toml)?;
     set_str_attr(&f, "pch08", &meta.pch08_toml)?;
     set_str_attr(&f, "generator", &meta.generator)?;
     set_str_attr(&f, "mass_definition", &meta.mass_definition)?;

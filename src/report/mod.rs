@@ -693,7 +693,7 @@ fn comparison(
         let p = |z: f64| {
             first
                 .and_then(|cv| at_z(cv, z))
-                .map(|s| format!("{:.3} [{:.3}, {:.3}]", s.mean, s.boot16, s.boot84))
+                .map(|s| mean_and_interval(s, 3))
                 .unwrap_or_else(|| "–".into())
         };
         let zmed = pooled
@@ -720,7 +720,7 @@ fn comparison(
         let bs = if bs.hosts == 0 {
             "– (hosts of pairs: see Pairs)".to_string()
         } else {
-            format!("{:.3} [{:.3}, {:.3}]", bs.mean, bs.boot16, bs.boot84)
+            mean_and_interval(bs, 3)
         };
         let _ = writeln!(
             m,
@@ -734,6 +734,30 @@ fn comparison(
         );
     }
     let _ = writeln!(m);
+}
+
+/// Fewer hosts than this: a mean's bootstrap interval is not printed (a percentile bootstrap
+/// over a handful of values collapses to nearly nothing; common practice puts the limit of a
+/// usable one near 20, and the tables' `hosts` column says how many there were).
+const FEW_HOSTS_FOR_INTERVAL: u64 = 5;
+
+/// A mean over hosts with its bootstrap 16–84% interval, `d` decimals: "0.036 [0.034, 0.046]";
+/// "0 (every one of 20 hosts)" when every host gave 0, whose percentile bootstrap would read
+/// as certainty; "1.000 (1 host)" when too few hosts gave a value for an interval (a review
+/// and a walkthrough found both printed as "[0.000, 0.000]" and "[1.000, 1.000]").
+fn mean_and_interval(s: &crate::stats::Spread, d: usize) -> String {
+    if s.hosts > 0 && s.mean == 0.0 && s.p84 == 0.0 {
+        format!("0 (every one of {} hosts)", s.hosts)
+    } else if s.hosts < FEW_HOSTS_FOR_INTERVAL {
+        format!(
+            "{:.d$} ({} host{}: no interval)",
+            s.mean,
+            s.hosts,
+            if s.hosts == 1 { "" } else { "s" }
+        )
+    } else {
+        format!("{:.d$} [{:.d$}, {:.d$}]", s.mean, s.boot16, s.boot84)
+    }
 }
 
 /// A probability as a percentage with two significant digits below 10% (0.0004 → "0.040%",
@@ -990,13 +1014,18 @@ pub fn markdown(
     for (clock, cv) in &res.all_of_n_mc {
         for z in [1.0, 2.0, 3.0, 4.0] {
             if let Some(s) = at_z(cv, z) {
+                let boot = if s.hosts > 0 && s.mean == 0.0 && s.p84 == 0.0 {
+                    format!("– (0 in every one of {} hosts)", s.hosts)
+                } else if s.hosts < FEW_HOSTS_FOR_INTERVAL {
+                    format!("– ({} hosts)", s.hosts)
+                } else {
+                    format!("{:.4}–{:.4}", s.boot16, s.boot84)
+                };
                 let _ = writeln!(
                     m,
-                    "| {} | {z} | {:.4} | {:.4}–{:.4} | {:.4}–{:.4} |",
+                    "| {} | {z} | {:.4} | {boot} | {:.4}–{:.4} |",
                     clock.name(),
                     s.mean,
-                    s.boot16,
-                    s.boot84,
                     s.p16,
                     s.p84
                 );
@@ -1016,7 +1045,7 @@ pub fn markdown(
     few.dedup();
     let _ = writeln!(
         m,
-        "\nThe last column of `all_of_n.csv`, `fraction_of_n.csv`, `quenching_delay.csv`, `phase_space_matches.csv` and `backsplash.csv`, `hosts`, counts the hosts a row's mean rests on (for N drawn satellites, those with at least N candidates).{}",
+        "\nThe last column of `all_of_n.csv`, `fraction_of_n.csv`, `quenching_delay.csv`, `phase_space_matches.csv` and `backsplash.csv`, `hosts`, counts the hosts a row's mean rests on (for N drawn satellites, those with at least N candidates). Hosts with more candidates are the more massive ones, so as N grows the rows of `fraction_of_n.csv` (and the tests of a larger sample) rest on an ever heavier mix of hosts: compare rows of different N within one cell (the cell rows), not only over all hosts.{}",
         match (few.first(), few.last()) {
             (Some(a), Some(b)) => format!(
                 " In `fraction_of_n.csv` rows of N = {} rest on fewer than {FEW_HOSTS} hosts (over all hosts or in a cell): their bootstrap intervals understate the uncertainty, and they move most with the orbit tolerance (caveats).",
@@ -1056,7 +1085,7 @@ pub fn markdown(
         }
     }
     if !res.matches.is_empty() {
-        let _ = writeln!(m, "\n## Phase-space-matched objects\n\nMock satellites within ±{} kpc, ±{} km/s and ±{} dex of each object; probability that the match fell in before the object quenched (first host infall; the object's quenching time uncertain by its error, as in the delay test):\n", o.match_windows.dr_kpc, o.match_windows.dv_kms, o.match_windows.dlog_mstar);
+        let _ = writeln!(m, "\n## Phase-space-matched objects\n\nMock satellites of the selection within ±{} kpc, ±{} km/s and ±{} dex of each object; probability that the match fell in before the object quenched (first host infall; the object's quenching time uncertain by its error, as in the delay test):\n", o.match_windows.dr_kpc, o.match_windows.dv_kms, o.match_windows.dlog_mstar);
         let _ = writeln!(
             m,
             "| object | matches | P(infall before quenching) | hosts 16–84% |\n|---|---|---|---|"
@@ -1089,7 +1118,7 @@ pub fn markdown(
     if tested == 0 {
         let _ = writeln!(m, "\n## Backsplash\n\nNot computed: every host here belongs to a pair, and this test's field model knows one host only; the pair-region test (Pairs) counts the field dwarfs around pairs.");
     } else {
-        let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {}–{} Msun at {lo}–{hi} R_vir today (distinct haloes), the fraction that were once inside the host: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from {field_text}.{whose}\n",
+        let _ = writeln!(m, "\n## Backsplash\n\nAmong haloes with peak mass {}–{} Msun at {lo}–{hi} R_vir today (distinct haloes), the fraction that were once inside the host, the mean over hosts of each host's backsplash count over its count of backsplash plus field haloes: {:.3} (hosts 16–84%: {:.3}–{:.3}); {:.1} backsplash haloes per host from the orbits against {:.1} field haloes expected from {field_text}.{whose} The hosts' spread covers only the scatter of their backsplash counts: the field count is one expectation per cell, and the choice of field model moves the fractions more than that spread (in 1–2 R_vir 0.49–0.70 between the models and assumptions of `docs/validation.md`, against 0.59 at the default).\n",
         short_number(b.m_peak_msun[0]), short_number(b.m_peak_msun[1]), res.backsplash_fraction.mean, res.backsplash_fraction.p16, res.backsplash_fraction.p84, res.backsplash_count_mean, res.field_count_expected);
         let _ = writeln!(m, "| shell (R_vir) | fraction once inside | hosts 16–84% | backsplash per host | field expected per host |\n|---|---|---|---|---|");
         for sh in &res.backsplash_shells {
@@ -1517,7 +1546,7 @@ fn write_sample(g: &hdf5::Group, sample: &ObservedSample, path: &Path) -> hdf5::
 
 #[cfg(test)]
 mod tests {
-    use super::{delay_gyr, percent};
+    use super::{delay_gyr, mean_and_interval, percent};
 
     #[test]
     fn probabilities_and_delays_in_words() {
@@ -1528,5 +1557,31 @@ mod tests {
         assert_eq!(percent(0.25), "25%");
         assert_eq!(delay_gyr(f64::NAN), "none");
         assert_eq!(delay_gyr(2.25), "2.25");
+    }
+
+    /// All-zero means and means over too few hosts print no interval (review, walkthrough).
+    #[test]
+    fn intervals_only_where_they_mean_something() {
+        let s = |mean: f64, p84: f64, hosts: u64| crate::stats::Spread {
+            mean,
+            p84,
+            hosts,
+            boot16: mean * 0.9,
+            boot84: mean * 1.1,
+            ..crate::stats::Spread::NAN
+        };
+        assert_eq!(
+            mean_and_interval(&s(0.0, 0.0, 20), 3),
+            "0 (every one of 20 hosts)"
+        );
+        assert_eq!(
+            mean_and_interval(&s(1.0, 1.0, 1), 3),
+            "1.000 (1 host: no interval)"
+        );
+        assert_eq!(
+            mean_and_interval(&s(0.5, 0.6, 4), 2),
+            "0.50 (4 hosts: no interval)"
+        );
+        assert_eq!(mean_and_interval(&s(0.5, 0.6, 40), 2), "0.50 [0.45, 0.55]");
     }
 }

@@ -878,12 +878,10 @@ pub fn run_tests_raw(
                 for (h, &t0_h) in t0.iter().enumerate() {
                     let (mut k, mut early) = (0usize, 0.0f64);
                     for i in cat.rows(h) {
-                        let sel = &options.selection;
-                        let alive = sel.counts_status(cat, i)
-                            && cat.occupied[i]
-                            && (sel.survival == super::selection::Survival::Physical
-                                || !cat.t_disrupt_pericentre_gyr[i].is_finite());
-                        if alive
+                        // a match is a satellite of the selection, like every other test's
+                        // (review: its mass, magnitude and radius cuts were not applied, so
+                        // an object near R_vir matched mocks beyond it)
+                        if options.selection.passes(cat, h, i)
                             && (cat.r_kpc[i] - o.r_gc_kpc).abs() <= w.dr_kpc
                             && (cat.v_r_kms[i] - o.v_r_kms).abs() <= w.dv_kms
                             && (cat.mstar_msun[i].log10() - o.mstar_msun.log10()).abs()

@@ -282,6 +282,24 @@ fn quench_comparison_known_answer() {
         .unwrap();
     assert_eq!(m.4, 200);
     assert_eq!(m.3.mean, 1.0);
+    // matches are satellites of the selection (review: its cuts were not applied): with the
+    // satellites at 100 kpc = 0.36 R_vir and a selection beyond 0.5 R_vir, none matches
+    let mut outer = opts.clone();
+    outer.selection.r_over_rvir = [0.5, 1.0];
+    let res = run_tests(
+        std::slice::from_ref(&lt),
+        &GalaxyOptions::default(),
+        &cat,
+        &outer,
+        Some(&sample),
+        3,
+    );
+    let m = res
+        .matches
+        .iter()
+        .find(|m| m.0 == "a" && m.1 == Clock::FirstHostInfall)
+        .unwrap();
+    assert_eq!(m.4, 0);
 }
 
 /// Hosts with fewer candidates than N are reported, not silently dropped.
