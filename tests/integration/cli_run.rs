@@ -1182,6 +1182,8 @@ fn shipped_configs_are_valid() {
         let (code, out, err) = run_cli(&["check", p.to_str().unwrap()]);
         assert_eq!(code, 0, "{c}: {err}");
         assert!(out.contains("valid"), "{out}");
+        // and draws no warning of the tool's own (walkthrough: the sweep's resolution did)
+        assert!(!err.contains("warning"), "{c}: {err}");
         // and the run's rough size
         for what in [
             "size (rough",
