@@ -58,6 +58,19 @@ impl CosmologySection {
         let mut parts = vec![self.preset.clone().unwrap_or_else(|| "custom".into())];
         let num = |k: &str, v: Option<f64>| v.map(|x| format!("{k}={x}"));
         let text = |k: &str, v: &Option<String>| v.as_ref().map(|x| format!("{k}={x}"));
+        // a choice under its canonical name, so that two spellings of one choice ("sharpk",
+        // "SHARP-K") name one cell (a walkthrough's spellings made two cells, or refused a merge)
+        fn canonical<T: Serialize>(raw: &Option<String>, parse: impl Fn(&str) -> Option<T>) -> Option<String> {
+            raw.as_ref().map(|x| {
+                parse(x)
+                    .and_then(|k| toml::Value::try_from(k).ok())
+                    .and_then(|v| v.as_str().map(str::to_string))
+                    .unwrap_or_else(|| x.clone())
+            })
+        }
+        let transfer = canonical(&self.transfer, TransferKind::parse);
+        let filter = canonical(&self.filter, Filter::parse);
+        let delta_c = canonical(&self.delta_c, DeltaCModel::parse);
         parts.extend(
             [
                 num("h", self.h),
@@ -68,9 +81,10 @@ impl CosmologySection {
                 num("omega_k", self.omega_k),
                 num("w", self.w),
                 num("m_wdm_kev", self.m_wdm_kev),
-                text("transfer", &self.transfer),
-                text("filter", &self.filter),
-                text("delta_c", &self.delta_c),
+                text("transfer", &transfer),
+                text("filter", &filter),
+                num("sharp_k_c", self.sharp_k_c),
+                text("delta_c", &delta_c),
             ]
             .into_iter()
             .flatten(),
@@ -208,6 +222,16 @@ impl CosmologySection {
                 ));
             }
         }
+        if let (Some(u), false) = (
+            &self.transfer_table_k_unit,
+            options.transfer == TransferKind::Table,
+        ) {
+            problems.push(InvalidValue::new(
+                format!("{prefix}transfer_table_k_unit"),
+                u,
+                "is only used with transfer = \"table\"; set that too, or remove the key",
+            ));
+        }
         if let (Some(t), false) = (
             &self.transfer_table,
             options.transfer == TransferKind::Table,
@@ -230,6 +254,14 @@ impl CosmologySection {
         }
         if let Some(c) = self.sharp_k_c {
             options.sharp_k_c = c;
+            // (a walkthrough's sharp_k_c with the top-hat filter changed nothing, silently)
+            if options.filter != Filter::SharpK {
+                problems.push(InvalidValue::new(
+                    format!("{prefix}sharp_k_c"),
+                    c,
+                    "is only used with filter = \"sharp-k\"; set that too, or remove the key",
+                ));
+            }
         }
         options.m_wdm_kev = self.m_wdm_kev;
         if let Some(w) = &self.wdm_concentration {
@@ -277,6 +309,51 @@ mod tests {
             wdm_concentration: wc.map(str::to_string),
             ..Default::default()
         }
+    }
+
+    /// Two spellings of a choice name one cell; keys that would change nothing are refused
+    /// (walkthrough: `sharp_k_c` with the top-hat filter and `transfer_table_k_unit` without
+    /// a table passed silently, and "sharpk" made a cell of its own).
+    #[test]
+    fn labels_use_canonical_names_and_idle_keys_are_refused() {
+        let s = |filter: &str, transfer: &str| CosmologySection {
+            preset: Some("planck18".into()),
+            filter: Some(filter.into()),
+            transfer: Some(transfer.into()),
+            ..Default::default()
+        };
+        assert_eq!(
+            s("SHARPK", "EH98").display_label(),
+            s("sharp-k", "eh98").display_label()
+        );
+        assert_eq!(
+            s("tophat", "eh98").display_label(),
+            "planck18 transfer=eh98 filter=top-hat"
+        );
+        let with_c = CosmologySection {
+            sharp_k_c: Some(2.7),
+            ..s("sharp-k", "eh98")
+        };
+        assert!(with_c.display_label().ends_with("filter=sharp-k sharp_k_c=2.7"));
+        assert!(with_c.resolve("cosmology.", None).is_ok());
+        let e = CosmologySection {
+            sharp_k_c: Some(2.7),
+            ..s("top-hat", "eh98")
+        }
+        .resolve("cosmology.", None)
+        .unwrap_err();
+        assert_eq!(
+            e[0].to_string(),
+            "cosmology.sharp_k_c = 2.7 is not allowed: is only used with filter = \"sharp-k\"; \
+             set that too, or remove the key"
+        );
+        let e = CosmologySection {
+            transfer_table_k_unit: Some("h/Mpc".into()),
+            ..s("top-hat", "eh98")
+        }
+        .resolve("cosmology.", None)
+        .unwrap_err();
+        assert!(e[0].to_string().starts_with("cosmology.transfer_table_k_unit = h/Mpc"), "{e:?}");
     }
 
     /// `wdm_concentration`: bose16 by default under WDM; an unknown value names the key, the
