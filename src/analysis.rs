@@ -833,6 +833,34 @@ fn read_as_written(table: &mut toml::Table) -> Vec<String> {
             }
         }
     }
+    // keys refused since 2026-12-04 because they changed nothing: the run ignored them
+    let mut cosmologies: Vec<&mut toml::Table> = match table.get_mut("cosmology") {
+        Some(toml::Value::Table(t)) => vec![t],
+        Some(toml::Value::Array(a)) => a.iter_mut().filter_map(|v| v.as_table_mut()).collect(),
+        _ => Vec::new(),
+    };
+    for c in cosmologies.iter_mut() {
+        let is = |c: &toml::Table, key: &str, parse: &dyn Fn(&str) -> bool| {
+            c.get(key).and_then(|v| v.as_str()).is_some_and(parse)
+        };
+        let sharp = is(c, "filter", &|f| {
+            crate::linear::Filter::parse(f) == Some(crate::linear::Filter::SharpK)
+        });
+        let table_transfer = is(c, "transfer", &|t| {
+            crate::linear::TransferKind::parse(t) == Some(crate::linear::TransferKind::Table)
+        });
+        for (key, used) in [
+            ("sharp_k_c", sharp),
+            ("transfer_table_k_unit", table_transfer),
+        ] {
+            if !used && c.remove(key).is_some() {
+                notes.push(format!(
+                    "the stored configuration sets cosmology {key}, which the run did not use \
+                     (it is refused now); it is read without it"
+                ));
+            }
+        }
+    }
     if let Some(toml::Value::Table(t)) = at(table, &["tests", "preprocessing"]) {
         if t.is_empty() {
             notes.push(

@@ -60,7 +60,10 @@ impl CosmologySection {
         let text = |k: &str, v: &Option<String>| v.as_ref().map(|x| format!("{k}={x}"));
         // a choice under its canonical name, so that two spellings of one choice ("sharpk",
         // "SHARP-K") name one cell (a walkthrough's spellings made two cells, or refused a merge)
-        fn canonical<T: Serialize>(raw: &Option<String>, parse: impl Fn(&str) -> Option<T>) -> Option<String> {
+        fn canonical<T: Serialize>(
+            raw: &Option<String>,
+            parse: impl Fn(&str) -> Option<T>,
+        ) -> Option<String> {
             raw.as_ref().map(|x| {
                 parse(x)
                     .and_then(|k| toml::Value::try_from(k).ok())
@@ -334,7 +337,9 @@ mod tests {
             sharp_k_c: Some(2.7),
             ..s("sharp-k", "eh98")
         };
-        assert!(with_c.display_label().ends_with("filter=sharp-k sharp_k_c=2.7"));
+        assert!(with_c
+            .display_label()
+            .ends_with("filter=sharp-k sharp_k_c=2.7"));
         assert!(with_c.resolve("cosmology.", None).is_ok());
         let e = CosmologySection {
             sharp_k_c: Some(2.7),
@@ -353,7 +358,11 @@ mod tests {
         }
         .resolve("cosmology.", None)
         .unwrap_err();
-        assert!(e[0].to_string().starts_with("cosmology.transfer_table_k_unit = h/Mpc"), "{e:?}");
+        assert!(
+            e[0].to_string()
+                .starts_with("cosmology.transfer_table_k_unit = h/Mpc"),
+            "{e:?}"
+        );
     }
 
     /// `wdm_concentration`: bose16 by default under WDM; an unknown value names the key, the

@@ -415,6 +415,10 @@ fn stores_with_configuration_forms_refused_since_still_open() {
             "z_grid = [0.0, 0.5, 1.0, 2.0]",
             "z_grid = [2.0, 1.0, 0.5, 0.5, 0.0]",
         )
+        .replace(
+            "preset = \"planck18\"",
+            "preset = \"planck18\"\nsharp_k_c = 3.0\ntransfer_table_k_unit = \"h/Mpc\"",
+        )
         + "\n[tests.preprocessing]\n";
     {
         let f = hdf5::File::open_rw(&store).unwrap();
@@ -427,7 +431,9 @@ fn stores_with_configuration_forms_refused_since_still_open() {
     assert!(
         all.contains("tests.n_range has 3 values")
             && all.contains("tests.z_grid is not increasing")
-            && all.contains("[tests.preprocessing] is empty"),
+            && all.contains("[tests.preprocessing] is empty")
+            && all.contains("cosmology sharp_k_c, which the run did not use")
+            && all.contains("cosmology transfer_table_k_unit, which the run did not use"),
         "{all}"
     );
     let (code, _, err) = run_cli(&["plot", store.to_str().unwrap()]);
