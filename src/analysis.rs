@@ -617,7 +617,7 @@ pub fn sample_outside_selection(grid: &Grid, sample: &ObservedSample) -> Option<
     }
     Some(format!(
         "{} of the sample's {} objects lie outside [tests.selection] (stellar mass [{:e}, {:e}] \
-         Msun, M_V [{}, {}], r_over_rvir [{}, {}] of R_vir = {:.0}-{:.0} kpc): {}; the tests \
+         Msun, M_V [{}, {}], r_over_rvir [{}, {}] of R_vir = {}): {}; the tests \
          compare the sample with mock satellites of the selection, so match it to how the \
          sample was chosen",
         outside.len(),
@@ -628,8 +628,11 @@ pub fn sample_outside_selection(grid: &Grid, sample: &ObservedSample) -> Option<
         sel.m_v[1],
         sel.r_over_rvir[0],
         sel.r_over_rvir[1],
-        r_lo,
-        r_hi,
+        if (r_hi - r_lo).abs() < 0.5 {
+            format!("{r_lo:.0} kpc")
+        } else {
+            format!("{r_lo:.0}-{r_hi:.0} kpc")
+        },
         outside.join("; ")
     ))
 }

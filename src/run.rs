@@ -186,7 +186,12 @@ impl Grid {
         for (ci, lt) in self.theories.iter().enumerate() {
             let (lo, hi) = lt.sigma_table().mass_range_msun();
             let cell = if self.theories.len() > 1 {
-                format!(" of cosmology {} (the {}. [[cosmology]] table)", ci, ci + 1)
+                format!(
+                    " of cosmology \"{}\" ([[cosmology]] table {} of {})",
+                    self.config.cosmology_labels[ci],
+                    ci + 1,
+                    self.theories.len()
+                )
             } else {
                 String::new()
             };

@@ -618,8 +618,13 @@ fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
     }
     if !res.hosts_too_few.is_empty() {
         println!(
-            "{} hosts had fewer than {} candidates (listed in the store)",
+            "{} host{} had fewer than {} candidates (listed in the store)",
             res.hosts_too_few.len(),
+            if res.hosts_too_few.len() == 1 {
+                ""
+            } else {
+                "s"
+            },
             res.n_draw
         );
     }
@@ -1128,7 +1133,12 @@ pub fn merge(a: MergeArgs) -> Result<(), CliError> {
     guard_output(&a.out, &a.shards, a.overwrite, false)?;
     let _lock = writer_lock(&a.out, "retinue merge")?;
     let p = merge_stores(&a.shards, &a.out).map_err(run_err)?;
-    println!("merged {} shards into {}", a.shards.len(), p.display());
+    println!(
+        "merged {} shard{} into {}",
+        a.shards.len(),
+        if a.shards.len() == 1 { "" } else { "s" },
+        p.display()
+    );
     Ok(())
 }
 

@@ -193,7 +193,10 @@ impl EnvironmentSection {
                             "partner_mass_msun",
                             m,
                             (1e8..=1e16).contains(&m),
-                            "must be in [1e8, 1e16] Msun (host.mass_definition)",
+                            &format!(
+                                "must be in [1e8, 1e16] Msun (host.mass_definition){}",
+                                super::run::log_mass_hint(m)
+                            ),
                         );
                         Some(PartnerMass::Msun(m))
                     }

@@ -405,7 +405,7 @@ impl RunConfig {
                     problems.push(InvalidValue::new(
                         "host.mass_msun",
                         m,
-                        "must be in [1e8, 1e16] Msun",
+                        format!("must be in [1e8, 1e16] Msun{}", log_mass_hint(*m)),
                     ));
                 } else {
                     mass_bins.push(MassBin::Fixed(*m));
@@ -558,7 +558,9 @@ impl RunConfig {
             eps2: t.eps2,
         };
         problems.extend(pch08.problems("trees."));
-        if !(t.resolution_msun > 0.0 && t.resolution_msun < 0.5 * m_min) {
+        // (against host masses that are themselves allowed: a log-mass typo in host.mass_msun
+        // gave "below half the smallest host mass (6.04e0 Msun)" here too)
+        if m_min >= 1e8 && !(t.resolution_msun > 0.0 && t.resolution_msun < 0.5 * m_min) {
             problems.push(InvalidValue::new(
                 "trees.resolution_msun",
                 t.resolution_msun,
@@ -789,9 +791,41 @@ impl SizeEstimate {
 /// The most hosts one run may hold (run.hosts_per_cell x cosmologies x host masses).
 pub const MAX_HOSTS: u64 = 100_000_000;
 
+/// For a mass that looks like the log10 of one (5 to 17), the reading it suggests: a
+/// walkthrough wrote `mass_msun = 12.08` (the sample reader already says as much).
+pub(crate) fn log_mass_hint(m: f64) -> String {
+    if (5.0..=17.0).contains(&m) {
+        format!(
+            " (if it is log10 of the mass, give the mass itself: 10^{m} = {:.3e})",
+            10f64.powf(m)
+        )
+    } else {
+        String::new()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A host mass written as its log10 is named as such, and the resolution is not then
+    /// compared with it (walkthrough: "below half the smallest host mass (6.04e0 Msun)").
+    #[test]
+    fn a_log_host_mass_is_named_and_not_cascaded() {
+        let e = RunConfig::parse_str(
+            "[cosmology]\npreset = \"planck18\"\n[host]\nmass_msun = 12.08\n",
+            None,
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(
+            e.contains("host.mass_msun = 12.08 is not allowed")
+                && e.contains("10^12.08 = 1.202e12")
+                && !e.contains("trees.resolution_msun"),
+            "{e}"
+        );
+        assert_eq!(log_mass_hint(1e12), "");
+    }
 
     /// The default host is one default host; a sweep scales by (mass / resolution)^0.9; the
     /// wall time divides the CPU time among the threads, never among more than the hosts.

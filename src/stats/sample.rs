@@ -1126,12 +1126,15 @@ impl ObservedSample {
                 None => format!("{src}: {p}"),
             })
             .collect();
-        // objects with a key that could not be read are reported above, not checked further
-        let unreadable: Vec<usize> = parse_problems
+        // keys that could not be read, per object: reported above; the object's other values
+        // are still checked, leaving out what the missing keys would have said (a walkthrough
+        // saw an object's second problem only once the first was fixed)
+        let unreadable: Vec<(usize, String)> = parse_problems
             .iter()
             .filter_map(|p| {
                 let rest = p.key.strip_prefix("object[")?;
-                rest.split_once(']')?.0.parse().ok()
+                let (i, key) = rest.split_once(']')?;
+                Some((i.parse().ok()?, key.trim_start_matches('.').to_string()))
             })
             .collect();
         let mut objects = Vec::new();
@@ -1140,7 +1143,19 @@ impl ObservedSample {
             let label = |k: &str| k.to_string();
             let line_of = |i: usize| heads.get(i).copied().unwrap_or(0);
             for (i, raw) in s.object.iter().enumerate() {
-                if unreadable.contains(&i) {
+                let bad: Vec<&str> = unreadable
+                    .iter()
+                    .filter(|(j, _)| *j == i)
+                    .map(|(_, k)| k.as_str())
+                    .collect();
+                if !bad.is_empty() {
+                    if let Err(p) = resolve(raw, opts, &label) {
+                        lines.extend(
+                            p.into_iter()
+                                .filter(|p| !bad.iter().any(|k| k.is_empty() || mentions(p, k)))
+                                .map(|p| format!("{src}: line {}: object[{i}]: {p}", line_of(i))),
+                        );
+                    }
                     continue;
                 }
                 match resolve(raw, opts, &label) {
@@ -1343,6 +1358,17 @@ mod tests {
             "s.csv: line 2: r_gc_kpc = `far` is not a number\n\
              s.csv: line 2: object `A`: t_quench_lookback_gyr = 20 is not allowed: must be in \
              [0, 14] Gyr"
+        );
+        // the TOML form too: an unreadable value does not hide its object's other problems
+        let toml = "[[object]]\nid = \"A\"\nmstar_msun = \"lots\"\nr_gc_kpc = 50\nv_r_kms = 1\n\
+                    t_quench_lookback_gyr = 20\nt_quench_err_gyr = 1\n";
+        let e = ObservedSample::parse_toml(toml, "s.toml", &SampleOptions::default()).unwrap_err();
+        assert_eq!(
+            e,
+            "s.toml: line 3: object[0].mstar_msun = \"lots\" is not allowed: wrong type (invalid \
+             type: string \"lots\", expected a number)\n\
+             s.toml: line 1: object[0]: object `A`: t_quench_lookback_gyr = 20 is not allowed: \
+             must be in [0, 14] Gyr"
         );
         // a whole-word match: an unreadable m_v does not hide a problem of another key
         assert!(mentions("m_v is missing", "m_v"));
