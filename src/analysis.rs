@@ -234,6 +234,9 @@ pub fn select_cells(
 pub struct Target {
     pub name: String,
     pub dir: PathBuf,
+    /// What an interrupt from the moment the analysis is stored until its report is written
+    /// should say (None: leave the command's note as it is).
+    pub stored_note: Option<String>,
 }
 
 impl Target {
@@ -242,6 +245,7 @@ impl Target {
         Self {
             name: "run".into(),
             dir: report_dir(store),
+            stored_note: None,
         }
     }
 }
@@ -340,6 +344,9 @@ pub fn analyse(
         },
     )
     .map_err(|e| AnalysisError::Failed(e.to_string()))?;
+    if let Some(n) = &target.stored_note {
+        crate::io::set_interrupt_note(n.clone());
+    }
     let dir = target.dir.clone();
     let n_sub = crate::io::store::n_subhaloes_in(store)
         .map_err(|e| AnalysisError::Failed(e.to_string()))?;

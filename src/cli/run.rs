@@ -1132,6 +1132,13 @@ fn grid_shape(cfg: &RunConfig) -> String {
 pub fn merge(a: MergeArgs) -> Result<(), CliError> {
     guard_output(&a.out, &a.shards, a.overwrite, false)?;
     let _lock = writer_lock(&a.out, "retinue merge")?;
+    // (a walkthrough's Ctrl-C during merge printed nothing)
+    retinue::io::set_interrupt_note(format!(
+        "{} was not written (a merged store is put in place only once complete; a store \
+         already there stays as it was) and the shards are unchanged; run the same command \
+         again",
+        a.out.display()
+    ));
     let p = merge_stores(&a.shards, &a.out).map_err(run_err)?;
     println!(
         "merged {} shard{} into {}",
@@ -1438,10 +1445,14 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
         );
     }
     let cells = analysis::select_cells(&grid, &a.cells).map_err(analysis_err)?;
+    // (a walkthrough was told the store held the analysis "only if it was complete")
     retinue::io::set_interrupt_note(format!(
-        "{} holds analysis {name:?} only if it was complete (the store is never left half \
-         written); if the same command then says the name exists, its report was not written: \
-         add --overwrite to write it",
+        "analysis {name:?} was not stored: {} is as it was; run the same command again",
+        a.store.display()
+    ));
+    let stored_note = Some(format!(
+        "analysis {name:?} is stored in {}, but its report was not finished: the same \
+         command with --overwrite writes it",
         a.store.display()
     ));
     analyse(
@@ -1450,7 +1461,11 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
         sample.as_ref(),
         sample_path.as_deref(),
         cells.as_deref(),
-        &Target { name, dir },
+        &Target {
+            name,
+            dir,
+            stored_note,
+        },
     )
     .map(|_| ())
 }

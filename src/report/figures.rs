@@ -1677,6 +1677,16 @@ pub fn write_figures(
             ),
         });
     }
+    // (a walkthrough's warm/cold sweep saw the suppression vanish in the pooled curve)
+    let mut cosmologies: Vec<u16> = inp.cells.iter().map(|c| c.cosmology).collect();
+    cosmologies.sort_unstable();
+    cosmologies.dedup();
+    if cosmologies.len() > 1 {
+        mf.notes = vec![format!(
+            "all {} cosmologies pooled: draw one with plot --cell cosmology=LABEL",
+            cosmologies.len()
+        )];
+    }
     if !mf.pts.is_empty() {
         save(dir, "subhalo_mass_function", &mf, &mut out)?;
     }

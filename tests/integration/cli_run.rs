@@ -2703,12 +2703,12 @@ fn interrupted_infall_leaves_no_partial_copy() {
     let before = std::fs::read(&store).unwrap();
     let partial = d.path().join(".s.h5.partial");
     // start `infall`, send `signal` as soon as its copy appears, and wait for its end
-    let interrupt = |signal: i32| -> std::process::ExitStatus {
+    let interrupt = |signal: i32| -> (std::process::ExitStatus, String) {
         let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
             .env("HDF5_USE_FILE_LOCKING", "FALSE")
             .args(["infall", s, "--name", "late"])
             .stdout(std::process::Stdio::null())
-            .stderr(std::process::Stdio::null())
+            .stderr(std::process::Stdio::piped())
             .spawn()
             .unwrap();
         let t0 = std::time::Instant::now();
@@ -2721,16 +2721,25 @@ fn interrupted_infall_leaves_no_partial_copy() {
         }
         // SAFETY: a signal to our own child, which has not been waited for yet
         assert_eq!(unsafe { libc::kill(child.id() as i32, signal) }, 0);
-        child.wait().unwrap()
+        let out = child.wait_with_output().unwrap();
+        (
+            out.status,
+            String::from_utf8_lossy(&out.stderr).into_owned(),
+        )
     };
-    let st = interrupt(libc::SIGINT);
+    let (st, err) = interrupt(libc::SIGINT);
     assert_eq!(st.signal(), Some(libc::SIGINT), "{st}");
+    // it says what happened (walkthrough: "only if it was complete" did not say whether)
+    assert!(
+        err.contains("analysis \"late\" was not stored") && err.contains("is as it was"),
+        "{err}"
+    );
     assert!(!partial.exists(), "Ctrl-C left {}", partial.display());
     assert!(
         std::fs::read(&store).unwrap() == before,
         "the store changed"
     );
-    let st = interrupt(libc::SIGKILL);
+    let (st, _) = interrupt(libc::SIGKILL);
     assert_eq!(st.signal(), Some(libc::SIGKILL), "{st}");
     assert!(partial.exists());
     // the next infall removes it once it holds the store's lock, before anything else (here
