@@ -1011,6 +1011,7 @@ pub fn markdown(
         m,
         "| clock | z | mean | bootstrap 16–84% | hosts 16–84% |\n|---|---|---|---|---|"
     );
+    let mut carried_by_few = false;
     for (clock, cv) in &res.all_of_n_mc {
         for z in [1.0, 2.0, 3.0, 4.0] {
             if let Some(s) = at_z(cv, z) {
@@ -1021,16 +1022,25 @@ pub fn markdown(
                 } else {
                     format!("{:.4}–{:.4}", s.boot16, s.boot84)
                 };
+                carried_by_few |= s.mean > s.p84;
                 let _ = writeln!(
                     m,
-                    "| {} | {z} | {:.4} | {boot} | {:.4}–{:.4} |",
+                    "| {} | {z} | {:.4} | {boot} | {:.4}–{:.4}{} |",
                     clock.name(),
                     s.mean,
                     s.p16,
-                    s.p84
+                    s.p84,
+                    if s.mean > s.p84 { " †" } else { "" }
                 );
             }
         }
+    }
+    // (review: a mean above the hosts' 84th percentile read as typical of the hosts)
+    if carried_by_few {
+        let _ = writeln!(
+            m,
+            "\n† The mean lies above the hosts' 84th percentile: fewer than one host in six gives as much, and those few carry the mean; most hosts give less."
+        );
     }
     // rows of the fraction-of-N table whose mean rests on few hosts (those with at least N
     // candidates): a bootstrap over fewer than about 20 values understates the uncertainty
