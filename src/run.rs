@@ -893,6 +893,10 @@ fn config_differences(a: &str, b: &str) -> Vec<String> {
                 }
             }
             (x, y) if x == y => {}
+            // 1e9 and 1000000000 are one number (review)
+            (Some(Value::Integer(i)), Some(Value::Float(f)))
+            | (Some(Value::Float(f)), Some(Value::Integer(i)))
+                if *i as f64 == *f => {}
             _ => out.push(path.to_string()),
         }
     }
@@ -922,6 +926,9 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
             p.clone(),
         ));
     }
+    // in shard order from here, so that what the merged store keeps of differing host-neutral
+    // settings is the first shard's whatever the order of the arguments (review)
+    metas.sort_by_key(|(m, _)| m.shard.0);
     let first = metas
         .first()
         .ok_or_else(|| RunError::Input("no stores to merge".into()))?
@@ -967,12 +974,14 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
         if !keys.is_empty() {
             eprintln!(
                 "note: {} differs from {} only in settings that do not change the hosts ({}); \
-                 the merged store keeps {}'s (test with others through `retinue infall \
-                 --config FILE`)",
+                 the merged store keeps those of {} (shard {}/{}; test with others through \
+                 `retinue infall --config FILE`)",
                 p.display(),
                 metas[0].1.display(),
                 shown(&keys),
-                metas[0].1.display()
+                metas[0].1.display(),
+                first.shard.0 + 1,
+                first.shard.1
             );
         }
     }
@@ -1050,7 +1059,7 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
             missing.join(", ")
         )));
     }
-    let mut meta = first.clone();
+    let mut meta = metas[0].0.clone();
     meta.shard = (0, 1);
     let atomic = AtomicPath::new(out);
     let shards: Vec<PathBuf> = metas.iter().map(|(_, p)| p.clone()).collect();
@@ -1142,6 +1151,7 @@ mod tests {
         );
         assert!(config_differences(a, &format!("{a}\n# later\n")).is_empty());
         assert_eq!(config_differences(a, "[run"), vec!["(the whole file)"]);
+        assert!(config_differences("[t]\nr = 1e9\n", "[t]\nr = 1000000000\n").is_empty());
         assert!(key_under("tests", "tests") && key_under("tests.draws", "tests"));
         assert!(!key_under("tests_x", "tests") && !key_under("run.samples", "run.sample"));
         assert!(key_under("run.sample_columns", "run.sample_columns"));

@@ -118,6 +118,13 @@ impl CosmoArgs {
         }
         if let Some(f) = filter {
             s.filter = Some(f.to_string());
+            // the file's sharp_k_c belongs to its own sharp-k filter: with another window
+            // chosen here it is dropped, not refused as if the file were wrong (review)
+            if retinue::linear::Filter::parse(f) != Some(retinue::linear::Filter::SharpK)
+                && s.sharp_k_c.take().is_some()
+            {
+                eprintln!("note: --filter {f}: the configuration's sharp_k_c is not used");
+            }
         }
         Ok((s, from_file))
     }

@@ -549,12 +549,7 @@ fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
         let cell = |z: f64| {
             c.x.iter()
                 .position(|&x| (x - z).abs() < 1e-9)
-                .map(|k| {
-                    format!(
-                        "{:.3} [{:.3}, {:.3}]",
-                        c.spread[k].mean, c.spread[k].boot16, c.spread[k].boot84
-                    )
-                })
+                .map(|k| retinue::report::mean_and_interval(&c.spread[k], 3))
                 .unwrap_or_else(|| "-".into())
         };
         println!(

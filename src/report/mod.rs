@@ -136,7 +136,7 @@ fn table_rows(
         for k in 0..c.x.len() {
             let _ = writeln!(
                 out[2],
-                "{cell},{},{},{},{},{},{},{},{},{},{}",
+                "{cell},{},{},{},{},{},{},{},{},{},{},{}",
                 clock.name(),
                 c.x[k],
                 spread_row(&c.spread[k]),
@@ -146,6 +146,7 @@ fn table_rows(
                 lim.boot025,
                 lim.boot975,
                 lim.host_median,
+                lim.hosts_reaching,
                 c.spread[k].hosts
             );
         }
@@ -302,7 +303,7 @@ pub fn write_tables(
         put(
             "quenching_delay.csv",
             format!(
-                "{head},clock,delay_gyr,{},largest_delay_allowed_gyr,largest_delay_boot16_gyr,largest_delay_boot84_gyr,largest_delay_boot025_gyr,largest_delay_boot975_gyr,largest_delay_host_median_gyr,hosts\n{r2}",
+                "{head},clock,delay_gyr,{},largest_delay_allowed_gyr,largest_delay_boot16_gyr,largest_delay_boot84_gyr,largest_delay_boot025_gyr,largest_delay_boot975_gyr,largest_delay_host_median_gyr,hosts_reaching_largest_delay,hosts\n{r2}",
                 spread_header()
             ),
         )?;
@@ -745,8 +746,10 @@ const FEW_HOSTS_FOR_INTERVAL: u64 = 5;
 /// "0 (every one of 20 hosts)" when every host gave 0, whose percentile bootstrap would read
 /// as certainty; "1.000 (1 host)" when too few hosts gave a value for an interval (a review
 /// and a walkthrough found both printed as "[0.000, 0.000]" and "[1.000, 1.000]").
-fn mean_and_interval(s: &crate::stats::Spread, d: usize) -> String {
-    if s.hosts > 0 && s.mean == 0.0 && s.p84 == 0.0 {
+pub fn mean_and_interval(s: &crate::stats::Spread, d: usize) -> String {
+    if s.hosts == 0 {
+        "– (no host)".to_string()
+    } else if s.mean == 0.0 && s.p84 == 0.0 {
         format!("0 (every one of {} hosts)", s.hosts)
     } else if s.hosts < FEW_HOSTS_FOR_INTERVAL {
         format!(
@@ -794,6 +797,9 @@ fn delay_with_range(lim: &crate::stats::DelayLimit, grid: &[f64]) -> String {
     } else {
         format!("{:.2} Gyr", lim.tau)
     };
+    if lim.hosts() < FEW_HOSTS_FOR_INTERVAL {
+        return format!("{head} ({} hosts: no range)", lim.hosts());
+    }
     format!(
         "{head} [{}–{}]",
         delay_gyr(lim.boot16),
@@ -820,17 +826,21 @@ pub fn conclusion_lines(res: &AnalysisResults, o: &TestOptions) -> Vec<String> {
             let hosts = curve.spread.iter().map(|s| s.hosts).max().unwrap_or(0);
             let first = curve.x.first().copied().unwrap_or(f64::NAN);
             let last = curve.x.last().copied().unwrap_or(f64::NAN);
-            let boot = format!(
-                "bootstrap over hosts: {}–{} Gyr (16–84%), {}–{} Gyr (2.5–97.5%)",
-                delay_gyr(lim.boot16),
-                delay_gyr(lim.boot84),
-                delay_gyr(lim.boot025),
-                delay_gyr(lim.boot975)
-            );
+            let boot = if lim.hosts() < FEW_HOSTS_FOR_INTERVAL {
+                format!("{} hosts only: no bootstrap range", lim.hosts())
+            } else {
+                format!(
+                    "bootstrap over hosts: {}–{} Gyr (16–84%), {}–{} Gyr (2.5–97.5%)",
+                    delay_gyr(lim.boot16),
+                    delay_gyr(lim.boot84),
+                    delay_gyr(lim.boot025),
+                    delay_gyr(lim.boot975)
+                )
+            };
             let alone = format!(
                 "{} of the {} hosts allow it on their own; the median host's largest delay is {}",
                 lim.hosts_reaching,
-                lim.per_host.len(),
+                lim.hosts(),
                 match lim.host_median {
                     t if t.is_nan() => "none".to_string(),
                     t => format!("{t:.2} Gyr"),
@@ -1070,27 +1080,39 @@ pub fn markdown(
         let _ = writeln!(m, "With an environmental quenching delay τ, a draw of {n} mock satellites paired at random with the observed objects explains them all if every object's infall lookback time minus τ is at least its quenching lookback time (perturbed by its error). The largest τ of the grid at which the mean of that probability over hosts is at least {:.2} (1 − confidence, confidence = {:.2}), with the same largest τ in bootstrap resamples of the hosts (16–84% and 2.5–97.5%), and each host's own largest τ (its median, and how many hosts reach the pooled value). The mean over hosts can rest on a minority of them: compare the median host.\n", 1.0 - o.confidence, o.confidence);
         let _ = writeln!(m, "| clock | largest τ | bootstrap 16–84% | bootstrap 2.5–97.5% | median host | hosts reaching it |\n|---|---|---|---|---|---|");
         for (clock, curve, lim) in &res.quench {
+            // (review: with no host tested the table said "excluded" where the conclusion
+            // said "not tested")
+            if !curve.spread.iter().any(|s| s.hosts > 0) {
+                let _ = writeln!(
+                    m,
+                    "| {} | not tested: no host has {n} candidates | – | – | – | – |",
+                    clock.name()
+                );
+                continue;
+            }
             let start = curve.x.first().copied().unwrap_or(0.0);
             let txt = if lim.tau.is_nan() {
                 format!("none on the grid (even τ = {start:.2} Gyr is excluded)")
             } else {
                 format!("{:.2} Gyr", lim.tau)
             };
+            let few = lim.hosts() < FEW_HOSTS_FOR_INTERVAL;
+            let range = |a: f64, b: f64| {
+                if few {
+                    "–".to_string()
+                } else {
+                    format!("{}–{} Gyr", delay_gyr(a), delay_gyr(b))
+                }
+            };
             let _ = writeln!(
                 m,
-                "| {} | {txt} | {}–{} Gyr | {}–{} Gyr | {} | {} of {} |",
+                "| {} | {txt} | {} | {} | {} | {} of {} |",
                 clock.name(),
-                delay_gyr(lim.boot16),
-                delay_gyr(lim.boot84),
-                delay_gyr(lim.boot025),
-                delay_gyr(lim.boot975),
+                range(lim.boot16, lim.boot84),
+                range(lim.boot025, lim.boot975),
                 delay_gyr(lim.host_median),
-                if lim.tau.is_nan() {
-                    0
-                } else {
-                    lim.hosts_reaching
-                },
-                lim.per_host.len()
+                lim.hosts_reaching,
+                lim.hosts()
             );
         }
     }
@@ -1593,5 +1615,9 @@ mod tests {
             "0.50 (4 hosts: no interval)"
         );
         assert_eq!(mean_and_interval(&s(0.5, 0.6, 40), 2), "0.50 [0.45, 0.55]");
+        assert_eq!(
+            mean_and_interval(&s(f64::NAN, f64::NAN, 0), 2),
+            "– (no host)"
+        );
     }
 }

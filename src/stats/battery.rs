@@ -401,18 +401,21 @@ pub struct DelayLimit {
     pub tau: f64,
     /// The same in bootstrap resamples of the hosts: 16th, 84th, 2.5th and 97.5th
     /// percentiles, each a delay of the grid (NaN: none in at least that share of the
-    /// resamples).
+    /// resamples). Resamples that hold no tested host are left out, as in `Spread`.
     pub boot16: f64,
     pub boot84: f64,
     pub boot025: f64,
     pub boot975: f64,
-    /// Each tested host's own largest allowed delay (NaN: none), in host order; kept so that
-    /// results on chunks of hosts can be merged.
-    pub per_host: Vec<f64>,
-    /// The median of `per_host` (NaN: none for at least half of the hosts).
+    /// How many tested hosts have each largest allowed delay of their own: entry 0 counts
+    /// the hosts that allow none, entry k + 1 those whose largest is the grid's k-th delay
+    /// (a count per grid point, so that memory does not grow with the hosts and chunks of
+    /// hosts merge by adding).
+    pub host_counts: Vec<u64>,
+    /// The median host's own largest allowed delay (the lower median for an even number of
+    /// hosts; NaN: none for at least half of them).
     pub host_median: f64,
-    /// Hosts whose own largest allowed delay is at least `tau`.
-    pub hosts_reaching: usize,
+    /// Hosts whose own largest allowed delay is at least `tau` (0 when `tau` is none).
+    pub hosts_reaching: u64,
 }
 
 impl DelayLimit {
@@ -424,6 +427,26 @@ impl DelayLimit {
             .filter(|(_, &v)| v >= floor)
             .map(|(t, _)| *t)
             .fold(f64::NAN, f64::max)
+    }
+
+    /// The index in `host_counts` of a largest allowed delay: 0 for none, k + 1 for the
+    /// grid's k-th delay.
+    fn slot(x: &[f64], tau: f64) -> usize {
+        x.iter().position(|&t| t == tau).map_or(0, |k| k + 1)
+    }
+
+    /// Count the hosts' own largest allowed delays (rows of probabilities on the grid `x`).
+    pub fn count_hosts(x: &[f64], rows: &[Vec<f64>], floor: f64) -> Vec<u64> {
+        let mut counts = vec![0u64; x.len() + 1];
+        for p in rows {
+            counts[Self::slot(x, Self::largest_allowed(x, p, floor))] += 1;
+        }
+        counts
+    }
+
+    /// The number of tested hosts.
+    pub fn hosts(&self) -> u64 {
+        self.host_counts.iter().sum()
     }
 
     /// The nearest-rank q-quantile of delays of the grid, "none" (NaN) ranking below every
@@ -449,23 +472,42 @@ impl DelayLimit {
         s
     }
 
-    /// Fill in the summary from the curve's bootstrap accumulator and the per-host values.
+    /// Fill in the summary from the curve's bootstrap accumulator and the host counts.
     fn summarise(&mut self, x: &[f64], spread: &[Spread], acc: &StreamingSpread, floor: f64) {
         let means: Vec<f64> = spread.iter().map(|s| s.mean).collect();
         self.tau = Self::largest_allowed(x, &means, floor);
-        let boot = Self::sorted((0..acc.resamples()).map(|b| {
-            let p: Vec<f64> = (0..x.len())
-                .map(|k| acc.resample_mean(b, k).unwrap_or(f64::NAN))
-                .collect();
-            Self::largest_allowed(x, &p, floor)
+        // (a resample that drew no tested host has no mean: it is left out, as `Spread`
+        // leaves it out, instead of counting as "none"; review)
+        let boot = Self::sorted((0..acc.resamples()).filter_map(|b| {
+            let p: Vec<Option<f64>> = (0..x.len()).map(|k| acc.resample_mean(b, k)).collect();
+            p.iter().any(Option::is_some).then(|| {
+                let p: Vec<f64> = p.into_iter().map(|v| v.unwrap_or(f64::NAN)).collect();
+                Self::largest_allowed(x, &p, floor)
+            })
         }));
         self.boot16 = Self::quantile_of_delays(&boot, 0.16);
         self.boot84 = Self::quantile_of_delays(&boot, 0.84);
         self.boot025 = Self::quantile_of_delays(&boot, 0.025);
         self.boot975 = Self::quantile_of_delays(&boot, 0.975);
-        let hosts = Self::sorted(self.per_host.iter().copied());
-        self.host_median = Self::quantile_of_delays(&hosts, 0.5);
-        self.hosts_reaching = self.per_host.iter().filter(|&&t| t >= self.tau).count();
+        // the lower median from the counts: the first slot where the running count reaches
+        // half of the hosts, rounded up
+        let n = self.hosts();
+        self.host_median = f64::NAN;
+        if n > 0 {
+            let mut run = 0;
+            for (slot, c) in self.host_counts.iter().enumerate() {
+                run += c;
+                if 2 * run >= n {
+                    self.host_median = if slot == 0 { f64::NAN } else { x[slot - 1] };
+                    break;
+                }
+            }
+        }
+        self.hosts_reaching = if self.tau.is_nan() {
+            0
+        } else {
+            self.host_counts[Self::slot(x, self.tau)..].iter().sum()
+        };
     }
 }
 
@@ -546,8 +588,10 @@ impl<'a> Merger<'a> {
             a.per_host.append(&mut b.per_host);
             a.hosts.append(&mut b.hosts);
         }
-        for (a, b) in m.quench.iter_mut().zip(p.quench.iter_mut()) {
-            a.2.per_host.append(&mut b.2.per_host);
+        for (a, b) in m.quench.iter_mut().zip(p.quench.iter()) {
+            for (x, y) in a.2.host_counts.iter_mut().zip(&b.2.host_counts) {
+                *x += y;
+            }
         }
         m.candidates.extend(p.candidates);
         m.candidate_hosts.extend(p.candidate_hosts);
@@ -838,10 +882,7 @@ pub fn run_tests_raw(
                 .collect();
             let floor = 1.0 - options.confidence;
             let limit = DelayLimit {
-                per_host: per
-                    .iter()
-                    .map(|p| DelayLimit::largest_allowed(&options.delay_grid_gyr, p, floor))
-                    .collect(),
+                host_counts: DelayLimit::count_hosts(&options.delay_grid_gyr, &per, floor),
                 tau: f64::NAN,
                 ..Default::default()
             };
@@ -1181,5 +1222,46 @@ mod delay_limit_tests {
         assert_eq!(DelayLimit::quantile_of_delays(&s, 0.84), 1.0);
         assert_eq!(DelayLimit::quantile_of_delays(&s, 1.0), 1.5);
         assert!(DelayLimit::quantile_of_delays(&[], 0.5).is_nan());
+        // host counts: none, none, 0.5, 1.0 -> slots 0, 0, 2, 3
+        let rows = vec![
+            vec![0.01, 0.0, 0.0, 0.0],
+            vec![0.04, 0.0, 0.0, 0.0],
+            vec![0.3, 0.2, 0.01, 0.0],
+            vec![0.3, 0.2, 0.1, 0.0],
+        ];
+        assert_eq!(
+            DelayLimit::count_hosts(&x, &rows, 0.05),
+            vec![2, 0, 1, 1, 0]
+        );
+    }
+
+    /// A bootstrap resample that drew no host has no largest delay: it is left out, not
+    /// counted as "none" (review: with one host, 37% of resamples are empty and the 16% point
+    /// was always "none").
+    #[test]
+    fn empty_resamples_do_not_count_as_none() {
+        use crate::stats::intervals::StreamingSpread;
+        let x = [0.0, 0.5, 1.0];
+        let row = vec![0.3, 0.2, 0.01];
+        let weights = [0u32, 1, 0, 2, 1, 0, 1, 1, 3, 0];
+        let mut acc = StreamingSpread::new(x.len(), weights.len());
+        acc.add(&row, &weights);
+        let spread = acc.finish();
+        let mut lim = DelayLimit {
+            host_counts: DelayLimit::count_hosts(&x, std::slice::from_ref(&row), 0.05),
+            ..Default::default()
+        };
+        lim.summarise(&x, &spread, &acc, 0.05);
+        assert_eq!(lim.tau, 0.5);
+        for t in [
+            lim.boot16,
+            lim.boot84,
+            lim.boot025,
+            lim.boot975,
+            lim.host_median,
+        ] {
+            assert_eq!(t, 0.5);
+        }
+        assert_eq!((lim.hosts(), lim.hosts_reaching), (1, 1));
     }
 }

@@ -94,10 +94,12 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
         }
         let out = d.path().join("m.h5");
         let _ = std::fs::remove_file(&out);
+        // the edited shard first: the merged store keeps shard 1's configuration whatever the
+        // order of the arguments (review: it kept the first argument's)
         let (code, _, err) = run_cli(&[
             "merge",
-            &o("s1.h5"),
             s2x.to_str().unwrap(),
+            &o("s1.h5"),
             &o("s3.h5"),
             "--out",
             out.to_str().unwrap(),
@@ -106,6 +108,13 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
         assert!(err.contains(says), "{err}");
         if ok {
             assert_eq!(a, store_tables(&out), "merged with an edited configuration");
+            let config = |p: &std::path::Path| -> String {
+                let f = hdf5::File::open(p).unwrap();
+                let s: hdf5::types::VarLenUnicode =
+                    f.attr("config").unwrap().read_scalar().unwrap();
+                s.as_str().to_string()
+            };
+            assert_eq!(config(&out), config(&d.path().join("s1.h5")));
         }
     }
     // a missing shard is named

@@ -417,7 +417,8 @@ fn stores_with_configuration_forms_refused_since_still_open() {
         )
         .replace(
             "preset = \"planck18\"",
-            "preset = \"planck18\"\nsharp_k_c = 3.0\ntransfer_table_k_unit = \"h/Mpc\"",
+            "preset = \"planck18\"\nsharp_k_c = 3.0\ntransfer_table_k_unit = \"h/Mpc\"\n\
+             transfer = \"EH98\"",
         )
         + "\n[tests.preprocessing]\n";
     {
@@ -433,7 +434,10 @@ fn stores_with_configuration_forms_refused_since_still_open() {
             && all.contains("tests.z_grid is not increasing")
             && all.contains("[tests.preprocessing] is empty")
             && all.contains("cosmology sharp_k_c, which the run did not use")
-            && all.contains("cosmology transfer_table_k_unit, which the run did not use"),
+            && all.contains("cosmology transfer_table_k_unit, which the run did not use")
+            && all.contains(
+                "spells cosmology transfer \"EH98\"; its cell is now labelled with \"eh98\""
+            ),
         "{all}"
     );
     let (code, _, err) = run_cli(&["plot", store.to_str().unwrap()]);

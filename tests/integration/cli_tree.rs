@@ -305,4 +305,23 @@ fn linear_from_a_sweep_names_its_cosmology() {
     ]);
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("tepid") && err.contains("\"warm\""), "{err}");
+    // --filter top-hat on a configuration whose sharp-k cell sets sharp_k_c: the file's
+    // sharp_k_c is dropped with a note, not refused as if the file were wrong (review)
+    let sk = crate::common::write(
+        dir.path(),
+        "sk.toml",
+        "[cosmology]\npreset = \"planck18\"\nfilter = \"sharp-k\"\nsharp_k_c = 2.7\n",
+    );
+    let (code, _, err) = run_cli(&[
+        "linear",
+        "sigma",
+        "--config",
+        sk.to_str().unwrap(),
+        "--filter",
+        "top-hat",
+        "--masses",
+        "1e9",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(err.contains("sharp_k_c is not used"), "{err}");
 }

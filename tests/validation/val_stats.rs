@@ -272,8 +272,8 @@ fn quench_comparison_known_answer() {
     ] {
         assert_eq!(t, 1.99);
     }
-    assert_eq!(tau_max.hosts_reaching, tau_max.per_host.len());
-    assert!(!tau_max.per_host.is_empty());
+    assert!(tau_max.hosts() > 0);
+    assert_eq!(tau_max.hosts_reaching, tau_max.hosts());
     // phase-space matches: every satellite sits at 100 kpc, v_r = 0, 1e6 Msun
     let m = res
         .matches
