@@ -1100,6 +1100,8 @@ pub fn markdown(
             let range = |a: f64, b: f64| {
                 if few {
                     "–".to_string()
+                } else if a.is_nan() && b.is_nan() {
+                    "none".to_string()
                 } else {
                     format!("{}–{} Gyr", delay_gyr(a), delay_gyr(b))
                 }
