@@ -2451,50 +2451,39 @@ fn conclusions_say_when_untested_or_unbounded() {
         "recent.csv",
         "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\nA,1e6,50,10,0.1,0.05\nB,1e6,80,-20,0.1,0.05\n",
     );
-    let tests = write(
-        d.path(),
-        "grid.toml",
-        "[tests]\ndelay_grid_gyr = [0.0, 0.5, 1.0]\n",
-    );
-    let out = run_ok(&[
-        "infall",
-        st,
-        "--sample",
-        recent.to_str().unwrap(),
-        "--config",
-        tests.to_str().unwrap(),
-        "--name",
-        "recent",
-    ]);
-    let line = out
-        .lines()
-        .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
-        .unwrap_or_default();
+    // the sample tested with delay grid `grid` as analysis `name`: the first-infall line of
+    // the conclusion, and the whole output
+    let with_grid = |name: &str, grid: &str| -> (String, String) {
+        let tests = write(
+            d.path(),
+            &format!("{name}.toml"),
+            &format!("[tests]\ndelay_grid_gyr = {grid}\n"),
+        );
+        let out = run_ok(&[
+            "infall",
+            st,
+            "--sample",
+            recent.to_str().unwrap(),
+            "--config",
+            tests.to_str().unwrap(),
+            "--name",
+            name,
+        ]);
+        let line = out
+            .lines()
+            .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
+            .unwrap_or_default()
+            .to_string();
+        (line, out)
+    };
+    let (line, out) = with_grid("recent", "[0.0, 0.5, 1.0]");
     assert!(
         line.contains("at least 1.00 Gyr, the end of the delay grid") && !line.contains("up to"),
         "{out}"
     );
     // a grid that does not start at 0 (review: "even with no delay" was printed although
     // P(0) was 0.175): the conclusion names the grid's smallest delay
-    let late = write(
-        d.path(),
-        "late.toml",
-        "[tests]\ndelay_grid_gyr = [13.0, 13.5]\n",
-    );
-    let out = run_ok(&[
-        "infall",
-        st,
-        "--sample",
-        recent.to_str().unwrap(),
-        "--config",
-        late.to_str().unwrap(),
-        "--name",
-        "late",
-    ]);
-    let line = out
-        .lines()
-        .find(|l| l.starts_with("  - ") && l.contains("(first_host_infall):"))
-        .unwrap_or_default();
+    let (line, out) = with_grid("late", "[13.0, 13.5]");
     assert!(
         line.contains("excluded by these mocks")
             && line.contains("the smallest delay of the grid (`delay_grid_gyr`), 13.00 Gyr")
