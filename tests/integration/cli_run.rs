@@ -2690,41 +2690,11 @@ fn interrupted_infall_leaves_no_partial_copy() {
     let store = d.path().join("s.h5");
     let s = store.to_str().unwrap();
     run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
-    // padding, so that the copy takes long enough to be caught: 128 MB of zeros
-    {
-        let f = hdf5::File::open_rw(&store).unwrap();
-        f.new_dataset_builder()
-            .with_data(&vec![0u8; 128 << 20])
-            .create("padding")
-            .unwrap();
-    }
+    pad_store(&store);
     let before = std::fs::read(&store).unwrap();
     let partial = d.path().join(".s.h5.partial");
-    // start `infall`, send `signal` as soon as its copy appears, and wait for its end
-    let interrupt = |signal: i32| -> (std::process::ExitStatus, String) {
-        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
-            .env("HDF5_USE_FILE_LOCKING", "FALSE")
-            .args(["infall", s, "--name", "late"])
-            .stdout(std::process::Stdio::null())
-            .stderr(std::process::Stdio::piped())
-            .spawn()
-            .unwrap();
-        let t0 = std::time::Instant::now();
-        while !partial.exists() {
-            if let Some(st) = child.try_wait().unwrap() {
-                panic!("infall ended ({st}) before its copy was seen");
-            }
-            assert!(t0.elapsed().as_secs() < 60, "no copy after 60 s");
-            std::thread::sleep(std::time::Duration::from_micros(200));
-        }
-        // SAFETY: a signal to our own child, which has not been waited for yet
-        assert_eq!(unsafe { libc::kill(child.id() as i32, signal) }, 0);
-        let out = child.wait_with_output().unwrap();
-        (
-            out.status,
-            String::from_utf8_lossy(&out.stderr).into_owned(),
-        )
-    };
+    let interrupt =
+        |signal: i32| interrupt_at_copy(&["infall", s, "--name", "late"], &partial, signal);
     let (st, err) = interrupt(libc::SIGINT);
     assert_eq!(st.signal(), Some(libc::SIGINT), "{st}");
     // it says what happened (walkthrough: "only if it was complete" did not say whether)
@@ -2757,6 +2727,47 @@ fn interrupted_infall_leaves_no_partial_copy() {
     assert!(!partial.exists());
 }
 
+/// Pad a store with 128 MB of zeros, so that the copy a command makes of it takes long
+/// enough to be caught.
+fn pad_store(store: &Path) {
+    let f = hdf5::File::open_rw(store).unwrap();
+    f.new_dataset_builder()
+        .with_data(&vec![0u8; 128 << 20])
+        .create("padding")
+        .unwrap();
+}
+
+/// Start retinue with `args`, send `signal` as soon as the copy `partial` appears, and wait
+/// for its end: its exit status and its standard error.
+fn interrupt_at_copy(
+    args: &[&str],
+    partial: &Path,
+    signal: i32,
+) -> (std::process::ExitStatus, String) {
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
+        .env("HDF5_USE_FILE_LOCKING", "FALSE")
+        .args(args)
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let t0 = std::time::Instant::now();
+    while !partial.exists() {
+        if let Some(st) = child.try_wait().unwrap() {
+            panic!("{args:?} ended ({st}) before its copy was seen");
+        }
+        assert!(t0.elapsed().as_secs() < 60, "no copy after 60 s");
+        std::thread::sleep(std::time::Duration::from_micros(200));
+    }
+    // SAFETY: a signal to our own child, which has not been waited for yet
+    assert_eq!(unsafe { libc::kill(child.id() as i32, signal) }, 0);
+    let out = child.wait_with_output().unwrap();
+    (
+        out.status,
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
 /// Ctrl-C while `run` tests a complete store says so: the store holds every host and the
 /// command that runs only the tests (a walkthrough was told its hosts were kept in a parts
 /// directory that no longer existed).
@@ -2767,31 +2778,13 @@ fn run_interrupted_in_its_tests_says_the_store_is_complete() {
     let store = d.path().join("s.h5");
     let s = store.to_str().unwrap();
     run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
-    // padding, so that the tests' copy of the store takes long enough to be caught
-    {
-        let f = hdf5::File::open_rw(&store).unwrap();
-        f.new_dataset_builder()
-            .with_data(&vec![0u8; 128 << 20])
-            .create("padding")
-            .unwrap();
-    }
+    pad_store(&store);
     let partial = d.path().join(".s.h5.partial");
-    let child = std::process::Command::new(env!("CARGO_BIN_EXE_retinue"))
-        .env("HDF5_USE_FILE_LOCKING", "FALSE")
-        .args(["run", cfg.to_str().unwrap(), "--out", s, "--resume"])
-        .stdout(std::process::Stdio::null())
-        .stderr(std::process::Stdio::piped())
-        .spawn()
-        .unwrap();
-    let t0 = std::time::Instant::now();
-    while !partial.exists() {
-        assert!(t0.elapsed().as_secs() < 60, "no copy after 60 s");
-        std::thread::sleep(std::time::Duration::from_micros(200));
-    }
-    // SAFETY: a signal to our own child, which has not been waited for yet
-    assert_eq!(unsafe { libc::kill(child.id() as i32, libc::SIGINT) }, 0);
-    let out = child.wait_with_output().unwrap();
-    let err = String::from_utf8_lossy(&out.stderr);
+    let (_, err) = interrupt_at_copy(
+        &["run", cfg.to_str().unwrap(), "--out", s, "--resume"],
+        &partial,
+        libc::SIGINT,
+    );
     assert!(
         err.contains("holds every host of the run; only its tests and report were interrupted")
             && err.contains("--resume` runs them")
