@@ -736,6 +736,8 @@ struct LineFig {
     vline: Option<VLine>,
     /// Markers and their legend entry.
     markers: Option<(String, Vec<(f64, f64)>)>,
+    /// More lines, each with its legend entry (colours after the main line's).
+    extra: Vec<(String, Vec<(f64, f64)>)>,
     legend_pos: SeriesLabelPosition,
 }
 
@@ -755,8 +757,19 @@ impl LineFig {
             notes: Vec::new(),
             vline: None,
             markers: None,
+            extra: Vec::new(),
             legend_pos: SeriesLabelPosition::UpperRight,
         }
+    }
+
+    /// Add a line with its legend entry (points kept as `new` keeps them).
+    fn add_line(&mut self, label: String, pts: Vec<(f64, f64)>) {
+        let log = self.log;
+        let pts = pts
+            .into_iter()
+            .filter(|(a, b)| a.is_finite() && b.is_finite() && (!log || (*a > 0.0 && *b > 0.0)))
+            .collect();
+        self.extra.push((label, pts));
     }
 
     fn draw_in<'a, DB, X, Y>(&self, ch: &mut ChartContext<'a, DB, Cartesian2d<X, Y>>) -> Res
@@ -807,6 +820,14 @@ impl LineFig {
                 PathElement::new(vec![(x, y), (x + 20, y)], col.stroke_width(2))
             });
         }
+        for (k, (label, pts)) in self.extra.iter().enumerate() {
+            let c = COLORS[(k + 1) % COLORS.len()];
+            ch.draw_series(LineSeries::new(pts.clone(), c.stroke_width(2)))?
+                .label(label.clone())
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 20, y)], c.stroke_width(2))
+                });
+        }
         if let Some((label, pts)) = &self.markers {
             let mc = COLORS[1];
             ch.draw_series(
@@ -817,7 +838,7 @@ impl LineFig {
             .legend(move |(x, y)| Circle::new((x + 10, y), 5, ShapeStyle::from(mc).filled()));
         }
         draw_notes(ch, &self.notes)?;
-        if self.line_label.is_some() || self.markers.is_some() {
+        if self.line_label.is_some() || self.markers.is_some() || !self.extra.is_empty() {
             draw_legend(ch, self.legend_pos.clone())?;
         }
         Ok(())
@@ -832,6 +853,7 @@ impl Figure for LineFig {
         let xs = self
             .pts
             .iter()
+            .chain(self.extra.iter().flat_map(|e| e.1.iter()))
             .map(|p| p.0)
             .chain(self.markers.iter().flat_map(|m| m.1.iter().map(|p| p.0)))
             .chain(self.vline.iter().flat_map(|v| {
@@ -845,6 +867,7 @@ impl Figure for LineFig {
         let (y0, y1) = self
             .pts
             .iter()
+            .chain(self.extra.iter().flat_map(|e| e.1.iter()))
             .map(|p| p.1)
             .chain(self.markers.iter().flat_map(|m| m.1.iter().map(|p| p.1)))
             .fold((f64::INFINITY, f64::NEG_INFINITY), |a, y| {
@@ -1644,21 +1667,41 @@ pub fn write_figures(
     }
 
     // mass function: mean N(> m_bound / M_host) per host inside R_vir, with the resolution
-    let nh = fig.n_hosts.max(1) as f64;
-    let lm = &fig.log_mass_ratio;
-    let mut pts = Vec::new();
-    let mut acc = 0.0;
-    for k in (0..lm.counts.len()).rev() {
-        acc += lm.counts[k];
-        pts.push((10f64.powf(lm.lo + lm.width() * k as f64), acc / nh));
-    }
+    let cumulative = |lm: &crate::stats::intervals::Binned, hosts: usize| {
+        let nh = hosts.max(1) as f64;
+        let mut pts = Vec::new();
+        let mut acc = 0.0;
+        for k in (0..lm.counts.len()).rev() {
+            acc += lm.counts[k];
+            pts.push((10f64.powf(lm.lo + lm.width() * k as f64), acc / nh));
+        }
+        pts
+    };
     let mut mf = LineFig::new(
         "surviving subhaloes inside R_vir".into(),
         "m_bound / M_host",
         "N(> m) per host",
-        pts,
+        cumulative(&fig.log_mass_ratio, fig.n_hosts),
         true,
     );
+    // a sweep's cosmologies each get their own line beside the pooled one (a walkthrough saw
+    // warm dark matter's suppression vanish in the pooled curve)
+    let per_cosmology: Vec<(usize, &(crate::stats::intervals::Binned, usize))> = fig
+        .log_mass_ratio_by_cosmology
+        .iter()
+        .enumerate()
+        .filter(|(_, (_, n))| *n > 0)
+        .collect();
+    if per_cosmology.len() > 1 {
+        mf.line_label = Some("all cosmologies".into());
+        for (k, (lm, n)) in per_cosmology {
+            let name = inp
+                .labels
+                .and_then(|l| l.cosmologies.get(k).cloned())
+                .unwrap_or_else(|| format!("cosmology {k}"));
+            mf.add_line(name, cumulative(lm, *n));
+        }
+    }
     let hm = &fig.host_m_vir_msun;
     let m_host = hm.geometric_mean();
     if m_host.is_finite() && inp.resolution_msun > 0.0 {
@@ -1676,16 +1719,6 @@ pub fn write_figures(
                 }
             ),
         });
-    }
-    // (a walkthrough's warm/cold sweep saw the suppression vanish in the pooled curve)
-    let mut cosmologies: Vec<u16> = inp.cells.iter().map(|c| c.cosmology).collect();
-    cosmologies.sort_unstable();
-    cosmologies.dedup();
-    if cosmologies.len() > 1 {
-        mf.notes = vec![format!(
-            "all {} cosmologies pooled: draw one with plot --cell cosmology=LABEL",
-            cosmologies.len()
-        )];
     }
     if !mf.pts.is_empty() {
         save(dir, "subhalo_mass_function", &mf, &mut out)?;

@@ -28,6 +28,10 @@ pub struct FigureData {
     /// Surviving subhaloes inside R_vir per bin of log10(m_bound/M_host): 70 bins over
     /// [-7, 0].
     pub log_mass_ratio: Binned,
+    /// The same per cosmology (indexed by the hosts' cosmology index), with its number of
+    /// hosts: a sweep's curves apart (a walkthrough saw warm dark matter's suppression vanish
+    /// in the pooled curve).
+    pub log_mass_ratio_by_cosmology: Vec<(Binned, usize)>,
     /// The selected satellites per bin of r/R_vir: 50 bins over [0, 1], or over the
     /// selection's radius range when that reaches beyond R_vir (`for_selection`).
     pub r_over_rvir: Binned,
@@ -88,6 +92,7 @@ impl Default for FigureData {
         Self {
             peri_kpc: Binned::new(0.0, 300.0, 60),
             log_mass_ratio: Binned::new(-7.0, 0.0, 70),
+            log_mass_ratio_by_cosmology: Vec::new(),
             r_over_rvir: Binned::new(0.0, 1.0, 50),
             n_hosts: 0,
             host_m_vir_msun: HostRange::default(),
@@ -107,14 +112,25 @@ impl FigureData {
         }
     }
 
+    /// The per-cosmology mass function of cosmology `k`, made when first needed.
+    fn by_cosmology(&mut self, k: u16) -> &mut (Binned, usize) {
+        let k = k as usize;
+        if self.log_mass_ratio_by_cosmology.len() <= k {
+            self.log_mass_ratio_by_cosmology
+                .resize(k + 1, (Binned::new(-7.0, 0.0, 70), 0));
+        }
+        &mut self.log_mass_ratio_by_cosmology[k]
+    }
+
     fn add(&mut self, c: &Catalog, h: usize, i: usize, selection: &Selection) {
         if !c.alive(i) {
             return;
         }
         let rv = c.host_r_vir_kpc[h];
         if c.r_kpc[i] < rv {
-            self.log_mass_ratio
-                .add((c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10());
+            let x = (c.m_bound_msun[i] / c.host_m_vir_msun[h]).log10();
+            self.log_mass_ratio.add(x);
+            self.by_cosmology(c.host_cosmology[h]).0.add(x);
         }
         if selection.passes(c, h, i) {
             self.peri_kpc.add(c.r_peri_min_kpc[i]);
@@ -276,6 +292,7 @@ pub fn for_each_chunk_where(
                 .push(region_counts(b, &c, h).unwrap_or_default());
             out.offset.push(out.branch.len());
             fig.n_hosts += 1;
+            fig.by_cosmology(c.host_cosmology[h]).1 += 1;
             fig.host_m_vir_msun.add(c.host_m_vir_msun[h]);
             fig.host_r_vir_kpc.add(c.host_r_vir_kpc[h]);
         }

@@ -2388,6 +2388,27 @@ fn warm_dark_matter_runs_carry_their_caveat() {
     assert!(caveat.contains("(warm: 3 keV)"), "{caveat}");
     assert!(!caveat.contains("cold:"), "{caveat}");
     assert!(caveat.contains("Schneider et al. 2012") && caveat.contains("Lovell et al. 2014"));
+    // the subhalo mass function figure has a line per cosmology beside the pooled one
+    // (walkthrough: the pooled curve hid the suppression): its data, cosmology by cosmology,
+    // add up to the pooled data, and the warm cosmology has fewer small subhaloes
+    let cosmo = retinue::Cosmology::from_preset("planck18").unwrap();
+    let (_, fig) = retinue::stats::compact::compact_from_store(
+        &store,
+        &retinue::stats::TestOptions::default(),
+        None,
+        &[&cosmo, &cosmo],
+        &retinue::galaxies::GalaxyOptions::default(),
+        1,
+    )
+    .unwrap();
+    let per = &fig.log_mass_ratio_by_cosmology;
+    assert_eq!(per.iter().map(|p| p.1).collect::<Vec<_>>(), vec![2, 2]);
+    let total = |b: &retinue::stats::intervals::Binned| b.counts.iter().sum::<f64>();
+    assert_eq!(
+        total(&per[0].0) + total(&per[1].0),
+        total(&fig.log_mass_ratio)
+    );
+    assert!(total(&per[1].0) < total(&per[0].0), "warm {:?}", per);
     // one cell tested alone (`--cell`), reported under its own name
     let alone = |spec: &str, name: &str| -> String {
         let (code, _, err) = run_cli(&[
