@@ -873,18 +873,11 @@ fn read_as_written(table: &mut toml::Table) -> Vec<String> {
         // cells are labelled with each choice's canonical name since 2026-12-04: an older
         // store's cell may have another name now (review)
         if !c.contains_key("label") {
-            fn name_of<T: serde::Serialize>(k: Option<T>) -> Option<String> {
-                toml::Value::try_from(k?).ok()?.as_str().map(str::to_string)
-            }
             for key in ["filter", "transfer", "delta_c"] {
                 let Some(raw) = c.get(key).and_then(|v| v.as_str()) else {
                     continue;
                 };
-                let canon = match key {
-                    "filter" => name_of(crate::linear::Filter::parse(raw)),
-                    "transfer" => name_of(crate::linear::TransferKind::parse(raw)),
-                    _ => name_of(crate::linear::DeltaCModel::parse(raw)),
-                };
+                let canon = crate::config::cosmology::canonical_choice(key, raw);
                 if let Some(canon) = canon.filter(|k| k != raw) {
                     notes.push(format!(
                         "the stored configuration spells cosmology {key} \"{raw}\"; its cell \

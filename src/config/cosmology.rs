@@ -48,6 +48,21 @@ pub struct CosmologySection {
     pub delta_c: Option<String>,
 }
 
+/// The canonical name of a spelling of a choice of the `[cosmology]` table (`filter`,
+/// `transfer` or `delta_c`): "SHARPK" gives "sharp-k". None: not such a key, or a spelling
+/// it does not take.
+pub(crate) fn canonical_choice(key: &str, raw: &str) -> Option<String> {
+    fn name_of<T: Serialize>(k: Option<T>) -> Option<String> {
+        toml::Value::try_from(k?).ok()?.as_str().map(str::to_string)
+    }
+    match key {
+        "filter" => name_of(Filter::parse(raw)),
+        "transfer" => name_of(TransferKind::parse(raw)),
+        "delta_c" => name_of(DeltaCModel::parse(raw)),
+        _ => None,
+    }
+}
+
 impl CosmologySection {
     /// The cell's name: `label` if given, else the preset (or "custom") followed by every
     /// key set beside it, as key=value.
@@ -60,20 +75,13 @@ impl CosmologySection {
         let text = |k: &str, v: &Option<String>| v.as_ref().map(|x| format!("{k}={x}"));
         // a choice under its canonical name, so that two spellings of one choice ("sharpk",
         // "SHARP-K") name one cell (a walkthrough's spellings made two cells, or refused a merge)
-        fn canonical<T: Serialize>(
-            raw: &Option<String>,
-            parse: impl Fn(&str) -> Option<T>,
-        ) -> Option<String> {
-            raw.as_ref().map(|x| {
-                parse(x)
-                    .and_then(|k| toml::Value::try_from(k).ok())
-                    .and_then(|v| v.as_str().map(str::to_string))
-                    .unwrap_or_else(|| x.clone())
-            })
-        }
-        let transfer = canonical(&self.transfer, TransferKind::parse);
-        let filter = canonical(&self.filter, Filter::parse);
-        let delta_c = canonical(&self.delta_c, DeltaCModel::parse);
+        let canonical = |key: &str, raw: &Option<String>| {
+            raw.as_ref()
+                .map(|x| canonical_choice(key, x).unwrap_or_else(|| x.clone()))
+        };
+        let transfer = canonical("transfer", &self.transfer);
+        let filter = canonical("filter", &self.filter);
+        let delta_c = canonical("delta_c", &self.delta_c);
         parts.extend(
             [
                 num("h", self.h),

@@ -2706,14 +2706,9 @@ fn hosts_at_another_redshift_are_stored_but_not_tested() {
 #[test]
 fn interrupted_infall_leaves_no_partial_copy() {
     use std::os::unix::process::ExitStatusExt;
-    let d = tempfile::tempdir().unwrap();
-    let cfg = write(d.path(), "tiny.toml", TINY);
-    let store = d.path().join("s.h5");
+    let (_d, _, store, partial) = padded_tiny_store();
     let s = store.to_str().unwrap();
-    run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
-    pad_store(&store);
     let before = std::fs::read(&store).unwrap();
-    let partial = d.path().join(".s.h5.partial");
     let interrupt =
         |signal: i32| interrupt_at_copy(&["infall", s, "--name", "late"], &partial, signal);
     let (st, err) = interrupt(libc::SIGINT);
@@ -2748,14 +2743,26 @@ fn interrupted_infall_leaves_no_partial_copy() {
     assert!(!partial.exists());
 }
 
-/// Pad a store with 128 MB of zeros, so that the copy a command makes of it takes long
-/// enough to be caught.
-fn pad_store(store: &Path) {
-    let f = hdf5::File::open_rw(store).unwrap();
+/// A TINY run's store `s.h5` in a new directory, padded with 128 MB of zeros so that the copy
+/// a command makes of it (`.s.h5.partial`, also returned) takes long enough to be caught;
+/// with the directory and the configuration file.
+fn padded_tiny_store() -> (tempfile::TempDir, PathBuf, PathBuf, PathBuf) {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "tiny.toml", TINY);
+    let store = d.path().join("s.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let f = hdf5::File::open_rw(&store).unwrap();
     f.new_dataset_builder()
         .with_data(&vec![0u8; 128 << 20])
         .create("padding")
         .unwrap();
+    let partial = d.path().join(".s.h5.partial");
+    (d, cfg, store, partial)
 }
 
 /// Start retinue with `args`, send `signal` as soon as the copy `partial` appears, and wait
@@ -2794,13 +2801,8 @@ fn interrupt_at_copy(
 /// directory that no longer existed).
 #[test]
 fn run_interrupted_in_its_tests_says_the_store_is_complete() {
-    let d = tempfile::tempdir().unwrap();
-    let cfg = write(d.path(), "tiny.toml", TINY);
-    let store = d.path().join("s.h5");
+    let (_d, cfg, store, partial) = padded_tiny_store();
     let s = store.to_str().unwrap();
-    run_ok(&["run", cfg.to_str().unwrap(), "--out", s]);
-    pad_store(&store);
-    let partial = d.path().join(".s.h5.partial");
     let (_, err) = interrupt_at_copy(
         &["run", cfg.to_str().unwrap(), "--out", s, "--resume"],
         &partial,
