@@ -377,6 +377,31 @@ fn without_comment(v: &str) -> &str {
     }
 }
 
+const NUMBER_IN_QUOTES: &str = "a number in quotes";
+const NUMBER_WITH_UNIT: &str = "a number with a unit";
+
+/// Whether a problem is a number written with a unit or in quotes (`explain`): the key takes
+/// a number, whose allowed range its validation can tell (`with_stand_in`).
+pub(crate) fn is_written_number(p: &InvalidValue) -> bool {
+    p.allowed.starts_with(NUMBER_IN_QUOTES) || p.allowed.starts_with(NUMBER_WITH_UNIT)
+}
+
+/// `text` with the line of `key` whose value is written `value` given `stand_in` instead
+/// (the value as `parse_collecting` reported it).
+pub(crate) fn with_stand_in(text: &str, key: &str, value: &str, stand_in: &str) -> String {
+    let lines: Vec<String> = text.lines().map(str::to_string).collect();
+    (0..lines.len())
+        .map(|i| match key_value_of(&lines, i) {
+            Some((k, v)) if k == key && v == value => {
+                let name = lines[i].split_once('=').map_or("", |x| x.0);
+                format!("{name}= {stand_in}")
+            }
+            _ => lines[i].clone(),
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
 /// A parser or serde message in the words of this tool.
 fn explain(msg: &str, value: &str) -> String {
     let msg = one_line(msg);
@@ -390,15 +415,16 @@ fn explain(msg: &str, value: &str) -> String {
     let value = unquoted.unwrap_or(value);
     if let Some(v) = unquoted {
         if v.trim().parse::<f64>().is_ok() {
-            return "a number in quotes: write it without them".to_string();
+            return format!("{NUMBER_IN_QUOTES}: write it without them");
         }
     }
     let mut words = value.split_whitespace();
     if let (Some(num), Some(_), None) = (words.next(), words.next(), words.next()) {
         if num.parse::<f64>().is_ok() {
-            return "a number with a unit: write the number alone, in the unit the key's name \
-                    gives (e.g. disc_a_kpc = 3.0 is in kpc, mass_msun = 1.2e12 in Msun)"
-                .to_string();
+            return format!(
+                "{NUMBER_WITH_UNIT}: write the number alone, in the unit the key's name \
+                 gives (e.g. disc_a_kpc = 3.0 is in kpc, mass_msun = 1.2e12 in Msun)"
+            );
         }
     }
     if let Some(rest) = msg.strip_prefix("unknown field `") {
