@@ -12,7 +12,7 @@ use std::error::Error;
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
-use super::short_number;
+use super::{short_number, FEW_HOSTS_FOR_INTERVAL};
 use plotters::coord::ranged1d::ValueFormatter;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -890,8 +890,10 @@ impl Figure for LineFig {
 /// in before z = 1) on the first-infall clock with its bootstrap 16–84% interval as error bars
 /// (right; only with several cells).
 struct CellFig<'a> {
-    /// (cosmology index, median host mass, median first-infall z) of cells with hosts.
-    pts: Vec<(u16, f64, f64)>,
+    /// (cosmology index, median host mass, median first-infall z, few hosts) of cells with
+    /// hosts; a cell of fewer than `FEW_HOSTS_FOR_INTERVAL` hosts is drawn open (the tables
+    /// give it no interval).
+    pts: Vec<(u16, f64, f64, bool)>,
     /// (cosmology index, median host mass, P at z = 1 with its spread) per cell.
     probs: Vec<(u16, f64, Spread)>,
     labels: Option<&'a crate::report::CellLabels>,
@@ -904,11 +906,11 @@ impl<'a> CellFig<'a> {
         cells: &[crate::stats::cells::CellResults],
         labels: Option<&'a crate::report::CellLabels>,
     ) -> Self {
-        let pts: Vec<(u16, f64, f64)> = res
+        let pts: Vec<(u16, f64, f64, bool)> = res
             .dependence
             .iter()
             .filter(|d| d.3 > 0.0 && d.4.is_finite())
-            .map(|d| (d.0, d.3, d.4))
+            .map(|d| (d.0, d.3, d.4, (d.2 as u64) < FEW_HOSTS_FOR_INTERVAL))
             .collect();
         let probs = cells
             .iter()
@@ -942,6 +944,34 @@ impl<'a> CellFig<'a> {
             .unwrap_or_else(|| format!("cosmology {c}"))
     }
 
+    /// Whether any cell rests on too few hosts for an interval.
+    fn any_few(&self) -> bool {
+        self.pts.iter().any(|p| p.3)
+            || self
+                .probs
+                .iter()
+                .any(|p| p.2.hosts < FEW_HOSTS_FOR_INTERVAL)
+    }
+
+    /// A legend entry, with no data, saying what an open marker means.
+    fn open_marker_note<DB: DrawingBackend>(
+        ch: &mut ChartContext<
+            '_,
+            DB,
+            Cartesian2d<LogCoord<f64>, plotters::coord::types::RangedCoordf64>,
+        >,
+    ) -> Res
+    where
+        DB::ErrorType: 'static,
+    {
+        ch.draw_series(std::iter::empty::<Circle<(f64, f64), i32>>())?
+            .label(format!(
+                "open: fewer than {FEW_HOSTS_FOR_INTERVAL} hosts (no interval)"
+            ))
+            .legend(|(x, y)| Circle::new((x + 10, y), 5, BLACK.stroke_width(2)));
+        Ok(())
+    }
+
     fn cosmologies(&self) -> Vec<u16> {
         let mut v: Vec<u16> = self.pts.iter().map(|p| p.0).collect();
         v.sort_unstable();
@@ -973,18 +1003,40 @@ impl<'a> CellFig<'a> {
         let cosmos = self.cosmologies();
         for (k, c) in cosmos.iter().enumerate() {
             let col = cell_color(k, cosmos.len());
-            let mut line: Vec<(f64, f64)> = pts
+            let mut line: Vec<(f64, f64, bool)> = pts
                 .iter()
                 .filter(|p| p.0 == *c)
-                .map(|p| (p.1, p.2))
+                .map(|p| (p.1, p.2, p.3))
                 .collect();
             line.sort_by(|a, b| a.0.total_cmp(&b.0));
-            ch.draw_series(line.iter().map(|&p| Circle::new(p, 5, col.filled())))?
-                .label(self.name(*c))
-                .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
-            ch.draw_series(LineSeries::new(line, col.stroke_width(2)))?;
+            ch.draw_series(LineSeries::new(
+                line.iter().map(|p| (p.0, p.1)),
+                col.stroke_width(2),
+            ))?;
+            // an open marker is white inside (the line does not run through it)
+            ch.draw_series(
+                line.iter()
+                    .filter(|p| p.2)
+                    .map(|p| Circle::new((p.0, p.1), 5, WHITE.filled())),
+            )?;
+            ch.draw_series(line.iter().map(|&(m, z, few)| {
+                Circle::new(
+                    (m, z),
+                    5,
+                    if few {
+                        col.stroke_width(2)
+                    } else {
+                        col.filled()
+                    },
+                )
+            }))?
+            .label(self.name(*c))
+            .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
         }
-        if cosmos.len() > 1 {
+        if self.any_few() {
+            Self::open_marker_note(&mut ch)?;
+        }
+        if cosmos.len() > 1 || self.any_few() {
             draw_legend(&mut ch, SeriesLabelPosition::UpperRight)?;
         }
         Ok(())
@@ -1022,17 +1074,30 @@ impl<'a> CellFig<'a> {
                 .map(|p| (p.1, p.2))
                 .collect();
             line.sort_by(|a, b| a.0.total_cmp(&b.0));
-            ch.draw_series(line.iter().map(|(m, sp)| {
-                ErrorBar::new_vertical(*m, sp.boot16, sp.mean, sp.boot84, col.filled(), 10)
-            }))?
-            .label(self.name(*c))
-            .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
+            // a cell of few hosts: an open marker and no bar (the tables give no interval)
+            let (few, enough): (Vec<_>, Vec<_>) = line
+                .iter()
+                .partition(|(_, sp)| sp.hosts < FEW_HOSTS_FOR_INTERVAL);
             ch.draw_series(LineSeries::new(
                 line.iter().map(|(m, sp)| (*m, sp.mean)),
                 col.stroke_width(2),
             ))?;
+            ch.draw_series(enough.iter().map(|(m, sp)| {
+                ErrorBar::new_vertical(*m, sp.boot16, sp.mean, sp.boot84, col.filled(), 10)
+            }))?
+            .label(self.name(*c))
+            .legend(move |(x, y)| Circle::new((x + 10, y), 5, col.filled()));
+            for style in [WHITE.filled(), col.stroke_width(2)] {
+                ch.draw_series(
+                    few.iter()
+                        .map(|(m, sp)| Circle::new((*m, sp.mean), 5, style)),
+                )?;
+            }
         }
-        if cosmos.len() > 1 {
+        if self.any_few() {
+            Self::open_marker_note(&mut ch)?;
+        }
+        if cosmos.len() > 1 || self.any_few() {
             draw_legend(&mut ch, SeriesLabelPosition::UpperRight)?;
         }
         Ok(())

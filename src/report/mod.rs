@@ -740,7 +740,7 @@ fn comparison(
 /// Fewer hosts than this: a mean's bootstrap interval is not printed (a percentile bootstrap
 /// over a handful of values collapses to nearly nothing; common practice puts the limit of a
 /// usable one near 20, and the tables' `hosts` column says how many there were).
-const FEW_HOSTS_FOR_INTERVAL: u64 = 5;
+pub(crate) const FEW_HOSTS_FOR_INTERVAL: u64 = 5;
 
 /// A mean over hosts with its bootstrap 16–84% interval, `d` decimals: "0.036 [0.034, 0.046]";
 /// "0 (every one of 20 hosts)" when every host gave 0, whose percentile bootstrap would read

@@ -2038,6 +2038,12 @@ fn sweeps_answer_per_cell() {
         let svg = std::fs::read_to_string(rep.join(fig)).unwrap();
         assert!(svg.contains("low s8"), "{fig} does not name the cell");
     }
+    // every cell has 2 hosts: drawn open, and the legend says why
+    let svg = std::fs::read_to_string(rep.join("dependence_on_host_mass.svg")).unwrap();
+    assert!(
+        svg.contains("open: fewer than 5 hosts (no interval)"),
+        "few-host cells not marked"
+    );
     assert!(md.contains("4 cells, 8 hosts"), "{md}");
     assert!(md.contains("| low s8 | 8e11 | 2 |"), "{md}");
     // the per-cell rows equal a test of that cell alone (first clock, exact mean column)
