@@ -868,7 +868,19 @@ fn key_under(k: &str, table: &str) -> bool {
 
 /// The dotted keys whose values differ between two configuration texts (comments and layout
 /// do not count; a text that does not parse counts as one difference, "(the whole file)").
+/// Texts that this version reads as configurations are compared as read, defaults filled
+/// in, so that a key written at its default equals the key left out, and a list of one
+/// value (`mass_msun = [1.2e12]`, one `[[cosmology]]`) equals the value alone.
 fn config_differences(a: &str, b: &str) -> Vec<String> {
+    // as read by this version (None: a store's text from a version that read other keys)
+    fn as_read(text: &str) -> Option<String> {
+        let f: crate::config::RunConfigFile = toml::from_str(text).ok()?;
+        toml::to_string(&f).ok()
+    }
+    let (a, b) = match (as_read(a), as_read(b)) {
+        (Some(x), Some(y)) => (x, y),
+        _ => (a.to_string(), b.to_string()),
+    };
     fn walk(path: &str, a: Option<&toml::Value>, b: Option<&toml::Value>, out: &mut Vec<String>) {
         use toml::Value;
         match (a, b) {
@@ -893,6 +905,12 @@ fn config_differences(a: &str, b: &str) -> Vec<String> {
                 }
             }
             (x, y) if x == y => {}
+            // a list of one value and the value alone
+            (Some(Value::Array(x)), Some(v)) | (Some(v), Some(Value::Array(x)))
+                if x.len() == 1 && !v.is_array() =>
+            {
+                walk(path, x.first(), Some(v), out)
+            }
             // 1e9 and 1000000000 are one number (review)
             (Some(Value::Integer(i)), Some(Value::Float(f)))
             | (Some(Value::Float(f)), Some(Value::Integer(i)))
@@ -901,8 +919,8 @@ fn config_differences(a: &str, b: &str) -> Vec<String> {
         }
     }
     match (
-        toml::from_str::<toml::Table>(a),
-        toml::from_str::<toml::Table>(b),
+        toml::from_str::<toml::Table>(&a),
+        toml::from_str::<toml::Table>(&b),
     ) {
         (Ok(x), Ok(y)) => {
             let mut out = Vec::new();
@@ -1147,7 +1165,25 @@ mod tests {
                  [[cosmology]]\npreset = \"planck18\"\nm_wdm_kev = 2.5\n[tests]\ndraws = 9\n";
         assert_eq!(
             config_differences(a, b),
-            vec!["cosmology[1].m_wdm_kev".to_string(), "tests".to_string()]
+            vec![
+                "cosmology[1].m_wdm_kev".to_string(),
+                "tests.draws".to_string()
+            ]
+        );
+        // as read: a default written out equals one left out, a list of one value the value
+        // (merge refused shards of `mass_msun = 1.2e12` and `[1.2e12]`), one [[cosmology]]
+        // the [cosmology] table; a real difference inside a list is still one
+        let c = "[cosmology]\npreset = \"planck18\"\n[host]\nmass_msun = 1.2e12\n";
+        let d = "[[cosmology]]\npreset = \"planck18\"\n[host]\nmass_msun = [1.2e12]\n\
+                 [orbits]\nstripping_alpha = 0.55\n";
+        assert!(config_differences(c, d).is_empty(), "{:?}", config_differences(c, d));
+        assert_eq!(
+            config_differences(c, &d.replace("[1.2e12]", "[1.2e12, 2e12]")),
+            vec!["host.mass_msun".to_string()]
+        );
+        assert_eq!(
+            config_differences(c, &d.replace("0.55", "1.1")),
+            vec!["orbits.stripping_alpha".to_string()]
         );
         assert!(config_differences(a, &format!("{a}\n# later\n")).is_empty());
         assert_eq!(config_differences(a, "[run"), vec!["(the whole file)"]);
