@@ -610,6 +610,40 @@ impl RunConfig {
                 format!("must be in (host.z_final = {}, 100]", h.z_final),
             ));
         }
+        // the reionisation occupation reads each halo's mass at z_re from its tree: the trees
+        // must reach at least one output step (uniform in ln a) beyond z_re, and the hosts'
+        // final redshift must come after it (review: with z_max below z_re every mass at z_re
+        // was 0 and only the V_max test could occupy a halo, without a word)
+        let g = &file.galaxies;
+        if g.occupation == crate::galaxies::Occupation::Reionization
+            && t.z_max > h.z_final
+            && (2..=10_000).contains(&t.output_steps)
+        {
+            let step = ((1.0 + t.z_max) / (1.0 + h.z_final)).ln() / t.output_steps as f64;
+            let z_needed = (1.0 + g.reionization_z) * step.exp() - 1.0;
+            if h.z_final >= g.reionization_z {
+                problems.push(InvalidValue::new(
+                    "host.z_final",
+                    h.z_final,
+                    format!(
+                        "must be below galaxies.reionization_z = {} with the reionization \
+                         occupation (galaxies.occupation)",
+                        g.reionization_z
+                    ),
+                ));
+            } else if t.z_max < z_needed {
+                problems.push(InvalidValue::new(
+                    "trees.z_max",
+                    t.z_max,
+                    format!(
+                        "must reach one output step beyond galaxies.reionization_z = {}, at \
+                         least {z_needed:.2}, with the reionization occupation (it reads each \
+                         halo's mass at z_re from the trees; or set galaxies.occupation)",
+                        g.reionization_z
+                    ),
+                ));
+            }
+        }
         if !(2..=10_000).contains(&t.output_steps) {
             problems.push(InvalidValue::new(
                 "trees.output_steps",
@@ -840,6 +874,35 @@ pub(crate) fn log_mass_hint(m: f64) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// With the reionisation occupation the trees must reach beyond z_re by an output step,
+    /// and the hosts end after it (review: z_max = 6 silently gave every halo a mass of 0
+    /// at z_re); with another occupation z_max is free.
+    #[test]
+    fn trees_reach_beyond_reionisation() {
+        let cfg = |extra: &str| {
+            RunConfig::parse_str(
+                &format!("[cosmology]\npreset = \"planck18\"\n{extra}"),
+                None,
+            )
+        };
+        let e = cfg("[trees]\nz_max = 6.0\n").unwrap_err().to_string();
+        assert!(
+            e.contains("trees.z_max = 6 is not allowed")
+                && e.contains("galaxies.reionization_z = 7.7"),
+            "{e}"
+        );
+        // 64 steps from 0 to 8: one step is ln(9)/64, so z_re = 7.7 needs 8.004
+        let need = 8.7 * (9f64.ln() / 64.0).exp() - 1.0;
+        assert!(need > 8.0 && need < 8.01, "{need}");
+        assert!(cfg("[trees]\nz_max = 8.0\n").is_err());
+        assert!(cfg("[trees]\nz_max = 8.2\n").is_ok());
+        assert!(cfg("[trees]\nz_max = 6.0\n[galaxies]\noccupation = \"erf\"\n").is_ok());
+        let e = cfg("[host]\nz_final = 8.0\n[trees]\nz_max = 20.0\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("host.z_final = 8 is not allowed"), "{e}");
+    }
 
     /// A number written with a unit or in quotes is told its key's allowed range too, for a
     /// float key, a whole-number key and a key of a [[cosmology]] table (a walkthrough got
