@@ -1176,7 +1176,11 @@ mod tests {
         let c = "[cosmology]\npreset = \"planck18\"\n[host]\nmass_msun = 1.2e12\n";
         let d = "[[cosmology]]\npreset = \"planck18\"\n[host]\nmass_msun = [1.2e12]\n\
                  [orbits]\nstripping_alpha = 0.55\n";
-        assert!(config_differences(c, d).is_empty(), "{:?}", config_differences(c, d));
+        assert!(
+            config_differences(c, d).is_empty(),
+            "{:?}",
+            config_differences(c, d)
+        );
         assert_eq!(
             config_differences(c, &d.replace("[1.2e12]", "[1.2e12, 2e12]")),
             vec!["host.mass_msun".to_string()]
