@@ -40,6 +40,7 @@ fn synth(c: &mut Criterion) {
             let mut g = host_rng(1, HostId::new(0, 0, 0), Stream::Galaxies);
             black_box(paint(
                 lt.cosmology(),
+                opts.tree.z_final,
                 &opts.galaxies,
                 &opts.survey,
                 &rec.subhaloes,

@@ -389,6 +389,7 @@ fn synthesize(
     let mut grng = host_rng(master_seed, id, Stream::Galaxies);
     let galaxies = paint(
         cosmo,
+        options.tree.z_final,
         &options.galaxies,
         &options.survey,
         &subhaloes,

@@ -258,10 +258,12 @@ impl GalaxyOptions {
     /// extrapolations (at z = 8-10 Behroozi's gives about 1.2 dex more stellar mass for a
     /// dwarf's peak mass).
     pub fn log10_mstar_relation(&self, cosmo: &Cosmology, m_vir_msun: f64, z: f64) -> f64 {
-        let z = z.min(self.smhm.z_max());
+        let z_rel = z.min(self.smhm.z_max());
         match self.smhm {
-            SmhmModel::Behroozi13 => behroozi13::log10_mstar(m_vir_msun, z),
-            SmhmModel::Moster13 => moster13::log10_mstar(m200c_of_vir(cosmo, m_vir_msun, z), z),
+            SmhmModel::Behroozi13 => behroozi13::log10_mstar(m_vir_msun, z_rel),
+            // the halo's M_200c at its own redshift; only the relation is held (review: the
+            // conversion was done at the capped redshift, under 1% off beyond z = 4)
+            SmhmModel::Moster13 => moster13::log10_mstar(m200c_of_vir(cosmo, m_vir_msun, z), z_rel),
         }
     }
 
@@ -284,11 +286,18 @@ impl GalaxyOptions {
     }
 
     /// Median log10 M* of a halo whose peak mass `m_peak_msun` was reached at `z_peak`, at
-    /// the redshift `smhm_epoch` chooses.
-    pub fn log10_mstar_of_peak(&self, cosmo: &Cosmology, m_peak_msun: f64, z_peak: f64) -> f64 {
+    /// the redshift `smhm_epoch` chooses: the peak's, or "today", the hosts' final redshift
+    /// `z_final` (review: it read z = 0 for hosts that end at z_final > 0).
+    pub fn log10_mstar_of_peak(
+        &self,
+        cosmo: &Cosmology,
+        m_peak_msun: f64,
+        z_peak: f64,
+        z_final: f64,
+    ) -> f64 {
         let z = match self.smhm_epoch {
             SmhmEpoch::Peak => z_peak,
-            SmhmEpoch::Today => 0.0,
+            SmhmEpoch::Today => z_final,
         };
         self.log10_mstar_median(cosmo, m_peak_msun, z)
     }

@@ -1,6 +1,6 @@
 //! Painting galaxies on subhaloes: stellar mass at peak mass and the time of the peak
 //! (by default the relation evaluated at the redshift of the peak, as Behroozi et al. 2013
-//! define it for satellites; `smhm_epoch = "today"` reads the z = 0 relation instead),
+//! define it for satellites; `smhm_epoch = "today"` reads the relation at the hosts' final redshift instead),
 //! log-normal scatter from the host's galaxy stream, occupation, V-band magnitude and
 //! observability today.
 
@@ -36,8 +36,10 @@ pub struct GalaxyRecord {
 /// one uniform (occupation) and one normal (size scatter), so the stream stays aligned
 /// whatever the options. A surviving galaxy keeps the fraction of its stars that the tidal
 /// stripping of its subhalo leaves (`stellar_stripping`; `GalaxyOptions::strip_stars`).
+/// `z_final`: the hosts' final redshift ("today" of `smhm_epoch`).
 pub fn paint<R: Rng>(
     cosmo: &Cosmology,
+    z_final: f64,
     options: &GalaxyOptions,
     survey: &SurveyOptions,
     subhaloes: &[SubhaloResult],
@@ -57,7 +59,7 @@ pub fn paint<R: Rng>(
                 s.vmax_infall_kms,
                 m_cool,
             );
-            let log_ms = options.log10_mstar_of_peak(cosmo, s.m_peak_msun, z_peak)
+            let log_ms = options.log10_mstar_of_peak(cosmo, s.m_peak_msun, z_peak, z_final)
                 + options.scatter_at(s.m_peak_msun) * g;
             let alive = s.status.alive() && s.pos_kpc[0].is_finite();
             let formed = if occupied { 10f64.powf(log_ms) } else { 0.0 };

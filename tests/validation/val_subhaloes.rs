@@ -87,6 +87,7 @@ fn censuses_with(
                     let mut rng = host_rng(5, id, Stream::Galaxies);
                     rec.galaxies = retinue::galaxies::paint(
                         lt.cosmology(),
+                        opts.tree.z_final,
                         g,
                         &opts.survey,
                         &rec.subhaloes,
