@@ -157,27 +157,6 @@ impl HostHistory {
         self.accretions.iter().filter(|a| a.order == 1)
     }
 
-    /// The chain of haloes a branch fell into on its way to the main branch:
-    /// (branch fallen into, time, mass of that halo at the time), earliest first.
-    pub fn infall_chain(&self, b: u32) -> Vec<(u32, f64, f64)> {
-        let mut out = Vec::new();
-        let mut cur = b;
-        while let Some(a) = self.accretion_of(cur) {
-            out.push((a.into_branch, a.t_infall_gyr, a.m_host_at_infall_msun));
-            cur = a.into_branch;
-        }
-        out
-    }
-
-    /// When branch b first fell into a halo of at least `m_threshold_msun` (pre-processing
-    /// if that halo is not the main branch): (time, branch fallen into). None if it never did.
-    pub fn first_infall_above(&self, b: u32, m_threshold_msun: f64) -> Option<(f64, u32)> {
-        self.infall_chain(b)
-            .into_iter()
-            .find(|&(_, _, m)| m >= m_threshold_msun)
-            .map(|(into, t, _)| (t, into))
-    }
-
     /// Accretions that reached the main branch inside group g (including g itself).
     pub fn group_members(&self, g: u32) -> impl Iterator<Item = &Accretion> {
         self.accretions.iter().filter(move |a| a.group == g)
