@@ -541,24 +541,34 @@ fn headline(res: &AnalysisResults, o: &retinue::stats::TestOptions) {
         "P(all {} fell in before z), mean over hosts [bootstrap 16-84%]",
         res.n_draw
     );
+    // the cells first, so that the columns are as wide as their widest cell ("0 (every one
+    // of 144 hosts)" ran into the next column)
+    let rows: Vec<(&str, Vec<String>)> = res
+        .all_of_n_mc
+        .iter()
+        .map(|(clock, c)| {
+            let cells = [1.0, 2.0, 3.0]
+                .iter()
+                .map(|&z| {
+                    c.x.iter()
+                        .position(|&x| (x - z).abs() < 1e-9)
+                        .map(|k| retinue::report::mean_and_interval(&c.spread[k], 3))
+                        .unwrap_or_else(|| "-".into())
+                })
+                .collect();
+            (clock.name(), cells)
+        })
+        .collect();
+    let w = rows
+        .iter()
+        .flat_map(|r| r.1.iter().map(|c| c.chars().count()))
+        .fold(22, usize::max);
     println!(
-        "{:<20} {:>22} {:>22} {:>22}",
+        "{:<20} {:>w$} {:>w$} {:>w$}",
         "clock", "z = 1", "z = 2", "z = 3"
     );
-    for (clock, c) in &res.all_of_n_mc {
-        let cell = |z: f64| {
-            c.x.iter()
-                .position(|&x| (x - z).abs() < 1e-9)
-                .map(|k| retinue::report::mean_and_interval(&c.spread[k], 3))
-                .unwrap_or_else(|| "-".into())
-        };
-        println!(
-            "{:<20} {:>22} {:>22} {:>22}",
-            clock.name(),
-            cell(1.0),
-            cell(2.0),
-            cell(3.0)
-        );
+    for (name, c) in &rows {
+        println!("{name:<20} {:>w$} {:>w$} {:>w$}", c[0], c[1], c[2]);
     }
     for (clock, curve, lim) in &res.quench {
         let tested = curve.spread.iter().any(|s| s.hosts > 0);
