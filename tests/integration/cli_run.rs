@@ -2045,6 +2045,52 @@ fn sweeps_answer_per_cell() {
         "few-host cells not marked"
     );
     assert!(md.contains("4 cells, 8 hosts"), "{md}");
+    // a cell where fewer than half of the hosts (2 each) have N candidates is marked ‡, with
+    // the footnote, and no other cell is: N = 3 (every cell rich enough here) and N = 15 (the
+    // 8e11 Msun cells have about 10-13 candidates a host)
+    let marked_cells = |md: &str, all: &str, n: u64| -> usize {
+        let mut marked = 0;
+        for (cos, mass) in [
+            ("planck18", "8e11"),
+            ("planck18", "1.2e12"),
+            ("low s8", "8e11"),
+            ("low s8", "1.2e12"),
+        ] {
+            let rich: u64 = all
+                .lines()
+                .find(|l| l.starts_with(&format!("{cos},{mass},first_host_infall,{n},1,")))
+                .map(|l| l.rsplit(',').next().unwrap().parse().unwrap())
+                .unwrap();
+            let row = md
+                .lines()
+                .find(|l| l.starts_with(&format!("| {cos} | {mass} | 2 |")))
+                .unwrap();
+            assert_eq!(row.contains(" ‡ |"), 2 * rich < 2, "N = {n}, {rich}: {row}");
+            marked += usize::from(2 * rich < 2);
+        }
+        let note = "‡ Fewer than half of this cell's hosts have N = ";
+        assert_eq!(md.contains(note), marked > 0, "{md}");
+        marked
+    };
+    assert_eq!(marked_cells(&md, &all, 3), 0);
+    let retest = write(
+        d.path(),
+        "n15.toml",
+        "[tests]\nn_draw = 15\ndraws = 500\nbootstrap = 50\nn_range = [3, 4]\n\
+         z_grid = [0.0, 0.5, 1.0, 2.0]\n",
+    );
+    let rep15 = d.path().join("n15-report");
+    run_ok(&[
+        "infall",
+        store.to_str().unwrap(),
+        "--config",
+        retest.to_str().unwrap(),
+        "--out",
+        rep15.to_str().unwrap(),
+    ]);
+    let md15 = std::fs::read_to_string(rep15.join("report.md")).unwrap();
+    let all15 = std::fs::read_to_string(rep15.join("all_of_n.csv")).unwrap();
+    assert!(marked_cells(&md15, &all15, 15) > 0, "{md15}");
     assert!(md.contains("| low s8 | 8e11 | 2 |"), "{md}");
     // the per-cell rows equal a test of that cell alone (first clock, exact mean column)
     let row = |text: &str, cell: &str| -> Vec<String> {
