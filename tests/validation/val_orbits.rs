@@ -1020,3 +1020,207 @@ fn val_mass_lost_in_the_first_radial_orbit() {
         kept_fast[200], kept_fast[64], kept_fast[336], n_peri[200], n_peri[336]
     );
 }
+
+/// The tidal-stripping rate against an idealised N-body experiment (tests/reference/
+/// stripping_nbody.json, made by tests/reference/scripts/make_stripping_nbody_fixtures.py with
+/// REBOUND 5.2.2's tree code; setup in the fixture and tests/reference/README.md): a 1e9 Msun
+/// NFW subhalo (c = 15; NFW inside r_vir, as retinue assumes, with the Kazantzidis, Magorrian &
+/// Moore 2004 taper beyond, which an equilibrium distribution function needs) starts at the
+/// virial radius of a static 1e12 Msun NFW host (c = 10) on two orbits with pericentres 0.2
+/// and 0.1 R_vir (A, B), followed through two pericentres (8.6 and 8.0 Gyr). The same setups
+/// through `evolve_in_isolated_halo` with friction off (a fixed potential has none) and no
+/// disc, merger or pericentre rules; alpha_s at its default.
+///
+/// The band, fixed before the comparison: |ln(f_retinue / f_N)| <= ln 1.3 + |ln(f_N / f_N,low)|
+/// for f = m_bound / m_vir at three times per orbit (0.5 Gyr after the first pericentre, the
+/// apocentre, the end): the N-body's own uncertainty (its runs with 20000 and 5000 particles
+/// differ by 2-6% there, by up to 14% in passing at B's second pericentre) plus a model
+/// tolerance of 30% (common practice for one-parameter stripping models judged against
+/// idealised simulations, not a published figure: a single alpha_s cannot follow the bursts
+/// of mass loss after each pericentre). Points where either run holds fewer than 300 bound
+/// particles would not be compared (none here: >= 673).
+///
+/// Measured (2026-12-04), at the default alpha_s = 0.55 (the physics reference sheet's value,
+/// recalled for Green, van den Bosch & Jiang 2021's calibration, whose tidal radius may differ
+/// from ours): the model strips too slowly. f retinue / f N-body = 1.27, 1.43, 1.57 on orbit A
+/// and 1.44, 1.57, 1.71 on orbit B; only the first point of A lies in the band. A scan of
+/// alpha_s against these six points gives the smallest rms log ratio at 0.9 (0.057; 0.75:
+/// 0.18, all six inside the band; 1.0: 0.092). But the merging-time check
+/// (`val_merging_times_vs_the_z0_fit`) pulls the other way: at 0.9 two of its z = 0 points
+/// exceed its band (1.52, 1.61 times the fit), at 0.75 they stay inside (at most 1.42), and
+/// the disc-depletion calibration (`orbits.disc_tide_ratio`, `val_disc_depletion`) moves with
+/// alpha_s (at 0.75 the inner survival fraction is 0.49 against its target 0.40). Changing the
+/// default means recalibrating the disc and re-measuring every population number quoted in the
+/// docs: planned, not done (docs/validation.md). The N-body keeps losing mass between
+/// pericentres (A: 0.46 -> 0.33 from 2.7 to 6.8 Gyr), where the model loses none (its bound mass
+/// lies inside the tidal radius there). The N-body is converged at the few-% level in particle
+/// number and in softening (orbit B at N = 5000 with half the softening and step: 2-6% above
+/// the standard N = 5000 run at the compared times, printed). Asserted, then, only what holds:
+/// the orbits are the same (retinue's test-particle pericentres against the fixture's scipy
+/// orbit, 1e-3); the lower edge of the band at every point (the model does not strip faster
+/// than the N-body); the whole band at the first point of orbit A; the more plunging orbit
+/// keeps less at every point, as in the N-body. The upper edge at the other five points is
+/// printed, not asserted, until the stripping rate is recalibrated (then assert the whole band
+/// everywhere). Also printed: both curves, and the tidal-limit model (alpha_s = 20).
+#[test]
+fn val_stripping_rate_vs_nbody() {
+    use retinue::orbits::{evolve_in_isolated_halo, OrbitOptions};
+    let f = fixture("stripping_nbody.json");
+    let s = &f["setup"];
+    let (h, sub) = (&s["host"], &s["subhalo"]);
+    let parent = (num(&h["m_vir_msun"]), num(&h["r_vir_kpc"]), num(&h["c"]));
+    let child = (
+        num(&sub["m_vir_msun"]),
+        num(&sub["r_vir_kpc"]),
+        num(&sub["c"]),
+    );
+    let opts = OrbitOptions {
+        friction: false,
+        pericentre_cut_kpc: 0.0,
+        disc_tide_ratio: 0.0,
+        central_merge_kpc: 0.0,
+        ..Default::default()
+    };
+    let tidal_limit = OrbitOptions {
+        stripping_alpha: 20.0,
+        ..opts
+    };
+    // the host as a fixed snapshot, for the orbit check
+    let host = EvolvingHost::fixed(HostSnapshot {
+        m_s: num(&h["m_scale_msun"]),
+        r_s: num(&h["r_s_kpc"]),
+        r_vir: parent.1,
+        m_vir: parent.0,
+        m_disc: 0.0,
+        a_disc: 1.0,
+        b_disc: 0.1,
+        m_bulge: 0.0,
+        a_bulge: 1.0,
+        de_k: 0.0,
+    });
+    for (k, iso) in f["isolated"].as_object().unwrap() {
+        let ch = &iso["max_rel_change"];
+        eprintln!(
+            "N-body subhalo alone ({k}), 3 Gyr: largest change of the bound mass {:.3}, of the mass inside 0.5, 1, 2 r_s {:.3}, {:.3}, {:.3}",
+            num(&ch["f_bound"]),
+            num(&ch["m_in_half_rs_rel"]),
+            num(&ch["m_in_rs_rel"]),
+            num(&ch["m_in_2rs_rel"])
+        );
+    }
+    let model_tol = 1.3f64.ln();
+    // (orbit, index of the comparison time) where the whole band holds today
+    let whole_band = [("A", 0usize)];
+    let mut at_compare: Vec<(String, Vec<f64>)> = Vec::new();
+    let mut failures = Vec::new();
+    for (name, o) in f["orbits"].as_object().unwrap() {
+        let x0 = floats(&o["x0_kpc"]);
+        let v0 = floats(&o["v0_kms"]);
+        let (x0, v0) = ([x0[0], x0[1], x0[2]], [v0[0], v0[1], v0[2]]);
+        // the same orbit: pericentres of retinue's test particle against the fixture's
+        let t_end = num(&o["t_end_gyr"]);
+        let (_, peri, _) = integrate_test_particle(
+            &host,
+            x0,
+            v0,
+            0.0,
+            t_end,
+            t_end,
+            Tolerances {
+                rtol: 1e-10,
+                atol_pos_kpc: 1e-8,
+                atol_vel_kpc_gyr: 1e-8,
+            },
+        );
+        let tp = &o["test_particle_orbit"];
+        let (t_ref, r_ref) = (floats(&tp["t_peri_gyr"]), floats(&tp["r_peri_kpc"]));
+        assert_eq!(
+            peri.len(),
+            r_ref.len(),
+            "orbit {name}: pericentres {peri:?}"
+        );
+        for (k, &(tp_k, rp_k)) in peri.iter().enumerate() {
+            assert_rel(&format!("orbit {name}: r_peri {k}"), rp_k, r_ref[k], 1e-3);
+            assert_abs(&format!("orbit {name}: t_peri {k}"), tp_k, t_ref[k], 2e-3);
+        }
+        let hi = &o["runs"]["n20000"];
+        let lo = &o["runs"]["n5000"];
+        let t = floats(&hi["t_gyr"]);
+        let (f_hi, f_lo) = (floats(&hi["f_bound"]), floats(&lo["f_bound"]));
+        let (n_hi, n_lo) = (floats(&hi["n_bound"]), floats(&lo["n_bound"]));
+        let r_nb = floats(&hi["r_kpc"]);
+        let soft = o.get("softening_check").map(|c| floats(&c["f_bound"]));
+        let ours: Vec<f64> = t
+            .iter()
+            .map(|&tt| {
+                if tt <= 0.0 {
+                    return 1.0;
+                }
+                let res = evolve_in_isolated_halo(&opts, parent, child, x0, v0, 0.0, tt);
+                res.m_bound_msun / child.0
+            })
+            .collect();
+        eprintln!(
+            "orbit {name}: pericentres (t Gyr, r kpc) {peri:.3?}\n    t  r_N-body  f(N=20000)  f(N=5000)  f(N=5000, eps/2)  f(retinue)"
+        );
+        for k in 0..t.len() {
+            let sk = soft.as_ref().map_or(f64::NAN, |v| v[k]);
+            eprintln!(
+                "{:5.2} {:8.1} {:11.3} {:10.3} {:17.3} {:11.3}",
+                t[k], r_nb[k], f_hi[k], f_lo[k], sk, ours[k]
+            );
+        }
+        let mut mine = Vec::new();
+        for (j, tc) in floats(&o["compare_t_gyr"]).into_iter().enumerate() {
+            let k = t
+                .iter()
+                .position(|&tt| (tt - tc).abs() < 0.01)
+                .unwrap_or_else(|| panic!("orbit {name}: no output at {tc} Gyr"));
+            mine.push(ours[k]);
+            if n_hi[k] < 300.0 || n_lo[k] < 300.0 {
+                eprintln!("orbit {name}, t = {tc}: fewer than 300 bound particles, not compared");
+                continue;
+            }
+            let band = model_tol + (f_hi[k] / f_lo[k]).ln().abs();
+            let d = (ours[k] / f_hi[k]).ln();
+            let fast = evolve_in_isolated_halo(&tidal_limit, parent, child, x0, v0, 0.0, tc);
+            eprintln!(
+                "orbit {name}, t = {tc:.1} Gyr: f retinue {:.3}, N-body {:.3} (N = 5000: {:.3}); ratio {:.2}, ln ratio {d:+.3}, band {band:.3} ({}); tidal limit (alpha_s = 20) {:.3}",
+                ours[k],
+                f_hi[k],
+                f_lo[k],
+                ours[k] / f_hi[k],
+                if d.abs() <= band { "within" } else { "OUTSIDE" },
+                fast.m_bound_msun / child.0
+            );
+            // the lower edge everywhere; the upper edge where it holds today (doc comment)
+            if d < -band || (d > band && whole_band.contains(&(name.as_str(), j))) {
+                failures.push(format!(
+                    "orbit {name}, t = {tc}: retinue {:.3} vs N-body {:.3}, ln ratio {d:+.3}, band {band:.3}",
+                    ours[k], f_hi[k]
+                ));
+            }
+        }
+        at_compare.push((name.clone(), mine));
+    }
+    assert!(failures.is_empty(), "{failures:?}");
+    // the more plunging orbit (B) keeps less at every comparison time, as in the N-body
+    let a = &at_compare
+        .iter()
+        .find(|(n, _)| n == "A")
+        .expect("orbit A")
+        .1;
+    let b = &at_compare
+        .iter()
+        .find(|(n, _)| n == "B")
+        .expect("orbit B")
+        .1;
+    for j in 0..a.len() {
+        assert!(
+            b[j] < a[j],
+            "comparison {j}: orbit B {} vs A {}",
+            b[j],
+            a[j]
+        );
+    }
+}
