@@ -1175,7 +1175,7 @@ mod tests {
         // the [cosmology] table; a real difference inside a list is still one
         let c = "[cosmology]\npreset = \"planck18\"\n[host]\nmass_msun = 1.2e12\n";
         let d = "[[cosmology]]\npreset = \"planck18\"\n[host]\nmass_msun = [1.2e12]\n\
-                 [orbits]\nstripping_alpha = 0.55\n";
+                 [orbits]\nstripping_alpha = 0.75\n";
         assert!(
             config_differences(c, d).is_empty(),
             "{:?}",
@@ -1186,7 +1186,7 @@ mod tests {
             vec!["host.mass_msun".to_string()]
         );
         assert_eq!(
-            config_differences(c, &d.replace("0.55", "1.1")),
+            config_differences(c, &d.replace("0.75", "1.1")),
             vec!["orbits.stripping_alpha".to_string()]
         );
         assert!(config_differences(a, &format!("{a}\n# later\n")).is_empty());

@@ -69,11 +69,11 @@ impl Default for OrbitOptions {
             max_step_gyr: 0.2,
             friction: true,
             stripping: true,
-            stripping_alpha: 0.55,
+            stripping_alpha: 0.75,
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            disc_tide_ratio: 1.5,
+            disc_tide_ratio: 1.2,
             central_merge_kpc: 1.0,
             infall_orbits: initial::InfallOrbits::default(),
         }
