@@ -274,7 +274,7 @@ fn main() {
         .filter(|x| x.alive && x.t_infall_gyr > t0 - 4.0)
         .collect();
     println!(
-        "Magellanic-mass (1-3e11) first-order subhaloes: {} ({} alive); members with M* > 1e4 alive anywhere: median {}; of those alive that fell in within 4 Gyr ({}): bound to it {}, alive anywhere {}",
+        "massive (1-3e11 Msun) first-order subhaloes: {} ({} alive); members with M* > 1e4 alive anywhere: median {}; of those alive that fell in within 4 Gyr ({}): bound to it {}, alive anywhere {}",
         comps.len(),
         comps.iter().filter(|x| x.alive).count(),
         median(comps.iter().map(|x| x.alive_anywhere as f64).collect()),

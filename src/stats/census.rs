@@ -53,14 +53,15 @@ pub struct HostCensus {
     /// each of `SHMF_PSI` x M_vir (host's virial mass at the end).
     pub shmf_all: [usize; 5],
     pub shmf_first: [usize; 5],
-    /// Each first-order subhalo with 1e11 <= m_peak < 3e11 Msun (a Magellanic-mass one).
+    /// Each first-order subhalo with 1e11 <= m_peak < 3e11 Msun (a massive satellite, the mass
+    /// of the largest companions of Milky-Way-mass hosts).
     pub companions: Vec<Companions>,
     /// Statuses of every subhalo (counts by code 0-4), first order and higher order.
     pub status_first: [usize; 5],
     pub status_higher: [usize; 5],
 }
 
-/// The satellites that fell into the host with a Magellanic-mass subhalo (first order,
+/// The satellites that fell into the host with a massive subhalo (first order,
 /// 1e11 <= m_peak < 3e11 Msun) as members of its group, with M* > 1e4 Msun.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct Companions {

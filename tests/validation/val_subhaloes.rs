@@ -250,14 +250,14 @@ fn val_jvdb16_universal_model_vs_astropy() {
 ///   measured 0.033 and 0.443 with the peak-mass occupation, 0.061 and 0.565 with the default;
 /// * satellites sharing their exact position with another: below 1% (the issue's check: each
 ///   satellite of a satellite has its own orbit);
-/// * companions of a Magellanic-mass subhalo (first order, 1e11-3e11 Msun, alive, fell in
+/// * companions of a massive subhalo (first order, 1e11-3e11 Msun, alive, fell in
 ///   within the last 4 Gyr): members of its group with M* > 1e4 Msun still bound to it, median
 ///   in [2, 20] (observed associations of the Large Magellanic Cloud: 4 long-term and 2
 ///   recently captured, Patel et al. 2020, ApJ 893, 121; 6 ultra-faints and the SMC, Erkal &
 ///   Belokurov 2020; predictions 4-8 with M* > 1e4 Msun within 50 kpc, Dooley et al. 2017,
 ///   arXiv:1703.05321; all from the papers' abstracts).
 ///
-/// Binomial error of the pooled fractions (about 4,000 dwarfs): 0.005-0.008; about 10 Magellanic
+/// Binomial error of the pooled fractions (about 4,000 dwarfs): 0.005-0.008; about 10 such
 /// analogues.
 #[test]
 fn val_satellite_population_census() {
@@ -314,7 +314,7 @@ fn val_satellite_population_census() {
         .collect();
     let bound = median(recent.iter().map(|m| m.bound as f64).collect());
     eprintln!(
-        "Magellanic analogues that fell in within 4 Gyr: {}; companions still bound: median \
+        "massive subhaloes (1e11-3e11 Msun) that fell in within 4 Gyr: {}; companions still bound: median \
          {bound}; members alive anywhere: median {}",
         recent.len(),
         median(recent.iter().map(|m| m.alive_anywhere as f64).collect())
