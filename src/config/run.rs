@@ -621,6 +621,8 @@ impl RunConfig {
         {
             let step = ((1.0 + t.z_max) / (1.0 + h.z_final)).ln() / t.output_steps as f64;
             let z_needed = (1.0 + g.reionization_z) * step.exp() - 1.0;
+            // rounded up, so that the value named is itself enough (8.004 reads 8.01)
+            let z_named = (z_needed * 100.0).ceil() / 100.0;
             if h.z_final >= g.reionization_z {
                 problems.push(InvalidValue::new(
                     "host.z_final",
@@ -637,7 +639,7 @@ impl RunConfig {
                     t.z_max,
                     format!(
                         "must reach one output step beyond galaxies.reionization_z = {}, at \
-                         least {z_needed:.2}, with the reionization occupation (it reads each \
+                         least {z_named:.2}, with the reionization occupation (it reads each \
                          halo's mass at z_re from the trees; or set galaxies.occupation)",
                         g.reionization_z
                     ),
@@ -895,7 +897,9 @@ mod tests {
         // 64 steps from 0 to 8: one step is ln(9)/64, so z_re = 7.7 needs 8.004
         let need = 8.7 * (9f64.ln() / 64.0).exp() - 1.0;
         assert!(need > 8.0 && need < 8.01, "{need}");
-        assert!(cfg("[trees]\nz_max = 8.0\n").is_err());
+        let e = cfg("[trees]\nz_max = 8.0\n").unwrap_err().to_string();
+        assert!(e.contains("at least 8.01"), "{e}");
+        assert!(cfg("[trees]\nz_max = 8.01\n").is_ok());
         assert!(cfg("[trees]\nz_max = 8.2\n").is_ok());
         assert!(cfg("[trees]\nz_max = 6.0\n[galaxies]\noccupation = \"erf\"\n").is_ok());
         let e = cfg("[host]\nz_final = 8.0\n[trees]\nz_max = 20.0\n")
