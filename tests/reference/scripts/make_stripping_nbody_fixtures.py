@@ -1,7 +1,8 @@
 #!/usr/bin/env python3
 """Generate tests/reference/stripping_nbody.json: the bound mass of an N-body subhalo on two orbits
-in a static NFW host (REBOUND tree code), for the check of retinue's tidal-stripping rate
-(`val_stripping_rate_vs_nbody` in tests/validation/val_orbits.rs).
+(A, B), and of a more massive, less concentrated subhalo on orbit A (C), in a static NFW host
+(REBOUND tree code), for the check of retinue's tidal-stripping rate (`val_stripping_rate_vs_nbody`
+in tests/validation/val_orbits.rs).
 
 Run from the repository root:
 
@@ -9,11 +10,16 @@ Run from the repository root:
     python tests/reference/scripts/make_stripping_nbody_fixtures.py --run A_n20000   # one run only
     python tests/reference/scripts/make_stripping_nbody_fixtures.py --assemble       # JSON from cached runs
 
+(runs: iso_n5000, iso_n20000, A_n5000, A_n20000, B_n5000, B_n20000, C_n5000, C_n20000,
+iso_C_n5000, soft_check.)
+
 Each run is cached as an .npz file in --work (default /tmp/stripping_nbody_runs, outside the
-repository); a cached run is not repeated.  Total N-body CPU 2611 s (44 minutes) on one core of
-the machine used, 2-core and shared (each run's time is stored in the JSON: 58 and 347 s for the
-isolated runs, 117-125 s per orbit at N = 5000, 860-874 s at N = 20000, 231 s for the softening
-check); assembling the JSON from cached runs takes about 5 s.  Runs are single-threaded.
+repository); a cached run is not repeated.  N-body CPU 2611 s (44 minutes) for A and B on one
+core of the machine used, 2-core and shared (each run's time is stored in the JSON: 58 and 347 s
+for the isolated runs, 117-125 s per orbit at N = 5000, 860-874 s at N = 20000, 231 s for the
+softening check); assembling the JSON from cached runs takes about 5 s.  Runs are single-threaded.
+Setup C (added later, same machine): C_n5000 122 s, C_n20000 810 s, iso_C_n5000 54 s; 3596 s
+(60 minutes) in all.
 
 Library versions (pinned in tests/reference/requirements.txt; python 3.12):
     rebound 5.2.2, galpy 1.12.1 (cross-check of the distribution function only), scipy 1.18.1,
@@ -39,7 +45,10 @@ r_vir the density falls off with the exponential taper of Kazantzidis, Magorrian
 (ApJ 601, 37): rho = rho_NFW(r_vir) (r/r_vir)^kappa exp(-(r - r_vir)/r_decay), r_decay = 0.1 r_vir,
 kappa = -(1 + 3c)/(1 + c) + r_vir/r_decay (continuous logarithmic slope).  The taper holds 18% more
 mass beyond r_vir (loosely bound; the host's tide at R_vir already reaches inside the subhalo's
-r_vir).  Bound fractions are given as M_bound / m_vir (m_vir = the NFW mass inside r_vir, the mass
+r_vir).  Setup C: m_vir = 1e10 Msun, c = 8 (r_vir 56.81 kpc, r_s 7.10 kpc; kappa = 7.22, the
+taper holds 23% more mass), the same construction, distribution function (checked > 0) and
+sampling, stored per orbit in `orbits.C.subhalo` (the JSON's `setup.subhalo` is the fiducial
+one).  Bound fractions are given as M_bound / m_vir (m_vir = the NFW mass inside r_vir, the mass
 retinue starts from); f_bound_initial divides by the bound mass at t = 0 instead.
 
 Distribution function: Eddington's formula for the tapered model in its own potential,
@@ -77,6 +86,18 @@ difference is the N-body's own uncertainty.  Softening check: orbit B at N = 500
 same realisation with half the softening (0.025 r_s) and half the step (1.25 Myr)
 (`orbits.B.softening_check`).
 
+Setup C's numerics: softening 0.05 r_s of its own subhalo (0.355 kpc), the same 2.5 Myr step,
+opening angle, box, unbinding and outputs.  The step against C's central time-scales
+(`timescales`, stored as orbits.C.subhalo.step_timescales; t_core = sqrt(eps/a(eps)) with
+a(eps) = G M_NFW(<eps) / eps^2, circular period 2 pi t_core, escape speed sqrt(2 Psi(0)) of the
+tapered model):
+t_core 33 Myr (13 steps), circular period at eps 209 Myr, escape speed 92 km/s, 0.66 eps per step,
+close to the 0.5 eps criterion; the same definitions give 15 Myr, 97 Myr and 50 km/s (1.47 eps per
+step) for the fiducial subhalo (the 36 km/s quoted above matches sqrt(Psi(0)), not the escape
+speed), so the step is about twice as small against C's central times as against the fiducial
+subhalo's.  The tidal radius spans 20 softening lengths while it exceeds 7.1 kpc = r_s, i.e.
+roughly f_bound > 0.15 for c = 8.
+
 Bound mass, every 50 Myr (stored every 100 Myr): iterative unbinding.  Start from the particles
 bound at the previous output (all particles at t = 0) and, as the first centre, the present mean
 position and velocity of the previous output's most bound particles (at t = 0 the centre of
@@ -88,13 +109,20 @@ bound = E < 0; the centre (x_c, v_c) is the mean position and velocity of the ma
 particles of the new set.  No host potential enters the energies.  Fewer than 20 bound particles:
 disrupted (n_bound = 0).
 
-Orbits (both start at the host's virial radius, x = (R_vir, 0, 0), v = (v_r, v_t, 0) V_vir):
+Orbits (all start at the host's virial radius, x = (R_vir, 0, 0), v = (v_r, v_t, 0) V_vir):
     A: (v_r, v_t) = (-0.3, 0.42) V_vir, pericentres 0.2 R_vir at t = 2.16 and 8.02 Gyr, to 8.6 Gyr
     B: (v_r, v_t) = (-0.3, 0.25) V_vir, pericentres 0.1 R_vir at t = 2.02 and 7.42 Gyr, to 8.0 Gyr
+    C: orbit A's initial conditions and end time, setup C's subhalo
 (test-particle values from scipy `solve_ivp`, `test_particle_orbit`).  The radial period from
 R_vir in this host is about 5.5 Gyr, so two pericentres take about 8 Gyr from R_vir.
+(The N-body centre of C, a 1% mass ratio, does not follow the test-particle orbit after its
+first pericentre: on the 100 Myr outputs its apocentre is 258 kpc at 4.8 Gyr instead of A's
+275 kpc at 5.0 Gyr, its second pericentre 47 kpc at 7.5 Gyr instead of 53 kpc at 7.9 Gyr (both
+N), presumably the pull of its own stripped debris, since the host is a fixed potential;
+`r_kpc` holds the centre's track.)
 Isolated: the same realisations without host for 3 Gyr: bound fraction and the mass inside 0.5,
-1 and 2 r_s of the centre (all particles), relative to t = 0.
+1 and 2 r_s of the centre (all particles), relative to t = 0 (setup C: N = 5000 only,
+`isolated.C_n5000`).
 """
 
 import argparse
@@ -136,7 +164,9 @@ _X = OMEGA_M - 1.0
 DELTA_VIR = 18.0 * math.pi ** 2 + 82.0 * _X - 39.0 * _X ** 2
 
 M_HOST, C_HOST = 1.0e12, 10.0
-M_SUB, C_SUB = 1.0e9, 15.0
+M_SUB, C_SUB = 1.0e9, 15.0  # the fiducial subhalo (orbits A, B)
+# subhaloes: key -> (m_vir, c); orbits name theirs ("fiducial" unless given)
+SUBHALOS = {"fiducial": (M_SUB, C_SUB), "massive": (1.0e10, 8.0)}
 R_DECAY_FRAC = 0.1
 
 EPS_OVER_RS = 0.05
@@ -150,7 +180,10 @@ NS = {5000: 11, 20000: 12}
 ORBITS = {
     "A": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6},
     "B": {"v_r": -0.3, "v_t": 0.25, "t_end": 8.0},
+    "C": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "massive"},  # orbit A, the massive subhalo
 }
+# isolated runs of subhaloes other than the fiducial one: key -> (subhalo, N, duration Gyr)
+ISO_EXTRA = {"C": ("massive", 5000, T_ISO)}
 # the softening check: orbit B at N = 5000 with half the softening and half the step
 SOFT_CHECK = {"orbit": "B", "n": 5000, "eps_over_rs": 0.025, "dt": 0.00125}
 
@@ -174,6 +207,14 @@ V_VIR = math.sqrt(G_KMS * M_HOST / R_HOST)  # km/s
 R_SUB = r_vir(M_SUB)
 RS_SUB = R_SUB / C_SUB
 EPS = EPS_OVER_RS * RS_SUB
+
+
+def subhalo(key):
+    """(m_vir, c, r_vir, r_s, softening) of a subhalo in SUBHALOS (fiducial: M_SUB ... EPS)."""
+    m, c = SUBHALOS[key]
+    rv = r_vir(m)
+    rs = rv / c
+    return m, c, rv, rs, EPS_OVER_RS * rs
 
 
 # -------------------------------------------------------------------------------------------------
@@ -377,16 +418,30 @@ def sample(model, df, n, rng, r_max):
     return pos, vel
 
 
-_MODEL = None
+_MODEL = {}
 
 
-def model_and_df():
-    global _MODEL
-    if _MODEL is None:
-        m = TaperedNFW(M_SUB, R_SUB, C_SUB, G)
-        df = EddingtonDF(m, 1e-5 * m.r_s, 10.0 * R_SUB)
-        _MODEL = (m, df)
-    return _MODEL
+def model_and_df(key="fiducial"):
+    if key not in _MODEL:
+        m_vir, c, rv, _, _ = subhalo(key)
+        m = TaperedNFW(m_vir, rv, c, G)
+        df = EddingtonDF(m, 1e-5 * m.r_s, 10.0 * rv)
+        _MODEL[key] = (m, df)
+    return _MODEL[key]
+
+
+def timescales(key):
+    """The central time-scales against which the step is chosen (module docstring)."""
+    m, _ = model_and_df(key)
+    _, _, _, rs, eps = subhalo(key)
+    a_eps = G * float(m.mass(eps)[0]) / eps ** 2
+    v_esc = math.sqrt(2.0 * float(m.psi(1e-6 * rs)[0]))  # kpc/Gyr
+    return {"softening_kpc": eps, "t_core_gyr": math.sqrt(eps / a_eps),
+            "circular_period_at_softening_gyr": 2.0 * math.pi * math.sqrt(eps / a_eps),
+            "central_escape_speed_kms": v_esc / KMS, "escape_speed_step_over_softening": v_esc * DT / eps,
+            "definitions": "t_core = sqrt(eps / a(eps)), a(eps) = G M_NFW(<eps) / eps^2; circular period "
+                           "2 pi t_core; escape speed sqrt(2 Psi(0)) of the tapered model; its distance "
+                           "moved in one step over eps"}
 
 
 # -------------------------------------------------------------------------------------------------
@@ -482,21 +537,29 @@ def run(name, work):
     path = os.path.join(work, name + ".npz")
     if os.path.exists(path):
         return dict(np.load(path))
+    t_iso = T_ISO
     if name == "soft_check":
-        kind, n = SOFT_CHECK["orbit"], SOFT_CHECK["n"]
+        kind, n, sub = SOFT_CHECK["orbit"], SOFT_CHECK["n"], "fiducial"
         eps, dt, out_every = SOFT_CHECK["eps_over_rs"] * RS_SUB, SOFT_CHECK["dt"], 2 * OUT_EVERY
     else:
         kind, ntxt = name.split("_n")
         n = int(ntxt)
-        eps, dt, out_every = EPS, DT, OUT_EVERY
+        if kind.startswith("iso_"):  # iso_<key of ISO_EXTRA>_n<N>
+            sub, n_x, t_iso = ISO_EXTRA[kind[4:]]
+            assert n == n_x, name
+            kind = "iso"
+        else:
+            sub = "fiducial" if kind == "iso" else ORBITS[kind].get("subhalo", "fiducial")
+        eps, dt, out_every = subhalo(sub)[4], DT, OUT_EVERY
+    m_sub, _, r_sub, rs_sub, _ = subhalo(sub)
     t_cpu0, t_wall0 = time.process_time(), time.time()
-    m, df = model_and_df()
+    m, df = model_and_df(sub)
     rng = np.random.default_rng(NS[n])
-    pos, vel = sample(m, df, n, rng, 10.0 * R_SUB)
-    m_tot = M_SUB + m.m_taper
+    pos, vel = sample(m, df, n, rng, 10.0 * r_sub)
+    m_tot = m_sub + m.m_taper
     m_p = m_tot / n
     if kind == "iso":
-        x0, v0, t_end = np.zeros(3), np.zeros(3), T_ISO
+        x0, v0, t_end = np.zeros(3), np.zeros(3), t_iso
     else:
         o = ORBITS[kind]
         x0 = np.array([R_HOST, 0.0, 0.0])
@@ -531,7 +594,7 @@ def run(name, work):
             raise RuntimeError("%s: a particle left the box at t = %g" % (name, sim.t))
         bound, xc, vc, most, it = unbind(x, v, m_p, bound, most, eps)
         d = np.sqrt(np.sum((x - xc) ** 2, axis=1))
-        inner = [int(np.sum(d < f * RS_SUB)) for f in (0.5, 1.0, 2.0)]
+        inner = [int(np.sum(d < f * rs_sub)) for f in (0.5, 1.0, 2.0)]
         rows.append([sim.t, int(bound.sum()), *xc, *(vc / KMS), *inner, it, sim.N])
         if k % 10 == 0:
             print("%s t = %.2f Gyr  n_bound = %d  r = %.1f kpc  (%d it)  cpu %.0f s" % (
@@ -549,6 +612,7 @@ def all_runs():
     names = ["iso_n%d" % n for n in NS]
     for o in ORBITS:
         names += ["%s_n%d" % (o, n) for n in NS]
+    names += ["iso_%s_n%d" % (k, v[1]) for k, v in ISO_EXTRA.items()]
     return names + ["soft_check"]
 
 
@@ -573,6 +637,18 @@ def dumps(obj, ind=0):
     return json.dumps(obj)
 
 
+def subhalo_block(key):
+    """The subhalo's model and distribution function, as stored in the JSON."""
+    m, df = model_and_df(key)
+    m_vir, c, rv, rs, _ = subhalo(key)
+    return {"profile": "NFW inside r_vir holding m_vir; Kazantzidis, Magorrian & Moore 2004 exponential taper beyond",
+            "m_vir_msun": m_vir, "c": c, "r_vir_kpc": rv, "r_s_kpc": rs,
+            "taper_r_decay_kpc": m.r_d, "taper_kappa": m.kappa,
+            "m_taper_msun": m.m_taper, "m_total_msun": m_vir + m.m_taper,
+            "df": "isotropic, Eddington inversion in the model's own potential (scipy)",
+            "df_min_over_grid": float(df.f[:-1].min()), "df_nonnegative": bool(np.all(df.f[:-1] > 0.0))}
+
+
 def assemble(work):
     m, df = model_and_df()
     runs = {name: run(name, work) for name in all_runs()}
@@ -585,13 +661,7 @@ def assemble(work):
         "host": {"profile": "NFW, untruncated, static (analytic acceleration on every particle)",
                  "m_vir_msun": M_HOST, "c": C_HOST, "r_vir_kpc": R_HOST, "r_s_kpc": RS_HOST,
                  "m_scale_msun": MS_HOST, "v_vir_kms": V_VIR},
-        "subhalo": {"profile": "NFW inside r_vir holding m_vir; Kazantzidis, Magorrian & Moore 2004 exponential taper beyond",
-                    "m_vir_msun": M_SUB, "c": C_SUB, "r_vir_kpc": R_SUB, "r_s_kpc": RS_SUB,
-                    "taper_r_decay_kpc": m.r_d, "taper_kappa": m.kappa,
-                    "m_taper_msun": m.m_taper, "m_total_msun": M_SUB + m.m_taper,
-                    "df": "isotropic, Eddington inversion in the model's own potential (scipy)",
-                    "df_min_over_grid": float(df.f[:-1].min()), "df_nonnegative": bool(np.all(df.f[:-1] > 0.0)),
-                    "eddington_check_vs_galpy": chk,
+        "subhalo": {**subhalo_block("fiducial"), "eddington_check_vs_galpy": chk,
                     "seeds": {str(n): s for n, s in NS.items()}},
         "numerics": {"code": "REBOUND %s" % rebound.__version__, "gravity": "tree",
                      "opening_angle": OPENING_ANGLE, "softening": "Plummer",
@@ -622,12 +692,29 @@ def assemble(work):
             "energy_rel_drift": r6((rr["energy"][1] - rr["energy"][0]) / abs(rr["energy"][0])),
             "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
         }
+    # other subhaloes alone: keyed "<orbit>_n<N>" (the orbit whose subhalo and realisation it is)
+    for key, (sub, n, t_iso) in ISO_EXTRA.items():
+        rr = runs["iso_%s_n%d" % (key, n)]
+        rows, m_p = rr["rows"], float(rr["m_p"])
+        m_vir = subhalo(sub)[0]
+        iso["%s_n%d" % (key, n)] = {
+            "subhalo": "orbits.%s.subhalo" % key, "m_vir_msun": m_vir, "c": subhalo(sub)[1],
+            "n": n, "m_particle_msun": m_p,
+            "t_gyr": [r6(t) for t in rows[:, 0]],
+            "f_bound": [r6(k * m_p / m_vir) for k in rows[:, 1]],
+            "m_in_half_rs_rel": [r6(k / rows[0, 8]) for k in rows[:, 8]],
+            "m_in_rs_rel": [r6(k / rows[0, 9]) for k in rows[:, 9]],
+            "m_in_2rs_rel": [r6(k / rows[0, 10]) for k in rows[:, 10]],
+            "n_in_half_rs_rs_2rs_t0": [int(rows[0, 8]), int(rows[0, 9]), int(rows[0, 10])],
+            "energy_rel_drift": r6((rr["energy"][1] - rr["energy"][0]) / abs(rr["energy"][0])),
+            "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
+        }
     for key in iso:
         b = iso[key]
         qs = ("m_in_half_rs_rel", "m_in_rs_rel", "m_in_2rs_rel")
         b["max_rel_change"] = {q: r6(max(abs(x - 1.0) for x in b[q])) for q in qs}
         b["max_rel_change"]["f_bound"] = r6(max(abs(x / b["f_bound"][0] - 1.0) for x in b["f_bound"]))
-        half = [i for i, t in enumerate(b["t_gyr"]) if t >= 0.5 * T_ISO - 1e-9]
+        half = [i for i, t in enumerate(b["t_gyr"]) if t >= 0.5 * b["t_gyr"][-1] - 1e-9]
         b["mean_over_last_half"] = {q: r6(sum(b[q][i] for i in half) / len(half)) for q in qs}
     orbits = {}
     for name, o in ORBITS.items():
@@ -637,6 +724,17 @@ def assemble(work):
                "test_particle_orbit": tp, "runs": {}}
         # comparison times: 0.5 Gyr after the first pericentre, the apocentre, the end
         blk["compare_t_gyr"] = [round(tp["t_peri_gyr"][0] + 0.5, 1), round(tp["t_apo_gyr"][0], 1), o["t_end"]]
+        sub = o.get("subhalo", "fiducial")
+        m_vir = subhalo(sub)[0]
+        if sub != "fiducial":
+            # only where it differs from setup.subhalo; numerics otherwise as setup.numerics
+            blk["subhalo"] = {**subhalo_block(sub), "seeds": {str(n): s for n, s in NS.items()},
+                              "softening_kpc": subhalo(sub)[4], "softening_over_r_s": EPS_OVER_RS,
+                              "step_timescales": timescales(sub),
+                              "fiducial_step_timescales": timescales("fiducial"),
+                              "notes": "replaces setup.subhalo for this orbit (f_bound = bound mass / this "
+                                       "m_vir); softening %g r_s of this subhalo; step, opening angle, "
+                                       "unbinding and outputs as in setup" % EPS_OVER_RS}
         for n in NS:
             rr = runs["%s_n%d" % (name, n)]
             rows, m_p = rr["rows"], float(rr["m_p"])
@@ -645,7 +743,7 @@ def assemble(work):
                 "n": n, "m_particle_msun": m_p,
                 "t_gyr": [r6(t) for t in s[:, 0]],
                 "n_bound": [int(k) for k in s[:, 1]],
-                "f_bound": [r6(k * m_p / M_SUB) for k in s[:, 1]],
+                "f_bound": [r6(k * m_p / m_vir) for k in s[:, 1]],
                 "f_bound_initial": [r6(k / rows[0, 1]) for k in s[:, 1]],
                 "r_kpc": [r6(math.sqrt(a * a + b * b + c * c)) for a, b, c in s[:, 2:5]],
                 "centre_kpc": [[r6(a), r6(b), r6(c)] for a, b, c in s[:, 2:5]],
@@ -668,9 +766,12 @@ def assemble(work):
             }
         orbits[name] = blk
     total_cpu = sum(float(r["cpu_s"]) for r in runs.values())
+    m_c = model_and_df("massive")[0]
     notes = ("Idealised N-body check of the tidal-stripping rate (module docstring of the script). "
-             "f_bound = bound mass / m_vir (1e9 Msun, the NFW mass inside r_vir); the realisation holds "
-             "%.3f m_vir in all (the taper). Total N-body CPU %.0f s." % ((M_SUB + m.m_taper) / M_SUB, total_cpu))
+             "f_bound = bound mass / m_vir (1e9 Msun, the NFW mass inside r_vir; orbit C: 1e10 Msun, "
+             "c = 8, orbits.C.subhalo); the realisation holds %.3f m_vir in all (the taper; C: %.3f). "
+             "Total N-body CPU %.0f s." % ((M_SUB + m.m_taper) / M_SUB,
+                                           (m_c.m_vir + m_c.m_taper) / m_c.m_vir, total_cpu))
     out = {"provenance": {"script": SCRIPT, "libraries": dict(LIBRARIES), "generated": TODAY,
                           "notes": notes},
            "units": {"mass": "Msun", "length": "kpc", "time": "Gyr", "velocity": "km/s"},
