@@ -677,28 +677,10 @@ def assemble(work):
                       "is unchanged (at most 100 iterations); no host potential in E; < 20 bound: disrupted"),
         "f_bound_definition": "n_bound m_p / m_vir, m_p = m_total / N (m_vir = NFW mass inside r_vir = retinue's m_acc)",
     }
-    iso = {}
-    for n in NS:
-        rr = runs["iso_n%d" % n]
+    def iso_entry(rr, n, m_vir):
+        """One isolated run's record: bound fraction, enclosed masses, energy drift."""
         rows, m_p = rr["rows"], float(rr["m_p"])
-        iso["n%d" % n] = {
-            "n": n, "m_particle_msun": m_p,
-            "t_gyr": [r6(t) for t in rows[:, 0]],
-            "f_bound": [r6(k * m_p / M_SUB) for k in rows[:, 1]],
-            "m_in_half_rs_rel": [r6(k / rows[0, 8]) for k in rows[:, 8]],
-            "m_in_rs_rel": [r6(k / rows[0, 9]) for k in rows[:, 9]],
-            "m_in_2rs_rel": [r6(k / rows[0, 10]) for k in rows[:, 10]],
-            "n_in_half_rs_rs_2rs_t0": [int(rows[0, 8]), int(rows[0, 9]), int(rows[0, 10])],
-            "energy_rel_drift": r6((rr["energy"][1] - rr["energy"][0]) / abs(rr["energy"][0])),
-            "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
-        }
-    # other subhaloes alone: keyed "<orbit>_n<N>" (the orbit whose subhalo and realisation it is)
-    for key, (sub, n, t_iso) in ISO_EXTRA.items():
-        rr = runs["iso_%s_n%d" % (key, n)]
-        rows, m_p = rr["rows"], float(rr["m_p"])
-        m_vir = subhalo(sub)[0]
-        iso["%s_n%d" % (key, n)] = {
-            "subhalo": "orbits.%s.subhalo" % key, "m_vir_msun": m_vir, "c": subhalo(sub)[1],
+        return {
             "n": n, "m_particle_msun": m_p,
             "t_gyr": [r6(t) for t in rows[:, 0]],
             "f_bound": [r6(k * m_p / m_vir) for k in rows[:, 1]],
@@ -708,6 +690,17 @@ def assemble(work):
             "n_in_half_rs_rs_2rs_t0": [int(rows[0, 8]), int(rows[0, 9]), int(rows[0, 10])],
             "energy_rel_drift": r6((rr["energy"][1] - rr["energy"][0]) / abs(rr["energy"][0])),
             "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
+        }
+
+    iso = {}
+    for n in NS:
+        iso["n%d" % n] = iso_entry(runs["iso_n%d" % n], n, M_SUB)
+    # other subhaloes alone: keyed "<orbit>_n<N>" (the orbit whose subhalo and realisation it is)
+    for key, (sub, n, t_iso) in ISO_EXTRA.items():
+        m_vir, c = subhalo(sub)[0], subhalo(sub)[1]
+        iso["%s_n%d" % (key, n)] = {
+            "subhalo": "orbits.%s.subhalo" % key, "m_vir_msun": m_vir, "c": c,
+            **iso_entry(runs["iso_%s_n%d" % (key, n)], n, m_vir),
         }
     for key in iso:
         b = iso[key]
