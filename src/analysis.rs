@@ -644,6 +644,48 @@ pub fn sample_outside_selection(grid: &Grid, sample: &ObservedSample) -> Option<
     ))
 }
 
+/// How far, in dex, `[tests.selection]`'s stellar-mass window may reach beyond the sample's own
+/// range before `check` says so (this tool's choice: the infall times of satellites change
+/// markedly over a decade in stellar mass, common practice rather than a published rule).
+pub const SELECTION_REACH_DEX: f64 = 1.0;
+
+/// A note when the selection's stellar-mass window reaches more than `SELECTION_REACH_DEX`
+/// beyond the sample's range on either side: the all-of-N, fraction and delay tests draw mock
+/// satellites from the whole window, so a window much wider than the sample compares the
+/// sample with satellites of other masses, whose infall times differ (a sample of objects of
+/// 1e4-3e4 Msun with the default window 5e3-1e7 draws mostly heavier ones). None: within reach,
+/// or no object with a stellar mass.
+pub fn selection_wider_than_sample(grid: &Grid, sample: &ObservedSample) -> Option<String> {
+    let sel = &grid.config.file.tests.selection;
+    let (lo, hi) = sample
+        .objects
+        .iter()
+        .map(|o| o.mstar_msun)
+        .filter(|m| m.is_finite() && *m > 0.0)
+        .fold((f64::INFINITY, 0.0f64), |(a, b), m| (a.min(m), b.max(m)));
+    if !(lo.is_finite() && hi > 0.0) {
+        return None;
+    }
+    let below = (lo / sel.mstar_msun[0]).log10();
+    let above = (sel.mstar_msun[1] / hi).log10();
+    let mut reach = Vec::new();
+    if below > SELECTION_REACH_DEX {
+        reach.push(format!("{below:.1} dex below"));
+    }
+    if above > SELECTION_REACH_DEX {
+        reach.push(format!("{above:.1} dex above"));
+    }
+    if reach.is_empty() {
+        return None;
+    }
+    Some(format!(
+        "[tests.selection] mstar_msun = [{:e}, {:e}] reaches {} the sample's stellar masses          ({lo:.3e}-{hi:.3e} Msun): the all-of-N, fraction and delay tests draw mock satellites          from the whole window, and satellites of other masses fell in at other times; narrow          the window to the sample's range unless the sample was chosen from such a window",
+        sel.mstar_msun[0],
+        sel.mstar_msun[1],
+        reach.join(" and ")
+    ))
+}
+
 /// The configuration stored in a run's store, and the run's observed sample if it can still
 /// be found. Relative paths in the stored configuration are relative to the directory of the
 /// configuration file the run started from; the store records that directory, and they are

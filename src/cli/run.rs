@@ -904,6 +904,12 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
     {
         eprintln!("note: {n}");
     }
+    if let Some(n) = sample
+        .as_ref()
+        .and_then(|s| analysis::selection_wider_than_sample(&grid, s))
+    {
+        eprintln!("note: {n}");
+    }
     if let Some(w) = resolution_warning(&grid) {
         eprintln!("warning: {w}");
     }

@@ -744,6 +744,43 @@ fn check_names_sample_objects_outside_the_selection() {
     assert!(!err.contains("outside [tests.selection]"), "{err}");
 }
 
+/// `check` notes a `[tests.selection]` stellar-mass window that reaches more than a decade
+/// beyond the sample's own stellar masses (the tests draw mock satellites from the whole
+/// window), naming the side and by how much, and says nothing for a window within a decade.
+#[test]
+fn check_notes_a_selection_much_wider_than_the_sample() {
+    let d = tempfile::tempdir().unwrap();
+    write(
+        d.path(),
+        "s.csv",
+        "id,mstar_msun,r_gc_kpc,v_r_kms,t_quench_lookback_gyr,t_quench_err_gyr\n\
+         W-1,1.0e4,78,-41,9.4,0.4\nW-2,3.0e4,112,26,10.3,0.5\n",
+    );
+    let with = |sel: &str| {
+        TINY.replace("[run]", "[run]\nsample = \"s.csv\"") + "\n[tests.selection]\n" + sel
+    };
+    let note = "the all-of-N, fraction and delay tests draw mock satellites";
+    for (sel, expect) in [
+        // log10(1e7 / 3e4) = 2.52 above; log10(1e4 / 5e3) = 0.30 below
+        ("mstar_msun = [5e3, 1e7]\n", Some("reaches 2.5 dex above")),
+        // log10(1e4 / 1e2) = 2.0 below and log10(1e6 / 3e4) = 1.52 above
+        (
+            "mstar_msun = [1e2, 1e6]\n",
+            Some("reaches 2.0 dex below and 1.5 dex above"),
+        ),
+        // within a decade on both sides
+        ("mstar_msun = [2e3, 2e5]\n", None),
+    ] {
+        let cfg = write(d.path(), "w.toml", &with(sel));
+        let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
+        assert_eq!(code, 0, "{err}");
+        match expect {
+            Some(part) => assert!(err.contains(note) && err.contains(part), "{sel}: {err}"),
+            None => assert!(!err.contains(note), "{sel}: {err}"),
+        }
+    }
+}
+
 /// `check` notes galaxy-size keys that change nothing because stars are not stripped (a
 /// walkthrough set them with `strip_stars = false` and was told nothing).
 #[test]
