@@ -48,30 +48,23 @@ pub fn green_vdb19_params(f_b: f64, c_s: f64) -> (f64, f64, f64) {
     (f_te, x_te, delta)
 }
 
+/// Mass inside x = r / r_s,acc of the Green & van den Bosch 2019 stripped profile with bound
+/// fraction f_b and infall concentration c_s, in units of M_s = 4 pi rho_s r_s^3 of the infall
+/// NFW: \int_0^x y H(y) / (1 + y)^2 dy by quadrature (at f_b = 1, H = 1: the NFW's mu(x)).
+/// Divide by mu(c_s) for the fraction of the infall mass.
+pub fn green_vdb19_enclosed(f_b: f64, c_s: f64, x: f64) -> f64 {
+    let (f_te, x_te, d) = green_vdb19_params(f_b.min(1.0), c_s);
+    let h = |y: f64| f_te / (1.0 + (y * (c_s - x_te) / (c_s * x_te)).powf(d));
+    quadrature::integrate(|y: f64| y * h(y) / ((1.0 + y) * (1.0 + y)), 0.0, x, 1e-11).integral
+}
+
 /// (Vmax ratio, Rmax ratio) to the infall NFW for the Green & van den Bosch 2019 stripped
 /// profile, by quadrature of the density and a golden-section search for the peak of v_c.
 pub fn green_vdb19_vmax_rmax_ratio(f_b: f64, c_s: f64) -> (f64, f64) {
     let peak = |fb: f64| -> (f64, f64) {
-        let (f_te, x_te, d) = if fb >= 1.0 {
-            (1.0, c_s, 1.0)
-        } else {
-            green_vdb19_params(fb, c_s)
-        };
-        let h = |x: f64| {
-            if fb >= 1.0 {
-                1.0
-            } else {
-                f_te / (1.0 + (x * (c_s - x_te) / (c_s * x_te)).powf(d))
-            }
-        };
-        // m(<x) / (4 pi rho_s r_s^3) = \int_0^x y^2 H / (y (1+y)^2) dy
-        let m = |x: f64| {
-            quadrature::integrate(|y: f64| y * h(y) / ((1.0 + y) * (1.0 + y)), 0.0, x, 1e-11)
-                .integral
-        };
         let v2 = |lx: f64| {
             let x = lx.exp();
-            m(x) / x
+            green_vdb19_enclosed(fb, c_s, x) / x
         };
         let (mut a, mut b) = ((0.01f64).ln(), (10.0 * c_s).ln());
         let g = 0.618_033_988_749_895;
@@ -129,6 +122,32 @@ mod tests {
                 (a - want.0).abs() < 1e-4 && (b - want.1).abs() < 1e-4 && (c - want.2).abs() < 1e-4,
                 "{fb}: {a} {b} {c}"
             );
+        }
+    }
+
+    /// The enclosed mass of the Green & van den Bosch 2019 profile: at f_b = 1 the fit's
+    /// parameters give f_te = 1 and x_te = c_s (physics reference sheet, sec. 9), H = 1, so the
+    /// quadrature must give the NFW's closed form mu(x) (to the quadrature's 1e-11); at f_b < 1
+    /// it lies below mu(x) at every radius (f_te < 1 and H falls outward).
+    #[test]
+    fn green_vdb19_enclosed_mass_limits() {
+        for c in [4.0, 8.0, 15.0] {
+            for x in [0.01, 0.5, 1.0, 3.0, c] {
+                let (f_te, x_te, _) = green_vdb19_params(1.0, c);
+                assert!(
+                    f_te == 1.0 && (x_te / c - 1.0).abs() < 1e-15,
+                    "c {c}: {f_te} {x_te}"
+                );
+                let m = green_vdb19_enclosed(1.0, c, x);
+                let want = crate::halo::nfw::mu(x);
+                assert!((m / want - 1.0).abs() < 1e-8, "c {c} x {x}: {m} vs {want}");
+                for fb in [0.5, 0.1] {
+                    assert!(
+                        green_vdb19_enclosed(fb, c, x) < want,
+                        "c {c} x {x} f_b {fb}"
+                    );
+                }
+            }
         }
     }
 
