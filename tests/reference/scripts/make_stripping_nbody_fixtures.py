@@ -1,6 +1,7 @@
 #!/usr/bin/env python3
 """Generate tests/reference/stripping_nbody.json: the bound mass of an N-body subhalo on two orbits
-(A, B), and of a more massive, less concentrated subhalo on orbit A (C), in a static NFW host
+(A, B), of a more massive, less concentrated subhalo on orbit A (C), and of subhaloes with one of
+C's two differences each on orbit A (D: c = 8; E: 1e10 Msun), in a static NFW host
 (REBOUND tree code), for the check of retinue's tidal-stripping rate (`val_stripping_rate_vs_nbody`
 in tests/validation/val_orbits.rs).
 
@@ -10,8 +11,10 @@ Run from the repository root:
     python tests/reference/scripts/make_stripping_nbody_fixtures.py --run A_n20000   # one run only
     python tests/reference/scripts/make_stripping_nbody_fixtures.py --assemble       # JSON from cached runs
 
+    python tests/reference/scripts/make_stripping_nbody_fixtures.py --add-orbits D,E  # add orbits D, E
+
 (runs: iso_n5000, iso_n20000, A_n5000, A_n20000, B_n5000, B_n20000, C_n5000, C_n20000,
-iso_C_n5000, soft_check.)
+iso_C_n5000, soft_check, D_n5000, D_n20000, E_n5000, E_n20000.)
 
 Each run is cached as an .npz file in --work (default /tmp/stripping_nbody_runs, outside the
 repository); a cached run is not repeated.  N-body CPU 2611 s (44 minutes) for A and B on one
@@ -20,6 +23,8 @@ for the isolated runs, 117-125 s per orbit at N = 5000, 860-874 s at N = 20000, 
 softening check); assembling the JSON from cached runs takes about 5 s.  Runs are single-threaded.
 Setup C (added later, same machine): C_n5000 122 s, C_n20000 810 s, iso_C_n5000 54 s; 3596 s
 (60 minutes) in all.
+Setups D and E (added 2026-12-05 on a shared 2-core machine with Python 3.11, about four times
+slower per Gyr): D_n5000 344 s, D_n20000 3256 s, E_n5000 624 s, E_n20000 3290 s.
 
 Library versions (pinned in tests/reference/requirements.txt; python 3.12):
     rebound 5.2.2, galpy 1.12.1 (cross-check of the distribution function only), scipy 1.18.1,
@@ -113,6 +118,13 @@ Orbits (all start at the host's virial radius, x = (R_vir, 0, 0), v = (v_r, v_t,
     A: (v_r, v_t) = (-0.3, 0.42) V_vir, pericentres 0.2 R_vir at t = 2.16 and 8.02 Gyr, to 8.6 Gyr
     B: (v_r, v_t) = (-0.3, 0.25) V_vir, pericentres 0.1 R_vir at t = 2.02 and 7.42 Gyr, to 8.0 Gyr
     C: orbit A's initial conditions and end time, setup C's subhalo
+    D: orbit A, the fiducial mass with C's concentration (1e9 Msun, c = 8)
+    E: orbit A, C's mass with the fiducial concentration (1e10 Msun, c = 15)
+(D and E change one of C's two differences from A at a time, to tell which one makes C lose its
+mass faster; they were added after C with `--add-orbits D,E`, which keeps the JSON's other
+records as they are and notes the versions used in provenance.additions: that machine had
+Python 3.11, so scipy 1.17.1 and numpy 2.4.6 instead of the pinned 1.18.1 and 2.5.5, with the
+pinned REBOUND 5.2.2 and galpy 1.12.1.)
 (test-particle values from scipy `solve_ivp`, `test_particle_orbit`).  The radial period from
 R_vir in this host is about 5.5 Gyr, so two pericentres take about 8 Gyr from R_vir.
 (The N-body centre of C, a 1% mass ratio, does not follow the test-particle orbit after its
@@ -166,7 +178,9 @@ DELTA_VIR = 18.0 * math.pi ** 2 + 82.0 * _X - 39.0 * _X ** 2
 M_HOST, C_HOST = 1.0e12, 10.0
 M_SUB, C_SUB = 1.0e9, 15.0  # the fiducial subhalo (orbits A, B)
 # subhaloes: key -> (m_vir, c); orbits name theirs ("fiducial" unless given)
-SUBHALOS = {"fiducial": (M_SUB, C_SUB), "massive": (1.0e10, 8.0)}
+SUBHALOS = {"fiducial": (M_SUB, C_SUB), "massive": (1.0e10, 8.0),
+            # C's two differences from the fiducial subhalo one at a time (D, E)
+            "low_c": (M_SUB, 8.0), "massive_c15": (1.0e10, C_SUB)}
 R_DECAY_FRAC = 0.1
 
 EPS_OVER_RS = 0.05
@@ -181,7 +195,12 @@ ORBITS = {
     "A": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6},
     "B": {"v_r": -0.3, "v_t": 0.25, "t_end": 8.0},
     "C": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "massive"},  # orbit A, the massive subhalo
+    "D": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "low_c"},  # orbit A, fiducial mass, c = 8
+    "E": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "massive_c15"},  # orbit A, 1e10, c = 15
 }
+# orbits whose records also hold the mass inside 0.5, 1, 2 r_s (added with D and E; A-C were
+# assembled before, and their cached runs are gone)
+INNER_MASS_ORBITS = ("D", "E")
 # isolated runs of subhaloes other than the fiducial one: key -> (subhalo, N, duration Gyr)
 ISO_EXTRA = {"C": ("massive", 5000, T_ISO)}
 # the softening check: orbit B at N = 5000 with half the softening and half the step
@@ -649,6 +668,66 @@ def subhalo_block(key):
             "df_min_over_grid": float(df.f[:-1].min()), "df_nonnegative": bool(np.all(df.f[:-1] > 0.0))}
 
 
+def orbit_block(name, runs):
+    """The JSON record of one orbit (ORBITS[name]) from its runs (and the softening check for B)."""
+    o = ORBITS[name]
+    tp = test_particle_orbit(o["v_r"], o["v_t"], o["t_end"])
+    blk = {"v_r_over_v_vir": o["v_r"], "v_t_over_v_vir": o["v_t"], "t_end_gyr": o["t_end"],
+           "x0_kpc": [R_HOST, 0.0, 0.0], "v0_kms": [o["v_r"] * V_VIR, o["v_t"] * V_VIR, 0.0],
+           "test_particle_orbit": tp, "runs": {}}
+    # comparison times: 0.5 Gyr after the first pericentre, the apocentre, the end
+    blk["compare_t_gyr"] = [round(tp["t_peri_gyr"][0] + 0.5, 1), round(tp["t_apo_gyr"][0], 1), o["t_end"]]
+    sub = o.get("subhalo", "fiducial")
+    m_vir = subhalo(sub)[0]
+    if sub != "fiducial":
+        # only where it differs from setup.subhalo; numerics otherwise as setup.numerics
+        blk["subhalo"] = {**subhalo_block(sub), "seeds": {str(n): s for n, s in NS.items()},
+                          "softening_kpc": subhalo(sub)[4], "softening_over_r_s": EPS_OVER_RS,
+                          "step_timescales": timescales(sub),
+                          "fiducial_step_timescales": timescales("fiducial"),
+                          "notes": "replaces setup.subhalo for this orbit (f_bound = bound mass / this "
+                                   "m_vir); softening %g r_s of this subhalo; step, opening angle, "
+                                   "unbinding and outputs as in setup" % EPS_OVER_RS}
+    for n in NS:
+        rr = runs["%s_n%d" % (name, n)]
+        rows, m_p = rr["rows"], float(rr["m_p"])
+        s = rows[::STORE_EVERY]
+        blk["runs"]["n%d" % n] = {
+            "n": n, "m_particle_msun": m_p,
+            "t_gyr": [r6(t) for t in s[:, 0]],
+            "n_bound": [int(k) for k in s[:, 1]],
+            "f_bound": [r6(k * m_p / m_vir) for k in s[:, 1]],
+            "f_bound_initial": [r6(k / rows[0, 1]) for k in s[:, 1]],
+            "r_kpc": [r6(math.sqrt(a * a + b * b + c * c)) for a, b, c in s[:, 2:5]],
+            "centre_kpc": [[r6(a), r6(b), r6(c)] for a, b, c in s[:, 2:5]],
+            "centre_v_kms": [[r6(a), r6(b), r6(c)] for a, b, c in s[:, 5:8]],
+            "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
+        }
+        if name in INNER_MASS_ORBITS:
+            # the mass (all particles) inside 0.5, 1, 2 r_s of the centre, relative to t = 0: the
+            # structure of the stripped remnant (the isolated runs give these for equilibrium)
+            blk["runs"]["n%d" % n].update({
+                "m_in_half_rs_rel": [r6(k / s[0, 8]) for k in s[:, 8]],
+                "m_in_rs_rel": [r6(k / s[0, 9]) for k in s[:, 9]],
+                "m_in_2rs_rel": [r6(k / s[0, 10]) for k in s[:, 10]],
+                "n_in_half_rs_rs_2rs_t0": [int(s[0, 8]), int(s[0, 9]), int(s[0, 10])],
+            })
+    if name == SOFT_CHECK["orbit"]:
+        rr = runs["soft_check"]
+        rows, m_p = rr["rows"], float(rr["m_p"])
+        s = rows[::STORE_EVERY]
+        blk["softening_check"] = {
+            "n": SOFT_CHECK["n"], "softening_kpc": SOFT_CHECK["eps_over_rs"] * RS_SUB,
+            "softening_over_r_s": SOFT_CHECK["eps_over_rs"], "dt_gyr": SOFT_CHECK["dt"],
+            "t_gyr": [r6(t) for t in s[:, 0]],
+            "n_bound": [int(k) for k in s[:, 1]],
+            "f_bound": [r6(k * m_p / M_SUB) for k in s[:, 1]],
+            "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
+            "notes": "the N = %d run of this orbit with half the softening and half the step "
+                     "(same realisation); not part of the band, printed by the test" % SOFT_CHECK["n"],
+        }
+    return blk
+
 def assemble(work):
     m, df = model_and_df()
     runs = {name: run(name, work) for name in all_runs()}
@@ -709,55 +788,7 @@ def assemble(work):
         b["max_rel_change"]["f_bound"] = r6(max(abs(x / b["f_bound"][0] - 1.0) for x in b["f_bound"]))
         half = [i for i, t in enumerate(b["t_gyr"]) if t >= 0.5 * b["t_gyr"][-1] - 1e-9]
         b["mean_over_last_half"] = {q: r6(sum(b[q][i] for i in half) / len(half)) for q in qs}
-    orbits = {}
-    for name, o in ORBITS.items():
-        tp = test_particle_orbit(o["v_r"], o["v_t"], o["t_end"])
-        blk = {"v_r_over_v_vir": o["v_r"], "v_t_over_v_vir": o["v_t"], "t_end_gyr": o["t_end"],
-               "x0_kpc": [R_HOST, 0.0, 0.0], "v0_kms": [o["v_r"] * V_VIR, o["v_t"] * V_VIR, 0.0],
-               "test_particle_orbit": tp, "runs": {}}
-        # comparison times: 0.5 Gyr after the first pericentre, the apocentre, the end
-        blk["compare_t_gyr"] = [round(tp["t_peri_gyr"][0] + 0.5, 1), round(tp["t_apo_gyr"][0], 1), o["t_end"]]
-        sub = o.get("subhalo", "fiducial")
-        m_vir = subhalo(sub)[0]
-        if sub != "fiducial":
-            # only where it differs from setup.subhalo; numerics otherwise as setup.numerics
-            blk["subhalo"] = {**subhalo_block(sub), "seeds": {str(n): s for n, s in NS.items()},
-                              "softening_kpc": subhalo(sub)[4], "softening_over_r_s": EPS_OVER_RS,
-                              "step_timescales": timescales(sub),
-                              "fiducial_step_timescales": timescales("fiducial"),
-                              "notes": "replaces setup.subhalo for this orbit (f_bound = bound mass / this "
-                                       "m_vir); softening %g r_s of this subhalo; step, opening angle, "
-                                       "unbinding and outputs as in setup" % EPS_OVER_RS}
-        for n in NS:
-            rr = runs["%s_n%d" % (name, n)]
-            rows, m_p = rr["rows"], float(rr["m_p"])
-            s = rows[::STORE_EVERY]
-            blk["runs"]["n%d" % n] = {
-                "n": n, "m_particle_msun": m_p,
-                "t_gyr": [r6(t) for t in s[:, 0]],
-                "n_bound": [int(k) for k in s[:, 1]],
-                "f_bound": [r6(k * m_p / m_vir) for k in s[:, 1]],
-                "f_bound_initial": [r6(k / rows[0, 1]) for k in s[:, 1]],
-                "r_kpc": [r6(math.sqrt(a * a + b * b + c * c)) for a, b, c in s[:, 2:5]],
-                "centre_kpc": [[r6(a), r6(b), r6(c)] for a, b, c in s[:, 2:5]],
-                "centre_v_kms": [[r6(a), r6(b), r6(c)] for a, b, c in s[:, 5:8]],
-                "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
-            }
-        if name == SOFT_CHECK["orbit"]:
-            rr = runs["soft_check"]
-            rows, m_p = rr["rows"], float(rr["m_p"])
-            s = rows[::STORE_EVERY]
-            blk["softening_check"] = {
-                "n": SOFT_CHECK["n"], "softening_kpc": SOFT_CHECK["eps_over_rs"] * RS_SUB,
-                "softening_over_r_s": SOFT_CHECK["eps_over_rs"], "dt_gyr": SOFT_CHECK["dt"],
-                "t_gyr": [r6(t) for t in s[:, 0]],
-                "n_bound": [int(k) for k in s[:, 1]],
-                "f_bound": [r6(k * m_p / M_SUB) for k in s[:, 1]],
-                "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
-                "notes": "the N = %d run of this orbit with half the softening and half the step "
-                         "(same realisation); not part of the band, printed by the test" % SOFT_CHECK["n"],
-            }
-        orbits[name] = blk
+    orbits = {name: orbit_block(name, runs) for name in ORBITS}
     total_cpu = sum(float(r["cpu_s"]) for r in runs.values())
     m_c = model_and_df("massive")[0]
     notes = ("Idealised N-body check of the tidal-stripping rate (module docstring of the script). "
@@ -774,12 +805,42 @@ def assemble(work):
     print("wrote %s (total N-body CPU %.0f s)" % (OUT, total_cpu))
 
 
+def add_orbits(work, names):
+    """Add the orbits `names` to the existing JSON without re-running the others: their runs (cached
+    or run now) give their records as in `assemble`; everything already in the JSON is kept as it
+    is, and provenance.additions records the libraries and Python these orbits were made with."""
+    with open(OUT) as fh:
+        out = json.load(fh)
+    runs = {"%s_n%d" % (name, n): run("%s_n%d" % (name, n), work) for name in names for n in NS}
+    for name in names:
+        assert name in ORBITS and name not in out["orbits"], name
+        out["orbits"][name] = orbit_block(name, runs)
+    cpu = sum(float(r["cpu_s"]) for r in runs.values())
+    out["provenance"].setdefault("additions", []).append({
+        "orbits": list(names), "generated": TODAY, "libraries": dict(LIBRARIES),
+        "python": "%d.%d.%d" % sys.version_info[:3], "cpu_s": r6(cpu),
+        "notes": "made later than the rest, with the versions given here (the machine had no "
+                 "Python 3.12 for the pinned scipy 1.18.1 and numpy 2.5.5); the N-body code, "
+                 "REBOUND, is the pinned version"})
+    out["provenance"]["notes"] += (" Orbits %s added later (provenance.additions; each orbit's subhalo in "
+                                   "orbits.<name>.subhalo): %.0f s more N-body CPU." % (", ".join(names), cpu))
+    out["total_cpu_s"] = r6(float(out["total_cpu_s"]) + cpu)
+    with open(OUT, "w") as fh:
+        fh.write(dumps(out) + "\n")
+    print("added %s to %s (N-body CPU %.0f s)" % (", ".join(names), OUT, cpu))
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--work", default="/tmp/stripping_nbody_runs")
     ap.add_argument("--run", action="append", help="run only these (iso_n5000, A_n20000, ...)")
     ap.add_argument("--assemble", action="store_true", help="only assemble the JSON (runs what is missing)")
+    ap.add_argument("--add-orbits", help="add these orbits (comma-separated, e.g. D,E) to the existing JSON, "
+                                         "keeping the rest as it is")
     a = ap.parse_args()
+    if a.add_orbits:
+        add_orbits(a.work, a.add_orbits.split(","))
+        return
     if a.run:
         for name in a.run:
             assert name in all_runs(), name
