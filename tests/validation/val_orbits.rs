@@ -1342,10 +1342,10 @@ fn val_stripping_rate_vs_nbody() {
 /// known failure, printed).
 #[test]
 fn val_stripped_structure_vs_nbody() {
+    use retinue::halo::nfw::mu;
     use retinue::orbits::stripping::SubhaloStructure;
     use retinue::orbits::tidal_track::green_vdb19_enclosed;
     let f = fixture("stripping_nbody.json");
-    let mu = |x: f64| (1.0 + x).ln() - x / (1.0 + x);
     let iso = &f["isolated"]["n20000"]["mean_over_last_half"];
     let keys = ["m_in_half_rs_rel", "m_in_rs_rel", "m_in_2rs_rel"];
     let xs = [0.5, 1.0, 2.0];
@@ -1370,6 +1370,9 @@ fn val_stripped_structure_vs_nbody() {
             floats(&hi["r_kpc"]),
         );
         let lo = &o["runs"]["n5000"];
+        // m(<r) / m_0(<r) at 0.5, 1, 2 r_s, per output, for N = 20000 and 5000
+        let rel_hi: Vec<Vec<f64>> = keys.iter().map(|q| floats(&hi[*q])).collect();
+        let rel_lo: Vec<Vec<f64>> = keys.iter().map(|q| floats(&lo[*q])).collect();
         let t_peri = floats(&o["test_particle_orbit"]["t_peri_gyr"])[0];
         eprintln!(
             "orbit {name} (m_vir {m_vir:.0e} Msun, c = {c}): t, f_bound; m(<0.5, 1, 2 r_s) / t0: N-body (N = 20000; N = 5000) | retinue's closure | Green & van den Bosch 2019"
@@ -1382,8 +1385,8 @@ fn val_stripped_structure_vs_nbody() {
                 continue;
             }
             let m = fb[k] * m_vir;
-            let nb: Vec<f64> = keys.iter().map(|q| floats(&hi[*q])[k]).collect();
-            let nb_lo: Vec<f64> = keys.iter().map(|q| floats(&lo[*q])[k]).collect();
+            let nb: Vec<f64> = rel_hi.iter().map(|v| v[k]).collect();
+            let nb_lo: Vec<f64> = rel_lo.iter().map(|v| v[k]).collect();
             let ours: Vec<f64> = xs
                 .iter()
                 .map(|&x| st.enclosed(x * r_s, m).0 / (m_vir * mu(x) / mu(c)))
