@@ -906,6 +906,15 @@ mod tests {
             .unwrap_err()
             .to_string();
         assert!(e.contains("host.z_final = 8 is not allowed"), "{e}");
+        // the stripping rate's concentration slope: [0, 2], named with its value and range
+        let e = cfg("[orbits]\nstripping_alpha_c_slope = 2.5\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("orbits.stripping_alpha_c_slope = 2.5") && e.contains("[0, 2]"),
+            "{e}"
+        );
+        assert!(cfg("[orbits]\nstripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\n").is_ok());
     }
 
     /// A number written with a unit or in quotes is told its key's allowed range too, for a

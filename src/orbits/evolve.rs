@@ -231,6 +231,7 @@ pub fn evolve_host_subhaloes<R: Rng>(
         options,
         strip: Stripping {
             alpha: options.stripping_alpha,
+            c_slope: options.stripping_alpha_c_slope,
         },
         t_end,
     };
@@ -387,6 +388,7 @@ pub fn evolve_in_isolated_halo(
         options,
         strip: Stripping {
             alpha: options.stripping_alpha,
+            c_slope: options.stripping_alpha_c_slope,
         },
         t_end: t1,
     };
@@ -438,6 +440,7 @@ pub fn evolve_pair_in_host(
         options,
         strip: Stripping {
             alpha: options.stripping_alpha,
+            c_slope: options.stripping_alpha_c_slope,
         },
         t_end: t1,
     };

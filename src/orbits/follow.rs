@@ -432,6 +432,7 @@ pub(crate) fn follow(
     let mut r_t = f64::INFINITY;
     let mut prof_m = m;
     let mut prof = structure.profile(m);
+    let alpha_s = ctx.strip.alpha_for(structure.c_acc);
     let mut mover = Mover::new(tolerances(options, frame, scale), options.max_step_gyr);
     let mut chain: Option<Chain> = match frame {
         Frame::Host => None,
@@ -654,7 +655,7 @@ pub(crate) fn follow(
                 None => (m_t, rate),
             };
             prev_tide = Some((m_t, rate));
-            m = ctx.strip.step(m, m_t_step, h, 1.0 / rate_step);
+            m = Stripping::step_with(alpha_s, m, m_t_step, h, 1.0 / rate_step);
         }
         // the friction step's closing half kick was computed for the mass and Coulomb
         // logarithm at the start of the step: bring it to those at the end (the force is

@@ -39,8 +39,12 @@ pub struct OrbitOptions {
     pub friction: bool,
     /// Tidal stripping on/off.
     pub stripping: bool,
-    /// alpha_s of the mass-loss rate.
+    /// alpha_s of the mass-loss rate (for a subhalo of concentration 10 at infall when
+    /// `stripping_alpha_c_slope` > 0).
     pub stripping_alpha: f64,
+    /// p in alpha_s(c_acc) = stripping_alpha (c_acc / 10)^(-p), c_acc held within 8-15
+    /// (`stripping::Stripping`).
+    pub stripping_alpha_c_slope: f64,
     /// Physical disruption: bound fraction below this.
     pub disrupt_bound_fraction: f64,
     /// Physical disruption: tidal radius below this fraction of the infall scale radius
@@ -70,6 +74,7 @@ impl Default for OrbitOptions {
             friction: true,
             stripping: true,
             stripping_alpha: 0.75,
+            stripping_alpha_c_slope: 0.0,
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
@@ -106,6 +111,12 @@ impl OrbitOptions {
             self.stripping_alpha,
             self.stripping_alpha > 0.0 && self.stripping_alpha <= 20.0,
             "must be in (0, 20]",
+        );
+        ck.num(
+            "stripping_alpha_c_slope",
+            self.stripping_alpha_c_slope,
+            (0.0..=2.0).contains(&self.stripping_alpha_c_slope),
+            "must be in [0, 2] (0 = one alpha_s for every concentration)",
         );
         ck.num(
             "disrupt_bound_fraction",

@@ -1090,6 +1090,18 @@ fn val_mass_lost_in_the_first_radial_orbit() {
 /// `val_stripped_structure_vs_nbody` finds where the concentration enters: the low-c remnant
 /// holds less mass inside 1 and 2 r_s than retinue's structure at the same bound mass.
 ///
+/// The concentration-dependent rate (2026-12-05; `orbits.stripping_alpha_c_slope`, off by
+/// default): alpha_s(c) = alpha (c/10)^-p with c held within 8-15, the range of the setups. A
+/// scan of (alpha, p) over alpha 1.05-1.25 and p 0.3-0.7 against the 15 points (example
+/// `stripping_scan`) gives the smallest rms ln ratio at alpha = 1.15, p = 0.5: 0.096
+/// (0.38 at the default), every ratio within 0.82-1.15 (A 0.93, 1.05, 1.00; B 0.96, 1.06,
+/// 0.94; C 0.82, 1.07, 1.15; D 0.82, 1.03, 1.02; E 0.92, 1.07, 1.04). It is a fit to these
+/// points, so the band holding there is a check of the fit, not an independent test; what it
+/// shows is that one power of the concentration absorbs the difference between c = 8 and 15
+/// (alpha_s 1.29 and 0.94). The low-c setups still lose too much at their first pericentre
+/// (0.82) and too little after (up to 1.15): the shape the rate model cannot follow.
+/// Asserted: the whole band at all 15 points.
+///
 /// Asserted: the orbits are the same (retinue's test-particle pericentres against the
 /// fixture's scipy orbit, 1e-3); the whole band at every point of A, B and E, its lower edge
 /// at every point of C and D; the more plunging orbit (B) and the less concentrated subhaloes
@@ -1264,6 +1276,59 @@ fn val_stripping_rate_vs_nbody() {
         );
     }
     assert!(failures.is_empty(), "{failures:?}");
+    // the concentration-dependent rate (alpha_s(c) = 1.15 (c/10)^-0.5, c held within 8-15):
+    // the whole band at every point of every setup
+    let by_c = OrbitOptions {
+        stripping_alpha: 1.15,
+        stripping_alpha_c_slope: 0.5,
+        ..opts
+    };
+    let mut logs = Vec::new();
+    for (name, o) in f["orbits"].as_object().unwrap() {
+        let sub = o.get("subhalo").unwrap_or(sub_default);
+        let child = (
+            num(&sub["m_vir_msun"]),
+            num(&sub["r_vir_kpc"]),
+            num(&sub["c"]),
+        );
+        let x0 = floats(&o["x0_kpc"]);
+        let v0 = floats(&o["v0_kms"]);
+        let (hi, lo) = (&o["runs"]["n20000"], &o["runs"]["n5000"]);
+        let t = floats(&hi["t_gyr"]);
+        let (f_hi, f_lo) = (floats(&hi["f_bound"]), floats(&lo["f_bound"]));
+        let mut line = Vec::new();
+        for tc in floats(&o["compare_t_gyr"]) {
+            let k = t.iter().position(|&tt| (tt - tc).abs() < 0.01).unwrap();
+            let res = evolve_in_isolated_halo(
+                &by_c,
+                parent,
+                child,
+                [x0[0], x0[1], x0[2]],
+                [v0[0], v0[1], v0[2]],
+                0.0,
+                tc,
+            );
+            let f = res.m_bound_msun / child.0;
+            let band = model_tol + (f_hi[k] / f_lo[k]).ln().abs();
+            let d = (f / f_hi[k]).ln();
+            line.push(f / f_hi[k]);
+            logs.push(d);
+            assert!(
+                d.abs() <= band,
+                "concentration-dependent rate, orbit {name}, t = {tc}: retinue {f:.3} vs N-body {:.3}, ln ratio {d:+.3}, band {band:.3}",
+                f_hi[k]
+            );
+        }
+        eprintln!(
+            "concentration-dependent rate (stripping_alpha 1.15, stripping_alpha_c_slope 0.5), orbit {name} (c = {}): retinue / N-body {line:.2?}",
+            child.2
+        );
+    }
+    let rms = (logs.iter().map(|d| d * d).sum::<f64>() / logs.len() as f64).sqrt();
+    eprintln!(
+        "concentration-dependent rate: rms ln ratio {rms:.3} over {} points",
+        logs.len()
+    );
     let at = |o: &str| {
         &at_compare
             .iter()
@@ -1415,6 +1480,44 @@ fn val_stripped_structure_vs_nbody() {
             n_out += 1;
         }
         assert!(n_out >= 5, "orbit {name}: only {n_out} outputs compared");
+        // the resolution check (orbit D): the N = 5000 run with half the softening and half the
+        // step against the N = 5000 run, at the same outputs. Asserted: halving the softening
+        // does not raise the inner masses by more than the N-body's own spread (mean
+        // |ln(N = 20000 / N = 5000)| at those outputs), so the softening does not make the
+        // c = 8 remnant's deficit (measured 2026-12-05: -0.041 and -0.024 at 1 and 2 r_s,
+        // spreads 0.038 and 0.026: half the softening holds a little less, not more)
+        if let Some(sc) = o
+            .get("softening_check")
+            .filter(|sc| sc.get("m_in_rs_rel").is_some())
+        {
+            assert_eq!(
+                floats(&sc["t_gyr"]),
+                t,
+                "orbit {name}: softening check's outputs"
+            );
+            for j in 1..3 {
+                let half = floats(&sc[keys[j]]);
+                let (mut d, mut spread, mut n) = (0.0, 0.0, 0.0);
+                for k in 0..t.len() {
+                    if t[k] < t_peri + 0.3 || r_c[k] < 100.0 || n_b[k] < 1000.0 {
+                        continue;
+                    }
+                    d += (half[k] / rel_lo[j][k]).ln();
+                    spread += (rel_hi[j][k] / rel_lo[j][k]).ln().abs();
+                    n += 1.0;
+                }
+                let (d, spread) = (d / n, spread / n);
+                eprintln!(
+                    "orbit {name}, r = {} r_s, N = 5000: mean ln(half softening / softening) {d:+.3} over {n} outputs; N-body spread {spread:.3}",
+                    xs[j]
+                );
+                assert!(
+                    d <= spread,
+                    "orbit {name}, {} r_s: half the softening raises the inner mass by {d:+.3} (spread {spread:.3})",
+                    xs[j]
+                );
+            }
+        }
         for j in 1..3 {
             let mean = acc[j].0 / n_out as f64;
             let spread = acc[j].1 / n_out as f64;

@@ -132,6 +132,10 @@ first pericentre: on the 100 Myr outputs its apocentre is 258 kpc at 4.8 Gyr ins
 275 kpc at 5.0 Gyr, its second pericentre 47 kpc at 7.5 Gyr instead of 53 kpc at 7.9 Gyr (both
 N), presumably the pull of its own stripped debris, since the host is a fixed potential;
 `r_kpc` holds the centre's track.)
+Softening check of D (added with `--add-softening-checks D`, same versions as D and E): D's N = 5000
+realisation with half the softening and half the step (run 'D_halfsoft_n5000'), as
+orbits.D.softening_check, with the inner masses (the c = 8 remnant holds less inside r_s than the
+model's structure; this tells whether the softening makes that).
 Isolated: the same realisations without host for 3 Gyr: bound fraction and the mass inside 0.5,
 1 and 2 r_s of the centre (all particles), relative to t = 0 (setup C: N = 5000 only,
 `isolated.C_n5000`).
@@ -205,6 +209,10 @@ INNER_MASS_ORBITS = ("D", "E")
 ISO_EXTRA = {"C": ("massive", 5000, T_ISO)}
 # the softening check: orbit B at N = 5000 with half the softening and half the step
 SOFT_CHECK = {"orbit": "B", "n": 5000, "eps_over_rs": 0.025, "dt": 0.00125}
+# softening checks of other orbits: orbit -> N of a run with half the softening and half the step
+# (same realisation), run name '<orbit>_halfsoft_n<N>'; added for D (c = 8), whose remnant's
+# structure departs from the model's, with --add-softening-checks D
+HALFSOFT = {"D": 5000}
 
 
 def r_vir(m):
@@ -563,6 +571,9 @@ def run(name, work):
     else:
         kind, ntxt = name.split("_n")
         n = int(ntxt)
+        half = kind.endswith("_halfsoft")  # '<orbit>_halfsoft_n<N>': half the softening and step
+        if half:
+            kind = kind[: -len("_halfsoft")]
         if kind.startswith("iso_"):  # iso_<key of ISO_EXTRA>_n<N>
             sub, n_x, t_iso = ISO_EXTRA[kind[4:]]
             assert n == n_x, name
@@ -570,6 +581,8 @@ def run(name, work):
         else:
             sub = "fiducial" if kind == "iso" else ORBITS[kind].get("subhalo", "fiducial")
         eps, dt, out_every = subhalo(sub)[4], DT, OUT_EVERY
+        if half:
+            eps, dt, out_every = 0.5 * eps, 0.5 * DT, 2 * OUT_EVERY
     m_sub, _, r_sub, rs_sub, _ = subhalo(sub)
     t_cpu0, t_wall0 = time.process_time(), time.time()
     m, df = model_and_df(sub)
@@ -632,6 +645,7 @@ def all_runs():
     for o in ORBITS:
         names += ["%s_n%d" % (o, n) for n in NS]
     names += ["iso_%s_n%d" % (k, v[1]) for k, v in ISO_EXTRA.items()]
+    names += ["%s_halfsoft_n%d" % (o, n) for o, n in HALFSOFT.items()]
     return names + ["soft_check"]
 
 
@@ -726,7 +740,56 @@ def orbit_block(name, runs):
             "notes": "the N = %d run of this orbit with half the softening and half the step "
                      "(same realisation); not part of the band, printed by the test" % SOFT_CHECK["n"],
         }
+    if name in HALFSOFT:
+        blk["softening_check"] = halfsoft_record(name, runs)
     return blk
+
+
+def halfsoft_record(name, runs):
+    """orbits.<name>.softening_check for an orbit in HALFSOFT: bound mass and inner masses of the run
+    with half the softening and half the step."""
+    n = HALFSOFT[name]
+    rr = runs["%s_halfsoft_n%d" % (name, n)]
+    sub = ORBITS[name].get("subhalo", "fiducial")
+    m_vir, eps = subhalo(sub)[0], subhalo(sub)[4]
+    rows, m_p = rr["rows"], float(rr["m_p"])
+    s = rows[::STORE_EVERY]  # outputs every 2 OUT_EVERY steps of half the length: 50 Myr, as the others
+    return {
+        "n": n, "softening_kpc": 0.5 * eps, "softening_over_r_s": 0.5 * EPS_OVER_RS, "dt_gyr": 0.5 * DT,
+        "t_gyr": [r6(t) for t in s[:, 0]],
+        "n_bound": [int(k) for k in s[:, 1]],
+        "f_bound": [r6(k * m_p / m_vir) for k in s[:, 1]],
+        "r_kpc": [r6(math.sqrt(a * a + b * b + c * c)) for a, b, c in s[:, 2:5]],
+        "m_in_half_rs_rel": [r6(k / s[0, 8]) for k in s[:, 8]],
+        "m_in_rs_rel": [r6(k / s[0, 9]) for k in s[:, 9]],
+        "m_in_2rs_rel": [r6(k / s[0, 10]) for k in s[:, 10]],
+        "cpu_s": r6(float(rr["cpu_s"])), "steps": int(rr["steps"]),
+        "notes": "the N = %d run of this orbit with half the softening and half the step (same "
+                 "realisation as its N = %d run); not part of the band, printed by the tests" % (n, n),
+    }
+
+
+def add_softening_checks(work, names):
+    """Add orbits.<name>.softening_check (HALFSOFT) to the existing JSON, keeping the rest as it is."""
+    with open(OUT) as fh:
+        out = json.load(fh)
+    cpu = 0.0
+    for name in names:
+        assert name in HALFSOFT and "softening_check" not in out["orbits"][name], name
+        key = "%s_halfsoft_n%d" % (name, HALFSOFT[name])
+        runs = {key: run(key, work)}
+        out["orbits"][name]["softening_check"] = halfsoft_record(name, runs)
+        cpu += float(runs[key]["cpu_s"])
+    out["provenance"].setdefault("additions", []).append({
+        "softening_checks": list(names), "generated": TODAY, "libraries": dict(LIBRARIES),
+        "python": "%d.%d.%d" % sys.version_info[:3], "cpu_s": r6(cpu),
+        "notes": "made later than the rest, with the versions given here (as the orbits D, E)"})
+    out["provenance"]["notes"] += (" Softening checks of orbits %s added later: %.0f s more N-body CPU."
+                                   % (", ".join(names), cpu))
+    out["total_cpu_s"] = r6(float(out["total_cpu_s"]) + cpu)
+    with open(OUT, "w") as fh:
+        fh.write(dumps(out) + "\n")
+    print("added the softening checks of %s to %s (N-body CPU %.0f s)" % (", ".join(names), OUT, cpu))
 
 def assemble(work):
     m, df = model_and_df()
@@ -837,7 +900,12 @@ def main():
     ap.add_argument("--assemble", action="store_true", help="only assemble the JSON (runs what is missing)")
     ap.add_argument("--add-orbits", help="add these orbits (comma-separated, e.g. D,E) to the existing JSON, "
                                          "keeping the rest as it is")
+    ap.add_argument("--add-softening-checks", help="add the softening checks (HALFSOFT) of these orbits "
+                                                   "(comma-separated, e.g. D) to the existing JSON")
     a = ap.parse_args()
+    if a.add_softening_checks:
+        add_softening_checks(a.work, a.add_softening_checks.split(","))
+        return
     if a.add_orbits:
         add_orbits(a.work, a.add_orbits.split(","))
         return
