@@ -915,6 +915,13 @@ mod tests {
             "{e}"
         );
         assert!(cfg("[orbits]\nstripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\n").is_ok());
+        let e = cfg("[orbits]\nfriction_mass_infall_weight = -0.1\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("orbits.friction_mass_infall_weight = -0.1") && e.contains("[0, 1]"),
+            "{e}"
+        );
     }
 
     /// A number written with a unit or in quotes is told its key's allowed range too, for a

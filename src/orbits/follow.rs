@@ -566,11 +566,16 @@ pub(crate) fn follow(
                 mover.step_free(&mut f, t, &y, t_stop)
             }
             (None, true) => {
-                let ll = friction::coulomb_log(m_enc_cont, m);
+                let mf = friction::friction_mass(
+                    m,
+                    res.m_infall_msun,
+                    options.friction_mass_infall_weight,
+                );
+                let ll = friction::coulomb_log(m_enc_cont, mf);
                 let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
                 let mut k =
                     |tt: f64, yy: &State, mm: f64, l: f64| host_friction(host, tt, yy, mm, l);
-                mover.step_friction(&mut f, &mut k, m, ll, t, &y, t_stop)
+                mover.step_friction(&mut f, &mut k, mf, ll, t, &y, t_stop)
             }
             (Some(c), false) => {
                 let mut f = |tt: f64, x: &Vec3| {
@@ -580,13 +585,18 @@ pub(crate) fn follow(
                 mover.step_free(&mut f, t, &y, t_stop)
             }
             (Some(c), true) => {
-                let ll = friction::coulomb_log(m_enc_cont, m);
+                let mf = friction::friction_mass(
+                    m,
+                    res.m_infall_msun,
+                    options.friction_mass_infall_weight,
+                );
+                let ll = friction::coulomb_log(m_enc_cont, mf);
                 let mut f = |tt: f64, x: &Vec3| {
                     count_rhs();
                     c.accel(host, tt, *x)
                 };
                 let mut k = |tt: f64, yy: &State, mm: f64, l: f64| c.friction(tt, yy, mm, l);
-                mover.step_friction(&mut f, &mut k, m, ll, t, &y, t_stop)
+                mover.step_friction(&mut f, &mut k, mf, ll, t, &y, t_stop)
             }
         };
         #[cfg(feature = "orbit-profile")]
@@ -663,8 +673,13 @@ pub(crate) fn follow(
         // of the step (second order in the step also while the mass drops)
         if fr {
             if let Some((k1, m0, l0)) = mover.kick {
-                let ll1 = friction::coulomb_log(m_enc_cont, m);
-                let q = (m * ll1) / (m0 * l0) - 1.0;
+                let mf = friction::friction_mass(
+                    m,
+                    res.m_infall_msun,
+                    options.friction_mass_infall_weight,
+                );
+                let ll1 = friction::coulomb_log(m_enc_cont, mf);
+                let q = (mf * ll1) / (m0 * l0) - 1.0;
                 if q != 0.0 && q.is_finite() {
                     for i in 0..3 {
                         let dv = 0.5 * h * q * k1[i];
@@ -676,7 +691,7 @@ pub(crate) fn follow(
                             a[i + 3] += dv;
                         }
                     }
-                    mover.kick = Some((k1.map(|k| k * (1.0 + q)), m, ll1));
+                    mover.kick = Some((k1.map(|k| k * (1.0 + q)), mf, ll1));
                 }
             }
         }

@@ -37,6 +37,8 @@ pub struct OrbitOptions {
     pub max_step_gyr: f64,
     /// Dynamical friction on/off.
     pub friction: bool,
+    /// w in the friction mass m^(1-w) m_acc^w (`friction::friction_mass`; 0: the bound mass).
+    pub friction_mass_infall_weight: f64,
     /// Tidal stripping on/off.
     pub stripping: bool,
     /// alpha_s of the mass-loss rate (for a subhalo of concentration 10 at infall when
@@ -72,6 +74,7 @@ impl Default for OrbitOptions {
             rtol_in_subhalo: 3e-4,
             max_step_gyr: 0.2,
             friction: true,
+            friction_mass_infall_weight: 0.0,
             stripping: true,
             stripping_alpha: 0.75,
             stripping_alpha_c_slope: 0.0,
@@ -111,6 +114,12 @@ impl OrbitOptions {
             self.stripping_alpha,
             self.stripping_alpha > 0.0 && self.stripping_alpha <= 20.0,
             "must be in (0, 20]",
+        );
+        ck.num(
+            "friction_mass_infall_weight",
+            self.friction_mass_infall_weight,
+            (0.0..=1.0).contains(&self.friction_mass_infall_weight),
+            "must be in [0, 1] (0 = friction on the bound mass, 1 = on the infall mass)",
         );
         ck.num(
             "stripping_alpha_c_slope",
