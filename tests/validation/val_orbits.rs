@@ -1176,17 +1176,20 @@ fn val_stripping_rate_vs_nbody() {
     let mut at_compare: Vec<(String, Vec<f64>)> = Vec::new();
     let mut failures = Vec::new();
     let mut above_band = Vec::new();
-    for (name, o) in f["orbits"].as_object().unwrap() {
-        // the orbit's own subhalo where it differs from setup.subhalo (orbit C)
+    // an orbit's subhalo (m_vir, r_vir, c; its own where it differs from setup.subhalo) and
+    // initial position and velocity
+    let setup_of = |o: &serde_json::Value| {
         let sub = o.get("subhalo").unwrap_or(sub_default);
         let child = (
             num(&sub["m_vir_msun"]),
             num(&sub["r_vir_kpc"]),
             num(&sub["c"]),
         );
-        let x0 = floats(&o["x0_kpc"]);
-        let v0 = floats(&o["v0_kms"]);
-        let (x0, v0) = ([x0[0], x0[1], x0[2]], [v0[0], v0[1], v0[2]]);
+        let (x0, v0) = (floats(&o["x0_kpc"]), floats(&o["v0_kms"]));
+        (child, [x0[0], x0[1], x0[2]], [v0[0], v0[1], v0[2]])
+    };
+    for (name, o) in f["orbits"].as_object().unwrap() {
+        let (child, x0, v0) = setup_of(o);
         // the same orbit: pericentres of retinue's test particle against the fixture's
         let t_end = num(&o["t_end_gyr"]);
         let (_, peri, _) = integrate_test_particle(
@@ -1306,29 +1309,14 @@ fn val_stripping_rate_vs_nbody() {
     };
     let mut logs = Vec::new();
     for (name, o) in f["orbits"].as_object().unwrap() {
-        let sub = o.get("subhalo").unwrap_or(sub_default);
-        let child = (
-            num(&sub["m_vir_msun"]),
-            num(&sub["r_vir_kpc"]),
-            num(&sub["c"]),
-        );
-        let x0 = floats(&o["x0_kpc"]);
-        let v0 = floats(&o["v0_kms"]);
+        let (child, x0, v0) = setup_of(o);
         let (hi, lo) = (&o["runs"]["n20000"], &o["runs"]["n5000"]);
         let t = floats(&hi["t_gyr"]);
         let (f_hi, f_lo) = (floats(&hi["f_bound"]), floats(&lo["f_bound"]));
         let mut line = Vec::new();
         for tc in floats(&o["compare_t_gyr"]) {
             let k = t.iter().position(|&tt| (tt - tc).abs() < 0.01).unwrap();
-            let res = evolve_in_isolated_halo(
-                &by_c,
-                parent,
-                child,
-                [x0[0], x0[1], x0[2]],
-                [v0[0], v0[1], v0[2]],
-                0.0,
-                tc,
-            );
+            let res = evolve_in_isolated_halo(&by_c, parent, child, x0, v0, 0.0, tc);
             let f = res.m_bound_msun / child.0;
             let band = model_tol + (f_hi[k] / f_lo[k]).ln().abs();
             let d = (f / f_hi[k]).ln();
