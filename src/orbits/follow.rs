@@ -433,6 +433,9 @@ pub(crate) fn follow(
     let mut prof_m = m;
     let mut prof = structure.profile(m);
     let alpha_s = ctx.strip.alpha_for(structure.c_acc);
+    // the mass friction acts on, from the bound mass (`friction::friction_mass`)
+    let (m_acc, w_df) = (res.m_infall_msun, options.friction_mass_infall_weight);
+    let df_mass = |m: f64| friction::friction_mass(m, m_acc, w_df);
     let mut mover = Mover::new(tolerances(options, frame, scale), options.max_step_gyr);
     let mut chain: Option<Chain> = match frame {
         Frame::Host => None,
@@ -566,11 +569,7 @@ pub(crate) fn follow(
                 mover.step_free(&mut f, t, &y, t_stop)
             }
             (None, true) => {
-                let mf = friction::friction_mass(
-                    m,
-                    res.m_infall_msun,
-                    options.friction_mass_infall_weight,
-                );
+                let mf = df_mass(m);
                 let ll = friction::coulomb_log(m_enc_cont, mf);
                 let mut f = |tt: f64, x: &Vec3| accel_free(host, tt, x);
                 let mut k =
@@ -585,11 +584,7 @@ pub(crate) fn follow(
                 mover.step_free(&mut f, t, &y, t_stop)
             }
             (Some(c), true) => {
-                let mf = friction::friction_mass(
-                    m,
-                    res.m_infall_msun,
-                    options.friction_mass_infall_weight,
-                );
+                let mf = df_mass(m);
                 let ll = friction::coulomb_log(m_enc_cont, mf);
                 let mut f = |tt: f64, x: &Vec3| {
                     count_rhs();
@@ -673,11 +668,7 @@ pub(crate) fn follow(
         // of the step (second order in the step also while the mass drops)
         if fr {
             if let Some((k1, m0, l0)) = mover.kick {
-                let mf = friction::friction_mass(
-                    m,
-                    res.m_infall_msun,
-                    options.friction_mass_infall_weight,
-                );
+                let mf = df_mass(m);
                 let ll1 = friction::coulomb_log(m_enc_cont, mf);
                 let q = (mf * ll1) / (m0 * l0) - 1.0;
                 if q != 0.0 && q.is_finite() {
