@@ -919,6 +919,9 @@ pub fn check(a: CheckArgs) -> Result<(), CliError> {
     if let Some(w) = analysis::tests_unsupported(&grid) {
         eprintln!("warning: {w}");
     }
+    for n in cfg.file.orbits.calibration_notes() {
+        eprintln!("note: {n}");
+    }
     let (g, d) = (
         &cfg.file.galaxies,
         retinue::galaxies::GalaxyOptions::default(),

@@ -781,6 +781,38 @@ fn check_notes_a_selection_much_wider_than_the_sample() {
     }
 }
 
+/// `check` notes a concentration-dependent stripping rate set without the friction mass and
+/// disc calibration made with it (docs/methods.md), and says nothing for the calibrated set or
+/// the default.
+#[test]
+fn check_notes_settings_calibrated_for_another_stripping_rate() {
+    let d = tempfile::tempdir().unwrap();
+    let friction = "sink into their parents 1.2-1.6 times slower";
+    let disc = "is calibrated for the default stripping rate";
+    for (orbits, expect) in [
+        ("stripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\n", (true, true)),
+        (
+            "stripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\nfriction_mass_infall_weight = 0.3\n",
+            (false, true),
+        ),
+        (
+            "stripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\nfriction_mass_infall_weight = 0.3\ndisc_tide_ratio = 0.85\n",
+            (false, false),
+        ),
+        ("", (false, false)),
+    ] {
+        // TINY has no [orbits] table
+        let cfg = write(d.path(), "o.toml", &format!("{TINY}\n[orbits]\n{orbits}"));
+        let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
+        assert_eq!(code, 0, "{orbits}: {err}");
+        assert_eq!(
+            (err.contains(friction), err.contains(disc)),
+            expect,
+            "{orbits}: {err}"
+        );
+    }
+}
+
 /// `check` notes galaxy-size keys that change nothing because stars are not stripped (a
 /// walkthrough set them with `strip_stars = false` and was told nothing).
 #[test]
