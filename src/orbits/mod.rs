@@ -107,13 +107,22 @@ impl OrbitOptions {
         if self.stripping_alpha_c_slope > 0.0 && self.stripping && self.friction {
             if self.friction_mass_infall_weight == 0.0 {
                 notes.push(format!(
-                    "orbits.stripping_alpha_c_slope = {} with friction on the bound mass alone                      (orbits.friction_mass_infall_weight = 0): satellites of satellites then                      sink into their parents 1.2-1.6 times slower than the published                      merging-time fit; the set calibrated together is stripping_alpha = {a},                      stripping_alpha_c_slope = {p}, friction_mass_infall_weight = {w},                      disc_tide_ratio = {d} (docs/methods.md)",
+                    "orbits.stripping_alpha_c_slope = {} with friction on the bound mass alone \
+                     (orbits.friction_mass_infall_weight = 0): satellites of satellites then \
+                     sink into their parents 1.2-1.6 times slower than the published \
+                     merging-time fit; the set calibrated together is stripping_alpha = {a}, \
+                     stripping_alpha_c_slope = {p}, friction_mass_infall_weight = {w}, \
+                     disc_tide_ratio = {d} (docs/methods.md)",
                     self.stripping_alpha_c_slope
                 ));
             }
             if self.disc_tide_ratio == Self::default().disc_tide_ratio {
                 notes.push(format!(
-                    "orbits.disc_tide_ratio = {} is calibrated for the default stripping rate:                      with orbits.stripping_alpha_c_slope > 0 subhaloes are stripped harder,                      their cores resist the disc, and {d} gives the calibration's target                      (40% of the subhaloes with pericentres inside 25 kpc survive;                      docs/methods.md)",
+                    "orbits.disc_tide_ratio = {} is calibrated for the default stripping rate: \
+                     with orbits.stripping_alpha_c_slope > 0 subhaloes are stripped harder, \
+                     their cores resist the disc, and {d} gives the calibration's target \
+                     (40% of the subhaloes with pericentres inside 25 kpc survive; \
+                     docs/methods.md)",
                     self.disc_tide_ratio
                 ));
             }

@@ -810,6 +810,10 @@ fn check_notes_settings_calibrated_for_another_stripping_rate() {
             expect,
             "{orbits}: {err}"
         );
+        // one line each, its words single-spaced
+        for l in err.lines().filter(|l| l.contains("stripping_alpha_c_slope")) {
+            assert!(l.starts_with("note: ") && !l.contains("  "), "{l}");
+        }
     }
 }
 
