@@ -660,7 +660,7 @@ pub(crate) fn follow(
                 None => (m_t, rate),
             };
             prev_tide = Some((m_t, rate));
-            m = Stripping::step_with(alpha_s, m, m_t_step, h, 1.0 / rate_step);
+            m = Stripping::step(alpha_s, m, m_t_step, h, 1.0 / rate_step);
         }
         // the friction step's closing half kick was computed for the mass and Coulomb
         // logarithm at the start of the step: bring it to those at the end (the force is

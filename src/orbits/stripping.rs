@@ -211,15 +211,6 @@ pub struct Stripping {
     pub c_slope: f64,
 }
 
-impl Default for Stripping {
-    fn default() -> Self {
-        Self {
-            alpha: 0.75,
-            c_slope: 0.0,
-        }
-    }
-}
-
 /// The concentration at which `Stripping::alpha` applies as given.
 pub const C_REF: f64 = 10.0;
 
@@ -252,15 +243,10 @@ impl Stripping {
         (3.0 * std::f64::consts::PI / (16.0 * G * rho)).sqrt()
     }
 
-    /// Bound mass after a step of length h with tidal mass m_t held fixed.
+    /// Bound mass after a step of length h with tidal mass m_t held fixed, for the subhalo's
+    /// alpha_s (`alpha_for`).
     #[inline]
-    pub fn step(&self, m: f64, m_t: f64, h: f64, t_dyn: f64) -> f64 {
-        Self::step_with(self.alpha, m, m_t, h, t_dyn)
-    }
-
-    /// `step` with a given alpha_s (`alpha_for` of the subhalo).
-    #[inline]
-    pub fn step_with(alpha: f64, m: f64, m_t: f64, h: f64, t_dyn: f64) -> f64 {
+    pub fn step(alpha: f64, m: f64, m_t: f64, h: f64, t_dyn: f64) -> f64 {
         if m_t >= m {
             return m;
         }
@@ -436,14 +422,10 @@ mod tests {
 
     #[test]
     fn mass_loss_relaxes_to_the_tidal_mass() {
-        let s = Stripping {
-            alpha: 0.75,
-            c_slope: 0.0,
-        };
-        assert_eq!(s.step(1.0, 2.0, 1.0, 1.0), 1.0);
-        let m = s.step(1.0, 0.5, 100.0, 1.0);
+        assert_eq!(Stripping::step(0.75, 1.0, 2.0, 1.0, 1.0), 1.0);
+        let m = Stripping::step(0.75, 1.0, 0.5, 100.0, 1.0);
         assert!((m - 0.5).abs() < 1e-12);
-        let m = s.step(1.0, 0.5, 1.0, 1.0);
+        let m = Stripping::step(0.75, 1.0, 0.5, 1.0, 1.0);
         assert!((m - (0.5 + 0.5 * (-0.75f64).exp())).abs() < 1e-12);
     }
 
