@@ -751,7 +751,8 @@ pub fn stored_config(
     };
     // the orbit options as the run resolved them (a later version's defaults may differ: a
     // review found figures of an older store labelled with today's disc_tide_ratio)
-    match toml::from_str::<crate::orbits::OrbitOptions>(&meta.orbit_options) {
+    // (keys added since take the values that reproduce that version's behaviour)
+    match crate::orbits::OrbitOptions::from_recorded(&meta.orbit_options) {
         Ok(o) if !meta.orbit_options.trim().is_empty() => cfg.file.orbits = o,
         _ => {
             let set = table
@@ -763,7 +764,7 @@ pub fn stored_config(
                     "{} does not record its orbit options (written before they were): the \
                      keys its configuration leaves out are read at this version's defaults, \
                      which label the figures (orbits.disc_tide_ratio = {}; it was 1.6 before \
-                     2026-12-04)",
+                     2026-12-04 and 1.2 until 2026-12-05)",
                     store.display(),
                     cfg.file.orbits.disc_tide_ratio
                 ));

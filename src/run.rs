@@ -962,6 +962,30 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
                 first.master_seed
             )));
         }
+        // the orbit options as resolved when the hosts were grown: the same configuration
+        // text run by builds with other defaults grows other hosts
+        if !m.orbit_options.trim().is_empty()
+            && !first.orbit_options.trim().is_empty()
+            && m.orbit_options != first.orbit_options
+        {
+            let keys = config_differences(&first.orbit_options, &m.orbit_options);
+            if !keys.is_empty() {
+                return Err(RunError::Input(format!(
+                    "{}: its hosts were grown with other orbit options than {}'s ({} differ, \
+                     as resolved when each ran: builds {} and {} of retinue, whose defaults \
+                     may differ); shards of one run must be grown by one build: re-run this \
+                     shard with the other's",
+                    p.display(),
+                    metas[0].1.display(),
+                    keys.iter()
+                        .map(|k| format!("orbits.{k}"))
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                    first.crate_version,
+                    m.crate_version
+                )));
+            }
+        }
         if m.config_toml == first.config_toml {
             continue;
         }
@@ -1175,7 +1199,7 @@ mod tests {
         // the [cosmology] table; a real difference inside a list is still one
         let c = "[cosmology]\npreset = \"planck18\"\n[host]\nmass_msun = 1.2e12\n";
         let d = "[[cosmology]]\npreset = \"planck18\"\n[host]\nmass_msun = [1.2e12]\n\
-                 [orbits]\nstripping_alpha = 0.75\n";
+                 [orbits]\nstripping_alpha = 1.15\n";
         assert!(
             config_differences(c, d).is_empty(),
             "{:?}",
@@ -1186,7 +1210,7 @@ mod tests {
             vec!["host.mass_msun".to_string()]
         );
         assert_eq!(
-            config_differences(c, &d.replace("0.75", "1.1")),
+            config_differences(c, &d.replace("1.15", "1.1")),
             vec!["orbits.stripping_alpha".to_string()]
         );
         assert!(config_differences(a, &format!("{a}\n# later\n")).is_empty());

@@ -41,8 +41,8 @@ pub struct OrbitOptions {
     pub friction_mass_infall_weight: f64,
     /// Tidal stripping on/off.
     pub stripping: bool,
-    /// alpha_s of the mass-loss rate (for a subhalo of concentration 10 at infall when
-    /// `stripping_alpha_c_slope` > 0).
+    /// alpha_s of the mass-loss rate for a subhalo of concentration 10 at infall (of every
+    /// subhalo when `stripping_alpha_c_slope` is 0).
     pub stripping_alpha: f64,
     /// p in alpha_s(c_acc) = stripping_alpha (c_acc / 10)^(-p), c_acc held within 8-15
     /// (`stripping::Stripping`).
@@ -74,58 +74,105 @@ impl Default for OrbitOptions {
             rtol_in_subhalo: 3e-4,
             max_step_gyr: 0.2,
             friction: true,
-            friction_mass_infall_weight: 0.0,
+            friction_mass_infall_weight: 0.3,
             stripping: true,
-            stripping_alpha: 0.75,
-            stripping_alpha_c_slope: 0.0,
+            stripping_alpha: 1.15,
+            stripping_alpha_c_slope: 0.5,
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            disc_tide_ratio: 1.2,
+            disc_tide_ratio: 0.85,
             central_merge_kpc: 1.0,
             infall_orbits: initial::InfallOrbits::default(),
         }
     }
 }
 
-/// The settings calibrated together with the concentration-dependent stripping rate
-/// (docs/methods.md, 2026-12-05): `stripping_alpha`, `stripping_alpha_c_slope`,
+/// The settings calibrated together with the concentration-dependent stripping rate, the
+/// defaults since 2026-12-05 (docs/methods.md): `stripping_alpha`, `stripping_alpha_c_slope`,
 /// `friction_mass_infall_weight`, `disc_tide_ratio`.
 pub const BY_CONCENTRATION: (f64, f64, f64, f64) = (1.15, 0.5, 0.3, 0.85);
 
+/// The same four settings calibrated together with one stripping rate for every subhalo, the
+/// defaults from 2026-12-04 to 2026-12-05 (docs/methods.md), for comparison with runs made
+/// then.
+pub const SINGLE_RATE: (f64, f64, f64, f64) = (0.75, 0.0, 0.0, 1.2);
+
+/// Keys of `OrbitOptions` added after stores began to record the resolved options (2026-12-04),
+/// each with the value that reproduces what the code did before the key existed: a store
+/// written then lacks them, and must not be read at today's defaults.
+pub const KEYS_ADDED_LATER: [(&str, f64); 2] = [
+    ("stripping_alpha_c_slope", 0.0),
+    ("friction_mass_infall_weight", 0.0),
+];
+
 impl OrbitOptions {
-    /// What `check` says of settings calibrated on another stripping rate than the one set
-    /// (empty: nothing to say). With `stripping_alpha_c_slope` > 0 the stripping is faster
-    /// than the default's, which friction on the bound mass alone and the default disc
-    /// calibration were made for: children then sink into their parents too slowly
-    /// (1.20-1.60 times the merging-time fit at z = 0 with friction on the bound mass) and
-    /// the disc's tide destroys too few (0.53 of the subhaloes with pericentres inside 25 kpc
-    /// survive at 1.2 against the target 0.40).
+    /// The options a store recorded (TOML written by the version that grew its hosts): keys
+    /// added after that version take the value that reproduces its behaviour
+    /// (`KEYS_ADDED_LATER`), not this version's defaults.
+    pub fn from_recorded(text: &str) -> Result<Self, toml::de::Error> {
+        let mut table: toml::Table = toml::from_str(text)?;
+        for (key, before) in KEYS_ADDED_LATER {
+            table
+                .entry(key.to_string())
+                .or_insert(toml::Value::Float(before));
+        }
+        Self::deserialize(table)
+    }
+
+    /// What `check` says of settings that mix the two calibrated sets (empty: nothing to
+    /// say). With `stripping_alpha_c_slope` > 0 and friction on the bound mass alone, children
+    /// sink into their parents 1.20-1.60 times slower than the merging-time fit at z = 0; the
+    /// disc's ratio was calibrated for one rate or the other (0.85 with the concentration-
+    /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc, 1.2 there
+    /// keeps 0.53; 1.2 is the single rate's value).
     pub fn calibration_notes(&self) -> Vec<String> {
-        let (a, p, w, d) = BY_CONCENTRATION;
+        let sets = |(a, p, w, d): (f64, f64, f64, f64)| {
+            format!(
+                "stripping_alpha = {a}, stripping_alpha_c_slope = {p}, \
+                 friction_mass_infall_weight = {w}, disc_tide_ratio = {d}"
+            )
+        };
+        let (by_c, single) = (sets(BY_CONCENTRATION), sets(SINGLE_RATE));
         let mut notes = Vec::new();
-        if self.stripping_alpha_c_slope > 0.0 && self.stripping && self.friction {
-            if self.friction_mass_infall_weight == 0.0 {
-                notes.push(format!(
-                    "orbits.stripping_alpha_c_slope = {} with friction on the bound mass alone \
-                     (orbits.friction_mass_infall_weight = 0): satellites of satellites then \
-                     sink into their parents 1.2-1.6 times slower than the published \
-                     merging-time fit; the set calibrated together is stripping_alpha = {a}, \
-                     stripping_alpha_c_slope = {p}, friction_mass_infall_weight = {w}, \
-                     disc_tide_ratio = {d} (docs/methods.md)",
-                    self.stripping_alpha_c_slope
-                ));
-            }
-            if self.disc_tide_ratio == Self::default().disc_tide_ratio {
-                notes.push(format!(
-                    "orbits.disc_tide_ratio = {} is calibrated for the default stripping rate: \
-                     with orbits.stripping_alpha_c_slope > 0 subhaloes are stripped harder, \
-                     their cores resist the disc, and {d} gives the calibration's target \
-                     (40% of the subhaloes with pericentres inside 25 kpc survive; \
-                     docs/methods.md)",
-                    self.disc_tide_ratio
-                ));
-            }
+        if !(self.stripping && self.friction) {
+            return notes;
+        }
+        let by_concentration = self.stripping_alpha_c_slope > 0.0;
+        if by_concentration && self.friction_mass_infall_weight == 0.0 {
+            notes.push(format!(
+                "orbits.stripping_alpha_c_slope = {} with friction on the bound mass alone \
+                 (orbits.friction_mass_infall_weight = 0): satellites of satellites then sink \
+                 into their parents 1.2-1.6 times slower than the published merging-time fit; \
+                 the set calibrated together is {by_c} (the defaults; docs/methods.md)",
+                self.stripping_alpha_c_slope
+            ));
+        }
+        if !by_concentration && self.friction_mass_infall_weight > 0.0 {
+            notes.push(format!(
+                "orbits.friction_mass_infall_weight = {} was calibrated with the \
+                 concentration-dependent stripping rate (orbits.stripping_alpha_c_slope > 0), \
+                 not with one rate for every subhalo; the set calibrated with one rate is \
+                 {single} (docs/methods.md)",
+                self.friction_mass_infall_weight
+            ));
+        }
+        let disc = self.disc_tide_ratio;
+        if (by_concentration && disc == SINGLE_RATE.3)
+            || (!by_concentration && disc == BY_CONCENTRATION.3)
+        {
+            let (this, other) = if by_concentration {
+                ("one stripping rate for every subhalo", &by_c)
+            } else {
+                ("the concentration-dependent stripping rate", &single)
+            };
+            notes.push(format!(
+                "orbits.disc_tide_ratio = {disc} is calibrated for {this}, not for the rate set \
+                 here: the disc then destroys the wrong share of the subhaloes that pass near \
+                 it (the calibration's target: 40% of those with pericentres inside 25 kpc \
+                 survive); the set calibrated for the rate set here is {other} \
+                 (docs/methods.md)"
+            ));
         }
         notes
     }
@@ -209,5 +256,32 @@ impl OrbitOptions {
              subhalo that sinks to the centre)",
         );
         ck.problems
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A store's recorded options without the keys added later read as the code behaved
+    /// then (one stripping rate, friction on the bound mass), not at today's defaults.
+    #[test]
+    fn recorded_options_without_later_keys() {
+        let today = OrbitOptions::default();
+        let text = toml::to_string(&today).unwrap();
+        assert_eq!(OrbitOptions::from_recorded(&text).unwrap(), today);
+        let older = text
+            .lines()
+            .filter(|l| !KEYS_ADDED_LATER.iter().any(|(k, _)| l.starts_with(k)))
+            .collect::<Vec<_>>()
+            .join("\n");
+        assert_ne!(older, text);
+        let old = OrbitOptions::from_recorded(&older).unwrap();
+        assert_eq!(old.stripping_alpha_c_slope, 0.0);
+        assert_eq!(old.friction_mass_infall_weight, 0.0);
+        assert_ne!(today.stripping_alpha_c_slope, 0.0);
+        assert_ne!(today.friction_mass_infall_weight, 0.0);
+        assert_eq!(old.disc_tide_ratio, today.disc_tide_ratio);
+        assert!(OrbitOptions::from_recorded("rtol = \"x\"").is_err());
     }
 }

@@ -9,21 +9,20 @@
 //!   along the satellite–host line from the full potential (disc included).
 //! * Mass loss (instantaneous-stripping model of Taylor & Babul 2001, in the form of Green,
 //!   van den Bosch & Jiang 2021): dm/dt = -alpha_s [m - m(<r_t)] / t_dyn(r), with
-//!   t_dyn = sqrt(3 pi / (16 G rho_mean_host(<r))) and alpha_s = 0.75, calibrated with this
-//!   tidal radius against an idealised N-body experiment (`val_stripping_rate_vs_nbody`, within
-//!   27% at six times on two orbits; 0.9 fits it best) and the merging times of children
-//!   (`val_merging_times_vs_the_z0_fit`, within 1.42 of the fit; 0.55 fits them best); the
-//!   physics reference sheet's 0.55 (recalled for that paper's calibration) kept 1.3-1.7 times
-//!   the N-body's bound mass; integrated over a step with m_t the average of
-//!   m(<r_t) at the two ends of the step (`follow`),
+//!   t_dyn = sqrt(3 pi / (16 G rho_mean_host(<r))), integrated over a step with m_t the
+//!   average of m(<r_t) at the two ends of the step (`follow`),
 //!   m -> m_t + (m - m_t) exp(-alpha_s h / t_dyn). No mass is gained back.
-//! * Optionally (`orbits.stripping_alpha_c_slope` = p > 0; off by default) alpha_s depends on
-//!   the concentration at infall, alpha_s(c) = alpha (c/10)^-p with c held within 8-15: three
-//!   more N-body setups (2026-12-05) show that a c = 8 subhalo loses its mass much faster than
-//!   a c = 15 one on the same orbit, whatever its mass; alpha = 1.15, p = 0.5 fits all five
-//!   setups within 0.82-1.15 (`val_stripping_rate_vs_nbody`), where the single 0.75 keeps up
-//!   to 2.3 times the c = 8 subhaloes' bound mass. Not the default yet: with it the merging
-//!   times of children and the disc's calibration move (docs/methods.md).
+//! * alpha_s depends on the concentration at infall (`orbits.stripping_alpha_c_slope` = p,
+//!   default 0.5): alpha_s(c) = alpha (c/10)^-p with c held within 8-15 and alpha = 1.15 by
+//!   default. An idealised N-body experiment with this tidal radius (five setups,
+//!   `val_stripping_rate_vs_nbody`) shows that a c = 8 subhalo loses its mass much faster than
+//!   a c = 15 one on the same orbit, whatever its mass; (1.15, 0.5) fits all five within
+//!   0.82-1.15, where one alpha_s for every subhalo (0.75, p = 0: the default from 2026-12-04
+//!   to 2026-12-05, `orbits::SINGLE_RATE`) keeps up to 2.3 times the c = 8 subhaloes' bound
+//!   mass, and the physics reference sheet's 0.55 (recalled for that paper's calibration)
+//!   kept 1.3-1.7 times the c = 15 subhalo's. The merging times of children stay within their
+//!   band with this rate when friction acts on part of the infall mass
+//!   (`orbits.friction_mass_infall_weight` 0.3, `friction::friction_mass`; docs/methods.md).
 
 use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
 use crate::halo::nfw::{mu, M_OVER_X_AT_MAX, X_MAX};

@@ -500,10 +500,10 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
     let recorded = {
         let f = hdf5::File::open_rw(&store).unwrap();
         let text = retinue::io::h5::get_str_attr(&f, "orbit_options").unwrap();
-        assert!(text.contains("disc_tide_ratio = 1.2"), "{text}");
+        assert!(text.contains("disc_tide_ratio = 0.85"), "{text}");
         // as a version with another default would have recorded it
         f.delete_attr("orbit_options").unwrap();
-        let other = text.replace("disc_tide_ratio = 1.2", "disc_tide_ratio = 1.6");
+        let other = text.replace("disc_tide_ratio = 0.85", "disc_tide_ratio = 1.6");
         retinue::io::h5::set_str_attr(&f, "orbit_options", &other).unwrap();
         text
     };
@@ -781,37 +781,52 @@ fn check_notes_a_selection_much_wider_than_the_sample() {
     }
 }
 
-/// `check` notes a concentration-dependent stripping rate set without the friction mass and
-/// disc calibration made with it (docs/methods.md), and says nothing for the calibrated set or
-/// the default.
+/// `check` notes settings that mix the two calibrated sets (`orbits::BY_CONCENTRATION`, the
+/// defaults, and `orbits::SINGLE_RATE`, the defaults before 2026-12-05; docs/methods.md): a
+/// concentration-dependent rate without the friction mass, the friction mass with one rate,
+/// and a disc ratio calibrated for the other rate; and says nothing for either set whole.
 #[test]
 fn check_notes_settings_calibrated_for_another_stripping_rate() {
     let d = tempfile::tempdir().unwrap();
     let friction = "sink into their parents 1.2-1.6 times slower";
-    let disc = "is calibrated for the default stripping rate";
+    let friction_single = "was calibrated with the concentration-dependent stripping rate";
+    let disc = "orbits.disc_tide_ratio = ";
     for (orbits, expect) in [
-        ("stripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\n", (true, true)),
+        // the defaults (the concentration-dependent set)
+        ("", (false, false, false)),
+        ("friction_mass_infall_weight = 0\n", (true, false, false)),
+        ("disc_tide_ratio = 1.2\n", (false, false, true)),
+        // the single-rate set of 2026-12-04, whole and in part
         (
-            "stripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\nfriction_mass_infall_weight = 0.3\n",
-            (false, true),
+            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\nfriction_mass_infall_weight = 0\ndisc_tide_ratio = 1.2\n",
+            (false, false, false),
         ),
         (
-            "stripping_alpha = 1.15\nstripping_alpha_c_slope = 0.5\nfriction_mass_infall_weight = 0.3\ndisc_tide_ratio = 0.85\n",
-            (false, false),
+            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\n",
+            (false, true, true),
         ),
-        ("", (false, false)),
+        (
+            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\nfriction_mass_infall_weight = 0\n",
+            (false, false, true),
+        ),
+        // without friction nothing is said
+        ("friction = false\ndisc_tide_ratio = 1.2\n", (false, false, false)),
     ] {
         // TINY has no [orbits] table
         let cfg = write(d.path(), "o.toml", &format!("{TINY}\n[orbits]\n{orbits}"));
         let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
         assert_eq!(code, 0, "{orbits}: {err}");
         assert_eq!(
-            (err.contains(friction), err.contains(disc)),
+            (
+                err.contains(friction),
+                err.contains(friction_single),
+                err.contains(disc)
+            ),
             expect,
             "{orbits}: {err}"
         );
         // one line each, its words single-spaced
-        for l in err.lines().filter(|l| l.contains("stripping_alpha_c_slope")) {
+        for l in err.lines().filter(|l| l.contains("docs/methods.md)")) {
             assert!(l.starts_with("note: ") && !l.contains("  "), "{l}");
         }
     }

@@ -184,7 +184,9 @@ M_SUB, C_SUB = 1.0e9, 15.0  # the fiducial subhalo (orbits A, B)
 # subhaloes: key -> (m_vir, c); orbits name theirs ("fiducial" unless given)
 SUBHALOS = {"fiducial": (M_SUB, C_SUB), "massive": (1.0e10, 8.0),
             # C's two differences from the fiducial subhalo one at a time (D, E)
-            "low_c": (M_SUB, 8.0), "massive_c15": (1.0e10, C_SUB)}
+            "low_c": (M_SUB, 8.0), "massive_c15": (1.0e10, C_SUB),
+            # below the calibrated range of the concentration-dependent rate (F)
+            "c5": (M_SUB, 5.0)}
 R_DECAY_FRAC = 0.1
 
 EPS_OVER_RS = 0.05
@@ -201,10 +203,11 @@ ORBITS = {
     "C": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "massive"},  # orbit A, the massive subhalo
     "D": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "low_c"},  # orbit A, fiducial mass, c = 8
     "E": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "massive_c15"},  # orbit A, 1e10, c = 15
+    "F": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "c5"},  # orbit A, fiducial mass, c = 5
 }
 # orbits whose records also hold the mass inside 0.5, 1, 2 r_s (added with D and E; A-C were
 # assembled before, and their cached runs are gone)
-INNER_MASS_ORBITS = ("D", "E")
+INNER_MASS_ORBITS = ("D", "E", "F")
 # isolated runs of subhaloes other than the fiducial one: key -> (subhalo, N, duration Gyr)
 ISO_EXTRA = {"C": ("massive", 5000, T_ISO)}
 # the softening check: orbit B at N = 5000 with half the softening and half the step
