@@ -44,7 +44,7 @@ pub struct OrbitOptions {
     /// alpha_s of the mass-loss rate for a subhalo of concentration 10 at infall (of every
     /// subhalo when `stripping_alpha_c_slope` is 0).
     pub stripping_alpha: f64,
-    /// p in alpha_s(c_acc) = stripping_alpha (c_acc / 10)^(-p), c_acc held within 8-15
+    /// p in alpha_s(c_acc) = stripping_alpha (c_acc / 10)^(-p), c_acc held within 5-15
     /// (`stripping::Stripping`).
     pub stripping_alpha_c_slope: f64,
     /// Physical disruption: bound fraction below this.
@@ -74,14 +74,14 @@ impl Default for OrbitOptions {
             rtol_in_subhalo: 3e-4,
             max_step_gyr: 0.2,
             friction: true,
-            friction_mass_infall_weight: 0.3,
+            friction_mass_infall_weight: 0.35,
             stripping: true,
             stripping_alpha: 1.15,
             stripping_alpha_c_slope: 0.5,
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            disc_tide_ratio: 0.85,
+            disc_tide_ratio: 0.8,
             central_merge_kpc: 1.0,
             infall_orbits: initial::InfallOrbits::default(),
         }
@@ -91,7 +91,7 @@ impl Default for OrbitOptions {
 /// The settings calibrated together with the concentration-dependent stripping rate, the
 /// defaults since 2026-12-05 (docs/methods.md): `stripping_alpha`, `stripping_alpha_c_slope`,
 /// `friction_mass_infall_weight`, `disc_tide_ratio`.
-pub const BY_CONCENTRATION: (f64, f64, f64, f64) = (1.15, 0.5, 0.3, 0.85);
+pub const BY_CONCENTRATION: (f64, f64, f64, f64) = (1.15, 0.5, 0.35, 0.8);
 
 /// The same four settings calibrated together with one stripping rate for every subhalo, the
 /// defaults from 2026-12-04 to 2026-12-05 (docs/methods.md), for comparison with runs made
@@ -123,9 +123,9 @@ impl OrbitOptions {
     /// What `check` says of settings that mix the two calibrated sets (empty: nothing to
     /// say). With `stripping_alpha_c_slope` > 0 and friction on the bound mass alone, children
     /// sink into their parents 1.20-1.60 times slower than the merging-time fit at z = 0; the
-    /// disc's ratio was calibrated for one rate or the other (0.85 with the concentration-
-    /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc, 1.2 there
-    /// keeps 0.53; 1.2 is the single rate's value).
+    /// disc's ratio was calibrated for one rate or the other (0.8 with the concentration-
+    /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc; 1.2 is the
+    /// single rate's value, which keeps about 0.53 with the concentration-dependent rate).
     pub fn calibration_notes(&self) -> Vec<String> {
         let sets = |(a, p, w, d): (f64, f64, f64, f64)| {
             format!(

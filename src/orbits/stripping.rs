@@ -13,16 +13,17 @@
 //!   average of m(<r_t) at the two ends of the step (`follow`),
 //!   m -> m_t + (m - m_t) exp(-alpha_s h / t_dyn). No mass is gained back.
 //! * alpha_s depends on the concentration at infall (`orbits.stripping_alpha_c_slope` = p,
-//!   default 0.5): alpha_s(c) = alpha (c/10)^-p with c held within 8-15 and alpha = 1.15 by
-//!   default. An idealised N-body experiment with this tidal radius (five setups,
+//!   default 0.5): alpha_s(c) = alpha (c/10)^-p with c held within 5-15 and alpha = 1.15 by
+//!   default. An idealised N-body experiment with this tidal radius (six setups,
 //!   `val_stripping_rate_vs_nbody`) shows that a c = 8 subhalo loses its mass much faster than
-//!   a c = 15 one on the same orbit, whatever its mass; (1.15, 0.5) fits all five within
-//!   0.82-1.15, where one alpha_s for every subhalo (0.75, p = 0: the default from 2026-12-04
+//!   a c = 15 one on the same orbit, whatever its mass, and a c = 5 one faster still;
+//!   (1.15, 0.5), fitted on the five of c = 8 and 15 (within 0.82-1.15), predicts the c = 5
+//!   one within 0.73-1.23, where one alpha_s for every subhalo (0.75, p = 0: the default from 2026-12-04
 //!   to 2026-12-05, `orbits::SINGLE_RATE`) keeps up to 2.3 times the c = 8 subhaloes' bound
 //!   mass, and the physics reference sheet's 0.55 (recalled for that paper's calibration)
 //!   kept 1.3-1.7 times the c = 15 subhalo's. The merging times of children stay within their
 //!   band with this rate when friction acts on part of the infall mass
-//!   (`orbits.friction_mass_infall_weight` 0.3, `friction::friction_mass`; docs/methods.md).
+//!   (`orbits.friction_mass_infall_weight` 0.35, `friction::friction_mass`; docs/methods.md).
 
 use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
 use crate::halo::nfw::{mu, M_OVER_X_AT_MAX, X_MAX};
@@ -213,11 +214,12 @@ pub struct Stripping {
 /// The concentration at which `Stripping::alpha` applies as given.
 pub const C_REF: f64 = 10.0;
 
-/// The concentrations the N-body setups span (8 and 15): outside them alpha_s(c) is held at
-/// its value at the nearer end rather than extrapolated (measured on 64 hosts, 2026-12-05:
-/// extrapolated, the pre-processed fraction of faint dwarfs is 0.690 instead of 0.670 and
-/// the fraction inside another halo at z > 6 0.227 instead of 0.185; docs/methods.md).
-pub const C_CALIBRATED: (f64, f64) = (8.0, 15.0);
+/// The concentrations the N-body setups span (5, 8 and 15): outside them alpha_s(c) is held
+/// at its value at the nearer end rather than extrapolated. The range was 8-15 until setup F
+/// (c = 5, 2026-12-05): fitted on 8 and 15 only, (1.15, 0.5) predicted F within its band when
+/// extrapolated (0.73, 0.95, 1.23 of the N-body's bound mass) and missed it when held at 8
+/// (1.00, 1.28, 1.88); docs/methods.md.
+pub const C_CALIBRATED: (f64, f64) = (5.0, 15.0);
 
 impl Stripping {
     /// alpha_s for a subhalo of concentration c_acc at infall: alpha (c / C_REF)^(-p), with
@@ -437,10 +439,11 @@ mod tests {
             c_slope: 0.5,
         };
         assert!((s.alpha_for(10.0) - 1.15).abs() < 1e-15);
-        // (8/10)^-0.5 = 1.118034, (15/10)^-0.5 = 0.816497
+        // (8/10)^-0.5 = 1.118034, (15/10)^-0.5 = 0.816497, (5/10)^-0.5 = 1.414214
         assert!((s.alpha_for(8.0) - 1.15 * 1.118_034).abs() < 1e-6);
         assert!((s.alpha_for(15.0) - 1.15 * 0.816_497).abs() < 1e-6);
-        assert_eq!(s.alpha_for(3.0), s.alpha_for(8.0));
+        assert!((s.alpha_for(5.0) - 1.15 * 1.414_214).abs() < 1e-6);
+        assert_eq!(s.alpha_for(3.0), s.alpha_for(5.0));
         assert_eq!(s.alpha_for(40.0), s.alpha_for(15.0));
         assert!(s.alpha_for(9.0) < s.alpha_for(8.5));
         let flat = Stripping {

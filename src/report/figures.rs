@@ -2050,11 +2050,11 @@ mod tests {
         let mut o = OrbitOptions::default();
         assert_eq!(
             survival_words(Survival::Physical, &o),
-            "survival: disc tide (disc_tide_ratio = 0.85)"
+            "survival: disc tide (disc_tide_ratio = 0.8)"
         );
         assert_eq!(
             survival_words(Survival::Pericentre, &o),
-            "survival: disc tide (disc_tide_ratio = 0.85) + 20 kpc pericentre cut"
+            "survival: disc tide (disc_tide_ratio = 0.8) + 20 kpc pericentre cut"
         );
         o.disc_tide_ratio = 0.0;
         assert_eq!(

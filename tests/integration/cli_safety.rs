@@ -500,10 +500,10 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
     let recorded = {
         let f = hdf5::File::open_rw(&store).unwrap();
         let text = retinue::io::h5::get_str_attr(&f, "orbit_options").unwrap();
-        assert!(text.contains("disc_tide_ratio = 0.85"), "{text}");
+        assert!(text.contains("disc_tide_ratio = 0.8"), "{text}");
         // as a version with another default would have recorded it
         f.delete_attr("orbit_options").unwrap();
-        let other = text.replace("disc_tide_ratio = 0.85", "disc_tide_ratio = 1.6");
+        let other = text.replace("disc_tide_ratio = 0.8", "disc_tide_ratio = 1.6");
         retinue::io::h5::set_str_attr(&f, "orbit_options", &other).unwrap();
         text
     };
