@@ -439,10 +439,10 @@ mod tests {
             c_slope: 0.5,
         };
         assert!((s.alpha_for(10.0) - 1.15).abs() < 1e-15);
-        // (8/10)^-0.5 = 1.118034, (15/10)^-0.5 = 0.816497, (5/10)^-0.5 = 1.414214
+        // (8/10)^-0.5 = 1.118034, (15/10)^-0.5 = 0.816497, (5/10)^-0.5 = sqrt(2)
         assert!((s.alpha_for(8.0) - 1.15 * 1.118_034).abs() < 1e-6);
         assert!((s.alpha_for(15.0) - 1.15 * 0.816_497).abs() < 1e-6);
-        assert!((s.alpha_for(5.0) - 1.15 * 1.414_214).abs() < 1e-6);
+        assert!((s.alpha_for(5.0) - 1.15 * std::f64::consts::SQRT_2).abs() < 1e-12);
         assert_eq!(s.alpha_for(3.0), s.alpha_for(5.0));
         assert_eq!(s.alpha_for(40.0), s.alpha_for(15.0));
         assert!(s.alpha_for(9.0) < s.alpha_for(8.5));
