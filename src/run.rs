@@ -962,30 +962,6 @@ pub fn merge_stores(inputs: &[PathBuf], out: &Path) -> Result<PathBuf, RunError>
                 first.master_seed
             )));
         }
-        // the orbit options as resolved when the hosts were grown: the same configuration
-        // text run by builds with other defaults grows other hosts
-        if !m.orbit_options.trim().is_empty()
-            && !first.orbit_options.trim().is_empty()
-            && m.orbit_options != first.orbit_options
-        {
-            let keys = config_differences(&first.orbit_options, &m.orbit_options);
-            if !keys.is_empty() {
-                return Err(RunError::Input(format!(
-                    "{}: its hosts were grown with other orbit options than {}'s ({} differ, \
-                     as resolved when each ran: builds {} and {} of retinue, whose defaults \
-                     may differ); shards of one run must be grown by one build: re-run this \
-                     shard with the other's",
-                    p.display(),
-                    metas[0].1.display(),
-                    keys.iter()
-                        .map(|k| format!("orbits.{k}"))
-                        .collect::<Vec<_>>()
-                        .join(", "),
-                    first.crate_version,
-                    m.crate_version
-                )));
-            }
-        }
         if m.config_toml == first.config_toml {
             continue;
         }

@@ -117,35 +117,6 @@ fn same_tables_for_1_and_2_threads_and_for_3_shards_merged() {
             assert_eq!(config(&out), config(&d.path().join("s1.h5")));
         }
     }
-    // a shard grown by a build with other defaults: the same configuration text, other orbit
-    // options as resolved (the defaults changed on 2026-12-05), is refused with the keys named
-    {
-        let s2x = d.path().join("s2o.h5");
-        std::fs::copy(d.path().join("s2.h5"), &s2x).unwrap();
-        let f = hdf5::File::open_rw(&s2x).unwrap();
-        let old: hdf5::types::VarLenUnicode =
-            f.attr("orbit_options").unwrap().read_scalar().unwrap();
-        let old = old.as_str().to_string();
-        let mut opts: retinue::orbits::OrbitOptions = toml::from_str(&old).unwrap();
-        opts.stripping_alpha_c_slope = 0.0;
-        f.delete_attr("orbit_options").unwrap();
-        retinue::io::h5::set_str_attr(&f, "orbit_options", &toml::to_string(&opts).unwrap())
-            .unwrap();
-        drop(f);
-        let (code, _, err) = run_cli(&[
-            "merge",
-            &o("s1.h5"),
-            s2x.to_str().unwrap(),
-            &o("s3.h5"),
-            "--out",
-            &o("bad-orbits.h5"),
-        ]);
-        assert_eq!(code, 2, "{err}");
-        assert!(
-            err.contains("orbits.stripping_alpha_c_slope") && err.contains("one build"),
-            "{err}"
-        );
-    }
     // a missing shard is named
     let (code, _, err) = run_cli(&["merge", &o("s1.h5"), &o("s3.h5"), "--out", &o("bad.h5")]);
     assert_eq!(code, 2, "{err}");
