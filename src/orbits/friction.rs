@@ -10,7 +10,7 @@ use crate::constants::G_KPC3_PER_MSUN_GYR2 as G;
 use crate::special::erf;
 
 /// The mass friction acts on: the bound mass m raised toward the infall mass, m^(1-w) m_acc^w
-/// (w = `orbits.friction_mass_infall_weight`, default 0.3; 0 is the bound mass). A stripped
+/// (w = `orbits.friction_mass_infall_weight`, default 0.35; 0 is the bound mass). A stripped
 /// satellite drags the matter it has just lost along for a while, and N-body satellites sink
 /// faster than Chandrasekhar's formula with their bound mass says (Fujii, Funato & Makino 2006,
 /// PASJ 58, 743; recalled); this closure of ours stands for that, calibrated on the merging-time

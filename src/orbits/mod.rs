@@ -125,7 +125,7 @@ impl OrbitOptions {
     /// sink into their parents 1.20-1.60 times slower than the merging-time fit at z = 0; the
     /// disc's ratio was calibrated for one rate or the other (0.8 with the concentration-
     /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc; 1.2 is the
-    /// single rate's value, which keeps about 0.53 with the concentration-dependent rate).
+    /// single rate's value).
     pub fn calibration_notes(&self) -> Vec<String> {
         let sets = |(a, p, w, d): (f64, f64, f64, f64)| {
             format!(

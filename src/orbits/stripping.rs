@@ -18,9 +18,9 @@
 //!   `val_stripping_rate_vs_nbody`) shows that a c = 8 subhalo loses its mass much faster than
 //!   a c = 15 one on the same orbit, whatever its mass, and a c = 5 one faster still;
 //!   (1.15, 0.5), fitted on the five of c = 8 and 15 (within 0.82-1.15), predicts the c = 5
-//!   one within 0.73-1.23, where one alpha_s for every subhalo (0.75, p = 0: the default from 2026-12-04
-//!   to 2026-12-05, `orbits::SINGLE_RATE`) keeps up to 2.3 times the c = 8 subhaloes' bound
-//!   mass, and the physics reference sheet's 0.55 (recalled for that paper's calibration)
+//!   one within 0.73-1.23, where one alpha_s for every subhalo (0.75, p = 0: the default
+//!   from 2026-12-04 to 2026-12-05, `orbits::SINGLE_RATE`) keeps up to 2.3 times the c = 5
+//!   and 8 subhaloes' bound mass, and the physics reference sheet's 0.55 (recalled for that paper's calibration)
 //!   kept 1.3-1.7 times the c = 15 subhalo's. The merging times of children stay within their
 //!   band with this rate when friction acts on part of the infall mass
 //!   (`orbits.friction_mass_infall_weight` 0.35, `friction::friction_mass`; docs/methods.md).
