@@ -8,7 +8,7 @@ use crate::galaxies::observability::SurveyOptions;
 use crate::galaxies::{paint, GalaxyOptions, GalaxyRecord};
 use crate::host::{EvolvingHost, HostOptions};
 use crate::linear::LinearTheory;
-use crate::orbits::{evolve_host_subhaloes, OrbitOptions, SubhaloResult};
+use crate::orbits::{evolve_host_subhaloes_recording, OrbitOptions, SubhaloResult};
 use crate::rng::{host_rng, HostId, Stream};
 use crate::trees::history::branch_mass_at_z;
 use crate::trees::{HostHistory, TreeBuilder, TreeSpec};
@@ -94,7 +94,22 @@ pub fn synthesize_host(
     id: HostId,
     builder: &mut TreeBuilder,
 ) -> Result<HostRecord, InvalidValue> {
-    synthesize(lt, options, None, master_seed, id, builder)
+    synthesize(lt, options, None, master_seed, id, builder, f64::NAN)
+}
+
+/// `synthesize_host`, also recording each subhalo's bound mass and distance from the host's
+/// centre at cosmic time `t_epoch_gyr` (`SubhaloResult::m_bound_at_epoch_msun`,
+/// `r_at_epoch_kpc`): to compare the population at an earlier epoch with simulations. The
+/// record is otherwise the same bit for bit.
+pub fn synthesize_host_recording(
+    lt: &LinearTheory,
+    options: &SynthOptions,
+    master_seed: u64,
+    id: HostId,
+    builder: &mut TreeBuilder,
+    t_epoch_gyr: f64,
+) -> Result<HostRecord, InvalidValue> {
+    synthesize(lt, options, None, master_seed, id, builder, t_epoch_gyr)
 }
 
 /// Spacing of the mutual orbit's nodes, Gyr (cubic Hermite between them: position error of
@@ -114,7 +129,7 @@ pub fn synthesize_pair_host(
     id: HostId,
     builder: &mut TreeBuilder,
 ) -> Result<HostRecord, InvalidValue> {
-    synthesize(lt, options, Some(pair), master_seed, id, builder)
+    synthesize(lt, options, Some(pair), master_seed, id, builder, f64::NAN)
 }
 
 /// The mutual orbit of a pair, as the partner's position relative to the primary, from
@@ -267,6 +282,7 @@ fn synthesize(
     master_seed: u64,
     id: HostId,
     builder: &mut TreeBuilder,
+    t_epoch: f64,
 ) -> Result<HostRecord, InvalidValue> {
     let cosmo = lt.cosmology();
     let t_end = cosmo.age_gyr(options.tree.z_final);
@@ -381,7 +397,15 @@ fn synthesize(
         host = EvolvingHost::from_history(lt, &hist, &options.host, t_first);
     }
     let mut orng = host_rng(master_seed, id, Stream::Orbits);
-    let mut subhaloes = evolve_host_subhaloes(lt, &hist, &host, &options.orbits, t_end, &mut orng);
+    let mut subhaloes = evolve_host_subhaloes_recording(
+        lt,
+        &hist,
+        &host,
+        &options.orbits,
+        t_end,
+        t_epoch,
+        &mut orng,
+    );
     // each branch's mass at reionisation (the `reionization` occupation; stored for all)
     for s in &mut subhaloes {
         s.m_reion_msun = grown.m_reion_msun[s.branch as usize];

@@ -118,6 +118,14 @@ pub struct SubhaloResult {
     pub vmax_kms: f64,
     pub rmax_kpc: f64,
     pub vmax_infall_kms: f64,
+    /// Bound mass (Msun) and distance from the host's centre (kpc) at the epoch asked for
+    /// with `evolve_host_subhaloes_recording` (`synth::synthesize_host_recording`), each
+    /// interpolated linearly inside the integration step that spans it. NaN when no epoch was
+    /// asked for, when the subhalo had not fallen into its first halo yet or had already ended
+    /// then; the distance is also NaN while its group was still outside the host. Not written
+    /// to stores.
+    pub m_bound_at_epoch_msun: f64,
+    pub r_at_epoch_kpc: f64,
     pub backsplash: bool,
     pub status: SubhaloStatus,
     /// For a host of a pair, its events about the partner (measured like those about the
@@ -179,6 +187,22 @@ pub fn evolve_host_subhaloes<R: Rng>(
     t_end: f64,
     rng: &mut R,
 ) -> Vec<SubhaloResult> {
+    evolve_host_subhaloes_recording(lt, hist, host, options, t_end, f64::NAN, rng)
+}
+
+/// `evolve_host_subhaloes`, also recording each subhalo's bound mass and distance from the
+/// host's centre at the cosmic time `t_epoch` (Gyr; NaN: none), in
+/// `SubhaloResult::m_bound_at_epoch_msun` and `r_at_epoch_kpc`. Recording changes nothing
+/// else: the orbits and every other result are the same bit for bit.
+pub fn evolve_host_subhaloes_recording<R: Rng>(
+    lt: &LinearTheory,
+    hist: &HostHistory,
+    host: &EvolvingHost,
+    options: &OrbitOptions,
+    t_end: f64,
+    t_epoch: f64,
+    rng: &mut R,
+) -> Vec<SubhaloResult> {
     let cosmo = lt.cosmology();
     let accs = &hist.accretions;
     let n = accs.len();
@@ -234,6 +258,7 @@ pub fn evolve_host_subhaloes<R: Rng>(
             c_slope: options.stripping_alpha_c_slope,
         },
         t_end,
+        t_epoch,
     };
     let branch_of: Vec<u32> = accs.iter().map(|a| a.branch).collect();
     let mut bodies: Vec<Option<Body>> = vec![None; n];
@@ -391,6 +416,7 @@ pub fn evolve_in_isolated_halo(
             c_slope: options.stripping_alpha_c_slope,
         },
         t_end: t1,
+        t_epoch: f64::NAN,
     };
     let v_vir = (G * m_p / r_p).sqrt();
     let start = Start {
@@ -443,6 +469,7 @@ pub fn evolve_pair_in_host(
             c_slope: options.stripping_alpha_c_slope,
         },
         t_end: t1,
+        t_epoch: f64::NAN,
     };
     let kms = |x: [f64; 3], v: [f64; 3]| -> State {
         [x[0], x[1], x[2], v[0] * KMS, v[1] * KMS, v[2] * KMS]

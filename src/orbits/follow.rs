@@ -250,6 +250,8 @@ pub(crate) struct Ctx<'a> {
     pub options: &'a OrbitOptions,
     pub strip: Stripping,
     pub t_end: f64,
+    /// The epoch at which each result records its bound mass and distance (NaN: none).
+    pub t_epoch: f64,
 }
 
 /// A result with the accretion's own quantities and nothing evolved yet.
@@ -288,6 +290,8 @@ pub(crate) fn new_result(a: &Accretion, structure: &SubhaloStructure) -> Subhalo
         vmax_kms: structure.vmax_acc / KMS,
         rmax_kpc: structure.rmax_acc,
         vmax_infall_kms: structure.vmax_acc / KMS,
+        m_bound_at_epoch_msun: f64::NAN,
+        r_at_epoch_kpc: f64::NAN,
         backsplash: false,
         status: SubhaloStatus::InHost,
         t_first_partner_infall_gyr: f64::NAN,
@@ -558,6 +562,7 @@ pub(crate) fn follow(
         // dynamical times; physics reference sheet sec. 9: negligible below 1e-3 within a
         // Hubble time).
         let fr = options.friction && m > 1e-4 * container_mass(cur_mvir, &chain, t);
+        let m_start = m;
         if fr {
             friction_frame = Some(frame);
         }
@@ -745,6 +750,19 @@ pub(crate) fn follow(
             if let Some(a1) = &abs1 {
                 tracker = Some(Tracker::with_group(t1, norm(pos(a1)), snap1.r_vir));
             }
+        }
+        // the epoch asked for (`Ctx::t_epoch`) inside this step: bound mass and distance from
+        // the host's centre, linear in time between the step's ends
+        if t < ctx.t_epoch && ctx.t_epoch <= t1 {
+            let f = (ctx.t_epoch - t) / h;
+            res.m_bound_at_epoch_msun = m_start + f * (m - m_start);
+            res.r_at_epoch_kpc = match (&abs, &abs1) {
+                (Some(a0), Some(a1)) => {
+                    let r0 = norm(pos(a0));
+                    r0 + f * (norm(pos(a1)) - r0)
+                }
+                _ => f64::NAN,
+            };
         }
         cur_rv = snap1.r_vir;
         cur_mvir = snap1.m_vir;

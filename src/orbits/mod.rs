@@ -18,8 +18,9 @@ use serde::{Deserialize, Serialize};
 use crate::error::InvalidValue;
 
 pub use evolve::{
-    evolve_host_subhaloes, evolve_in_isolated_halo, evolve_pair_in_host, evolve_subhalo,
-    integrate_point_mass, integrate_test_particle, SubhaloResult, SubhaloStatus,
+    evolve_host_subhaloes, evolve_host_subhaloes_recording, evolve_in_isolated_halo,
+    evolve_pair_in_host, evolve_subhalo, integrate_point_mass, integrate_test_particle,
+    SubhaloResult, SubhaloStatus,
 };
 pub use integrate::Tolerances;
 

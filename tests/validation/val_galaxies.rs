@@ -97,6 +97,8 @@ fn fake_subhaloes(n: usize, m_peak: f64, t_peak: f64) -> Vec<SubhaloResult> {
         vmax_kms: 20.0,
         rmax_kpc: 2.0,
         vmax_infall_kms: 20.0,
+        m_bound_at_epoch_msun: f64::NAN,
+        r_at_epoch_kpc: f64::NAN,
         backsplash: false,
         status: SubhaloStatus::InHost,
         t_first_partner_infall_gyr: f64::NAN,

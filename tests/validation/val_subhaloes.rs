@@ -409,6 +409,189 @@ fn val_radial_distribution() {
     }
 }
 
+/// The subhaloes a dark-matter-only simulation had inside its host at z = 1, today: Diemand,
+/// Kuhlen & Madau 2007 (ApJ 667, 859; abstract, read here) followed them in one Milky-Way-mass
+/// halo: "97% of the z=1 subhalos have a surviving bound remnant at the present epoch", and
+/// "satellites with maximum circular velocities Vmax=10 km/s at z=1 have today about 40% of
+/// their mass back then", the retained fraction being "larger for initially lighter
+/// subhalos". Like with like: 16 hosts without disc and bulge of their halo's mass, 1.77e12
+/// Msun, in their cosmology, WMAP3 (Omega_m 0.238, Omega_b 0.042, h 0.73, sigma_8 0.74,
+/// n_s 0.951; both recalled, not read), tree resolution 3e6 Msun. Each subhalo's bound mass
+/// and distance at z = 1 come from `synthesize_host_recording`; V_max then from the tidal
+/// track. "Subhaloes at z = 1": every order inside R_vir of the main branch then, with at
+/// least 4.2e6 Msun bound (200 particles of that simulation's 2.1e4 Msun, recalled: a
+/// well-resolved subhalo, common practice; above the tree resolution, so the sample is
+/// complete). "A surviving bound remnant": alive today with at least 10 such particles
+/// (2.1e5 Msun, common practice for the smallest bound group a finder keeps; 20 printed).
+/// Tolerances:
+/// * survival: the published number is one halo, so it is compared with the spread of the
+///   model's hosts, not with their mean: it must lie within the range of the 16 hosts' own
+///   fractions (a 17th host of the same distribution falls outside that range with
+///   probability 2/17);
+/// * retained mass: "about 40%" read as one significant figure, 0.35-0.45, widened by twice
+///   the error of the model's pooled median (bootstrap over hosts, 400 resamples, fixed
+///   seed); the median over objects, dead ones counting 0 (printed with the mean);
+/// * "lighter retain more": the pooled median at V_max 5-8 km/s above that at 20-40 km/s by
+///   more than twice their combined bootstrap errors.
+///
+/// Also: recording at an epoch changes nothing else (one host with and without, every
+/// field compared).
+#[test]
+fn val_z1_subhaloes_today_vs_dkm07() {
+    use rand::{Rng, SeedableRng};
+    use rayon::prelude::*;
+    use retinue::synth::{synthesize_host, synthesize_host_recording, SynthOptions};
+    let mut p = Cosmology::from_preset("wmap5").unwrap().params.clone();
+    p.name = "wmap3 (recalled)".into();
+    (p.h, p.omega_m, p.omega_b, p.sigma8, p.n_s) = (0.73, 0.238, 0.042, 0.74, 0.951);
+    let lt = LinearTheory::new(Cosmology::new(p).unwrap(), LinearOptions::default()).unwrap();
+    let cosmo = lt.cosmology().clone();
+    let opts = SynthOptions {
+        tree: TreeSpec {
+            m_host_msun: 1.77e12,
+            m_resolution_msun: 3e6,
+            ..TreeSpec::milky_way_default()
+        },
+        host: HostOptions {
+            baryons: retinue::host::DiscBulgeParams::none(),
+            ..HostOptions::default()
+        },
+        orbits: Default::default(),
+        galaxies: Default::default(),
+        survey: Default::default(),
+    };
+    let z1 = 1.0;
+    let t1 = cosmo.age_gyr(z1);
+    // per host: (bound mass at z = 1, V_max at z = 1 in km/s, bound mass today or 0)
+    let hosts: Vec<Vec<(f64, f64, f64)>> = (0..16u32)
+        .into_par_iter()
+        .map_init(
+            || TreeBuilder::new(opts.tree.pch08).unwrap(),
+            |b, i| {
+                let id = HostId::new(0, 0, i);
+                let rec = synthesize_host_recording(&lt, &opts, 5, id, b, t1).unwrap();
+                if i == 0 {
+                    let plain = synthesize_host(&lt, &opts, 5, id, b).unwrap();
+                    assert_eq!(plain.subhaloes.len(), rec.subhaloes.len());
+                    for (a, r) in plain.subhaloes.iter().zip(&rec.subhaloes) {
+                        let mut r = r.clone();
+                        r.m_bound_at_epoch_msun = f64::NAN;
+                        r.r_at_epoch_kpc = f64::NAN;
+                        assert_eq!(format!("{a:?}"), format!("{r:?}"));
+                    }
+                }
+                // R_vir of the main branch at z = 1 (its mass interpolated in ln M)
+                let k = rec.mah_z.iter().position(|&z| z >= z1).unwrap();
+                let f = (z1 - rec.mah_z[k - 1]) / (rec.mah_z[k] - rec.mah_z[k - 1]);
+                let ln_m = rec.mah_msun[k - 1].ln() * (1.0 - f) + rec.mah_msun[k].ln() * f;
+                let rv = retinue::halo::MassDefinition::Vir.radius_kpc(&cosmo, ln_m.exp(), z1);
+                rec.subhaloes
+                    .iter()
+                    .filter(|s| s.r_at_epoch_kpc < rv && s.m_bound_at_epoch_msun >= 4.2e6)
+                    .map(|s| {
+                        let x = s.m_bound_at_epoch_msun / s.m_infall_msun;
+                        let v =
+                            s.vmax_infall_kms * retinue::orbits::tidal_track::vmax_rmax_ratio(x).0;
+                        let today = if s.status.alive() {
+                            s.m_bound_msun
+                        } else {
+                            0.0
+                        };
+                        (s.m_bound_at_epoch_msun, v, today)
+                    })
+                    .collect()
+            },
+        )
+        .collect();
+    let n_z1: usize = hosts.iter().map(Vec::len).sum();
+    assert!(n_z1 > 10_000, "{n_z1} subhaloes at z = 1");
+    // survival, per host
+    let survival = |h: &Vec<(f64, f64, f64)>, m_min: f64| {
+        h.iter().filter(|r| r.2 >= m_min).count() as f64 / h.len() as f64
+    };
+    let per_host: Vec<f64> = hosts.iter().map(|h| survival(h, 2.1e5)).collect();
+    let (lo, hi) = per_host
+        .iter()
+        .fold((1.0f64, 0.0f64), |(a, b), &x| (a.min(x), b.max(x)));
+    let pooled =
+        |m_min: f64| hosts.iter().flatten().filter(|r| r.2 >= m_min).count() as f64 / n_z1 as f64;
+    eprintln!(
+        "z = 1 subhaloes ({:.0} per host) alive today with >= 10 particles: pooled {:.3}, \
+         median host {:.3}, range {lo:.3}-{hi:.3}; with >= 20 particles pooled {:.3}; \
+         published 0.97 (one halo)",
+        n_z1 as f64 / 16.0,
+        pooled(2.1e5),
+        median(per_host.clone()),
+        pooled(4.2e5)
+    );
+    assert!(
+        (lo..=hi).contains(&0.97),
+        "0.97 outside the hosts' survival fractions {lo:.3}-{hi:.3}"
+    );
+    // retained mass by V_max at z = 1, with its bootstrap error over hosts
+    let retained = |sel: &[&Vec<(f64, f64, f64)>], v0: f64, v1: f64| {
+        median(
+            sel.iter()
+                .flat_map(|h| h.iter())
+                .filter(|r| r.1 >= v0 && r.1 < v1)
+                .map(|r| r.2 / r.0)
+                .collect(),
+        )
+    };
+    let all: Vec<&Vec<(f64, f64, f64)>> = hosts.iter().collect();
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+    let bins = [(5.0, 8.0), (8.0, 12.0), (20.0, 40.0)];
+    let mut boot = vec![Vec::new(); bins.len()];
+    for _ in 0..400 {
+        let sample: Vec<&Vec<(f64, f64, f64)>> =
+            (0..16).map(|_| all[rng.random_range(0..16)]).collect();
+        for (k, &(v0, v1)) in bins.iter().enumerate() {
+            boot[k].push(retained(&sample, v0, v1));
+        }
+    }
+    let sd = |v: &Vec<f64>| {
+        let m = v.iter().sum::<f64>() / v.len() as f64;
+        (v.iter().map(|x| (x - m) * (x - m)).sum::<f64>() / (v.len() - 1) as f64).sqrt()
+    };
+    let got: Vec<(f64, f64)> = bins
+        .iter()
+        .zip(&boot)
+        .map(|(&(v0, v1), b)| (retained(&all, v0, v1), sd(b)))
+        .collect();
+    let ten: Vec<f64> = hosts
+        .iter()
+        .flatten()
+        .filter(|r| r.1 >= 8.0 && r.1 < 12.0)
+        .map(|r| r.2 / r.0)
+        .collect();
+    eprintln!(
+        "mass today / mass at z = 1, median (bootstrap error): V_max 5-8 km/s {:.3} ({:.3}), \
+         8-12 {:.3} ({:.3}; mean {:.3}, {} objects), 20-40 {:.3} ({:.3}); published about 0.40 \
+         at 10 km/s",
+        got[0].0,
+        got[0].1,
+        got[1].0,
+        got[1].1,
+        ten.iter().sum::<f64>() / ten.len() as f64,
+        ten.len(),
+        got[2].0,
+        got[2].1
+    );
+    let tol = 0.05 + 2.0 * got[1].1;
+    assert!(
+        (got[1].0 - 0.40).abs() <= tol,
+        "V_max 10 km/s at z = 1 keeps {:.3} today, published about 0.40 (tolerance {tol:.3})",
+        got[1].0
+    );
+    let gap = 2.0 * (got[0].1.powi(2) + got[2].1.powi(2)).sqrt();
+    assert!(
+        got[0].0 - got[2].0 > gap,
+        "lighter subhaloes should keep more: {:.3} at 5-8 km/s, {:.3} at 20-40 (2 sigma {gap:.3})",
+        got[0].0,
+        got[2].0
+    );
+}
+
 /// Bookkeeping on every subhalo: infall clocks ordered (infall anywhere <= first infall into
 /// the host <= last infall), a release after the infall into the parent, bound mass never
 /// above the infall mass, pericentres inside apocentres, statuses consistent with their times
