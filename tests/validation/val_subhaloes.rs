@@ -409,6 +409,8 @@ fn val_radial_distribution() {
     }
 }
 
+/// Survival of subhaloes in dark-matter-only hosts against two simulations.
+///
 /// The subhaloes a dark-matter-only simulation had inside its host at z = 1, today: Diemand,
 /// Kuhlen & Madau 2007 (ApJ 667, 859; abstract, read here) followed them in one Milky-Way-mass
 /// halo: "97% of the z=1 subhalos have a surviving bound remnant at the present epoch", and
@@ -434,10 +436,21 @@ fn val_radial_distribution() {
 /// * "lighter retain more": the pooled median at V_max 5-8 km/s above that at 20-40 km/s by
 ///   more than twice their combined bootstrap errors.
 ///
+/// The same hosts against He, Han & Li 2024 (arXiv:2408.04470; abstract, read here), who
+/// followed the subhaloes of six dark-matter-only Milky-Way-mass haloes: "all of the
+/// first-order subhalos accreted after redshift 2 survive to the present time", and "most of
+/// the disrupted subhalos are sub-subhalos accreted at high redshift". Here: first-order
+/// subhaloes that fell in after z = 2 with less than 1% of the host's mass then (heavier ones
+/// sink by friction and merge, which a simulation counts as a merger; printed), at most 0.5%
+/// of them ended ("all" in a sample of a few hundred per halo bounds the rate near 0.5%, as in
+/// `val_mass_lost_in_the_first_radial_orbit`); and of every subhalo that ended (disrupted, or
+/// merged with the halo it orbited: a halo finder loses both), more than half are satellites
+/// of satellites that fell into their first halo before z = 2.
+///
 /// Also: recording at an epoch changes nothing else (one host with and without, every
 /// field compared).
 #[test]
-fn val_z1_subhaloes_today_vs_dkm07() {
+fn val_subhalo_survival_vs_dmo_simulations() {
     use rand::{Rng, SeedableRng};
     use rayon::prelude::*;
     use retinue::synth::{synthesize_host, synthesize_host_recording, SynthOptions};
@@ -462,8 +475,11 @@ fn val_z1_subhaloes_today_vs_dkm07() {
     };
     let z1 = 1.0;
     let t1 = cosmo.age_gyr(z1);
-    // per host: (bound mass at z = 1, V_max at z = 1 in km/s, bound mass today or 0)
-    let hosts: Vec<Vec<(f64, f64, f64)>> = (0..16u32)
+    let t2 = cosmo.age_gyr(2.0);
+    // per host, the z = 1 subhaloes (bound mass at z = 1, V_max at z = 1 in km/s, bound mass
+    // today or 0) and the counts of He, Han & Li's two statements
+    type AtZ1 = (f64, f64, f64);
+    let per_host: Vec<(Vec<AtZ1>, [usize; 5])> = (0..16u32)
         .into_par_iter()
         .map_init(
             || TreeBuilder::new(opts.tree.pch08).unwrap(),
@@ -485,7 +501,24 @@ fn val_z1_subhaloes_today_vs_dkm07() {
                 let f = (z1 - rec.mah_z[k - 1]) / (rec.mah_z[k] - rec.mah_z[k - 1]);
                 let ln_m = rec.mah_msun[k - 1].ln() * (1.0 - f) + rec.mah_msun[k].ln() * f;
                 let rv = retinue::halo::MassDefinition::Vir.radius_kpc(&cosmo, ln_m.exp(), z1);
-                rec.subhaloes
+                // [first order fallen in after z = 2 below 1% of the host then, of them ended,
+                //  all ended (disrupted or merged), of them satellites of satellites that fell
+                //  into their first halo before z = 2, first order after z = 2 of any mass ended]
+                let mut counts = [0usize; 5];
+                for s in &rec.subhaloes {
+                    let late = s.order == 1 && s.t_first_host_infall_gyr > t2;
+                    if late && s.m_infall_msun < 0.01 * s.m_host_at_infall_msun {
+                        counts[0] += 1;
+                        counts[1] += usize::from(!s.status.alive());
+                    }
+                    if !s.status.alive() {
+                        counts[2] += 1;
+                        counts[3] += usize::from(s.order > 1 && s.t_infall_gyr < t2);
+                        counts[4] += usize::from(late);
+                    }
+                }
+                let z1_subs = rec
+                    .subhaloes
                     .iter()
                     .filter(|s| s.r_at_epoch_kpc < rv && s.m_bound_at_epoch_msun >= 4.2e6)
                     .map(|s| {
@@ -499,10 +532,13 @@ fn val_z1_subhaloes_today_vs_dkm07() {
                         };
                         (s.m_bound_at_epoch_msun, v, today)
                     })
-                    .collect()
+                    .collect();
+                (z1_subs, counts)
             },
         )
         .collect();
+    let hosts: Vec<Vec<AtZ1>> = per_host.iter().map(|h| h.0.clone()).collect();
+    let count = |k: usize| per_host.iter().map(|h| h.1[k]).sum::<usize>();
     let n_z1: usize = hosts.iter().map(Vec::len).sum();
     assert!(n_z1 > 10_000, "{n_z1} subhaloes at z = 1");
     // survival, per host
@@ -589,6 +625,25 @@ fn val_z1_subhaloes_today_vs_dkm07() {
         "lighter subhaloes should keep more: {:.3} at 5-8 km/s, {:.3} at 20-40 (2 sigma {gap:.3})",
         got[0].0,
         got[2].0
+    );
+    // He, Han & Li 2024
+    let (late, late_ended) = (count(0), count(1));
+    let (ended, early_children) = (count(2), count(3));
+    eprintln!(
+        "first order fallen in after z = 2 below 1% of the host: {late_ended} of {late} ended; \
+         of any mass {} ended (those above sink by friction); ended in all: {ended}, of them \
+         satellites of satellites that fell in before z = 2: {:.3}",
+        count(4),
+        early_children as f64 / ended as f64
+    );
+    assert!(late > 5_000, "{late}");
+    assert!(
+        (late_ended as f64) < 0.005 * late as f64,
+        "{late_ended} of {late} first-order subhaloes fallen in after z = 2 ended"
+    );
+    assert!(
+        2 * early_children > ended,
+        "{early_children} of {ended} ended subhaloes are early satellites of satellites"
     );
 }
 
