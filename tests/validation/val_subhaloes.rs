@@ -491,8 +491,9 @@ fn val_subhalo_survival_vs_dmo_simulations() {
     // per host, the z = 1 subhaloes (bound mass at z = 1, V_max at z = 1 in km/s, bound mass
     // today or 0) and the counts of He, Han & Li's two statements
     type AtZ1 = (f64, f64, f64);
-    // and today's subhaloes (orbital energy over V_vir^2, lookback to the last infall, order)
-    type Today = (f64, f64, u16);
+    // and today's subhaloes (orbital energy over V_vir^2, lookback to the last infall, order,
+    // time of the first infall)
+    type Today = (f64, f64, u16, f64);
     let t0 = cosmo.age0_gyr();
     let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<Today>)> = (0..16u32)
         .into_par_iter()
@@ -569,6 +570,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
                             (0.5 * v2 + phi) / v_vir2,
                             t0 - s.t_last_host_infall_gyr,
                             s.order,
+                            s.t_first_host_infall_gyr,
                         )
                     })
                     .collect();
@@ -721,6 +723,17 @@ fn val_subhalo_survival_vs_dmo_simulations() {
         unbound(&e1) as f64 / e1.len() as f64,
         unbound(&e) as f64 / e.len() as f64
     );
+    // Gao et al. 2004 (printed; see docs/validation.md, "Not met yet")
+    let after = |z: f64| {
+        let t = cosmo.age_gyr(z);
+        today.iter().filter(|r| r.3 > t).count() as f64 / today.len() as f64
+    };
+    eprintln!(
+        "today's subhaloes that first fell in after z = 1: {:.3}, after z = 0.5: {:.3} \
+         (Gao et al. 2004: about 0.9 and 0.7)",
+        after(1.0),
+        after(0.5)
+    );
     assert!(first.len() > 5_000, "{}", first.len());
     assert!(
         rho1 <= -0.7,
@@ -732,6 +745,132 @@ fn val_subhalo_survival_vs_dmo_simulations() {
         "{} of {} first-order subhaloes unbound, 0.1% expected",
         unbound(&e1),
         e1.len()
+    );
+}
+
+/// Subhaloes within 50 kpc of a Milky-Way-mass galaxy against Barry et al. 2023
+/// (arXiv:2303.05527; abstract, read here), eleven hydrodynamic zoom-in simulations of
+/// Milky-Way-mass haloes with their galaxies: "A typical MW-mass halo contains ≈16 subhaloes
+/// >1e7 Msun (≈1 subhalo >1e8 Msun) within 50 kpc at z ≈ 0"; dark-matter-only versions
+/// "overpredict subhalo counts by 2-10x, more so at smaller distances"; counts "≈10x higher
+/// at z = 1 than at z ≈ 0"; "nearly isotropic orbital velocity distributions at z ≈ 0".
+/// 16 default hosts (1.2e12 Msun, Planck 2018, disc and bulge) and the same 16 without disc
+/// and bulge, tree resolution 3e6 Msun (complete above 1e7 Msun bound); bound mass and
+/// distance at z = 1 from `synthesize_host_recording`.
+/// Asserted, what the model meets: the dark-matter-only excess grows inward (the count ratio
+/// within 30 kpc above that within 50 kpc, and that above the ratio within 100 kpc, each by
+/// more than twice the combined Poisson error: conservative, since the two runs share their
+/// subhaloes), and within 50 kpc it reaches the published lower end, 2, within two Poisson
+/// errors. Printed, not met (docs/validation.md, "Not met yet"): the counts, the decline
+/// since z = 1 and the velocity anisotropy.
+#[test]
+fn val_inner_subhaloes_vs_barry23() {
+    use rayon::prelude::*;
+    use retinue::synth::{synthesize_host_recording, SynthOptions};
+    let lt = LinearTheory::new(
+        Cosmology::from_preset("planck18").unwrap(),
+        LinearOptions::default(),
+    )
+    .unwrap();
+    let t1 = lt.cosmology().age_gyr(1.0);
+    // per host: counts above 1e7 Msun within 30, 50, 100 kpc today; above 1e8 within 50 kpc;
+    // above 1e7 within 50 kpc at z = 1; and (v_r^2, v_t^2) of those within 50 kpc today
+    type Counts = ([f64; 5], Vec<(f64, f64)>);
+    let run = |baryons: bool| -> Vec<Counts> {
+        let opts = SynthOptions {
+            tree: TreeSpec {
+                m_resolution_msun: 3e6,
+                ..TreeSpec::milky_way_default()
+            },
+            host: if baryons {
+                HostOptions::default()
+            } else {
+                HostOptions {
+                    baryons: retinue::host::DiscBulgeParams::none(),
+                    ..HostOptions::default()
+                }
+            },
+            orbits: Default::default(),
+            galaxies: Default::default(),
+            survey: Default::default(),
+        };
+        (0..16u32)
+            .into_par_iter()
+            .map_init(
+                || TreeBuilder::new(opts.tree.pch08).unwrap(),
+                |b, i| {
+                    let rec = synthesize_host_recording(&lt, &opts, 5, HostId::new(0, 0, i), b, t1)
+                        .unwrap();
+                    let mut c = [0.0; 5];
+                    let mut vel = Vec::new();
+                    for s in &rec.subhaloes {
+                        let alive = s.status.alive();
+                        for (k, r) in [30.0, 50.0, 100.0].iter().enumerate() {
+                            if alive && s.m_bound_msun > 1e7 && s.r_kpc < *r {
+                                c[k] += 1.0;
+                            }
+                        }
+                        if alive && s.m_bound_msun > 1e8 && s.r_kpc < 50.0 {
+                            c[3] += 1.0;
+                        }
+                        if s.m_bound_at_epoch_msun > 1e7 && s.r_at_epoch_kpc < 50.0 {
+                            c[4] += 1.0;
+                        }
+                        if alive && s.m_bound_msun > 1e7 && s.r_kpc < 50.0 {
+                            let vr: f64 =
+                                (0..3).map(|k| s.vel_kms[k] * s.pos_kpc[k] / s.r_kpc).sum();
+                            let v2: f64 = s.vel_kms.iter().map(|v| v * v).sum();
+                            vel.push((vr * vr, v2 - vr * vr));
+                        }
+                    }
+                    (c, vel)
+                },
+            )
+            .collect()
+    };
+    let with = run(true);
+    let without = run(false);
+    let total = |hs: &[Counts], k: usize| hs.iter().map(|h| h.0[k]).sum::<f64>();
+    let beta = |hs: &[Counts]| {
+        let v: Vec<&(f64, f64)> = hs.iter().flat_map(|h| h.1.iter()).collect();
+        let vr2 = v.iter().map(|x| x.0).sum::<f64>();
+        let vt2 = v.iter().map(|x| x.1).sum::<f64>();
+        1.0 - vt2 / (2.0 * vr2)
+    };
+    let per_host = |hs: &[Counts], k: usize| total(hs, k) / hs.len() as f64;
+    eprintln!(
+        "with disc, per host: N(>1e7 Msun, <50 kpc) {:.1} (published about 16), N(>1e8, <50) \
+         {:.2} (about 1); N(<50) at z = 1 over today {:.2} (about 10); anisotropy beta within \
+         50 kpc {:.2} (nearly isotropic; {:.2} without the disc)",
+        per_host(&with, 1),
+        per_host(&with, 3),
+        total(&with, 4) / total(&with, 1),
+        beta(&with),
+        beta(&without)
+    );
+    // dark matter only over disc, with Poisson errors
+    let ratio = |k: usize| {
+        let (a, b) = (total(&without, k), total(&with, k));
+        (a / b, a / b * (1.0 / a + 1.0 / b).sqrt())
+    };
+    let (r30, r50, r100) = (ratio(0), ratio(1), ratio(2));
+    eprintln!(
+        "dark matter only over disc, above 1e7 Msun: within 30 kpc {:.2} +- {:.2}, 50 kpc {:.2} \
+         +- {:.2}, 100 kpc {:.2} +- {:.2} (published 2-10, more so at smaller distances)",
+        r30.0, r30.1, r50.0, r50.1, r100.0, r100.1
+    );
+    assert!(total(&with, 1) > 200.0, "{}", total(&with, 1));
+    assert!(
+        r30.0 - r50.0 > 2.0 * r30.1.hypot(r50.1),
+        "excess within 30 kpc {r30:?} not above that within 50 kpc {r50:?}"
+    );
+    assert!(
+        r50.0 - r100.0 > 2.0 * r50.1.hypot(r100.1),
+        "excess within 50 kpc {r50:?} not above that within 100 kpc {r100:?}"
+    );
+    assert!(
+        r50.0 + 2.0 * r50.1 >= 2.0,
+        "dark-matter-only excess within 50 kpc {r50:?} below the published 2"
     );
 }
 
