@@ -750,8 +750,8 @@ fn val_subhalo_survival_vs_dmo_simulations() {
 
 /// Subhaloes within 50 kpc of a Milky-Way-mass galaxy against Barry et al. 2023
 /// (arXiv:2303.05527; abstract, read here), eleven hydrodynamic zoom-in simulations of
-/// Milky-Way-mass haloes with their galaxies: "A typical MW-mass halo contains ≈16 subhaloes
-/// >1e7 Msun (≈1 subhalo >1e8 Msun) within 50 kpc at z ≈ 0"; dark-matter-only versions
+/// Milky-Way-mass haloes with their galaxies: "A typical MW-mass halo contains ≈16
+/// subhaloes >1e7 Msun (≈1 subhalo >1e8 Msun) within 50 kpc at z ≈ 0"; dark-matter-only versions
 /// "overpredict subhalo counts by 2-10x, more so at smaller distances"; counts "≈10x higher
 /// at z = 1 than at z ≈ 0"; "nearly isotropic orbital velocity distributions at z ≈ 0".
 /// 16 default hosts (1.2e12 Msun, Planck 2018, disc and bulge) and the same 16 without disc
