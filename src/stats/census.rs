@@ -3,8 +3,10 @@
 //! (tests in `tests/validation/val_subhaloes.rs`, `examples/population.rs`, docs/validation.md).
 //!
 //! Conventions: a *satellite* is an occupied subhalo alive at the end (in the host, or inside
-//! another subhalo: status 0 or 2) that never had a pericentre inside the disc cut
-//! (`t_disrupt_pericentre_gyr` NaN), at its own position relative to the host's centre.
+//! another subhalo: status 0 or 2), at its own position relative to the host's centre. The
+//! disc acts through its tide at each pericentre (`orbits.disc_tide_ratio`, already in the
+//! status); the fixed pericentre cut (`t_disrupt_pericentre_gyr`) is not applied here (it was
+//! until the disc-tide model replaced it as the default).
 
 use crate::orbits::{SubhaloResult, SubhaloStatus};
 use crate::synth::HostRecord;
