@@ -53,22 +53,8 @@ fn main() {
             let t = fl(&hi["t_gyr"]);
             let fb = fl(&hi["f_bound"]);
             txt += &format!(" {name}");
-            for (k, (&tk, &fk)) in t.iter().zip(&fb).enumerate() {
-                if tk > 2.3 && k % 2 == 0 {
-                    let r = evolve_in_isolated_halo(
-                        &opts,
-                        parent,
-                        child,
-                        [x0[0], x0[1], x0[2]],
-                        [v0[0], v0[1], v0[2]],
-                        0.0,
-                        tk,
-                    );
-                    series.push((r.m_bound_msun / child.0 / fk).ln());
-                }
-            }
-            for tc in fl(&o["compare_t_gyr"]) {
-                let k = t.iter().position(|&tt| (tt - tc).abs() < 0.01).unwrap();
+            // the model's bound fraction at time tt over the N-body's f
+            let ratio = |tt: f64, f: f64| {
                 let r = evolve_in_isolated_halo(
                     &opts,
                     parent,
@@ -76,9 +62,18 @@ fn main() {
                     [x0[0], x0[1], x0[2]],
                     [v0[0], v0[1], v0[2]],
                     0.0,
-                    tc,
+                    tt,
                 );
-                let q = r.m_bound_msun / child.0 / fb[k];
+                r.m_bound_msun / child.0 / f
+            };
+            for (k, (&tk, &fk)) in t.iter().zip(&fb).enumerate() {
+                if tk > 2.3 && k % 2 == 0 {
+                    series.push(ratio(tk, fk).ln());
+                }
+            }
+            for tc in fl(&o["compare_t_gyr"]) {
+                let k = t.iter().position(|&tt| (tt - tc).abs() < 0.01).unwrap();
+                let q = ratio(tc, fb[k]);
                 all.push(q.ln());
                 txt += &format!(" {q:.2}");
             }
