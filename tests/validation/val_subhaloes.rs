@@ -447,17 +447,8 @@ fn val_radial_distribution() {
 /// merged with the halo it orbited: a halo finder loses both), more than half are satellites
 /// of satellites that fell into their first halo before z = 2.
 ///
-/// And today's subhaloes on the same hosts (inside R_vir, bound mass at least 1e-5 M_vir,
-/// orbital energy in the host's NFW halo, zero at infinity): Rocha, Peter & Bullock 2012
-/// (MNRAS 425, 231; abstract, read here) find in a dark-matter-only simulation that "the
-/// present-day orbital energy is tightly correlated with the time at which subhaloes last
-/// entered within the virial radius": Spearman's rank correlation of the energy with the
-/// lookback time to the last infall at most -0.7 (a strong correlation: common practice;
-/// its sampling error on several thousand objects is about 0.01), first-order subhaloes.
-/// Boylan-Kolchin et al. 2013 (ApJ 768, 140; abstract, read here): "99.9% of subhalos in the
-/// simulations are bound to their host": first-order subhaloes unbound at most 0.1% of them
-/// plus three Poisson errors (every order printed: the excess there is group members that
-/// arrived within the last few hundred Myr, bound to their group rather than to the host).
+/// Printed, not met (docs/validation.md, "Not met yet"): when today's subhaloes (inside
+/// R_vir, bound mass at least 1e-5 M_vir) first fell in, against Gao et al. 2004.
 ///
 /// Also: recording at an epoch changes nothing else (one host with and without, every
 /// field compared).
@@ -491,11 +482,8 @@ fn val_subhalo_survival_vs_dmo_simulations() {
     // per host, the z = 1 subhaloes (bound mass at z = 1, V_max at z = 1 in km/s, bound mass
     // today or 0) and the counts of He, Han & Li's two statements
     type AtZ1 = (f64, f64, f64);
-    // and today's subhaloes (orbital energy over V_vir^2, lookback to the last infall, order,
-    // time of the first infall)
-    type Today = (f64, f64, u16, f64);
-    let t0 = cosmo.age0_gyr();
-    let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<Today>)> = (0..16u32)
+    // and when today's subhaloes first fell into the host
+    let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<f64>)> = (0..16u32)
         .into_par_iter()
         .map_init(
             || TreeBuilder::new(opts.tree.pch08).unwrap(),
@@ -549,12 +537,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
                         (s.m_bound_at_epoch_msun, v, today)
                     })
                     .collect();
-                // orbital energy in the host's NFW halo today (it has no disc), zero at infinity
                 let h = &rec.summary;
-                let r_s = h.r_vir_kpc / h.concentration;
-                let m_s = h.m_vir_msun / retinue::halo::nfw::mu(h.concentration);
-                let g = retinue::constants::G_KPC_KMS2_PER_MSUN;
-                let v_vir2 = g * h.m_vir_msun / h.r_vir_kpc;
                 let today = rec
                     .subhaloes
                     .iter()
@@ -563,16 +546,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
                             && s.r_kpc < h.r_vir_kpc
                             && s.m_bound_msun >= 1e-5 * h.m_vir_msun
                     })
-                    .map(|s| {
-                        let v2: f64 = s.vel_kms.iter().map(|v| v * v).sum();
-                        let phi = -g * m_s * (1.0 + s.r_kpc / r_s).ln() / s.r_kpc;
-                        (
-                            (0.5 * v2 + phi) / v_vir2,
-                            t0 - s.t_last_host_infall_gyr,
-                            s.order,
-                            s.t_first_host_infall_gyr,
-                        )
-                    })
+                    .map(|s| s.t_first_host_infall_gyr)
                     .collect();
                 (z1_subs, counts, today)
             },
@@ -686,47 +660,11 @@ fn val_subhalo_survival_vs_dmo_simulations() {
         2 * early_children > ended,
         "{early_children} of {ended} ended subhaloes are early satellites of satellites"
     );
-    // Rocha, Peter & Bullock 2012: energy today against the last infall
-    let spearman = |a: &[f64], b: &[f64]| {
-        let ranks = |v: &[f64]| {
-            let mut idx: Vec<usize> = (0..v.len()).collect();
-            idx.sort_by(|&i, &j| v[i].total_cmp(&v[j]));
-            let mut r = vec![0.0; v.len()];
-            for (k, &i) in idx.iter().enumerate() {
-                r[i] = k as f64;
-            }
-            r
-        };
-        let (ra, rb) = (ranks(a), ranks(b));
-        let m = (a.len() as f64 - 1.0) / 2.0;
-        let cov: f64 = ra.iter().zip(&rb).map(|(x, y)| (x - m) * (y - m)).sum();
-        let var: f64 = ra.iter().map(|x| (x - m) * (x - m)).sum();
-        cov / var
-    };
-    let today: Vec<&Today> = per_host.iter().flat_map(|h| h.2.iter()).collect();
-    let first: Vec<&&Today> = today.iter().filter(|r| r.2 == 1).collect();
-    let e1: Vec<f64> = first.iter().map(|r| r.0).collect();
-    let lb1: Vec<f64> = first.iter().map(|r| r.1).collect();
-    let rho1 = spearman(&e1, &lb1);
-    let e: Vec<f64> = today.iter().map(|r| r.0).collect();
-    let t: Vec<f64> = today.iter().map(|r| r.1).collect();
-    let unbound = |v: &[f64]| v.iter().filter(|&&x| x > 0.0).count();
-    eprintln!(
-        "today, inside R_vir, bound mass >= 1e-5 M_vir: Spearman(energy, lookback to the last \
-         infall) {rho1:.3} first order ({} objects), {:.3} every order ({}); unbound in the \
-         host's halo {} and {} (fractions {:.4}, {:.4}; Boylan-Kolchin et al. 2013: 99.9% bound)",
-        first.len(),
-        spearman(&e, &t),
-        today.len(),
-        unbound(&e1),
-        unbound(&e),
-        unbound(&e1) as f64 / e1.len() as f64,
-        unbound(&e) as f64 / e.len() as f64
-    );
+    let today: Vec<f64> = per_host.iter().flat_map(|h| h.2.iter().copied()).collect();
     // Gao et al. 2004 (printed; see docs/validation.md, "Not met yet")
     let after = |z: f64| {
         let t = cosmo.age_gyr(z);
-        today.iter().filter(|r| r.3 > t).count() as f64 / today.len() as f64
+        today.iter().filter(|&&t_in| t_in > t).count() as f64 / today.len() as f64
     };
     eprintln!(
         "today's subhaloes that first fell in after z = 1: {:.3}, after z = 0.5: {:.3} \
@@ -734,18 +672,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
         after(1.0),
         after(0.5)
     );
-    assert!(first.len() > 5_000, "{}", first.len());
-    assert!(
-        rho1 <= -0.7,
-        "energy and last infall correlate only at Spearman {rho1:.3}"
-    );
-    let expected = 0.001 * e1.len() as f64;
-    assert!(
-        (unbound(&e1) as f64) <= expected + 3.0 * expected.sqrt(),
-        "{} of {} first-order subhaloes unbound, 0.1% expected",
-        unbound(&e1),
-        e1.len()
-    );
+    assert!(today.len() > 5_000, "{}", today.len());
 }
 
 /// Subhaloes within 50 kpc of a Milky-Way-mass galaxy against Barry et al. 2023
