@@ -479,11 +479,12 @@ fn val_subhalo_survival_vs_dmo_simulations() {
     let z1 = 1.0;
     let t1 = cosmo.age_gyr(z1);
     let t2 = cosmo.age_gyr(2.0);
+    const N_HOSTS: u32 = 16;
     // per host, the z = 1 subhaloes (bound mass at z = 1, V_max at z = 1 in km/s, bound mass
     // today or 0) and the counts of He, Han & Li's two statements
     type AtZ1 = (f64, f64, f64);
     // and when today's subhaloes first fell into the host
-    let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<f64>)> = (0..16u32)
+    let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<f64>)> = (0..N_HOSTS)
         .into_par_iter()
         .map_init(
             || TreeBuilder::new(opts.tree.pch08).unwrap(),
@@ -552,25 +553,31 @@ fn val_subhalo_survival_vs_dmo_simulations() {
             },
         )
         .collect();
-    let hosts: Vec<Vec<AtZ1>> = per_host.iter().map(|h| h.0.clone()).collect();
+    let hosts: Vec<&Vec<AtZ1>> = per_host.iter().map(|h| &h.0).collect();
     let count = |k: usize| per_host.iter().map(|h| h.1[k]).sum::<usize>();
-    let n_z1: usize = hosts.iter().map(Vec::len).sum();
+    let n_z1: usize = hosts.iter().map(|h| h.len()).sum();
     assert!(n_z1 > 10_000, "{n_z1} subhaloes at z = 1");
     // survival, per host
-    let survival = |h: &Vec<(f64, f64, f64)>, m_min: f64| {
+    let survival = |h: &Vec<AtZ1>, m_min: f64| {
         h.iter().filter(|r| r.2 >= m_min).count() as f64 / h.len() as f64
     };
     let survivals: Vec<f64> = hosts.iter().map(|h| survival(h, 2.1e5)).collect();
     let (lo, hi) = survivals
         .iter()
         .fold((1.0f64, 0.0f64), |(a, b), &x| (a.min(x), b.max(x)));
-    let pooled =
-        |m_min: f64| hosts.iter().flatten().filter(|r| r.2 >= m_min).count() as f64 / n_z1 as f64;
+    let pooled = |m_min: f64| {
+        hosts
+            .iter()
+            .flat_map(|h| h.iter())
+            .filter(|r| r.2 >= m_min)
+            .count() as f64
+            / n_z1 as f64
+    };
     eprintln!(
         "z = 1 subhaloes ({:.0} per host) alive today with >= 10 particles: pooled {:.3}, \
          median host {:.3}, range {lo:.3}-{hi:.3}; with >= 20 particles pooled {:.3}; \
          published 0.97 (one halo)",
-        n_z1 as f64 / 16.0,
+        n_z1 as f64 / N_HOSTS as f64,
         pooled(2.1e5),
         median(survivals.clone()),
         pooled(4.2e5)
@@ -580,7 +587,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
         "0.97 outside the hosts' survival fractions {lo:.3}-{hi:.3}"
     );
     // retained mass by V_max at z = 1, with its bootstrap error over hosts
-    let retained = |sel: &[&Vec<(f64, f64, f64)>], v0: f64, v1: f64| {
+    let retained = |sel: &[&Vec<AtZ1>], v0: f64, v1: f64| {
         median(
             sel.iter()
                 .flat_map(|h| h.iter())
@@ -589,13 +596,13 @@ fn val_subhalo_survival_vs_dmo_simulations() {
                 .collect(),
         )
     };
-    let all: Vec<&Vec<(f64, f64, f64)>> = hosts.iter().collect();
     let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
     let bins = [(5.0, 8.0), (8.0, 12.0), (20.0, 40.0)];
     let mut boot = vec![Vec::new(); bins.len()];
     for _ in 0..400 {
-        let sample: Vec<&Vec<(f64, f64, f64)>> =
-            (0..16).map(|_| all[rng.random_range(0..16)]).collect();
+        let sample: Vec<&Vec<AtZ1>> = (0..N_HOSTS)
+            .map(|_| hosts[rng.random_range(0..hosts.len())])
+            .collect();
         for (k, &(v0, v1)) in bins.iter().enumerate() {
             boot[k].push(retained(&sample, v0, v1));
         }
@@ -607,11 +614,11 @@ fn val_subhalo_survival_vs_dmo_simulations() {
     let got: Vec<(f64, f64)> = bins
         .iter()
         .zip(&boot)
-        .map(|(&(v0, v1), b)| (retained(&all, v0, v1), sd(b)))
+        .map(|(&(v0, v1), b)| (retained(&hosts, v0, v1), sd(b)))
         .collect();
     let ten: Vec<f64> = hosts
         .iter()
-        .flatten()
+        .flat_map(|h| h.iter())
         .filter(|r| r.1 >= 8.0 && r.1 < 12.0)
         .map(|r| r.2 / r.0)
         .collect();
