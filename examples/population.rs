@@ -5,7 +5,7 @@
 //! Run: `cargo run --release --example population [N_HOSTS] [RTOL_IN_SUBHALO] [nodisc]
 //! [KEY=VALUE ...]` (default 32 hosts and the default tolerance; `nodisc`: a host without disc
 //! and bulge; `-` keeps a default). KEY=VALUE changes one option: `occupation=erf|all|reionization`,
-//! `resolution=MSUN`, `disc_tide_ratio=X`, `stripping_alpha=X`, `stripping_alpha_c_slope=P`, `friction_mass_infall_weight=W`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `v_filter=KMS`, `t_vir=K`, `infall_orbits=NAME`, `smhm_epoch=peak|today`, `pericentre_cut=1` (the fixed
+//! `resolution=MSUN`, `disc_tide_ratio=X`, `disc_tide_loss_power=K`, `stripping_alpha=X`, `stripping_alpha_c_slope=P`, `friction_mass_infall_weight=W`, `reionization_z=Z`, `sigma=DEX` (the reionisation occupation's width, `reionization_sigma_dex`), `v_filter=KMS`, `t_vir=K`, `infall_orbits=NAME`, `smhm_epoch=peak|today`, `pericentre_cut=1` (the fixed
 //! 20 kpc cut on top), `strip_stars=0` (galaxies keep every star they formed), `size_to_r200c=X`,
 //! `size_scatter=DEX` (galaxy sizes, which set how deeply stars sit in their subhaloes),
 //! `seed=N` (the master seed; 5 by default, as the validation tests).
@@ -134,6 +134,7 @@ fn main() {
             }
             "resolution" => tree.m_resolution_msun = x(),
             "disc_tide_ratio" => orbits.disc_tide_ratio = x(),
+            "disc_tide_loss_power" => orbits.disc_tide_loss_power = x(),
             "stripping_alpha" => orbits.stripping_alpha = x(),
             "stripping_alpha_c_slope" => orbits.stripping_alpha_c_slope = x(),
             "friction_mass_infall_weight" => orbits.friction_mass_infall_weight = x(),

@@ -381,33 +381,47 @@ fn host_tide(snap: &crate::host::HostSnapshot, y: &State) -> (f64, f64) {
     (dot(l, l) / (r2 * r2) - d2phi, m_enc)
 }
 
-/// The disc-tide model of disruption: at a pericentre of radius `r_p` at time `t_p` (its
-/// direction taken from the host-centred state `y` at the end of the step that found it), the
-/// subhalo of bound mass m is destroyed if the tide of the host's disc and bulge there,
-/// `HostSnapshot::baryon_tide` (G M_b(<r)/r^3 - d^2 Phi_b/dr^2, at the disc's mass and size at
-/// that time), exceeds `disc_tide_ratio` times the subhalo's own V_max^2 / R_max^2 (its mean
-/// density inside R_max, in units of 4 pi G / 3, along its tidal track). Our closure,
-/// calibrated on the depletion a disc causes in simulations (docs/methods.md).
-fn disc_destroys(
+/// The disc-tide model: at a pericentre of radius `r_p` at time `t_p` (its direction taken
+/// from the host-centred state `y` at the end of the step that found it), the tide of the
+/// host's disc and bulge there, `HostSnapshot::baryon_tide` (G M_b(<r)/r^3 - d^2 Phi_b/dr^2,
+/// at the disc's mass and size at that time), over `disc_tide_ratio` times the subhalo's own
+/// V_max^2 / R_max^2 (its mean density inside R_max, in units of 4 pi G / 3, along its tidal
+/// track) for bound mass m: s. None when the closure is off or there is no disc. The subhalo
+/// is destroyed if s > 1 and, with `disc_tide_loss_power` k > 0, keeps 1 - s^k of its bound
+/// mass otherwise (`disc_passage`). Our closure, calibrated on the depletion a disc causes in
+/// simulations (docs/methods.md).
+fn disc_tide_over_density(
     s: crate::host::HostSnapshot,
     options: &OrbitOptions,
     structure: &SubhaloStructure,
     m: f64,
     r_p: f64,
     y: &State,
-) -> bool {
+) -> Option<f64> {
     // (a disruption by tides: off with stripping, like the other disruptions)
     if options.disc_tide_ratio <= 0.0 || !options.stripping || !r_p.is_finite() {
-        return false;
+        return None;
     }
     if s.m_disc <= 0.0 && s.m_bulge <= 0.0 {
-        return false;
+        return None;
     }
     let d = pos(y);
     let n = norm(d).max(1e-12);
     let x = [d[0] * r_p / n, d[1] * r_p / n, d[2] * r_p / n];
     let (vmax, rmax) = structure.vmax_rmax(m);
-    s.baryon_tide(x) > options.disc_tide_ratio * vmax * vmax / (rmax * rmax)
+    Some(s.baryon_tide(x) / (options.disc_tide_ratio * vmax * vmax / (rmax * rmax)))
+}
+
+/// What a pericentre with disc-tide ratio `s` (`disc_tide_over_density`) does to a subhalo of
+/// bound mass m: None if it is destroyed (s > 1), else its bound mass after the passage.
+fn disc_passage(options: &OrbitOptions, s: Option<f64>, m: f64) -> Option<f64> {
+    match s {
+        Some(s) if s > 1.0 => None,
+        Some(s) if options.disc_tide_loss_power > 0.0 => {
+            Some(m * (1.0 - s.powf(options.disc_tide_loss_power)))
+        }
+        _ => Some(m),
+    }
 }
 
 /// Follow one subhalo from its infall to the end (or its death): fill `res`; return its
@@ -706,18 +720,20 @@ pub(crate) fn follow(
                 options.pericentre_cut_kpc,
             );
             // a new pericentre: destroyed there if the disc's and bulge's tide beats the
-            // subhalo's own density (`disc_destroys`)
-            if tr.n_peri > n_peri
-                && disc_destroys(
+            // subhalo's own density, or loses mass there (`disc_tide_over_density`)
+            if tr.n_peri > n_peri {
+                let s = disc_tide_over_density(
                     host.snapshot(tr.t_peri_last),
                     options,
                     structure,
                     m,
                     tr.r_peri_last,
                     &hermite_state(t, a0, t1, a1, tr.t_peri_last),
-                )
-            {
-                disc_kill = Some(tr.t_peri_last);
+                );
+                match disc_passage(options, s, m) {
+                    None => disc_kill = Some(tr.t_peri_last),
+                    Some(m1) => m = m1,
+                }
             }
             // about the partner of a pair: its virial radius, its pericentres and its disc
             if let (Some(p), Some(q1)) = (host.partner(), q1) {
@@ -732,18 +748,19 @@ pub(crate) fn follow(
                     ptracker.get_or_insert_with(|| Tracker::with_group(t, norm(pos(&q0)), rv0));
                 let n_peri = ptr.n_peri;
                 ptr.step(t, &q0, t1, &q1, rv0, rv1, options.pericentre_cut_kpc);
-                if ptr.n_peri > n_peri
-                    && disc_kill.is_none()
-                    && disc_destroys(
+                if ptr.n_peri > n_peri && disc_kill.is_none() {
+                    let s = disc_tide_over_density(
                         p.snapshot(ptr.t_peri_last),
                         options,
                         structure,
                         m,
                         ptr.r_peri_last,
                         &hermite_state(t, &q0, t1, &q1, ptr.t_peri_last),
-                    )
-                {
-                    disc_kill = Some(ptr.t_peri_last);
+                    );
+                    match disc_passage(options, s, m) {
+                        None => disc_kill = Some(ptr.t_peri_last),
+                        Some(m1) => m = m1,
+                    }
                 }
             }
         } else if tracker.is_none() {
@@ -1024,5 +1041,26 @@ mod tests {
         };
         assert!(!confined_within(&capped, &at(0.21 * v_edge), r_out));
         assert!(confined_within(&capped, &at(0.19 * v_edge), r_out));
+    }
+
+    /// The pericentre's effect in `disc_passage`: off (None: no disc), the all-or-nothing
+    /// closure (power 0: destroyed only above the threshold), and the gradual losses (the
+    /// subhalo keeps 1 - s^k, k = `disc_tide_loss_power`).
+    #[test]
+    fn disc_passage_keeps_one_minus_the_ratio_to_the_power() {
+        let mut o = OrbitOptions::default();
+        assert_eq!(o.disc_tide_loss_power, 0.0);
+        assert_eq!(disc_passage(&o, None, 5.0), Some(5.0));
+        assert_eq!(disc_passage(&o, Some(0.99), 5.0), Some(5.0));
+        assert_eq!(disc_passage(&o, Some(1.01), 5.0), None);
+        o.disc_tide_loss_power = 1.0;
+        assert_eq!(disc_passage(&o, Some(0.25), 4.0), Some(3.0));
+        assert_eq!(disc_passage(&o, None, 4.0), Some(4.0));
+        assert_eq!(disc_passage(&o, Some(1.5), 4.0), None);
+        o.disc_tide_loss_power = 0.5;
+        // 1 - 0.25^0.5 = 0.5
+        assert!((disc_passage(&o, Some(0.25), 4.0).unwrap() - 2.0).abs() < 1e-12);
+        // a weak passage: 1e-6 of the threshold strips 1e-6^0.5 = 1e-3 of the mass
+        assert!((disc_passage(&o, Some(1e-6), 1.0).unwrap() - 0.999).abs() < 1e-12);
     }
 }

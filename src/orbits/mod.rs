@@ -58,8 +58,14 @@ pub struct OrbitOptions {
     pub pericentre_cut_kpc: f64,
     /// Disc-tide model of disruption: a subhalo is destroyed at a pericentre where the tide
     /// of the host's disc and bulge exceeds this many times its own V_max^2 / R_max^2
-    /// (`follow::disc_destroys`); 0 = off.
+    /// (`follow::disc_tide_over_density`); 0 = off.
     pub disc_tide_ratio: f64,
+    /// Gradual disc-tide losses: at a pericentre where the disc's and bulge's tide is a ratio
+    /// q of the subhalo's V_max^2 / R_max^2 below `disc_tide_ratio` (q / disc_tide_ratio =
+    /// s < 1), the subhalo keeps 1 - s^k of its bound mass, k this power; 0 = off (the
+    /// all-or-nothing closure: nothing lost below the threshold). Our closure
+    /// (`follow::disc_tide_over_density`, docs/methods.md).
+    pub disc_tide_loss_power: f64,
     /// A subhalo massive enough to feel friction (m > 1e-4 M_vir) whose orbit is confined
     /// inside this radius (kpc; `follow::confined_in_host`) has merged with the central galaxy
     /// and is removed (0 = never).
@@ -83,6 +89,7 @@ impl Default for OrbitOptions {
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
             disc_tide_ratio: 0.8,
+            disc_tide_loss_power: 0.0,
             central_merge_kpc: 1.0,
             infall_orbits: initial::InfallOrbits::default(),
         }
@@ -102,9 +109,10 @@ pub const SINGLE_RATE: (f64, f64, f64, f64) = (0.75, 0.0, 0.0, 1.2);
 /// Keys of `OrbitOptions` added after stores began to record the resolved options (2026-12-04),
 /// each with the value that reproduces what the code did before the key existed: a store
 /// written then lacks them, and must not be read at today's defaults.
-pub const KEYS_ADDED_LATER: [(&str, f64); 2] = [
+pub const KEYS_ADDED_LATER: [(&str, f64); 3] = [
     ("stripping_alpha_c_slope", 0.0),
     ("friction_mass_infall_weight", 0.0),
+    ("disc_tide_loss_power", 0.0),
 ];
 
 impl OrbitOptions {
@@ -121,8 +129,8 @@ impl OrbitOptions {
         Self::deserialize(table)
     }
 
-    /// What `check` says of settings that mix the two calibrated sets (empty: nothing to
-    /// say). With `stripping_alpha_c_slope` > 0 and friction on the bound mass alone, children
+    /// What `check` says of settings that mix the two calibrated sets, and of gradual disc
+    /// losses with a power below 1 (empty: nothing to say). With `stripping_alpha_c_slope` > 0 and friction on the bound mass alone, children
     /// sink into their parents 1.20-1.60 times slower than the merging-time fit at z = 0; the
     /// disc's ratio was calibrated for one rate or the other (0.8 with the concentration-
     /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc; 1.2 is the
@@ -136,6 +144,17 @@ impl OrbitOptions {
         };
         let (by_c, single) = (sets(BY_CONCENTRATION), sets(SINGLE_RATE));
         let mut notes = Vec::new();
+        let k = self.disc_tide_loss_power;
+        if self.stripping && self.disc_tide_ratio > 0.0 && k > 0.0 && k < 1.0 {
+            notes.push(format!(
+                "orbits.disc_tide_loss_power = {k} is below 1: a pericentre at which the disc's \
+                 tide is a fraction s of the threshold strips s^{k} of the bound mass, more than \
+                 s itself, so the disc strips at every pericentre however far out (1e-6 of the \
+                 threshold strips {:.1e}) and a light partner's disc strips too; weak tidal \
+                 shocks strip in proportion to their strength (docs/methods.md)",
+                1e-6f64.powf(k)
+            ));
+        }
         if !(self.stripping && self.friction) {
             return notes;
         }
@@ -241,6 +260,12 @@ impl OrbitOptions {
             "must be in [0, 1000] (0 = off)",
         );
         ck.num(
+            "disc_tide_loss_power",
+            self.disc_tide_loss_power,
+            (0.0..=100.0).contains(&self.disc_tide_loss_power),
+            "must be in [0, 100] (0 = off: only the all-or-nothing disc closure)",
+        );
+        ck.num(
             "central_merge_kpc",
             self.central_merge_kpc,
             (0.0..=50.0).contains(&self.central_merge_kpc),
@@ -280,6 +305,7 @@ mod tests {
         let old = OrbitOptions::from_recorded(&older).unwrap();
         assert_eq!(old.stripping_alpha_c_slope, 0.0);
         assert_eq!(old.friction_mass_infall_weight, 0.0);
+        assert_eq!(old.disc_tide_loss_power, 0.0);
         assert_ne!(today.stripping_alpha_c_slope, 0.0);
         assert_ne!(today.friction_mass_infall_weight, 0.0);
         assert_eq!(old.disc_tide_ratio, today.disc_tide_ratio);

@@ -1494,7 +1494,14 @@ impl Figure for PairSeparationFig {
 /// The disruption model the run's selection used, in words (for the pericentre figure).
 fn survival_words(survival: Survival, orbits: &OrbitOptions) -> String {
     let tide = orbits.disc_tide_ratio > 0.0 && orbits.stripping;
-    let tide_words = format!("disc tide (disc_tide_ratio = {})", orbits.disc_tide_ratio);
+    let tide_words = if orbits.disc_tide_loss_power > 0.0 {
+        format!(
+            "disc tide (disc_tide_ratio = {}, disc_tide_loss_power = {})",
+            orbits.disc_tide_ratio, orbits.disc_tide_loss_power
+        )
+    } else {
+        format!("disc tide (disc_tide_ratio = {})", orbits.disc_tide_ratio)
+    };
     match (survival, tide) {
         (Survival::Physical, true) => format!("survival: {tide_words}"),
         (Survival::Physical, false) => "survival: tidal stripping only (no disc model)".into(),
@@ -2055,6 +2062,12 @@ mod tests {
         assert_eq!(
             survival_words(Survival::Pericentre, &o),
             "survival: disc tide (disc_tide_ratio = 0.8) + 20 kpc pericentre cut"
+        );
+        o.disc_tide_loss_power = 0.3;
+        o.disc_tide_ratio = 50.0;
+        assert_eq!(
+            survival_words(Survival::Physical, &o),
+            "survival: disc tide (disc_tide_ratio = 50, disc_tide_loss_power = 0.3)"
         );
         o.disc_tide_ratio = 0.0;
         assert_eq!(

@@ -830,6 +830,18 @@ fn check_notes_settings_calibrated_for_another_stripping_rate() {
             assert!(l.starts_with("note: ") && !l.contains("  "), "{l}");
         }
     }
+    // gradual disc losses with a power below 1 strip at every pericentre, however far out
+    let tail = "strips at every pericentre however far out";
+    for (orbits, expect) in [
+        ("disc_tide_ratio = 50\ndisc_tide_loss_power = 0.3\n", true),
+        ("disc_tide_ratio = 3\ndisc_tide_loss_power = 1\n", false),
+        ("disc_tide_ratio = 0\ndisc_tide_loss_power = 0.3\n", false),
+    ] {
+        let cfg = write(d.path(), "o.toml", &format!("{TINY}\n[orbits]\n{orbits}"));
+        let (code, _, err) = run_cli(&["check", cfg.to_str().unwrap()]);
+        assert_eq!(code, 0, "{orbits}: {err}");
+        assert_eq!(err.contains(tail), expect, "{orbits}: {err}");
+    }
 }
 
 /// `check` notes galaxy-size keys that change nothing because stars are not stripped (a

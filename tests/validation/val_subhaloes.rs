@@ -718,7 +718,7 @@ fn val_inner_subhaloes_vs_hydrodynamic_simulations() {
     // per host: counts above 1e7 Msun within 30, 50, 100 kpc today; above 1e8 within 50 kpc;
     // above 1e7 within 50 kpc at z = 1; and (v_r^2, v_t^2) of those within 50 kpc today
     type Counts = ([f64; 6], Vec<(f64, f64)>);
-    let run = |baryons: bool| -> Vec<Counts> {
+    let run = |baryons: bool, orbits: OrbitOptions| -> Vec<Counts> {
         let opts = SynthOptions {
             tree: TreeSpec {
                 m_resolution_msun: 3e6,
@@ -732,7 +732,7 @@ fn val_inner_subhaloes_vs_hydrodynamic_simulations() {
                     ..HostOptions::default()
                 }
             },
-            orbits: Default::default(),
+            orbits,
             galaxies: Default::default(),
             survey: Default::default(),
         };
@@ -773,8 +773,8 @@ fn val_inner_subhaloes_vs_hydrodynamic_simulations() {
             )
             .collect()
     };
-    let with = run(true);
-    let without = run(false);
+    let with = run(true, OrbitOptions::default());
+    let without = run(false, OrbitOptions::default());
     let total = |hs: &[Counts], k: usize| hs.iter().map(|h| h.0[k]).sum::<f64>();
     let beta = |hs: &[Counts]| {
         let v: Vec<&(f64, f64)> = hs.iter().flat_map(|h| h.1.iter()).collect();
@@ -835,6 +835,51 @@ fn val_inner_subhaloes_vs_hydrodynamic_simulations() {
             "reduction within {within} kpc {f:.3} +- {e:.3} outside [1/4, 1/2]"
         );
     }
+    // The option of gradual disc losses (`orbits.disc_tide_loss_power`; our closure, not the
+    // default): with disc_tide_ratio = 50 and power 0.3 (chosen for this count on these 16
+    // hosts, 2026-12-05: 0.8 and 1 give 15.8, 3 and 1 25.6, 200 and 0.3 20.9) it brings the
+    // count above 1e7 Msun within 50 kpc to Barry et al.'s about 16 per host. The band is
+    // two standard errors of the difference of the two means: ours from the spread of our 16
+    // hosts, theirs (eleven haloes) taken with the same relative spread.
+    let gradual = run(
+        true,
+        OrbitOptions {
+            disc_tide_ratio: 50.0,
+            disc_tide_loss_power: 0.3,
+            ..OrbitOptions::default()
+        },
+    );
+    let per: Vec<f64> = gradual.iter().map(|h| h.0[1]).collect();
+    let mean = per.iter().sum::<f64>() / per.len() as f64;
+    let sd = (per.iter().map(|c| (c - mean).powi(2)).sum::<f64>() / (per.len() - 1) as f64).sqrt();
+    let err = ((sd / (per.len() as f64).sqrt()).powi(2)
+        + (sd / mean * 16.0 / 11f64.sqrt()).powi(2))
+    .sqrt();
+    let rg = |k: usize| total(&without, k) / total(&gradual, k);
+    eprintln!(
+        "gradual disc losses (disc_tide_ratio 50, power 0.3), per host: N(>1e7 Msun, <50 kpc) \
+         {mean:.1} +- {err:.1} (published about 16), N(>1e8, <50) {:.2} (about 1); N(<50) at z = 1 \
+         over today {:.2} (about 10); beta within 50 kpc {:.2}; dark matter only over disc \
+         within 30, 50, 100, 300 kpc: {:.2}, {:.2}, {:.2}, {:.2}",
+        per_host(&gradual, 3),
+        total(&gradual, 4) / total(&gradual, 1),
+        beta(&gradual),
+        rg(0),
+        rg(1),
+        rg(2),
+        rg(5)
+    );
+    assert!(
+        (mean - 16.0).abs() < 2.0 * err,
+        "gradual disc losses: {mean:.1} +- {err:.1} subhaloes within 50 kpc, not about 16"
+    );
+    // and the all-or-nothing default keeps too many (docs/validation.md, "Not met yet"): if
+    // this fails, the default has changed and the row must be re-measured
+    let default_mean = per_host(&with, 1);
+    assert!(
+        default_mean - 16.0 > 2.0 * err,
+        "the default's {default_mean:.1} within 50 kpc now meets about 16: re-measure"
+    );
 }
 
 /// Bookkeeping on every subhalo: infall clocks ordered (infall anywhere <= first infall into
