@@ -130,9 +130,9 @@ impl OrbitOptions {
     }
 
     /// What `check` says of settings that mix the two calibrated sets, and of gradual disc
-    /// losses with a power below 1 (empty: nothing to say). With `stripping_alpha_c_slope` > 0 and friction on the bound mass alone, children
-    /// sink into their parents 1.20-1.60 times slower than the merging-time fit at z = 0; the
-    /// disc's ratio was calibrated for one rate or the other (0.8 with the concentration-
+    /// losses with a power below 1 (empty: nothing to say). With `stripping_alpha_c_slope` > 0
+    /// and friction on the bound mass alone, children sink into their parents 1.20-1.60 times
+    /// slower than the merging-time fit at z = 0; the disc's ratio was calibrated for one rate or the other (0.8 with the concentration-
     /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc; 1.2 is the
     /// single rate's value).
     pub fn calibration_notes(&self) -> Vec<String> {
