@@ -413,12 +413,15 @@ fn disc_tide_over_density(
 }
 
 /// What a pericentre with disc-tide ratio `s` (`disc_tide_over_density`) does to a subhalo of
-/// bound mass m: None if it is destroyed (s > 1), else its bound mass after the passage.
+/// bound mass m: None if it is destroyed (s > 1, or s = 1 with gradual losses, which would
+/// strip all of it), else its bound mass after the passage.
 fn disc_passage(options: &OrbitOptions, s: Option<f64>, m: f64) -> Option<f64> {
     match s {
         Some(s) if s > 1.0 => None,
         Some(s) if options.disc_tide_loss_power > 0.0 => {
-            Some(m * (1.0 - s.powf(options.disc_tide_loss_power)))
+            // (all of it at s = 1: destroyed there too)
+            let keep = 1.0 - s.powf(options.disc_tide_loss_power);
+            (keep > 0.0).then_some(m * keep)
         }
         _ => Some(m),
     }
@@ -1057,6 +1060,7 @@ mod tests {
         assert_eq!(disc_passage(&o, Some(0.25), 4.0), Some(3.0));
         assert_eq!(disc_passage(&o, None, 4.0), Some(4.0));
         assert_eq!(disc_passage(&o, Some(1.5), 4.0), None);
+        assert_eq!(disc_passage(&o, Some(1.0), 4.0), None);
         o.disc_tide_loss_power = 0.5;
         // 1 - 0.25^0.5 = 0.5
         assert!((disc_passage(&o, Some(0.25), 4.0).unwrap() - 2.0).abs() < 1e-12);

@@ -1203,6 +1203,70 @@ fn orbit_keys_give_sane_events_over_their_allowed_range() {
             },
         ),
         (
+            "friction_mass_infall_weight = 0",
+            OrbitOptions {
+                friction_mass_infall_weight: 0.0,
+                ..d
+            },
+        ),
+        (
+            "friction_mass_infall_weight = 1",
+            OrbitOptions {
+                friction_mass_infall_weight: 1.0,
+                ..d
+            },
+        ),
+        (
+            "stripping_alpha_c_slope = 0",
+            OrbitOptions {
+                stripping_alpha_c_slope: 0.0,
+                ..d
+            },
+        ),
+        (
+            "stripping_alpha_c_slope = 2",
+            OrbitOptions {
+                stripping_alpha_c_slope: 2.0,
+                ..d
+            },
+        ),
+        (
+            "infall_orbits = li2020",
+            OrbitOptions {
+                infall_orbits: retinue::orbits::initial::InfallOrbits::Li2020,
+                ..d
+            },
+        ),
+        (
+            "disc_tide_ratio = 0",
+            OrbitOptions {
+                disc_tide_ratio: 0.0,
+                ..d
+            },
+        ),
+        (
+            "disc_tide_ratio = 1000",
+            OrbitOptions {
+                disc_tide_ratio: 1000.0,
+                ..d
+            },
+        ),
+        (
+            "disc_tide_loss_power = 100",
+            OrbitOptions {
+                disc_tide_loss_power: 100.0,
+                ..d
+            },
+        ),
+        (
+            "disc_tide_loss_power = 0.01, disc_tide_ratio = 1000",
+            OrbitOptions {
+                disc_tide_loss_power: 0.01,
+                disc_tide_ratio: 1000.0,
+                ..d
+            },
+        ),
+        (
             "friction off",
             OrbitOptions {
                 friction: false,
