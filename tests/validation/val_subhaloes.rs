@@ -2000,21 +2000,12 @@ fn val_orbital_phase_and_infall_times_vs_simulations() {
     )
     .unwrap();
     let cosmo = lt.cosmology();
-    let rho200 = 200.0 * cosmo.rho_crit_msun_kpc3(0.0);
-    let mu = |x: f64| (1.0 + x).ln() - x / (1.0 + x);
-    // r200 of an NFW host of virial mass m, radius rv and concentration c, by bisection
-    let r200 = |rv: f64, m: f64, c: f64| {
-        let (mut lo, mut hi) = (0.3 * rv, rv);
-        for _ in 0..60 {
-            let r = 0.5 * (lo + hi);
-            let m_in = m * mu(c * r / rv) / mu(c);
-            if 3.0 * m_in / (4.0 * std::f64::consts::PI * r.powi(3)) > rho200 {
-                lo = r;
-            } else {
-                hi = r;
-            }
-        }
-        0.5 * (lo + hi)
+    // r200 (mean density 200 times critical) of an NFW host of virial mass m and concentration
+    // c today, by the library's conversion between mass definitions (`halo::definitions`)
+    let r200 = |m: f64, c: f64| {
+        use retinue::halo::definitions::{convert_nfw, MassDefinition};
+        let (m200, _) = convert_nfw(cosmo, m, c, 0.0, MassDefinition::Vir, MassDefinition::C200);
+        MassDefinition::C200.radius_kpc(cosmo, m200, 0.0)
     };
     let dmo = synthesised_records(
         32,
@@ -2030,7 +2021,7 @@ fn val_orbital_phase_and_infall_times_vs_simulations() {
         let (mut n_acc, mut pre, mut beyond) = (0.0, 0.0, 0.0);
         for rec in &dmo {
             let s = &rec.summary;
-            let r2 = r200(s.r_vir_kpc, s.m_vir_msun, s.concentration);
+            let r2 = r200(s.m_vir_msun, s.concentration);
             for x in &rec.subhaloes {
                 if !x.status.alive() || x.m_bound_msun < psi * s.m_vir_msun {
                     continue;
