@@ -755,6 +755,8 @@ pub fn stored_config(
     match crate::orbits::OrbitOptions::from_recorded(&meta.orbit_options) {
         Ok(o) if !meta.orbit_options.trim().is_empty() => cfg.file.orbits = o,
         _ => {
+            // a store without recorded options predates every key added since
+            cfg.file.orbits = cfg.file.orbits.with_later_keys_as_before();
             let set = table
                 .get("orbits")
                 .and_then(|o| o.as_table())
@@ -764,7 +766,8 @@ pub fn stored_config(
                     "{} does not record its orbit options (written before they were): the \
                      keys its configuration leaves out are read at this version's defaults, \
                      which label the figures (orbits.disc_tide_ratio = {}; it was 1.6 before \
-                     2026-12-04 and 1.2 until 2026-12-05)",
+                     2026-12-04, then 1.2, then 0.8, and 1.1 with gradual losses since a \
+                     later change of 2026-12-05)",
                     store.display(),
                     cfg.file.orbits.disc_tide_ratio
                 ));

@@ -1051,8 +1051,10 @@ mod tests {
     /// subhalo keeps 1 - s^k, k = `disc_tide_loss_power`).
     #[test]
     fn disc_passage_keeps_one_minus_the_ratio_to_the_power() {
-        let mut o = OrbitOptions::default();
-        assert_eq!(o.disc_tide_loss_power, 0.0);
+        let mut o = OrbitOptions {
+            disc_tide_loss_power: 0.0,
+            ..OrbitOptions::default()
+        };
         assert_eq!(disc_passage(&o, None, 5.0), Some(5.0));
         assert_eq!(disc_passage(&o, Some(0.99), 5.0), Some(5.0));
         assert_eq!(disc_passage(&o, Some(1.01), 5.0), None);

@@ -88,8 +88,8 @@ impl Default for OrbitOptions {
             disrupt_bound_fraction: 1e-3,
             disrupt_tidal_radius_over_rs: 0.0,
             pericentre_cut_kpc: 20.0,
-            disc_tide_ratio: 0.8,
-            disc_tide_loss_power: 0.0,
+            disc_tide_ratio: 1.1,
+            disc_tide_loss_power: 1.0,
             central_merge_kpc: 1.0,
             infall_orbits: initial::InfallOrbits::default(),
         }
@@ -97,14 +97,21 @@ impl Default for OrbitOptions {
 }
 
 /// The settings calibrated together with the concentration-dependent stripping rate, the
-/// defaults since 2026-12-05 (docs/methods.md): `stripping_alpha`, `stripping_alpha_c_slope`,
-/// `friction_mass_infall_weight`, `disc_tide_ratio`.
-pub const BY_CONCENTRATION: (f64, f64, f64, f64) = (1.15, 0.5, 0.35, 0.8);
+/// defaults (docs/methods.md): `stripping_alpha`, `stripping_alpha_c_slope`,
+/// `friction_mass_infall_weight`, `disc_tide_ratio`, `disc_tide_loss_power`. The disc's pair
+/// (1.1, power 1) is the default since the gradual losses of 2026-12-05; it keeps the same 40%
+/// of the subhaloes with pericentres inside 25 kpc alive as the all-or-nothing pair before it.
+pub const BY_CONCENTRATION: (f64, f64, f64, f64, f64) = (1.15, 0.5, 0.35, 1.1, 1.0);
 
-/// The same four settings calibrated together with one stripping rate for every subhalo, the
+/// The disc's all-or-nothing pair calibrated with the concentration-dependent rate (ratio 0.8,
+/// power 0), the default until the gradual losses of 2026-12-05, for comparison with runs made
+/// then.
+pub const BY_CONCENTRATION_ALL_OR_NOTHING_DISC: (f64, f64) = (0.8, 0.0);
+
+/// The same five settings calibrated together with one stripping rate for every subhalo, the
 /// defaults from 2026-12-04 to 2026-12-05 (docs/methods.md), for comparison with runs made
 /// then.
-pub const SINGLE_RATE: (f64, f64, f64, f64) = (0.75, 0.0, 0.0, 1.2);
+pub const SINGLE_RATE: (f64, f64, f64, f64, f64) = (0.75, 0.0, 0.0, 1.2, 0.0);
 
 /// Keys of `OrbitOptions` added after stores began to record the resolved options (2026-12-04),
 /// each with the value that reproduces what the code did before the key existed: a store
@@ -129,17 +136,29 @@ impl OrbitOptions {
         Self::deserialize(table)
     }
 
-    /// What `check` says of settings that mix the two calibrated sets, and of gradual disc
-    /// losses with a power below 1 (empty: nothing to say). With `stripping_alpha_c_slope` > 0
-    /// and friction on the bound mass alone, children sink into their parents 1.20-1.60 times
-    /// slower than the merging-time fit at z = 0; the disc's ratio was calibrated for one rate or the other (0.8 with the concentration-
-    /// dependent rate keeps 0.40 of the subhaloes with pericentres inside 25 kpc; 1.2 is the
-    /// single rate's value).
+    /// Keys added after stores began to record their options take the values that reproduce
+    /// the code before them (`KEYS_ADDED_LATER`): for a store that records no options, whose
+    /// version predates every one of those keys.
+    pub fn with_later_keys_as_before(mut self) -> Self {
+        self.stripping_alpha_c_slope = 0.0;
+        self.friction_mass_infall_weight = 0.0;
+        self.disc_tide_loss_power = 0.0;
+        self
+    }
+
+    /// What `check` says of settings that mix the calibrated sets, and of gradual disc losses
+    /// with a power below 1 (empty: nothing to say). With `stripping_alpha_c_slope` > 0 and
+    /// friction on the bound mass alone, children sink into their parents 1.20-1.60 times
+    /// slower than the merging-time fit at z = 0. The disc's ratio and power were calibrated
+    /// as pairs, each for one stripping rate: 1.1 with power 1 (the default) and 0.8 with
+    /// power 0 for the concentration-dependent rate, each keeping 0.40 of the subhaloes with
+    /// pericentres inside 25 kpc; 1.2 with power 0 for one rate.
     pub fn calibration_notes(&self) -> Vec<String> {
-        let sets = |(a, p, w, d): (f64, f64, f64, f64)| {
+        let sets = |(a, p, w, d, k): (f64, f64, f64, f64, f64)| {
             format!(
                 "stripping_alpha = {a}, stripping_alpha_c_slope = {p}, \
-                 friction_mass_infall_weight = {w}, disc_tide_ratio = {d}"
+                 friction_mass_infall_weight = {w}, disc_tide_ratio = {d}, \
+                 disc_tide_loss_power = {k}"
             )
         };
         let (by_c, single) = (sets(BY_CONCENTRATION), sets(SINGLE_RATE));
@@ -154,6 +173,30 @@ impl OrbitOptions {
                  shocks strip in proportion to their strength (docs/methods.md)",
                 1e-6f64.powf(k)
             ));
+        }
+        let disc = self.disc_tide_ratio;
+        // the calibrated pairs: (ratio, power, calibrated with the concentration-dependent rate)
+        let pairs = [
+            (BY_CONCENTRATION.3, BY_CONCENTRATION.4, true),
+            (
+                BY_CONCENTRATION_ALL_OR_NOTHING_DISC.0,
+                BY_CONCENTRATION_ALL_OR_NOTHING_DISC.1,
+                true,
+            ),
+            (SINGLE_RATE.3, SINGLE_RATE.4, false),
+        ];
+        if self.stripping {
+            if let Some((_, partner, _)) = pairs.iter().find(|p| p.0 == disc && p.1 != k) {
+                notes.push(format!(
+                    "orbits.disc_tide_ratio = {disc} was calibrated with \
+                     orbits.disc_tide_loss_power = {partner}, not {k}: the disc then destroys \
+                     or strips the wrong share of the subhaloes that pass near it (the \
+                     calibration's target: 40% of those with pericentres inside 25 kpc \
+                     survive); the calibrated pairs are 1.1 with power 1 (the default) and 0.8 \
+                     with power 0 for the concentration-dependent stripping rate, 1.2 with \
+                     power 0 for one rate (docs/methods.md)"
+                ));
+            }
         }
         if !(self.stripping && self.friction) {
             return notes;
@@ -177,9 +220,9 @@ impl OrbitOptions {
                 self.friction_mass_infall_weight
             ));
         }
-        let disc = self.disc_tide_ratio;
-        if (by_concentration && disc == SINGLE_RATE.3)
-            || (!by_concentration && disc == BY_CONCENTRATION.3)
+        if pairs
+            .iter()
+            .any(|p| p.0 == disc && p.1 == k && p.2 != by_concentration)
         {
             let (this, other) = if by_concentration {
                 ("one stripping rate for every subhalo", &by_c)
@@ -187,11 +230,11 @@ impl OrbitOptions {
                 ("the concentration-dependent stripping rate", &single)
             };
             notes.push(format!(
-                "orbits.disc_tide_ratio = {disc} is calibrated for {this}, not for the rate set \
-                 here: the disc then destroys the wrong share of the subhaloes that pass near \
-                 it (the calibration's target: 40% of those with pericentres inside 25 kpc \
-                 survive); the set calibrated for the rate set here is {other} \
-                 (docs/methods.md)"
+                "orbits.disc_tide_ratio = {disc} with orbits.disc_tide_loss_power = {k} is \
+                 calibrated for {this}, not for the rate set here: the disc then destroys the \
+                 wrong share of the subhaloes that pass near it (the calibration's target: 40% \
+                 of those with pericentres inside 25 kpc survive); the set calibrated for the \
+                 rate set here is {other} (docs/methods.md)"
             ));
         }
         notes

@@ -2057,8 +2057,10 @@ mod tests {
         let mut o = OrbitOptions::default();
         assert_eq!(
             survival_words(Survival::Physical, &o),
-            "survival: disc tide (disc_tide_ratio = 0.8)"
+            "survival: disc tide (disc_tide_ratio = 1.1, disc_tide_loss_power = 1)"
         );
+        o.disc_tide_loss_power = 0.0;
+        o.disc_tide_ratio = 0.8;
         assert_eq!(
             survival_words(Survival::Pericentre, &o),
             "survival: disc tide (disc_tide_ratio = 0.8) + 20 kpc pericentre cut"

@@ -500,10 +500,10 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
     let recorded = {
         let f = hdf5::File::open_rw(&store).unwrap();
         let text = retinue::io::h5::get_str_attr(&f, "orbit_options").unwrap();
-        assert!(text.contains("disc_tide_ratio = 0.8"), "{text}");
+        assert!(text.contains("disc_tide_ratio = 1.1"), "{text}");
         // as a version with another default would have recorded it
         f.delete_attr("orbit_options").unwrap();
-        let other = text.replace("disc_tide_ratio = 0.8", "disc_tide_ratio = 1.6");
+        let other = text.replace("disc_tide_ratio = 1.1", "disc_tide_ratio = 1.6");
         retinue::io::h5::set_str_attr(&f, "orbit_options", &other).unwrap();
         text
     };
@@ -519,6 +519,14 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
         f.delete_attr("orbit_options").unwrap();
     }
     infall_says(s, "later", "does not record its orbit options");
+    // such a store predates every key added since: they are read as the code was before
+    // them (`orbits::KEYS_ADDED_LATER`), so the gradual disc losses are off in its label
+    run_ok(&["plot", s]);
+    let svg = std::fs::read_to_string(d.path().join("o-report").join("pericentres.svg")).unwrap();
+    assert!(
+        svg.contains("disc_tide_ratio = 1.1)") && !svg.contains("disc_tide_loss_power"),
+        "a store without recorded options read with today's disc power"
+    );
 }
 
 /// Stores written before stars were stripped by tides (2026-12-04) lack the subhalo column
@@ -781,36 +789,59 @@ fn check_notes_a_selection_much_wider_than_the_sample() {
     }
 }
 
-/// `check` notes settings that mix the two calibrated sets (`orbits::BY_CONCENTRATION`, the
+/// `check` notes settings that mix the calibrated sets (`orbits::BY_CONCENTRATION`, the
 /// defaults, and `orbits::SINGLE_RATE`, the defaults before 2026-12-05; docs/methods.md): a
 /// concentration-dependent rate without the friction mass, the friction mass with one rate,
-/// and a disc ratio calibrated for the other rate; and says nothing for either set whole.
+/// a disc pair calibrated for the other rate, and a disc ratio with a power it was not
+/// calibrated with; and says nothing for either set whole, nor for the all-or-nothing pair
+/// calibrated with the concentration-dependent rate (0.8, power 0).
 #[test]
 fn check_notes_settings_calibrated_for_another_stripping_rate() {
     let d = tempfile::tempdir().unwrap();
     let friction = "sink into their parents 1.2-1.6 times slower";
     let friction_single = "was calibrated with the concentration-dependent stripping rate";
-    let disc = "orbits.disc_tide_ratio = ";
+    let disc = " is calibrated for ";
+    let pair = "was calibrated with orbits.disc_tide_loss_power = ";
+    let single_disc = "disc_tide_ratio = 1.2\ndisc_tide_loss_power = 0\n";
     for (orbits, expect) in [
         // the defaults (the concentration-dependent set)
-        ("", (false, false, false)),
-        ("friction_mass_infall_weight = 0\n", (true, false, false)),
-        ("disc_tide_ratio = 1.2\n", (false, false, true)),
+        ("".to_string(), (false, false, false, false)),
+        (
+            "friction_mass_infall_weight = 0\n".into(),
+            (true, false, false, false),
+        ),
+        (single_disc.into(), (false, false, true, false)),
+        // the all-or-nothing pair of the concentration-dependent rate
+        (
+            "disc_tide_ratio = 0.8\ndisc_tide_loss_power = 0\n".into(),
+            (false, false, false, false),
+        ),
+        // a ratio of one pair with the power of another
+        ("disc_tide_ratio = 0.8\n".into(), (false, false, false, true)),
+        ("disc_tide_loss_power = 0\n".into(), (false, false, false, true)),
+        ("disc_tide_ratio = 1.2\n".into(), (false, false, false, true)),
+        ("disc_tide_ratio = 3\n".into(), (false, false, false, false)),
         // the single-rate set of 2026-12-04, whole and in part
         (
-            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\nfriction_mass_infall_weight = 0\ndisc_tide_ratio = 1.2\n",
-            (false, false, false),
+            format!(
+                "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\nfriction_mass_infall_weight = 0\n{single_disc}"
+            ),
+            (false, false, false, false),
         ),
         (
-            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\n",
-            (false, true, true),
+            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\n".into(),
+            (false, true, true, false),
         ),
         (
-            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\nfriction_mass_infall_weight = 0\n",
-            (false, false, true),
+            "stripping_alpha = 0.75\nstripping_alpha_c_slope = 0\nfriction_mass_infall_weight = 0\n"
+                .into(),
+            (false, false, true, false),
         ),
-        // without friction nothing is said
-        ("friction = false\ndisc_tide_ratio = 1.2\n", (false, false, false)),
+        // without friction nothing is said of the rates
+        (
+            format!("friction = false\n{single_disc}"),
+            (false, false, false, false),
+        ),
     ] {
         // TINY has no [orbits] table
         let cfg = write(d.path(), "o.toml", &format!("{TINY}\n[orbits]\n{orbits}"));
@@ -820,7 +851,8 @@ fn check_notes_settings_calibrated_for_another_stripping_rate() {
             (
                 err.contains(friction),
                 err.contains(friction_single),
-                err.contains(disc)
+                err.contains(disc),
+                err.contains(pair)
             ),
             expect,
             "{orbits}: {err}"

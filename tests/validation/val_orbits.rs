@@ -588,7 +588,7 @@ fn val_merging_times_vs_the_z0_fit() {
     let co = Cosmology::from_preset("planck18").unwrap();
     // the defaults (the concentration-dependent stripping with the friction mass raised
     // toward the infall mass), and the set calibrated with one stripping rate (doc comment)
-    let (a, p, w, _) = retinue::orbits::SINGLE_RATE;
+    let (a, p, w, _, _) = retinue::orbits::SINGLE_RATE;
     let pairs = [
         ("default", OrbitOptions::default()),
         (
@@ -1155,7 +1155,7 @@ fn val_stripping_rate_vs_nbody() {
     // one rate for every subhalo (the defaults before 2026-12-05): orbits held only to the
     // band's lower edge there (doc comment: C, D and F exceed the upper edge)
     let lower_edge_only = ["C", "D", "F"];
-    let (alpha_single, p_single, _, _) = retinue::orbits::SINGLE_RATE;
+    let (alpha_single, p_single, _, _, _) = retinue::orbits::SINGLE_RATE;
     let opts = OrbitOptions {
         friction: false,
         pericentre_cut_kpc: 0.0,
