@@ -764,8 +764,9 @@ pub fn stored_config(
             if !set {
                 notes.push(format!(
                     "{} does not record its orbit options (written before they were): the \
-                     keys its configuration leaves out are read at this version's defaults, \
-                     which label the figures (orbits.disc_tide_ratio = {}; it was 1.6 before \
+                     keys its configuration leaves out are read at this version's defaults \
+                     (those added since, such as orbits.disc_tide_loss_power, as the code was \
+                     before them), which label the figures (orbits.disc_tide_ratio = {}; it was 1.6 before \
                      2026-12-04, then 1.2, then 0.8, and 1.1 with gradual losses since a \
                      later change of 2026-12-05)",
                     store.display(),

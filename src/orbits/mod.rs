@@ -127,7 +127,10 @@ impl OrbitOptions {
     /// added after that version take the value that reproduces its behaviour
     /// (`KEYS_ADDED_LATER`), not this version's defaults.
     pub fn from_recorded(text: &str) -> Result<Self, toml::de::Error> {
-        let mut table: toml::Table = toml::from_str(text)?;
+        Self::from_recorded_table(toml::from_str(text)?)
+    }
+
+    fn from_recorded_table(mut table: toml::Table) -> Result<Self, toml::de::Error> {
         for (key, before) in KEYS_ADDED_LATER {
             table
                 .entry(key.to_string())
@@ -139,11 +142,13 @@ impl OrbitOptions {
     /// Keys added after stores began to record their options take the values that reproduce
     /// the code before them (`KEYS_ADDED_LATER`): for a store that records no options, whose
     /// version predates every one of those keys.
-    pub fn with_later_keys_as_before(mut self) -> Self {
-        self.stripping_alpha_c_slope = 0.0;
-        self.friction_mass_infall_weight = 0.0;
-        self.disc_tide_loss_power = 0.0;
-        self
+    pub fn with_later_keys_as_before(self) -> Self {
+        let mut table =
+            toml::Table::try_from(self).expect("the orbit options serialise to a TOML table");
+        for (key, _) in KEYS_ADDED_LATER {
+            table.remove(key);
+        }
+        Self::from_recorded_table(table).expect("the orbit options read back from their table")
     }
 
     /// What `check` says of settings that mix the calibrated sets, and of gradual disc losses
@@ -353,5 +358,18 @@ mod tests {
         assert_ne!(today.friction_mass_infall_weight, 0.0);
         assert_eq!(old.disc_tide_ratio, today.disc_tide_ratio);
         assert!(OrbitOptions::from_recorded("rtol = \"x\"").is_err());
+        // a store that records no options at all: every later key as before it, the rest kept
+        let changed = OrbitOptions {
+            stripping_alpha: 0.9,
+            ..today
+        }
+        .with_later_keys_as_before();
+        assert_eq!(
+            changed,
+            OrbitOptions {
+                stripping_alpha: 0.9,
+                ..old
+            }
+        );
     }
 }
