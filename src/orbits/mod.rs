@@ -174,8 +174,8 @@ impl OrbitOptions {
                 "orbits.disc_tide_loss_power = {k} is below 1: a pericentre at which the disc's \
                  tide is a fraction s of the threshold strips s^{k} of the bound mass, more than \
                  s itself, so the disc strips at every pericentre however far out (1e-6 of the \
-                 threshold strips {:.1e}) and a light partner's disc strips too; weak tidal \
-                 shocks strip in proportion to their strength (docs/methods.md)",
+                 threshold strips {:.1e}) and a light partner's disc strips too; the default \
+                 power, 1, strips in proportion to the tide (docs/methods.md)",
                 1e-6f64.powf(k)
             ));
         }
