@@ -337,6 +337,28 @@ impl OrbitOptions {
 mod tests {
     use super::*;
 
+    /// The defaults are the set calibrated with the concentration-dependent stripping rate
+    /// (`BY_CONCENTRATION`, which `check`'s notes name as the defaults), and `SINGLE_RATE`
+    /// differs from it in every key it names.
+    #[test]
+    fn defaults_are_the_calibrated_set() {
+        let o = OrbitOptions::default();
+        assert_eq!(
+            (
+                o.stripping_alpha,
+                o.stripping_alpha_c_slope,
+                o.friction_mass_infall_weight,
+                o.disc_tide_ratio,
+                o.disc_tide_loss_power
+            ),
+            BY_CONCENTRATION
+        );
+        let (a, p, w, d, k) = SINGLE_RATE;
+        let (a0, p0, w0, d0, k0) = BY_CONCENTRATION;
+        assert!(a != a0 && p != p0 && w != w0 && d != d0 && k != k0);
+        assert!(o.calibration_notes().is_empty());
+    }
+
     /// A store's recorded options without the keys added later read as the code behaved
     /// then (one stripping rate, friction on the bound mass), not at today's defaults.
     #[test]
