@@ -387,6 +387,9 @@ pub fn analyse(
         "\n\nStars: every galaxy keeps the stars it formed (`galaxies.strip_stars = false`)."
             .to_string()
     });
+    if let Some(d) = disc_words(&cfg.file.orbits) {
+        summary.push_str(&format!("\n\n{d}"));
+    }
     if let Some(w) = resolution_warning(grid) {
         summary.push_str(&format!("\n\n**Warning:** {w}."));
     }
@@ -683,6 +686,44 @@ pub fn selection_wider_than_sample(grid: &Grid, sample: &ObservedSample) -> Opti
         sel.mstar_msun[0],
         sel.mstar_msun[1],
         reach.join(" and ")
+    ))
+}
+
+/// The report's paragraph on the disc model the store's hosts were grown with, when it is not
+/// the default (None at the defaults): the caveats quote numbers measured at the defaults, so
+/// a store grown otherwise says so (the figures' label names the settings too).
+fn disc_words(o: &crate::orbits::OrbitOptions) -> Option<String> {
+    let d = crate::orbits::OrbitOptions::default();
+    let same = o.stripping == d.stripping
+        && o.disc_tide_ratio == d.disc_tide_ratio
+        && o.disc_tide_loss_power == d.disc_tide_loss_power;
+    if same {
+        return None;
+    }
+    let what = if !o.stripping || o.disc_tide_ratio <= 0.0 {
+        "no disc-tide model".to_string()
+    } else if o.disc_tide_loss_power == 0.0 {
+        "all or nothing: destroyed where the tide exceeds the threshold, nothing lost below it"
+            .to_string()
+    } else {
+        format!(
+            "below the threshold a pericentre strips (tide / threshold)^{} of the bound mass",
+            o.disc_tide_loss_power
+        )
+    };
+    Some(format!(
+        "Disc: these hosts were grown with `orbits.disc_tide_ratio` = {} and \
+         `orbits.disc_tide_loss_power` = {}{} ({what}), not the defaults ({} and {}); the \
+         caveats below that quote measured numbers describe the defaults.",
+        o.disc_tide_ratio,
+        o.disc_tide_loss_power,
+        if o.stripping {
+            ""
+        } else {
+            " without stripping"
+        },
+        d.disc_tide_ratio,
+        d.disc_tide_loss_power
     ))
 }
 

@@ -508,17 +508,30 @@ fn figures_name_the_orbit_options_the_hosts_were_grown_with() {
         text
     };
     assert!(!recorded.is_empty());
+    // the report says when the hosts were grown with another disc model than the defaults
+    let report =
+        |name: &str| std::fs::read_to_string(d.path().join(name).join("report.md")).unwrap();
+    let grown = "Disc: these hosts were grown with";
+    assert!(!report("o-report").contains(grown));
     run_ok(&["plot", s]);
     let svg = std::fs::read_to_string(d.path().join("o-report").join("pericentres.svg")).unwrap();
     assert!(
         svg.contains("disc_tide_ratio = 1.6"),
         "label not the recorded one"
     );
+    run_ok(&["infall", s, "--name", "other"]);
+    assert!(report("o-other-report").contains(
+        "Disc: these hosts were grown with `orbits.disc_tide_ratio` = 1.6 and \
+         `orbits.disc_tide_loss_power` = 1 (below the threshold"
+    ));
     {
         let f = hdf5::File::open_rw(&store).unwrap();
         f.delete_attr("orbit_options").unwrap();
     }
     infall_says(s, "later", "does not record its orbit options");
+    assert!(report("o-later-report").contains(
+        "`orbits.disc_tide_loss_power` = 0 (all or nothing: destroyed where the tide exceeds"
+    ));
     // such a store predates every key added since: they are read as the code was before
     // them (`orbits::KEYS_ADDED_LATER`), so the gradual disc losses are off in its label
     run_ok(&["plot", s]);
