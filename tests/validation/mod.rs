@@ -14,6 +14,15 @@ mod val_subhaloes;
 mod val_trees;
 
 use retinue::cosmology::CosmologyParams;
+
+/// The Planck 2018 linear theory at the default options, which most validation tests use.
+pub fn planck18() -> retinue::LinearTheory {
+    retinue::LinearTheory::new(
+        retinue::Cosmology::from_preset("planck18").unwrap(),
+        retinue::LinearOptions::default(),
+    )
+    .unwrap()
+}
 use serde_json::Value;
 
 /// Rust parameters matching a fixture cosmology's colossus parameters.

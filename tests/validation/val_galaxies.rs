@@ -6,15 +6,9 @@ use retinue::orbits::{SubhaloResult, SubhaloStatus};
 use retinue::rng::HostId;
 use retinue::synth::{synthesize_host, SynthOptions};
 use retinue::trees::{TreeBuilder, TreeSpec};
-use retinue::{Cosmology, LinearOptions, LinearTheory};
+use retinue::Cosmology;
 
-fn planck18() -> LinearTheory {
-    LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap()
-}
+use super::planck18;
 
 /// The default synthesis of a Milky-Way-mass host (1.2e12 Msun, resolution 10^7.5 Msun).
 fn milky_way() -> SynthOptions {

@@ -54,12 +54,7 @@ fn one_infall(
     f64,
     retinue::trees::Accretion,
 ) {
-    use retinue::{Cosmology, LinearOptions, LinearTheory};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let host = EvolvingHost::fixed(snapshot(with_baryons));
     let t0 = lt.cosmology().age0_gyr();
     let t_in = t0 - ago;

@@ -12,13 +12,7 @@ use retinue::stats::{
 };
 use retinue::{Cosmology, LinearOptions, LinearTheory};
 
-fn planck18() -> LinearTheory {
-    LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap()
-}
+use super::planck18;
 
 /// Monte Carlo draws against the exact hypergeometric value, N = 30 candidates with K = 20
 /// early for thresholds between them: |MC - exact| < 4 sqrt(P(1-P)/draws) (binomial error of

@@ -9,11 +9,7 @@ use retinue::{Cosmology, LinearOptions, LinearTheory};
 
 /// `n` hosts of 1.2e12 Msun at resolution 1e8 Msun, seed 21; returns (results, R_vir today).
 fn hosts(n: u32, options: &OrbitOptions) -> Vec<(Vec<SubhaloResult>, f64)> {
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let spec = TreeSpec {
         m_resolution_msun: 1e8,
         ..TreeSpec::milky_way_default()
@@ -59,11 +55,7 @@ fn censuses_with(
     use rayon::prelude::*;
     use retinue::stats::census;
     use retinue::synth::{synthesize_host, SynthOptions};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let opts = SynthOptions {
         tree: TreeSpec {
             m_resolution_msun: res_msun,
@@ -715,11 +707,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
 fn val_inner_subhaloes_vs_hydrodynamic_simulations() {
     use rayon::prelude::*;
     use retinue::synth::{synthesize_host_recording, SynthOptions};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let t1 = lt.cosmology().age_gyr(1.0);
     // per host: counts above 1e7 Msun within 30, 50, 100 kpc today; above 1e8 within 50 kpc;
     // above 1e7 within 50 kpc at z = 1; and (v_r^2, v_t^2) of those within 50 kpc today
@@ -1007,11 +995,7 @@ fn clocks_are_consistent_on_mock_hosts() {
     use retinue::galaxies::GalaxyOptions;
     use retinue::stats::{clock_times, Catalog, PreprocessingThreshold};
     use retinue::synth::{synthesize_host, SynthOptions};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let opts = SynthOptions {
         tree: TreeSpec {
             m_resolution_msun: 1e8,
@@ -1101,11 +1085,7 @@ fn clocks_are_consistent_on_mock_hosts() {
 /// subhaloes at finite positions.
 #[test]
 fn orbit_keys_give_sane_events_over_their_allowed_range() {
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let spec = TreeSpec {
         m_resolution_msun: 3e9,
         ..TreeSpec::milky_way_default()
@@ -1411,11 +1391,7 @@ fn synthesised(n: u32, host: HostOptions) -> Vec<(Vec<SubhaloResult>, f64, f64)>
 fn synthesised_records(n: u32, host: HostOptions) -> Vec<retinue::synth::HostRecord> {
     use rayon::prelude::*;
     use retinue::synth::{synthesize_host, SynthOptions};
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let opts = SynthOptions {
         tree: TreeSpec::milky_way_default(),
         host,
@@ -1618,11 +1594,7 @@ fn val_backsplash_shells() {
     use retinue::stats::backsplash::{
         BacksplashOptions, FieldCounter, FieldModel, HostMatterCorrelation,
     };
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let hosts = synthesised(32, HostOptions::default());
     let b = BacksplashOptions::default();
     assert_eq!(b.field, FieldModel::Nonlinear);
@@ -2010,11 +1982,7 @@ fn val_wdm_subhalo_mass_function_vs_lovell14() {
 ///   the 16-84% ranges are printed.
 #[test]
 fn val_orbital_phase_and_infall_times_vs_simulations() {
-    let lt = LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap();
+    let lt = super::planck18();
     let cosmo = lt.cosmology();
     // r200 (mean density 200 times critical) of an NFW host of virial mass m and concentration
     // c today, by the library's conversion between mass definitions (`halo::definitions`)

@@ -13,13 +13,7 @@ use retinue::rng::{host_rng, HostId, Stream};
 use retinue::trees::{correa15, HostHistory, OutputTimes, Pch08Params, TreeBuilder, TreeSpec};
 use retinue::{Cosmology, LinearOptions, LinearTheory};
 
-fn planck18() -> LinearTheory {
-    LinearTheory::new(
-        Cosmology::from_preset("planck18").unwrap(),
-        LinearOptions::default(),
-    )
-    .unwrap()
-}
+use super::planck18;
 
 fn median_and_se(v: &mut [f64]) -> (f64, f64) {
     v.sort_by(|a, b| a.partial_cmp(b).unwrap());
