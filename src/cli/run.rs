@@ -46,6 +46,12 @@ pub struct RunArgs {
     /// store takes its place.
     #[arg(long)]
     pub overwrite: bool,
+    /// Change one key of the configuration without editing it, e.g. `--set
+    /// orbits.disc_tide_ratio=0.8` (repeat for several; a word such as `erf` is read as a
+    /// string). The store keeps the configuration with the change written in; give the same
+    /// --set again to --resume or to run another shard.
+    #[arg(long = "set", value_name = "TABLE.KEY=VALUE")]
+    pub sets: Vec<String>,
 }
 
 #[derive(Debug, Args)]
@@ -67,6 +73,9 @@ pub struct DemoArgs {
 pub struct CheckArgs {
     /// Run configuration (TOML).
     pub config: PathBuf,
+    /// Change one key of the configuration, as `retinue run --set` (repeat for several).
+    #[arg(long = "set", value_name = "TABLE.KEY=VALUE")]
+    pub sets: Vec<String>,
 }
 
 #[derive(Debug, Args)]
@@ -200,15 +209,21 @@ fn parse_shard(s: &str) -> Result<Shard, CliError> {
     })
 }
 
-fn load(path: &Path) -> Result<(RunConfig, String), CliError> {
+/// The configuration at `path` with the `--set` overrides written in, and that text.
+fn load(path: &Path, sets: &[String]) -> Result<(RunConfig, String), CliError> {
     let text = std::fs::read_to_string(path).map_err(|e| {
         usage(format!(
             "config file {}: cannot be read: {e}",
             path.display()
         ))
     })?;
-    let cfg =
-        RunConfig::parse_named(&text, path.parent(), &path.display().to_string()).map_err(usage)?;
+    let text = retinue::config::apply_overrides(&text, sets).map_err(usage)?;
+    let source = if sets.is_empty() {
+        path.display().to_string()
+    } else {
+        format!("{} with --set {}", path.display(), sets.join(" --set "))
+    };
+    let cfg = RunConfig::parse_named(&text, path.parent(), &source).map_err(usage)?;
     Ok((cfg, text))
 }
 
@@ -370,8 +385,19 @@ fn execute(
     // run's too)
     let other_store = |meta: &retinue::io::store::StoreMeta| -> Option<String> {
         if meta.config_toml != text || meta.shard != (shard.index, shard.count) {
+            // a store grown with --set is this run's only with the same overrides
+            let set = if meta
+                .config_toml
+                .contains(retinue::config::overrides::SET_MARK)
+            {
+                "; its configuration has keys set on the command line, marked `# set on the \
+                 command line (--set)` in the store's `config` attribute: give the same --set \
+                 again"
+            } else {
+                ""
+            };
             return Some(format!(
-                "a store of another configuration or shard (shard {}/{})",
+                "a store of another configuration or shard (shard {}/{}{set})",
                 meta.shard.0 + 1,
                 meta.shard.1
             ));
@@ -646,7 +672,7 @@ pub fn shard_path(out: &Path, k: u32, r: u32) -> PathBuf {
 }
 
 pub fn run(a: RunArgs) -> Result<(), CliError> {
-    let (cfg, text) = load(&a.config)?;
+    let (cfg, text) = load(&a.config, &a.sets)?;
     let shard = match &a.shard {
         Some(s) => parse_shard(s)?,
         None => Shard::WHOLE,
@@ -891,7 +917,7 @@ fn not_the_demos_store(out: &Path, demo_text: &str) -> Option<String> {
 }
 
 pub fn check(a: CheckArgs) -> Result<(), CliError> {
-    let (cfg, _) = load(&a.config)?;
+    let (cfg, _) = load(&a.config, &a.sets)?;
     let sample = match cfg.sample_path() {
         Some(p) => Some(read_sample(&p, &cfg.sample_options())?),
         None => None,

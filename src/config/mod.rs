@@ -3,10 +3,12 @@
 
 pub mod cosmology;
 pub mod environment;
+pub mod overrides;
 pub mod run;
 
 pub use cosmology::CosmologySection;
 pub use environment::{Environment, EnvironmentSection, PairSpec, PartnerMass};
+pub use overrides::apply_overrides;
 pub use run::{MassBin, OneOrMany, RunConfig, RunConfigFile, RunSection};
 
 use crate::error::{InvalidValue, MISSING};

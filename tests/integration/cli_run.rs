@@ -438,6 +438,83 @@ fn resume_after_the_hosts_runs_only_the_tests() {
     assert!(err.contains("another configuration"), "{err}");
 }
 
+/// `--set TABLE.KEY=VALUE` changes a key as editing the file would: the same hosts bit for
+/// bit, and the store's configuration says what was set (and on the command line). A resume
+/// needs the same overrides, and a bad override is reported like a bad key in a file, with
+/// nothing written.
+#[test]
+fn set_on_the_command_line_is_the_same_as_editing_the_file() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "s.toml", TINY);
+    let c = cfg.to_str().unwrap();
+    let edited = write(
+        d.path(),
+        "e.toml",
+        &format!(
+            "{}\n[orbits]\ndisc_tide_ratio = 0.8\ndisc_tide_loss_power = 0\n",
+            TINY.replace("master_seed = 11", "master_seed = 12")
+        ),
+    );
+    let (a, b) = (d.path().join("a.h5"), d.path().join("b.h5"));
+    let sets = [
+        "--set",
+        "run.master_seed=12",
+        "--set",
+        "orbits.disc_tide_ratio=0.8",
+        "--set",
+        "orbits.disc_tide_loss_power = 0",
+    ];
+    let mut args = vec!["run", c, "--out", a.to_str().unwrap()];
+    args.extend(sets);
+    run_ok(&args);
+    run_ok(&[
+        "run",
+        edited.to_str().unwrap(),
+        "--out",
+        b.to_str().unwrap(),
+    ]);
+    assert_eq!(store_tables(&a), store_tables(&b));
+    let f = hdf5::File::open(&a).unwrap();
+    let seed: u64 = f.attr("master_seed").unwrap().read_scalar().unwrap();
+    assert_eq!(seed, 12);
+    let text = retinue::io::h5::get_str_attr(&f, "config").unwrap();
+    drop(f);
+    let stored: toml::Table = toml::from_str(&text).unwrap();
+    assert_eq!(stored["orbits"]["disc_tide_ratio"].as_float(), Some(0.8));
+    assert_eq!(stored["run"]["master_seed"].as_integer(), Some(12));
+    assert_eq!(
+        text.matches(retinue::config::overrides::SET_MARK).count(),
+        3,
+        "{text}"
+    );
+    // resuming the complete store: with the same overrides it is this run's; without them it
+    // is another configuration's
+    args.push("--resume");
+    run_ok(&args);
+    let (code, _, err) = run_cli(&["run", c, "--resume", "--out", a.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("another configuration"), "{err}");
+    assert!(err.contains("give the same --set again"), "{err}");
+    // bad overrides: every one named, exit code 2, nothing written
+    let before = dir_names(d.path());
+    for (set, named) in [
+        ("orbits.disc_tide_rati=0.8", "orbits.disc_tide_rati"),
+        ("galaxies.occupation=erff", "galaxies.occupation"),
+        ("host.mass_msun=1e12 Msun", "host.mass_msun"),
+        ("trees.resolution_msun=-1", "trees.resolution_msun"),
+        ("master_seed=3", "--set"),
+    ] {
+        let out = d.path().join("bad.h5");
+        let (code, _, err) = run_cli(&["run", c, "--out", out.to_str().unwrap(), "--set", set]);
+        assert_eq!(code, 2, "{set}: {err}");
+        assert!(err.contains(named), "{set}: {err}");
+        let (code, _, err) = run_cli(&["check", c, "--set", set]);
+        assert_eq!(code, 2, "{set}: {err}");
+        assert!(err.contains(named), "{set}: {err}");
+    }
+    assert_eq!(dir_names(d.path()), before);
+}
+
 /// At least 30 malformed configurations and inputs: each gives exit code 2, a message that
 /// names the problem, no panic, and no files.
 #[test]
