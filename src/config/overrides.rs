@@ -62,8 +62,9 @@ fn set_one(doc: &mut toml_edit::DocumentMut, s: &str) -> Result<(), InvalidValue
         Err(_) if !raw.is_empty() => toml_edit::Value::from(raw),
         Err(_) => return Err(bad("the value is empty")),
     };
-    value.decor_mut().set_suffix(format!("  # {SET_MARK}"));
     let (last, tables) = keys.split_last().expect("two keys or more");
+    // a comment cannot stand inside an inline table (`host = { mass_msun = 1e12 }`)
+    let mut inline = false;
     let mut here: &mut dyn toml_edit::TableLike = doc.as_table_mut();
     for (depth, k) in tables.iter().enumerate() {
         let name = keys[..=depth].join(".");
@@ -88,6 +89,10 @@ fn set_one(doc: &mut toml_edit::DocumentMut, s: &str) -> Result<(), InvalidValue
             ));
         }
         let item = here.get_mut(k).expect("inserted above");
+        inline |= matches!(
+            item,
+            toml_edit::Item::Value(toml_edit::Value::InlineTable(_))
+        );
         let next: Option<&mut dyn toml_edit::TableLike> = match item {
             toml_edit::Item::ArrayOfTables(a) => {
                 a.get_mut(0).map(|t| t as &mut dyn toml_edit::TableLike)
@@ -101,6 +106,9 @@ fn set_one(doc: &mut toml_edit::DocumentMut, s: &str) -> Result<(), InvalidValue
                 format!("{name} is a value in the configuration, not a table"),
             )
         })?;
+    }
+    if !inline {
+        value.decor_mut().set_suffix(format!("  # {SET_MARK}"));
     }
     match here.get_mut(last) {
         Some(toml_edit::Item::Value(v)) => *v = value,
@@ -146,6 +154,7 @@ mod tests {
             "galaxies.occupation=erf",
             "orbits.disc_tide_ratio = 0.8",
             "tests.selection.mstar_msun=[1e4, 1e6]",
+            "tests.draws=100",
         ])
         .unwrap();
         let v: toml::Table = toml::from_str(&t).unwrap();
@@ -154,6 +163,23 @@ mod tests {
         let m = v["tests"]["selection"]["mstar_msun"].as_array().unwrap();
         assert_eq!(m[1].as_float(), Some(1e6));
         assert_eq!(v["tests"]["selection"]["name"].as_str(), Some("mine"));
+        // a key of a table the file gives only as the parent of another
+        assert_eq!(v["tests"]["draws"].as_integer(), Some(100));
+    }
+
+    #[test]
+    fn inline_and_dotted_tables_are_set_in_place() {
+        let text = "host = { mass_msun = 1e12 }\norbits.rtol = 1e-4\n";
+        let t = apply_overrides(
+            text,
+            &["host.mass_msun=2e12".into(), "orbits.rtol=1e-5".into()],
+        )
+        .unwrap();
+        let v: toml::Table = toml::from_str(&t).unwrap_or_else(|e| panic!("{e}\n{t}"));
+        assert_eq!(v["host"]["mass_msun"].as_float(), Some(2e12));
+        assert_eq!(v["orbits"]["rtol"].as_float(), Some(1e-5));
+        // marked where a comment can stand, not inside the braces
+        assert_eq!(t.matches(SET_MARK).count(), 1, "{t}");
     }
 
     #[test]
