@@ -1017,27 +1017,28 @@ pub struct Retest {
     pub sample_columns: std::collections::BTreeMap<String, String>,
 }
 
-/// Put the re-test settings of `file` into a run's stored configuration `cfg`: the keys of
-/// its [tests] and [galaxies] tables replace the stored ones key by key (a partial
-/// [tests.selection] changes only its keys), and its `run.sample` (unless the caller has a
-/// sample of its own, `sample_given`) and `run.sample_columns` are returned. Everything else
-/// that made the store stays the run's. Every problem is reported at once.
+/// Put the re-test settings of `text`, the text of a file `file` (`infall --config`, with
+/// `--set`'s keys written in; `file` names it in messages and resolves its relative
+/// `run.sample`), into a run's stored configuration `cfg`: the keys of its [tests] and
+/// [galaxies] tables replace the stored ones key by key (a partial [tests.selection] changes
+/// only its keys), and its `run.sample` (unless the caller has a sample of its own,
+/// `sample_given`) and `run.sample_columns` are returned. Everything else that made the store
+/// stays the run's. Every problem is reported at once.
 pub fn retest_config(
     mut cfg: RunConfig,
+    text: &str,
     file: &Path,
     sample_given: bool,
 ) -> Result<Retest, AnalysisError> {
     use crate::config::ConfigProblems;
     use crate::error::InvalidValue;
     let p = file;
-    let text = std::fs::read_to_string(p)
-        .map_err(|e| AnalysisError::Input(format!("{}: {e}", p.display())))?;
     let (retest, mut problems) =
-        crate::config::parse_collecting::<RetestTables>(&text, &p.display().to_string());
+        crate::config::parse_collecting::<RetestTables>(text, &p.display().to_string());
     let Some(retest) = retest else {
         return Err(AnalysisError::Input(ConfigProblems(problems).to_string()));
     };
-    let given: toml::Table = toml::from_str(&text).unwrap_or_default();
+    let given: toml::Table = toml::from_str(text).unwrap_or_default();
     if retest.tests.is_some() {
         // the two pre-processing thresholds exclude each other, so FILE's [tests.preprocessing]
         // replaces the stored table whole (merged key by key, a stellar-mass threshold met the

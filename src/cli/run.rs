@@ -9,7 +9,8 @@ use clap::Args;
 
 use super::CliError;
 use retinue::analysis::{self, report_dir, resolution_warning, AnalysisError, Target};
-use retinue::config::RunConfig;
+use retinue::config::{apply_overrides, ConfigProblems, RunConfig};
+use retinue::error::InvalidValue;
 use retinue::io::inputs::InputFiles;
 use retinue::io::store::{read_meta, StoreMeta};
 use retinue::run::{merge_stores, synthesize_to_store, Grid, RunError, Shard};
@@ -134,6 +135,11 @@ pub struct InfallArgs {
     /// holds files retinue did not write (replacing those of a report's names).
     #[arg(long)]
     pub overwrite: bool,
+    /// Change one test setting without a file, e.g. `--set "tests.selection.r_over_rvir=[0,
+    /// 0.5]"` (repeat for several; on top of --config's keys when both are given). Only
+    /// `tests.` keys: the rest made the store (change those with `retinue run --set`).
+    #[arg(long = "set", value_name = "tests.KEY=VALUE")]
+    pub sets: Vec<String>,
 }
 
 /// `--columns NAME=COLUMN,...`
@@ -880,6 +886,7 @@ pub fn demo(a: DemoArgs) -> Result<(), CliError> {
             name: Some("bright".into()),
             out: Some(a.out.join("demo-bright-report")),
             overwrite: true,
+            sets: Vec::new(),
         },
         a.overwrite,
     )
@@ -1330,10 +1337,40 @@ fn infall_into(mut a: InfallArgs, replace_files: bool) -> Result<(), CliError> {
     // so without `run.sample` in it the run's sample stays
     let (mut cfg, mut run_sample) = stored_config(&meta, &a.store, a.sample.is_none())?;
     let mut run_columns = cfg.file.run.sample_columns.clone();
-    if let Some(p) = &a.config {
-        // only the [tests] and [galaxies] tables (and run.sample, run.sample_columns) come
-        // from --config, key by key; everything that made the store stays the run's
-        let r = analysis::retest_config(cfg, p, a.sample.is_some()).map_err(analysis_err)?;
+    // --set changes test settings only: every other key made the store (a key of another
+    // table would otherwise be dropped without a word, as --config's other tables are)
+    let not_tests: Vec<InvalidValue> = a
+        .sets
+        .iter()
+        .filter(|s| !s.trim_start().starts_with("tests."))
+        .map(|s| {
+            InvalidValue::new(
+                "--set",
+                s,
+                "`retinue infall` re-runs the tests only: give tests.KEY=VALUE; the other \
+                 keys made the store's hosts and galaxies (run `retinue run CONFIG --set ...` \
+                 to change those)",
+            )
+        })
+        .collect();
+    if !not_tests.is_empty() {
+        return Err(usage(ConfigProblems(not_tests)));
+    }
+    // only the [tests] and [galaxies] tables (and run.sample, run.sample_columns) come from
+    // --config, key by key, with --set's keys written over them; everything that made the
+    // store stays the run's
+    let retest_text = match &a.config {
+        Some(p) => {
+            let text =
+                std::fs::read_to_string(p).map_err(|e| usage(format!("{}: {e}", p.display())))?;
+            Some((text, p.clone()))
+        }
+        None => (!a.sets.is_empty()).then(|| (String::new(), PathBuf::from("(--set)"))),
+    };
+    if let Some((text, p)) = retest_text {
+        let text = apply_overrides(&text, &a.sets).map_err(usage)?;
+        let r =
+            analysis::retest_config(cfg, &text, &p, a.sample.is_some()).map_err(analysis_err)?;
         cfg = r.config;
         // FILE's column mapping describes FILE's own sample; without one the run's sample
         // keeps the run's mapping (a walkthrough found a tests-only FILE losing it)

@@ -515,6 +515,77 @@ fn set_on_the_command_line_is_the_same_as_editing_the_file() {
     assert_eq!(dir_names(d.path()), before);
 }
 
+/// `infall --set tests.KEY=VALUE` re-tests with a test setting changed as a `--config` file
+/// with that key would (and over such a file's own value); keys of other tables, which made
+/// the store, are refused.
+#[test]
+fn infall_set_is_the_same_as_a_tests_file() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(d.path(), "t.toml", TINY);
+    let store = d.path().join("t.h5");
+    let st = store.to_str().unwrap();
+    run_ok(&["run", cfg.to_str().unwrap(), "--out", st]);
+    let tests = write(
+        d.path(),
+        "inner.toml",
+        "[tests.selection]\nr_over_rvir = [0.0, 0.5]\n",
+    );
+    let other = write(
+        d.path(),
+        "outer.toml",
+        "[tests.selection]\nr_over_rvir = [0.5, 1.0]\n",
+    );
+    let set = "tests.selection.r_over_rvir=[0.0, 0.5]";
+    run_ok(&[
+        "infall",
+        st,
+        "--config",
+        tests.to_str().unwrap(),
+        "--name",
+        "file",
+    ]);
+    run_ok(&["infall", st, "--set", set, "--name", "set"]);
+    // --set writes over the file's value of the same key
+    run_ok(&[
+        "infall",
+        st,
+        "--config",
+        other.to_str().unwrap(),
+        "--set",
+        set,
+        "--name",
+        "both",
+    ]);
+    run_ok(&["infall", st, "--name", "stored"]);
+    let read = |name: &str| -> Vec<u64> {
+        let f = hdf5::File::open(&store).unwrap();
+        let v: Vec<f64> = f
+            .dataset(&format!("analysis/{name}/all_of_n/first_host_infall/mean"))
+            .unwrap()
+            .read_raw()
+            .unwrap();
+        v.iter().map(|x| x.to_bits()).collect()
+    };
+    assert_eq!(read("set"), read("file"));
+    assert_eq!(read("both"), read("file"));
+    assert_ne!(read("set"), read("stored"));
+    // a key that made the store: refused, naming it, and nothing written
+    for bad in ["orbits.disc_tide_ratio=0.8", "run.master_seed=3"] {
+        let (code, _, err) = run_cli(&["infall", st, "--set", bad, "--name", "bad"]);
+        assert_eq!(code, 2, "{bad}: {err}");
+        assert!(
+            err.contains(bad) && err.contains("re-runs the tests only"),
+            "{err}"
+        );
+    }
+    // a bad test key or value is named as in a file
+    let (code, _, err) = run_cli(&["infall", st, "--set", "tests.drawz=5", "--name", "bad"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("[tests]") && err.contains("`drawz`"), "{err}");
+    let f = hdf5::File::open(&store).unwrap();
+    assert!(f.group("analysis/bad").is_err());
+}
+
 /// At least 30 malformed configurations and inputs: each gives exit code 2, a message that
 /// names the problem, no panic, and no files.
 #[test]
