@@ -223,7 +223,7 @@ fn load(path: &Path, sets: &[String]) -> Result<(RunConfig, String), CliError> {
             path.display()
         ))
     })?;
-    let text = retinue::config::apply_overrides(&text, sets).map_err(usage)?;
+    let text = apply_overrides(&text, sets).map_err(usage)?;
     let source = if sets.is_empty() {
         path.display().to_string()
     } else {
@@ -392,15 +392,14 @@ fn execute(
     let other_store = |meta: &retinue::io::store::StoreMeta| -> Option<String> {
         if meta.config_toml != text || meta.shard != (shard.index, shard.count) {
             // a store grown with --set is this run's only with the same overrides
-            let set = if meta
-                .config_toml
-                .contains(retinue::config::overrides::SET_MARK)
-            {
-                "; its configuration has keys set on the command line, marked `# set on the \
-                 command line (--set)` in the store's `config` attribute: give the same --set \
-                 again"
+            let mark = retinue::config::overrides::SET_MARK;
+            let set = if meta.config_toml.contains(mark) {
+                format!(
+                    "; its configuration has keys set on the command line, marked `# {mark}` \
+                     in the store's `config` attribute: give the same --set again"
+                )
             } else {
-                ""
+                String::new()
             };
             return Some(format!(
                 "a store of another configuration or shard (shard {}/{}{set})",
