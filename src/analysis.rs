@@ -1039,6 +1039,7 @@ pub fn retest_config(
         return Err(AnalysisError::Input(ConfigProblems(problems).to_string()));
     };
     let given: toml::Table = toml::from_str(text).unwrap_or_default();
+    let read_problems = !problems.is_empty();
     if retest.tests.is_some() {
         // the two pre-processing thresholds exclude each other, so FILE's [tests.preprocessing]
         // replaces the stored table whole (merged key by key, a stellar-mass threshold met the
@@ -1054,13 +1055,31 @@ pub fn retest_config(
                 stellar_mass_msun: None,
             };
         }
-        cfg.file.tests = overlay(&stored, given.get("tests"))
-            .map_err(|e| AnalysisError::Input(format!("{}: [tests]: {e}", p.display())))?;
+        cfg.file.tests = match overlay(&stored, given.get("tests")) {
+            Ok(t) => t,
+            // a line the reading above set aside (an unknown key, a wrong type) is already
+            // named in dotted form, `tests.drawz`, and reported with every other problem
+            Err(_) if read_problems => stored,
+            Err(e) => {
+                return Err(AnalysisError::Input(format!(
+                    "{}: [tests]: {e}",
+                    p.display()
+                )))
+            }
+        };
     }
     if retest.galaxies.is_some() {
         let stored = cfg.file.galaxies;
-        cfg.file.galaxies = overlay(&cfg.file.galaxies, given.get("galaxies"))
-            .map_err(|e| AnalysisError::Input(format!("{}: [galaxies]: {e}", p.display())))?;
+        cfg.file.galaxies = match overlay(&cfg.file.galaxies, given.get("galaxies")) {
+            Ok(g) => g,
+            Err(_) if read_problems => stored,
+            Err(e) => {
+                return Err(AnalysisError::Input(format!(
+                    "{}: [galaxies]: {e}",
+                    p.display()
+                )))
+            }
+        };
         // the store's galaxies were painted with the stored keys: a changed key would convert
         // the sample's magnitudes or a stellar-mass threshold with a model the mock galaxies do
         // not follow, so it is refused (a whole configuration with the same keys is fine)
