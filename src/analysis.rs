@@ -1040,6 +1040,28 @@ pub fn retest_config(
     };
     let given: toml::Table = toml::from_str(text).unwrap_or_default();
     let read_problems = !problems.is_empty();
+    // FILE's keys of `table` over the stored table; a line the reading above set aside (an
+    // unknown key, a wrong type) is already named in dotted form, `tests.drawz`, and
+    // reported with every other problem, so the stored table stays
+    fn overlay_table<T>(
+        stored: T,
+        given: &toml::Table,
+        table: &str,
+        read_problems: bool,
+        file: &Path,
+    ) -> Result<T, AnalysisError>
+    where
+        T: serde::Serialize + serde::de::DeserializeOwned,
+    {
+        match overlay(&stored, given.get(table)) {
+            Ok(t) => Ok(t),
+            Err(_) if read_problems => Ok(stored),
+            Err(e) => Err(AnalysisError::Input(format!(
+                "{}: [{table}]: {e}",
+                file.display()
+            ))),
+        }
+    }
     if retest.tests.is_some() {
         // the two pre-processing thresholds exclude each other, so FILE's [tests.preprocessing]
         // replaces the stored table whole (merged key by key, a stellar-mass threshold met the
@@ -1055,31 +1077,11 @@ pub fn retest_config(
                 stellar_mass_msun: None,
             };
         }
-        cfg.file.tests = match overlay(&stored, given.get("tests")) {
-            Ok(t) => t,
-            // a line the reading above set aside (an unknown key, a wrong type) is already
-            // named in dotted form, `tests.drawz`, and reported with every other problem
-            Err(_) if read_problems => stored,
-            Err(e) => {
-                return Err(AnalysisError::Input(format!(
-                    "{}: [tests]: {e}",
-                    p.display()
-                )))
-            }
-        };
+        cfg.file.tests = overlay_table(stored, &given, "tests", read_problems, p)?;
     }
     if retest.galaxies.is_some() {
         let stored = cfg.file.galaxies;
-        cfg.file.galaxies = match overlay(&cfg.file.galaxies, given.get("galaxies")) {
-            Ok(g) => g,
-            Err(_) if read_problems => stored,
-            Err(e) => {
-                return Err(AnalysisError::Input(format!(
-                    "{}: [galaxies]: {e}",
-                    p.display()
-                )))
-            }
-        };
+        cfg.file.galaxies = overlay_table(stored, &given, "galaxies", read_problems, p)?;
         // the store's galaxies were painted with the stored keys: a changed key would convert
         // the sample's magnitudes or a stellar-mass threshold with a model the mock galaxies do
         // not follow, so it is refused (a whole configuration with the same keys is fine)
