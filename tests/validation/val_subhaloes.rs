@@ -478,8 +478,9 @@ fn val_subhalo_survival_vs_dmo_simulations() {
     // today or 0) and the counts of He, Han & Li's two statements
     type AtZ1 = (f64, f64, f64);
     // and when today's subhaloes first fell into the host
-    // (first infall time, bound mass / M_vir)
-    let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<(f64, f64)>)> = (0..N_HOSTS)
+    // today's subhaloes: (first infall time, bound mass / M_vir)
+    type Today = (f64, f64);
+    let per_host: Vec<(Vec<AtZ1>, [usize; 5], Vec<Today>)> = (0..N_HOSTS)
         .into_par_iter()
         .map_init(
             || TreeBuilder::new(opts.tree.pch08).unwrap(),
@@ -662,7 +663,7 @@ fn val_subhalo_survival_vs_dmo_simulations() {
         2 * early_children > ended,
         "{early_children} of {ended} ended subhaloes are early satellites of satellites"
     );
-    let today: Vec<(f64, f64)> = per_host.iter().flat_map(|h| h.2.iter().copied()).collect();
+    let today: Vec<Today> = per_host.iter().flat_map(|h| h.2.iter().copied()).collect();
     // Gao et al. 2004 (printed; see docs/validation.md, "Not met yet"), and how the answer
     // moves when only heavier subhaloes count, as a coarser simulation would see them
     let after = |z: f64, psi_min: f64| {
