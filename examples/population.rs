@@ -212,6 +212,21 @@ fn main() {
         med(&|c| c.mv8_within_300kpc as f64),
         med(&|c| c.mv8_inside_rvir as f64)
     );
+    println!(
+        "M_V < -8 within 300 kpc: median distance per host (hosts with 3 or more) {:.0} kpc; \
+         pooled fraction within 100 kpc {:.2}",
+        median(
+            cs.iter()
+                .filter(|(c, _, _)| c.mv8_r_kpc.len() >= 3)
+                .map(|(c, _, _)| median(c.mv8_r_kpc.clone()))
+                .collect()
+        ),
+        cs.iter()
+            .flat_map(|(c, _, _)| c.mv8_r_kpc.iter())
+            .filter(|&&r| r < 100.0)
+            .count() as f64
+            / sum(&|c| c.mv8_r_kpc.len())
+    );
     let mut all: Vec<f64> = cs
         .iter()
         .map(|(c, _, _)| c.mv0_within_300kpc as f64)

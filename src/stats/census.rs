@@ -27,6 +27,9 @@ pub struct HostCensus {
     /// Satellites brighter than M_V = -8 within 300 kpc, and inside R_vir.
     pub mv8_within_300kpc: usize,
     pub mv8_inside_rvir: usize,
+    /// The distances from the host's centre (kpc) of the satellites brighter than M_V = -8
+    /// within 300 kpc, for their radial distribution.
+    pub mv8_r_kpc: Vec<f64>,
     /// Of the faint satellites: how many share their exact position with another satellite.
     pub faint_stacked: usize,
     /// Of the faint satellites with M* < 1e6 Msun: how many fell into a halo of at least
@@ -143,6 +146,9 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
         }
         if g.m_v < -8.0 {
             c.mv8_within_300kpc += (s.r_kpc < 300.0) as usize;
+            if s.r_kpc < 300.0 {
+                c.mv8_r_kpc.push(s.r_kpc);
+            }
             c.mv8_inside_rvir += (s.r_kpc < rv) as usize;
         }
         if !(s.r_kpc < rv && g.mstar_msun > 5e3 && g.mstar_msun < 1e7) {
