@@ -227,6 +227,28 @@ fn main() {
             .count() as f64
             / sum(&|c| c.mv8_r_kpc.len())
     );
+    let with_n = |n: usize| {
+        cs.iter()
+            .filter(|(c, _, _)| c.bright_pair_like_within_150kpc == n)
+            .count() as f64
+            / cs.len() as f64
+    };
+    let with_n_projected = |n: usize| {
+        cs.iter()
+            .filter(|(c, _, _)| c.bright_pair_like_projected_150kpc == n)
+            .count() as f64
+            / cs.len() as f64
+    };
+    println!(
+        "hosts with 0, 1, 2 satellites of M_V <= -16.8 within 150 kpc: {:.3} {:.3} {:.3}; \
+         projected: {:.3} {:.3} {:.3}",
+        with_n(0),
+        with_n(1),
+        with_n(2),
+        with_n_projected(0),
+        with_n_projected(1),
+        with_n_projected(2)
+    );
     let mut all: Vec<f64> = cs
         .iter()
         .map(|(c, _, _)| c.mv0_within_300kpc as f64)

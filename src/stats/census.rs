@@ -30,6 +30,12 @@ pub struct HostCensus {
     /// Satellites brighter than M_V = -8 within 300 kpc, and inside R_vir.
     pub mv8_within_300kpc: usize,
     pub mv8_inside_rvir: usize,
+    /// Satellites as bright as the fainter of the Milky Way's two brightest (M_V <= -16.8)
+    /// within 150 kpc.
+    pub bright_pair_like_within_150kpc: usize,
+    /// The same within 150 kpc projected along the host frame's x axis (and 300 kpc in 3D), as
+    /// a survey counts them.
+    pub bright_pair_like_projected_150kpc: usize,
     /// The distances from the host's centre (kpc) of the satellites brighter than M_V = -8
     /// within 300 kpc, for their radial distribution.
     pub mv8_r_kpc: Vec<f64>,
@@ -150,6 +156,12 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             let v2: f64 = s.vel_kms.iter().map(|v| v * v).sum();
             c.mv0_r_vr2_vt2
                 .push([s.r_kpc, v_r * v_r, (v2 - v_r * v_r).max(0.0)]);
+        }
+        if g.m_v <= -16.8 && s.r_kpc < 150.0 {
+            c.bright_pair_like_within_150kpc += 1;
+        }
+        if g.m_v <= -16.8 && s.r_kpc < 300.0 && s.pos_kpc[1].hypot(s.pos_kpc[2]) < 150.0 {
+            c.bright_pair_like_projected_150kpc += 1;
         }
         if g.m_v < -8.0 {
             c.mv8_within_300kpc += (s.r_kpc < 300.0) as usize;
