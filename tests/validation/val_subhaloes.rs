@@ -2134,7 +2134,8 @@ fn val_wdm_subhalo_mass_function_vs_lovell14() {
 ///   docs/validation.md): "roughly 21 per cent of resolved subhaloes within a host's virial
 ///   radius are currently on first infall, and have not yet reached their first orbital
 ///   pericentre; roughly 44 per cent are still approaching their first apocentre", with the
-///   fractions at other mass thresholds.
+///   fractions at other mass thresholds (above 1e-3 M_vir they are met, but the pre-processed
+///   fraction there is not).
 /// * Santistevan et al. 2023 (arXiv:2309.05708), hydrodynamic zoom-ins of Milky-Way-mass
 ///   hosts (so 32 default hosts, with disc): "When a typical surviving satellite fell in
 ///   (3.4−9.7 Gyr ago), the host halo mass and radius were typically 26−86 per cent of their
@@ -2185,10 +2186,10 @@ fn val_orbital_phase_and_infall_times_vs_simulations() {
                 }
             }
         }
-        assert!(n_in > 1000.0 && n_acc > 1000.0, "{n_in} {n_acc}");
+        assert!(n_in > 100.0 && n_acc > 100.0, "{n_in} {n_acc}");
         [no_peri / n_in, no_apo / n_in, pre / n_acc, beyond / n_acc]
     };
-    for psi in [1e-6, 1e-4] {
+    for psi in [1e-6, 1e-4, 1e-3] {
         let f = phase(psi);
         eprintln!(
             "bound mass > {psi:e} M_vir: inside r200 on first infall {:.3}, before the first \
