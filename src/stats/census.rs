@@ -24,9 +24,9 @@ pub struct HostCensus {
     pub faint_first_order: usize,
     /// Satellites brighter than M_V = 0 within 300 kpc of the host's centre.
     pub mv0_within_300kpc: usize,
-    /// The same satellites' distance (kpc) and squared radial and tangential speeds relative
-    /// to the host's centre ((km/s)^2), for their velocity anisotropy.
-    pub mv0_r_vr2_vt2: Vec<[f64; 3]>,
+    /// The same satellites' distance (kpc), radial velocity (km/s) and squared tangential
+    /// speed ((km/s)^2) relative to the host's centre, for their velocity anisotropy.
+    pub mv0_r_vr_vt2: Vec<[f64; 3]>,
     /// Satellites brighter than M_V = -8 within 300 kpc, and inside R_vir.
     pub mv8_within_300kpc: usize,
     pub mv8_inside_rvir: usize,
@@ -154,8 +154,8 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             c.mv0_within_300kpc += 1;
             let v_r: f64 = (0..3).map(|k| s.vel_kms[k] * s.pos_kpc[k]).sum::<f64>() / s.r_kpc;
             let v2: f64 = s.vel_kms.iter().map(|v| v * v).sum();
-            c.mv0_r_vr2_vt2
-                .push([s.r_kpc, v_r * v_r, (v2 - v_r * v_r).max(0.0)]);
+            c.mv0_r_vr_vt2
+                .push([s.r_kpc, v_r, (v2 - v_r * v_r).max(0.0)]);
         }
         if g.m_v <= -16.8 && s.r_kpc < 150.0 {
             c.bright_pair_like_within_150kpc += 1;

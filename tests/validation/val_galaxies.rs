@@ -218,7 +218,7 @@ fn reionization_occupation() {
 /// seed 5): luminous satellites inside R_vir that survive both disruption models. Band
 /// (common practice, with the reason): the Milky Way has about 11 satellites brighter than
 /// M_V = -8 and about 13 with M* > 1e5 Msun within 300 kpc (McConnachie 2012, AJ 144, 4;
-/// recalled), M31 about twice as many, and LCDM mocks of Milky-Way-mass hosts with
+/// recalled), its large neighbour about twice as many, and LCDM mocks of Milky-Way-mass hosts with
 /// abundance-matched dwarfs scatter by factors of 2-3 from host to host; we require the median
 /// mock count in [8, 45] for M_V < -8 and in [10, 90] for M* > 1e5 Msun.
 #[test]

@@ -384,7 +384,8 @@ fn val_timing_argument_kepler_closed_form() {
 /// The value 4.73 and the 13% were read from the abstract (via a stored copy of the arXiv
 /// listing); the paper's body, with its exact inputs, could not be read. Inputs used here:
 /// - V_rad = -109.3 km/s: van der Marel et al. 2012 (ApJ 753, 8), abstract, read;
-/// - r = 770 kpc: the M31 distance of van der Marel et al. 2012, recalled, not read;
+/// - r = 770 kpc: the distance to the Milky Way's large neighbour in van der Marel et al. 2012,
+///   recalled, not read;
 /// - H0 = 67.3 km/s/Mpc, Omega_m = 0.315 (so Omega_Lambda = 0.685, flat): Planck 2013 XVI
 ///   (A&A 571, A16) abstract, read;
 /// - age 13.798 Gyr: Planck 2013 XVI (Planck+WP), recalled, not read.

@@ -278,8 +278,9 @@ const MW_DISTANCE_OFFSET_KPC: f64 = 8.2;
 /// * the radial distribution of the satellites brighter than M_V = -8 within 300 kpc: the
 ///   Milky Way's median distance (95 kpc, `MW_MV8_DISTANCES_KPC`) inside the range of the
 ///   mock hosts' medians (Samuel et al. 2020, MNRAS 491, 1471; arXiv:1904.11508, abstract:
-///   baryonic zoom-in simulations of Milky-Way-mass hosts "broadly agree with LG
-///   observations, spanning the radial profiles around the MW and M31") and more concentrated
+///   baryonic zoom-in simulations of Milky-Way-mass hosts broadly agree with the observed
+///   Local Group, spanning the radial profiles around the Milky Way and its large neighbour)
+///   and more concentrated
 ///   than half of them (Carlsten et al. 2020, ApJ 902, 124, abstract: observed hosts, the Milky
 ///   Way among them, are "~2 sigma outliers relative to the simulated hosts in being too
 ///   concentrated, while none of the observed hosts are less centrally concentrated than the
@@ -291,15 +292,16 @@ const MW_DISTANCE_OFFSET_KPC: f64 = 8.2;
 ///   to beta ~ 0.5 at r ~ 200 kpc", tangential inside and radial outside, as in simulated hosts
 ///   with massive baryonic discs, and attribute it perhaps to "the central stellar disc
 ///   preferentially destroying satellites on radial orbits". Asserted, with two errors of a
-///   bootstrap over the hosts (400 resamples, fixed seed): beta below -1 within 30 kpc
-///   (tangential, "~ -2" read as a rough value), above 0 at 100-300 kpc, and the same 64 hosts
-///   without disc and bulge less tangential within 30 kpc;
+///   bootstrap over the hosts (400 resamples, fixed seed): beta between -4 and -1 within 30 kpc
+///   (tangential, "~ -2" read as a rough value, within a factor of 2), above 0 at 100-300 kpc,
+///   and the same 64 hosts without disc and bulge less tangential within 30 kpc;
 /// * satellites sharing their exact position with another: below 1% (the issue's check: each
 ///   satellite of a satellite has its own orbit);
 /// * companions of a massive subhalo (first order, 1e11-3e11 Msun, alive, fell in
 ///   within the last 4 Gyr): members of its group with M* > 1e4 Msun still bound to it, median
-///   in [2, 20] (observed associations of the Large Magellanic Cloud: 4 long-term and 2
-///   recently captured, Patel et al. 2020, ApJ 893, 121; 6 ultra-faints and the SMC, Erkal &
+///   in [2, 20] (observed associations of the Milky Way's largest satellite: 4 long-term and 2
+///   recently captured, Patel et al. 2020, ApJ 893, 121; 6 ultra-faints and the second
+///   largest satellite, Erkal &
 ///   Belokurov 2020; predictions 4-8 with M* > 1e4 Msun within 50 kpc, Dooley et al. 2017,
 ///   arXiv:1703.05321; all from the papers' abstracts).
 ///
@@ -391,38 +393,7 @@ fn val_satellite_population_census() {
         (0.15..=0.6).contains(&pre_tracked_default),
         "tracked, default occupation, pre-processed {pre_tracked_default}"
     );
-    // the radial distribution of the bright satellites against the Milky Way's
-    let hosts_r: Vec<&Vec<f64>> = cs
-        .iter()
-        .map(|c| &c.mv8_r_kpc)
-        .filter(|r| r.len() >= 3)
-        .collect();
-    let mut medians: Vec<f64> = hosts_r.iter().map(|r| median(r.to_vec())).collect();
-    medians.sort_by(|a, b| a.total_cmp(b));
-    let mw = median(MW_MV8_DISTANCES_KPC.to_vec());
-    let below = |x: f64| medians.iter().filter(|&&m| m < x).count();
-    let pooled: Vec<f64> = hosts_r.iter().flat_map(|r| r.iter().copied()).collect();
-    let inner = |v: &[f64]| v.iter().filter(|&&r| r < 100.0).count() as f64 / v.len() as f64;
-    eprintln!(
-        "satellites brighter than M_V = -8 within 300 kpc: median distance per host {:.0} kpc \
-         (hosts' 5-95%: {:.0}-{:.0}; {} hosts with 3 or more), pooled fraction within 100 kpc \
-         {:.2}; the Milky Way {mw:.0} kpc (+-{MW_DISTANCE_OFFSET_KPC} kpc), {} of \
-         {} hosts more concentrated ({}-{} for {:.0}-{:.0} kpc), fraction within 100 kpc {:.2}",
-        median(medians.clone()),
-        medians[medians.len() / 20],
-        medians[medians.len() * 19 / 20],
-        medians.len(),
-        inner(&pooled),
-        below(mw),
-        medians.len(),
-        below(mw - MW_DISTANCE_OFFSET_KPC),
-        below(mw + MW_DISTANCE_OFFSET_KPC),
-        mw - MW_DISTANCE_OFFSET_KPC,
-        mw + MW_DISTANCE_OFFSET_KPC,
-        inner(&MW_MV8_DISTANCES_KPC)
-    );
-    // the velocity anisotropy of the satellites brighter than M_V = 0, by shell, against the
-    // Milky Way's; errors from a bootstrap over the hosts
+    // the same 64 hosts without disc and bulge, for the two checks below
     let no_disc: Vec<_> = censuses_with(
         64,
         10f64.powf(7.5),
@@ -435,19 +406,79 @@ fn val_satellite_population_census() {
     .into_iter()
     .map(|p| p.0)
     .collect();
+    // the radial distribution of the bright satellites against the Milky Way's: each host's
+    // median distance (hosts with 3 or more), sorted
+    let host_medians = |set: &[retinue::stats::HostCensus]| {
+        let mut m: Vec<f64> = set
+            .iter()
+            .filter(|c| c.mv8_r_kpc.len() >= 3)
+            .map(|c| median(c.mv8_r_kpc.clone()))
+            .collect();
+        m.sort_by(|a, b| a.total_cmp(b));
+        m
+    };
+    let (medians, medians_none) = (host_medians(&cs), host_medians(&no_disc));
+    let mw = median(MW_MV8_DISTANCES_KPC.to_vec());
+    let below = |m: &[f64], x: f64| m.iter().filter(|&&v| v < x).count();
+    let inner = |v: &[f64]| v.iter().filter(|&&r| r < 100.0).count() as f64 / v.len() as f64;
+    for (label, set, m) in [
+        ("with the disc", &cs, &medians),
+        ("without it", &no_disc, &medians_none),
+    ] {
+        let pooled: Vec<f64> = set
+            .iter()
+            .flat_map(|c| c.mv8_r_kpc.iter().copied())
+            .collect();
+        eprintln!(
+            "satellites brighter than M_V = -8 within 300 kpc, {label}: median distance per \
+             host {:.0} kpc (hosts' 5-95%: {:.0}-{:.0}; {} hosts with 3 or more), pooled \
+             fraction within 100 kpc {:.2}; the Milky Way {mw:.0} kpc (+-{MW_DISTANCE_OFFSET_KPC} \
+             kpc), {} of {} hosts more concentrated ({}-{} for {:.0}-{:.0} kpc), fraction within \
+             100 kpc {:.2}",
+            median(m.to_vec()),
+            m[m.len() / 20],
+            m[m.len() * 19 / 20],
+            m.len(),
+            inner(&pooled),
+            below(m, mw),
+            m.len(),
+            below(m, mw - MW_DISTANCE_OFFSET_KPC),
+            below(m, mw + MW_DISTANCE_OFFSET_KPC),
+            mw - MW_DISTANCE_OFFSET_KPC,
+            mw + MW_DISTANCE_OFFSET_KPC,
+            inner(&MW_MV8_DISTANCES_KPC)
+        );
+    }
+    assert!(
+        medians.len() >= 48,
+        "{} hosts with 3 or more",
+        medians.len()
+    );
+    assert!(
+        below(&medians, mw + MW_DISTANCE_OFFSET_KPC) >= 1
+            && below(&medians, mw - MW_DISTANCE_OFFSET_KPC) < medians.len() / 2,
+        "the Milky Way's median distance {mw} kpc against the hosts' {medians:?}"
+    );
+    // the velocity anisotropy of the satellites brighter than M_V = 0, by shell, against the
+    // Milky Way's: sigma_r^2 about the shell's mean v_r; sigma_t^2 is the mean of v_t^2 (a
+    // net rotation, if any, counts as dispersion); errors from a bootstrap over the hosts
     let beta = |set: &[&retinue::stats::HostCensus], r0: f64, r1: f64| {
-        let (mut sr, mut st) = (0.0, 0.0);
-        for v in set.iter().flat_map(|c| c.mv0_r_vr2_vt2.iter()) {
+        let (mut n, mut sum_vr, mut sum_vr2, mut sum_vt2) = (0.0, 0.0, 0.0, 0.0);
+        for v in set.iter().flat_map(|c| c.mv0_r_vr_vt2.iter()) {
             if v[0] >= r0 && v[0] < r1 {
-                sr += v[1];
-                st += v[2];
+                n += 1.0;
+                sum_vr += v[1];
+                sum_vr2 += v[1] * v[1];
+                sum_vt2 += v[2];
             }
         }
-        1.0 - st / (2.0 * sr)
+        let sigma_r2 = sum_vr2 / n - (sum_vr / n).powi(2);
+        (1.0 - sum_vt2 / n / (2.0 * sigma_r2), n)
     };
     let shells = [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)];
     let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
-    let mut with_errors = |set: &[retinue::stats::HostCensus]| -> Vec<(f64, f64)> {
+    // per shell: beta, its bootstrap error and the number of satellites
+    let mut with_errors = |set: &[retinue::stats::HostCensus]| -> Vec<(f64, f64, f64)> {
         let all: Vec<&retinue::stats::HostCensus> = set.iter().collect();
         let mut boot = vec![Vec::new(); shells.len()];
         for _ in 0..400 {
@@ -455,7 +486,7 @@ fn val_satellite_population_census() {
                 .map(|_| all[rng.random_range(0..all.len())])
                 .collect();
             for (k, &(r0, r1)) in shells.iter().enumerate() {
-                boot[k].push(beta(&sample, r0, r1));
+                boot[k].push(beta(&sample, r0, r1).0);
             }
         }
         shells
@@ -465,7 +496,8 @@ fn val_satellite_population_census() {
                 let m = b.iter().sum::<f64>() / b.len() as f64;
                 let sd = (b.iter().map(|x| (x - m) * (x - m)).sum::<f64>() / (b.len() - 1) as f64)
                     .sqrt();
-                (beta(&all, r0, r1), sd)
+                let (value, n) = beta(&all, r0, r1);
+                (value, sd, n)
             })
             .collect()
     };
@@ -474,14 +506,25 @@ fn val_satellite_population_census() {
         eprintln!(
             "velocity anisotropy of the satellites brighter than M_V = 0, {label}: \
              beta = {:.2} +- {:.2}, {:.2} +- {:.2}, {:.2} +- {:.2}, {:.2} +- {:.2} in 0-30, \
-             30-50, 50-100, 100-300 kpc (the Milky Way: about -2 at 20 kpc rising to about 0.5 \
-             at 200 kpc, Riley et al. 2019)",
-            b[0].0, b[0].1, b[1].0, b[1].1, b[2].0, b[2].1, b[3].0, b[3].1
+             30-50, 50-100, 100-300 kpc ({}, {}, {}, {} satellites over the hosts; the Milky \
+             Way: about -2 at 20 kpc rising to about 0.5 at 200 kpc, Riley et al. 2019)",
+            b[0].0,
+            b[0].1,
+            b[1].0,
+            b[1].1,
+            b[2].0,
+            b[2].1,
+            b[3].0,
+            b[3].1,
+            b[0].2,
+            b[1].2,
+            b[2].2,
+            b[3].2
         );
     }
     assert!(
-        b_disc[0].0 + 2.0 * b_disc[0].1 < -1.0,
-        "inner satellites not tangential like the Milky Way's: {:?}",
+        b_disc[0].0 + 2.0 * b_disc[0].1 < -1.0 && b_disc[0].0 - 2.0 * b_disc[0].1 > -4.0,
+        "inner satellites not tangential like the Milky Way's (about -2, read as -4 to -1): {:?}",
         b_disc[0]
     );
     assert!(
@@ -494,16 +537,6 @@ fn val_satellite_population_census() {
         "the disc does not make the inner satellites more tangential: {:?} against {:?}",
         b_disc[0],
         b_none[0]
-    );
-    assert!(
-        medians.len() >= 48,
-        "{} hosts with 3 or more",
-        medians.len()
-    );
-    assert!(
-        below(mw + MW_DISTANCE_OFFSET_KPC) >= 1
-            && below(mw - MW_DISTANCE_OFFSET_KPC) < medians.len() / 2,
-        "the Milky Way's median distance {mw} kpc against the hosts' {medians:?}"
     );
 }
 
@@ -2164,7 +2197,7 @@ fn val_orbital_phase_and_infall_times_vs_simulations() {
     );
     // fractions at bound mass above psi M_vir: (inside r200: no pericentre yet, no apocentre
     // yet; accreted: pre-processed, beyond 1.2 r200)
-    let phase = |psi: f64| -> [f64; 4] {
+    let phase = |psi: f64, floor: f64| -> [f64; 4] {
         let (mut n_in, mut no_peri, mut no_apo) = (0.0, 0.0, 0.0);
         let (mut n_acc, mut pre, mut beyond) = (0.0, 0.0, 0.0);
         for rec in &dmo {
@@ -2186,18 +2219,19 @@ fn val_orbital_phase_and_infall_times_vs_simulations() {
                 }
             }
         }
-        assert!(n_in > 100.0 && n_acc > 100.0, "{n_in} {n_acc}");
+        assert!(n_in > floor && n_acc > floor, "{n_in} {n_acc}");
         [no_peri / n_in, no_apo / n_in, pre / n_acc, beyond / n_acc]
     };
-    for psi in [1e-6, 1e-4, 1e-3] {
-        let f = phase(psi);
+    // at least 1,000 objects in each count (100 above 1e-3 M_vir, where they are fewer)
+    for (psi, floor) in [(1e-6, 1000.0), (1e-4, 1000.0), (1e-3, 100.0)] {
+        let f = phase(psi, floor);
         eprintln!(
             "bound mass > {psi:e} M_vir: inside r200 on first infall {:.3}, before the first \
              apocentre {:.3}; accreted, pre-processed {:.3}, beyond 1.2 r200 {:.3}",
             f[0], f[1], f[2], f[3]
         );
     }
-    let [first_infall, before_apo, pre, beyond] = phase(1e-5);
+    let [first_infall, before_apo, pre, beyond] = phase(1e-5, 1000.0);
     eprintln!(
         "bound mass > 1e-5 M_vir: inside r200 on first infall {first_infall:.3} (Bakels et al. \
          2021: roughly 0.21), before the first apocentre {before_apo:.3} (0.44); accreted, \
