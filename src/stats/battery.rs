@@ -306,6 +306,10 @@ pub struct AnalysisResults {
     pub backsplash_counts: Vec<Vec<f64>>,
     pub field_per_host: Vec<Vec<f64>>,
     pub dependence_raw: Vec<DependenceRaw>,
+    /// Per grid cell: the hosts' satellites against the Milky Way's census (every satellite,
+    /// whatever the selection), raw per host and summarised.
+    pub census_raw: Vec<CensusRaw>,
+    pub census: Vec<CensusRow>,
     /// The pair tests (`stats::pairs`), when the hosts tested include pairs: filled by the
     /// caller that streams the store (`analysis::compute`), None from `run_tests_raw`.
     pub pairs: Option<super::pairs::PairResults>,
@@ -358,6 +362,60 @@ pub struct DependenceRaw {
     pub masses: Vec<f64>,
     pub zs: Binned,
     pub p2: Vec<f64>,
+}
+
+/// Per host of one grid cell, the numbers the Milky Way's satellite census is compared with
+/// (`docs/validation.md`, "Subhalo populations"). A satellite is a galaxy-hosting subhalo
+/// alive at the end (orbiting the host or inside another subhalo), at its own distance from
+/// the host's centre.
+#[derive(Debug, Clone, Default)]
+pub struct CensusRaw {
+    pub cell: (u16, u16),
+    /// Satellites brighter than M_V = 0 and than M_V = -8 within 300 kpc.
+    pub mv0: Vec<f64>,
+    pub mv8: Vec<f64>,
+    /// The median distance (kpc) of the satellites brighter than M_V = -8 within 300 kpc, for
+    /// hosts with at least three (NaN otherwise).
+    pub mv8_median_r_kpc: Vec<f64>,
+    /// 1 if a satellite as bright as the Milky Way's second brightest (M_V <= -16.8) lies
+    /// within 150 kpc, else 0.
+    pub bright_pair: Vec<f64>,
+}
+
+/// `CensusRaw` summarised over a cell's hosts: medians, and the fraction of hosts with a
+/// satellite as bright as the Milky Way's second brightest within 150 kpc.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CensusRow {
+    pub cell: (u16, u16),
+    pub hosts: usize,
+    pub mv0_median: f64,
+    pub mv8_median: f64,
+    pub mv8_median_r_kpc: f64,
+    /// Hosts with three or more satellites brighter than M_V = -8 within 300 kpc.
+    pub mv8_r_hosts: usize,
+    pub bright_pair_fraction: f64,
+}
+
+/// Summarise one cell's census (or several cells' hosts pooled into one `CensusRaw`).
+pub fn census_row(d: &CensusRaw) -> CensusRow {
+    let med = |v: &[f64]| {
+        let mut s: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
+        s.sort_by(f64::total_cmp);
+        if s.is_empty() {
+            f64::NAN
+        } else {
+            super::intervals::percentile(&s, 0.5)
+        }
+    };
+    CensusRow {
+        cell: d.cell,
+        hosts: d.mv0.len(),
+        mv0_median: med(&d.mv0),
+        mv8_median: med(&d.mv8),
+        mv8_median_r_kpc: med(&d.mv8_median_r_kpc),
+        mv8_r_hosts: d.mv8_median_r_kpc.iter().filter(|x| x.is_finite()).count(),
+        bright_pair_fraction: d.bright_pair.iter().sum::<f64>() / d.bright_pair.len().max(1) as f64,
+    }
 }
 
 /// The bins of the pooled infall lookback times.
@@ -621,6 +679,17 @@ impl<'a> Merger<'a> {
                 None => m.dependence_raw.push(d),
             }
         }
+        for d in p.census_raw {
+            match m.census_raw.iter_mut().find(|x| x.cell == d.cell) {
+                Some(x) => {
+                    x.mv0.extend(d.mv0);
+                    x.mv8.extend(d.mv8);
+                    x.mv8_median_r_kpc.extend(d.mv8_median_r_kpc);
+                    x.bright_pair.extend(d.bright_pair);
+                }
+                None => m.census_raw.push(d),
+            }
+        }
     }
 
     /// Every summary and bootstrap interval over all hosts folded in (None: no chunk).
@@ -668,6 +737,8 @@ impl<'a> Merger<'a> {
             .collect();
         m.dependence_raw.sort_by_key(|d| d.cell);
         m.dependence = m.dependence_raw.iter().map(dependence_row).collect();
+        m.census_raw.sort_by_key(|d| d.cell);
+        m.census = m.census_raw.iter().map(census_row).collect();
         Some(m)
     }
 }
@@ -1046,6 +1117,23 @@ pub fn run_tests_raw(
             }
         })
         .collect();
+    let census_raw: Vec<CensusRaw> = dependence_raw
+        .iter()
+        .map(|d| {
+            let mut c = CensusRaw {
+                cell: d.cell,
+                ..Default::default()
+            };
+            for h in (0..n_hosts).filter(|&h| (cat.host_cosmology[h], cat.host_cell[h]) == d.cell) {
+                let hc = cat.milky_way_census(h);
+                c.mv0.push(hc.n_mv0);
+                c.mv8.push(hc.n_mv8);
+                c.mv8_median_r_kpc.push(hc.mv8_median_r_kpc);
+                c.bright_pair.push(if hc.bright_pair { 1.0 } else { 0.0 });
+            }
+            c
+        })
+        .collect();
     AnalysisResults {
         n_draw,
         selection: options.selection.clone(),
@@ -1068,6 +1156,8 @@ pub fn run_tests_raw(
         backsplash_counts: counts,
         field_per_host,
         dependence_raw,
+        census_raw,
+        census: Vec::new(),
         pairs: None,
     }
 }

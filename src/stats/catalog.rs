@@ -62,7 +62,28 @@ pub struct Catalog {
     /// Field dwarfs of the pair region per host already counted (compacted catalogue; empty
     /// counts for isolated hosts); empty = count rows (`stats::pairs::region_counts`).
     pub host_pair_region_count: Vec<super::pairs::RegionCounts>,
+    /// Each host's census for the comparison with the Milky Way's satellites
+    /// (`Catalog::census_from_rows`) already computed (compacted catalogue); empty = compute
+    /// from the rows.
+    pub host_census: Vec<HostMilkyWayCensus>,
 }
+
+/// One host's numbers for the comparison with the Milky Way's satellite census: satellites
+/// (galaxy-hosting subhaloes alive at the end, at their own distance from the host's centre)
+/// brighter than M_V = 0 and M_V = -8 within 300 kpc, the median distance (kpc) of the latter
+/// when there are three or more (NaN otherwise), and whether one as bright as the Milky Way's
+/// second brightest (`MW_SECOND_BRIGHTEST_M_V`) lies within 150 kpc.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HostMilkyWayCensus {
+    pub n_mv0: f64,
+    pub n_mv8: f64,
+    pub mv8_median_r_kpc: f64,
+    pub bright_pair: bool,
+}
+
+/// The magnitude of the Milky Way's second brightest satellite, M_V = -16.8 (McConnachie 2012
+/// as compiled on a public encyclopedia page, read 2026-12-05).
+pub const MW_SECOND_BRIGHTEST_M_V: f64 = -16.8;
 
 /// Element i of a pair column, NaN where the column is empty or short (catalogues built by
 /// hand, or hosts read before the pair columns existed: isolated).
@@ -228,6 +249,9 @@ impl Catalog {
                 c.host_pair_region_count
                     .push(self.host_pair_region_count[h].clone());
             }
+            if !self.host_census.is_empty() {
+                c.host_census.push(self.host_census[h]);
+            }
             for i in self.rows(h) {
                 let pre = self.t_pre_gyr.get(i).copied().unwrap_or(f64::NAN);
                 c.push_row_from(self, i, pre);
@@ -244,6 +268,45 @@ impl Catalog {
     /// another subhalo (not disrupted, not merged).
     pub fn alive(&self, i: usize) -> bool {
         SubhaloStatus::from_code(self.status[i]).is_some_and(|s| s.alive())
+    }
+
+    /// Host h's census (`HostMilkyWayCensus`): the precomputed one of a compacted catalogue,
+    /// else counted from its rows (which must then be all of its rows).
+    pub fn milky_way_census(&self, h: usize) -> HostMilkyWayCensus {
+        if self.host_census.len() == self.n_hosts() {
+            return self.host_census[h];
+        }
+        self.census_from_rows(h)
+    }
+
+    /// Host h's census counted from its rows.
+    pub fn census_from_rows(&self, h: usize) -> HostMilkyWayCensus {
+        let (mut n_mv0, mut r8, mut bright_pair) = (0.0, Vec::new(), false);
+        for i in self.rows(h) {
+            let r = self.r_kpc[i];
+            if !(self.occupied[i] && self.alive(i) && r.is_finite()) {
+                continue;
+            }
+            let m_v = self.m_v[i];
+            if r < 300.0 && m_v < 0.0 {
+                n_mv0 += 1.0;
+            }
+            if r < 300.0 && m_v < -8.0 {
+                r8.push(r);
+            }
+            bright_pair |= r < 150.0 && m_v <= MW_SECOND_BRIGHTEST_M_V;
+        }
+        r8.sort_by(f64::total_cmp);
+        HostMilkyWayCensus {
+            n_mv0,
+            n_mv8: r8.len() as f64,
+            mv8_median_r_kpc: if r8.len() >= 3 {
+                super::intervals::percentile(&r8, 0.5)
+            } else {
+                f64::NAN
+            },
+            bright_pair,
+        }
     }
 
     /// Whether row i is a satellite of a satellite at the end (inside another subhalo).

@@ -169,6 +169,7 @@ pub fn compact_from_store(
             .extend(c.host_backsplash_count.iter().cloned());
         all.host_pair_region_count
             .extend(c.host_pair_region_count.iter().cloned());
+        all.host_census.extend(c.host_census.iter().copied());
         for i in 0..c.n_subhaloes() {
             all.push_row_from(&c, i, c.t_pre_gyr[i]);
         }
@@ -288,6 +289,7 @@ pub fn for_each_chunk_where(
                 }
             }
             out.host_backsplash_count.push(n_bs);
+            out.host_census.push(c.census_from_rows(h));
             out.host_pair_region_count
                 .push(region_counts(b, &c, h).unwrap_or_default());
             out.offset.push(out.branch.len());

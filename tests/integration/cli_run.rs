@@ -3015,3 +3015,69 @@ fn run_interrupted_in_its_tests_says_the_store_is_complete() {
         "{err}"
     );
 }
+
+/// The report compares each cell's hosts with the Milky Way's satellite census
+/// (`milky_way_census.csv` and a section of `report.md`). The tests stream the store in chunks
+/// and keep only the rows some test needs, so the census is counted per host while the
+/// host's full table is at hand: it must equal the census counted from the store read whole
+/// (every satellite, whatever the selection), cell by cell.
+#[test]
+fn milky_way_census_counts_every_satellite_of_the_hosts() {
+    let d = tempfile::tempdir().unwrap();
+    // a selection that keeps few rows, so the compacted catalogue differs from the store
+    let cfg = write(
+        d.path(),
+        "tiny.toml",
+        &TINY.replace(
+            "[tests]\n",
+            "[tests.selection]\nmstar_msun = [1e5, 1e6]\n\n[tests]\n",
+        ),
+    );
+    let store = d.path().join("tiny.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let cat = retinue::io::store::read_catalog(&store).unwrap();
+    let csv = std::fs::read_to_string(d.path().join("tiny-report/milky_way_census.csv")).unwrap();
+    let rows: Vec<Vec<&str>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').collect())
+        .collect();
+    // the pooled row over all hosts first, as in the other tables, then each cell's
+    assert_eq!(rows.len(), 3, "{csv}");
+    assert_eq!(rows[0][..3], ["all", "all", "6"], "{csv}");
+    let rows = &rows[1..];
+    let median = |mut v: Vec<f64>| {
+        v.retain(|x| x.is_finite());
+        v.sort_by(f64::total_cmp);
+        retinue::stats::intervals::percentile(&v, 0.5)
+    };
+    for (row, mass) in rows.iter().zip([8e11, 1.2e12]) {
+        let hosts: Vec<usize> = (0..cat.n_hosts())
+            .filter(|&h| (cat.host_m_vir_msun[h] / mass - 1.0).abs() < 0.2)
+            .collect();
+        assert_eq!(hosts.len(), 3, "{mass}");
+        let census: Vec<_> = hosts.iter().map(|&h| cat.census_from_rows(h)).collect();
+        assert!(census.iter().any(|c| c.n_mv0 > 0.0), "{census:?}");
+        let mv0 = median(census.iter().map(|c| c.n_mv0).collect());
+        let mv8 = median(census.iter().map(|c| c.n_mv8).collect());
+        let pair = census.iter().filter(|c| c.bright_pair).count() as f64 / 3.0;
+        assert_eq!(row[2], "3", "{csv}");
+        assert_eq!(row[3].parse::<f64>().unwrap(), mv0, "{csv}");
+        assert_eq!(row[4].parse::<f64>().unwrap(), mv8, "{csv}");
+        assert!(
+            (row[7].parse::<f64>().unwrap() - pair).abs() < 1e-4,
+            "{csv}"
+        );
+    }
+    let md = std::fs::read_to_string(d.path().join("tiny-report/report.md")).unwrap();
+    assert!(
+        md.contains("## The hosts against the Milky Way's satellites")
+            && md.contains("| the Milky Way | 1 |"),
+        "{md}"
+    );
+}
