@@ -938,8 +938,6 @@ pub fn conclusion_lines(res: &AnalysisResults, o: &TestOptions) -> Vec<String> {
         .collect()
 }
 
-/// The median of per-host counts (the mean of the two middle values for an even number;
-/// 0 for none), printed as an integer or with one decimal.
 /// The census rows: with several cells, the pooled row over all hosts first (flagged `true`),
 /// as in the other tables, then each cell's.
 fn census_rows_with_all(res: &AnalysisResults) -> Vec<(crate::stats::battery::CensusRow, bool)> {
@@ -1002,10 +1000,12 @@ fn milky_way_census(m: &mut String, res: &AnalysisResults, labels: &CellLabels) 
     );
     let _ = writeln!(
         m,
-        "The Milky Way's bright satellites are more concentrated than those of most mock hosts (of 94% of the default hosts), as Carlsten et al. 2020 find for simulated hosts; the counts are those of the hosts' virial volume and do not apply a survey's completeness.\n"
+        "The Milky Way's bright satellites are more concentrated than those of most mock hosts (94% of the default hosts), as Carlsten et al. 2020 find for simulated hosts; the counts are those of the hosts' virial volume and do not apply a survey's completeness.\n"
     );
 }
 
+/// The median of per-host counts (the mean of the two middle values for an even number;
+/// 0 for none), printed as an integer or with one decimal.
 fn median_count(counts: &[usize]) -> String {
     let mut c = counts.to_vec();
     c.sort_unstable();

@@ -408,7 +408,7 @@ fn runs_without_pairs_are_unchanged() {
         .unwrap();
     assert_eq!(
         tables,
-        "all_of_n.csv, fraction_of_n.csv, dependence.csv, backsplash.csv"
+        "all_of_n.csv, fraction_of_n.csv, dependence.csv, milky_way_census.csv, backsplash.csv"
     );
     assert!(!rep.join("pairs.csv").exists());
     let figs = check_listed_figures(&out, &rep);
@@ -436,6 +436,7 @@ fn runs_without_pairs_are_unchanged() {
             "# Infall-time tests",
             "## Comparison of the grid's cells",
             "## Selection: luminous satellites inside R_vir",
+            "## The hosts against the Milky Way's satellites",
             "## Clocks",
             "## All of N = 3",
             "## Backsplash",
