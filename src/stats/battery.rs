@@ -396,23 +396,21 @@ pub struct CensusRow {
     pub bright_pair_fraction: f64,
 }
 
+/// The median of the finite values of `v` (NaN when there are none).
+fn median_of_finite(v: &[f64]) -> f64 {
+    let mut s: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
+    s.sort_by(f64::total_cmp);
+    super::intervals::percentile(&s, 0.5)
+}
+
 /// Summarise one cell's census (or several cells' hosts pooled into one `CensusRaw`).
 pub fn census_row(d: &CensusRaw) -> CensusRow {
-    let med = |v: &[f64]| {
-        let mut s: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
-        s.sort_by(f64::total_cmp);
-        if s.is_empty() {
-            f64::NAN
-        } else {
-            super::intervals::percentile(&s, 0.5)
-        }
-    };
     CensusRow {
         cell: d.cell,
         hosts: d.mv0.len(),
-        mv0_median: med(&d.mv0),
-        mv8_median: med(&d.mv8),
-        mv8_median_r_kpc: med(&d.mv8_median_r_kpc),
+        mv0_median: median_of_finite(&d.mv0),
+        mv8_median: median_of_finite(&d.mv8),
+        mv8_median_r_kpc: median_of_finite(&d.mv8_median_r_kpc),
         mv8_r_hosts: d.mv8_median_r_kpc.iter().filter(|x| x.is_finite()).count(),
         bright_pair_fraction: d.bright_pair.iter().sum::<f64>() / d.bright_pair.len().max(1) as f64,
     }
@@ -429,11 +427,6 @@ pub fn redshift_bins() -> Binned {
 }
 
 fn dependence_row(d: &DependenceRaw) -> (u16, u16, usize, f64, f64, f64) {
-    let med = |v: &[f64]| {
-        let mut s: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
-        s.sort_by(|a, b| a.partial_cmp(b).unwrap());
-        super::intervals::percentile(&s, 0.5)
-    };
     let p2 = if d.p2.is_empty() {
         f64::NAN
     } else {
@@ -443,7 +436,7 @@ fn dependence_row(d: &DependenceRaw) -> (u16, u16, usize, f64, f64, f64) {
         d.cell.0,
         d.cell.1,
         d.masses.len(),
-        med(&d.masses),
+        median_of_finite(&d.masses),
         d.zs.quantile(0.5),
         p2,
     )
