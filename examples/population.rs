@@ -209,7 +209,7 @@ fn main() {
     println!(
         "M_V < 0 within 300 kpc: median {}; M_V < -8 within 300 kpc: {}, inside R_vir: {}",
         med(&|c| c.mv0_within_300kpc as f64),
-        med(&|c| c.mv8_within_300kpc as f64),
+        med(&|c| c.mv8_r_kpc.len() as f64),
         med(&|c| c.mv8_inside_rvir as f64)
     );
     println!(
@@ -227,27 +227,21 @@ fn main() {
             .count() as f64
             / sum(&|c| c.mv8_r_kpc.len())
     );
-    let with_n = |n: usize| {
-        cs.iter()
-            .filter(|(c, _, _)| c.bright_pair_like_within_150kpc == n)
-            .count() as f64
-            / cs.len() as f64
+    // the fraction of hosts whose count `f` is n
+    let with_n = |f: &dyn Fn(&HostCensus) -> usize, n: usize| {
+        cs.iter().filter(|(c, _, _)| f(c) == n).count() as f64 / cs.len() as f64
     };
-    let with_n_projected = |n: usize| {
-        cs.iter()
-            .filter(|(c, _, _)| c.bright_pair_like_projected_150kpc == n)
-            .count() as f64
-            / cs.len() as f64
-    };
+    let within = |c: &HostCensus| c.bright_pair_like_within_150kpc;
+    let projected = |c: &HostCensus| c.bright_pair_like_projected_150kpc;
     println!(
         "hosts with 0, 1, 2 satellites of M_V <= -16.8 within 150 kpc: {:.3} {:.3} {:.3}; \
          projected: {:.3} {:.3} {:.3}",
-        with_n(0),
-        with_n(1),
-        with_n(2),
-        with_n_projected(0),
-        with_n_projected(1),
-        with_n_projected(2)
+        with_n(&within, 0),
+        with_n(&within, 1),
+        with_n(&within, 2),
+        with_n(&projected, 0),
+        with_n(&projected, 1),
+        with_n(&projected, 2)
     );
     let mut all: Vec<f64> = cs
         .iter()

@@ -8,6 +8,7 @@
 //! status); the fixed pericentre cut (`t_disrupt_pericentre_gyr`) is not applied here (it was
 //! until the disc-tide model replaced it as the default).
 
+use super::catalog::MW_SECOND_BRIGHTEST_M_V;
 use crate::orbits::{SubhaloResult, SubhaloStatus};
 use crate::synth::HostRecord;
 
@@ -27,8 +28,7 @@ pub struct HostCensus {
     /// The same satellites' distance (kpc), radial velocity (km/s) and squared tangential
     /// speed ((km/s)^2) relative to the host's centre, for their velocity anisotropy.
     pub mv0_r_vr_vt2: Vec<[f64; 3]>,
-    /// Satellites brighter than M_V = -8 within 300 kpc, and inside R_vir.
-    pub mv8_within_300kpc: usize,
+    /// Satellites brighter than M_V = -8 inside R_vir (those within 300 kpc: `mv8_r_kpc`).
     pub mv8_inside_rvir: usize,
     /// Satellites as bright as the fainter of the Milky Way's two brightest (M_V <= -16.8)
     /// within 150 kpc.
@@ -157,14 +157,16 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             c.mv0_r_vr_vt2
                 .push([s.r_kpc, v_r, (v2 - v_r * v_r).max(0.0)]);
         }
-        if g.m_v <= -16.8 && s.r_kpc < 150.0 {
+        if g.m_v <= MW_SECOND_BRIGHTEST_M_V && s.r_kpc < 150.0 {
             c.bright_pair_like_within_150kpc += 1;
         }
-        if g.m_v <= -16.8 && s.r_kpc < 300.0 && s.pos_kpc[1].hypot(s.pos_kpc[2]) < 150.0 {
+        if g.m_v <= MW_SECOND_BRIGHTEST_M_V
+            && s.r_kpc < 300.0
+            && s.pos_kpc[1].hypot(s.pos_kpc[2]) < 150.0
+        {
             c.bright_pair_like_projected_150kpc += 1;
         }
         if g.m_v < -8.0 {
-            c.mv8_within_300kpc += (s.r_kpc < 300.0) as usize;
             if s.r_kpc < 300.0 {
                 c.mv8_r_kpc.push(s.r_kpc);
             }

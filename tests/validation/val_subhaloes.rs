@@ -322,7 +322,7 @@ fn val_satellite_population_census() {
         v.iter().map(f).sum::<usize>() as f64
     };
     let sum = |f: &dyn Fn(&retinue::stats::HostCensus) -> usize| sum_of(&cs, f);
-    let mv8 = median(cs.iter().map(|c| c.mv8_within_300kpc as f64).collect());
+    let mv8 = median(cs.iter().map(|c| c.mv8_r_kpc.len() as f64).collect());
     let mv0 = median(cs.iter().map(|c| c.mv0_within_300kpc as f64).collect());
     let pre =
         sum_of(&by_peak, &|c| c.faint_dwarfs_preprocessed) / sum_of(&by_peak, &|c| c.faint_dwarfs);
