@@ -85,6 +85,33 @@ pub struct HostMilkyWayCensus {
 /// as compiled on a public encyclopedia page, read 2026-12-05).
 pub const MW_SECOND_BRIGHTEST_M_V: f64 = -16.8;
 
+/// One object's place in the Milky Way census (`HostMilkyWayCensus`): the one rule by which
+/// the report's census (`Catalog::census_from_rows`) and the validation's (`stats::census`)
+/// count satellites.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct CensusClass {
+    /// Brighter than M_V = 0 within 300 kpc of the host's centre.
+    pub mv0_within_300kpc: bool,
+    /// Brighter than M_V = -8 within 300 kpc.
+    pub mv8_within_300kpc: bool,
+    /// As bright as the Milky Way's second brightest satellite (`MW_SECOND_BRIGHTEST_M_V`)
+    /// within 150 kpc.
+    pub second_brightest_within_150kpc: bool,
+}
+
+impl CensusClass {
+    /// The classes of an object at distance `r_kpc` from the host's centre with magnitude
+    /// `m_v`; None unless it is a satellite: it hosts a galaxy, is alive at the end and has a
+    /// position (a satellite of a satellite counts at its own distance).
+    pub fn of(occupied: bool, alive: bool, r_kpc: f64, m_v: f64) -> Option<Self> {
+        (occupied && alive && r_kpc.is_finite()).then(|| Self {
+            mv0_within_300kpc: r_kpc < 300.0 && m_v < 0.0,
+            mv8_within_300kpc: r_kpc < 300.0 && m_v < -8.0,
+            second_brightest_within_150kpc: r_kpc < 150.0 && m_v <= MW_SECOND_BRIGHTEST_M_V,
+        })
+    }
+}
+
 /// Element i of a pair column, NaN where the column is empty or short (catalogues built by
 /// hand, or hosts read before the pair columns existed: isolated).
 pub(crate) fn pair_value(v: &[f64], i: usize) -> f64 {
@@ -284,17 +311,17 @@ impl Catalog {
         let (mut n_mv0, mut r8, mut bright_pair) = (0.0, Vec::new(), false);
         for i in self.rows(h) {
             let r = self.r_kpc[i];
-            if !(self.occupied[i] && self.alive(i) && r.is_finite()) {
+            let Some(class) = CensusClass::of(self.occupied[i], self.alive(i), r, self.m_v[i])
+            else {
                 continue;
-            }
-            let m_v = self.m_v[i];
-            if r < 300.0 && m_v < 0.0 {
+            };
+            if class.mv0_within_300kpc {
                 n_mv0 += 1.0;
             }
-            if r < 300.0 && m_v < -8.0 {
+            if class.mv8_within_300kpc {
                 r8.push(r);
             }
-            bright_pair |= r < 150.0 && m_v <= MW_SECOND_BRIGHTEST_M_V;
+            bright_pair |= class.second_brightest_within_150kpc;
         }
         r8.sort_by(f64::total_cmp);
         HostMilkyWayCensus {
@@ -312,5 +339,33 @@ impl Catalog {
     /// Whether row i is a satellite of a satellite at the end (inside another subhalo).
     pub fn in_subhalo(&self, i: usize) -> bool {
         self.status[i] == SubhaloStatus::InSubhalo as u8
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The census rule at its edges: 300 and 150 kpc and M_V = 0 and -8 are open bounds, the
+    /// Milky Way's second brightest magnitude is included, and only galaxy-hosting objects
+    /// alive at the end with a position count.
+    #[test]
+    fn census_class_edges() {
+        let c = |occ, alive, r, m_v| CensusClass::of(occ, alive, r, m_v);
+        assert_eq!(c(false, true, 50.0, -10.0), None);
+        assert_eq!(c(true, false, 50.0, -10.0), None);
+        assert_eq!(c(true, true, f64::NAN, -10.0), None);
+        let k = c(true, true, 299.9, -8.01).unwrap();
+        assert!(k.mv0_within_300kpc && k.mv8_within_300kpc && !k.second_brightest_within_150kpc);
+        let k = c(true, true, 300.0, -20.0).unwrap();
+        assert!(!k.mv0_within_300kpc && !k.mv8_within_300kpc && !k.second_brightest_within_150kpc);
+        let k = c(true, true, 100.0, -8.0).unwrap();
+        assert!(k.mv0_within_300kpc && !k.mv8_within_300kpc);
+        let k = c(true, true, 100.0, 0.0).unwrap();
+        assert!(!k.mv0_within_300kpc);
+        let k = c(true, true, 149.9, MW_SECOND_BRIGHTEST_M_V).unwrap();
+        assert!(k.second_brightest_within_150kpc);
+        let k = c(true, true, 150.0, MW_SECOND_BRIGHTEST_M_V).unwrap();
+        assert!(!k.second_brightest_within_150kpc && k.mv8_within_300kpc);
     }
 }

@@ -8,8 +8,8 @@
 //! status); the fixed pericentre cut (`t_disrupt_pericentre_gyr`) is not applied here (it was
 //! until the disc-tide model replaced it as the default).
 
-use super::catalog::MW_SECOND_BRIGHTEST_M_V;
-use crate::orbits::{SubhaloResult, SubhaloStatus};
+use super::catalog::{CensusClass, MW_SECOND_BRIGHTEST_M_V};
+use crate::orbits::SubhaloStatus;
 use crate::synth::HostRecord;
 
 /// Counts of one host.
@@ -97,10 +97,6 @@ pub const TRACKED_MASS_MSUN: f64 = 4e6;
 /// The bound-mass thresholds of the cumulative mass functions, in units of the host's M_vir.
 pub const SHMF_PSI: [f64; 5] = [1e-5, 3e-5, 1e-4, 3e-4, 1e-3];
 
-fn is_satellite(s: &SubhaloResult, occupied: bool) -> bool {
-    occupied && s.status.alive() && s.r_kpc.is_finite()
-}
-
 /// The census of one host; `t_z6_gyr` is the cosmic time at z = 6 in the host's cosmology.
 pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
     let rv = rec.summary.r_vir_kpc;
@@ -147,17 +143,17 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
                 }
             }
         }
-        if !is_satellite(s, g.occupied) {
+        let Some(class) = CensusClass::of(g.occupied, s.status.alive(), s.r_kpc, g.m_v) else {
             continue;
-        }
-        if s.r_kpc < 300.0 && g.m_v < 0.0 {
+        };
+        if class.mv0_within_300kpc {
             c.mv0_within_300kpc += 1;
             let v_r: f64 = (0..3).map(|k| s.vel_kms[k] * s.pos_kpc[k]).sum::<f64>() / s.r_kpc;
             let v2: f64 = s.vel_kms.iter().map(|v| v * v).sum();
             c.mv0_r_vr_vt2
                 .push([s.r_kpc, v_r, (v2 - v_r * v_r).max(0.0)]);
         }
-        if g.m_v <= MW_SECOND_BRIGHTEST_M_V && s.r_kpc < 150.0 {
+        if class.second_brightest_within_150kpc {
             c.bright_pair_like_within_150kpc += 1;
         }
         if g.m_v <= MW_SECOND_BRIGHTEST_M_V
@@ -167,7 +163,7 @@ pub fn census(rec: &HostRecord, t_z6_gyr: f64) -> HostCensus {
             c.bright_pair_like_projected_150kpc += 1;
         }
         if g.m_v < -8.0 {
-            if s.r_kpc < 300.0 {
+            if class.mv8_within_300kpc {
                 c.mv8_r_kpc.push(s.r_kpc);
             }
             c.mv8_inside_rvir += (s.r_kpc < rv) as usize;
