@@ -1175,6 +1175,12 @@ pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, 
     c.v_r_kms = (0..x.len())
         .map(|i| (x[i] * vx[i] + y[i] * vy[i] + z[i] * vz[i]) / c.r_kpc[i])
         .collect();
+    c.v_t_kms = (0..x.len())
+        .map(|i| {
+            let v2 = vx[i] * vx[i] + vy[i] * vy[i] + vz[i] * vz[i];
+            (v2 - c.v_r_kms[i] * c.v_r_kms[i]).max(0.0).sqrt()
+        })
+        .collect();
     c.status = sl(&s, "status", sr.clone()).map_err(e)?;
     c.t_disrupt_pericentre_gyr = rf("t_disrupt_pericentre_gyr")?;
     c.r_peri_min_kpc = rf("r_peri_min_kpc")?;

@@ -329,8 +329,16 @@ pub fn write_tables(
     }
     put("dependence.csv", t)?;
     let census_rows = census_rows_with_all(res);
+    let shell_names: Vec<String> = crate::stats::catalog::ANISOTROPY_SHELLS_KPC
+        .iter()
+        .map(|(r0, r1)| format!("{r0:.0}_{r1:.0}kpc"))
+        .collect();
+    let beta_head: String = shell_names
+        .iter()
+        .map(|s| format!(",beta_mv_below_0_{s},beta_mv_below_0_{s}_err,n_mv_below_0_{s}"))
+        .collect();
     let mut t = format!(
-        "{head},n_hosts,median_n_mv_below_0_within_300kpc,median_n_mv_below_minus8_within_300kpc,median_distance_mv_below_minus8_kpc,hosts_with_3_or_more_mv_below_minus8,fraction_hosts_bright_pair_within_150kpc\n"
+        "{head},n_hosts,median_n_mv_below_0_within_300kpc,median_n_mv_below_minus8_within_300kpc,median_distance_mv_below_minus8_kpc,hosts_with_3_or_more_mv_below_minus8,fraction_hosts_bright_pair_within_150kpc{beta_head}\n"
     );
     for (r, all) in &census_rows {
         let (cl, ml) = if *all {
@@ -338,7 +346,7 @@ pub fn write_tables(
         } else {
             labels.of(r.cell.0, r.cell.1)
         };
-        let _ = writeln!(
+        let _ = write!(
             t,
             "{},{},{},{},{},{:.2},{},{:.4}",
             csv_field(&cl),
@@ -350,6 +358,10 @@ pub fn write_tables(
             r.mv8_r_hosts,
             r.bright_pair_fraction
         );
+        for k in 0..4 {
+            let _ = write!(t, ",{:.4},{:.4},{}", r.beta[k], r.beta_err[k], r.beta_n[k]);
+        }
+        t.push('\n');
     }
     put("milky_way_census.csv", t)?;
     put(
@@ -949,6 +961,7 @@ fn census_rows_with_all(res: &AnalysisResults) -> Vec<(crate::stats::battery::Ce
             pooled.mv8.extend(&d.mv8);
             pooled.mv8_median_r_kpc.extend(&d.mv8_median_r_kpc);
             pooled.bright_pair.extend(&d.bright_pair);
+            pooled.mv0_shells.extend(&d.mv0_shells);
         }
         out.push((crate::stats::battery::census_row(&pooled), true));
     }
@@ -1001,6 +1014,49 @@ fn milky_way_census(m: &mut String, res: &AnalysisResults, labels: &CellLabels) 
     let _ = writeln!(
         m,
         "The Milky Way's bright satellites are more concentrated than those of most mock hosts (94% of the default hosts), as Carlsten et al. 2020 find for simulated hosts; the counts are those of the hosts' virial volume and do not apply a survey's completeness.\n"
+    );
+    let shells = crate::stats::catalog::ANISOTROPY_SHELLS_KPC;
+    let _ = writeln!(
+        m,
+        "How the satellites brighter than M_V = 0 move, by distance from the host's centre: the velocity anisotropy β = 1 − σ_t²/(2σ_r²) of all the hosts' satellites in each shell together (σ_r about the shell's mean radial velocity; ± a jackknife error over hosts; the number of satellites in brackets). β < 0: tangential orbits, β > 0: radial.\n"
+    );
+    let _ = writeln!(
+        m,
+        "| cell |{}\n|---|{}",
+        shells
+            .iter()
+            .map(|(r0, r1)| format!(" β, {r0:.0}–{r1:.0} kpc |"))
+            .collect::<String>(),
+        "---|".repeat(shells.len())
+    );
+    for (r, all) in census_rows_with_all(res) {
+        let cell = if all {
+            "all hosts".to_string()
+        } else {
+            let (cl, ml) = labels.of(r.cell.0, r.cell.1);
+            format!("{cl}, {ml}")
+        };
+        let cols: String = (0..shells.len())
+            .map(|k| {
+                if r.beta[k].is_finite() {
+                    format!(
+                        " {:.2} ± {:.2} ({}) |",
+                        r.beta[k], r.beta_err[k], r.beta_n[k]
+                    )
+                } else {
+                    format!(" — ({}) |", r.beta_n[k])
+                }
+            })
+            .collect();
+        let _ = writeln!(m, "| {cell} |{cols}");
+    }
+    let _ = writeln!(
+        m,
+        "| the Milky Way (Riley et al. 2019) | about −2 at 20 kpc | rising with distance | rising with distance | about 0.5 at 200 kpc |\n"
+    );
+    let _ = writeln!(
+        m,
+        "Inside 30 kpc the default hosts' satellites move on tangential orbits like the Milky Way's (about −2.6, 64 hosts), which the disc's tide makes by destroying those on radial orbits (about −0.6 without disc and bulge; `docs/validation.md`); further out they are less radial than the Milky Way's. With few hosts the inner shell holds few satellites: read its error.\n"
     );
 }
 

@@ -28,7 +28,7 @@ use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 use super::backsplash::{BacksplashOptions, FieldCounter};
-use super::catalog::Catalog;
+use super::catalog::{Catalog, VelocitySums};
 use super::clocks::{clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold};
 use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
 use super::intervals::{poisson1, spread, Binned, Spread, StreamingSpread};
@@ -380,6 +380,9 @@ pub struct CensusRaw {
     /// 1 if a satellite as bright as the Milky Way's second brightest (M_V <= -16.8) lies
     /// within 150 kpc, else 0.
     pub bright_pair: Vec<f64>,
+    /// The velocity sums of the satellites brighter than M_V = 0 in each shell of
+    /// `catalog::ANISOTROPY_SHELLS_KPC`.
+    pub mv0_shells: Vec<[VelocitySums; 4]>,
 }
 
 /// `CensusRaw` summarised over a cell's hosts: medians, and the fraction of hosts with a
@@ -394,6 +397,28 @@ pub struct CensusRow {
     /// Hosts with three or more satellites brighter than M_V = -8 within 300 kpc.
     pub mv8_r_hosts: usize,
     pub bright_pair_fraction: f64,
+    /// Per shell of `catalog::ANISOTROPY_SHELLS_KPC`: the velocity anisotropy of the
+    /// satellites brighter than M_V = 0 of all the hosts together, its jackknife error over
+    /// hosts, and the number of satellites.
+    pub beta: [f64; 4],
+    pub beta_err: [f64; 4],
+    pub beta_n: [f64; 4],
+}
+
+/// The jackknife standard error from the leave-one-out estimates (Efron & Tibshirani 1993,
+/// eq. 11.5: sqrt((n - 1)/n sum (x_i - mean)^2)); NaN with fewer than two or any not finite.
+fn jackknife_error(leave_one_out: &[f64]) -> f64 {
+    let n = leave_one_out.len() as f64;
+    if n < 2.0 || leave_one_out.iter().any(|x| !x.is_finite()) {
+        return f64::NAN;
+    }
+    let mean = leave_one_out.iter().sum::<f64>() / n;
+    ((n - 1.0) / n
+        * leave_one_out
+            .iter()
+            .map(|x| (x - mean).powi(2))
+            .sum::<f64>())
+    .sqrt()
 }
 
 /// The median of the finite values of `v` (NaN when there are none).
@@ -405,7 +430,25 @@ fn median_of_finite(v: &[f64]) -> f64 {
 
 /// Summarise one cell's census (or several cells' hosts pooled into one `CensusRaw`).
 pub fn census_row(d: &CensusRaw) -> CensusRow {
+    let (mut beta, mut beta_err, mut beta_n) = ([f64::NAN; 4], [f64::NAN; 4], [0.0; 4]);
+    for k in 0..4 {
+        let total = d
+            .mv0_shells
+            .iter()
+            .fold(VelocitySums::default(), |a, h| a.combined(h[k], 1.0));
+        beta[k] = total.beta();
+        beta_n[k] = total.n;
+        beta_err[k] = jackknife_error(
+            &d.mv0_shells
+                .iter()
+                .map(|h| total.combined(h[k], -1.0).beta())
+                .collect::<Vec<_>>(),
+        );
+    }
     CensusRow {
+        beta,
+        beta_err,
+        beta_n,
         cell: d.cell,
         hosts: d.mv0.len(),
         mv0_median: median_of_finite(&d.mv0),
@@ -1123,6 +1166,7 @@ pub fn run_tests_raw(
                 c.mv8.push(hc.n_mv8);
                 c.mv8_median_r_kpc.push(hc.mv8_median_r_kpc);
                 c.bright_pair.push(if hc.bright_pair { 1.0 } else { 0.0 });
+                c.mv0_shells.push(hc.mv0_shells);
             }
             c
         })
@@ -1346,5 +1390,69 @@ mod delay_limit_tests {
             assert_eq!(t, 0.5);
         }
         assert_eq!((lim.hosts(), lim.hosts_reaching), (1, 1));
+    }
+}
+
+#[cfg(test)]
+mod census_tests {
+    use super::{census_row, jackknife_error, CensusRaw};
+    use crate::stats::catalog::VelocitySums;
+
+    /// The jackknife error of a mean is the standard error s/sqrt(n) exactly (Efron &
+    /// Tibshirani 1993, section 11.2, recalled; the identity is also checked by hand here:
+    /// leave-one-out means of 1, 2, 4, 8 are 14/3, 13/3, 11/3, 7/3).
+    #[test]
+    fn jackknife_error_of_a_mean_is_its_standard_error() {
+        let x = [1.0, 2.0, 4.0, 8.0];
+        let n = x.len() as f64;
+        let total: f64 = x.iter().sum();
+        let loo: Vec<f64> = x.iter().map(|v| (total - v) / (n - 1.0)).collect();
+        assert!((loo[0] - 14.0 / 3.0).abs() < 1e-12);
+        let mean = total / n;
+        let s2 = x.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0);
+        assert!((jackknife_error(&loo) - (s2 / n).sqrt()).abs() < 1e-12);
+        assert!(jackknife_error(&[1.0]).is_nan());
+        assert!(jackknife_error(&[1.0, f64::NAN]).is_nan());
+    }
+
+    /// beta of hand-made shells: isotropic (v_r = ±a, |v_t| = a sqrt 2: sigma_t^2 = 2
+    /// sigma_r^2), purely radial (1), tangential (sigma_t^2 = 4 sigma_r^2: -1), a mean infall
+    /// removed from sigma_r; and census_row pools hosts' sums.
+    #[test]
+    fn anisotropy_of_hand_made_shells() {
+        let shell = |pairs: &[(f64, f64)]| {
+            let mut s = VelocitySums::default();
+            for &(v_r, v_t) in pairs {
+                s.add(v_r, v_t);
+            }
+            s
+        };
+        let a = 30.0;
+        let iso = shell(&[(a, a * 2f64.sqrt()), (-a, a * 2f64.sqrt())]);
+        assert!(iso.beta().abs() < 1e-12);
+        assert!((shell(&[(a, 0.0), (-a, 0.0)]).beta() - 1.0).abs() < 1e-12);
+        assert!((shell(&[(a, 2.0 * a), (-a, 2.0 * a)]).beta() + 1.0).abs() < 1e-12);
+        // the same shell falling in at 100 km/s: sigma_r unchanged
+        let infall = shell(&[(a - 100.0, a * 2f64.sqrt()), (-a - 100.0, a * 2f64.sqrt())]);
+        assert!(infall.beta().abs() < 1e-9);
+        assert!(shell(&[(a, a)]).beta().is_nan());
+        // two hosts, one satellite each in shell 0: pooled they are the isotropic shell; taking
+        // either out leaves one satellite, so no jackknife error
+        let one = |v_r: f64| {
+            let mut h = [VelocitySums::default(); 4];
+            h[0].add(v_r, a * 2f64.sqrt());
+            h
+        };
+        let raw = CensusRaw {
+            mv0: vec![1.0, 1.0],
+            mv8: vec![0.0, 0.0],
+            mv8_median_r_kpc: vec![f64::NAN, f64::NAN],
+            bright_pair: vec![0.0, 0.0],
+            mv0_shells: vec![one(a), one(-a)],
+            ..Default::default()
+        };
+        let row = census_row(&raw);
+        assert!(row.beta[0].abs() < 1e-12 && row.beta_n[0] == 2.0);
+        assert!(row.beta_err[0].is_nan() && row.beta[1].is_nan() && row.beta_n[1] == 0.0);
     }
 }

@@ -38,6 +38,9 @@ pub struct Catalog {
     pub r_kpc: Vec<f64>,
     /// Galactocentric radial velocity today, km/s.
     pub v_r_kms: Vec<f64>,
+    /// Galactocentric tangential speed today, km/s (empty or short in catalogues built by
+    /// hand: NaN).
+    pub v_t_kms: Vec<f64>,
     pub status: Vec<u8>,
     pub t_disrupt_pericentre_gyr: Vec<f64>,
     /// Smallest pericentre, kpc (NaN: none).
@@ -72,13 +75,69 @@ pub struct Catalog {
 /// (galaxy-hosting subhaloes alive at the end, at their own distance from the host's centre)
 /// brighter than M_V = 0 and M_V = -8 within 300 kpc, the median distance (kpc) of the latter
 /// when there are three or more (NaN otherwise), and whether one as bright as the Milky Way's
-/// second brightest (`MW_SECOND_BRIGHTEST_M_V`) lies within 150 kpc.
+/// second brightest (`MW_SECOND_BRIGHTEST_M_V`) lies within 150 kpc; and the velocity sums of
+/// the satellites brighter than M_V = 0 in each shell of `ANISOTROPY_SHELLS_KPC`.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct HostMilkyWayCensus {
     pub n_mv0: f64,
     pub n_mv8: f64,
     pub mv8_median_r_kpc: f64,
     pub bright_pair: bool,
+    pub mv0_shells: [VelocitySums; 4],
+}
+
+/// The shells (kpc from the host's centre) in which the census measures the velocity
+/// anisotropy of the satellites brighter than M_V = 0: inside 30 kpc, where the Milky Way's
+/// satellites move on tangential orbits, out to 300 kpc, where they are radial (Riley et al.
+/// 2019, abstract: beta about -2 at 20 kpc rising to about 0.5 at 200 kpc).
+pub const ANISOTROPY_SHELLS_KPC: [(f64, f64); 4] =
+    [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)];
+
+/// Sums over the satellites of one shell from which the velocity anisotropy follows; sums of
+/// several hosts add.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct VelocitySums {
+    pub n: f64,
+    /// Sums of v_r (km/s), v_r^2 and v_t^2 ((km/s)^2).
+    pub v_r: f64,
+    pub v_r2: f64,
+    pub v_t2: f64,
+}
+
+impl VelocitySums {
+    /// Add one satellite (radial velocity and tangential speed, km/s).
+    pub fn add(&mut self, v_r: f64, v_t: f64) {
+        self.n += 1.0;
+        self.v_r += v_r;
+        self.v_r2 += v_r * v_r;
+        self.v_t2 += v_t * v_t;
+    }
+
+    /// Componentwise a + sign b (sign 1 to pool, -1 to take one host out again).
+    pub fn combined(self, b: Self, sign: f64) -> Self {
+        Self {
+            n: self.n + sign * b.n,
+            v_r: self.v_r + sign * b.v_r,
+            v_r2: self.v_r2 + sign * b.v_r2,
+            v_t2: self.v_t2 + sign * b.v_t2,
+        }
+    }
+
+    /// The velocity anisotropy beta = 1 - sigma_t^2 / (2 sigma_r^2) (Binney & Tremaine 2008,
+    /// eq. 4.61, with the two tangential dispersions together in sigma_t^2): sigma_r^2 about the
+    /// shell's mean v_r, sigma_t^2 the mean of v_t^2 (a net rotation, if any, counts as
+    /// dispersion). NaN with fewer than two satellites or no radial dispersion.
+    pub fn beta(&self) -> f64 {
+        if self.n < 2.0 {
+            return f64::NAN;
+        }
+        let sigma_r2 = self.v_r2 / self.n - (self.v_r / self.n).powi(2);
+        if sigma_r2 > 0.0 {
+            1.0 - self.v_t2 / self.n / (2.0 * sigma_r2)
+        } else {
+            f64::NAN
+        }
+    }
 }
 
 /// The magnitude of the Milky Way's second brightest satellite, M_V = -16.8 (McConnachie 2012
@@ -116,6 +175,13 @@ impl CensusClass {
 /// hand, or hosts read before the pair columns existed: isolated).
 pub(crate) fn pair_value(v: &[f64], i: usize) -> f64 {
     v.get(i).copied().unwrap_or(f64::NAN)
+}
+
+/// The shell of `ANISOTROPY_SHELLS_KPC` that holds distance r (kpc), if any.
+pub fn anisotropy_shell(r: f64) -> Option<usize> {
+    ANISOTROPY_SHELLS_KPC
+        .iter()
+        .position(|&(r0, r1)| r >= r0 && r < r1)
 }
 
 fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
@@ -190,6 +256,8 @@ impl Catalog {
                 f64::NAN
             };
             self.v_r_kms.push(vr);
+            let v2 = v[0] * v[0] + v[1] * v[1] + v[2] * v[2];
+            self.v_t_kms.push((v2 - vr * vr).max(0.0).sqrt());
             self.status.push(s.status as u8);
             self.t_disrupt_pericentre_gyr
                 .push(s.t_disrupt_pericentre_gyr);
@@ -219,6 +287,7 @@ impl Catalog {
             .push(other.t_last_host_infall_gyr[i]);
         self.r_kpc.push(other.r_kpc[i]);
         self.v_r_kms.push(other.v_r_kms[i]);
+        self.v_t_kms.push(pair_value(&other.v_t_kms, i));
         self.status.push(other.status[i]);
         self.t_disrupt_pericentre_gyr
             .push(other.t_disrupt_pericentre_gyr[i]);
@@ -309,6 +378,7 @@ impl Catalog {
     /// Host h's census counted from its rows.
     pub fn census_from_rows(&self, h: usize) -> HostMilkyWayCensus {
         let (mut n_mv0, mut r8, mut bright_pair) = (0.0, Vec::new(), false);
+        let mut mv0_shells = [VelocitySums::default(); 4];
         for i in self.rows(h) {
             let r = self.r_kpc[i];
             let Some(class) = CensusClass::of(self.occupied[i], self.alive(i), r, self.m_v[i])
@@ -317,6 +387,12 @@ impl Catalog {
             };
             if class.mv0_within_300kpc {
                 n_mv0 += 1.0;
+                let v_t = pair_value(&self.v_t_kms, i);
+                let v_r = self.v_r_kms[i];
+                if let Some(k) = anisotropy_shell(r).filter(|_| v_t.is_finite() && v_r.is_finite())
+                {
+                    mv0_shells[k].add(v_r, v_t);
+                }
             }
             if class.mv8_within_300kpc {
                 r8.push(r);
@@ -333,6 +409,7 @@ impl Catalog {
                 f64::NAN
             },
             bright_pair,
+            mv0_shells,
         }
     }
 

@@ -3016,6 +3016,21 @@ fn run_interrupted_in_its_tests_says_the_store_is_complete() {
     );
 }
 
+/// Positions (kpc) and velocities (km/s) of every subhalo row of a store, read with the HDF5
+/// library itself.
+#[allow(clippy::type_complexity)]
+fn read_xv(store: &std::path::Path) -> (Vec<[f64; 3]>, Vec<[f64; 3]>) {
+    let f = hdf5::File::open(store).unwrap();
+    let g = f.group("subhalos").unwrap();
+    let col = |n: &str| -> Vec<f64> { g.dataset(n).unwrap().read_raw().unwrap() };
+    let (x, y, z) = (col("x_kpc"), col("y_kpc"), col("z_kpc"));
+    let (vx, vy, vz) = (col("vx_kms"), col("vy_kms"), col("vz_kms"));
+    (
+        (0..x.len()).map(|i| [x[i], y[i], z[i]]).collect(),
+        (0..x.len()).map(|i| [vx[i], vy[i], vz[i]]).collect(),
+    )
+}
+
 /// The report compares each cell's hosts with the Milky Way's satellite census
 /// (`milky_way_census.csv` and a section of `report.md`). The tests stream the store in chunks
 /// and keep only the rows some test needs, so the census is counted per host while the
@@ -3073,6 +3088,46 @@ fn milky_way_census_counts_every_satellite_of_the_hosts() {
             (row[7].parse::<f64>().unwrap() - pair).abs() < 1e-4,
             "{csv}"
         );
+        // the velocity anisotropy by shell of the satellites brighter than M_V = 0, written
+        // out here from the store's positions and velocities: beta = 1 - <v_t^2> / (2 var v_r)
+        let (x, v) = read_xv(&store);
+        let mut compared = 0;
+        for (k, (r0, r1)) in [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)]
+            .into_iter()
+            .enumerate()
+        {
+            let (mut vr, mut vt2) = (Vec::new(), Vec::new());
+            for &h in &hosts {
+                for i in cat.offset[h]..cat.offset[h + 1] {
+                    let r = (x[i][0].powi(2) + x[i][1].powi(2) + x[i][2].powi(2)).sqrt();
+                    if cat.occupied[i] && cat.alive(i) && cat.m_v[i] < 0.0 && r >= r0 && r < r1 {
+                        let v_r = (0..3).map(|j| x[i][j] * v[i][j]).sum::<f64>() / r;
+                        vr.push(v_r);
+                        vt2.push((0..3).map(|j| v[i][j] * v[i][j]).sum::<f64>() - v_r * v_r);
+                    }
+                }
+            }
+            let n = vr.len() as f64;
+            assert_eq!(
+                row[10 + 3 * k].parse::<f64>().unwrap(),
+                n,
+                "shell {k}: {csv}"
+            );
+            let written = row[8 + 3 * k].parse::<f64>().unwrap();
+            if n < 2.0 {
+                assert!(written.is_nan(), "shell {k}: {csv}");
+                continue;
+            }
+            let mean = vr.iter().sum::<f64>() / n;
+            let var = vr.iter().map(|u| (u - mean).powi(2)).sum::<f64>() / n;
+            let beta = 1.0 - vt2.iter().sum::<f64>() / n / (2.0 * var);
+            assert!(
+                (written - beta).abs() < 1e-3,
+                "shell {k}: {written} vs {beta}: {csv}"
+            );
+            compared += 1;
+        }
+        assert!(compared >= 2, "{csv}");
     }
     let md = std::fs::read_to_string(d.path().join("tiny-report/report.md")).unwrap();
     assert!(

@@ -462,20 +462,17 @@ fn val_satellite_population_census() {
     // the velocity anisotropy of the satellites brighter than M_V = 0, by shell, against the
     // Milky Way's: sigma_r^2 about the shell's mean v_r; sigma_t^2 is the mean of v_t^2 (a
     // net rotation, if any, counts as dispersion); errors from a bootstrap over the hosts
+    // (the report's census uses the same sums and shells: `catalog::VelocitySums`)
     let beta = |set: &[&retinue::stats::HostCensus], r0: f64, r1: f64| {
-        let (mut n, mut sum_vr, mut sum_vr2, mut sum_vt2) = (0.0, 0.0, 0.0, 0.0);
+        let mut sums = retinue::stats::catalog::VelocitySums::default();
         for v in set.iter().flat_map(|c| c.mv0_r_vr_vt2.iter()) {
             if v[0] >= r0 && v[0] < r1 {
-                n += 1.0;
-                sum_vr += v[1];
-                sum_vr2 += v[1] * v[1];
-                sum_vt2 += v[2];
+                sums.add(v[1], v[2].sqrt());
             }
         }
-        let sigma_r2 = sum_vr2 / n - (sum_vr / n).powi(2);
-        (1.0 - sum_vt2 / n / (2.0 * sigma_r2), n)
+        (sums.beta(), sums.n)
     };
-    let shells = [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)];
+    let shells = retinue::stats::catalog::ANISOTROPY_SHELLS_KPC;
     let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
     // per shell: beta, its bootstrap error and the number of satellites
     let mut with_errors = |set: &[retinue::stats::HostCensus]| -> Vec<(f64, f64, f64)> {
