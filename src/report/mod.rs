@@ -976,6 +976,19 @@ fn milky_way_census(m: &mut String, res: &AnalysisResults, labels: &CellLabels) 
         return;
     }
     let _ = writeln!(m, "## The hosts against the Milky Way's satellites\n");
+    // each row with its cell's name in the tables
+    let rows: Vec<_> = census_rows_with_all(res)
+        .into_iter()
+        .map(|(r, all)| {
+            let cell = if all {
+                "all hosts".to_string()
+            } else {
+                let (cl, ml) = labels.of(r.cell.0, r.cell.1);
+                format!("{cl}, {ml}")
+            };
+            (r, cell)
+        })
+        .collect();
     let _ = writeln!(
         m,
         "Every satellite of the hosts (galaxy-hosting subhaloes alive today, satellites of satellites included, whatever the selection above), per grid cell: medians over hosts. Is a cell's satellite population like the Milky Way's? The last row gives the Milky Way's numbers (`docs/validation.md`, \"Subhalo populations\", where the default hosts of 1.2e12 Msun are compared with them).\n"
@@ -985,13 +998,7 @@ fn milky_way_census(m: &mut String, res: &AnalysisResults, labels: &CellLabels) 
         "| cell | hosts | N(M_V < 0) within 300 kpc | N(M_V < -8) within 300 kpc | median distance of those, kpc (hosts with ≥ 3) | hosts with a satellite of M_V ≤ {} within 150 kpc |\n|---|---|---|---|---|---|",
         crate::stats::catalog::MW_SECOND_BRIGHTEST_M_V
     );
-    for (r, all) in census_rows_with_all(res) {
-        let cell = if all {
-            "all hosts".to_string()
-        } else {
-            let (cl, ml) = labels.of(r.cell.0, r.cell.1);
-            format!("{cl}, {ml}")
-        };
+    for (r, cell) in &rows {
         let _ = writeln!(
             m,
             "| {cell} | {} | {} | {} | {} ({}) | {} |",
@@ -1029,13 +1036,7 @@ fn milky_way_census(m: &mut String, res: &AnalysisResults, labels: &CellLabels) 
             .collect::<String>(),
         "---|".repeat(shells.len())
     );
-    for (r, all) in census_rows_with_all(res) {
-        let cell = if all {
-            "all hosts".to_string()
-        } else {
-            let (cl, ml) = labels.of(r.cell.0, r.cell.1);
-            format!("{cl}, {ml}")
-        };
+    for (r, cell) in &rows {
         let cols: String = (0..shells.len())
             .map(|k| {
                 if r.beta[k].is_finite() {
