@@ -1046,6 +1046,64 @@ fn val_mass_lost_in_the_first_radial_orbit() {
     );
 }
 
+/// The orbit of the N-body experiment (tests/reference/stripping_nbody.json) that starts inside
+/// the host and goes through five pericentres; `val_stripping_over_many_orbits_vs_nbody`
+/// compares it, the other tests leave it out.
+const MANY_ORBITS: &str = "G";
+
+/// The same orbit as the fixture's: retinue's test-particle pericentres in the fixture's host
+/// against its scipy orbit (radius 1e-3 relative, time 2 Myr). Returns them (t Gyr, r kpc).
+fn same_orbit_as_the_fixture(
+    host: &EvolvingHost,
+    name: &str,
+    o: &serde_json::Value,
+    x0: [f64; 3],
+    v0: [f64; 3],
+) -> Vec<(f64, f64)> {
+    let t_end = num(&o["t_end_gyr"]);
+    let (_, peri, _) = integrate_test_particle(
+        host,
+        x0,
+        v0,
+        0.0,
+        t_end,
+        t_end,
+        Tolerances {
+            rtol: 1e-10,
+            atol_pos_kpc: 1e-8,
+            atol_vel_kpc_gyr: 1e-8,
+        },
+    );
+    let tp = &o["test_particle_orbit"];
+    let (t_ref, r_ref) = (floats(&tp["t_peri_gyr"]), floats(&tp["r_peri_kpc"]));
+    assert_eq!(
+        peri.len(),
+        r_ref.len(),
+        "orbit {name}: pericentres {peri:?}"
+    );
+    for (k, &(tp_k, rp_k)) in peri.iter().enumerate() {
+        assert_rel(&format!("orbit {name}: r_peri {k}"), rp_k, r_ref[k], 1e-3);
+        assert_abs(&format!("orbit {name}: t_peri {k}"), tp_k, t_ref[k], 2e-3);
+    }
+    peri
+}
+
+/// The fixture's static host as retinue's `EvolvingHost` (no disc, no bulge).
+fn nbody_host(h: &serde_json::Value) -> EvolvingHost {
+    EvolvingHost::fixed(HostSnapshot {
+        m_s: num(&h["m_scale_msun"]),
+        r_s: num(&h["r_s_kpc"]),
+        r_vir: num(&h["r_vir_kpc"]),
+        m_vir: num(&h["m_vir_msun"]),
+        m_disc: 0.0,
+        a_disc: 1.0,
+        b_disc: 0.1,
+        m_bulge: 0.0,
+        a_bulge: 1.0,
+        de_k: 0.0,
+    })
+}
+
 /// The tidal-stripping rate against an idealised N-body experiment (tests/reference/
 /// stripping_nbody.json, made by tests/reference/scripts/make_stripping_nbody_fixtures.py with
 /// REBOUND 5.2.2's tree code; setup in the fixture and tests/reference/README.md): a 1e9 Msun
@@ -1139,7 +1197,9 @@ fn val_mass_lost_in_the_first_radial_orbit() {
 /// every point, as in the N-body. With one rate for every subhalo (`orbits::SINGLE_RATE`, the
 /// defaults before 2026-12-05, whose numbers the paragraphs above quote): the whole band at
 /// every point of A, B and E, its lower edge at every point of C, D and F. Also printed: the
-/// curves, the N-body centre's pericentres, and the tidal-limit model (alpha_s = 20).
+/// curves, the N-body centre's pericentres, and the tidal-limit model (alpha_s = 20). Orbit G
+/// (five pericentres from inside the host) has its own test,
+/// `val_stripping_over_many_orbits_vs_nbody`.
 #[test]
 fn val_stripping_rate_vs_nbody() {
     use retinue::orbits::{evolve_in_isolated_halo, OrbitOptions};
@@ -1165,18 +1225,7 @@ fn val_stripping_rate_vs_nbody() {
         ..opts
     };
     // the host as a fixed snapshot, for the orbit check
-    let host = EvolvingHost::fixed(HostSnapshot {
-        m_s: num(&h["m_scale_msun"]),
-        r_s: num(&h["r_s_kpc"]),
-        r_vir: parent.1,
-        m_vir: parent.0,
-        m_disc: 0.0,
-        a_disc: 1.0,
-        b_disc: 0.1,
-        m_bulge: 0.0,
-        a_bulge: 1.0,
-        de_k: 0.0,
-    });
+    let host = nbody_host(h);
     for (k, iso) in f["isolated"].as_object().unwrap() {
         let ch = &iso["max_rel_change"];
         eprintln!(
@@ -1205,33 +1254,11 @@ fn val_stripping_rate_vs_nbody() {
         (child, [x0[0], x0[1], x0[2]], [v0[0], v0[1], v0[2]])
     };
     for (name, o) in f["orbits"].as_object().unwrap() {
-        let (child, x0, v0) = setup_of(o);
-        // the same orbit: pericentres of retinue's test particle against the fixture's
-        let t_end = num(&o["t_end_gyr"]);
-        let (_, peri, _) = integrate_test_particle(
-            &host,
-            x0,
-            v0,
-            0.0,
-            t_end,
-            t_end,
-            Tolerances {
-                rtol: 1e-10,
-                atol_pos_kpc: 1e-8,
-                atol_vel_kpc_gyr: 1e-8,
-            },
-        );
-        let tp = &o["test_particle_orbit"];
-        let (t_ref, r_ref) = (floats(&tp["t_peri_gyr"]), floats(&tp["r_peri_kpc"]));
-        assert_eq!(
-            peri.len(),
-            r_ref.len(),
-            "orbit {name}: pericentres {peri:?}"
-        );
-        for (k, &(tp_k, rp_k)) in peri.iter().enumerate() {
-            assert_rel(&format!("orbit {name}: r_peri {k}"), rp_k, r_ref[k], 1e-3);
-            assert_abs(&format!("orbit {name}: t_peri {k}"), tp_k, t_ref[k], 2e-3);
+        if name == MANY_ORBITS {
+            continue;
         }
+        let (child, x0, v0) = setup_of(o);
+        let peri = same_orbit_as_the_fixture(&host, name, o, x0, v0);
         let hi = &o["runs"]["n20000"];
         let lo = &o["runs"]["n5000"];
         let t = floats(&hi["t_gyr"]);
@@ -1330,6 +1357,9 @@ fn val_stripping_rate_vs_nbody() {
     };
     let mut logs = Vec::new();
     for (name, o) in f["orbits"].as_object().unwrap() {
+        if name == MANY_ORBITS {
+            continue;
+        }
         let (child, x0, v0) = setup_of(o);
         let (hi, lo) = (&o["runs"]["n20000"], &o["runs"]["n5000"]);
         let t = floats(&hi["t_gyr"]);
@@ -1399,8 +1429,187 @@ fn val_stripping_rate_vs_nbody() {
     }
 }
 
+/// The tidal-stripping rate over many orbits against the same N-body experiment
+/// (`val_stripping_rate_vs_nbody`; tests/reference/stripping_nbody.json, orbit G): the fiducial
+/// subhalo (1e9 Msun, c = 15) starts at an apocentre of 0.4 R_vir (105 kpc) in the static
+/// 1e12 Msun host with v_t = 0.6 V_vir and goes through five pericentres of 0.125 R_vir (33 kpc)
+/// in 10.3 Gyr (radial period 2.05 Gyr), as a subhalo that has sunk deep into its host does.
+/// The other setups cover two pericentres; the old survivors that make up most of a host's
+/// subhaloes (docs/validation.md) have gone through more, and the model loses mass only where
+/// the subhalo lies beyond its tidal radius (in practice near pericentres), where the N-body
+/// also loses some between them. Whether that adds up over many orbits is what this test
+/// asks. retinue at its defaults (the concentration-dependent rate), friction off, no disc,
+/// merger or pericentre rules, as in `val_stripping_rate_vs_nbody`.
+///
+/// The band, fixed before the N = 20000 run was seen (the N = 5000 run was): the same as
+/// `val_stripping_rate_vs_nbody`'s, |ln(f_retinue / f_N)| <= ln 1.3 + |ln(f_N / f_N,low)|,
+/// at every apocentre of the test-particle orbit (the output nearest to it) where the N = 20000
+/// run holds at least 300 bound particles. Where the N = 5000 run holds fewer than 300 the
+/// second term overstates the N = 20000 run's uncertainty (the low-resolution run loses
+/// particles to its own discreteness), so those apocentres are printed with it but asserted
+/// with the N-body's uncertainty at the last apocentre where both runs held 300.
+///
+/// Measured (2026-12-05): retinue / N-body (N = 20000) at the five apocentres 1.18, 1.06, 0.92,
+/// 0.78 and 0.65, inside the band at the first four and outside at the fifth (|ln 0.65| =
+/// 0.437 against 0.383). Kept from one apocentre to the next: N-body 0.49, 0.61, 0.69, 0.75
+/// (its remnant resists more with each orbit), retinue 0.44, 0.53, 0.58, 0.62. So over many
+/// orbits the model strips this subhalo faster than the N-body, not slower: losing mass near
+/// pericentres only does not leave old remnants too heavy. The N-body is not converged
+/// there: at the fifth apocentre the N = 5000 run keeps 0.54 of the N = 20000 run's bound
+/// mass (77 bound particles against 568), so the N = 20000 run probably also loses some
+/// mass to its resolution (van den Bosch & Ogiya 2018, abstract), and the true retention is
+/// if anything higher still. The remnant's inner structure agrees with the model's closure
+/// (`val_stripped_structure_vs_nbody`: 1.14 and 1.02 at 1 and 2 r_s).
+///
+/// Asserted: the same orbit (five pericentres); the band at the first four apocentres; at
+/// later ones (the known failure) only that retinue keeps less than the N-body but more than
+/// half of it; and that the model, like the N-body, keeps losing mass from one apocentre to
+/// the next (each apocentre's bound fraction below 0.8 of the one before, in both).
+#[test]
+fn val_stripping_over_many_orbits_vs_nbody() {
+    use retinue::orbits::{evolve_in_isolated_halo, OrbitOptions};
+    let f = fixture("stripping_nbody.json");
+    let s = &f["setup"];
+    let h = &s["host"];
+    let parent = (num(&h["m_vir_msun"]), num(&h["r_vir_kpc"]), num(&h["c"]));
+    let o = &f["orbits"][MANY_ORBITS];
+    let sub = o.get("subhalo").unwrap_or(&s["subhalo"]);
+    let child = (
+        num(&sub["m_vir_msun"]),
+        num(&sub["r_vir_kpc"]),
+        num(&sub["c"]),
+    );
+    let (x0, v0) = (floats(&o["x0_kpc"]), floats(&o["v0_kms"]));
+    let (x0, v0) = ([x0[0], x0[1], x0[2]], [v0[0], v0[1], v0[2]]);
+    let host = nbody_host(h);
+    let peri = same_orbit_as_the_fixture(&host, MANY_ORBITS, o, x0, v0);
+    assert_eq!(peri.len(), 5, "orbit {MANY_ORBITS}: five pericentres");
+    let opts = OrbitOptions {
+        friction: false,
+        pericentre_cut_kpc: 0.0,
+        disc_tide_ratio: 0.0,
+        central_merge_kpc: 0.0,
+        ..Default::default()
+    };
+    let model = |t: f64| {
+        evolve_in_isolated_halo(&opts, parent, child, x0, v0, 0.0, t).m_bound_msun / child.0
+    };
+    let (hi, lo) = (&o["runs"]["n20000"], &o["runs"]["n5000"]);
+    let t = floats(&hi["t_gyr"]);
+    let (f_hi, f_lo) = (floats(&hi["f_bound"]), floats(&lo["f_bound"]));
+    let (n_hi, n_lo) = (floats(&hi["n_bound"]), floats(&lo["n_bound"]));
+    let r_nb = floats(&hi["r_kpc"]);
+    eprintln!(
+        "orbit {MANY_ORBITS}: pericentres (t Gyr, r kpc) {peri:.2?}\n    t  r_N-body  f(N=20000)  f(N=5000)  f(retinue)"
+    );
+    for k in (0..t.len()).step_by(5) {
+        eprintln!(
+            "{:5.2} {:8.1} {:11.4} {:10.4} {:11.4}",
+            t[k],
+            r_nb[k],
+            f_hi[k],
+            f_lo[k],
+            if t[k] > 0.0 { model(t[k]) } else { 1.0 }
+        );
+    }
+    let model_tol = 1.3f64.ln();
+    let mut nbody_unc = f64::NAN;
+    let mut failures = Vec::new();
+    let mut prev: Option<(f64, f64)> = None;
+    let mut compared = 0;
+    // from this apocentre on (0-based) the model strips faster than the N-body beyond the band
+    // (doc comment)
+    const KNOWN_BELOW_FROM: usize = 4;
+    let mut known_below = Vec::new();
+    for (j, t_apo) in floats(&o["test_particle_orbit"]["t_apo_gyr"])
+        .into_iter()
+        .enumerate()
+    {
+        let k = (0..t.len())
+            .min_by(|&a, &b| (t[a] - t_apo).abs().total_cmp(&(t[b] - t_apo).abs()))
+            .unwrap();
+        assert!(
+            (t[k] - t_apo).abs() <= 0.05 + 1e-9,
+            "apocentre {t_apo}: no output"
+        );
+        if n_hi[k] < 300.0 {
+            eprintln!(
+                "apocentre t = {:.1}: {} bound particles at N = 20000, not compared",
+                t[k], n_hi[k]
+            );
+            continue;
+        }
+        let ours = model(t[k]);
+        let low_resolved = n_lo[k] >= 300.0;
+        let unc_here = (f_hi[k] / f_lo[k]).ln().abs();
+        if low_resolved {
+            nbody_unc = unc_here;
+        }
+        assert!(
+            nbody_unc.is_finite(),
+            "apocentre t = {:.1}: no earlier apocentre where both runs held 300 bound particles",
+            t[k]
+        );
+        let band = model_tol + nbody_unc;
+        let d = (ours / f_hi[k]).ln();
+        eprintln!(
+            "apocentre t = {:.1} Gyr (r {:.1} kpc): f retinue {ours:.4}, N-body {:.4} (N = 5000: {:.4}, {} and {} bound particles); ratio {:.2}; band {band:.3} in ln ({}{})",
+            t[k],
+            r_nb[k],
+            f_hi[k],
+            f_lo[k],
+            n_hi[k],
+            n_lo[k],
+            ours / f_hi[k],
+            if d.abs() <= band { "within" } else { "OUTSIDE" },
+            if low_resolved {
+                String::new()
+            } else {
+                format!("; with this apocentre's N = 5000 term {:.3}", model_tol + unc_here)
+            }
+        );
+        if j >= KNOWN_BELOW_FROM && d < -band {
+            known_below.push(ours / f_hi[k]);
+            if d < -2f64.ln() {
+                failures.push(format!(
+                    "apocentre t = {:.1}: retinue {ours:.4} below half the N-body's {:.4}",
+                    t[k], f_hi[k]
+                ));
+            }
+        } else if d.abs() > band {
+            failures.push(format!(
+                "apocentre t = {:.1}: retinue {ours:.4} vs N-body {:.4}, ln ratio {d:+.3}, band {band:.3}",
+                t[k], f_hi[k]
+            ));
+        }
+        if let Some((ours_prev, nb_prev)) = prev {
+            eprintln!(
+                "    kept since the previous apocentre: retinue {:.2}, N-body {:.2}",
+                ours / ours_prev,
+                f_hi[k] / nb_prev
+            );
+            assert!(
+                ours < 0.8 * ours_prev && f_hi[k] < 0.8 * nb_prev,
+                "apocentre t = {:.1}: both keep losing mass (retinue {ours:.4} after {ours_prev:.4}, N-body {:.4} after {nb_prev:.4})",
+                t[k],
+                f_hi[k]
+            );
+        }
+        prev = Some((ours, f_hi[k]));
+        compared += 1;
+    }
+    if !known_below.is_empty() {
+        eprintln!(
+            "below the band (the known failure, doc comment): retinue / N-body {known_below:.2?}"
+        );
+    }
+    assert!(compared >= 4, "only {compared} apocentres compared");
+    assert!(failures.is_empty(), "{failures:?}");
+}
+
 /// The structure of the stripped remnant against the N-body experiment of
-/// `val_stripping_rate_vs_nbody` (orbits D, c = 8, E, c = 15, and F, c = 5, all on orbit A; their
+/// `val_stripping_rate_vs_nbody` (orbits D, c = 8, E, c = 15, and F, c = 5, all on orbit A, and
+/// G, c = 15, through five pericentres, `val_stripping_over_many_orbits_vs_nbody`; their
 /// records hold the mass of all particles inside 0.5, 1 and 2 r_s of the centre relative to
 /// t = 0). At each stored output at least 0.3 Gyr after the first pericentre where the centre
 /// lies beyond 100 kpc (away from pericentre, where debris crosses the centre) and at least
@@ -1434,8 +1643,11 @@ fn val_stripping_rate_vs_nbody() {
 /// that at the same x a c = 8 subhalo has been stripped further into its r_max (which holds
 /// 36% of m_vir at c = 8, 25% at c = 15). F (c = 5, added later the same day) departs further:
 /// mean N-body / retinue 0.70 at 1 r_s and 0.94 at 2 r_s over 49 outputs (bands 0.75 and 0.80
-/// below). Asserted: E within the band at both radii; for D and F only that retinue does not
-/// hold less than the N-body beyond the band (the other side is the known failure, printed).
+/// below). G (c = 15, five pericentres from an apocentre of 0.4 R_vir, added later; its
+/// outputs beyond 100 kpc are the apocentres): 1.14 and 1.02 over 12 outputs (bands 0.71-1.42
+/// and 0.74-1.35, wide because its N = 5000 run holds few particles there). Asserted: E and G
+/// within the band at both radii; for D and F only that retinue does not hold less than the
+/// N-body beyond the band (the other side is the known failure, printed).
 #[test]
 fn val_stripped_structure_vs_nbody() {
     use retinue::halo::nfw::mu;
@@ -1451,7 +1663,7 @@ fn val_stripped_structure_vs_nbody() {
         if hi.get("m_in_rs_rel").is_none() {
             continue;
         }
-        let sub = &o["subhalo"];
+        let sub = o.get("subhalo").unwrap_or(&f["setup"]["subhalo"]);
         let (m_vir, r_vir, c) = (
             num(&sub["m_vir_msun"]),
             num(&sub["r_vir_kpc"]),

@@ -25,6 +25,7 @@ Setup C (added later, same machine): C_n5000 122 s, C_n20000 810 s, iso_C_n5000 
 (60 minutes) in all.
 Setups D and E (added 2026-12-05 on a shared 2-core machine with Python 3.11, about four times
 slower per Gyr): D_n5000 344 s, D_n20000 3256 s, E_n5000 624 s, E_n20000 3290 s.
+Orbit G (added 2026-12-05 the same way, `--add-orbits G`): G_n5000 325 s, G_n20000 2302 s.
 
 Library versions (pinned in tests/reference/requirements.txt; python 3.12):
     rebound 5.2.2, galpy 1.12.1 (cross-check of the distribution function only), scipy 1.18.1,
@@ -114,12 +115,18 @@ bound = E < 0; the centre (x_c, v_c) is the mean position and velocity of the ma
 particles of the new set.  No host potential enters the energies.  Fewer than 20 bound particles:
 disrupted (n_bound = 0).
 
-Orbits (all start at the host's virial radius, x = (R_vir, 0, 0), v = (v_r, v_t, 0) V_vir):
+Orbits (A-F start at the host's virial radius, x = (R_vir, 0, 0), v = (v_r, v_t, 0) V_vir; G at
+0.4 R_vir):
     A: (v_r, v_t) = (-0.3, 0.42) V_vir, pericentres 0.2 R_vir at t = 2.16 and 8.02 Gyr, to 8.6 Gyr
     B: (v_r, v_t) = (-0.3, 0.25) V_vir, pericentres 0.1 R_vir at t = 2.02 and 7.42 Gyr, to 8.0 Gyr
     C: orbit A's initial conditions and end time, setup C's subhalo
     D: orbit A, the fiducial mass with C's concentration (1e9 Msun, c = 8)
     E: orbit A, C's mass with the fiducial concentration (1e10 Msun, c = 15)
+    G: the fiducial subhalo from an apocentre at 0.4 R_vir (105 kpc) with v_t = 0.6 V_vir, five
+       pericentres at 0.125 R_vir (33 kpc; radial period 2.05 Gyr), to 10.3 Gyr (the fifth
+       apocentre): a subhalo that has sunk deep into the host, where the model's loss at
+       pericentres alone (none between them) is tested over many orbits (added with
+       `--add-orbits G`, same versions as D and E; records with the inner masses)
 (D and E change one of C's two differences from A at a time, to tell which one makes C lose its
 mass faster; they were added after C with `--add-orbits D,E`, which keeps the JSON's other
 records as they are and notes the versions used in provenance.additions: that machine had
@@ -204,10 +211,12 @@ ORBITS = {
     "D": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "low_c"},  # orbit A, fiducial mass, c = 8
     "E": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "massive_c15"},  # orbit A, 1e10, c = 15
     "F": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "c5"},  # orbit A, fiducial mass, c = 5
+    # many pericentres: from apocentre 0.4 R_vir, the fiducial subhalo (a subhalo that has sunk)
+    "G": {"r0": 0.4, "v_r": 0.0, "v_t": 0.6, "t_end": 10.3},
 }
 # orbits whose records also hold the mass inside 0.5, 1, 2 r_s (added with D and E; A-C were
 # assembled before, and their cached runs are gone)
-INNER_MASS_ORBITS = ("D", "E", "F")
+INNER_MASS_ORBITS = ("D", "E", "F", "G")
 # isolated runs of subhaloes other than the fiducial one: key -> (subhalo, N, duration Gyr)
 ISO_EXTRA = {"C": ("massive", 5000, T_ISO)}
 # the softening check: orbit B at N = 5000 with half the softening and half the step
@@ -484,12 +493,12 @@ def host_accel(x):
     return g[:, None] * x
 
 
-def test_particle_orbit(v_r, v_t, t_end):
+def test_particle_orbit(v_r, v_t, t_end, r0=1.0):
     def rhs(t, y):
         a = host_accel(y[None, :3])[0]
         return np.r_[y[3:], a]
 
-    y0 = [R_HOST, 0.0, 0.0, v_r * V_VIR * KMS, v_t * V_VIR * KMS, 0.0]
+    y0 = [r0 * R_HOST, 0.0, 0.0, v_r * V_VIR * KMS, v_t * V_VIR * KMS, 0.0]
     s = integrate.solve_ivp(rhs, (0.0, t_end), y0, method="DOP853", rtol=1e-11, atol=1e-11,
                             dense_output=True)
     tt = np.linspace(0.0, t_end, 20001)
@@ -597,7 +606,7 @@ def run(name, work):
         x0, v0, t_end = np.zeros(3), np.zeros(3), t_iso
     else:
         o = ORBITS[kind]
-        x0 = np.array([R_HOST, 0.0, 0.0])
+        x0 = np.array([o.get("r0", 1.0) * R_HOST, 0.0, 0.0])
         v0 = np.array([o["v_r"], o["v_t"], 0.0]) * V_VIR * KMS
         t_end = o["t_end"]
     sim = rebound.Simulation()
@@ -688,10 +697,13 @@ def subhalo_block(key):
 def orbit_block(name, runs):
     """The JSON record of one orbit (ORBITS[name]) from its runs (and the softening check for B)."""
     o = ORBITS[name]
-    tp = test_particle_orbit(o["v_r"], o["v_t"], o["t_end"])
+    r0 = o.get("r0", 1.0)
+    tp = test_particle_orbit(o["v_r"], o["v_t"], o["t_end"], r0)
     blk = {"v_r_over_v_vir": o["v_r"], "v_t_over_v_vir": o["v_t"], "t_end_gyr": o["t_end"],
-           "x0_kpc": [R_HOST, 0.0, 0.0], "v0_kms": [o["v_r"] * V_VIR, o["v_t"] * V_VIR, 0.0],
+           "x0_kpc": [r0 * R_HOST, 0.0, 0.0], "v0_kms": [o["v_r"] * V_VIR, o["v_t"] * V_VIR, 0.0],
            "test_particle_orbit": tp, "runs": {}}
+    if r0 != 1.0:
+        blk["r0_over_r_vir"] = r0
     # comparison times: 0.5 Gyr after the first pericentre, the apocentre, the end
     blk["compare_t_gyr"] = [round(tp["t_peri_gyr"][0] + 0.5, 1), round(tp["t_apo_gyr"][0], 1), o["t_end"]]
     sub = o.get("subhalo", "fiducial")
