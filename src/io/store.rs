@@ -1177,8 +1177,13 @@ pub fn read_catalog_range(path: &Path, h0: usize, h1: usize) -> Result<Catalog, 
         .collect();
     c.v_t_kms = (0..x.len())
         .map(|i| {
-            let v2 = vx[i] * vx[i] + vy[i] * vy[i] + vz[i] * vz[i];
-            (v2 - c.v_r_kms[i] * c.v_r_kms[i]).max(0.0).sqrt()
+            let (v2, v_r) = (vx[i] * vx[i] + vy[i] * vy[i] + vz[i] * vz[i], c.v_r_kms[i]);
+            // (NaN stays NaN: f64::max would turn it into 0)
+            if v_r.is_finite() {
+                (v2 - v_r * v_r).max(0.0).sqrt()
+            } else {
+                f64::NAN
+            }
         })
         .collect();
     c.status = sl(&s, "status", sr.clone()).map_err(e)?;

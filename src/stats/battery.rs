@@ -28,7 +28,7 @@ use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 use super::backsplash::{BacksplashOptions, FieldCounter};
-use super::catalog::{Catalog, VelocitySums};
+use super::catalog::{Catalog, VelocitySums, N_SHELLS};
 use super::clocks::{clock_times, host_cosmology, Clock, ClockTimes, PreprocessingThreshold};
 use super::draws::{p_all_exact, p_all_mc, p_at_least_exact};
 use super::intervals::{poisson1, spread, Binned, Spread, StreamingSpread};
@@ -382,7 +382,27 @@ pub struct CensusRaw {
     pub bright_pair: Vec<f64>,
     /// The velocity sums of the satellites brighter than M_V = 0 in each shell of
     /// `catalog::ANISOTROPY_SHELLS_KPC`.
-    pub mv0_shells: Vec<[VelocitySums; 4]>,
+    pub mv0_shells: Vec<[VelocitySums; N_SHELLS]>,
+}
+
+impl CensusRaw {
+    /// Append another set of hosts (the next chunk of the same cell, or another cell for a
+    /// pooled row); every per-host column, so none is left short.
+    pub fn append(&mut self, other: CensusRaw) {
+        let CensusRaw {
+            cell: _,
+            mv0,
+            mv8,
+            mv8_median_r_kpc,
+            bright_pair,
+            mv0_shells,
+        } = other;
+        self.mv0.extend(mv0);
+        self.mv8.extend(mv8);
+        self.mv8_median_r_kpc.extend(mv8_median_r_kpc);
+        self.bright_pair.extend(bright_pair);
+        self.mv0_shells.extend(mv0_shells);
+    }
 }
 
 /// `CensusRaw` summarised over a cell's hosts: medians, and the fraction of hosts with a
@@ -400,9 +420,9 @@ pub struct CensusRow {
     /// Per shell of `catalog::ANISOTROPY_SHELLS_KPC`: the velocity anisotropy of the
     /// satellites brighter than M_V = 0 of all the hosts together, its jackknife error over
     /// hosts, and the number of satellites.
-    pub beta: [f64; 4],
-    pub beta_err: [f64; 4],
-    pub beta_n: [f64; 4],
+    pub beta: [f64; N_SHELLS],
+    pub beta_err: [f64; N_SHELLS],
+    pub beta_n: [f64; N_SHELLS],
 }
 
 /// The jackknife standard error from the leave-one-out estimates (Efron & Tibshirani 1993,
@@ -430,8 +450,21 @@ fn median_of_finite(v: &[f64]) -> f64 {
 
 /// Summarise one cell's census (or several cells' hosts pooled into one `CensusRaw`).
 pub fn census_row(d: &CensusRaw) -> CensusRow {
-    let (mut beta, mut beta_err, mut beta_n) = ([f64::NAN; 4], [f64::NAN; 4], [0.0; 4]);
-    for k in 0..4 {
+    // one entry per host in every column (`CensusRaw::append`)
+    assert!(
+        [
+            d.mv8.len(),
+            d.mv8_median_r_kpc.len(),
+            d.bright_pair.len(),
+            d.mv0_shells.len()
+        ]
+        .iter()
+        .all(|&n| n == d.mv0.len()),
+        "census columns of unequal length"
+    );
+    let (mut beta, mut beta_err, mut beta_n) =
+        ([f64::NAN; N_SHELLS], [f64::NAN; N_SHELLS], [0.0; N_SHELLS]);
+    for k in 0..N_SHELLS {
         let total = d
             .mv0_shells
             .iter()
@@ -717,12 +750,7 @@ impl<'a> Merger<'a> {
         }
         for d in p.census_raw {
             match m.census_raw.iter_mut().find(|x| x.cell == d.cell) {
-                Some(x) => {
-                    x.mv0.extend(d.mv0);
-                    x.mv8.extend(d.mv8);
-                    x.mv8_median_r_kpc.extend(d.mv8_median_r_kpc);
-                    x.bright_pair.extend(d.bright_pair);
-                }
+                Some(x) => x.append(d),
                 None => m.census_raw.push(d),
             }
         }
@@ -1454,5 +1482,23 @@ mod census_tests {
         let row = census_row(&raw);
         assert!(row.beta[0].abs() < 1e-12 && row.beta_n[0] == 2.0);
         assert!(row.beta_err[0].is_nan() && row.beta[1].is_nan() && row.beta_n[1] == 0.0);
+        // the same two hosts in two chunks (the analysis streams the store 64 hosts at a
+        // time), appended: every column, so the same row
+        let half = |k: usize| CensusRaw {
+            mv0: vec![raw.mv0[k]],
+            mv8: vec![raw.mv8[k]],
+            mv8_median_r_kpc: vec![raw.mv8_median_r_kpc[k]],
+            bright_pair: vec![raw.bright_pair[k]],
+            mv0_shells: vec![raw.mv0_shells[k]],
+            ..Default::default()
+        };
+        let mut joined = half(0);
+        joined.append(half(1));
+        let again = census_row(&joined);
+        assert_eq!(again.hosts, 2);
+        assert_eq!(
+            (again.beta[0], again.beta_n[0]),
+            (row.beta[0], row.beta_n[0])
+        );
     }
 }

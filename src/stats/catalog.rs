@@ -83,14 +83,17 @@ pub struct HostMilkyWayCensus {
     pub n_mv8: f64,
     pub mv8_median_r_kpc: f64,
     pub bright_pair: bool,
-    pub mv0_shells: [VelocitySums; 4],
+    pub mv0_shells: [VelocitySums; N_SHELLS],
 }
+
+/// The number of shells of `ANISOTROPY_SHELLS_KPC`.
+pub const N_SHELLS: usize = 4;
 
 /// The shells (kpc from the host's centre) in which the census measures the velocity
 /// anisotropy of the satellites brighter than M_V = 0: inside 30 kpc, where the Milky Way's
 /// satellites move on tangential orbits, out to 300 kpc, where they are radial (Riley et al.
 /// 2019, abstract: beta about -2 at 20 kpc rising to about 0.5 at 200 kpc).
-pub const ANISOTROPY_SHELLS_KPC: [(f64, f64); 4] =
+pub const ANISOTROPY_SHELLS_KPC: [(f64, f64); N_SHELLS] =
     [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)];
 
 /// Sums over the satellites of one shell from which the velocity anisotropy follows; sums of
@@ -257,7 +260,12 @@ impl Catalog {
             };
             self.v_r_kms.push(vr);
             let v2 = v[0] * v[0] + v[1] * v[1] + v[2] * v[2];
-            self.v_t_kms.push((v2 - vr * vr).max(0.0).sqrt());
+            // (NaN stays NaN: f64::max would turn it into 0)
+            self.v_t_kms.push(if vr.is_finite() {
+                (v2 - vr * vr).max(0.0).sqrt()
+            } else {
+                f64::NAN
+            });
             self.status.push(s.status as u8);
             self.t_disrupt_pericentre_gyr
                 .push(s.t_disrupt_pericentre_gyr);
@@ -378,7 +386,7 @@ impl Catalog {
     /// Host h's census counted from its rows.
     pub fn census_from_rows(&self, h: usize) -> HostMilkyWayCensus {
         let (mut n_mv0, mut r8, mut bright_pair) = (0.0, Vec::new(), false);
-        let mut mv0_shells = [VelocitySums::default(); 4];
+        let mut mv0_shells = [VelocitySums::default(); N_SHELLS];
         for i in self.rows(h) {
             let r = self.r_kpc[i];
             let Some(class) = CensusClass::of(self.occupied[i], self.alive(i), r, self.m_v[i])
