@@ -1463,6 +1463,16 @@ fn val_stripping_rate_vs_nbody() {
 /// with 1000 bound particles) agrees with the model's closure (`val_stripped_structure_vs_nbody`:
 /// 1.14 and 1.02 at 1 and 2 r_s).
 ///
+/// H (added the same day): orbit G with D's subhalo (1e9 Msun, c = 8). Only its first two
+/// apocentres hold 300 bound particles at N = 20000 (1690 and 433; the N = 5000 run holds 32
+/// at the second and dissolves before the third pericentre, the N = 20000 run before the
+/// fifth). retinue / N-body 1.21 and 1.37, inside the band (0.509 in ln, from the first
+/// apocentre's N = 5000 term); kept from the first apocentre to the second: N-body 0.26,
+/// retinue 0.29. So at c = 8 the model strips a little slower than the N-body, as on orbit A
+/// (D), and the retention that rises with each orbit at c = 15 cannot be followed: the
+/// subhalo is gone first. The one dependence on the number of orbits that G shows is
+/// therefore seen for one concentration only.
+///
 /// Asserted: the same orbit (five pericentres); the band at the first four apocentres; at
 /// later ones (the known failure) only that retinue keeps less than the N-body but more than
 /// half of it; and that the model, like the N-body, keeps losing mass from one apocentre to
@@ -1663,7 +1673,8 @@ fn val_stripping_over_many_orbits_vs_nbody() {
 /// and 0.74-1.35, wide because its N = 5000 run holds few particles there). Asserted: E and G
 /// within the band at both radii; for D and F only that retinue does not hold less than the
 /// N-body beyond the band (the other side is the known failure, printed), and so for any
-/// setup with c < 10 (H, c = 8 on G's orbit, where the fixture holds it).
+/// setup with c < 10: H (c = 8 on G's orbit) 0.81 and 1.07 over the four outputs with 1000
+/// bound particles (at least three asked of the many-orbit setups, five of the others).
 #[test]
 fn val_stripped_structure_vs_nbody() {
     use retinue::halo::nfw::mu;
@@ -1738,7 +1749,17 @@ fn val_stripped_structure_vs_nbody() {
             }
             n_out += 1;
         }
-        assert!(n_out >= 5, "orbit {name}: only {n_out} outputs compared");
+        // the many-orbit setups hold 1000 bound particles only near their first few
+        // apocentres (H, c = 8: four outputs)
+        let fewest = if MANY_ORBITS.contains(&name.as_str()) {
+            3
+        } else {
+            5
+        };
+        assert!(
+            n_out >= fewest,
+            "orbit {name}: only {n_out} outputs compared"
+        );
         // the resolution check (orbit D): the N = 5000 run with half the softening and half the
         // step against the N = 5000 run, at the same outputs. Asserted: halving the softening
         // does not raise the inner masses by more than the N-body's own spread (mean

@@ -26,6 +26,7 @@ Setup C (added later, same machine): C_n5000 122 s, C_n20000 810 s, iso_C_n5000 
 Setups D and E (added 2026-12-05 on a shared 2-core machine with Python 3.11, about four times
 slower per Gyr): D_n5000 344 s, D_n20000 3256 s, E_n5000 624 s, E_n20000 3290 s.
 Orbit G (added 2026-12-05 the same way, `--add-orbits G`): G_n5000 325 s, G_n20000 2302 s.
+Orbit H (then, `--add-orbits H`): H_n5000 320 s, H_n20000 2481 s.
 
 Library versions (pinned in tests/reference/requirements.txt; python 3.12):
     rebound 5.2.2, galpy 1.12.1 (cross-check of the distribution function only), scipy 1.18.1,
@@ -127,6 +128,8 @@ Orbits (A-F start at the host's virial radius, x = (R_vir, 0, 0), v = (v_r, v_t,
        apocentre): a subhalo that has sunk deep into the host, where the model's loss at
        pericentres alone (none between them) is tested over many orbits (added with
        `--add-orbits G`, same versions as D and E; records with the inner masses)
+    H: orbit G with D's subhalo (1e9 Msun, c = 8), to tell whether what G shows depends on the
+       concentration (added with `--add-orbits H`, same versions)
 (D and E change one of C's two differences from A at a time, to tell which one makes C lose its
 mass faster; they were added after C with `--add-orbits D,E`, which keeps the JSON's other
 records as they are and notes the versions used in provenance.additions: that machine had
@@ -213,10 +216,12 @@ ORBITS = {
     "F": {"v_r": -0.3, "v_t": 0.42, "t_end": 8.6, "subhalo": "c5"},  # orbit A, fiducial mass, c = 5
     # many pericentres: from apocentre 0.4 R_vir, the fiducial subhalo (a subhalo that has sunk)
     "G": {"r0": 0.4, "v_r": 0.0, "v_t": 0.6, "t_end": 10.3},
+    # orbit G with the c = 8 subhalo (D's): whether the many-orbit retention depends on c
+    "H": {"r0": 0.4, "v_r": 0.0, "v_t": 0.6, "t_end": 10.3, "subhalo": "low_c"},
 }
 # orbits whose records also hold the mass inside 0.5, 1, 2 r_s (added with D and E; A-C were
 # assembled before, and their cached runs are gone)
-INNER_MASS_ORBITS = ("D", "E", "F", "G")
+INNER_MASS_ORBITS = ("D", "E", "F", "G", "H")
 # isolated runs of subhaloes other than the fiducial one: key -> (subhalo, N, duration Gyr)
 ISO_EXTRA = {"C": ("massive", 5000, T_ISO)}
 # the softening check: orbit B at N = 5000 with half the softening and half the step
