@@ -3031,6 +3031,105 @@ fn read_xv(store: &std::path::Path) -> (Vec<[f64; 3]>, Vec<[f64; 3]>) {
     )
 }
 
+/// The velocity anisotropy by shell of the satellites brighter than M_V = 0 of `hosts`, written
+/// out here from the store's positions and velocities (beta = 1 - <v_t^2> / (2 var v_r)),
+/// against a row of `milky_way_census.csv`: the counts exactly, beta to 1e-3 (NaN with fewer
+/// than two). Returns the number of shells with a beta.
+fn check_census_beta(
+    cat: &retinue::stats::Catalog,
+    x: &[[f64; 3]],
+    v: &[[f64; 3]],
+    hosts: &[usize],
+    row: &[&str],
+    csv: &str,
+) -> usize {
+    let mut compared = 0;
+    for (k, (r0, r1)) in [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)]
+        .into_iter()
+        .enumerate()
+    {
+        let (mut vr, mut vt2) = (Vec::new(), Vec::new());
+        for &h in hosts {
+            for i in cat.offset[h]..cat.offset[h + 1] {
+                let r = (x[i][0].powi(2) + x[i][1].powi(2) + x[i][2].powi(2)).sqrt();
+                if cat.occupied[i] && cat.alive(i) && cat.m_v[i] < 0.0 && r >= r0 && r < r1 {
+                    let v_r = (0..3).map(|j| x[i][j] * v[i][j]).sum::<f64>() / r;
+                    vr.push(v_r);
+                    vt2.push((0..3).map(|j| v[i][j] * v[i][j]).sum::<f64>() - v_r * v_r);
+                }
+            }
+        }
+        let n = vr.len() as f64;
+        assert_eq!(
+            row[10 + 3 * k].parse::<f64>().unwrap(),
+            n,
+            "shell {k}: {csv}"
+        );
+        let written = row[8 + 3 * k].parse::<f64>().unwrap();
+        if n < 2.0 {
+            assert!(written.is_nan(), "shell {k}: {csv}");
+            continue;
+        }
+        let mean = vr.iter().sum::<f64>() / n;
+        let var = vr.iter().map(|u| (u - mean).powi(2)).sum::<f64>() / n;
+        let beta = 1.0 - vt2.iter().sum::<f64>() / n / (2.0 * var);
+        assert!(
+            (written - beta).abs() < 1e-3,
+            "shell {k}: {written} vs {beta}: {csv}"
+        );
+        compared += 1;
+    }
+    compared
+}
+
+/// The analysis streams a store 64 hosts at a time and merges the chunks: the census's
+/// velocity sums must be merged with the counts (they once were not, and beta rested on the
+/// first chunk of each cell). 35 hosts per cell (70 in all) put one cell across two chunks;
+/// each cell's beta and counts must equal those of the store read whole.
+#[test]
+fn census_anisotropy_spans_the_analysis_chunks() {
+    let d = tempfile::tempdir().unwrap();
+    let cfg = write(
+        d.path(),
+        "tiny.toml",
+        &TINY.replace("hosts_per_cell = 3", "hosts_per_cell = 35"),
+    );
+    let store = d.path().join("tiny.h5");
+    run_ok(&[
+        "run",
+        cfg.to_str().unwrap(),
+        "--out",
+        store.to_str().unwrap(),
+    ]);
+    let cat = retinue::io::store::read_catalog(&store).unwrap();
+    assert_eq!(cat.n_hosts(), 70);
+    let (x, v) = read_xv(&store);
+    let csv = std::fs::read_to_string(d.path().join("tiny-report/milky_way_census.csv")).unwrap();
+    let rows: Vec<Vec<&str>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').collect())
+        .collect();
+    assert_eq!(rows.len(), 3, "{csv}");
+    // the pooled row, then the two cells
+    let all: Vec<usize> = (0..70).collect();
+    assert!(
+        check_census_beta(&cat, &x, &v, &all, &rows[0], &csv) >= 3,
+        "{csv}"
+    );
+    for (row, mass) in rows[1..].iter().zip([8e11, 1.2e12]) {
+        let hosts: Vec<usize> = (0..cat.n_hosts())
+            .filter(|&h| (cat.host_m_vir_msun[h] / mass - 1.0).abs() < 0.2)
+            .collect();
+        assert_eq!(hosts.len(), 35, "{mass}");
+        assert_eq!(row[2], "35", "{csv}");
+        assert!(
+            check_census_beta(&cat, &x, &v, &hosts, row, &csv) >= 3,
+            "{csv}"
+        );
+    }
+}
+
 /// The report compares each cell's hosts with the Milky Way's satellite census
 /// (`milky_way_census.csv` and a section of `report.md`). The tests stream the store in chunks
 /// and keep only the rows some test needs, so the census is counted per host while the
@@ -3088,45 +3187,8 @@ fn milky_way_census_counts_every_satellite_of_the_hosts() {
             (row[7].parse::<f64>().unwrap() - pair).abs() < 1e-4,
             "{csv}"
         );
-        // the velocity anisotropy by shell of the satellites brighter than M_V = 0, written
-        // out here from the store's positions and velocities: beta = 1 - <v_t^2> / (2 var v_r)
         let (x, v) = read_xv(&store);
-        let mut compared = 0;
-        for (k, (r0, r1)) in [(0.0, 30.0), (30.0, 50.0), (50.0, 100.0), (100.0, 300.0)]
-            .into_iter()
-            .enumerate()
-        {
-            let (mut vr, mut vt2) = (Vec::new(), Vec::new());
-            for &h in &hosts {
-                for i in cat.offset[h]..cat.offset[h + 1] {
-                    let r = (x[i][0].powi(2) + x[i][1].powi(2) + x[i][2].powi(2)).sqrt();
-                    if cat.occupied[i] && cat.alive(i) && cat.m_v[i] < 0.0 && r >= r0 && r < r1 {
-                        let v_r = (0..3).map(|j| x[i][j] * v[i][j]).sum::<f64>() / r;
-                        vr.push(v_r);
-                        vt2.push((0..3).map(|j| v[i][j] * v[i][j]).sum::<f64>() - v_r * v_r);
-                    }
-                }
-            }
-            let n = vr.len() as f64;
-            assert_eq!(
-                row[10 + 3 * k].parse::<f64>().unwrap(),
-                n,
-                "shell {k}: {csv}"
-            );
-            let written = row[8 + 3 * k].parse::<f64>().unwrap();
-            if n < 2.0 {
-                assert!(written.is_nan(), "shell {k}: {csv}");
-                continue;
-            }
-            let mean = vr.iter().sum::<f64>() / n;
-            let var = vr.iter().map(|u| (u - mean).powi(2)).sum::<f64>() / n;
-            let beta = 1.0 - vt2.iter().sum::<f64>() / n / (2.0 * var);
-            assert!(
-                (written - beta).abs() < 1e-3,
-                "shell {k}: {written} vs {beta}: {csv}"
-            );
-            compared += 1;
-        }
+        let compared = check_census_beta(&cat, &x, &v, &hosts, row, &csv);
         assert!(compared >= 2, "{csv}");
     }
     let md = std::fs::read_to_string(d.path().join("tiny-report/report.md")).unwrap();
