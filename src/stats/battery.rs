@@ -426,7 +426,8 @@ pub struct CensusRow {
 }
 
 /// The jackknife standard error from the leave-one-out estimates (Efron & Tibshirani 1993,
-/// eq. 11.5: sqrt((n - 1)/n sum (x_i - mean)^2)); NaN with fewer than two or any not finite.
+/// chapter 11, recalled: sqrt((n - 1)/n sum (x_i - mean)^2)); NaN with fewer than two or any
+/// not finite.
 fn jackknife_error(leave_one_out: &[f64]) -> f64 {
     let n = leave_one_out.len() as f64;
     if n < 2.0 || leave_one_out.iter().any(|x| !x.is_finite()) {

@@ -127,9 +127,10 @@ impl VelocitySums {
     }
 
     /// The velocity anisotropy beta = 1 - sigma_t^2 / (2 sigma_r^2) (Binney & Tremaine 2008,
-    /// eq. 4.61, with the two tangential dispersions together in sigma_t^2): sigma_r^2 about the
-    /// shell's mean v_r, sigma_t^2 the mean of v_t^2 (a net rotation, if any, counts as
-    /// dispersion). NaN with fewer than two satellites or no radial dispersion.
+    /// eq. 4.61, equation number recalled; the two tangential dispersions together in
+    /// sigma_t^2): sigma_r^2 about the shell's mean v_r, sigma_t^2 the mean of v_t^2 (a net
+    /// rotation, if any, counts as dispersion). NaN with fewer than two satellites or no
+    /// radial dispersion.
     pub fn beta(&self) -> f64 {
         if self.n < 2.0 {
             return f64::NAN;
