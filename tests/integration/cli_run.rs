@@ -3082,19 +3082,14 @@ fn check_census_beta(
     compared
 }
 
-/// The analysis streams a store 64 hosts at a time and merges the chunks: the census's
-/// velocity sums must be merged with the counts (they once were not, and beta rested on the
-/// first chunk of each cell). 35 hosts per cell (70 in all) put one cell across two chunks;
-/// each cell's beta and counts must equal those of the store read whole.
-#[test]
-fn census_anisotropy_spans_the_analysis_chunks() {
-    let d = tempfile::tempdir().unwrap();
-    let cfg = write(
-        d.path(),
-        "tiny.toml",
-        &TINY.replace("hosts_per_cell = 3", "hosts_per_cell = 35"),
-    );
-    let store = d.path().join("tiny.h5");
+/// Run `config` (TINY-like, written as tiny.toml in `dir`): the store, its catalogue read
+/// whole, and the report's `milky_way_census.csv`.
+fn census_run(
+    dir: &std::path::Path,
+    config: &str,
+) -> (std::path::PathBuf, retinue::stats::Catalog, String) {
+    let cfg = write(dir, "tiny.toml", config);
+    let store = dir.join("tiny.h5");
     run_ok(&[
         "run",
         cfg.to_str().unwrap(),
@@ -3102,14 +3097,39 @@ fn census_anisotropy_spans_the_analysis_chunks() {
         store.to_str().unwrap(),
     ]);
     let cat = retinue::io::store::read_catalog(&store).unwrap();
-    assert_eq!(cat.n_hosts(), 70);
-    let (x, v) = read_xv(&store);
-    let csv = std::fs::read_to_string(d.path().join("tiny-report/milky_way_census.csv")).unwrap();
-    let rows: Vec<Vec<&str>> = csv
-        .lines()
+    let csv = std::fs::read_to_string(dir.join("tiny-report/milky_way_census.csv")).unwrap();
+    (store, cat, csv)
+}
+
+/// The rows of a CSV text after its header, split at commas.
+fn csv_rows(csv: &str) -> Vec<Vec<&str>> {
+    csv.lines()
         .skip(1)
         .map(|l| l.split(',').collect())
-        .collect();
+        .collect()
+}
+
+/// The hosts whose virial mass today is within 20% of `mass` (one cell of TINY's grid).
+fn hosts_of_mass(cat: &retinue::stats::Catalog, mass: f64) -> Vec<usize> {
+    (0..cat.n_hosts())
+        .filter(|&h| (cat.host_m_vir_msun[h] / mass - 1.0).abs() < 0.2)
+        .collect()
+}
+
+/// The analysis streams a store 64 hosts at a time and merges the chunks: the census's
+/// velocity sums must be merged with the counts (they once were not, and beta rested on the
+/// first chunk of each cell). 35 hosts per cell (70 in all) put one cell across two chunks;
+/// each cell's beta and counts must equal those of the store read whole.
+#[test]
+fn census_anisotropy_spans_the_analysis_chunks() {
+    let d = tempfile::tempdir().unwrap();
+    let (store, cat, csv) = census_run(
+        d.path(),
+        &TINY.replace("hosts_per_cell = 3", "hosts_per_cell = 35"),
+    );
+    assert_eq!(cat.n_hosts(), 70);
+    let (x, v) = read_xv(&store);
+    let rows = csv_rows(&csv);
     assert_eq!(rows.len(), 3, "{csv}");
     // the pooled row, then the two cells
     let all: Vec<usize> = (0..70).collect();
@@ -3118,9 +3138,7 @@ fn census_anisotropy_spans_the_analysis_chunks() {
         "{csv}"
     );
     for (row, mass) in rows[1..].iter().zip([8e11, 1.2e12]) {
-        let hosts: Vec<usize> = (0..cat.n_hosts())
-            .filter(|&h| (cat.host_m_vir_msun[h] / mass - 1.0).abs() < 0.2)
-            .collect();
+        let hosts = hosts_of_mass(&cat, mass);
         assert_eq!(hosts.len(), 35, "{mass}");
         assert_eq!(row[2], "35", "{csv}");
         assert!(
@@ -3139,28 +3157,14 @@ fn census_anisotropy_spans_the_analysis_chunks() {
 fn milky_way_census_counts_every_satellite_of_the_hosts() {
     let d = tempfile::tempdir().unwrap();
     // a selection that keeps few rows, so the compacted catalogue differs from the store
-    let cfg = write(
+    let (store, cat, csv) = census_run(
         d.path(),
-        "tiny.toml",
         &TINY.replace(
             "[tests]\n",
             "[tests.selection]\nmstar_msun = [1e5, 1e6]\n\n[tests]\n",
         ),
     );
-    let store = d.path().join("tiny.h5");
-    run_ok(&[
-        "run",
-        cfg.to_str().unwrap(),
-        "--out",
-        store.to_str().unwrap(),
-    ]);
-    let cat = retinue::io::store::read_catalog(&store).unwrap();
-    let csv = std::fs::read_to_string(d.path().join("tiny-report/milky_way_census.csv")).unwrap();
-    let rows: Vec<Vec<&str>> = csv
-        .lines()
-        .skip(1)
-        .map(|l| l.split(',').collect())
-        .collect();
+    let rows = csv_rows(&csv);
     // the pooled row over all hosts first, as in the other tables, then each cell's
     assert_eq!(rows.len(), 3, "{csv}");
     assert_eq!(rows[0][..3], ["all", "all", "6"], "{csv}");
@@ -3171,9 +3175,7 @@ fn milky_way_census_counts_every_satellite_of_the_hosts() {
         retinue::stats::intervals::percentile(&v, 0.5)
     };
     for (row, mass) in rows.iter().zip([8e11, 1.2e12]) {
-        let hosts: Vec<usize> = (0..cat.n_hosts())
-            .filter(|&h| (cat.host_m_vir_msun[h] / mass - 1.0).abs() < 0.2)
-            .collect();
+        let hosts = hosts_of_mass(&cat, mass);
         assert_eq!(hosts.len(), 3, "{mass}");
         let census: Vec<_> = hosts.iter().map(|&h| cat.census_from_rows(h)).collect();
         assert!(census.iter().any(|c| c.n_mv0 > 0.0), "{census:?}");
